@@ -1,0 +1,31 @@
+#!/usr/bin/env bash
+# Run every test: format and lint, native core tests, the same core tests in wasm (Node), and the
+# real-browser end-to-end tests of the page (headless Chromium). Installs what is missing first.
+set -euo pipefail
+cd "$(dirname "$0")/.."
+bash scripts/setup.sh --browser
+
+step() { printf '\n== %s\n' "$*"; }
+
+step "format and lint"
+cargo fmt --check
+cargo clippy --all-targets -- -D warnings
+cargo clippy --lib --target wasm32-unknown-unknown -- -D warnings
+
+step "native tests"
+cargo test
+
+step "the same core tests compiled to wasm, in headless Chromium (wasm-bindgen-test, webdriver.json)"
+# chromedriver leaves profile folders in TMPDIR: give it one we delete.
+wasm_tmp="$PWD/.tmp/wasm-test"
+rm -rf "$wasm_tmp"; mkdir -p "$wasm_tmp"
+TMPDIR="$wasm_tmp" CHROMEDRIVER=/usr/bin/chromedriver \
+  CARGO_TARGET_WASM32_UNKNOWN_UNKNOWN_RUNNER="$PWD/.tools/bin/wasm-bindgen-test-runner" \
+  cargo test --target wasm32-unknown-unknown --test '*'
+rm -rf "$wasm_tmp"
+
+step "build the page"
+bash scripts/build.sh
+
+step "browser end-to-end tests (headless Chromium)"
+node --test tests/e2e/

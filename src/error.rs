@@ -1,0 +1,80 @@
+//! Typed errors. Every message names the field (as a JSON path of the design document) and the
+//! allowed range, so that a user can correct the input without reading code.
+
+use thiserror::Error;
+
+/// One problem with one field of a design document.
+#[derive(Debug, Clone, PartialEq, Error, serde::Serialize)]
+#[error("{field} {message}")]
+pub struct FieldError {
+    /// JSON path of the offending field, e.g. `diameter_mm` or `material.custom.n`.
+    pub field: String,
+    /// What is wrong and what is allowed, e.g. `must be > 0 mm, got -3`.
+    pub message: String,
+}
+
+impl FieldError {
+    /// A field error from a path and a message.
+    pub fn new(field: impl Into<String>, message: impl Into<String>) -> Self {
+        Self {
+            field: field.into(),
+            message: message.into(),
+        }
+    }
+}
+
+/// Errors of the tirtrace core.
+#[derive(Debug, Clone, PartialEq, Error)]
+pub enum TirError {
+    /// A field holds a value outside its allowed range.
+    #[error("{0}")]
+    Field(FieldError),
+    /// The document could not be read at all (syntax, unknown field, wrong type).
+    #[error("could not read the design: {0}")]
+    Parse(String),
+    /// A chart could not be drawn (a drawing backend failure, not a user error).
+    #[error("could not draw the chart: {0}")]
+    Draw(String),
+}
+
+impl From<FieldError> for TirError {
+    fn from(e: FieldError) -> Self {
+        TirError::Field(e)
+    }
+}
+
+/// Format a number for an error message: finite values as given, others spelled out.
+pub(crate) fn show(x: f64) -> String {
+    if x.is_nan() {
+        "not a number".to_string()
+    } else if x.is_infinite() {
+        "infinite".to_string()
+    } else {
+        format!("{x}")
+    }
+}
+
+/// Check `lo < x <= hi` style ranges with one call. `lo_incl`/`hi_incl` choose the bound type.
+pub(crate) fn check_range(
+    field: &str,
+    x: f64,
+    lo: f64,
+    lo_incl: bool,
+    hi: f64,
+    hi_incl: bool,
+    unit: &str,
+) -> Result<f64, FieldError> {
+    let ok_lo = if lo_incl { x >= lo } else { x > lo };
+    let ok_hi = if hi_incl { x <= hi } else { x < hi };
+    if x.is_finite() && ok_lo && ok_hi {
+        return Ok(x);
+    }
+    let lo_s = if lo_incl { "≥" } else { ">" };
+    let hi_s = if hi_incl { "≤" } else { "<" };
+    let rule = if hi.is_infinite() {
+        format!("must be {lo_s} {lo}{unit}")
+    } else {
+        format!("must be {lo_s} {lo}{unit} and {hi_s} {hi}{unit}")
+    };
+    Err(FieldError::new(field, format!("{rule}, got {}", show(x))))
+}

@@ -1,0 +1,239 @@
+//! Built-in materials. Each entry carries its published source, the wavelength range its data
+//! cover and the basis (relative to air or to vacuum) of its coefficients. Outside the range a
+//! lookup is an error naming the range: no silent extrapolation.
+
+use serde::{Deserialize, Serialize};
+
+use super::{n_standard_air, IndexModel};
+use crate::error::{show, FieldError};
+
+/// What a material's published index is measured against.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum IndexBasis {
+    /// Relative to air (the usual refractometer reading).
+    Air,
+    /// Absolute, relative to vacuum.
+    Vacuum,
+}
+
+/// One entry of the material library.
+#[derive(Debug, Clone, Serialize)]
+pub struct Material {
+    /// Stable identifier used in documents, e.g. `pmma`.
+    pub id: &'static str,
+    /// Name shown to users.
+    pub name: &'static str,
+    /// The dispersion model with the published coefficients.
+    #[serde(skip)]
+    pub model: IndexModel,
+    /// Shortest wavelength the data cover, nm.
+    pub min_nm: f64,
+    /// Longest wavelength the data cover, nm.
+    pub max_nm: f64,
+    /// Basis of the published coefficients.
+    pub basis: IndexBasis,
+    /// Published source of the coefficients.
+    pub source: &'static str,
+    /// Caveats (temperature, accuracy).
+    pub note: &'static str,
+}
+
+/// The built-in materials, in the order the page lists them.
+pub fn materials() -> Vec<Material> {
+    vec![
+        Material {
+            id: "air",
+            name: "Air",
+            model: IndexModel::Constant { n: 1.0 },
+            min_nm: 200.0,
+            max_nm: 2500.0,
+            basis: IndexBasis::Air,
+            source: "relative to air by definition",
+            note: "all indices in tirtrace are relative to air",
+        },
+        Material {
+            id: "water",
+            name: "Water (20 °C)",
+            model: IndexModel::Sellmeier {
+                b: vec![5.684027565e-1, 1.726177391e-1, 2.086189578e-2, 1.130748688e-1],
+                c_um2: vec![5.101829712e-3, 1.821153936e-2, 2.620722293e-2, 1.069792721e1],
+            },
+            min_nm: 182.0,
+            max_nm: 1129.0,
+            basis: IndexBasis::Vacuum,
+            source: "M. Daimon, A. Masumura, Appl. Opt. 46, 3811 (2007)",
+            note: "20.0 °C; absolute data, converted to relative to air",
+        },
+        Material {
+            id: "fused_silica",
+            name: "Fused silica",
+            model: IndexModel::Sellmeier {
+                b: vec![0.6961663, 0.4079426, 0.8974794],
+                c_um2: vec![
+                    0.0684043 * 0.0684043,
+                    0.1162414 * 0.1162414,
+                    9.896161 * 9.896161,
+                ],
+            },
+            min_nm: 210.0,
+            max_nm: 3710.0,
+            basis: IndexBasis::Air,
+            source: "I. H. Malitson, J. Opt. Soc. Am. 55, 1205 (1965)",
+            note: "20 °C",
+        },
+        Material {
+            id: "pmma",
+            name: "Acrylic (PMMA)",
+            model: IndexModel::BeadiePolynomial {
+                a: [
+                    2.1778, 6.1209e-3, -1.5004e-3, 2.3678e-2, -4.2137e-3, 7.3417e-4, -4.5042e-5,
+                ],
+            },
+            min_nm: 420.0,
+            max_nm: 1620.0,
+            basis: IndexBasis::Air,
+            source: "G. Beadie et al., Appl. Opt. 54, F139 (2015)",
+            note: "stated accuracy better than 2e-4; grades vary by about ±0.002",
+        },
+        Material {
+            id: "polycarbonate",
+            name: "Polycarbonate (PC)",
+            model: IndexModel::Sellmeier {
+                b: vec![1.4182],
+                c_um2: vec![0.021304],
+            },
+            min_nm: 437.0,
+            max_nm: 1052.0,
+            basis: IndexBasis::Air,
+            source: "N. Sultanova, S. Kasarova, I. Nikolov, Acta Phys. Pol. A 116, 585 (2009); one-term Sellmeier fit to their table",
+            note: "fit good to about 1e-3 in n; not for dispersion (Abbe number) work",
+        },
+        Material {
+            id: "polystyrene",
+            name: "Polystyrene (PS)",
+            model: IndexModel::Sellmeier {
+                b: vec![1.4435],
+                c_um2: vec![0.020216],
+            },
+            min_nm: 437.0,
+            max_nm: 1052.0,
+            basis: IndexBasis::Air,
+            source: "N. Sultanova, S. Kasarova, I. Nikolov, Acta Phys. Pol. A 116, 585 (2009); one-term Sellmeier fit to their table",
+            note: "fit good to about 1e-3 in n; not for dispersion (Abbe number) work",
+        },
+        Material {
+            id: "pdms",
+            name: "Silicone (PDMS)",
+            model: IndexModel::Sellmeier {
+                b: vec![1.0093],
+                c_um2: vec![0.013185],
+            },
+            min_nm: 350.0,
+            max_nm: 700.0,
+            basis: IndexBasis::Air,
+            source: "F. Schneider et al., Sens. Actuators A 151, 95 (2009)",
+            note: "cured PDMS; grades and curing change n by about ±0.005",
+        },
+        Material {
+            id: "propylene_glycol",
+            name: "Propylene glycol (gel, coupling liquid)",
+            model: IndexModel::Constant { n: 1.432 },
+            min_nm: 400.0,
+            max_nm: 800.0,
+            basis: IndexBasis::Air,
+            source: "n at 589 nm, 20 °C, 1.432 ± 0.001 (chemical property databases)",
+            note: "constant: dispersion across the visible not modelled",
+        },
+    ]
+}
+
+/// Look up a material by its identifier.
+pub fn find(id: &str) -> Option<Material> {
+    materials().into_iter().find(|m| m.id == id)
+}
+
+impl Material {
+    /// Index relative to air at `wavelength_nm`, or an error naming the data range.
+    /// `path` is the JSON path of the choice, for the message.
+    pub fn n_rel_air(&self, wavelength_nm: f64, path: &str) -> Result<f64, FieldError> {
+        if !(wavelength_nm >= self.min_nm && wavelength_nm <= self.max_nm) {
+            return Err(FieldError::new(
+                path,
+                format!(
+                    "{}: index data cover {}–{} nm only, the wavelength is {} nm ({})",
+                    self.name,
+                    self.min_nm,
+                    self.max_nm,
+                    show(wavelength_nm),
+                    self.source
+                ),
+            ));
+        }
+        let wavelength_um = wavelength_nm * 1e-3;
+        let n = self.model.n(wavelength_um);
+        Ok(match self.basis {
+            IndexBasis::Air => n,
+            IndexBasis::Vacuum => n / n_standard_air(wavelength_um),
+        })
+    }
+}
+
+/// A material as chosen in a document: a library entry or a custom index model.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case", deny_unknown_fields)]
+pub enum MaterialChoice {
+    /// A built-in material by identifier.
+    Library(String),
+    /// A user-given model (taken as relative to air).
+    Custom(IndexModel),
+}
+
+impl MaterialChoice {
+    /// Shorthand for a library choice.
+    pub fn library(id: &str) -> Self {
+        MaterialChoice::Library(id.to_string())
+    }
+
+    /// Shorthand for a custom constant index.
+    pub fn constant(n: f64) -> Self {
+        MaterialChoice::Custom(IndexModel::Constant { n })
+    }
+
+    /// Index relative to air at `wavelength_nm`. Errors name `path` and the allowed range.
+    pub fn n_rel_air(&self, wavelength_nm: f64, path: &str) -> Result<f64, FieldError> {
+        match self {
+            MaterialChoice::Library(id) => match find(id) {
+                Some(m) => m.n_rel_air(wavelength_nm, &format!("{path}.library")),
+                None => Err(FieldError::new(
+                    format!("{path}.library"),
+                    format!(
+                        "'{id}' is not a library material; choose one of: {}",
+                        materials()
+                            .iter()
+                            .map(|m| m.id)
+                            .collect::<Vec<_>>()
+                            .join(", ")
+                    ),
+                )),
+            },
+            MaterialChoice::Custom(model) => {
+                let custom = format!("{path}.custom");
+                model.validate(&custom)?;
+                let n = model.n(wavelength_nm * 1e-3);
+                if n.is_finite() && (1.0..=5.0).contains(&n) {
+                    Ok(n)
+                } else {
+                    Err(FieldError::new(
+                        custom,
+                        format!(
+                            "gives n = {} at {} nm; a usable index is ≥ 1 and ≤ 5",
+                            show(n),
+                            show(wavelength_nm)
+                        ),
+                    ))
+                }
+            }
+        }
+    }
+}

@@ -1,0 +1,23 @@
+//! tirtrace: an offline light-guide calculator.
+//!
+//! The core is pure Rust with no web types: refractive-index models ([`index`]), interface optics
+//! ([`interface`]), closed-form guide results ([`guide`]), the quick-look design document and its
+//! figures ([`quick`]), a 2D meridional ray fan for drawings ([`fan`]) and charts generic over the
+//! plotters backend ([`chart`]). The wasm-bindgen layer (`web`, wasm32 only) only converts.
+//!
+//! Conventions: every refractive index leaving [`index::library`] is relative to air; angles are
+//! radians inside the core and degrees only in documents; units are carried in names.
+#![warn(missing_docs)]
+
+pub mod chart;
+pub mod error;
+pub mod fan;
+pub mod guide;
+pub mod index;
+pub mod interface;
+pub mod quick;
+
+#[cfg(target_arch = "wasm32")]
+mod web;
+
+pub use error::{FieldError, TirError};

@@ -1,0 +1,260 @@
+//! The quick-look design document and the closed-form figures computed from it.
+//!
+//! This is the state of the first page and the input of `tirtrace figures`: one guide of round
+//! or square section, its surroundings, the medium in front of its entry face, a launch cone and
+//! one circular bend.
+
+use serde::{Deserialize, Serialize};
+
+use crate::error::{check_range, FieldError, TirError};
+use crate::guide;
+use crate::index::library::MaterialChoice;
+use crate::interface;
+
+/// Current version of the quick-look document.
+pub const QUICK_VERSION: u32 = 1;
+
+/// Allowed wavelength range of a design, nm (near UV to short-wave infrared).
+pub const WAVELENGTH_RANGE_NM: (f64, f64) = (200.0, 2500.0);
+
+/// The quick-look design document (JSON field names are part of the file format).
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct QuickDesign {
+    /// Document version, currently 1.
+    pub version: u32,
+    /// Guide material.
+    pub material: MaterialChoice,
+    /// Vacuum wavelength of the light, nm.
+    pub wavelength_nm: f64,
+    /// Medium around the guide (air, water, a cladding…).
+    pub surroundings: MaterialChoice,
+    /// Medium between the source and the entry face.
+    pub launch_medium: MaterialChoice,
+    /// Guide diameter (or thickness across the bend), mm.
+    pub diameter_mm: f64,
+    /// Half-angle of the launch cone in the launch medium, degrees.
+    pub launch_half_angle_deg: f64,
+    /// Inner radius of the bend, mm.
+    pub bend_inner_radius_mm: f64,
+    /// Angle the bend turns through, degrees.
+    pub bend_angle_deg: f64,
+}
+
+impl Default for QuickDesign {
+    /// An invented starting point: a 3 mm acrylic pipe carrying a status LED's light round a 90°
+    /// bend to a front panel.
+    fn default() -> Self {
+        QuickDesign {
+            version: QUICK_VERSION,
+            material: MaterialChoice::library("pmma"),
+            wavelength_nm: 590.0,
+            surroundings: MaterialChoice::library("air"),
+            launch_medium: MaterialChoice::library("air"),
+            diameter_mm: 3.0,
+            launch_half_angle_deg: 60.0,
+            bend_inner_radius_mm: 6.0,
+            bend_angle_deg: 90.0,
+        }
+    }
+}
+
+/// Closed-form figures of a quick-look design. Angles in degrees for display.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct QuickFigures {
+    /// Guide index at the wavelength, relative to air.
+    pub n_core: f64,
+    /// Surroundings' index.
+    pub n_surroundings: f64,
+    /// Launch medium's index.
+    pub n_launch: f64,
+    /// Critical angle at the side wall, measured from the wall normal.
+    pub critical_angle_deg: f64,
+    /// √(n_core² − n_surroundings²).
+    pub numerical_aperture: f64,
+    /// Acceptance half-angle in the launch medium.
+    pub acceptance_half_angle_deg: f64,
+    /// True when every ray from the launch medium is accepted (NA ≥ n_launch).
+    pub acceptance_saturated: bool,
+    /// Δ = (n_core² − n_out²)/(2 n_core²).
+    pub relative_index_difference: f64,
+    /// Fresnel reflection loss at the entry face at normal incidence (fraction).
+    pub entry_fresnel_loss: f64,
+    /// Largest guided ray angle to the axis inside the guide for this launch.
+    pub max_internal_angle_deg: f64,
+    /// Leak-free inner radius over diameter, `None` when no radius is leak-free.
+    pub leak_free_ratio: Option<f64>,
+    /// Leak-free inner radius, mm.
+    pub leak_free_inner_radius_mm: Option<f64>,
+    /// Plain-language explanation of the leak-free figure.
+    pub leak_free_note: String,
+    /// The drawn bend's inner radius over diameter.
+    pub bend_ratio: f64,
+    /// True when the drawn bend is tighter than the leak-free radius (or none exists).
+    pub bend_leaks: bool,
+    /// Share of a small Lambertian source's power inside the acceptance cone, (NA/n₀)² capped
+    /// at 1, Fresnel loss excluded.
+    pub lambertian_coupling: f64,
+}
+
+/// Indices of a validated design, relative to air.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Indices {
+    /// Guide.
+    pub n_core: f64,
+    /// Surroundings.
+    pub n_out: f64,
+    /// Launch medium.
+    pub n_launch: f64,
+}
+
+impl QuickDesign {
+    /// Read a design from JSON text; unknown fields and wrong types are errors.
+    pub fn from_json(text: &str) -> Result<Self, TirError> {
+        serde_json::from_str(text).map_err(|e| TirError::Parse(e.to_string()))
+    }
+
+    /// Every problem with the design, each naming its field and the allowed range. Empty when
+    /// the design is valid.
+    pub fn problems(&self) -> Vec<FieldError> {
+        match self.check() {
+            Ok(_) => Vec::new(),
+            Err(v) => v,
+        }
+    }
+
+    /// Validate and resolve the indices; on failure, every field error found.
+    pub fn check(&self) -> Result<Indices, Vec<FieldError>> {
+        let mut errs = Vec::new();
+        let mut keep = |r: Result<f64, FieldError>| r.map_err(|e| errs.push(e)).ok();
+        if self.version != QUICK_VERSION {
+            keep(Err(FieldError::new(
+                "version",
+                format!(
+                    "must be {QUICK_VERSION} (this version of tirtrace), got {}",
+                    self.version
+                ),
+            )));
+        }
+        let (wl_lo, wl_hi) = WAVELENGTH_RANGE_NM;
+        let wl = keep(check_range(
+            "wavelength_nm",
+            self.wavelength_nm,
+            wl_lo,
+            true,
+            wl_hi,
+            true,
+            " nm",
+        ));
+        keep(check_range(
+            "diameter_mm",
+            self.diameter_mm,
+            0.0,
+            false,
+            1000.0,
+            true,
+            " mm",
+        ));
+        keep(check_range(
+            "launch_half_angle_deg",
+            self.launch_half_angle_deg,
+            0.0,
+            true,
+            90.0,
+            true,
+            "°",
+        ));
+        keep(check_range(
+            "bend_inner_radius_mm",
+            self.bend_inner_radius_mm,
+            0.0,
+            false,
+            100_000.0,
+            true,
+            " mm",
+        ));
+        keep(check_range(
+            "bend_angle_deg",
+            self.bend_angle_deg,
+            0.0,
+            false,
+            180.0,
+            true,
+            "°",
+        ));
+        let mut indices = None;
+        if let Some(wl) = wl {
+            let n_core = keep(self.material.n_rel_air(wl, "material"));
+            let n_out = keep(self.surroundings.n_rel_air(wl, "surroundings"));
+            let n_launch = keep(self.launch_medium.n_rel_air(wl, "launch_medium"));
+            if let (Some(n_core), Some(n_out), Some(n_launch)) = (n_core, n_out, n_launch) {
+                if n_out >= n_core {
+                    keep(Err(FieldError::new(
+                        "surroundings",
+                        format!(
+                            "must have a lower index than the guide for light to be guided: \
+                             surroundings n = {n_out:.4}, guide n = {n_core:.4}"
+                        ),
+                    )));
+                } else {
+                    indices = Some(Indices {
+                        n_core,
+                        n_out,
+                        n_launch,
+                    });
+                }
+            }
+        }
+        match indices {
+            Some(ix) if errs.is_empty() => Ok(ix),
+            _ => Err(errs),
+        }
+    }
+
+    /// The closed-form figures, or the first problem found.
+    pub fn figures(&self) -> Result<QuickFigures, TirError> {
+        let ix = self.check().map_err(|mut v| TirError::Field(v.remove(0)))?;
+        let Indices {
+            n_core,
+            n_out,
+            n_launch,
+        } = ix;
+        let theta_c = interface::critical_angle_rad(n_core, n_out)
+            .expect("check() guarantees n_out < n_core");
+        let na = guide::numerical_aperture(n_core, n_out);
+        let accept = guide::acceptance_half_angle_rad(na, n_launch);
+        let launch_rad = self.launch_half_angle_deg.to_radians();
+        let theta_max = guide::max_internal_angle_rad(n_core, n_out, n_launch, launch_rad);
+        let ratio = guide::leak_free_bend_ratio(n_core, n_out, theta_max);
+        let bend_ratio = self.bend_inner_radius_mm / self.diameter_mm;
+        let theta_max_deg = theta_max.to_degrees();
+        let leak_free_note = match ratio {
+            Some(_) => format!(
+                "every meridional and skew ray up to {theta_max_deg:.1}° to the axis stays \
+                 totally reflected through the bend"
+            ),
+            None => format!(
+                "no leak-free radius exists: the launch fills the guide up to its guiding \
+                 limit ({theta_max_deg:.1}° to the axis), so some light leaks at any bend radius"
+            ),
+        };
+        Ok(QuickFigures {
+            n_core,
+            n_surroundings: n_out,
+            n_launch,
+            critical_angle_deg: theta_c.to_degrees(),
+            numerical_aperture: na,
+            acceptance_half_angle_deg: accept.to_degrees(),
+            acceptance_saturated: na >= n_launch,
+            relative_index_difference: guide::relative_index_difference(n_core, n_out),
+            entry_fresnel_loss: interface::fresnel_reflectance(1.0, n_launch, n_core),
+            max_internal_angle_deg: theta_max_deg,
+            leak_free_ratio: ratio,
+            leak_free_inner_radius_mm: ratio.map(|r| r * self.diameter_mm),
+            leak_free_note,
+            bend_ratio,
+            bend_leaks: ratio.is_none_or(|r| bend_ratio < r),
+            lambertian_coupling: guide::lambertian_fraction_within(accept),
+        })
+    }
+}

@@ -1,0 +1,108 @@
+//! The wasm-bindgen layer: converts JS values to core types and back, and delegates. It never
+//! computes physics and never panics on user input; errors become `JsError` with the core's
+//! message.
+
+use js_sys::{Array, Float64Array, Object, Reflect};
+use plotters::prelude::*;
+use plotters_canvas::CanvasBackend;
+use serde::Serialize;
+use wasm_bindgen::prelude::*;
+
+use crate::fan::{bend_fan as core_bend_fan, FanFate};
+use crate::index::library;
+use crate::quick::QuickDesign;
+use crate::{FieldError, TirError};
+
+fn to_js<T: Serialize>(value: &T) -> Result<JsValue, JsError> {
+    value
+        .serialize(&serde_wasm_bindgen::Serializer::json_compatible())
+        .map_err(|e| JsError::new(&e.to_string()))
+}
+
+fn read_design(design: JsValue) -> Result<QuickDesign, FieldError> {
+    serde_wasm_bindgen::from_value(design)
+        .map_err(|e| FieldError::new("design", format!("could not be read: {e}")))
+}
+
+fn js_error(e: TirError) -> JsError {
+    JsError::new(&e.to_string())
+}
+
+/// The built-in materials: `[{ id, name, min_nm, max_nm, basis, source, note }]`.
+#[wasm_bindgen]
+pub fn materials() -> Result<JsValue, JsError> {
+    to_js(&library::materials())
+}
+
+/// Every problem with a design as `[{ field, message }]`; empty when valid.
+#[wasm_bindgen]
+pub fn validate(design: JsValue) -> Result<JsValue, JsError> {
+    let problems = match read_design(design) {
+        Ok(d) => d.problems(),
+        Err(e) => vec![e],
+    };
+    to_js(&problems)
+}
+
+/// The closed-form figures of a design; throws with the first problem when invalid.
+#[wasm_bindgen]
+pub fn figures(design: JsValue) -> Result<JsValue, JsError> {
+    let d = read_design(design).map_err(|e| js_error(e.into()))?;
+    to_js(&d.figures().map_err(js_error)?)
+}
+
+fn xy(points: &[glam::DVec2]) -> Float64Array {
+    let flat: Vec<f64> = points.iter().flat_map(|p| [p.x, p.y]).collect();
+    Float64Array::from(flat.as_slice())
+}
+
+fn set(obj: &Object, key: &str, value: &JsValue) -> Result<(), JsError> {
+    Reflect::set(obj, &JsValue::from_str(key), value)
+        .map(|_| ())
+        .map_err(|_| JsError::new("could not build the result object"))
+}
+
+/// The meridional ray fan for drawing: `{ walls: [Float64Array], rays: [{ fate, xy }], bounds }`,
+/// coordinates in mm as flat x, y pairs.
+#[wasm_bindgen]
+pub fn bend_fan(design: JsValue, ray_count: u32) -> Result<JsValue, JsError> {
+    let d = read_design(design).map_err(|e| js_error(e.into()))?;
+    let ix = d.check().map_err(|mut v| js_error(v.remove(0).into()))?;
+    let fan = core_bend_fan(&d, ix, ray_count.clamp(2, 400) as usize);
+    let walls = Array::new();
+    for w in &fan.walls {
+        walls.push(&xy(w));
+    }
+    let rays = Array::new();
+    for r in &fan.rays {
+        let o = Object::new();
+        let fate = match r.fate {
+            FanFate::Guided => "guided",
+            FanFate::Escaped => "escaped",
+        };
+        set(&o, "fate", &JsValue::from_str(fate))?;
+        set(&o, "xy", &xy(&r.points))?;
+        rays.push(&o);
+    }
+    let bounds = Object::new();
+    let (lo, hi) = fan.bounds;
+    set(&bounds, "min_x", &lo.x.into())?;
+    set(&bounds, "min_y", &lo.y.into())?;
+    set(&bounds, "max_x", &hi.x.into())?;
+    set(&bounds, "max_y", &hi.y.into())?;
+    let out = Object::new();
+    set(&out, "walls", &walls)?;
+    set(&out, "rays", &rays)?;
+    set(&out, "bounds", &bounds)?;
+    Ok(out.into())
+}
+
+/// Draw the leak-free bend chart on the canvas with id `canvas_id`.
+#[wasm_bindgen]
+pub fn draw_bend_chart(canvas_id: &str, design: JsValue) -> Result<(), JsError> {
+    let d = read_design(design).map_err(|e| js_error(e.into()))?;
+    let backend = CanvasBackend::new(canvas_id)
+        .ok_or_else(|| JsError::new(&format!("no canvas with id '{canvas_id}' on the page")))?;
+    let area = backend.into_drawing_area();
+    crate::chart::draw_bend_chart(&area, &d).map_err(js_error)
+}

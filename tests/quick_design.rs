@@ -1,0 +1,251 @@
+//! The quick-look design document: validation messages, figures, the ray fan and the chart.
+#[cfg(target_arch = "wasm32")]
+use wasm_bindgen_test::wasm_bindgen_test as test;
+#[cfg(target_arch = "wasm32")]
+wasm_bindgen_test::wasm_bindgen_test_configure!(run_in_browser);
+
+use plotters::prelude::*;
+use tirtrace::fan::{bend_fan, FanFate};
+use tirtrace::index::library::MaterialChoice;
+use tirtrace::quick::QuickDesign;
+
+fn only_problem(d: &QuickDesign) -> (String, String) {
+    let p = d.problems();
+    assert_eq!(p.len(), 1, "{p:?}");
+    (p[0].field.clone(), p[0].message.clone())
+}
+
+#[test]
+fn default_design_is_valid_and_round_trips() {
+    let d = QuickDesign::default();
+    assert!(d.problems().is_empty());
+    let text = serde_json::to_string(&d).unwrap();
+    assert_eq!(QuickDesign::from_json(&text).unwrap(), d);
+}
+
+#[test]
+fn every_bad_number_names_its_field_and_range() {
+    // (mutation, field, words the message must hold)
+    type Case = (fn(&mut QuickDesign), &'static str, &'static str);
+    let cases: [Case; 11] = [
+        (|d| d.diameter_mm = -3.0, "diameter_mm", "must be > 0 mm"),
+        (|d| d.diameter_mm = 0.0, "diameter_mm", "got 0"),
+        (|d| d.diameter_mm = f64::NAN, "diameter_mm", "not a number"),
+        (|d| d.diameter_mm = f64::INFINITY, "diameter_mm", "infinite"),
+        (
+            |d| d.wavelength_nm = 100.0,
+            "wavelength_nm",
+            "≥ 200 nm and ≤ 2500 nm",
+        ),
+        (
+            |d| d.launch_half_angle_deg = 95.0,
+            "launch_half_angle_deg",
+            "≤ 90°",
+        ),
+        (
+            |d| d.launch_half_angle_deg = -1.0,
+            "launch_half_angle_deg",
+            "≥ 0°",
+        ),
+        (
+            |d| d.bend_inner_radius_mm = 0.0,
+            "bend_inner_radius_mm",
+            "> 0 mm",
+        ),
+        (|d| d.bend_angle_deg = 200.0, "bend_angle_deg", "≤ 180°"),
+        (
+            |d| d.material = MaterialChoice::constant(0.0),
+            "material.custom.n",
+            "≥ 1",
+        ),
+        (
+            |d| d.wavelength_nm = 405.0,
+            "material.library",
+            "420–1620 nm",
+        ),
+    ];
+    for (mutate, field, words) in cases {
+        let mut d = QuickDesign::default();
+        mutate(&mut d);
+        let (f, m) = only_problem(&d);
+        assert_eq!(f, field);
+        assert!(m.contains(words), "{field}: '{m}' lacks '{words}'");
+        // figures() refuses with the same message instead of producing NaN.
+        let e = d.figures().unwrap_err().to_string();
+        assert!(e.contains(field), "{e}");
+    }
+}
+
+#[test]
+fn all_problems_are_reported_at_once() {
+    let d = QuickDesign {
+        diameter_mm: -1.0,
+        bend_angle_deg: f64::NAN,
+        ..QuickDesign::default()
+    };
+    let fields: Vec<_> = d.problems().into_iter().map(|p| p.field).collect();
+    assert_eq!(fields, ["diameter_mm", "bend_angle_deg"]);
+}
+
+#[test]
+fn surroundings_denser_than_the_guide_is_refused() {
+    let d = QuickDesign {
+        material: MaterialChoice::constant(1.40),
+        surroundings: MaterialChoice::library("water"),
+        ..QuickDesign::default()
+    };
+    assert!(d.problems().is_empty());
+    let d = QuickDesign {
+        material: MaterialChoice::constant(1.30),
+        ..d
+    };
+    let (f, m) = only_problem(&d);
+    assert_eq!(f, "surroundings");
+    assert!(m.contains("lower index than the guide"), "{m}");
+}
+
+#[test]
+fn unknown_fields_and_wrong_types_are_refused() {
+    let mut v = serde_json::to_value(QuickDesign::default()).unwrap();
+    v["colour"] = serde_json::json!("red");
+    let e = QuickDesign::from_json(&v.to_string())
+        .unwrap_err()
+        .to_string();
+    assert!(e.contains("colour"), "{e}");
+    let mut v = serde_json::to_value(QuickDesign::default()).unwrap();
+    v["diameter_mm"] = serde_json::json!("three");
+    assert!(QuickDesign::from_json(&v.to_string()).is_err());
+}
+
+#[test]
+fn figures_of_an_acrylic_pipe_in_air() {
+    // PMMA at 587.56 nm: n = 1.49253 (Beadie et al., Appl. Opt. 54, F139 (2015), computed,
+    // REFERENCES §1); critical angle asin(1/n); normal-incidence Fresnel ((n−1)/(n+1))².
+    let d = QuickDesign {
+        wavelength_nm: 587.56,
+        launch_half_angle_deg: 0.0,
+        ..QuickDesign::default()
+    };
+    let f = d.figures().unwrap();
+    assert!((f.n_core - 1.49253).abs() < 6e-6);
+    assert!((f.critical_angle_deg - (1.0 / f.n_core).asin().to_degrees()).abs() < 1e-12);
+    assert!((f.critical_angle_deg - 42.07).abs() < 0.01);
+    assert!((f.entry_fresnel_loss - ((f.n_core - 1.0) / (f.n_core + 1.0)).powi(2)).abs() < 1e-15);
+    assert!(f.acceptance_saturated);
+    assert_eq!(f.acceptance_half_angle_deg, 90.0);
+    assert_eq!(f.lambertian_coupling, 1.0);
+    // Axial launch: R_in = d/(n − 1) (REFERENCES §4).
+    let r = f.leak_free_ratio.unwrap();
+    assert!((r - 1.0 / (f.n_core - 1.0)).abs() < 1e-12);
+    assert!((f.leak_free_inner_radius_mm.unwrap() - r * d.diameter_mm).abs() < 1e-12);
+    assert_eq!(f.bend_ratio, 2.0);
+    assert!(f.bend_leaks, "R/d 2.0 is below the axial limit 2.03");
+}
+
+#[test]
+fn clad_fibre_overfilled_has_no_leak_free_radius() {
+    let d = QuickDesign {
+        material: MaterialChoice::constant(1.492),
+        surroundings: MaterialChoice::constant(1.402),
+        launch_half_angle_deg: 60.0,
+        diameter_mm: 1.0,
+        bend_inner_radius_mm: 50.0,
+        ..QuickDesign::default()
+    };
+    let f = d.figures().unwrap();
+    assert_eq!(f.leak_free_ratio, None);
+    assert_eq!(f.leak_free_inner_radius_mm, None);
+    assert!(f.bend_leaks);
+    assert!(f.leak_free_note.contains("no leak-free radius exists"));
+    // NA 0.5104 → acceptance 30.69° in air (REFERENCES §3).
+    assert!((f.acceptance_half_angle_deg - 30.69).abs() < 5e-3);
+    assert!(!f.acceptance_saturated);
+}
+
+fn escaped(d: &QuickDesign, rays: usize) -> usize {
+    let ix = d.check().unwrap();
+    bend_fan(d, ix, rays)
+        .rays
+        .iter()
+        .filter(|r| r.fate == FanFate::Escaped)
+        .count()
+}
+
+#[test]
+fn ray_fan_obeys_the_meridional_bend_criterion() {
+    // The 2D fan is exactly the meridional case of the criterion (REFERENCES §4): no ray
+    // escapes at 1.01× the leak-free radius, some do at 0.9×.
+    for (material, launch) in [
+        ("pmma", 0.0),
+        ("pmma", 30.0),
+        ("polycarbonate", 60.0),
+        ("fused_silica", 90.0),
+    ] {
+        let base = QuickDesign {
+            material: MaterialChoice::library(material),
+            launch_half_angle_deg: launch,
+            bend_angle_deg: 180.0,
+            ..QuickDesign::default()
+        };
+        let r = base.figures().unwrap().leak_free_ratio.unwrap();
+        let at = |k: f64| QuickDesign {
+            bend_inner_radius_mm: k * r * base.diameter_mm,
+            ..base.clone()
+        };
+        assert_eq!(escaped(&at(1.01), 3001), 0, "{material} {launch}° at 1.01×");
+        assert!(escaped(&at(0.9), 3001) > 0, "{material} {launch}° at 0.9×");
+    }
+}
+
+#[test]
+fn ray_fan_geometry() {
+    let d = QuickDesign::default();
+    let fan = bend_fan(&d, d.check().unwrap(), 50);
+    assert_eq!(fan.rays.len(), 50);
+    assert_eq!(fan.walls.len(), 4);
+    let (lo, hi) = fan.bounds;
+    for r in &fan.rays {
+        // Every ray starts on the entry face, inside the guide.
+        assert_eq!(r.points[0].x, 0.0);
+        assert!(r.points[0].y > 0.0 && r.points[0].y < d.diameter_mm);
+        for p in &r.points {
+            assert!(p.cmpge(lo).all() && p.cmple(hi).all());
+        }
+    }
+    // With a launch that fills the guide and a generous bend, most rays get through.
+    let guided = fan
+        .rays
+        .iter()
+        .filter(|r| r.fate == FanFate::Guided)
+        .count();
+    assert!(guided > 0);
+}
+
+#[test]
+fn bend_chart_curve_and_drawing() {
+    let d = QuickDesign::default();
+    let curve = tirtrace::chart::bend_curve(&d).unwrap();
+    // A wider launch cone never allows a tighter bend.
+    assert!(curve.windows(2).all(|w| w[1].1 >= w[0].1));
+    assert_eq!(
+        curve.len(),
+        181,
+        "PMMA in air has a leak-free radius at every launch angle"
+    );
+    let mut svg = String::new();
+    {
+        let area = SVGBackend::with_string(&mut svg, (640, 400)).into_drawing_area();
+        tirtrace::chart::draw_bend_chart(&area, &d).unwrap();
+    }
+    assert!(svg.contains("leak-free inner radius / diameter"));
+    assert!(svg.contains("<polyline") || svg.contains("<path"));
+    // Invalid designs give the field error, not a drawing.
+    let bad = QuickDesign {
+        diameter_mm: -1.0,
+        ..d
+    };
+    let mut svg = String::new();
+    let area = SVGBackend::with_string(&mut svg, (640, 400)).into_drawing_area();
+    let e = tirtrace::chart::draw_bend_chart(&area, &bad).unwrap_err();
+    assert!(e.to_string().contains("diameter_mm"));
+}

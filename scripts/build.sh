@@ -5,4 +5,11 @@ cd "$(dirname "$0")/.."
 cargo build --release --lib --target wasm32-unknown-unknown
 .tools/bin/wasm-bindgen --target web --no-typescript --out-dir www/pkg \
   target/wasm32-unknown-unknown/release/tirtrace.wasm
+# Shrink with binaryen's wasm-opt from npm when set up (optional: the page works without it).
+wasm_opt=tools/node_modules/.bin/wasm-opt
+if [[ -x "$wasm_opt" ]]; then
+  "$wasm_opt" -Oz --enable-bulk-memory --enable-nontrapping-float-to-int --enable-sign-ext \
+    --enable-mutable-globals --enable-reference-types --enable-multivalue \
+    www/pkg/tirtrace_bg.wasm -o www/pkg/tirtrace_bg.wasm
+fi
 printf '[build] www/pkg/tirtrace_bg.wasm: %s bytes\n' "$(stat -c %s www/pkg/tirtrace_bg.wasm)" >&2

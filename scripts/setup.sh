@@ -41,6 +41,12 @@ fi
 
 command -v python3 >/dev/null || apt_install python3
 
+# wasm-opt (binaryen from npm) shrinks the wasm; optional, so only when node and npm are here.
+if command -v npm >/dev/null && { [[ ! -f tools/node_modules/.package-lock.json ]] || [[ tools/package-lock.json -nt tools/node_modules/.package-lock.json ]]; }; then
+  say "installing the build tools from npm (wasm-opt)"
+  npm ci --prefix tools --no-audit --no-fund >/dev/null
+fi
+
 if [[ $want_browser -eq 1 ]]; then
   if [[ ! -x /usr/bin/chromium ]]; then
     say "installing Debian's chromium and chromium-driver"

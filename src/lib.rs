@@ -12,10 +12,15 @@
 pub mod chart;
 pub mod error;
 pub mod fan;
+pub mod geometry;
 pub mod guide;
 pub mod index;
 pub mod interface;
 pub mod quick;
+pub mod scenario;
+pub mod source;
+pub mod stats;
+pub mod trace;
 
 #[cfg(target_arch = "wasm32")]
 mod web;

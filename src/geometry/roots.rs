@@ -1,0 +1,142 @@
+//! Real roots of small polynomials (degree ≤ 4) on an interval, by isolation: the roots of the
+//! derivative split the interval into pieces on which the polynomial is monotone, and each piece
+//! that changes sign holds exactly one root, found by safeguarded Newton–bisection to full
+//! precision. This needs no closed-form quartic (whose cancellations lose grazing rays) and never
+//! misses a root that crosses zero; a double root that only touches zero is, rightly for ray
+//! tracing, not a crossing.
+//!
+//! Coefficients are ascending: `c[0] + c[1] t + c[2] t² + …`.
+
+/// Horner evaluation of p(t) and p'(t).
+#[inline]
+fn eval_with_derivative(c: &[f64], t: f64) -> (f64, f64) {
+    let mut p = 0.0;
+    let mut dp = 0.0;
+    for &ci in c.iter().rev() {
+        dp = dp * t + p;
+        p = p * t + ci;
+    }
+    (p, dp)
+}
+
+/// Evaluate the polynomial at `t`.
+#[inline]
+pub fn eval(c: &[f64], t: f64) -> f64 {
+    c.iter().rev().fold(0.0, |p, &ci| p * t + ci)
+}
+
+/// The one root of a monotone piece [a, b] with p(a) and p(b) of opposite signs (or zero).
+fn polish(c: &[f64], mut a: f64, mut b: f64, pa: f64) -> f64 {
+    // Keep `a` on the side where p has the sign of p(a).
+    let neg_at_a = pa <= 0.0;
+    let mut t = 0.5 * (a + b);
+    for _ in 0..100 {
+        let (p, dp) = eval_with_derivative(c, t);
+        if p == 0.0 {
+            return t;
+        }
+        if (p < 0.0) == neg_at_a {
+            a = t;
+        } else {
+            b = t;
+        }
+        // Newton step, falling back to bisection when it leaves the bracket.
+        let newton = t - p / dp;
+        let next = if dp != 0.0 && newton > a.min(b) && newton < a.max(b) {
+            newton
+        } else {
+            0.5 * (a + b)
+        };
+        if (next - t).abs() <= 1e-15 * t.abs().max(1e-300) || a == b {
+            return next;
+        }
+        t = next;
+    }
+    t
+}
+
+/// All real roots of `c` (degree = c.len() − 1, at most 3 here) in [lo, hi], ascending, written
+/// into `out`; returns how many. The leading coefficient must be non-zero.
+pub fn roots_in(c: &[f64], lo: f64, hi: f64, out: &mut [f64; 4]) -> usize {
+    let deg = c.len() - 1;
+    let mut n = 0;
+    match deg {
+        0 => {}
+        1 => {
+            let t = -c[0] / c[1];
+            if t >= lo && t <= hi {
+                out[0] = t;
+                n = 1;
+            }
+        }
+        2 => {
+            // Stable quadratic formula.
+            let (a, b, cc) = (c[2], c[1], c[0]);
+            let disc = b * b - 4.0 * a * cc;
+            if disc >= 0.0 {
+                let q = -0.5 * (b + b.signum() * disc.sqrt());
+                let (mut r1, mut r2) = if q != 0.0 {
+                    (q / a, cc / q)
+                } else {
+                    (0.0, 0.0)
+                };
+                if r1 > r2 {
+                    std::mem::swap(&mut r1, &mut r2);
+                }
+                for r in [r1, r2] {
+                    if r >= lo && r <= hi && (n == 0 || r != out[n - 1]) {
+                        out[n] = r;
+                        n += 1;
+                    }
+                }
+            }
+        }
+        _ => {
+            let mut d = [0.0; 4];
+            for i in 1..=deg {
+                d[i - 1] = c[i] * i as f64;
+            }
+            let mut crit = [0.0; 4];
+            let m = roots_in(&d[..deg], lo, hi, &mut crit);
+            let mut a = lo;
+            let mut pa = eval(c, a);
+            for b in crit[..m].iter().copied().chain(std::iter::once(hi)) {
+                let pb = eval(c, b);
+                if pa == 0.0 && (n == 0 || out[n - 1] != a) {
+                    out[n] = a;
+                    n += 1;
+                } else if (pa < 0.0 && pb > 0.0) || (pa > 0.0 && pb < 0.0) {
+                    out[n] = polish(c, a, b, pa);
+                    n += 1;
+                }
+                a = b;
+                pa = pb;
+            }
+            if pa == 0.0 && (n == 0 || out[n - 1] != a) && n < 4 {
+                out[n] = a;
+                n += 1;
+            }
+        }
+    }
+    n
+}
+
+/// The first t in (lo, hi] where the quartic `c` (c[4] > 0) goes from ≤ 0 to > 0: where a ray
+/// inside the region p < 0 leaves it. `None` when it stays inside (or only touches the boundary)
+/// up to `hi`.
+pub fn first_upcrossing_quartic(c: &[f64; 5], lo: f64, hi: f64) -> Option<f64> {
+    let d = [c[1], 2.0 * c[2], 3.0 * c[3], 4.0 * c[4]];
+    let mut crit = [0.0; 4];
+    let m = roots_in(&d, lo, hi, &mut crit);
+    let mut a = lo;
+    let mut pa = eval(c, a);
+    for b in crit[..m].iter().copied().chain(std::iter::once(hi)) {
+        let pb = eval(c, b);
+        if pa <= 0.0 && pb > 0.0 {
+            return Some(polish(c, a, b, pa));
+        }
+        a = b;
+        pa = pb;
+    }
+    None
+}

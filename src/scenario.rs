@@ -1,0 +1,882 @@
+//! The scenario document: one versioned JSON document describing a whole routed light guide, its
+//! source, an optional receiver and the trace settings. The command line reads it, the page's
+//! state is it, saved files and share links carry it, and tests are written in it.
+//!
+//! Field names carry units (`_mm`, `_deg`, `_nm`, `_db_per_m`). Unknown fields are refused, and
+//! every bad value is reported with its field path and allowed range, e.g.
+//! `route[2].bend.radius_mm must be > 1.5 mm, got -3`.
+
+use serde::{Deserialize, Serialize};
+
+use crate::error::{check_range, show, FieldError, TirError};
+use crate::index::library::MaterialChoice;
+
+/// Current version of the scenario document.
+pub const SCENARIO_VERSION: u32 = 1;
+
+/// Most segments a route may have.
+pub const MAX_SEGMENTS: usize = 64;
+
+/// A whole design: guide, route, source, receiver and trace settings.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct Scenario {
+    /// Document version, currently 1.
+    pub version: u32,
+    /// A label for people; not used by the physics.
+    #[serde(default)]
+    pub name: String,
+    /// The guide: section, material, surroundings, attenuation, contact zones.
+    pub guide: Guide,
+    /// The route: tangent-continuous segments from the entry face to the exit face.
+    pub route: Vec<Segment>,
+    /// The light source in front of the entry face.
+    pub source: Source,
+    /// An optional detector or window beyond the exit face.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub receiver: Option<Receiver>,
+    /// Ray count, seed and the interaction cap.
+    #[serde(default)]
+    pub trace: TraceSettings,
+}
+
+/// The guide's material and cross-section.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct Guide {
+    /// Cross-section at the entry face.
+    pub section: Section,
+    /// Guide material.
+    pub material: MaterialChoice,
+    /// Medium around the guide.
+    pub surroundings: MaterialChoice,
+    /// Bulk attenuation, dB/m (Beer–Lambert).
+    #[serde(default)]
+    pub attenuation_db_per_m: f64,
+    /// Mounts, clips or glue spots touching the guide.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub contacts: Vec<Contact>,
+}
+
+/// A guide cross-section.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case", deny_unknown_fields)]
+pub enum Section {
+    /// Round rod or fibre.
+    Round {
+        /// Diameter, mm.
+        diameter_mm: f64,
+    },
+    /// Rectangular bar; width along the route's first side axis, height along the second.
+    Rectangular {
+        /// Width, mm.
+        width_mm: f64,
+        /// Height, mm.
+        height_mm: f64,
+    },
+}
+
+impl Section {
+    /// Half-sizes (along the width axis, along the height axis), mm. A round section gives its
+    /// radius twice.
+    pub fn half_sizes_mm(&self) -> (f64, f64) {
+        match *self {
+            Section::Round { diameter_mm } => (0.5 * diameter_mm, 0.5 * diameter_mm),
+            Section::Rectangular {
+                width_mm,
+                height_mm,
+            } => (0.5 * width_mm, 0.5 * height_mm),
+        }
+    }
+
+    /// Area of the section, mm².
+    pub fn area_mm2(&self) -> f64 {
+        match *self {
+            Section::Round { diameter_mm } => {
+                std::f64::consts::PI * 0.25 * diameter_mm * diameter_mm
+            }
+            Section::Rectangular {
+                width_mm,
+                height_mm,
+            } => width_mm * height_mm,
+        }
+    }
+
+    fn kind(&self) -> &'static str {
+        match self {
+            Section::Round { .. } => "round",
+            Section::Rectangular { .. } => "rectangular",
+        }
+    }
+
+    fn validate(&self, path: &str) -> Result<(), FieldError> {
+        match *self {
+            Section::Round { diameter_mm } => {
+                check_range(
+                    &format!("{path}.round.diameter_mm"),
+                    diameter_mm,
+                    0.0,
+                    false,
+                    1000.0,
+                    true,
+                    " mm",
+                )?;
+            }
+            Section::Rectangular {
+                width_mm,
+                height_mm,
+            } => {
+                check_range(
+                    &format!("{path}.rectangular.width_mm"),
+                    width_mm,
+                    0.0,
+                    false,
+                    1000.0,
+                    true,
+                    " mm",
+                )?;
+                check_range(
+                    &format!("{path}.rectangular.height_mm"),
+                    height_mm,
+                    0.0,
+                    false,
+                    1000.0,
+                    true,
+                    " mm",
+                )?;
+            }
+        }
+        Ok(())
+    }
+}
+
+/// One segment of the route.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case", deny_unknown_fields)]
+pub enum Segment {
+    /// A straight run.
+    Straight {
+        /// Length along the axis, mm.
+        length_mm: f64,
+    },
+    /// A circular bend.
+    Bend {
+        /// Radius of the guide's centre line, mm.
+        radius_mm: f64,
+        /// Angle turned through, degrees.
+        angle_deg: f64,
+        /// Direction of the turn, as an angle about the current axis from the section's width
+        /// axis towards its height axis, degrees. Rectangular guides turn across the width
+        /// (0, 180) or the height (90, 270) only.
+        #[serde(default)]
+        turn_deg: f64,
+    },
+    /// A straight taper from the current section to `end_section`.
+    Taper {
+        /// Length along the axis, mm.
+        length_mm: f64,
+        /// Section at the end of the taper (same shape as the current one).
+        end_section: Section,
+    },
+}
+
+impl Segment {
+    /// Length of the segment along its centre line, mm.
+    pub fn length_mm(&self) -> f64 {
+        match *self {
+            Segment::Straight { length_mm } | Segment::Taper { length_mm, .. } => length_mm,
+            Segment::Bend {
+                radius_mm,
+                angle_deg,
+                ..
+            } => radius_mm * angle_deg.to_radians(),
+        }
+    }
+}
+
+/// A mount, clip or glue spot touching the guide: light refracted into it is lost there.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct Contact {
+    /// A label for people.
+    #[serde(default)]
+    pub name: String,
+    /// Index of the route segment it touches (0 is the first).
+    pub segment: usize,
+    /// Start along the segment's centre line, mm from the segment's start.
+    pub from_mm: f64,
+    /// End along the segment's centre line, mm from the segment's start.
+    pub to_mm: f64,
+    /// Start of the touched sector of the perimeter, degrees about the axis from the width axis
+    /// towards the height axis.
+    #[serde(default)]
+    pub sector_from_deg: f64,
+    /// End of the touched sector, degrees (360 with 0 touches all round).
+    #[serde(default = "full_turn")]
+    pub sector_to_deg: f64,
+    /// The contacting medium.
+    pub medium: MaterialChoice,
+}
+
+fn full_turn() -> f64 {
+    360.0
+}
+
+/// The light source.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct Source {
+    /// What emits: an LED or a beam.
+    pub emitter: Emitter,
+    /// Vacuum wavelength, nm.
+    pub wavelength_nm: f64,
+    /// Distance from the emitter to the entry face, mm.
+    #[serde(default)]
+    pub gap_mm: f64,
+    /// Medium filling the gap (air, an index-matching gel…).
+    #[serde(default = "air")]
+    pub gap_medium: MaterialChoice,
+    /// Lateral offset of the emitter's centre from the guide axis along (width, height), mm.
+    #[serde(default)]
+    pub offset_mm: [f64; 2],
+    /// Tilt of the emitter's axis from the guide axis, degrees.
+    #[serde(default)]
+    pub tilt_deg: f64,
+    /// Direction the emitter is tilted towards, degrees about the axis from the width axis.
+    #[serde(default)]
+    pub tilt_toward_deg: f64,
+    /// Optional emitted flux, for absolute figures.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub flux: Option<Flux>,
+}
+
+fn air() -> MaterialChoice {
+    MaterialChoice::library("air")
+}
+
+/// An emitter.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case", deny_unknown_fields)]
+pub enum Emitter {
+    /// An LED die or package window.
+    Led {
+        /// Shape and size of the emitting area.
+        area: EmitterArea,
+        /// Angular pattern.
+        pattern: Pattern,
+    },
+    /// A collimated or slightly diverging beam (a laser, a lensed LED).
+    Beam {
+        /// Beam diameter at the emitter, mm (uniform).
+        diameter_mm: f64,
+        /// Half-angle of the divergence cone, degrees (uniform over the cone's solid angle).
+        divergence_half_angle_deg: f64,
+    },
+}
+
+/// Shape of an LED's emitting area.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case", deny_unknown_fields)]
+pub enum EmitterArea {
+    /// A disk.
+    Disk {
+        /// Diameter, mm.
+        diameter_mm: f64,
+    },
+    /// A square.
+    Square {
+        /// Side, mm.
+        side_mm: f64,
+    },
+}
+
+/// Angular intensity pattern of an LED.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case", deny_unknown_fields)]
+pub enum Pattern {
+    /// I(θ) ∝ cos θ.
+    Lambertian,
+    /// I(θ) ∝ cos^m θ with m from the half-intensity half-angle.
+    HalfIntensity {
+        /// Angle from the axis where the intensity falls to half, degrees.
+        half_angle_deg: f64,
+    },
+    /// A table of relative intensity against angle from the axis, linearly interpolated;
+    /// zero beyond the last angle.
+    Table {
+        /// `[angle_deg, relative_intensity]` pairs, angles ascending from 0 to at most 90.
+        points: Vec<[f64; 2]>,
+    },
+}
+
+/// Emitted flux.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case", deny_unknown_fields)]
+pub enum Flux {
+    /// Radiant flux, mW.
+    Mw(f64),
+    /// Luminous flux, lm.
+    Lm(f64),
+}
+
+/// A detector disk or window beyond the exit face, parallel to it and centred on its axis.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct Receiver {
+    /// Diameter, mm.
+    pub diameter_mm: f64,
+    /// Distance beyond the exit face, mm.
+    pub distance_mm: f64,
+}
+
+/// Trace settings.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct TraceSettings {
+    /// Number of rays.
+    #[serde(default = "default_rays")]
+    pub rays: u64,
+    /// Seed of the random sequence; the same seed gives the same result.
+    #[serde(default = "default_seed")]
+    pub seed: u64,
+    /// Interactions after which a ray is stopped and counted as such.
+    #[serde(default = "default_max_interactions")]
+    pub max_interactions: u32,
+}
+
+fn default_rays() -> u64 {
+    100_000
+}
+fn default_seed() -> u64 {
+    1
+}
+fn default_max_interactions() -> u32 {
+    10_000
+}
+
+impl Default for TraceSettings {
+    fn default() -> Self {
+        TraceSettings {
+            rays: default_rays(),
+            seed: default_seed(),
+            max_interactions: default_max_interactions(),
+        }
+    }
+}
+
+/// Indices of a validated scenario at its wavelength, relative to air.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ScenarioIndices {
+    /// Guide.
+    pub n_core: f64,
+    /// Surroundings (also the medium beyond the exit face).
+    pub n_out: f64,
+    /// Gap between source and entry face.
+    pub n_gap: f64,
+    /// Each contact zone's medium, in document order.
+    pub n_contacts: Vec<f64>,
+}
+
+impl Scenario {
+    /// Read a scenario from JSON. Syntax errors, unknown fields and wrong types are reported
+    /// with the path of the offending field.
+    pub fn from_json(text: &str) -> Result<Self, TirError> {
+        let de = &mut serde_json::Deserializer::from_str(text);
+        serde_path_to_error::deserialize(de).map_err(|e| {
+            let path = e.path().to_string();
+            let inner = e.into_inner();
+            if path.is_empty() || path == "." {
+                TirError::Parse(inner.to_string())
+            } else {
+                TirError::Parse(format!("{path}: {inner}"))
+            }
+        })
+    }
+
+    /// Write the scenario as pretty JSON.
+    pub fn to_json(&self) -> String {
+        serde_json::to_string_pretty(self).expect("a scenario always serialises")
+    }
+
+    /// Every problem with the scenario, each naming its field path and the allowed range.
+    pub fn problems(&self) -> Vec<FieldError> {
+        match self.check() {
+            Ok(_) => Vec::new(),
+            Err(v) => v,
+        }
+    }
+
+    /// Validate and resolve the indices at the source's wavelength.
+    pub fn check(&self) -> Result<ScenarioIndices, Vec<FieldError>> {
+        let mut errs: Vec<FieldError> = Vec::new();
+        macro_rules! keep {
+            ($e:expr) => {
+                match $e {
+                    Ok(v) => Some(v),
+                    Err(e) => {
+                        errs.push(e);
+                        None
+                    }
+                }
+            };
+        }
+        if self.version != SCENARIO_VERSION {
+            errs.push(FieldError::new(
+                "version",
+                format!(
+                    "must be {SCENARIO_VERSION} (this version of tirtrace), got {}",
+                    self.version
+                ),
+            ));
+        }
+
+        // Guide.
+        let g = &self.guide;
+        keep!(g.section.validate("guide.section"));
+        keep!(check_range(
+            "guide.attenuation_db_per_m",
+            g.attenuation_db_per_m,
+            0.0,
+            true,
+            100_000.0,
+            true,
+            " dB/m"
+        ));
+
+        // Route, following the section through tapers.
+        if self.route.is_empty() || self.route.len() > MAX_SEGMENTS {
+            errs.push(FieldError::new(
+                "route",
+                format!(
+                    "must have 1 to {MAX_SEGMENTS} segments, got {}",
+                    self.route.len()
+                ),
+            ));
+        }
+        let mut section = g.section;
+        for (i, seg) in self.route.iter().enumerate() {
+            match *seg {
+                Segment::Straight { length_mm } => {
+                    keep!(check_range(
+                        &format!("route[{i}].straight.length_mm"),
+                        length_mm,
+                        0.0,
+                        false,
+                        100_000.0,
+                        true,
+                        " mm"
+                    ));
+                }
+                Segment::Bend {
+                    radius_mm,
+                    angle_deg,
+                    turn_deg,
+                } => {
+                    let p = format!("route[{i}].bend");
+                    keep!(check_range(
+                        &format!("{p}.angle_deg"),
+                        angle_deg,
+                        0.0,
+                        false,
+                        180.0,
+                        true,
+                        "°"
+                    ));
+                    keep!(check_range(
+                        &format!("{p}.turn_deg"),
+                        turn_deg,
+                        -360.0,
+                        true,
+                        360.0,
+                        true,
+                        "°"
+                    ));
+                    let across = bend_half_size_mm(section, turn_deg);
+                    if let Some(half) = across {
+                        // The inner wall must keep a positive radius.
+                        keep!(check_range(
+                            &format!("{p}.radius_mm"),
+                            radius_mm,
+                            half,
+                            false,
+                            1_000_000.0,
+                            true,
+                            " mm (more than half the guide's size across the bend)"
+                        ));
+                    }
+                    if matches!(section, Section::Rectangular { .. }) && across.is_some() {
+                        let r = turn_deg.rem_euclid(90.0);
+                        if r > 1e-9 && 90.0 - r > 1e-9 {
+                            errs.push(FieldError::new(
+                                format!("{p}.turn_deg"),
+                                format!("must be 0, 90, 180 or 270 for a rectangular guide (turn across the width or the height), got {}", show(turn_deg)),
+                            ));
+                        }
+                    }
+                }
+                Segment::Taper {
+                    length_mm,
+                    end_section,
+                } => {
+                    let p = format!("route[{i}].taper");
+                    keep!(check_range(
+                        &format!("{p}.length_mm"),
+                        length_mm,
+                        0.0,
+                        false,
+                        100_000.0,
+                        true,
+                        " mm"
+                    ));
+                    if end_section.kind() != section.kind() {
+                        errs.push(FieldError::new(
+                            format!("{p}.end_section"),
+                            format!(
+                                "must be {} like the guide at this point, got {}",
+                                section.kind(),
+                                end_section.kind()
+                            ),
+                        ));
+                    } else if keep!(end_section.validate(&format!("{p}.end_section"))).is_some() {
+                        section = end_section;
+                    }
+                }
+            }
+        }
+
+        // Contacts.
+        for (k, c) in g.contacts.iter().enumerate() {
+            let p = format!("guide.contacts[{k}]");
+            match self.route.get(c.segment) {
+                None => errs.push(FieldError::new(
+                    format!("{p}.segment"),
+                    format!(
+                        "must name a route segment, 0 to {}, got {}",
+                        self.route.len().saturating_sub(1),
+                        c.segment
+                    ),
+                )),
+                Some(seg) => {
+                    let len = seg.length_mm();
+                    if len.is_finite() {
+                        keep!(check_range(
+                            &format!("{p}.from_mm"),
+                            c.from_mm,
+                            0.0,
+                            true,
+                            len,
+                            false,
+                            " mm (the segment's length)"
+                        ));
+                        keep!(check_range(
+                            &format!("{p}.to_mm"),
+                            c.to_mm,
+                            c.from_mm.max(0.0),
+                            false,
+                            len,
+                            true,
+                            " mm (after from_mm, within the segment's length)"
+                        ));
+                    }
+                }
+            }
+            keep!(check_range(
+                &format!("{p}.sector_from_deg"),
+                c.sector_from_deg,
+                0.0,
+                true,
+                360.0,
+                false,
+                "°"
+            ));
+            keep!(check_range(
+                &format!("{p}.sector_to_deg"),
+                c.sector_to_deg,
+                c.sector_from_deg.max(0.0),
+                false,
+                360.0,
+                true,
+                "° (after sector_from_deg)"
+            ));
+        }
+
+        // Source.
+        let s = &self.source;
+        let wl = keep!(check_range(
+            "source.wavelength_nm",
+            s.wavelength_nm,
+            200.0,
+            true,
+            2500.0,
+            true,
+            " nm"
+        ));
+        keep!(check_range(
+            "source.gap_mm",
+            s.gap_mm,
+            0.0,
+            true,
+            1000.0,
+            true,
+            " mm"
+        ));
+        keep!(check_range(
+            "source.offset_mm[0]",
+            s.offset_mm[0],
+            -1000.0,
+            true,
+            1000.0,
+            true,
+            " mm"
+        ));
+        keep!(check_range(
+            "source.offset_mm[1]",
+            s.offset_mm[1],
+            -1000.0,
+            true,
+            1000.0,
+            true,
+            " mm"
+        ));
+        keep!(check_range(
+            "source.tilt_deg",
+            s.tilt_deg,
+            0.0,
+            true,
+            90.0,
+            false,
+            "°"
+        ));
+        keep!(check_range(
+            "source.tilt_toward_deg",
+            s.tilt_toward_deg,
+            -360.0,
+            true,
+            360.0,
+            true,
+            "°"
+        ));
+        match &s.emitter {
+            Emitter::Led { area, pattern } => {
+                match *area {
+                    EmitterArea::Disk { diameter_mm } => {
+                        keep!(check_range(
+                            "source.emitter.led.area.disk.diameter_mm",
+                            diameter_mm,
+                            0.0,
+                            false,
+                            1000.0,
+                            true,
+                            " mm"
+                        ));
+                    }
+                    EmitterArea::Square { side_mm } => {
+                        keep!(check_range(
+                            "source.emitter.led.area.square.side_mm",
+                            side_mm,
+                            0.0,
+                            false,
+                            1000.0,
+                            true,
+                            " mm"
+                        ));
+                    }
+                }
+                match pattern {
+                    Pattern::Lambertian => {}
+                    Pattern::HalfIntensity { half_angle_deg } => {
+                        keep!(check_range(
+                            "source.emitter.led.pattern.half_intensity.half_angle_deg",
+                            *half_angle_deg,
+                            0.5,
+                            true,
+                            89.5,
+                            true,
+                            "°"
+                        ));
+                    }
+                    Pattern::Table { points } => {
+                        if let Err(e) = check_table(points) {
+                            errs.push(e);
+                        }
+                    }
+                }
+            }
+            Emitter::Beam {
+                diameter_mm,
+                divergence_half_angle_deg,
+            } => {
+                keep!(check_range(
+                    "source.emitter.beam.diameter_mm",
+                    *diameter_mm,
+                    0.0,
+                    false,
+                    1000.0,
+                    true,
+                    " mm"
+                ));
+                keep!(check_range(
+                    "source.emitter.beam.divergence_half_angle_deg",
+                    *divergence_half_angle_deg,
+                    0.0,
+                    true,
+                    90.0,
+                    true,
+                    "°"
+                ));
+            }
+        }
+        match s.flux {
+            Some(Flux::Mw(x)) => {
+                keep!(check_range(
+                    "source.flux.mw",
+                    x,
+                    0.0,
+                    false,
+                    1e9,
+                    true,
+                    " mW"
+                ));
+            }
+            Some(Flux::Lm(x)) => {
+                keep!(check_range(
+                    "source.flux.lm",
+                    x,
+                    0.0,
+                    false,
+                    1e9,
+                    true,
+                    " lm"
+                ));
+            }
+            None => {}
+        }
+
+        // Receiver and trace settings.
+        if let Some(r) = &self.receiver {
+            keep!(check_range(
+                "receiver.diameter_mm",
+                r.diameter_mm,
+                0.0,
+                false,
+                10_000.0,
+                true,
+                " mm"
+            ));
+            keep!(check_range(
+                "receiver.distance_mm",
+                r.distance_mm,
+                0.0,
+                true,
+                100_000.0,
+                true,
+                " mm"
+            ));
+        }
+        let t = &self.trace;
+        if !(1..=1_000_000_000).contains(&t.rays) {
+            errs.push(FieldError::new(
+                "trace.rays",
+                format!("must be ≥ 1 and ≤ 1000000000, got {}", t.rays),
+            ));
+        }
+        if !(1..=10_000_000).contains(&t.max_interactions) {
+            errs.push(FieldError::new(
+                "trace.max_interactions",
+                format!("must be ≥ 1 and ≤ 10000000, got {}", t.max_interactions),
+            ));
+        }
+
+        // Indices at the wavelength.
+        let mut indices = None;
+        if let Some(wl) = wl {
+            let n_core = keep!(g.material.n_rel_air(wl, "guide.material"));
+            let n_out = keep!(g.surroundings.n_rel_air(wl, "guide.surroundings"));
+            let n_gap = keep!(s.gap_medium.n_rel_air(wl, "source.gap_medium"));
+            let n_contacts: Vec<Option<f64>> = g
+                .contacts
+                .iter()
+                .enumerate()
+                .map(|(k, c)| {
+                    keep!(c
+                        .medium
+                        .n_rel_air(wl, &format!("guide.contacts[{k}].medium")))
+                })
+                .collect();
+            if let (Some(n_core), Some(n_out), Some(n_gap)) = (n_core, n_out, n_gap) {
+                if n_out >= n_core {
+                    errs.push(FieldError::new(
+                        "guide.surroundings",
+                        format!(
+                            "must have a lower index than the guide for light to be guided: surroundings n = {n_out:.4}, guide n = {n_core:.4}"
+                        ),
+                    ));
+                } else if n_contacts.iter().all(Option::is_some) {
+                    indices = Some(ScenarioIndices {
+                        n_core,
+                        n_out,
+                        n_gap,
+                        n_contacts: n_contacts.into_iter().flatten().collect(),
+                    });
+                }
+            }
+        }
+        match indices {
+            Some(ix) if errs.is_empty() => Ok(ix),
+            _ => Err(errs),
+        }
+    }
+}
+
+/// Half the section's size across the bend plane for a turn direction, or `None` when the turn
+/// direction is not finite.
+pub fn bend_half_size_mm(section: Section, turn_deg: f64) -> Option<f64> {
+    if !turn_deg.is_finite() {
+        return None;
+    }
+    let (hw, hh) = section.half_sizes_mm();
+    // Turning towards the width axis (0°, 180°) puts the width across the bend.
+    let c = libm::cos(turn_deg.to_radians()).abs();
+    Some(if c > 0.5 { hw } else { hh })
+}
+
+fn check_table(points: &[[f64; 2]]) -> Result<(), FieldError> {
+    let p = "source.emitter.led.pattern.table.points";
+    if points.len() < 2 || points.len() > 1000 {
+        return Err(FieldError::new(
+            p,
+            format!(
+                "needs 2 to 1000 [angle_deg, relative_intensity] pairs, got {}",
+                points.len()
+            ),
+        ));
+    }
+    if points[0][0] != 0.0 {
+        return Err(FieldError::new(
+            format!("{p}[0][0]"),
+            format!(
+                "must be 0 (the table starts on the axis), got {}",
+                show(points[0][0])
+            ),
+        ));
+    }
+    for (i, [a, v]) in points.iter().enumerate() {
+        let lo = if i == 0 { 0.0 } else { points[i - 1][0] };
+        if i > 0 {
+            check_range(
+                &format!("{p}[{i}][0]"),
+                *a,
+                lo,
+                false,
+                90.0,
+                true,
+                "° (angles ascending)",
+            )?;
+        }
+        check_range(&format!("{p}[{i}][1]"), *v, 0.0, true, 1e12, true, "")?;
+    }
+    if points.iter().all(|q| q[1] == 0.0) {
+        return Err(FieldError::new(p, "must have some non-zero intensity"));
+    }
+    Ok(())
+}

@@ -1,0 +1,163 @@
+//! Sampling rays from the source: where on the emitter, and in which direction.
+//!
+//! The emitter lies in a plane at z = −gap in front of the entry face (global frame), centred at
+//! the lateral offset, its axis tilted from +z by `tilt_deg` towards `tilt_toward_deg`.
+
+use std::f64::consts::{FRAC_PI_2, TAU};
+
+use glam::DVec3;
+
+use crate::guide::cos_power_exponent;
+use crate::scenario::{Emitter, EmitterArea, Pattern, Source};
+
+/// Directional law of the emitter, ready for sampling.
+#[derive(Debug, Clone, PartialEq)]
+enum Law {
+    /// cos θ = u^(1/(m+1)) samples I(θ) ∝ cos^m θ (m = 1: Lambertian).
+    CosPower { inv_m1: f64 },
+    /// Uniform over the cone of half-angle δ: cos θ = 1 − u (1 − cos δ).
+    Cone { one_minus_cos: f64 },
+    /// Tabulated: inverse of the cumulative of I(θ) sin θ on a fine grid of θ.
+    Table { cdf: Vec<f64>, step_rad: f64 },
+}
+
+/// A source ready for sampling.
+#[derive(Debug, Clone, PartialEq)]
+pub struct SourceSampler {
+    centre: DVec3,
+    e1: DVec3,
+    e2: DVec3,
+    axis: DVec3,
+    area: Area,
+    law: Law,
+}
+
+#[derive(Debug, Clone, Copy, PartialEq)]
+enum Area {
+    Disk { radius: f64 },
+    Square { half: f64 },
+}
+
+const TABLE_STEPS: usize = 2048;
+
+impl SourceSampler {
+    /// Prepare a validated source.
+    pub fn new(source: &Source) -> SourceSampler {
+        let (area, law) = match &source.emitter {
+            Emitter::Led { area, pattern } => {
+                let area = match *area {
+                    EmitterArea::Disk { diameter_mm } => Area::Disk {
+                        radius: 0.5 * diameter_mm,
+                    },
+                    EmitterArea::Square { side_mm } => Area::Square {
+                        half: 0.5 * side_mm,
+                    },
+                };
+                let law = match pattern {
+                    Pattern::Lambertian => Law::CosPower { inv_m1: 0.5 },
+                    Pattern::HalfIntensity { half_angle_deg } => {
+                        let m = cos_power_exponent(half_angle_deg.to_radians());
+                        Law::CosPower {
+                            inv_m1: 1.0 / (m + 1.0),
+                        }
+                    }
+                    Pattern::Table { points } => table_law(points),
+                };
+                (area, law)
+            }
+            Emitter::Beam {
+                diameter_mm,
+                divergence_half_angle_deg,
+            } => (
+                Area::Disk {
+                    radius: 0.5 * diameter_mm,
+                },
+                Law::Cone {
+                    one_minus_cos: 1.0 - libm::cos(divergence_half_angle_deg.to_radians()),
+                },
+            ),
+        };
+        let tilt = source.tilt_deg.to_radians();
+        let toward = source.tilt_toward_deg.to_radians();
+        let (st, ct) = (libm::sin(tilt), libm::cos(tilt));
+        let (sa, ca) = (libm::sin(toward), libm::cos(toward));
+        let axis = DVec3::new(st * ca, st * sa, ct);
+        // e1 tilts with the axis in the plane of tilt; e2 stays perpendicular to that plane.
+        let e1 = DVec3::new(ct * ca, ct * sa, -st);
+        let e2 = axis.cross(e1);
+        SourceSampler {
+            centre: DVec3::new(source.offset_mm[0], source.offset_mm[1], -source.gap_mm),
+            e1,
+            e2,
+            axis,
+            area,
+            law,
+        }
+    }
+
+    /// One ray: (start point, unit direction), global frame, from three (four for square
+    /// emitters) uniform numbers in [0, 1).
+    #[inline]
+    pub fn sample(&self, u: [f64; 4]) -> (DVec3, DVec3) {
+        let (x, y) = match self.area {
+            Area::Disk { radius } => {
+                let r = radius * u[0].sqrt();
+                let a = TAU * u[1];
+                (r * libm::cos(a), r * libm::sin(a))
+            }
+            Area::Square { half } => (half * (2.0 * u[0] - 1.0), half * (2.0 * u[1] - 1.0)),
+        };
+        let pos = self.centre + x * self.e1 + y * self.e2;
+        let cos_t = match &self.law {
+            Law::CosPower { inv_m1 } => libm::pow(1.0 - u[2], *inv_m1),
+            Law::Cone { one_minus_cos } => 1.0 - u[2] * one_minus_cos,
+            Law::Table { cdf, step_rad } => {
+                // Invert the piecewise-linear cumulative.
+                let i = cdf.partition_point(|&c| c <= u[2]).clamp(1, cdf.len() - 1);
+                let (c0, c1) = (cdf[i - 1], cdf[i]);
+                let f = if c1 > c0 {
+                    (u[2] - c0) / (c1 - c0)
+                } else {
+                    0.0
+                };
+                libm::cos(((i - 1) as f64 + f) * step_rad)
+            }
+        };
+        let sin_t = (1.0 - cos_t * cos_t).max(0.0).sqrt();
+        let phi = TAU * u[3];
+        let dir = cos_t * self.axis + sin_t * (libm::cos(phi) * self.e1 + libm::sin(phi) * self.e2);
+        (pos, dir)
+    }
+}
+
+/// Relative intensity of a table at angle θ (degrees), linear between points, 0 beyond the last.
+pub fn table_intensity(points: &[[f64; 2]], angle_deg: f64) -> f64 {
+    let i = points.partition_point(|p| p[0] <= angle_deg);
+    if i == 0 {
+        return points[0][1];
+    }
+    if i >= points.len() {
+        let last = points[points.len() - 1];
+        return if angle_deg <= last[0] { last[1] } else { 0.0 };
+    }
+    let (a, b) = (points[i - 1], points[i]);
+    a[1] + (b[1] - a[1]) * (angle_deg - a[0]) / (b[0] - a[0])
+}
+
+fn table_law(points: &[[f64; 2]]) -> Law {
+    let step_rad = FRAC_PI_2 / TABLE_STEPS as f64;
+    let mut cdf = Vec::with_capacity(TABLE_STEPS + 1);
+    let mut acc = 0.0;
+    cdf.push(0.0);
+    for k in 0..TABLE_STEPS {
+        // Midpoint rule on I(θ) sin θ dθ.
+        let theta = (k as f64 + 0.5) * step_rad;
+        acc += table_intensity(points, theta.to_degrees()) * libm::sin(theta) * step_rad;
+        cdf.push(acc);
+    }
+    let total = acc.max(1e-300);
+    for c in &mut cdf {
+        *c /= total;
+    }
+    Law::Table { cdf, step_rad }
+}

@@ -207,10 +207,28 @@ pub fn bend_fan(design: &QuickDesign, ix: Indices, ray_count: usize) -> Fan {
     let mut rays = Vec::with_capacity(n);
     for k in 0..n {
         let f = k as f64 / (n - 1) as f64;
-        let angle = -theta_in + 2.0 * theta_in * f;
+        let mut angle = -theta_in + 2.0 * theta_in * f;
         // Low-discrepancy start heights (golden-ratio sequence), kept off the walls.
         let h = (0.5 + 0.618_033_988_749_895 * k as f64).fract();
-        let mut p = DVec2::new(0.0, d * (0.05 + 0.9 * h));
+        let mut y0 = d * (0.05 + 0.9 * h);
+        if k == 0 || k == n - 1 {
+            // The two edge rays are aimed to reach the bend's start on its inner wall: with the
+            // steepest angle that is the ray the bend criterion is decided by. Unfold the
+            // lead-in's reflections: the unfolded height Y = y0 + x tan(angle) must be d at
+            // x = lead, then fold Y back into the guide (a triangle wave of period 2d).
+            let unfolded = d - libm::tan(angle) * lead;
+            let m = unfolded.rem_euclid(2.0 * d);
+            let (y, flip) = if m <= d {
+                (m, false)
+            } else {
+                (2.0 * d - m, true)
+            };
+            y0 = y.clamp(1e-6 * d, d * (1.0 - 1e-6));
+            if flip {
+                angle = -angle;
+            }
+        }
+        let mut p = DVec2::new(0.0, y0);
         let mut dir = DVec2::new(libm::cos(angle), libm::sin(angle));
         let mut points = vec![p];
         let mut fate = FanFate::Guided;

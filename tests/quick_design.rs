@@ -174,7 +174,8 @@ fn escaped(d: &QuickDesign, rays: usize) -> usize {
 #[test]
 fn ray_fan_obeys_the_meridional_bend_criterion() {
     // The 2D fan is exactly the meridional case of the criterion (REFERENCES §4): no ray
-    // escapes at 1.01× the leak-free radius, some do at 0.9×.
+    // escapes at 1.01× the leak-free radius (3001 rays), and at 0.99× even the page's 25-ray
+    // fan shows escaping light, because its edge rays are aimed at the worst case.
     for (material, launch) in [
         ("pmma", 0.0),
         ("pmma", 30.0),
@@ -193,7 +194,7 @@ fn ray_fan_obeys_the_meridional_bend_criterion() {
             ..base.clone()
         };
         assert_eq!(escaped(&at(1.01), 3001), 0, "{material} {launch}° at 1.01×");
-        assert!(escaped(&at(0.9), 3001) > 0, "{material} {launch}° at 0.9×");
+        assert!(escaped(&at(0.99), 25) > 0, "{material} {launch}° at 0.99×");
     }
 }
 
@@ -235,7 +236,7 @@ fn bend_chart_curve_and_drawing() {
     let mut svg = String::new();
     {
         let area = SVGBackend::with_string(&mut svg, (640, 400)).into_drawing_area();
-        tirtrace::chart::draw_bend_chart(&area, &d).unwrap();
+        tirtrace::chart::draw_bend_chart(&area, &d, 1.0).unwrap();
     }
     assert!(svg.contains("leak-free inner radius / diameter"));
     assert!(svg.contains("<polyline") || svg.contains("<path"));
@@ -246,6 +247,6 @@ fn bend_chart_curve_and_drawing() {
     };
     let mut svg = String::new();
     let area = SVGBackend::with_string(&mut svg, (640, 400)).into_drawing_area();
-    let e = tirtrace::chart::draw_bend_chart(&area, &bad).unwrap_err();
+    let e = tirtrace::chart::draw_bend_chart(&area, &bad, 2.0).unwrap_err();
     assert!(e.to_string().contains("diameter_mm"));
 }

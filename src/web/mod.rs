@@ -97,12 +97,13 @@ pub fn bend_fan(design: JsValue, ray_count: u32) -> Result<JsValue, JsError> {
     Ok(out.into())
 }
 
-/// Draw the leak-free bend chart on the canvas with id `canvas_id`.
+/// Draw the leak-free bend chart on the canvas with id `canvas_id`; `pixel_ratio` scales fonts
+/// and lines (pass `devicePixelRatio` with a canvas sized in device pixels).
 #[wasm_bindgen]
-pub fn draw_bend_chart(canvas_id: &str, design: JsValue) -> Result<(), JsError> {
+pub fn draw_bend_chart(canvas_id: &str, design: JsValue, pixel_ratio: f64) -> Result<(), JsError> {
     let d = read_design(design).map_err(|e| js_error(e.into()))?;
     let backend = CanvasBackend::new(canvas_id)
         .ok_or_else(|| JsError::new(&format!("no canvas with id '{canvas_id}' on the page")))?;
     let area = backend.into_drawing_area();
-    crate::chart::draw_bend_chart(&area, &d).map_err(js_error)
+    crate::chart::draw_bend_chart(&area, &d, pixel_ratio).map_err(js_error)
 }

@@ -1,0 +1,149 @@
+// Wiring: load the core (WebAssembly), restore the entries, and on every edit validate,
+// compute, show and draw. All physics comes from the core; this file only passes data along.
+
+import { EntryForm } from './form.js';
+import { clearCanvas, drawBend, sizeCanvasForCore } from './drawing.js';
+import { markStale, showFigures } from './results.js';
+import { EXAMPLE_ENTRIES, designFromEntries, loadEntries, saveEntries } from './state.js';
+
+/** Rays in the drawn fan: enough to see the pattern, few enough to tell them apart. */
+const RAY_COUNT = 25;
+
+const $ = (id) => document.getElementById(id);
+
+const messageOf = (e) => (e instanceof Error ? e.message : String(e ?? 'unknown problem'));
+
+function setStatus(text, kind = 'busy') {
+  const el = $('status');
+  el.textContent = text;
+  el.dataset.kind = kind;
+}
+
+/** Everything the page knows, in one place. */
+const page = {
+  core: null,
+  form: null,
+  entries: null,
+  /** The last valid design with its figures and fan, kept (dimmed) while entries have problems. */
+  lastGood: null,
+};
+
+function drawPictures() {
+  const good = page.lastGood;
+  const bendCanvas = $('bend-drawing');
+  const chartCanvas = $('bend-chart');
+  if (!good) {
+    clearCanvas(bendCanvas);
+    clearCanvas(chartCanvas);
+    return;
+  }
+  const counts = drawBend(bendCanvas, good.fan);
+  $('count-guided').textContent = String(counts.guided);
+  $('count-escaped').textContent = String(counts.escaped);
+  bendCanvas.dataset.guided = String(counts.guided);
+  bendCanvas.dataset.escaped = String(counts.escaped);
+  const { ratio } = sizeCanvasForCore(chartCanvas);
+  try {
+    page.core.draw_bend_chart('bend-chart', good.design, ratio);
+  } catch (e) {
+    page.form.showFormMessage(`The chart could not be drawn: ${messageOf(e)}`);
+  }
+}
+
+/** Validate the current entries; show messages, or the new figures and drawings. */
+function update() {
+  const { core, form, entries } = page;
+  const design = designFromEntries(entries);
+  let problems;
+  try {
+    problems = core.validate(design);
+    if (!Array.isArray(problems)) throw new Error('the check gave no list of problems');
+  } catch (e) {
+    problems = [{ field: '', message: `The entries could not be checked: ${messageOf(e)}` }];
+  }
+  form.showProblems(problems);
+  if (problems.length > 0) {
+    markStale(page.lastGood !== null);
+    form.showHints(entries, null);
+    return;
+  }
+  try {
+    const figures = core.figures(design);
+    const fan = core.bend_fan(design, RAY_COUNT);
+    page.lastGood = { design, figures, fan };
+  } catch (e) {
+    form.showFormMessage(`The figures could not be computed: ${messageOf(e)}`);
+    markStale(page.lastGood !== null);
+    return;
+  }
+  markStale(false);
+  showFigures(page.lastGood.figures, design);
+  form.showHints(entries, page.lastGood.figures);
+  drawPictures();
+}
+
+function onEntry(key, value) {
+  page.entries[key] = value;
+  saveEntries(page.entries);
+  update();
+}
+
+/** Redraw the canvases when their size changes (window resize, rotation, zoom). */
+function watchCanvasSizes() {
+  if (!('ResizeObserver' in window)) return;
+  let pending = false;
+  const observer = new ResizeObserver(() => {
+    if (pending) return;
+    pending = true;
+    requestAnimationFrame(() => {
+      pending = false;
+      drawPictures();
+    });
+  });
+  observer.observe($('bend-drawing'));
+  observer.observe($('bend-chart'));
+}
+
+async function registerServiceWorker() {
+  if (!('serviceWorker' in navigator) || !location.protocol.startsWith('http')) return false;
+  try {
+    await navigator.serviceWorker.register('./sw.js');
+    return true;
+  } catch {
+    return false; // the page still works; it just will not open without the server
+  }
+}
+
+async function start() {
+  try {
+    const core = await import('../pkg/tirtrace.js');
+    await core.default();
+    page.core = core;
+  } catch (e) {
+    setStatus(`The calculator could not start: ${messageOf(e)}`, 'error');
+    return;
+  }
+  let materials;
+  try {
+    materials = page.core.materials();
+  } catch (e) {
+    setStatus(`The material list could not be read: ${messageOf(e)}`, 'error');
+    return;
+  }
+  page.form = new EntryForm(materials, onEntry);
+  page.form.write(loadEntries());
+  page.entries = page.form.read();
+  $('reset').addEventListener('click', () => {
+    page.form.write({ ...EXAMPLE_ENTRIES });
+    page.entries = page.form.read();
+    saveEntries(page.entries);
+    update();
+  });
+  update();
+  watchCanvasSizes();
+  const offline = await registerServiceWorker();
+  setStatus(offline ? 'Ready · also works offline' : 'Ready', 'ready');
+  document.body.dataset.ready = 'true';
+}
+
+start();

@@ -1,0 +1,80 @@
+// The page's state: what the user typed (kept verbatim, so nothing is lost on reload) and the
+// quick-look design document built from it (the same JSON the native command line reads).
+
+const STORAGE_KEY = 'tirtrace.quick-look.entries.v1';
+
+/** The example the page starts from (invented values: a 3 mm acrylic pipe round a 90° bend). */
+export const EXAMPLE_ENTRIES = Object.freeze({
+  material: 'pmma',          // a library id, or 'custom'
+  material_n: '1.49',        // used when material is 'custom'
+  wavelength_nm: '587.6',
+  front: 'air',              // 'air' or 'gel'
+  front_n: '1.46',           // used when front is 'gel'
+  surroundings: 'air',       // 'air', 'water', 'cladding' or 'custom'
+  surroundings_n: '1.402',   // used when surroundings is 'cladding' or 'custom'
+  diameter_mm: '3',
+  launch_half_angle_deg: '30',
+  bend_inner_radius_mm: '6',
+  bend_angle_deg: '90',
+});
+
+/**
+ * Read a number the way a person types it: surrounding spaces, a leading sign, a decimal comma
+ * or point, an exponent. Anything else (empty text included) is NaN, which the core's
+ * validation reports as "not a number" against the field.
+ */
+export function parseNumber(text) {
+  if (typeof text !== 'string') return Number.NaN;
+  let t = text.trim().replace(/\u2212/g, '-');
+  if (!t.includes('.') && (t.match(/,/g) || []).length === 1) t = t.replace(',', '.');
+  if (!/^[+-]?(\d+\.?\d*|\.\d+)([eE][+-]?\d+)?$/.test(t)) return Number.NaN;
+  return Number(t);
+}
+
+function constant(text) {
+  return { custom: { model: 'constant', n: parseNumber(text) } };
+}
+
+/** The quick-look design document for a set of entries (numbers may be NaN while typing). */
+export function designFromEntries(e) {
+  return {
+    version: 1,
+    material: e.material === 'custom' ? constant(e.material_n) : { library: e.material },
+    wavelength_nm: parseNumber(e.wavelength_nm),
+    surroundings:
+      e.surroundings === 'cladding' || e.surroundings === 'custom'
+        ? constant(e.surroundings_n)
+        : { library: e.surroundings },
+    launch_medium: e.front === 'gel' ? constant(e.front_n) : { library: 'air' },
+    diameter_mm: parseNumber(e.diameter_mm),
+    launch_half_angle_deg: parseNumber(e.launch_half_angle_deg),
+    bend_inner_radius_mm: parseNumber(e.bend_inner_radius_mm),
+    bend_angle_deg: parseNumber(e.bend_angle_deg),
+  };
+}
+
+/** Entries restored from this browser's storage, falling back to the example field by field. */
+export function loadEntries() {
+  const entries = { ...EXAMPLE_ENTRIES };
+  try {
+    const saved = JSON.parse(localStorage.getItem(STORAGE_KEY) || 'null');
+    if (saved && typeof saved === 'object') {
+      for (const key of Object.keys(EXAMPLE_ENTRIES)) {
+        if (typeof saved[key] === 'string') entries[key] = saved[key];
+      }
+    }
+  } catch {
+    // Storage unavailable or unreadable: start from the example.
+  }
+  return entries;
+}
+
+/** Keep the entries in this browser. Returns false when storage is unavailable. */
+export function saveEntries(entries) {
+  try {
+    localStorage.setItem(STORAGE_KEY, JSON.stringify(entries));
+    return true;
+  } catch {
+    return false;
+  }
+}

@@ -19,7 +19,7 @@ use rand_core::{Rng, SeedableRng};
 use rand_pcg::Pcg64Mcg;
 use serde::Serialize;
 
-use crate::error::{FieldError, TirError};
+use crate::error::TirError;
 use crate::geometry::{Next, PlacedRoute};
 use crate::interface::{fresnel_reflectance, reflect, refract};
 use crate::scenario::{Flux, Scenario, ScenarioIndices, Section};
@@ -487,7 +487,9 @@ impl Prepared {
         let pool = rayon::ThreadPoolBuilder::new()
             .num_threads(threads)
             .build()
-            .map_err(|e| TirError::Field(FieldError::new("threads", e.to_string())))?;
+            .map_err(|e| {
+                TirError::Field(crate::error::FieldError::new("threads", e.to_string()))
+            })?;
         let batches: Vec<Batch> = pool.install(|| {
             (0..self.batch_count())
                 .into_par_iter()

@@ -10,6 +10,7 @@
 #![warn(missing_docs)]
 
 pub mod chart;
+pub mod check;
 pub mod error;
 pub mod fan;
 pub mod geometry;

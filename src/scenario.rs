@@ -56,6 +56,10 @@ pub struct Guide {
     /// Mounts, clips or glue spots touching the guide.
     #[serde(default, skip_serializing_if = "Vec::is_empty")]
     pub contacts: Vec<Contact>,
+    /// Medium beyond the exit face (a window or lens bonded to it, say); the surroundings when
+    /// absent.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub exit_medium: Option<MaterialChoice>,
 }
 
 /// A guide cross-section.
@@ -369,8 +373,10 @@ impl Default for TraceSettings {
 pub struct ScenarioIndices {
     /// Guide.
     pub n_core: f64,
-    /// Surroundings (also the medium beyond the exit face).
+    /// Surroundings.
     pub n_out: f64,
+    /// Medium beyond the exit face.
+    pub n_exit: f64,
     /// Gap between source and entry face.
     pub n_gap: f64,
     /// Each contact zone's medium, in document order.
@@ -494,15 +500,15 @@ impl Scenario {
                     let across = bend_half_size_mm(section, turn_deg);
                     if let Some(half) = across {
                         // The inner wall must keep a positive radius.
-                        keep!(check_range(
-                            &format!("{p}.radius_mm"),
-                            radius_mm,
-                            half,
-                            false,
-                            1_000_000.0,
-                            true,
-                            " mm (more than half the guide's size across the bend)"
-                        ));
+                        if !(radius_mm > half && radius_mm <= 1_000_000.0) {
+                            errs.push(FieldError::new(
+                                format!("{p}.radius_mm"),
+                                format!(
+                                    "must be > {half} mm (half the guide's size across the bend, so the inner wall keeps a radius) and ≤ 1000000 mm, got {}",
+                                    show(radius_mm)
+                                ),
+                            ));
+                        }
                     }
                     if matches!(section, Section::Rectangular { .. }) && across.is_some() {
                         let r = turn_deg.rem_euclid(90.0);
@@ -793,6 +799,10 @@ impl Scenario {
             let n_core = keep!(g.material.n_rel_air(wl, "guide.material"));
             let n_out = keep!(g.surroundings.n_rel_air(wl, "guide.surroundings"));
             let n_gap = keep!(s.gap_medium.n_rel_air(wl, "source.gap_medium"));
+            let n_exit = match &g.exit_medium {
+                Some(m) => keep!(m.n_rel_air(wl, "guide.exit_medium")),
+                None => n_out,
+            };
             let n_contacts: Vec<Option<f64>> = g
                 .contacts
                 .iter()
@@ -803,7 +813,9 @@ impl Scenario {
                         .n_rel_air(wl, &format!("guide.contacts[{k}].medium")))
                 })
                 .collect();
-            if let (Some(n_core), Some(n_out), Some(n_gap)) = (n_core, n_out, n_gap) {
+            if let (Some(n_core), Some(n_out), Some(n_gap), Some(n_exit)) =
+                (n_core, n_out, n_gap, n_exit)
+            {
                 if n_out >= n_core {
                     errs.push(FieldError::new(
                         "guide.surroundings",
@@ -815,6 +827,7 @@ impl Scenario {
                     indices = Some(ScenarioIndices {
                         n_core,
                         n_out,
+                        n_exit,
                         n_gap,
                         n_contacts: n_contacts.into_iter().flatten().collect(),
                     });

@@ -26,14 +26,20 @@ pub struct Share {
 }
 
 impl Estimate {
-    /// From a batch's count, sum and sum of squares.
-    pub fn from_sums(n: u64, sum: f64, sumsq: f64) -> Estimate {
+    /// From a batch's count and the sum and sum of squares of (x − shift): with the shift near
+    /// the mean (e.g. the first sample) the variance suffers no cancellation, and it is exactly 0
+    /// when every sample equals the shift.
+    pub fn from_shifted_sums(n: u64, shift: f64, sum: f64, sumsq: f64) -> Estimate {
         if n == 0 {
             return Estimate::default();
         }
-        let mean = sum / n as f64;
-        let m2 = (sumsq - sum * mean).max(0.0);
-        Estimate { n, mean, m2 }
+        let d = sum / n as f64;
+        let m2 = (sumsq - sum * d).max(0.0);
+        Estimate {
+            n,
+            mean: shift + d,
+            m2,
+        }
     }
 
     /// Merge another estimate into this one (Chan et al. 1983).

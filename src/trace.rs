@@ -239,10 +239,13 @@ impl Prepared {
         let mut rng = Pcg64Mcg::seed_from_u64(batch_seed(self.scenario.trace.seed, index));
         let mut out = Batch::empty(self);
         let k = out.tallies.len();
+        // Sums of (x − shift) and (x − shift)², shifted by the first ray's contribution, so a
+        // tally on which every ray agrees has exactly zero variance.
         let mut sum = vec![0.0; k];
         let mut sumsq = vec![0.0; k];
+        let mut shift = vec![0.0; k];
         let mut contrib = vec![0.0; k];
-        let (mut rsum, mut rsumsq) = (0.0, 0.0);
+        let (mut rsum, mut rsumsq, mut rshift) = (0.0, 0.0, 0.0);
         for i in 0..count {
             contrib.iter_mut().for_each(|c| *c = 0.0);
             let record = index == 0 && (i as usize) < keep_paths;
@@ -253,20 +256,26 @@ impl Prepared {
             };
             let (fate, on_receiver) =
                 self.trace_ray(&mut rng, &mut contrib, &mut out, path.as_mut());
-            for j in 0..k {
-                sum[j] += contrib[j];
-                sumsq[j] += contrib[j] * contrib[j];
+            if i == 0 {
+                shift.copy_from_slice(&contrib);
+                rshift = on_receiver;
             }
-            rsum += on_receiver;
-            rsumsq += on_receiver * on_receiver;
+            for j in 0..k {
+                let x = contrib[j] - shift[j];
+                sum[j] += x;
+                sumsq[j] += x * x;
+            }
+            let x = on_receiver - rshift;
+            rsum += x;
+            rsumsq += x * x;
             if let Some(points) = path {
                 out.paths.push(Path { fate, points });
             }
         }
         for j in 0..k {
-            out.tallies[j] = Estimate::from_sums(count, sum[j], sumsq[j]);
+            out.tallies[j] = Estimate::from_shifted_sums(count, shift[j], sum[j], sumsq[j]);
         }
-        out.receiver = Estimate::from_sums(count, rsum, rsumsq);
+        out.receiver = Estimate::from_shifted_sums(count, rshift, rsum, rsumsq);
         out.rays = count;
         out
     }
@@ -414,13 +423,13 @@ impl Prepared {
                     let q = ef.point_to_local(g);
                     let ld = ef.dir_to_local(gd);
                     let cos_i = ld.z.clamp(0.0, 1.0);
-                    if uniform(rng) < fresnel_reflectance(cos_i, ix.n_core, ix.n_out) {
+                    if uniform(rng) < fresnel_reflectance(cos_i, ix.n_core, ix.n_exit) {
                         d = placed
                             .frame
                             .dir_to_local(ef.dir_to_global(reflect(ld, DVec3::Z)));
                         continue;
                     }
-                    let od = refract(ld, -DVec3::Z, ix.n_core, ix.n_out).unwrap_or(ld);
+                    let od = refract(ld, -DVec3::Z, ix.n_core, ix.n_exit).unwrap_or(ld);
                     rec(g + ef.dir_to_global(od) * self.exit_half.0.max(self.exit_half.1));
                     contrib[DELIVERED] = w;
                     self.record_delivery(q, od, w, out);
@@ -510,8 +519,14 @@ impl Prepared {
         let sum_shares = |r: std::ops::Range<usize>| -> Share {
             // Totals of several tallies: per-ray contributions are exclusive except absorption,
             // so the variance is bounded by the sum of the standard errors; report that bound.
-            let s: f64 = r.clone().map(|j| batch.tallies[j].mean).sum();
-            let ci: f64 = r.map(|j| batch.tallies[j].share().ci95).sum();
+            // (Folds from +0.0: an empty f64 sum is −0.0.)
+            let s = r
+                .clone()
+                .map(|j| batch.tallies[j].mean)
+                .fold(0.0, |a, b| a + b);
+            let ci = r
+                .map(|j| batch.tallies[j].share().ci95)
+                .fold(0.0, |a, b| a + b);
             Share { share: s, ci95: ci }
         };
         let leaked = sum_shares(FIXED..FIXED + nseg);
@@ -527,7 +542,7 @@ impl Prepared {
             returned: share(RETURNED),
             stopped: share(STOPPED),
         };
-        let budget_sum = batch.tallies.iter().map(|e| e.mean).sum();
+        let budget_sum = batch.tallies.iter().map(|e| e.mean).fold(0.0, |a, b| a + b);
         let segments = self
             .route
             .segments
@@ -563,6 +578,10 @@ impl Prepared {
         TraceReport {
             rays: batch.rays,
             seed: self.scenario.trace.seed,
+            n_core: self.indices.n_core,
+            n_surroundings: self.indices.n_out,
+            n_gap: self.indices.n_gap,
+            n_exit: self.indices.n_exit,
             delivered: share(DELIVERED),
             budget,
             budget_sum,
@@ -758,6 +777,14 @@ pub struct TraceReport {
     pub rays: u64,
     /// Seed used.
     pub seed: u64,
+    /// Guide index at the wavelength (relative to air).
+    pub n_core: f64,
+    /// Surroundings' index.
+    pub n_surroundings: f64,
+    /// Index of the gap between source and entry face.
+    pub n_gap: f64,
+    /// Index beyond the exit face.
+    pub n_exit: f64,
     /// Delivered share with its 95 % half-width.
     pub delivered: Share,
     /// The energy budget.
@@ -782,6 +809,7 @@ pub struct TraceReport {
     pub angular_map: Map,
     /// Leakage along the route.
     pub leak_along_route: RouteProfile,
-    /// Sampled ray paths.
+    /// Sampled ray paths (left out of the JSON when none were asked for).
+    #[serde(skip_serializing_if = "Vec::is_empty")]
     pub paths: Vec<Path>,
 }

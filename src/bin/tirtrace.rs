@@ -1,16 +1,24 @@
-//! tirtrace command line: batch runs of the core on design documents.
+//! tirtrace command line: batch runs of the core on design and scenario documents.
 
-use std::io::Read;
+use std::io::{IsTerminal, Read, Write};
 use std::process::ExitCode;
 
-use clap::{Parser, Subcommand};
+use clap::error::ErrorKind;
+use clap::{Args, Parser, Subcommand};
 use tirtrace::quick::QuickDesign;
+use tirtrace::scenario::Scenario;
+use tirtrace::trace::{Batch, Prepared, TraceReport, BATCH_RAYS};
+use tirtrace::FieldError;
+
+/// Most threads `--threads` accepts.
+const MAX_THREADS: usize = 1024;
 
 #[derive(Parser)]
 #[command(
     name = "tirtrace",
     version,
-    about = "Light-guide calculator: closed-form figures of light pipes and plastic fibres"
+    about = "Light-guide calculator: closed-form figures and Monte Carlo ray traces of light \
+             pipes and plastic fibres"
 )]
 struct Cli {
     #[command(subcommand)]
@@ -27,6 +35,43 @@ enum Command {
     },
     /// List the built-in materials with their sources and wavelength ranges as JSON.
     Materials,
+    /// Validate a scenario and print its closed-form figures (indices, critical angle, NA,
+    /// acceptance, launch, and for every bend its radii and leak-free verdict) as JSON, without
+    /// tracing.
+    Check {
+        /// The scenario document (JSON); `-` reads standard input.
+        file: String,
+    },
+    /// Trace a scenario and print the report (energy budget, per-segment losses, maps) as JSON,
+    /// or the budget and loss tables as CSV.
+    Trace(TraceArgs),
+}
+
+#[derive(Args)]
+struct TraceArgs {
+    /// The scenario document (JSON); `-` reads standard input.
+    file: String,
+    /// Number of rays (overrides the scenario's trace.rays; 1 to 1000000000).
+    #[arg(long, value_name = "N", allow_negative_numbers = true)]
+    rays: Option<u64>,
+    /// Seed of the random sequence (overrides the scenario's trace.seed).
+    #[arg(long, value_name = "N", allow_negative_numbers = true)]
+    seed: Option<u64>,
+    /// Worker threads, 0 for all cores. Results are identical for any thread count.
+    #[arg(
+        long,
+        value_name = "N",
+        default_value_t = 0,
+        allow_negative_numbers = true
+    )]
+    threads: usize,
+    /// Include N sampled ray paths in the JSON report (0 to 4096).
+    #[arg(long, value_name = "N", allow_negative_numbers = true)]
+    paths: Option<usize>,
+    /// Print CSV instead: the budget (mechanism, share, ci95), then the per-segment table, then
+    /// the contacts.
+    #[arg(long)]
+    csv: bool,
 }
 
 fn read_text(file: &str) -> Result<String, String> {
@@ -41,30 +86,249 @@ fn read_text(file: &str) -> Result<String, String> {
     }
 }
 
+/// The first problem, with a count of the others.
+fn first_problem(problems: &[FieldError]) -> String {
+    match problems {
+        [] => "invalid document".to_string(),
+        [first] => first.to_string(),
+        [first, rest @ ..] => format!("{first} (and {} more problem(s))", rest.len()),
+    }
+}
+
+fn read_scenario(file: &str) -> Result<Scenario, String> {
+    let text = read_text(file)?;
+    Scenario::from_json(&text).map_err(|e| e.to_string())
+}
+
+fn check(file: &str) -> Result<String, String> {
+    let scenario = read_scenario(file)?;
+    let figures = tirtrace::check::figures(&scenario).map_err(|p| first_problem(&p))?;
+    serde_json::to_string_pretty(&figures).map_err(|e| e.to_string())
+}
+
+/// The trace report as pretty JSON. The core leaves `paths` out when none were kept; with
+/// `--paths 0` an empty list is printed, so asking for paths always gives the key.
+fn report_json(report: &TraceReport, with_paths: bool) -> Result<String, String> {
+    let mut value = serde_json::to_value(report).map_err(|e| e.to_string())?;
+    if with_paths {
+        if let Some(obj) = value.as_object_mut() {
+            obj.entry("paths")
+                .or_insert_with(|| serde_json::Value::Array(Vec::new()));
+        }
+    }
+    serde_json::to_string_pretty(&value).map_err(|e| e.to_string())
+}
+
+/// A number for the CSV: shortest form that reads back exactly, with −0 written as 0.
+fn csv_num(x: f64) -> f64 {
+    x + 0.0
+}
+
+/// A CSV field: quoted, inner quotes doubled.
+fn csv_text(s: &str) -> String {
+    format!("\"{}\"", s.replace('"', "\"\""))
+}
+
+/// The budget (one row per mechanism), a blank line, the per-segment table, a blank line and
+/// the contacts. Numbers are printed in the shortest form that reads back exactly.
+fn report_csv(report: &TraceReport) -> String {
+    let b = &report.budget;
+    let mut s = String::from("mechanism,share,ci95\n");
+    for (name, share) in [
+        ("delivered", &b.delivered),
+        ("missed_entry", &b.missed_entry),
+        ("reflected_entry", &b.reflected_entry),
+        ("leaked", &b.leaked),
+        ("contact", &b.contact),
+        ("absorbed", &b.absorbed),
+        ("returned", &b.returned),
+        ("stopped", &b.stopped),
+    ] {
+        s += &format!("{name},{},{}\n", csv_num(share.share), csv_num(share.ci95));
+    }
+    s += "\nindex,kind,start_mm,length_mm,leaked,leaked_ci95,absorbed,absorbed_ci95,wall_hits\n";
+    for g in &report.segments {
+        s += &format!(
+            "{},{},{},{},{},{},{},{},{}\n",
+            g.index,
+            g.kind,
+            csv_num(g.start_mm),
+            csv_num(g.length_mm),
+            csv_num(g.leaked.share),
+            csv_num(g.leaked.ci95),
+            csv_num(g.absorbed.share),
+            csv_num(g.absorbed.ci95),
+            g.wall_hits
+        );
+    }
+    s += "\ncontact,segment,lost,lost_ci95\n";
+    for c in &report.contacts {
+        s += &format!(
+            "{},{},{},{}\n",
+            csv_text(&c.name),
+            c.segment,
+            csv_num(c.lost.share),
+            csv_num(c.lost.ci95)
+        );
+    }
+    s.pop(); // `main` adds the final newline.
+    s
+}
+
+/// Trace every batch, `chunk` batches at a time, merging in batch order, so the result is the
+/// same as [`Prepared::trace_all_serial`] for any thread count. `progress` is called after each
+/// chunk with the rays traced so far.
+fn trace_chunked(
+    prepared: &Prepared,
+    threads: usize,
+    keep_paths: usize,
+    mut progress: impl FnMut(u64),
+) -> Result<Batch, String> {
+    let batches = prepared.batch_count();
+    #[cfg(not(target_arch = "wasm32"))]
+    let pool = rayon::ThreadPoolBuilder::new()
+        .num_threads(threads)
+        .build()
+        .map_err(|e| format!("--threads: could not start {threads} threads: {e}"))?;
+    #[cfg(not(target_arch = "wasm32"))]
+    let chunk = 4 * pool.current_num_threads() as u64;
+    #[cfg(target_arch = "wasm32")]
+    let chunk = {
+        let _ = threads;
+        4u64
+    };
+    let mut total: Option<Batch> = None;
+    let mut start = 0u64;
+    while start < batches {
+        let end = (start + chunk).min(batches);
+        #[cfg(not(target_arch = "wasm32"))]
+        let done: Vec<Batch> = {
+            use rayon::prelude::*;
+            pool.install(|| {
+                (start..end)
+                    .into_par_iter()
+                    .map(|b| prepared.trace_batch(b, keep_paths))
+                    .collect()
+            })
+        };
+        #[cfg(target_arch = "wasm32")]
+        let done: Vec<Batch> = (start..end)
+            .map(|b| prepared.trace_batch(b, keep_paths))
+            .collect();
+        for b in done {
+            // Merging into an empty batch copies it, so starting from the first is the same.
+            match total.as_mut() {
+                None => total = Some(b),
+                Some(t) => t.merge(&b),
+            }
+        }
+        progress(total.as_ref().map_or(0, |t| t.rays));
+        start = end;
+    }
+    total.ok_or_else(|| "trace.rays must be ≥ 1".to_string())
+}
+
+fn trace(args: TraceArgs) -> Result<String, String> {
+    let mut scenario = read_scenario(&args.file)?;
+    if let Some(rays) = args.rays {
+        scenario.trace.rays = rays;
+    }
+    if let Some(seed) = args.seed {
+        scenario.trace.seed = seed;
+    }
+    // The options are checked by the scenario's own ranges and reported under their names.
+    let problems: Vec<FieldError> = scenario
+        .problems()
+        .into_iter()
+        .map(|mut p| {
+            if p.field == "trace.rays" && args.rays.is_some() {
+                p.field = "--rays".to_string();
+            }
+            p
+        })
+        .collect();
+    if !problems.is_empty() {
+        return Err(first_problem(&problems));
+    }
+    if args.threads > MAX_THREADS {
+        return Err(format!(
+            "--threads must be ≥ 0 and ≤ {MAX_THREADS} (0 = all cores), got {}",
+            args.threads
+        ));
+    }
+    let max_paths = BATCH_RAYS as usize;
+    if let Some(n) = args.paths.filter(|&n| n > max_paths) {
+        return Err(format!(
+            "--paths must be ≥ 0 and ≤ {max_paths} (paths come from the first batch of rays), got {n}"
+        ));
+    }
+    let prepared = Prepared::new(&scenario).map_err(|e| e.to_string())?;
+    let total_rays = scenario.trace.rays;
+    let show = std::io::stderr().is_terminal();
+    let batch = trace_chunked(&prepared, args.threads, args.paths.unwrap_or(0), |done| {
+        if show {
+            let mut e = std::io::stderr().lock();
+            let _ = write!(e, "\rtirtrace: traced {done} of {total_rays} rays");
+            if done >= total_rays {
+                let _ = writeln!(e);
+            }
+            let _ = e.flush();
+        }
+    })?;
+    let report = prepared.report(&batch);
+    if args.csv {
+        Ok(report_csv(&report))
+    } else {
+        report_json(&report, args.paths.is_some())
+    }
+}
+
 fn run(cli: Cli) -> Result<String, String> {
     match cli.command {
         Command::Figures { file } => {
             let text = read_text(&file)?;
             let design = QuickDesign::from_json(&text).map_err(|e| e.to_string())?;
             let problems = design.problems();
-            if let Some(first) = problems.first() {
-                let more = problems.len() - 1;
-                return Err(if more > 0 {
-                    format!("{first} (and {more} more problem(s))")
-                } else {
-                    first.to_string()
-                });
+            if !problems.is_empty() {
+                return Err(first_problem(&problems));
             }
             let figures = design.figures().map_err(|e| e.to_string())?;
             serde_json::to_string_pretty(&figures).map_err(|e| e.to_string())
         }
         Command::Materials => serde_json::to_string_pretty(&tirtrace::index::library::materials())
             .map_err(|e| e.to_string()),
+        Command::Check { file } => check(&file),
+        Command::Trace(args) => trace(args),
     }
 }
 
 fn main() -> ExitCode {
-    match run(Cli::parse()) {
+    let cli = match Cli::try_parse() {
+        Ok(cli) => cli,
+        Err(e) => {
+            if matches!(e.kind(), ErrorKind::DisplayHelp | ErrorKind::DisplayVersion) {
+                let _ = e.print();
+                return ExitCode::SUCCESS;
+            }
+            if e.kind() == ErrorKind::DisplayHelpOnMissingArgumentOrSubcommand {
+                let _ = e.print();
+                return ExitCode::from(2);
+            }
+            // One line, like every other error: clap's first paragraph without its "error: ".
+            let text = e.render().to_string();
+            let line = text
+                .trim_start()
+                .lines()
+                .take_while(|l| !l.trim().is_empty())
+                .map(str::trim)
+                .collect::<Vec<_>>()
+                .join(" ");
+            let line = line.strip_prefix("error: ").unwrap_or(&line);
+            eprintln!("tirtrace: {line}");
+            return ExitCode::from(2);
+        }
+    };
+    match run(cli) {
         Ok(out) => {
             println!("{out}");
             ExitCode::SUCCESS

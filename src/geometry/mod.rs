@@ -268,6 +268,21 @@ fn quadratic_exit(a: f64, b: f64, c: f64, valid: impl Fn(f64) -> bool) -> Option
     best
 }
 
+/// `sq − r2`, the constant term of a ray–cylinder (or cone) quadratic, but exactly 0 when it is
+/// within the rounding of a computed point (a few ε·(sq + r2)): a start on the wall after a
+/// reflection. Otherwise a start that rounds to just outside, heading in at a grazing angle
+/// (below ~1e-8 rad), makes the discriminant negative: the ray seems to miss the wall it is
+/// on and walks out through it.
+#[inline]
+fn on_wall_snap(sq: f64, r2: f64) -> f64 {
+    let c = sq - r2;
+    if c.abs() <= 16.0 * f64::EPSILON * (sq + r2) {
+        0.0
+    } else {
+        c
+    }
+}
+
 /// First t > 0 at which the ray enters the region q(t) < 0 from outside (q' < 0).
 #[inline]
 fn quadratic_entry(a: f64, b: f64, c: f64) -> Option<f64> {
@@ -314,7 +329,7 @@ impl Placed {
                     let r0 = a0 + k * o.z;
                     let qa = d.x * d.x + d.y * d.y - k * k * d.z * d.z;
                     let qb = o.x * d.x + o.y * d.y - k * r0 * d.z;
-                    let qc = o.x * o.x + o.y * o.y - r0 * r0;
+                    let qc = on_wall_snap(o.x * o.x + o.y * o.y, r0 * r0);
                     if let Some(t) = quadratic_exit(qa, qb, qc, |t| r0 + k * t * d.z > 0.0) {
                         if t < t_end {
                             let p = o + t * d;
@@ -394,7 +409,8 @@ impl Placed {
                     let mut normal = DVec3::ZERO;
                     let r_out = rc + radial_half;
                     let r_in = rc - radial_half;
-                    if let Some(t) = quadratic_exit(alpha, beta, gamma - r_out * r_out, |_| true) {
+                    let qc = on_wall_snap(gamma, r_out * r_out);
+                    if let Some(t) = quadratic_exit(alpha, beta, qc, |_| true) {
                         if t < t_best {
                             t_best = t;
                             let p = o + t * d;
@@ -509,8 +525,24 @@ pub fn torus_exit(o: DVec3, d: DVec3, rc: f64, a: f64, t_hi: f64) -> Option<f64>
     let alpha = d.x * d.x + d.y * d.y;
     let beta = o.x * d.x + o.y * d.y;
     let gamma = o.x * o.x + o.y * o.y;
+    // p(0) = c² − 4 rc² γ is the difference of two numbers of size ~4 rc⁴ that nearly cancel
+    // near the wall. Computed that way its rounding (~ε·rc⁴) buries the shallow dip of a grazing
+    // ray that starts on the wall after a reflection: the sign of p near t = 0 is lost and the
+    // exit just after it is missed (the ray walks out through the wall). So p(0) comes from the
+    // exact factorisation g(0)·h(0), g = (ρ − rc)² + z² − a² = D (D + 2a) with D the distance
+    // to the wall, h = (ρ + rc)² + z² − a²; and a start within rounding of the wall (D no larger
+    // than a few ε·(rc + a), what a computed hit point carries) is taken as exactly on it, p(0) = 0:
+    // otherwise a start that rounds to just outside, heading in at a grazing angle whose dip is
+    // shallower than that rounding, never seems to enter and so never to leave.
+    let rho0 = gamma.sqrt();
+    let dist0 = (rho0 - rc).hypot(o.z) - a;
+    let p0 = if dist0.abs() <= 64.0 * f64::EPSILON * (rc + a) {
+        0.0
+    } else {
+        dist0 * (dist0 + 2.0 * a) * ((rho0 + rc) * (rho0 + rc) + o.z * o.z - a * a)
+    };
     let coeffs = [
-        c * c - 4.0 * rc2 * gamma,
+        p0,
         4.0 * b * c - 8.0 * rc2 * beta,
         4.0 * b * b + 2.0 * c - 4.0 * rc2 * alpha,
         4.0 * b,
@@ -524,9 +556,13 @@ pub fn torus_exit(o: DVec3, d: DVec3, rc: f64, a: f64, t_hi: f64) -> Option<f64>
         let g = (rho - rc) * (rho - rc) + p.z * p.z - a * a;
         let drho = (p.x * d.x + p.y * d.y) / rho;
         let dg = 2.0 * (rho - rc) * drho + 2.0 * p.z * d.z;
+        let ddg = 2.0 * (drho * drho + (rho - rc) * (alpha - drho * drho) / rho + d.z * d.z);
         if dg.abs() > 1e-300 {
             let step = g / dg;
-            if step.abs() < 1e-6 * a {
+            // Take the step only where Newton surely converges (|step|·|g''| ≤ |g'|/2): at a
+            // grazing exit g' nearly vanishes, and a step could cross the dip to the re-entry
+            // or to t < 0 (a wall "hit" behind the ray).
+            if step.abs() < 1e-6 * a && 2.0 * (step * ddg).abs() <= dg.abs() {
                 t -= step;
             }
         }

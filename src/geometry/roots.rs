@@ -128,12 +128,19 @@ pub fn first_upcrossing_quartic(c: &[f64; 5], lo: f64, hi: f64) -> Option<f64> {
     let d = [c[1], 2.0 * c[2], 3.0 * c[3], 4.0 * c[4]];
     let mut crit = [0.0; 4];
     let m = roots_in(&d, lo, hi, &mut crit);
+    // A computed value within Horner's rounding bound (|error| ≤ 2·deg·u·Σ|cₖ||t|ᵏ, u = ε/2)
+    // has no reliable sign. Near a double root that only touches zero the computed values
+    // scatter around 0, and a "positive" one there would be taken for a crossing; so p counts
+    // as positive only beyond that bound (then it truly is), and an up-crossing that starts
+    // within the bound is at the start of its piece.
+    let abs_c = c.map(f64::abs);
+    let noise = |t: f64| 8.0 * f64::EPSILON * eval(&abs_c, t.abs());
     let mut a = lo;
     let mut pa = eval(c, a);
     for b in crit[..m].iter().copied().chain(std::iter::once(hi)) {
         let pb = eval(c, b);
-        if pa <= 0.0 && pb > 0.0 {
-            return Some(polish(c, a, b, pa));
+        if pa <= noise(a) && pb > noise(b) {
+            return Some(if pa > 0.0 { a } else { polish(c, a, b, pa) });
         }
         a = b;
         pa = pb;

@@ -107,3 +107,51 @@ pub fn draw_bend_chart(canvas_id: &str, design: JsValue, pixel_ratio: f64) -> Re
     let area = backend.into_drawing_area();
     crate::chart::draw_bend_chart(&area, &d, pixel_ratio).map_err(js_error)
 }
+
+/// A scenario prepared for tracing, kept alive between calls (one per worker).
+#[wasm_bindgen]
+pub struct Tracer {
+    prepared: crate::trace::Prepared,
+}
+
+#[wasm_bindgen]
+impl Tracer {
+    /// Prepare a scenario given as JSON text; throws with the field path and allowed range on
+    /// bad input.
+    #[wasm_bindgen(constructor)]
+    pub fn new(scenario_json: &str) -> Result<Tracer, JsError> {
+        let scenario = crate::scenario::Scenario::from_json(scenario_json).map_err(js_error)?;
+        let prepared = crate::trace::Prepared::new(&scenario).map_err(js_error)?;
+        Ok(Tracer { prepared })
+    }
+
+    /// Number of batches of the scenario's ray count.
+    pub fn batch_count(&self) -> f64 {
+        self.prepared.batch_count() as f64
+    }
+
+    /// Trace batches `first .. first + count` (merged in order) and return the report.
+    pub fn report(&self, first: f64, count: f64, keep_paths: u32) -> Result<JsValue, JsError> {
+        let batch = self.merged(first, count, keep_paths as usize);
+        to_js(&self.prepared.report(&batch))
+    }
+
+    /// Trace batches `first .. first + count` and return only the number of wall interactions
+    /// (for speed measurements).
+    pub fn wall_interactions(&self, first: f64, count: f64) -> f64 {
+        self.merged(first, count, 0).wall_interactions as f64
+    }
+}
+
+impl Tracer {
+    fn merged(&self, first: f64, count: f64, keep_paths: usize) -> crate::trace::Batch {
+        let total = self.prepared.batch_count();
+        let first = (first.max(0.0) as u64).min(total);
+        let end = (first + count.max(0.0) as u64).min(total);
+        let mut merged = self.prepared.trace_batch(first, keep_paths);
+        for b in first + 1..end {
+            merged.merge(&self.prepared.trace_batch(b, keep_paths));
+        }
+        merged
+    }
+}

@@ -2,6 +2,7 @@
 //! one batch on one thread, and all batches on all threads. Criterion reports time per
 //! iteration and rays per second; wall interactions per ray are printed once so that
 //! interactions per second follow.
+#![allow(clippy::disallowed_methods)] // checks may use std maths; the core uses libm
 
 use criterion::{criterion_group, criterion_main, Criterion, Throughput};
 use tirtrace::scenario::Scenario;

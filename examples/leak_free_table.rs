@@ -2,6 +2,7 @@
 //! few launch half-angles, built in code rather than from a file.
 //!
 //! Run with `cargo run --example leak_free_table`.
+#![allow(clippy::disallowed_methods)] // checks may use std maths; the core uses libm
 
 use tirtrace::index::library::{materials, MaterialChoice};
 use tirtrace::quick::QuickDesign;

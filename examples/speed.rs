@@ -2,6 +2,7 @@
 //! (`benches/wasm_speed.mjs`); `scripts/bench.sh` runs both in one go and prints the ratio.
 //!
 //! Usage: `cargo run --release --example speed -- SCENARIO.json BATCHES`
+#![allow(clippy::disallowed_methods)] // checks may use std maths; the core uses libm
 
 use std::time::Instant;
 

@@ -2,6 +2,7 @@
 //! water-logged soil), trace it and print the budget.
 //!
 //! Run with `cargo run --release --example trace_quick [scenario.json]`.
+#![allow(clippy::disallowed_methods)] // checks may use std maths; the core uses libm
 
 use tirtrace::scenario::Scenario;
 use tirtrace::trace::Prepared;

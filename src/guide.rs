@@ -73,7 +73,7 @@ pub fn source_area_factor(core_radius: f64, source_radius: f64) -> f64 {
     if source_radius <= core_radius {
         1.0
     } else {
-        (core_radius / source_radius).powi(2)
+        (core_radius / source_radius) * (core_radius / source_radius)
     }
 }
 

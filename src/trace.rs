@@ -334,7 +334,8 @@ impl Prepared {
         let mut w = 1.0f64;
         let cap = self.scenario.trace.max_interactions;
         let mut interactions = 0u32;
-        let sin_c2_out = (ix.n_out / ix.n_core).powi(2);
+        let sin_c_out = ix.n_out / ix.n_core;
+        let sin_c2_out = sin_c_out * sin_c_out;
         loop {
             let placed = &segs[seg];
             let next = placed.next(o, d);
@@ -377,7 +378,7 @@ impl Prepared {
                     let tir = if zone.is_none() {
                         sin2_i > sin_c2_out
                     } else {
-                        n_out < ix.n_core && sin2_i > (n_out / ix.n_core).powi(2)
+                        n_out < ix.n_core && sin2_i > (n_out / ix.n_core) * (n_out / ix.n_core)
                     };
                     if tir || uniform(rng) < fresnel_reflectance(cos_i, ix.n_core, n_out) {
                         d = reflect(d, normal);

@@ -1,4 +1,5 @@
 //! The native command line: figures of the example designs, and one-line errors on bad input.
+#![allow(clippy::disallowed_methods)] // checks may use std maths; the core uses libm
 #![cfg(not(target_arch = "wasm32"))]
 
 use std::io::Write;

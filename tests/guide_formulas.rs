@@ -1,5 +1,6 @@
 //! Closed-form guide results: NA, acceptance, Δ, the leak-free bend criterion, coupling,
 //! étendue. Check values: shared/REFERENCES.md §3–§5 with the sources named at each check.
+#![allow(clippy::disallowed_methods)] // checks may use std maths; the core uses libm
 #[cfg(target_arch = "wasm32")]
 use wasm_bindgen_test::wasm_bindgen_test as test;
 #[cfg(target_arch = "wasm32")]

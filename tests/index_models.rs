@@ -1,5 +1,6 @@
 //! Refractive-index models and the material library against published values.
 //! Spot values are those of shared/REFERENCES.md §1, computed there from the cited coefficients.
+#![allow(clippy::disallowed_methods)] // checks may use std maths; the core uses libm
 #[cfg(target_arch = "wasm32")]
 use wasm_bindgen_test::wasm_bindgen_test as test;
 #[cfg(target_arch = "wasm32")]

@@ -2,6 +2,7 @@
 //! Check values: shared/REFERENCES.md §2, computed there in double precision from the Fresnel
 //! equations of W. J. Smith, Modern Optical Engineering, 4th ed., eqs. 11.1–11.2, and M. Born,
 //! E. Wolf, Principles of Optics, §1.5.
+#![allow(clippy::disallowed_methods)] // checks may use std maths; the core uses libm
 #[cfg(target_arch = "wasm32")]
 use wasm_bindgen_test::wasm_bindgen_test as test;
 #[cfg(target_arch = "wasm32")]

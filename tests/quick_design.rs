@@ -1,4 +1,5 @@
 //! The quick-look design document: validation messages, figures, the ray fan and the chart.
+#![allow(clippy::disallowed_methods)] // checks may use std maths; the core uses libm
 #[cfg(target_arch = "wasm32")]
 use wasm_bindgen_test::wasm_bindgen_test as test;
 #[cfg(target_arch = "wasm32")]

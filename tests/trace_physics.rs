@@ -1,5 +1,6 @@
 //! The Monte Carlo tracer against closed-form optics and its own invariants.
 //! Sources are named at each check; shared/REFERENCES.md holds the check values.
+#![allow(clippy::disallowed_methods)] // checks may use std maths; the core uses libm
 #[cfg(target_arch = "wasm32")]
 use wasm_bindgen_test::wasm_bindgen_test as test;
 #[cfg(target_arch = "wasm32")]

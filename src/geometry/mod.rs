@@ -497,7 +497,7 @@ impl Placed {
             } => {
                 let rho = (p.x * p.x + p.y * p.y).sqrt();
                 if self.round {
-                    ((rho - rc).powi(2) + p.z * p.z).sqrt() - radial_half
+                    libm::hypot(rho - rc, p.z) - radial_half
                 } else {
                     ((rho - rc).abs() - radial_half).max(p.z.abs() - axial_half)
                 }
@@ -535,7 +535,7 @@ pub fn torus_exit(o: DVec3, d: DVec3, rc: f64, a: f64, t_hi: f64) -> Option<f64>
     // otherwise a start that rounds to just outside, heading in at a grazing angle whose dip is
     // shallower than that rounding, never seems to enter and so never to leave.
     let rho0 = gamma.sqrt();
-    let dist0 = (rho0 - rc).hypot(o.z) - a;
+    let dist0 = libm::hypot(rho0 - rc, o.z) - a;
     let p0 = if dist0.abs() <= 64.0 * f64::EPSILON * (rc + a) {
         0.0
     } else {

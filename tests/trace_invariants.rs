@@ -1,0 +1,223 @@
+//! Invariants of the tracer on many random valid scenarios: the energy budget sums to 1, every
+//! share is a share, the same seed gives the same result, the thread count does not matter, and
+//! a different seed gives a different sample.
+#![allow(clippy::disallowed_methods)] // checks may use std maths; the core uses libm
+#[cfg(target_arch = "wasm32")]
+use wasm_bindgen_test::wasm_bindgen_test as test;
+#[cfg(target_arch = "wasm32")]
+wasm_bindgen_test::wasm_bindgen_test_configure!(run_in_browser);
+
+use serde_json::{json, Value};
+use tirtrace::scenario::Scenario;
+use tirtrace::trace::Prepared;
+
+struct Rng(u64);
+impl Rng {
+    fn next(&mut self) -> f64 {
+        self.0 = self.0.wrapping_add(0x9E3779B97F4A7C15);
+        let mut z = self.0;
+        z = (z ^ (z >> 30)).wrapping_mul(0xBF58476D1CE4E5B9);
+        z = (z ^ (z >> 27)).wrapping_mul(0x94D049BB133111EB);
+        ((z ^ (z >> 31)) >> 11) as f64 / (1u64 << 53) as f64
+    }
+    fn range(&mut self, lo: f64, hi: f64) -> f64 {
+        lo + (hi - lo) * self.next()
+    }
+    fn pick<'a, T>(&mut self, xs: &'a [T]) -> &'a T {
+        &xs[(self.next() * xs.len() as f64) as usize % xs.len()]
+    }
+}
+
+/// A random valid scenario: round or rectangular, 1–5 segments of every kind, any library
+/// material that has data at the wavelength, contacts, every source kind.
+fn random_scenario(rng: &mut Rng, rays: u64) -> Scenario {
+    let round = rng.next() < 0.5;
+    let (w, h) = (rng.range(0.5, 5.0), rng.range(0.5, 5.0));
+    let section = if round {
+        json!({"round": {"diameter_mm": w}})
+    } else {
+        json!({"rectangular": {"width_mm": w, "height_mm": h}})
+    };
+    let mut half = if round {
+        (w / 2.0, w / 2.0)
+    } else {
+        (w / 2.0, h / 2.0)
+    };
+    let n_seg = 1 + (rng.next() * 5.0) as usize;
+    let mut route = Vec::new();
+    for _ in 0..n_seg {
+        let kind = rng.next();
+        if kind < 0.4 {
+            route.push(json!({"straight": {"length_mm": rng.range(0.5, 30.0)}}));
+        } else if kind < 0.75 {
+            let turn = if round {
+                rng.range(0.0, 360.0)
+            } else {
+                90.0 * (rng.next() * 4.0).floor()
+            };
+            let across = if turn.to_radians().cos().abs() > 0.5 {
+                half.0
+            } else {
+                half.1
+            };
+            route.push(json!({"bend": {"radius_mm": across * rng.range(1.05, 12.0),
+                                        "angle_deg": rng.range(5.0, 180.0), "turn_deg": turn}}));
+        } else {
+            let f = rng.range(0.6, 1.5);
+            let end = if round {
+                half = (half.0 * f, half.0 * f);
+                json!({"round": {"diameter_mm": 2.0 * half.0}})
+            } else {
+                let g = rng.range(0.6, 1.5);
+                half = (half.0 * f, half.1 * g);
+                json!({"rectangular": {"width_mm": 2.0 * half.0, "height_mm": 2.0 * half.1}})
+            };
+            route.push(json!({"taper": {"length_mm": rng.range(1.0, 20.0), "end_section": end}}));
+        }
+    }
+    let material = *rng.pick(&[
+        "pmma",
+        "polycarbonate",
+        "polystyrene",
+        "fused_silica",
+        "pdms",
+    ]);
+    let around = if rng.next() < 0.7 {
+        json!({"library": "air"})
+    } else {
+        json!({"library": "water"})
+    };
+    let mut contacts = Vec::new();
+    if rng.next() < 0.5 {
+        let seg = (rng.next() * n_seg as f64) as usize;
+        let len = match route[seg].as_object().unwrap().iter().next().unwrap() {
+            (k, v) if k == "bend" => {
+                v["radius_mm"].as_f64().unwrap() * v["angle_deg"].as_f64().unwrap().to_radians()
+            }
+            (_, v) => v["length_mm"].as_f64().unwrap(),
+        };
+        let a = rng.range(0.0, 0.5) * len;
+        let from_deg = rng.range(0.0, 300.0);
+        contacts.push(json!({"name": "clip", "segment": seg, "from_mm": a, "to_mm": a + rng.range(0.1, 0.5) * len,
+            "sector_from_deg": from_deg, "sector_to_deg": from_deg + rng.range(10.0, 60.0),
+            "medium": {"custom": {"model": "constant", "n": rng.range(1.3, 1.6)}}}));
+    }
+    let emitter = match (rng.next() * 4.0) as usize {
+        0 => {
+            json!({"led": {"area": {"disk": {"diameter_mm": rng.range(0.1, 3.0)}}, "pattern": "lambertian"}})
+        }
+        1 => json!({"led": {"area": {"square": {"side_mm": rng.range(0.1, 3.0)}},
+                    "pattern": {"half_intensity": {"half_angle_deg": rng.range(5.0, 80.0)}}}}),
+        2 => json!({"led": {"area": {"disk": {"diameter_mm": rng.range(0.1, 3.0)}},
+                    "pattern": {"table": {"points": [[0, 1], [30, 0.9], [60, 0.4], [85, 0.0]]}}}}),
+        _ => {
+            json!({"beam": {"diameter_mm": rng.range(0.1, 3.0), "divergence_half_angle_deg": rng.range(0.0, 40.0)}})
+        }
+    };
+    let v: Value = json!({
+        "version": 1,
+        "guide": {"section": section, "material": {"library": material}, "surroundings": around,
+                  "attenuation_db_per_m": if rng.next() < 0.5 { 0.0 } else { rng.range(0.1, 500.0) },
+                  "contacts": contacts},
+        "route": route,
+        "source": {"emitter": emitter, "wavelength_nm": rng.range(450.0, 650.0),
+                   "gap_mm": rng.range(0.0, 2.0),
+                   "offset_mm": [rng.range(-1.0, 1.0), rng.range(-1.0, 1.0)],
+                   "tilt_deg": rng.range(0.0, 30.0), "tilt_toward_deg": rng.range(0.0, 360.0),
+                   "flux": {"lm": 1.0}},
+        "receiver": {"diameter_mm": rng.range(1.0, 10.0), "distance_mm": rng.range(0.0, 10.0)},
+        "trace": {"rays": rays, "seed": (rng.next() * 1e9) as u64, "max_interactions": 2000}
+    });
+    Scenario::from_json(&v.to_string()).unwrap_or_else(|e| panic!("{e}\n{v}"))
+}
+
+#[test]
+fn budget_sums_to_one_and_shares_are_shares() {
+    let mut rng = Rng(2024);
+    for case in 0..60 {
+        let s = random_scenario(&mut rng, 3000);
+        let problems = s.problems();
+        assert!(problems.is_empty(), "case {case}: {problems:?}");
+        let p = Prepared::new(&s).unwrap();
+        let r = p.report(&p.trace_all_serial(0));
+        assert!(
+            (r.budget_sum - 1.0).abs() < 1e-12,
+            "case {case}: budget sums to {}",
+            r.budget_sum
+        );
+        let b = &r.budget;
+        for (name, x) in [
+            ("delivered", b.delivered),
+            ("missed", b.missed_entry),
+            ("reflected", b.reflected_entry),
+            ("leaked", b.leaked),
+            ("contact", b.contact),
+            ("absorbed", b.absorbed),
+            ("returned", b.returned),
+            ("stopped", b.stopped),
+        ] {
+            assert!((0.0..=1.0).contains(&x.share), "case {case}: {name} {x:?}");
+            assert!(
+                x.ci95.is_finite() && x.ci95 >= 0.0,
+                "case {case}: {name} {x:?}"
+            );
+        }
+        let sum = b.delivered.share
+            + b.missed_entry.share
+            + b.reflected_entry.share
+            + b.leaked.share
+            + b.contact.share
+            + b.absorbed.share
+            + b.returned.share
+            + b.stopped.share;
+        assert!(
+            (sum - 1.0).abs() < 1e-12,
+            "case {case}: mechanisms sum to {sum}"
+        );
+        assert!(r.receiver.unwrap().share <= b.delivered.share + 1e-15);
+        if s.guide.attenuation_db_per_m == 0.0 {
+            assert_eq!(b.absorbed.share, 0.0);
+        }
+    }
+}
+
+#[test]
+fn same_seed_same_result_any_thread_count() {
+    let mut rng = Rng(77);
+    for case in 0..12 {
+        let s = random_scenario(&mut rng, 3 * 4096 + 100);
+        let p = Prepared::new(&s).unwrap();
+        let serial = p.trace_all_serial(5);
+        assert_eq!(
+            serial,
+            p.trace_all_serial(5),
+            "case {case}: not deterministic"
+        );
+        #[cfg(not(target_arch = "wasm32"))]
+        for threads in [1, 2, 3] {
+            assert_eq!(
+                serial,
+                p.trace_all_parallel(threads, 5).unwrap(),
+                "case {case}: {threads} threads"
+            );
+        }
+        // Batches traced out of order and merged in order give the same result.
+        let mut merged = p.trace_batch(0, 5);
+        let rest: Vec<_> = (1..p.batch_count())
+            .rev()
+            .map(|b| p.trace_batch(b, 5))
+            .collect();
+        for b in rest.iter().rev() {
+            merged.merge(b);
+        }
+        assert_eq!(serial, merged, "case {case}: batch order");
+        let mut other = s.clone();
+        other.trace.seed ^= 1;
+        let q = Prepared::new(&other).unwrap();
+        let different = q.trace_all_serial(0);
+        assert_ne!(
+            serial.tallies, different.tallies,
+            "case {case}: seed ignored"
+        );
+    }
+}

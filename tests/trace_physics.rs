@@ -342,3 +342,118 @@ fn outputs_add_up_to_the_delivered_share() {
     assert_eq!(abs.unit, "lm");
     assert!(abs.on_axis_luminance.unwrap() > 0.0);
 }
+
+#[test]
+fn rectangular_bend_criterion_across_width_and_height() {
+    // A rectangular bar's bend walls are two cylinders about the bend axis and two planes
+    // normal to it: neither turns a ray about that axis, so the angular momentum argument of
+    // REFERENCES §4 holds and the criterion is exact with d the size across the bend.
+    let n = tirtrace::index::library::MaterialChoice::library("pmma")
+        .n_rel_air(587.56, "m")
+        .unwrap();
+    let axial = 1.0 / (n - 1.0);
+    for (turn, across) in [(0.0, 3.0), (90.0, 1.5)] {
+        let leak_at = |factor: f64| {
+            let r_in = factor * axial * across;
+            let s = scenario(json!({
+                "version": 1,
+                "guide": { "section": { "rectangular": { "width_mm": 3.0, "height_mm": 1.5 } },
+                           "material": {"library": "pmma"}, "surroundings": {"library": "air"},
+                           "exit_medium": {"library": "pmma"} },
+                "route": [{"straight": {"length_mm": 3}},
+                          {"bend": {"radius_mm": r_in + 0.5 * across, "angle_deg": 90, "turn_deg": turn}},
+                          {"straight": {"length_mm": 3}}],
+                // A beam wider than the bar fills the whole face, out to the inner wall.
+                "source": { "emitter": {"beam": {"diameter_mm": 3.4, "divergence_half_angle_deg": 0}},
+                            "wavelength_nm": 587.56 },
+                "trace": { "rays": 20000, "seed": 4 }
+            }));
+            run(&s).segments[1].leaked
+        };
+        assert_eq!(leak_at(1.01).share, 0.0, "turn {turn}: leak at 1.01×");
+        let l = leak_at(0.9);
+        assert!(
+            l.share > 5.0 * l.ci95 && l.share > 0.005,
+            "turn {turn}: no leak at 0.9×: {l:?}"
+        );
+    }
+}
+
+#[test]
+fn narrowing_taper_obeys_etendue() {
+    // Étendue is conserved in lossless optics (R. Winston, J. C. Miñano, P. Benítez, Nonimaging
+    // Optics, 2005; REFERENCES §5): light entering a face of area A_in from air, filling the
+    // hemisphere, can leave a face of area A_out into air only up to A_out/A_in of it.
+    // A 3 mm PMMA rod narrowing to 1.5 mm: at most a quarter of what entered comes out; the
+    // same taper the other way round (widening) loses nothing to its walls.
+    let taper = |from: f64, to: f64| {
+        scenario(json!({
+            "version": 1,
+            "guide": { "section": { "round": { "diameter_mm": from } },
+                       "material": {"library": "pmma"}, "surroundings": {"library": "air"} },
+            "route": [{"straight": {"length_mm": 5}},
+                      {"taper": {"length_mm": 20, "end_section": {"round": {"diameter_mm": to}}}},
+                      {"straight": {"length_mm": 5}}],
+            "source": { "emitter": {"led": {"area": {"disk": {"diameter_mm": from * 0.999}}, "pattern": "lambertian"}},
+                        "wavelength_nm": 587.56 },
+            "trace": { "rays": 40000, "seed": 8 }
+        }))
+    };
+    let r = run(&taper(3.0, 1.5));
+    let entered = 1.0 - r.budget.missed_entry.share - r.budget.reflected_entry.share;
+    let bound = (1.5f64 / 3.0).powi(2) * entered;
+    assert!(
+        r.delivered.share <= bound + r.delivered.ci95,
+        "{} > étendue bound {bound}",
+        r.delivered.share
+    );
+    assert!(
+        r.delivered.share > 0.5 * bound,
+        "the taper should still pass most of what it can"
+    );
+    // Widening: bond the exit to an index-matched window, else the exit face reflects light back
+    // into the taper, which then narrows for it and lets it out.
+    let mut widening = taper(1.5, 3.0);
+    widening.guide.exit_medium = Some(tirtrace::index::library::MaterialChoice::library("pmma"));
+    let r = run(&widening);
+    assert_eq!(
+        r.budget.leaked.share, 0.0,
+        "a widening taper in air keeps every ray it accepted"
+    );
+}
+
+#[test]
+fn contact_zones() {
+    let text = include_str!("../examples/scenarios/thermostat_status_led.json");
+    let mut s = Scenario::from_json(text).unwrap();
+    s.trace.rays = 20_000;
+    // A contact whose medium is the surroundings changes nothing, ray for ray.
+    let mut same = s.clone();
+    same.guide.contacts[0].medium = tirtrace::index::library::MaterialChoice::library("air");
+    let mut none = s.clone();
+    none.guide.contacts.clear();
+    let (a, b) = (run(&same), run(&none));
+    assert_eq!(a.delivered, b.delivered);
+    assert_eq!(a.budget.contact.share, 0.0);
+    // An index-matched glue spot all round a straight segment takes every ray that meets the
+    // wall there (no total internal reflection, no Fresnel reflection: n_contact = n_core).
+    let mut glued = none.clone();
+    glued.guide.contacts.push(tirtrace::scenario::Contact {
+        name: "glue".into(),
+        segment: 0,
+        from_mm: 0.0,
+        to_mm: 6.0,
+        sector_from_deg: 0.0,
+        sector_to_deg: 360.0,
+        medium: tirtrace::index::library::MaterialChoice::library("pmma"),
+    });
+    let g = run(&glued);
+    assert_eq!(g.segments[0].leaked.share, 0.0);
+    assert!(g.contacts[0].lost.share > 0.3, "{:?}", g.contacts[0].lost);
+    assert!(g.delivered.share < b.delivered.share);
+    // The real clip (polycarbonate, denser than PMMA) on one sector takes a share that is
+    // larger than zero and smaller than the segment's whole wall would.
+    let clip = run(&s);
+    let lost = clip.contacts[0].lost;
+    assert!(lost.share > 3.0 * lost.ci95 && lost.share < 0.5, "{lost:?}");
+}

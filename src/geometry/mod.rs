@@ -78,6 +78,10 @@ pub enum Shape {
         width_axis: DVec3,
         /// The section's height axis at angle 0, in local coordinates.
         height_axis: DVec3,
+        /// sin(phi), cached.
+        sin_phi: f64,
+        /// cos(phi), cached.
+        cos_phi: f64,
     },
 }
 
@@ -205,6 +209,8 @@ impl PlacedRoute {
                             axial_half,
                             width_axis: frame.dir_to_local(n),
                             height_axis: frame.dir_to_local(b),
+                            sin_phi: libm::sin(phi),
+                            cos_phi: libm::cos(phi),
                         },
                         round,
                         frame,
@@ -365,9 +371,10 @@ impl Placed {
             }
             Shape::Bend {
                 rc,
-                phi,
                 radial_half,
                 axial_half,
+                sin_phi,
+                cos_phi,
                 ..
             } => {
                 // End planes: angle 0 (half-plane y = 0, x > 0) and angle phi.
@@ -378,7 +385,7 @@ impl Placed {
                         best = Next::Start { t };
                     }
                 }
-                let (s, c) = (libm::sin(phi), libm::cos(phi));
+                let (s, c) = (sin_phi, cos_phi);
                 let e = DVec3::new(-s, c, 0.0);
                 let de = d.dot(e);
                 if de > 0.0 {
@@ -535,7 +542,7 @@ pub fn torus_exit(o: DVec3, d: DVec3, rc: f64, a: f64, t_hi: f64) -> Option<f64>
     // otherwise a start that rounds to just outside, heading in at a grazing angle whose dip is
     // shallower than that rounding, never seems to enter and so never to leave.
     let rho0 = gamma.sqrt();
-    let dist0 = libm::hypot(rho0 - rc, o.z) - a;
+    let dist0 = ((rho0 - rc) * (rho0 - rc) + o.z * o.z).sqrt() - a;
     let p0 = if dist0.abs() <= 64.0 * f64::EPSILON * (rc + a) {
         0.0
     } else {
@@ -548,24 +555,64 @@ pub fn torus_exit(o: DVec3, d: DVec3, rc: f64, a: f64, t_hi: f64) -> Option<f64>
         4.0 * b,
         1.0,
     ];
-    let mut t = roots::first_upcrossing_quartic(&coeffs, 0.0, t_hi)?;
-    // Polish on g(t) = (ρ − rc)² + z² − a².
-    for _ in 0..2 {
+    let (lo, hi, pa, convex) = match roots::first_upcrossing_bracket(&coeffs, 0.0, t_hi)? {
+        roots::Upcrossing::At(t) => return Some(t),
+        roots::Upcrossing::Between { a, b, pa, convex } => (a, b, pa, convex),
+    };
+    // Find the crossing by safeguarded Newton on g(t) = (ρ − rc)² + z² − a², which has the sign
+    // of the quartic but is far closer to quadratic, so Newton converges in a few steps from
+    // anywhere in the bracket (the quartic's own Newton crawls from a far end).
+    let g = |t: f64| {
         let p = o + t * d;
         let rho = (p.x * p.x + p.y * p.y).sqrt();
         let g = (rho - rc) * (rho - rc) + p.z * p.z - a * a;
+        let dg = 2.0 * (rho - rc) * (p.x * d.x + p.y * d.y) / rho + 2.0 * p.z * d.z;
+        (g, dg)
+    };
+    let (g_lo, _) = g(lo);
+    let (g_hi, _) = g(hi);
+    if !(g_lo <= 0.0 && g_hi > 0.0) {
+        // g and the quartic disagree on a sign within rounding: stay with the quartic.
+        return Some(roots::polish_quartic(&coeffs, lo, hi, pa, convex));
+    }
+    let (mut l, mut h) = (lo, hi);
+    let tol = 1e-15 * (rc + a);
+    // Start from the up-crossing of g's own second-order Taylor model at the bracket start: along
+    // a chord of the tube g is nearly quadratic, so this lands within a hair of the root.
+    let mut t = if convex { hi } else { lo };
+    {
+        let p = o + lo * d;
+        let rho2 = p.x * p.x + p.y * p.y;
+        let rho = rho2.sqrt();
         let drho = (p.x * d.x + p.y * d.y) / rho;
+        let g0 = (rho - rc) * (rho - rc) + p.z * p.z - a * a;
         let dg = 2.0 * (rho - rc) * drho + 2.0 * p.z * d.z;
         let ddg = 2.0 * (drho * drho + (rho - rc) * (alpha - drho * drho) / rho + d.z * d.z);
-        if dg.abs() > 1e-300 {
-            let step = g / dg;
-            // Take the step only where Newton surely converges (|step|·|g''| ≤ |g'|/2): at a
-            // grazing exit g' nearly vanishes, and a step could cross the dip to the re-entry
-            // or to t < 0 (a wall "hit" behind the ray).
-            if step.abs() < 1e-6 * a && 2.0 * (step * ddg).abs() <= dg.abs() {
-                t -= step;
+        let disc = dg * dg - 2.0 * ddg * g0;
+        if ddg > 0.0 && disc >= 0.0 {
+            let guess = lo + (-dg + disc.sqrt()) / ddg;
+            if guess > l && guess < h {
+                t = guess;
             }
         }
+    }
+    for _ in 0..100 {
+        let (gt, dgt) = g(t);
+        if gt > 0.0 {
+            h = t;
+        } else {
+            l = t;
+        }
+        let newton = t - gt / dgt;
+        let next = if dgt != 0.0 && newton > l && newton < h {
+            newton
+        } else {
+            0.5 * (l + h)
+        };
+        if (next - t).abs() <= tol || h - l <= tol {
+            return Some(next);
+        }
+        t = next;
     }
     Some(t)
 }

@@ -19,6 +19,13 @@ fn eval_with_derivative(c: &[f64], t: f64) -> (f64, f64) {
     (p, dp)
 }
 
+/// Σ|cₖ||t|ᵏ: the scale of the rounding error of evaluating `c` at `t`.
+#[inline]
+fn abs_eval(c: &[f64], t: f64) -> f64 {
+    let t = t.abs();
+    c.iter().rev().fold(0.0, |p, &ci| p * t + ci.abs())
+}
+
 /// Evaluate the polynomial at `t`.
 #[inline]
 pub fn eval(c: &[f64], t: f64) -> f64 {
@@ -26,13 +33,22 @@ pub fn eval(c: &[f64], t: f64) -> f64 {
 }
 
 /// The one root of a monotone piece [a, b] with p(a) and p(b) of opposite signs (or zero).
-fn polish(c: &[f64], mut a: f64, mut b: f64, pa: f64) -> f64 {
+fn polish(c: &[f64], a: f64, b: f64, pa: f64) -> f64 {
+    polish_from(c, a, b, pa, 0.5 * (a + b))
+}
+
+/// [`polish`] starting Newton's iteration at `start` (inside [a, b]): from the end where the
+/// function's curvature makes Newton converge monotonically, no step leaves the bracket.
+#[inline]
+fn polish_from(c: &[f64], mut a: f64, mut b: f64, pa: f64, start: f64) -> f64 {
     // Keep `a` on the side where p has the sign of p(a).
     let neg_at_a = pa <= 0.0;
-    let mut t = 0.5 * (a + b);
+    let mut t = start;
     for _ in 0..100 {
         let (p, dp) = eval_with_derivative(c, t);
-        if p == 0.0 {
+        // Done when p is within the rounding of its own evaluation: no further step can tell
+        // the root better (|error| ≤ 2·deg·u·Σ|cₖ||t|ᵏ, u = ε/2).
+        if p.abs() <= 4.0 * f64::EPSILON * abs_eval(c, t) {
             return t;
         }
         if (p < 0.0) == neg_at_a {
@@ -121,13 +137,52 @@ pub fn roots_in(c: &[f64], lo: f64, hi: f64, out: &mut [f64; 4]) -> usize {
     n
 }
 
+/// Where a quartic first goes from ≤ 0 to > 0 (see [`first_upcrossing_bracket`]).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum Upcrossing {
+    /// Exactly here (the piece starts within rounding of zero, already rising).
+    At(f64),
+    /// Somewhere in (a, b], the only up-crossing there; p(a) = `pa` ≤ 0 < p(b).
+    Between {
+        /// Start of the bracket.
+        a: f64,
+        /// End of the bracket.
+        b: f64,
+        /// p(a).
+        pa: f64,
+        /// Whether p is convex on the bracket (Newton converges monotonically from b), else
+        /// concave (from a).
+        convex: bool,
+    },
+}
+
 /// The first t in (lo, hi] where the quartic `c` (c[4] > 0) goes from ≤ 0 to > 0: where a ray
 /// inside the region p < 0 leaves it. `None` when it stays inside (or only touches the boundary)
 /// up to `hi`.
 pub fn first_upcrossing_quartic(c: &[f64; 5], lo: f64, hi: f64) -> Option<f64> {
-    let d = [c[1], 2.0 * c[2], 3.0 * c[3], 4.0 * c[4]];
-    let mut crit = [0.0; 4];
-    let m = roots_in(&d, lo, hi, &mut crit);
+    Some(match first_upcrossing_bracket(c, lo, hi)? {
+        Upcrossing::At(t) => t,
+        Upcrossing::Between { a, b, pa, convex } => polish_quartic(c, a, b, pa, convex),
+    })
+}
+
+/// Polish the up-crossing of a bracket from [`first_upcrossing_bracket`] on the quartic itself.
+pub fn polish_quartic(c: &[f64; 5], a: f64, b: f64, pa: f64, convex: bool) -> f64 {
+    polish_from(c, a, b, pa, if convex { b } else { a })
+}
+
+/// Bracket the first t in (lo, hi] where the quartic `c` (c[4] > 0) goes from ≤ 0 to > 0.
+///
+/// The roots of p'' (a quadratic, in closed form) split [lo, hi] into at most three pieces on
+/// which p is convex or concave. On such a piece an up-crossing is unique, and it exists iff
+/// p(a) ≤ 0 < p(b) — except on a concave piece with both ends ≤ 0 (its maximum may poke above
+/// 0) and a convex piece starting above 0 (its minimum may dip below): only then is the extremum
+/// found, as the one root of the monotone p' on that piece.
+pub fn first_upcrossing_bracket(c: &[f64; 5], lo: f64, hi: f64) -> Option<Upcrossing> {
+    let d1 = [c[1], 2.0 * c[2], 3.0 * c[3], 4.0 * c[4]];
+    let d2 = [2.0 * c[2], 6.0 * c[3], 12.0 * c[4]];
+    let mut infl = [0.0; 4];
+    let m = roots_in(&d2, lo, hi, &mut infl);
     // A computed value within Horner's rounding bound (|error| ≤ 2·deg·u·Σ|cₖ||t|ᵏ, u = ε/2)
     // has no reliable sign. Near a double root that only touches zero the computed values
     // scatter around 0, and a "positive" one there would be taken for a crossing; so p counts
@@ -135,12 +190,60 @@ pub fn first_upcrossing_quartic(c: &[f64; 5], lo: f64, hi: f64) -> Option<f64> {
     // within the bound is at the start of its piece.
     let abs_c = c.map(f64::abs);
     let noise = |t: f64| 8.0 * f64::EPSILON * eval(&abs_c, t.abs());
+    // The extremum of p on a piece [a, b] where p' is monotone, if p' changes sign there.
+    let extremum = |a: f64, b: f64| -> Option<f64> {
+        let (da, db) = (eval(&d1, a), eval(&d1, b));
+        ((da < 0.0 && db > 0.0) || (da > 0.0 && db < 0.0)).then(|| polish(&d1, a, b, da))
+    };
     let mut a = lo;
     let mut pa = eval(c, a);
-    for b in crit[..m].iter().copied().chain(std::iter::once(hi)) {
+    for b in infl[..m].iter().copied().chain(std::iter::once(hi)) {
         let pb = eval(c, b);
-        if pa <= noise(a) && pb > noise(b) {
-            return Some(if pa > 0.0 { a } else { polish(c, a, b, pa) });
+        let (na, nb) = (noise(a), noise(b));
+        let convex = eval(&d2, 0.5 * (a + b)) >= 0.0;
+        if pa <= na && pb > nb {
+            // Newton converges monotonically from b on a convex piece (the tangent lies below
+            // the curve) and from a on a concave one (p' > 0 there, tangent above the curve).
+            return Some(if pa > 0.0 {
+                Upcrossing::At(a)
+            } else {
+                Upcrossing::Between { a, b, pa, convex }
+            });
+        }
+        if pa <= na && !convex {
+            // Both ends inside on a concave piece: does the maximum get out?
+            if let Some(t) = extremum(a, b) {
+                let pt = eval(c, t);
+                if pt > noise(t) {
+                    return Some(if pa > 0.0 {
+                        Upcrossing::At(a)
+                    } else {
+                        Upcrossing::Between {
+                            a,
+                            b: t,
+                            pa,
+                            convex: false,
+                        }
+                    });
+                }
+            }
+        } else if pa > na && convex && pb > nb {
+            // Outside at both ends on a convex piece: does the minimum get back inside?
+            if let Some(t) = extremum(a, b) {
+                let pt = eval(c, t);
+                if pt <= noise(t) {
+                    return Some(if pt > 0.0 {
+                        Upcrossing::At(t)
+                    } else {
+                        Upcrossing::Between {
+                            a: t,
+                            b,
+                            pa: pt,
+                            convex: true,
+                        }
+                    });
+                }
+            }
         }
         a = b;
         pa = pb;

@@ -60,8 +60,6 @@ pub enum Fate {
     Leaked,
     /// Lost into a contact zone.
     Contact,
-    /// Absorbed (only when absorption took most of its weight; paths keep going otherwise).
-    Absorbed,
     /// Left back through the entry face.
     Returned,
     /// Stopped by the interaction cap.
@@ -334,6 +332,7 @@ impl Prepared {
         let mut w = 1.0f64;
         let cap = self.scenario.trace.max_interactions;
         let mut interactions = 0u32;
+        let mut seg_path = 0.0f64;
         let sin_c_out = ix.n_out / ix.n_core;
         let sin_c2_out = sin_c_out * sin_c_out;
         loop {
@@ -342,14 +341,29 @@ impl Prepared {
             let t = match next {
                 Next::Wall { t, .. } | Next::Start { t } | Next::End { t } => t,
             };
-            if self.alpha_per_mm > 0.0 {
-                let f = libm::exp(-self.alpha_per_mm * t);
-                contrib[FIXED + nseg + seg] += w * (1.0 - f);
-                w *= f;
-            }
+            // Beer–Lambert: the path in this segment is summed and its attenuation applied once,
+            // when the ray leaves the segment or ends (e^(−αL₁)·e^(−αL₂) = e^(−α(L₁+L₂))).
+            seg_path += t;
             o += t * d;
             interactions += 1;
+            // `absorb_last!` where the ray ends, `absorb!` where it goes on in another segment.
+            macro_rules! absorb_last {
+                () => {
+                    if self.alpha_per_mm > 0.0 && seg_path > 0.0 {
+                        let f = libm::exp(-self.alpha_per_mm * seg_path);
+                        contrib[FIXED + nseg + seg] += w * (1.0 - f);
+                        w *= f;
+                    }
+                };
+            }
+            macro_rules! absorb {
+                () => {
+                    absorb_last!();
+                    seg_path = 0.0;
+                };
+            }
             if interactions > cap {
+                absorb_last!();
                 rec(placed.frame.point_to_global(o));
                 contrib[STOPPED] = w;
                 return (Fate::Stopped, 0.0);
@@ -385,6 +399,7 @@ impl Prepared {
                         continue;
                     }
                     // Leaves the guide here.
+                    absorb_last!();
                     let s = placed.s_start_mm + placed.along_mm(o);
                     let bin = ((s / self.route.length_mm) * ROUTE_BINS as f64) as usize;
                     out.route_leak[bin.min(ROUTE_BINS - 1)] += w;
@@ -402,6 +417,7 @@ impl Prepared {
                     };
                 }
                 Next::End { .. } if seg + 1 < nseg => {
+                    absorb!();
                     let g = placed.frame.point_to_global(o);
                     let gd = placed.frame.dir_to_global(d);
                     seg += 1;
@@ -409,6 +425,7 @@ impl Prepared {
                     d = segs[seg].frame.dir_to_local(gd);
                 }
                 Next::Start { .. } if seg > 0 => {
+                    absorb!();
                     let g = placed.frame.point_to_global(o);
                     let gd = placed.frame.dir_to_global(d);
                     seg -= 1;
@@ -432,6 +449,7 @@ impl Prepared {
                     }
                     let od = refract(ld, -DVec3::Z, ix.n_core, ix.n_exit).unwrap_or(ld);
                     rec(g + ef.dir_to_global(od) * self.exit_half.0.max(self.exit_half.1));
+                    absorb_last!();
                     contrib[DELIVERED] = w;
                     self.record_delivery(q, od, w, out);
                     let on_receiver = match self.scenario.receiver {
@@ -461,6 +479,7 @@ impl Prepared {
                     }
                     let od = refract(gd, DVec3::Z, ix.n_core, ix.n_gap).unwrap_or(gd);
                     rec(g + od);
+                    absorb_last!();
                     contrib[RETURNED] = w;
                     return (Fate::Returned, 0.0);
                 }
@@ -642,7 +661,7 @@ impl Prepared {
             delivered,
             peak_intensity: peak,
             on_axis_intensity: on_axis,
-            on_axis_luminance: if unit == "lm" {
+            mean_exit_luminance: if unit == "lm" {
                 Some(on_axis / area_m2)
             } else {
                 None
@@ -765,8 +784,9 @@ pub struct Absolute {
     pub peak_intensity: f64,
     /// Intensity along the exit axis (first 1° ring).
     pub on_axis_intensity: f64,
-    /// On-axis intensity over the exit-face area, cd/m² (luminous input only).
-    pub on_axis_luminance: Option<f64>,
+    /// Mean luminance of the exit face seen along its axis: on-axis intensity over the
+    /// exit-face area, cd/m² (luminous input only).
+    pub mean_exit_luminance: Option<f64>,
     /// Flux on the receiver.
     pub receiver: Option<f64>,
 }

@@ -340,7 +340,7 @@ fn outputs_add_up_to_the_delivered_share() {
     let abs = r.absolute.unwrap();
     assert!((abs.delivered - 1.2 * d).abs() < 1e-12);
     assert_eq!(abs.unit, "lm");
-    assert!(abs.on_axis_luminance.unwrap() > 0.0);
+    assert!(abs.mean_exit_luminance.unwrap() > 0.0);
 }
 
 #[test]

@@ -604,12 +604,11 @@ pub fn torus_exit(o: DVec3, d: DVec3, rc: f64, a: f64, t_hi: f64) -> Option<f64>
             l = t;
         }
         let newton = t - gt / dgt;
-        let next = if dgt != 0.0 && newton > l && newton < h {
-            newton
-        } else {
-            0.5 * (l + h)
-        };
-        if (next - t).abs() <= tol || h - l <= tol {
+        let newton_ok = dgt != 0.0 && newton > l && newton < h;
+        let next = if newton_ok { newton } else { 0.5 * (l + h) };
+        // Newton converges quadratically: once a step is below 1e-8 of the tube radius, the
+        // error after it is far below rounding, so `next` is the root to machine precision.
+        if (newton_ok && (next - t).abs() <= 1e-8 * a) || (next - t).abs() <= tol || h - l <= tol {
             return Some(next);
         }
         t = next;

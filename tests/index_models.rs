@@ -182,6 +182,30 @@ fn cauchy_and_custom_models() {
     };
     let want = 1.47 + 0.004 / 0.25 + 0.0001 / 0.0625;
     assert!((m.n(0.5) - want).abs() < 1e-15);
+    // The two Sellmeier forms agree: Cᵢ = λᵢ² (Malitson's coefficients in both forms).
+    let by_wavelength = IndexModel::SellmeierWavelengths {
+        b: vec![0.6961663, 0.4079426, 0.8974794],
+        lambda_um: vec![0.0684043, 0.1162414, 9.896161],
+    };
+    let by_c = IndexModel::Sellmeier {
+        b: vec![0.6961663, 0.4079426, 0.8974794],
+        c_um2: vec![
+            0.0684043f64.powi(2),
+            0.1162414f64.powi(2),
+            9.896161f64.powi(2),
+        ],
+    };
+    for wl in [0.3, 0.5876, 1.0, 3.0] {
+        assert!((by_wavelength.n(wl) - by_c.n(wl)).abs() < 1e-14);
+    }
+    let bad = MaterialChoice::Custom(IndexModel::SellmeierWavelengths {
+        b: vec![1.0],
+        lambda_um: vec![f64::NAN],
+    });
+    assert_eq!(
+        bad.n_rel_air(550.0, "material").unwrap_err().field,
+        "material.custom.lambda_um[0]"
+    );
     // A custom Sellmeier identical to the library's fused silica gives the same index.
     let silica = library::find("fused_silica").unwrap().model;
     let custom = MaterialChoice::Custom(silica.clone());

@@ -68,13 +68,9 @@ pub fn materials() -> Vec<Material> {
         Material {
             id: "fused_silica",
             name: "Fused silica",
-            model: IndexModel::Sellmeier {
+            model: IndexModel::SellmeierWavelengths {
                 b: vec![0.6961663, 0.4079426, 0.8974794],
-                c_um2: vec![
-                    0.0684043 * 0.0684043,
-                    0.1162414 * 0.1162414,
-                    9.896161 * 9.896161,
-                ],
+                lambda_um: vec![0.0684043, 0.1162414, 9.896161],
             },
             min_nm: 210.0,
             max_nm: 3710.0,

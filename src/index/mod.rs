@@ -33,6 +33,14 @@ pub enum IndexModel {
         /// Resonance terms Cᵢ in µm².
         c_um2: Vec<f64>,
     },
+    /// Sellmeier with resonance wavelengths: n² − 1 = Σ Bᵢ λ² / (λ² − λᵢ²), λ and λᵢ in µm (the
+    /// form Malitson published; Cᵢ = λᵢ² gives the form above).
+    SellmeierWavelengths {
+        /// Dimensionless oscillator strengths Bᵢ.
+        b: Vec<f64>,
+        /// Resonance wavelengths λᵢ in µm.
+        lambda_um: Vec<f64>,
+    },
     /// Polynomial form of G. Beadie et al., Appl. Opt. 54, F139 (2015):
     /// n² = A0 + A1λ² + A2λ⁴ + A3λ⁻² + A4λ⁻⁴ + A5λ⁻⁶ + A6λ⁻⁸, λ in µm.
     BeadiePolynomial {
@@ -64,6 +72,19 @@ impl IndexModel {
                     + b.iter()
                         .zip(c_um2)
                         .map(|(bi, ci)| bi * l2 / (l2 - ci))
+                        .sum::<f64>();
+                if n2 > 0.0 {
+                    n2.sqrt()
+                } else {
+                    f64::NAN
+                }
+            }
+            IndexModel::SellmeierWavelengths { b, lambda_um } => {
+                // n² − 1 = Σ Bᵢ λ² / (λ² − λᵢ²)
+                let n2 = 1.0
+                    + b.iter()
+                        .zip(lambda_um)
+                        .map(|(bi, li)| bi * l2 / (l2 - li * li))
                         .sum::<f64>();
                 if n2 > 0.0 {
                     n2.sqrt()
@@ -116,6 +137,20 @@ impl IndexModel {
                 }
                 finite("b", b)?;
                 finite("c_um2", c_um2)?;
+            }
+            IndexModel::SellmeierWavelengths { b, lambda_um } => {
+                if b.is_empty() || b.len() > 6 || b.len() != lambda_um.len() {
+                    return Err(FieldError::new(
+                        format!("{path}.b"),
+                        format!(
+                            "needs 1 to 6 terms and as many lambda_um terms, got {} and {}",
+                            b.len(),
+                            lambda_um.len()
+                        ),
+                    ));
+                }
+                finite("b", b)?;
+                finite("lambda_um", lambda_um)?;
             }
             IndexModel::BeadiePolynomial { a } => finite("a", a)?,
             IndexModel::Cauchy { a, b_um2, c_um4 } => finite("a", &[*a, *b_um2, *c_um4])?,

@@ -1,11 +1,25 @@
-//! The native command line: figures of the example designs, and one-line errors on bad input.
+//! The native command line: `trace` (every example scenario, budgets summing to 1, results
+//! independent of the thread count, seeds that decide the result, the CSV form), `check` (the
+//! closed-form bend figures against the leak-free criterion), `figures`, `materials`, and
+//! one-line errors on bad input.
 #![allow(clippy::disallowed_methods)] // checks may use std maths; the core uses libm
 #![cfg(not(target_arch = "wasm32"))]
 
 use std::io::Write;
+use std::path::PathBuf;
 use std::process::{Command, Stdio};
 
-fn tirtrace(args: &[&str], stdin: &str) -> (bool, String, String) {
+use serde_json::Value;
+use tirtrace::scenario::Scenario;
+use tirtrace::trace::Prepared;
+
+const THERMOSTAT: &str = "examples/scenarios/thermostat_status_led.json";
+const BIKE: &str = "examples/scenarios/bike_light_charge_indicator.json";
+const SOIL: &str = "examples/scenarios/soil_sensor_ambient_light_window.json";
+const FIBRE: &str = "examples/scenarios/clad_plastic_fibre.json";
+
+/// Run the binary; (success, exit code, stdout, stderr).
+fn tirtrace(args: &[&str], stdin: &str) -> (bool, Option<i32>, String, String) {
     let mut child = Command::new(env!("CARGO_BIN_EXE_tirtrace"))
         .args(args)
         .stdin(Stdio::piped())
@@ -22,17 +36,470 @@ fn tirtrace(args: &[&str], stdin: &str) -> (bool, String, String) {
     let out = child.wait_with_output().unwrap();
     (
         out.status.success(),
+        out.status.code(),
         String::from_utf8(out.stdout).unwrap(),
         String::from_utf8(out.stderr).unwrap(),
     )
 }
+
+/// Run and insist on success with nothing on stderr (progress is shown only on a terminal).
+fn ok_stdout(args: &[&str], stdin: &str) -> String {
+    let (ok, _, out, err) = tirtrace(args, stdin);
+    assert!(ok, "{args:?}: {err}");
+    assert!(err.is_empty(), "{args:?} wrote to stderr: {err}");
+    out
+}
+
+fn scenarios() -> Vec<PathBuf> {
+    let mut v: Vec<PathBuf> = std::fs::read_dir("examples/scenarios")
+        .unwrap()
+        .map(|e| e.unwrap().path())
+        .filter(|p| p.extension().is_some_and(|e| e == "json"))
+        .collect();
+    v.sort();
+    v
+}
+
+fn read_scenario(path: &str) -> Scenario {
+    Scenario::from_json(&std::fs::read_to_string(path).unwrap()).unwrap()
+}
+
+fn f(v: &Value) -> f64 {
+    v.as_f64().unwrap_or_else(|| panic!("not a number: {v}"))
+}
+
+#[test]
+fn the_four_demo_scenarios_are_there() {
+    let names: Vec<String> = scenarios()
+        .iter()
+        .map(|p| p.file_name().unwrap().to_string_lossy().into_owned())
+        .collect();
+    for want in [THERMOSTAT, BIKE, SOIL, FIBRE] {
+        let file = want.rsplit('/').next().unwrap();
+        assert!(names.iter().any(|n| n == file), "{file} missing: {names:?}");
+    }
+}
+
+#[test]
+fn every_example_scenario_checks_and_traces_with_a_closed_budget() {
+    for path in scenarios() {
+        let p = path.to_str().unwrap();
+        // check prints exactly the core's closed-form figures.
+        let out = ok_stdout(&["check", p], "");
+        let v: Value = serde_json::from_str(&out).unwrap();
+        let figures = tirtrace::check::figures(&read_scenario(p)).unwrap();
+        assert_eq!(v, serde_json::to_value(&figures).unwrap(), "{p}");
+
+        let out = ok_stdout(&["trace", p, "--rays", "20000"], "");
+        let v: Value = serde_json::from_str(&out).unwrap();
+        assert_eq!(v["rays"], 20000, "{p}");
+        assert!(v.get("paths").is_none(), "{p}: paths printed unasked");
+        let sum = f(&v["budget_sum"]);
+        assert!((sum - 1.0).abs() <= 1e-9, "{p}: budget_sum {sum}");
+        // The budget's mechanisms account for every tally.
+        let shares: f64 = v["budget"]
+            .as_object()
+            .unwrap()
+            .values()
+            .map(|s| f(&s["share"]))
+            .sum();
+        assert!(
+            (shares - 1.0).abs() <= 1e-9,
+            "{p}: budget shares sum {shares}"
+        );
+        let nseg = read_scenario(p).route.len();
+        assert_eq!(v["segments"].as_array().unwrap().len(), nseg, "{p}");
+    }
+}
+
+#[test]
+fn stdin_gives_the_same_as_the_file() {
+    let text = std::fs::read_to_string(BIKE).unwrap();
+    assert_eq!(
+        ok_stdout(&["check", "-"], &text),
+        ok_stdout(&["check", BIKE], "")
+    );
+    assert_eq!(
+        ok_stdout(&["trace", "-", "--rays", "3000"], &text),
+        ok_stdout(&["trace", BIKE, "--rays", "3000"], "")
+    );
+}
+
+#[test]
+fn thread_count_does_not_change_a_byte_and_matches_the_core() {
+    // 9000 rays are three batches of 4096, so two threads really split the work.
+    let args = |t: &'static str| ["trace", THERMOSTAT, "--rays", "9000", "--threads", t];
+    let one = ok_stdout(&args("1"), "");
+    let two = ok_stdout(&args("2"), "");
+    assert_eq!(one, two);
+    let all = ok_stdout(&args("0"), "");
+    assert_eq!(one, all);
+
+    // The same as the core traced serially, with the file's seed.
+    let mut s = read_scenario(THERMOSTAT);
+    s.trace.rays = 9000;
+    let prepared = Prepared::new(&s).unwrap();
+    let report = prepared.report(&prepared.trace_all_serial(0));
+    let mut want = serde_json::to_value(&report).unwrap();
+    want.as_object_mut().unwrap().remove("paths");
+    let got: Value = serde_json::from_str(&one).unwrap();
+    assert_eq!(got, want);
+    assert_eq!(got["seed"], s.trace.seed);
+}
+
+#[test]
+fn the_seed_decides_the_result() {
+    let run = |seed: &str| ok_stdout(&["trace", BIKE, "--rays", "5000", "--seed", seed], "");
+    let a = run("21");
+    assert_eq!(a, run("21"));
+    let b = run("22");
+    assert_ne!(a, b);
+    let (va, vb): (Value, Value) = (
+        serde_json::from_str(&a).unwrap(),
+        serde_json::from_str(&b).unwrap(),
+    );
+    assert_eq!(va["seed"], 21);
+    assert_eq!(vb["seed"], 22);
+    assert_ne!(va["budget"], vb["budget"]);
+}
+
+#[test]
+fn paths_are_printed_only_when_asked() {
+    let out = ok_stdout(&["trace", THERMOSTAT, "--rays", "100", "--paths", "5"], "");
+    let v: Value = serde_json::from_str(&out).unwrap();
+    let paths = v["paths"].as_array().unwrap();
+    assert_eq!(paths.len(), 5);
+    assert!(paths
+        .iter()
+        .all(|p| p["points"].as_array().unwrap().len() >= 2));
+}
+
+/// The CSV's sections, split at blank lines, each as rows of fields.
+fn csv_sections(text: &str) -> Vec<Vec<Vec<String>>> {
+    let split_row = |line: &str| -> Vec<String> {
+        // Fields are plain, or quoted with inner quotes doubled.
+        let mut fields = Vec::new();
+        let mut cur = String::new();
+        let mut quoted = false;
+        let mut chars = line.chars().peekable();
+        while let Some(c) = chars.next() {
+            match (c, quoted) {
+                ('"', true) if chars.peek() == Some(&'"') => {
+                    cur.push('"');
+                    chars.next();
+                }
+                ('"', _) => quoted = !quoted,
+                (',', false) => fields.push(std::mem::take(&mut cur)),
+                _ => cur.push(c),
+            }
+        }
+        assert!(!quoted, "unterminated quote in {line}");
+        fields.push(cur);
+        fields
+    };
+    text.trim_end_matches('\n')
+        .split("\n\n")
+        .map(|sec| sec.lines().map(split_row).collect())
+        .collect()
+}
+
+#[test]
+fn csv_rows_parse_and_the_budget_sums_to_one() {
+    for path in [THERMOSTAT, FIBRE] {
+        let csv = ok_stdout(&["trace", path, "--rays", "6000", "--csv"], "");
+        let json: Value =
+            serde_json::from_str(&ok_stdout(&["trace", path, "--rays", "6000"], "")).unwrap();
+        let secs = csv_sections(&csv);
+        assert_eq!(secs.len(), 3, "{path}: {csv}");
+
+        let budget = &secs[0];
+        assert_eq!(budget[0], ["mechanism", "share", "ci95"]);
+        assert_eq!(budget.len(), 1 + 8);
+        let mut sum = 0.0;
+        for row in &budget[1..] {
+            assert_eq!(row.len(), 3, "{row:?}");
+            let share: f64 = row[1].parse().unwrap();
+            let ci: f64 = row[2].parse().unwrap();
+            assert!((0.0..=1.0).contains(&share) && ci >= 0.0, "{row:?}");
+            // The same figures as the JSON report.
+            assert_eq!(share, f(&json["budget"][&row[0]]["share"]), "{row:?}");
+            sum += share;
+        }
+        assert!((sum - 1.0).abs() <= 1e-9, "{path}: shares sum to {sum}");
+
+        let segs = &secs[1];
+        assert_eq!(
+            segs[0],
+            [
+                "index",
+                "kind",
+                "start_mm",
+                "length_mm",
+                "leaked",
+                "leaked_ci95",
+                "absorbed",
+                "absorbed_ci95",
+                "wall_hits"
+            ]
+        );
+        let route = read_scenario(path).route;
+        assert_eq!(segs.len(), 1 + route.len());
+        for (i, row) in segs[1..].iter().enumerate() {
+            assert_eq!(row.len(), 9, "{row:?}");
+            assert_eq!(row[0].parse::<usize>().unwrap(), i);
+            assert!(["straight", "bend", "taper"].contains(&row[1].as_str()));
+            for x in &row[2..8] {
+                let x: f64 = x.parse().unwrap();
+                assert!(x.is_finite() && x >= 0.0, "{row:?}");
+            }
+            // The segment length is the route's centre-line length.
+            let len: f64 = row[3].parse().unwrap();
+            assert!((len - route[i].length_mm()).abs() < 1e-9, "{row:?}");
+            row[8].parse::<u64>().unwrap();
+        }
+
+        let contacts = &secs[2];
+        assert_eq!(contacts[0], ["contact", "segment", "lost", "lost_ci95"]);
+        let zones = &read_scenario(path).guide.contacts;
+        assert_eq!(contacts.len(), 1 + zones.len());
+        for (row, zone) in contacts[1..].iter().zip(zones) {
+            assert_eq!(row[0], zone.name);
+            assert_eq!(row[1].parse::<usize>().unwrap(), zone.segment);
+            row[2].parse::<f64>().unwrap();
+            row[3].parse::<f64>().unwrap();
+        }
+    }
+}
+
+/// A failing run: non-zero exit, nothing on stdout, exactly one `tirtrace: ` line on stderr.
+fn one_line_error(args: &[&str], stdin: &str) -> String {
+    let (ok, code, out, err) = tirtrace(args, stdin);
+    assert!(!ok && code != Some(0), "{args:?} succeeded");
+    assert!(out.is_empty(), "{args:?} printed: {out}");
+    assert_eq!(err.lines().count(), 1, "{args:?}: {err}");
+    assert!(err.starts_with("tirtrace: "), "{err}");
+    assert!(
+        !err.contains("panicked") && !err.contains("backtrace"),
+        "{err}"
+    );
+    err
+}
+
+#[test]
+fn bad_input_gives_one_line_naming_the_field() {
+    let thermostat = std::fs::read_to_string(THERMOSTAT).unwrap();
+
+    // Unknown field.
+    let unknown = thermostat.replacen("\"version\": 1,", "\"version\": 1, \"colour\": \"red\",", 1);
+    assert_ne!(unknown, thermostat);
+    for cmd in ["check", "trace"] {
+        let err = one_line_error(&[cmd, "-"], &unknown);
+        assert!(err.contains("unknown field `colour`"), "{err}");
+    }
+
+    // Negative radius in route[1].
+    let negative = thermostat.replacen("\"radius_mm\": 9.0", "\"radius_mm\": -3", 1);
+    assert_ne!(negative, thermostat);
+    for cmd in ["check", "trace"] {
+        let err = one_line_error(&[cmd, "-"], &negative);
+        assert!(
+            err.contains("route[1].bend.radius_mm must be > 1.5 mm") && err.contains("got -3"),
+            "{err}"
+        );
+    }
+
+    // Options are checked with the scenario's ranges and named.
+    let err = one_line_error(&["trace", THERMOSTAT, "--rays", "0"], "");
+    assert!(
+        err.contains("--rays must be ≥ 1 and ≤ 1000000000") && err.contains("got 0"),
+        "{err}"
+    );
+    let err = one_line_error(&["trace", THERMOSTAT, "--rays", "1000000001"], "");
+    assert!(err.contains("--rays must be"), "{err}");
+    let err = one_line_error(&["trace", THERMOSTAT, "--rays", "-5"], "");
+    assert!(err.contains("--rays"), "{err}");
+    let err = one_line_error(&["trace", THERMOSTAT, "--seed", "x"], "");
+    assert!(err.contains("--seed"), "{err}");
+    let err = one_line_error(&["trace", THERMOSTAT, "--threads", "100000"], "");
+    assert!(err.contains("--threads must be ≥ 0"), "{err}");
+    let err = one_line_error(&["trace", THERMOSTAT, "--paths", "100000"], "");
+    assert!(err.contains("--paths must be ≥ 0"), "{err}");
+
+    // The file's own trace settings are checked under their own names.
+    let zero_rays = thermostat.replacen("\"rays\": 200000", "\"rays\": 0", 1);
+    assert_ne!(zero_rays, thermostat);
+    let err = one_line_error(&["trace", "-"], &zero_rays);
+    assert!(err.contains("trace.rays must be ≥ 1"), "{err}");
+    // ... and an option that fixes them wins.
+    ok_stdout(&["trace", "-", "--rays", "50"], &zero_rays);
+
+    let err = one_line_error(&["trace", "no/such/file.json"], "");
+    assert!(err.contains("could not read no/such/file.json"), "{err}");
+    let err = one_line_error(&["trace"], "");
+    assert!(err.contains("<FILE>"), "{err}");
+}
+
+/// PMMA index, G. Beadie et al., Appl. Opt. 54, F139 (2015):
+/// n² = A0 + A1 λ² + A2 λ⁴ + A3 λ⁻² + A4 λ⁻⁴ + A5 λ⁻⁶ + A6 λ⁻⁸, λ in µm (shared/REFERENCES.md §1).
+fn pmma_beadie(lambda_um: f64) -> f64 {
+    let a = [
+        2.1778, 6.1209e-3, -1.5004e-3, 2.3678e-2, -4.2137e-3, 7.3417e-4, -4.5042e-5,
+    ];
+    let l2 = lambda_um * lambda_um;
+    (a[0]
+        + a[1] * l2
+        + a[2] * l2 * l2
+        + a[3] / l2
+        + a[4] / (l2 * l2)
+        + a[5] / (l2 * l2 * l2)
+        + a[6] / (l2 * l2 * l2 * l2))
+        .sqrt()
+}
+
+/// Leak-free bend, shared/REFERENCES.md §4 (derived; handbook axial form in the Engineering
+/// Plastics Handbook, McGraw-Hill 2006, ch. 1): R_in/d ≥ n_out / (n_core cos θmax − n_out).
+fn leak_free_ratio(n_core: f64, n_out: f64, theta_max: f64) -> Option<f64> {
+    let denom = n_core * theta_max.cos() - n_out;
+    (denom > 0.0).then(|| n_out / denom)
+}
+
+fn check_json(path: &str) -> Value {
+    serde_json::from_str(&ok_stdout(&["check", path], "")).unwrap()
+}
+
+#[test]
+fn thermostat_bends_are_tighter_than_leak_free_for_a_lambertian_led() {
+    // The criterion itself against the computed table of shared/REFERENCES.md §4: n = 1.49 in
+    // air, Lambertian launch from air (θair = 90°, sin θmax = 1/n): 9.562.
+    let n = 1.49f64;
+    let r = leak_free_ratio(n, 1.0, (1.0 / n).asin()).unwrap();
+    assert!((r - 9.562).abs() < 1e-3, "{r}");
+
+    let v = check_json(THERMOSTAT);
+    let n_core = f(&v["n_core"]);
+    // Beadie 2015 at 590 nm; the basis (air or vacuum) moves n by ~4e-4 only.
+    assert!((n_core - pmma_beadie(0.590)).abs() < 1e-3, "{n_core}");
+    assert_eq!(f(&v["n_surroundings"]), 1.0);
+    assert_eq!(f(&v["n_gap"]), 1.0);
+    // Lambertian LED in air: launch 90°, sin θmax = 1/n (below the guiding limit 90° − θc,
+    // which equals it here since θc = asin(1/n)).
+    assert_eq!(f(&v["launch_half_angle_in_gap_deg"]), 90.0);
+    let theta_max = (1.0 / n_core).asin();
+    assert!((f(&v["max_internal_angle_deg"]) - theta_max.to_degrees()).abs() < 1e-9);
+    let want = leak_free_ratio(n_core, 1.0, theta_max).unwrap();
+    // Equivalent form for this launch: n cos θmax = √(n² − 1).
+    assert!((want - 1.0 / ((n_core * n_core - 1.0).sqrt() - 1.0)).abs() < 1e-9);
+
+    // The file's bends: 3 mm rod, centre radii 9 and 7.5 mm.
+    let bends = v["bends"].as_array().unwrap();
+    assert_eq!(bends.len(), 2);
+    for (b, (segment, centre)) in bends.iter().zip([(1, 9.0), (3, 7.5)]) {
+        let d = 3.0;
+        let ratio = (centre - d / 2.0) / d;
+        assert_eq!(b["segment"], segment);
+        assert!((f(&b["centre_radius_mm"]) - centre).abs() < 1e-12);
+        assert!((f(&b["inner_radius_mm"]) - (centre - d / 2.0)).abs() < 1e-12);
+        assert!((f(&b["size_across_mm"]) - d).abs() < 1e-12);
+        assert!((f(&b["inner_radius_over_size"]) - ratio).abs() < 1e-12);
+        let leak_free = f(&b["leak_free_inner_radius_over_size"]);
+        assert!(
+            (leak_free - want).abs() < 1e-9 * want,
+            "{leak_free} vs {want}"
+        );
+        assert!((f(&b["leak_free_inner_radius_mm"]) - want * d).abs() < 1e-9 * want * d);
+        // Tighter than leak-free: R_in/d < the criterion.
+        assert!(ratio < want, "{ratio} vs {want}");
+        assert_eq!(b["verdict"], "leaks");
+    }
+}
+
+#[test]
+fn bend_figures_follow_the_taper_and_the_launch() {
+    // Bike light: the bend turns across the height (turn 90°) after a taper to 3 × 1.5 mm, so
+    // the size across is 1.5 mm and the inner radius 5 − 0.75 mm (the file's geometry).
+    let v = check_json(BIKE);
+    let b = &v["bends"][0];
+    assert_eq!(b["segment"], 2);
+    assert!((f(&b["size_across_mm"]) - 1.5).abs() < 1e-12);
+    assert!((f(&b["inner_radius_mm"]) - 4.25).abs() < 1e-12);
+    let n_core = f(&v["n_core"]);
+    let theta_max = (1.0 / n_core).asin(); // LED in air (REFERENCES §4)
+    let want = leak_free_ratio(n_core, 1.0, theta_max).unwrap();
+    assert!((f(&b["leak_free_inner_radius_over_size"]) - want).abs() < 1e-9 * want);
+    assert_eq!(
+        b["verdict"],
+        if 4.25 / 1.5 >= want { "ok" } else { "leaks" }
+    );
+
+    // Soil sensor: a beam of 8° divergence tilted 4° in water: launch 12° in the gap; the
+    // 3 mm pipe's 60 mm bend has R_in/d = 58.5/3 = 19.5.
+    let v = check_json(SOIL);
+    assert!((f(&v["launch_half_angle_in_gap_deg"]) - 12.0).abs() < 1e-9);
+    let (n_core, n_out, n_gap) = (f(&v["n_core"]), f(&v["n_surroundings"]), f(&v["n_gap"]));
+    assert_eq!(n_out, n_gap, "water around and in front");
+    // Snell at the flat entry face: n_gap sin 12° = n_core sin θmax.
+    let theta_max = (n_gap * 12f64.to_radians().sin() / n_core).asin();
+    assert!((f(&v["max_internal_angle_deg"]) - theta_max.to_degrees()).abs() < 1e-9);
+    let want = leak_free_ratio(n_core, n_out, theta_max).unwrap();
+    let b = &v["bends"][0];
+    assert!((f(&b["inner_radius_over_size"]) - 19.5).abs() < 1e-12);
+    assert!((f(&b["leak_free_inner_radius_over_size"]) - want).abs() < 1e-9 * want);
+    assert_eq!(b["verdict"], if 19.5 >= want { "ok" } else { "leaks" });
+    // Acceptance n_gap sin θa = NA (Keiser; REFERENCES §3), not saturated in water.
+    let na = (n_core * n_core - n_out * n_out).sqrt();
+    assert!((f(&v["numerical_aperture"]) - na).abs() < 1e-12);
+    assert!(
+        (f(&v["acceptance_half_angle_in_gap_deg"]) - (na / n_gap).asin().to_degrees()).abs() < 1e-9
+    );
+    assert_eq!(v["acceptance_saturated"], false);
+
+    // Clad fibre: NA < 1, so a Lambertian LED in air fills the core up to its guiding limit,
+    // where n_core cos θmax = n_out: no leak-free radius exists (REFERENCES §4).
+    let v = check_json(FIBRE);
+    let (n_core, n_out) = (f(&v["n_core"]), f(&v["n_surroundings"]));
+    assert_eq!(n_out, 1.402);
+    assert!(n_core * n_core - n_out * n_out < 1.0);
+    let limit = 90.0 - (n_out / n_core).asin().to_degrees();
+    assert!((f(&v["max_internal_angle_deg"]) - limit).abs() < 1e-9);
+    // NA = √(1.492² − 1.402²) ≈ 0.5104 at 1.492 (REFERENCES §3), ~0.505 at 650 nm here.
+    assert!((f(&v["numerical_aperture"]) - 0.5104).abs() < 0.01);
+    let bends = v["bends"].as_array().unwrap();
+    assert_eq!(bends.len(), 3);
+    for b in bends {
+        assert!(b["leak_free_inner_radius_over_size"].is_null(), "{b}");
+        assert!(b["leak_free_inner_radius_mm"].is_null(), "{b}");
+        assert_eq!(b["verdict"], "leaks");
+        assert!(b["note"]
+            .as_str()
+            .unwrap()
+            .contains("no leak-free radius exists"));
+    }
+}
+
+#[test]
+fn entry_fresnel_loss_is_the_normal_incidence_reflectance() {
+    // R = ((n1 − n2)/(n1 + n2))² (Born & Wolf §1.5; REFERENCES §2: 1.5 in air → 0.04).
+    for path in [THERMOSTAT, SOIL] {
+        let v = check_json(path);
+        let (n1, n2) = (f(&v["n_gap"]), f(&v["n_core"]));
+        let r = ((n1 - n2) / (n1 + n2)).powi(2);
+        assert!((f(&v["entry_fresnel_loss"]) - r).abs() < 1e-12, "{path}");
+        let theta_c = (f(&v["n_surroundings"]) / n2).asin().to_degrees();
+        assert!(
+            (f(&v["critical_angle_deg"]) - theta_c).abs() < 1e-9,
+            "{path}"
+        );
+    }
+}
+
+// ---- quick-look designs and the material list
 
 #[test]
 fn every_example_design_gives_figures() {
     for entry in std::fs::read_dir("examples").unwrap() {
         let path = entry.unwrap().path();
         if path.extension().is_some_and(|e| e == "json") {
-            let (ok, out, err) = tirtrace(&["figures", path.to_str().unwrap()], "");
+            let (ok, _, out, err) = tirtrace(&["figures", path.to_str().unwrap()], "");
             assert!(ok, "{}: {err}", path.display());
             let v: serde_json::Value = serde_json::from_str(&out).unwrap();
             let design =
@@ -46,7 +513,7 @@ fn every_example_design_gives_figures() {
 
 #[test]
 fn bad_input_gives_one_line_and_a_failure_code() {
-    let (ok, out, err) = tirtrace(
+    let (ok, _, out, err) = tirtrace(
         &["figures", "-"],
         r#"{"version":1,"material":{"library":"pmma"},"wavelength_nm":590,
             "surroundings":{"library":"air"},"launch_medium":{"library":"air"},
@@ -59,12 +526,12 @@ fn bad_input_gives_one_line_and_a_failure_code() {
         err.contains("diameter_mm must be > 0 mm") && err.contains("got -3"),
         "{err}"
     );
-    let (ok, _, err) = tirtrace(&["figures", "-"], "{ not json");
+    let (ok, _, _, err) = tirtrace(&["figures", "-"], "{ not json");
     assert!(
         !ok && err.starts_with("tirtrace: could not read the design"),
         "{err}"
     );
-    let (ok, _, err) = tirtrace(&["figures", "no/such/file.json"], "");
+    let (ok, _, _, err) = tirtrace(&["figures", "no/such/file.json"], "");
     assert!(
         !ok && err.contains("could not read no/such/file.json"),
         "{err}"
@@ -73,7 +540,7 @@ fn bad_input_gives_one_line_and_a_failure_code() {
 
 #[test]
 fn materials_are_listed_with_sources() {
-    let (ok, out, _) = tirtrace(&["materials"], "");
+    let (ok, _, out, _) = tirtrace(&["materials"], "");
     assert!(ok);
     let v: serde_json::Value = serde_json::from_str(&out).unwrap();
     let list = v.as_array().unwrap();

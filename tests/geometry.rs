@@ -10,6 +10,9 @@ use wasm_bindgen_test::wasm_bindgen_test as test;
 #[cfg(target_arch = "wasm32")]
 wasm_bindgen_test::wasm_bindgen_test_configure!(run_in_browser);
 
+mod common;
+use common::Rng;
+
 use std::f64::consts::{PI, TAU};
 
 use glam::DVec3;
@@ -19,39 +22,6 @@ use tirtrace::interface::reflect;
 use tirtrace::scenario::{Section, Segment};
 
 const EPS: f64 = f64::EPSILON;
-
-/// Seeded generator for the property loops (splitmix64), so each case is reproducible.
-struct Rng(u64);
-impl Rng {
-    /// Uniform in [0, 1).
-    fn next(&mut self) -> f64 {
-        self.0 = self.0.wrapping_add(0x9E3779B97F4A7C15);
-        let mut z = self.0;
-        z = (z ^ (z >> 30)).wrapping_mul(0xBF58476D1CE4E5B9);
-        z = (z ^ (z >> 27)).wrapping_mul(0x94D049BB133111EB);
-        ((z ^ (z >> 31)) >> 11) as f64 / (1u64 << 53) as f64
-    }
-    fn range(&mut self, lo: f64, hi: f64) -> f64 {
-        lo + (hi - lo) * self.next()
-    }
-    /// Log-uniform in [lo, hi] (both > 0).
-    fn log_range(&mut self, lo: f64, hi: f64) -> f64 {
-        lo * (hi / lo).powf(self.next())
-    }
-    fn below(&mut self, n: usize) -> usize {
-        ((self.next() * n as f64) as usize).min(n - 1)
-    }
-    fn chance(&mut self, p: f64) -> bool {
-        self.next() < p
-    }
-    fn sign(&mut self) -> f64 {
-        if self.chance(0.5) {
-            1.0
-        } else {
-            -1.0
-        }
-    }
-}
 
 fn random_unit(rng: &mut Rng) -> DVec3 {
     let z = rng.range(-1.0, 1.0);

@@ -8,6 +8,9 @@ use wasm_bindgen_test::wasm_bindgen_test as test;
 #[cfg(target_arch = "wasm32")]
 wasm_bindgen_test::wasm_bindgen_test_configure!(run_in_browser);
 
+mod common;
+use common::Rng;
+
 use glam::DVec3;
 use tirtrace::interface::*;
 
@@ -72,18 +75,6 @@ fn total_internal_reflection_beyond_the_critical_angle() {
     assert_eq!(fresnel_reflectance((c + 1e-9).cos(), 1.5, 1.0), 1.0);
     assert_eq!(fresnel_amplitudes((c + 1e-9).cos(), 1.5, 1.0), None);
     assert!(fresnel_reflectance((c - 1e-3).cos(), 1.5, 1.0) < 1.0);
-}
-
-/// Seeded generator for the property loops (splitmix64), so each case is reproducible.
-struct Rng(u64);
-impl Rng {
-    fn next(&mut self) -> f64 {
-        self.0 = self.0.wrapping_add(0x9E3779B97F4A7C15);
-        let mut z = self.0;
-        z = (z ^ (z >> 30)).wrapping_mul(0xBF58476D1CE4E5B9);
-        z = (z ^ (z >> 27)).wrapping_mul(0x94D049BB133111EB);
-        ((z ^ (z >> 31)) >> 11) as f64 / (1u64 << 53) as f64
-    }
 }
 
 #[test]

@@ -7,26 +7,12 @@ use wasm_bindgen_test::wasm_bindgen_test as test;
 #[cfg(target_arch = "wasm32")]
 wasm_bindgen_test::wasm_bindgen_test_configure!(run_in_browser);
 
+mod common;
+use common::Rng;
+
 use serde_json::{json, Value};
 use tirtrace::scenario::Scenario;
 use tirtrace::trace::Prepared;
-
-struct Rng(u64);
-impl Rng {
-    fn next(&mut self) -> f64 {
-        self.0 = self.0.wrapping_add(0x9E3779B97F4A7C15);
-        let mut z = self.0;
-        z = (z ^ (z >> 30)).wrapping_mul(0xBF58476D1CE4E5B9);
-        z = (z ^ (z >> 27)).wrapping_mul(0x94D049BB133111EB);
-        ((z ^ (z >> 31)) >> 11) as f64 / (1u64 << 53) as f64
-    }
-    fn range(&mut self, lo: f64, hi: f64) -> f64 {
-        lo + (hi - lo) * self.next()
-    }
-    fn pick<'a, T>(&mut self, xs: &'a [T]) -> &'a T {
-        &xs[(self.next() * xs.len() as f64) as usize % xs.len()]
-    }
-}
 
 /// A random valid scenario: round or rectangular, 1–5 segments of every kind, any library
 /// material that has data at the wavelength, contacts, every source kind.

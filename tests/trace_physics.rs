@@ -6,6 +6,9 @@ use wasm_bindgen_test::wasm_bindgen_test as test;
 #[cfg(target_arch = "wasm32")]
 wasm_bindgen_test::wasm_bindgen_test_configure!(run_in_browser);
 
+mod common;
+use common::Rng;
+
 use serde_json::{json, Value};
 use tirtrace::guide;
 use tirtrace::scenario::Scenario;
@@ -108,18 +111,6 @@ fn meridional_lambertian_coupling_is_na_squared() {
         (guided - want).abs() < ci + 0.002,
         "guided {guided} ± {ci}, (NA/n0)² = {want}"
     );
-}
-
-/// Splitmix64, for the invariant-based expectation below (independent of the tracer's RNG).
-struct Rng(u64);
-impl Rng {
-    fn next(&mut self) -> f64 {
-        self.0 = self.0.wrapping_add(0x9E3779B97F4A7C15);
-        let mut z = self.0;
-        z = (z ^ (z >> 30)).wrapping_mul(0xBF58476D1CE4E5B9);
-        z = (z ^ (z >> 27)).wrapping_mul(0x94D049BB133111EB);
-        ((z ^ (z >> 31)) >> 11) as f64 / (1u64 << 53) as f64
-    }
 }
 
 #[test]

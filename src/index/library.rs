@@ -39,6 +39,9 @@ pub struct Material {
     pub note: &'static str,
 }
 
+const SULTANOVA_2009: &str = "N. Sultanova, S. Kasarova, I. Nikolov, Acta Phys. Pol. A 116, 585 (2009); one-term Sellmeier fit to their table";
+const SULTANOVA_NOTE: &str = "fit good to about 1e-3 in n; not for dispersion (Abbe number) work";
+
 /// The built-in materials, in the order the page lists them.
 pub fn materials() -> Vec<Material> {
     vec![
@@ -56,8 +59,18 @@ pub fn materials() -> Vec<Material> {
             id: "water",
             name: "Water (20 °C)",
             model: IndexModel::Sellmeier {
-                b: vec![5.684027565e-1, 1.726177391e-1, 2.086189578e-2, 1.130748688e-1],
-                c_um2: vec![5.101829712e-3, 1.821153936e-2, 2.620722293e-2, 1.069792721e1],
+                b: vec![
+                    5.684027565e-1,
+                    1.726177391e-1,
+                    2.086189578e-2,
+                    1.130748688e-1,
+                ],
+                c_um2: vec![
+                    5.101829712e-3,
+                    1.821153936e-2,
+                    2.620722293e-2,
+                    1.069792721e1,
+                ],
             },
             min_nm: 182.0,
             max_nm: 1129.0,
@@ -102,8 +115,8 @@ pub fn materials() -> Vec<Material> {
             min_nm: 437.0,
             max_nm: 1052.0,
             basis: IndexBasis::Air,
-            source: "N. Sultanova, S. Kasarova, I. Nikolov, Acta Phys. Pol. A 116, 585 (2009); one-term Sellmeier fit to their table",
-            note: "fit good to about 1e-3 in n; not for dispersion (Abbe number) work",
+            source: SULTANOVA_2009,
+            note: SULTANOVA_NOTE,
         },
         Material {
             id: "polystyrene",
@@ -115,8 +128,8 @@ pub fn materials() -> Vec<Material> {
             min_nm: 437.0,
             max_nm: 1052.0,
             basis: IndexBasis::Air,
-            source: "N. Sultanova, S. Kasarova, I. Nikolov, Acta Phys. Pol. A 116, 585 (2009); one-term Sellmeier fit to their table",
-            note: "fit good to about 1e-3 in n; not for dispersion (Abbe number) work",
+            source: SULTANOVA_2009,
+            note: SULTANOVA_NOTE,
         },
         Material {
             id: "pdms",

@@ -58,6 +58,15 @@ pub enum IndexModel {
     },
 }
 
+/// √(n²) where n² > 0, else NaN (no real index; validation keeps callers away from it).
+fn sqrt_or_nan(n2: f64) -> f64 {
+    if n2 > 0.0 {
+        n2.sqrt()
+    } else {
+        f64::NAN
+    }
+}
+
 impl IndexModel {
     /// Refractive index at `wavelength_um` on the model's own basis. Returns NaN where the model
     /// has no real index (n² ≤ 0 or a Sellmeier pole); [`IndexModel::validate`] and the
@@ -66,43 +75,29 @@ impl IndexModel {
         let l2 = wavelength_um * wavelength_um;
         match self {
             IndexModel::Constant { n } => *n,
-            IndexModel::Sellmeier { b, c_um2 } => {
-                // n² − 1 = Σ Bᵢ λ² / (λ² − Cᵢ)
-                let n2 = 1.0
-                    + b.iter()
-                        .zip(c_um2)
-                        .map(|(bi, ci)| bi * l2 / (l2 - ci))
-                        .sum::<f64>();
-                if n2 > 0.0 {
-                    n2.sqrt()
-                } else {
-                    f64::NAN
-                }
-            }
-            IndexModel::SellmeierWavelengths { b, lambda_um } => {
-                // n² − 1 = Σ Bᵢ λ² / (λ² − λᵢ²)
-                let n2 = 1.0
-                    + b.iter()
-                        .zip(lambda_um)
-                        .map(|(bi, li)| bi * l2 / (l2 - li * li))
-                        .sum::<f64>();
-                if n2 > 0.0 {
-                    n2.sqrt()
-                } else {
-                    f64::NAN
-                }
-            }
+            // n² − 1 = Σ Bᵢ λ² / (λ² − Cᵢ)
+            IndexModel::Sellmeier { b, c_um2 } => sqrt_or_nan(
+                1.0 + b
+                    .iter()
+                    .zip(c_um2)
+                    .map(|(bi, ci)| bi * l2 / (l2 - ci))
+                    .sum::<f64>(),
+            ),
+            // n² − 1 = Σ Bᵢ λ² / (λ² − λᵢ²)
+            IndexModel::SellmeierWavelengths { b, lambda_um } => sqrt_or_nan(
+                1.0 + b
+                    .iter()
+                    .zip(lambda_um)
+                    .map(|(bi, li)| bi * l2 / (l2 - li * li))
+                    .sum::<f64>(),
+            ),
             IndexModel::BeadiePolynomial { a } => {
                 let inv = 1.0 / l2;
-                let n2 = a[0]
-                    + a[1] * l2
-                    + a[2] * l2 * l2
-                    + inv * (a[3] + inv * (a[4] + inv * (a[5] + inv * a[6])));
-                if n2 > 0.0 {
-                    n2.sqrt()
-                } else {
-                    f64::NAN
-                }
+                sqrt_or_nan(
+                    a[0] + a[1] * l2
+                        + a[2] * l2 * l2
+                        + inv * (a[3] + inv * (a[4] + inv * (a[5] + inv * a[6]))),
+                )
             }
             IndexModel::Cauchy { a, b_um2, c_um4 } => a + b_um2 / l2 + c_um4 / (l2 * l2),
         }
@@ -120,38 +115,27 @@ impl IndexModel {
                 None => Ok(()),
             }
         };
+        // Paired Sellmeier terms: 1 to 6 of each, as many of one as of the other, all finite.
+        let terms = |other: &str, b: &[f64], c: &[f64]| -> Result<(), FieldError> {
+            if b.is_empty() || b.len() > 6 || b.len() != c.len() {
+                return Err(FieldError::new(
+                    format!("{path}.b"),
+                    format!(
+                        "needs 1 to 6 terms and as many {other} terms, got {} and {}",
+                        b.len(),
+                        c.len()
+                    ),
+                ));
+            }
+            finite("b", b)?;
+            finite(other, c)
+        };
         match self {
             IndexModel::Constant { n } => {
                 crate::error::check_range(&format!("{path}.n"), *n, 1.0, true, 5.0, true, "")?;
             }
-            IndexModel::Sellmeier { b, c_um2 } => {
-                if b.is_empty() || b.len() > 6 || b.len() != c_um2.len() {
-                    return Err(FieldError::new(
-                        format!("{path}.b"),
-                        format!(
-                            "needs 1 to 6 terms and as many c_um2 terms, got {} and {}",
-                            b.len(),
-                            c_um2.len()
-                        ),
-                    ));
-                }
-                finite("b", b)?;
-                finite("c_um2", c_um2)?;
-            }
-            IndexModel::SellmeierWavelengths { b, lambda_um } => {
-                if b.is_empty() || b.len() > 6 || b.len() != lambda_um.len() {
-                    return Err(FieldError::new(
-                        format!("{path}.b"),
-                        format!(
-                            "needs 1 to 6 terms and as many lambda_um terms, got {} and {}",
-                            b.len(),
-                            lambda_um.len()
-                        ),
-                    ));
-                }
-                finite("b", b)?;
-                finite("lambda_um", lambda_um)?;
-            }
+            IndexModel::Sellmeier { b, c_um2 } => terms("c_um2", b, c_um2)?,
+            IndexModel::SellmeierWavelengths { b, lambda_um } => terms("lambda_um", b, lambda_um)?,
             IndexModel::BeadiePolynomial { a } => finite("a", a)?,
             IndexModel::Cauchy { a, b_um2, c_um4 } => finite("a", &[*a, *b_um2, *c_um4])?,
         }

@@ -290,17 +290,20 @@ impl Prepared {
         let ix = &self.indices;
         let segs = &self.route.segments;
         let nseg = segs.len();
-        let mut rec = |p: DVec3| {
-            if let Some(v) = path.as_deref_mut() {
-                v.push(p.to_array());
-            }
-        };
+        // Record a path vertex; the point is only computed when this ray's path is kept.
+        macro_rules! rec {
+            ($p:expr) => {
+                if let Some(v) = path.as_deref_mut() {
+                    v.push(($p).to_array());
+                }
+            };
+        }
         let u = [uniform(rng), uniform(rng), uniform(rng), uniform(rng)];
         let (start, dir) = self.source.sample(u);
-        rec(start);
+        rec!(start);
         // To the entry plane z = 0 through the gap.
         if dir.z <= 0.0 {
-            rec(start + 2.0 * dir);
+            rec!(start + 2.0 * dir);
             contrib[MISSED] = 1.0;
             return (Fate::Missed, 0.0);
         }
@@ -313,14 +316,14 @@ impl Prepared {
             hit.x.abs() <= hw && hit.y.abs() <= hh
         };
         if !inside {
-            rec(hit);
+            rec!(hit);
             contrib[MISSED] = 1.0;
             return (Fate::Missed, 0.0);
         }
-        rec(hit);
+        rec!(hit);
         let cos_i = dir.z;
         if uniform(rng) < fresnel_reflectance(cos_i, ix.n_gap, ix.n_core) {
-            rec(hit + reflect(dir, DVec3::Z));
+            rec!(hit + reflect(dir, DVec3::Z));
             contrib[REFLECTED_ENTRY] = 1.0;
             return (Fate::ReflectedEntry, 0.0);
         }
@@ -364,7 +367,7 @@ impl Prepared {
             }
             if interactions > cap {
                 absorb_last!();
-                rec(placed.frame.point_to_global(o));
+                rec!(placed.frame.point_to_global(o));
                 contrib[STOPPED] = w;
                 return (Fate::Stopped, 0.0);
             }
@@ -372,7 +375,7 @@ impl Prepared {
                 Next::Wall { normal, .. } => {
                     out.wall_interactions += 1;
                     out.wall_hits[seg] += 1;
-                    rec(placed.frame.point_to_global(o));
+                    rec!(placed.frame.point_to_global(o));
                     let cos_i = d.dot(normal).clamp(0.0, 1.0);
                     let sin2_i = 1.0 - cos_i * cos_i;
                     // Contact zone at this point?
@@ -404,7 +407,7 @@ impl Prepared {
                     let bin = ((s / self.route.length_mm) * ROUTE_BINS as f64) as usize;
                     out.route_leak[bin.min(ROUTE_BINS - 1)] += w;
                     let outside = refract(d, -normal, ix.n_core, n_out).unwrap_or(d);
-                    rec(placed.frame.point_to_global(o + 0.5 * outside));
+                    rec!(placed.frame.point_to_global(o + 0.5 * outside));
                     return match zone {
                         Some(z) => {
                             contrib[FIXED + 2 * nseg + z] = w;
@@ -437,7 +440,7 @@ impl Prepared {
                     let ef = &self.route.exit_frame;
                     let g = placed.frame.point_to_global(o);
                     let gd = placed.frame.dir_to_global(d);
-                    rec(g);
+                    rec!(g);
                     let q = ef.point_to_local(g);
                     let ld = ef.dir_to_local(gd);
                     let cos_i = ld.z.clamp(0.0, 1.0);
@@ -448,7 +451,7 @@ impl Prepared {
                         continue;
                     }
                     let od = refract(ld, -DVec3::Z, ix.n_core, ix.n_exit).unwrap_or(ld);
-                    rec(g + ef.dir_to_global(od) * self.exit_half.0.max(self.exit_half.1));
+                    rec!(g + ef.dir_to_global(od) * self.exit_half.0.max(self.exit_half.1));
                     absorb_last!();
                     contrib[DELIVERED] = w;
                     self.record_delivery(q, od, w, out);
@@ -471,14 +474,14 @@ impl Prepared {
                     // Entry face from inside.
                     let g = placed.frame.point_to_global(o);
                     let gd = placed.frame.dir_to_global(d);
-                    rec(g);
+                    rec!(g);
                     let cos_i = (-gd.z).clamp(0.0, 1.0);
                     if uniform(rng) < fresnel_reflectance(cos_i, ix.n_core, ix.n_gap) {
                         d = placed.frame.dir_to_local(reflect(gd, DVec3::Z));
                         continue;
                     }
                     let od = refract(gd, DVec3::Z, ix.n_core, ix.n_gap).unwrap_or(gd);
-                    rec(g + od);
+                    rec!(g + od);
                     absorb_last!();
                     contrib[RETURNED] = w;
                     return (Fate::Returned, 0.0);

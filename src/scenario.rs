@@ -170,8 +170,9 @@ pub enum Segment {
         /// Angle turned through, degrees.
         angle_deg: f64,
         /// Direction of the turn, as an angle about the current axis from the section's width
-        /// axis towards its height axis, degrees. Rectangular guides turn across the width
-        /// (0, 180) or the height (90, 270) only.
+        /// axis towards its height axis, degrees. The section's axes travel with the guide, so a
+        /// bend cut into pieces repeats the same `turn_deg`. Rectangular guides turn across the
+        /// width (0, 180) or the height (90, 270) only.
         #[serde(default)]
         turn_deg: f64,
     },

@@ -448,3 +448,41 @@ fn contact_zones() {
     let lost = clip.contacts[0].lost;
     assert!(lost.share > 3.0 * lost.ci95 && lost.share < 0.5, "{lost:?}");
 }
+
+#[test]
+fn segment_hand_off_has_no_gaps_and_no_double_hits() {
+    // A 60 mm rod traced as one straight and as six 10 mm straights (or a bend cut into three
+    // 30° bends, each turning the same way about the transported section axes) is the same guide: the same rays must meet the walls the same number of times
+    // and deliver the same share. All reflections here are total (PMMA in air, n > √2) and the
+    // exit is index-matched, so no random decision after the entry face can differ.
+    let case = |route: Value| {
+        let s = scenario(json!({
+            "version": 1,
+            "guide": { "section": { "round": { "diameter_mm": 2.0 } },
+                       "material": {"library": "pmma"}, "surroundings": {"library": "air"},
+                       "exit_medium": {"library": "pmma"} },
+            "route": route,
+            "source": { "emitter": {"led": {"area": {"disk": {"diameter_mm": 1.5}}, "pattern": "lambertian"}},
+                        "wavelength_nm": 587.56 },
+            "trace": { "rays": 5000, "seed": 3 }
+        }));
+        let r = run(&s);
+        let hits: u64 = r.segments.iter().map(|s| s.wall_hits).sum();
+        (r.delivered.share, hits)
+    };
+    let one = case(json!([{"straight": {"length_mm": 60}}]));
+    let six = case(Value::Array(vec![
+        json!({"straight": {"length_mm": 10}});
+        6
+    ]));
+    assert!(one.0 > 0.9, "{one:?}");
+    assert_eq!(one, six);
+    let bend = case(json!([{"straight": {"length_mm": 5}},
+        {"bend": {"radius_mm": 40, "angle_deg": 90, "turn_deg": 45}}, {"straight": {"length_mm": 5}}]));
+    let cut = case(json!([{"straight": {"length_mm": 5}},
+        {"bend": {"radius_mm": 40, "angle_deg": 30, "turn_deg": 45}},
+        {"bend": {"radius_mm": 40, "angle_deg": 30, "turn_deg": 45}},
+        {"bend": {"radius_mm": 40, "angle_deg": 30, "turn_deg": 45}}, {"straight": {"length_mm": 5}}]));
+    assert_eq!(bend.1, cut.1, "wall hits differ: {bend:?} vs {cut:?}");
+    assert!((bend.0 - cut.0).abs() < 1e-12);
+}

@@ -32,6 +32,9 @@ pub enum TirError {
     /// The document could not be read at all (syntax, unknown field, wrong type).
     #[error("could not read the design: {0}")]
     Parse(String),
+    /// A scenario document could not be read at all.
+    #[error("could not read the scenario: {0}")]
+    ParseScenario(String),
     /// A chart could not be drawn (a drawing backend failure, not a user error).
     #[error("could not draw the chart: {0}")]
     Draw(String),
@@ -49,6 +52,8 @@ pub(crate) fn show(x: f64) -> String {
         "not a number".to_string()
     } else if x.is_infinite() {
         "infinite".to_string()
+    } else if x != 0.0 && (x.abs() >= 1e7 || x.abs() < 1e-4) {
+        format!("{x:e}")
     } else {
         format!("{x}")
     }
@@ -71,10 +76,20 @@ pub(crate) fn check_range(
     }
     let lo_s = if lo_incl { "≥" } else { ">" };
     let hi_s = if hi_incl { "≤" } else { "<" };
+    // A unit may carry a note in brackets, e.g. " mm (the segment's length)": the unit goes on
+    // both bounds, the note once at the end.
+    let (unit, note) = match unit.find(" (") {
+        Some(i) => (&unit[..i], &unit[i..]),
+        None => (unit, ""),
+    };
     let rule = if hi.is_infinite() {
-        format!("must be {lo_s} {lo}{unit}")
+        format!("must be {lo_s} {}{unit}{note}", show(lo))
     } else {
-        format!("must be {lo_s} {lo}{unit} and {hi_s} {hi}{unit}")
+        format!(
+            "must be {lo_s} {}{unit} and {hi_s} {}{unit}{note}",
+            show(lo),
+            show(hi)
+        )
     };
     Err(FieldError::new(field, format!("{rule}, got {}", show(x))))
 }

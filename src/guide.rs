@@ -5,9 +5,14 @@
 use std::f64::consts::{FRAC_PI_2, PI};
 
 /// Numerical aperture NA = √(n_core² − n_out²) (G. Keiser, *Optical Fiber Communications*).
-/// Returns 0 when n_out ≥ n_core (nothing is guided).
+/// Returns 0 when n_out ≥ n_core (nothing is guided); NaN in gives NaN out.
 pub fn numerical_aperture(n_core: f64, n_out: f64) -> f64 {
-    (n_core * n_core - n_out * n_out).max(0.0).sqrt()
+    let d = n_core * n_core - n_out * n_out;
+    if d < 0.0 {
+        0.0
+    } else {
+        d.sqrt()
+    }
 }
 
 /// Acceptance half-angle in the medium in front of the entry face, n₀ sin θa = NA.
@@ -31,14 +36,19 @@ pub fn relative_index_difference(n_core: f64, n_out: f64) -> f64 {
 /// Rays refracted beyond the core's own guiding limit (π/2 − θc) are not guided, so the result is
 /// capped there.
 pub fn max_internal_angle_rad(n_core: f64, n_out: f64, n_front: f64, launch_rad: f64) -> f64 {
-    let s = (n_front * libm::sin(launch_rad) / n_core).min(1.0);
-    let refracted = libm::asin(s);
+    // (Comparisons written out so that NaN propagates: f64::min would drop it.)
+    let s = n_front * libm::sin(launch_rad) / n_core;
+    let refracted = libm::asin(if s > 1.0 { 1.0 } else { s });
     let guided_limit = if n_out < n_core {
         FRAC_PI_2 - libm::asin(n_out / n_core)
     } else {
         0.0
     };
-    refracted.min(guided_limit)
+    if refracted > guided_limit {
+        guided_limit
+    } else {
+        refracted
+    }
 }
 
 /// Smallest inner bend radius over guide thickness (R_in/d) at which every meridional ray at

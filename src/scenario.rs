@@ -324,14 +324,34 @@ pub enum Flux {
     Lm(f64),
 }
 
-/// A detector disk or window beyond the exit face, parallel to it and centred on its axis.
+/// A detector disk or a rectangular window beyond the exit face, parallel to it and centred on
+/// its axis: give `diameter_mm`, or `width_mm` and `height_mm` (along the exit face's width and
+/// height axes).
 #[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
 #[serde(deny_unknown_fields)]
 pub struct Receiver {
-    /// Diameter, mm.
-    pub diameter_mm: f64,
+    /// Diameter of a round detector, mm.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub diameter_mm: Option<f64>,
+    /// Width of a rectangular window, mm.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub width_mm: Option<f64>,
+    /// Height of a rectangular window, mm.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub height_mm: Option<f64>,
     /// Distance beyond the exit face, mm.
     pub distance_mm: f64,
+}
+
+impl Receiver {
+    /// Whether a point (x, y) in the receiver's plane, mm from its centre, lies on it.
+    pub fn contains(&self, x: f64, y: f64) -> bool {
+        match (self.diameter_mm, self.width_mm, self.height_mm) {
+            (Some(d), _, _) => x * x + y * y <= 0.25 * d * d,
+            (None, Some(w), Some(h)) => x.abs() <= 0.5 * w && y.abs() <= 0.5 * h,
+            _ => false,
+        }
+    }
 }
 
 /// Trace settings.
@@ -392,10 +412,10 @@ impl Scenario {
         serde_path_to_error::deserialize(de).map_err(|e| {
             let path = e.path().to_string();
             let inner = e.into_inner();
-            if path.is_empty() || path == "." {
-                TirError::Parse(inner.to_string())
+            if path.is_empty() || path == "." || path == "?" {
+                TirError::ParseScenario(inner.to_string())
             } else {
-                TirError::Parse(format!("{path}: {inner}"))
+                TirError::ParseScenario(format!("{path}: {inner}"))
             }
         })
     }
@@ -761,15 +781,21 @@ impl Scenario {
 
         // Receiver and trace settings.
         if let Some(r) = &self.receiver {
-            keep!(check_range(
-                "receiver.diameter_mm",
-                r.diameter_mm,
-                0.0,
-                false,
-                10_000.0,
-                true,
-                " mm"
-            ));
+            let size =
+                |field: &str, v: f64| check_range(field, v, 0.0, false, 10_000.0, true, " mm");
+            match (r.diameter_mm, r.width_mm, r.height_mm) {
+                (Some(d), None, None) => {
+                    keep!(size("receiver.diameter_mm", d));
+                }
+                (None, Some(w), Some(h)) => {
+                    keep!(size("receiver.width_mm", w));
+                    keep!(size("receiver.height_mm", h));
+                }
+                _ => errs.push(FieldError::new(
+                    "receiver",
+                    "needs either diameter_mm (a round detector) or width_mm and height_mm (a window), not both",
+                )),
+            }
             keep!(check_range(
                 "receiver.distance_mm",
                 r.distance_mm,
@@ -891,6 +917,12 @@ fn check_table(points: &[[f64; 2]]) -> Result<(), FieldError> {
     }
     if points.iter().all(|q| q[1] == 0.0) {
         return Err(FieldError::new(p, "must have some non-zero intensity"));
+    }
+    if !crate::source::table_has_power(points) {
+        return Err(FieldError::new(
+            p,
+            "holds no power at the sampling resolution (about 0.044°): widen the pattern",
+        ));
     }
     Ok(())
 }

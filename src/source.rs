@@ -144,18 +144,30 @@ pub fn table_intensity(points: &[[f64; 2]], angle_deg: f64) -> f64 {
     a[1] + (b[1] - a[1]) * (angle_deg - a[0]) / (b[0] - a[0])
 }
 
-fn table_law(points: &[[f64; 2]]) -> Law {
+/// Cumulative power of a table pattern on the sampling grid: ∫ I(θ) sin θ dθ by the midpoint
+/// rule over [`TABLE_STEPS`] steps from 0 to 90°; the last entry is the total.
+fn table_cdf(points: &[[f64; 2]]) -> Vec<f64> {
     let step_rad = FRAC_PI_2 / TABLE_STEPS as f64;
     let mut cdf = Vec::with_capacity(TABLE_STEPS + 1);
     let mut acc = 0.0;
     cdf.push(0.0);
     for k in 0..TABLE_STEPS {
-        // Midpoint rule on I(θ) sin θ dθ.
         let theta = (k as f64 + 0.5) * step_rad;
         acc += table_intensity(points, theta.to_degrees()) * libm::sin(theta) * step_rad;
         cdf.push(acc);
     }
-    let total = acc.max(1e-300);
+    cdf
+}
+
+/// Whether a table pattern holds any power at the sampling resolution (90°/2048 ≈ 0.044°).
+pub fn table_has_power(points: &[[f64; 2]]) -> bool {
+    table_cdf(points).last().is_some_and(|&p| p > 0.0)
+}
+
+fn table_law(points: &[[f64; 2]]) -> Law {
+    let step_rad = FRAC_PI_2 / TABLE_STEPS as f64;
+    let mut cdf = table_cdf(points);
+    let total = cdf[TABLE_STEPS].max(1e-300);
     for c in &mut cdf {
         *c /= total;
     }

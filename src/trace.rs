@@ -44,7 +44,13 @@ const MISSED: usize = 1;
 const REFLECTED_ENTRY: usize = 2;
 const RETURNED: usize = 3;
 const STOPPED: usize = 4;
-const FIXED: usize = 5;
+/// Totals over segments / zones, tallied per ray so that their confidence intervals are real
+/// ones (not sums of half-widths). They duplicate the per-segment tallies: left out of the sum
+/// that checks the budget.
+const TOTAL_LEAKED: usize = 5;
+const TOTAL_ABSORBED: usize = 6;
+const TOTAL_CONTACT: usize = 7;
+const FIXED: usize = 8;
 
 /// What became of a sampled path (for drawing).
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
@@ -103,19 +109,76 @@ struct ContactZone {
     n: f64,
 }
 
+/// A histogram of per-ray weights in which each ray lands in at most one bin: sums and sums of
+/// squares, so that every bin has its own confidence interval.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Hist {
+    /// Σ w per bin.
+    pub sum: Vec<f64>,
+    /// Σ w² per bin.
+    pub sumsq: Vec<f64>,
+}
+
+impl Hist {
+    fn new(bins: usize) -> Hist {
+        Hist {
+            sum: vec![0.0; bins],
+            sumsq: vec![0.0; bins],
+        }
+    }
+
+    #[inline]
+    fn add(&mut self, bin: usize, w: f64) {
+        self.sum[bin] += w;
+        self.sumsq[bin] += w * w;
+    }
+
+    fn merge(&mut self, other: &Hist) {
+        self.sum
+            .iter_mut()
+            .zip(&other.sum)
+            .for_each(|(a, b)| *a += b);
+        self.sumsq
+            .iter_mut()
+            .zip(&other.sumsq)
+            .for_each(|(a, b)| *a += b);
+    }
+
+    /// Share of the emitted power per bin and its 95 % half-width over `rays` rays:
+    /// mean S/N, variance (Q − S²/N)/(N − 1), half-width 1.96 √(variance/N).
+    pub fn shares(&self, rays: u64) -> (Vec<f64>, Vec<f64>) {
+        let n = rays.max(1) as f64;
+        let share = self.sum.iter().map(|s| s / n).collect();
+        let ci = self
+            .sum
+            .iter()
+            .zip(&self.sumsq)
+            .map(|(s, q)| {
+                if rays < 2 {
+                    0.0
+                } else {
+                    let var = ((q - s * s / n) / (n - 1.0)).max(0.0);
+                    1.96 * (var / n).sqrt()
+                }
+            })
+            .collect();
+        (share, ci)
+    }
+}
+
 /// The raw result of one or more merged batches.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Batch {
     /// Per-tally estimates (fixed tallies, leaked by segment, absorbed by segment, contacts).
     pub tallies: Vec<Estimate>,
     /// Delivered weight on the exit face, MAP_CELLS² (row-major, y rows, x columns).
-    pub exit_map: Vec<f64>,
+    pub exit_map: Hist,
     /// Delivered weight by polar angle beyond the exit face, 1° bins.
-    pub angle_hist: Vec<f64>,
+    pub angle_hist: Hist,
     /// Delivered weight by direction cosines, ANGULAR_CELLS².
-    pub angular_map: Vec<f64>,
+    pub angular_map: Hist,
     /// Leaked (and contact-lost) weight along the route, ROUTE_BINS bins.
-    pub route_leak: Vec<f64>,
+    pub route_leak: Hist,
     /// Delivered weight that lands on the receiver.
     pub receiver: Estimate,
     /// Wall interactions (reflections, refractions out) counted.
@@ -133,10 +196,10 @@ impl Batch {
         let nseg = p.route.segments.len();
         Batch {
             tallies: vec![Estimate::default(); FIXED + 2 * nseg + p.contacts.len()],
-            exit_map: vec![0.0; MAP_CELLS * MAP_CELLS],
-            angle_hist: vec![0.0; ANGLE_BINS],
-            angular_map: vec![0.0; ANGULAR_CELLS * ANGULAR_CELLS],
-            route_leak: vec![0.0; ROUTE_BINS],
+            exit_map: Hist::new(MAP_CELLS * MAP_CELLS),
+            angle_hist: Hist::new(ANGLE_BINS),
+            angular_map: Hist::new(ANGULAR_CELLS * ANGULAR_CELLS),
+            route_leak: Hist::new(ROUTE_BINS),
             receiver: Estimate::default(),
             wall_interactions: 0,
             wall_hits: vec![0; nseg],
@@ -150,11 +213,10 @@ impl Batch {
         for (a, b) in self.tallies.iter_mut().zip(&other.tallies) {
             a.merge(b);
         }
-        let add = |a: &mut Vec<f64>, b: &Vec<f64>| a.iter_mut().zip(b).for_each(|(x, y)| *x += y);
-        add(&mut self.exit_map, &other.exit_map);
-        add(&mut self.angle_hist, &other.angle_hist);
-        add(&mut self.angular_map, &other.angular_map);
-        add(&mut self.route_leak, &other.route_leak);
+        self.exit_map.merge(&other.exit_map);
+        self.angle_hist.merge(&other.angle_hist);
+        self.angular_map.merge(&other.angular_map);
+        self.route_leak.merge(&other.route_leak);
         self.receiver.merge(&other.receiver);
         self.wall_interactions += other.wall_interactions;
         self.wall_hits
@@ -254,6 +316,10 @@ impl Prepared {
             };
             let (fate, on_receiver) =
                 self.trace_ray(&mut rng, &mut contrib, &mut out, path.as_mut());
+            let nseg = self.route.segments.len();
+            contrib[TOTAL_LEAKED] = contrib[FIXED..FIXED + nseg].iter().sum();
+            contrib[TOTAL_ABSORBED] = contrib[FIXED + nseg..FIXED + 2 * nseg].iter().sum();
+            contrib[TOTAL_CONTACT] = contrib[FIXED + 2 * nseg..].iter().sum();
             if i == 0 {
                 shift.copy_from_slice(&contrib);
                 rshift = on_receiver;
@@ -327,8 +393,12 @@ impl Prepared {
             contrib[REFLECTED_ENTRY] = 1.0;
             return (Fate::ReflectedEntry, 0.0);
         }
-        let inward = refract(dir, -DVec3::Z, ix.n_gap, ix.n_core)
-            .expect("refraction into a denser or equal medium always succeeds");
+        // A gap medium denser than the guide (a high-index gel) can reflect totally.
+        let Some(inward) = refract(dir, -DVec3::Z, ix.n_gap, ix.n_core) else {
+            rec!(hit + reflect(dir, DVec3::Z));
+            contrib[REFLECTED_ENTRY] = 1.0;
+            return (Fate::ReflectedEntry, 0.0);
+        };
         let mut seg = 0usize;
         let mut o = segs[0].frame.point_to_local(hit);
         let mut d = segs[0].frame.dir_to_local(inward);
@@ -405,7 +475,7 @@ impl Prepared {
                     absorb_last!();
                     let s = placed.s_start_mm + placed.along_mm(o);
                     let bin = ((s / self.route.length_mm) * ROUTE_BINS as f64) as usize;
-                    out.route_leak[bin.min(ROUTE_BINS - 1)] += w;
+                    out.route_leak.add(bin.min(ROUTE_BINS - 1), w);
                     let outside = refract(d, -normal, ix.n_core, n_out).unwrap_or(d);
                     rec!(placed.frame.point_to_global(o + 0.5 * outside));
                     return match zone {
@@ -458,9 +528,7 @@ impl Prepared {
                     let on_receiver = match self.scenario.receiver {
                         Some(r) if od.z > 0.0 => {
                             let t = r.distance_mm / od.z;
-                            let (x, y) = (q.x + t * od.x, q.y + t * od.y);
-                            let rad = 0.5 * r.diameter_mm;
-                            if x * x + y * y <= rad * rad {
+                            if r.contains(q.x + t * od.x, q.y + t * od.y) {
                                 w
                             } else {
                                 0.0
@@ -495,11 +563,17 @@ impl Prepared {
         let cell = |v: f64, half: f64, n: usize| {
             (((v + half) / (2.0 * half) * n as f64) as isize).clamp(0, n as isize - 1) as usize
         };
-        out.exit_map[cell(q.y, hh, MAP_CELLS) * MAP_CELLS + cell(q.x, hw, MAP_CELLS)] += w;
+        out.exit_map.add(
+            cell(q.y, hh, MAP_CELLS) * MAP_CELLS + cell(q.x, hw, MAP_CELLS),
+            w,
+        );
         let theta_deg = libm::acos(od.z.clamp(-1.0, 1.0)).to_degrees();
-        out.angle_hist[(theta_deg as usize).min(ANGLE_BINS - 1)] += w;
-        out.angular_map
-            [cell(od.y, 1.0, ANGULAR_CELLS) * ANGULAR_CELLS + cell(od.x, 1.0, ANGULAR_CELLS)] += w;
+        out.angle_hist
+            .add((theta_deg as usize).min(ANGLE_BINS - 1), w);
+        out.angular_map.add(
+            cell(od.y, 1.0, ANGULAR_CELLS) * ANGULAR_CELLS + cell(od.x, 1.0, ANGULAR_CELLS),
+            w,
+        );
     }
 
     /// Trace every batch on the calling thread and merge them in order.
@@ -522,15 +596,23 @@ impl Prepared {
             .map_err(|e| {
                 TirError::Field(crate::error::FieldError::new("threads", e.to_string()))
             })?;
-        let batches: Vec<Batch> = pool.install(|| {
-            (0..self.batch_count())
-                .into_par_iter()
-                .map(|b| self.trace_batch(b, keep_paths))
-                .collect()
-        });
+        // Chunks of a few batches per thread, merged in order as they come, so memory stays
+        // bounded however many rays are asked for.
+        let chunk = 4 * pool.current_num_threads() as u64;
         let mut total = Batch::empty(self);
-        for b in &batches {
-            total.merge(b);
+        let mut first = 0;
+        while first < self.batch_count() {
+            let end = (first + chunk).min(self.batch_count());
+            let batches: Vec<Batch> = pool.install(|| {
+                (first..end)
+                    .into_par_iter()
+                    .map(|b| self.trace_batch(b, keep_paths))
+                    .collect()
+            });
+            for b in &batches {
+                total.merge(b);
+            }
+            first = end;
         }
         Ok(total)
     }
@@ -539,33 +621,24 @@ impl Prepared {
     pub fn report(&self, batch: &Batch) -> TraceReport {
         let nseg = self.route.segments.len();
         let share = |j: usize| batch.tallies[j].share();
-        let sum_shares = |r: std::ops::Range<usize>| -> Share {
-            // Totals of several tallies: per-ray contributions are exclusive except absorption,
-            // so the variance is bounded by the sum of the standard errors; report that bound.
-            // (Folds from +0.0: an empty f64 sum is −0.0.)
-            let s = r
-                .clone()
-                .map(|j| batch.tallies[j].mean)
-                .fold(0.0, |a, b| a + b);
-            let ci = r
-                .map(|j| batch.tallies[j].share().ci95)
-                .fold(0.0, |a, b| a + b);
-            Share { share: s, ci95: ci }
-        };
-        let leaked = sum_shares(FIXED..FIXED + nseg);
-        let absorbed = sum_shares(FIXED + nseg..FIXED + 2 * nseg);
-        let contact = sum_shares(FIXED + 2 * nseg..batch.tallies.len());
         let budget = Budget {
             delivered: share(DELIVERED),
             missed_entry: share(MISSED),
             reflected_entry: share(REFLECTED_ENTRY),
-            leaked,
-            contact,
-            absorbed,
+            leaked: share(TOTAL_LEAKED),
+            contact: share(TOTAL_CONTACT),
+            absorbed: share(TOTAL_ABSORBED),
             returned: share(RETURNED),
             stopped: share(STOPPED),
         };
-        let budget_sum = batch.tallies.iter().map(|e| e.mean).fold(0.0, |a, b| a + b);
+        // The partition: every fate, and absorption by segment (the totals duplicate it).
+        let budget_sum = batch
+            .tallies
+            .iter()
+            .enumerate()
+            .filter(|(j, _)| !(TOTAL_LEAKED..FIXED).contains(j))
+            .map(|(_, e)| e.mean)
+            .fold(0.0, |a, b| a + b);
         let segments = self
             .route
             .segments
@@ -613,34 +686,22 @@ impl Prepared {
             receiver: self.scenario.receiver.map(|_| batch.receiver.share()),
             absolute: self.absolute(batch),
             wall_interactions: batch.wall_interactions,
-            exit_map: Map {
-                cells: MAP_CELLS,
-                width_mm: 2.0 * self.exit_half.0,
-                height_mm: 2.0 * self.exit_half.1,
-                share: batch
-                    .exit_map
-                    .iter()
-                    .map(|v| v / batch.rays as f64)
-                    .collect(),
-            },
+            exit_map: Map::new(
+                &batch.exit_map,
+                batch.rays,
+                MAP_CELLS,
+                2.0 * self.exit_half.0,
+                2.0 * self.exit_half.1,
+            ),
             intensity: Intensity::from_hist(&batch.angle_hist, batch.rays),
-            angular_map: Map {
-                cells: ANGULAR_CELLS,
-                width_mm: 2.0,
-                height_mm: 2.0,
-                share: batch
-                    .angular_map
-                    .iter()
-                    .map(|v| v / batch.rays as f64)
-                    .collect(),
-            },
-            leak_along_route: RouteProfile {
-                bin_mm: self.route.length_mm / ROUTE_BINS as f64,
-                share: batch
-                    .route_leak
-                    .iter()
-                    .map(|v| v / batch.rays as f64)
-                    .collect(),
+            angular_map: Map::new(&batch.angular_map, batch.rays, ANGULAR_CELLS, 2.0, 2.0),
+            leak_along_route: {
+                let (share, ci95) = batch.route_leak.shares(batch.rays);
+                RouteProfile {
+                    bin_mm: self.route.length_mm / ROUTE_BINS as f64,
+                    share,
+                    ci95,
+                }
             },
             paths: batch.paths.clone(),
         }
@@ -652,24 +713,36 @@ impl Prepared {
             Flux::Mw(x) => (x, "mW", "mW/sr"),
             Flux::Lm(x) => (x, "lm", "cd"),
         };
-        let delivered = batch.tallies[DELIVERED].mean * value;
+        let delivered = batch.tallies[DELIVERED].share();
         let intensity = Intensity::from_hist(&batch.angle_hist, batch.rays);
-        // Share per steradian × flux.
-        let peak = intensity.share_per_sr.iter().fold(0.0f64, |a, &b| a.max(b)) * value;
-        let on_axis = intensity.share_per_sr[0] * value;
+        // Share per steradian × flux; the peak is the brightest 1° ring.
+        let peak_ring = (0..intensity.share_per_sr.len())
+            .max_by(|&a, &b| intensity.share_per_sr[a].total_cmp(&intensity.share_per_sr[b]))
+            .unwrap_or(0);
         let area_m2 = self.route.exit_section.area_mm2() * 1e-6;
+        let with_ci = |share: f64, ci: f64| Value {
+            value: share * value,
+            ci95: ci * value,
+        };
+        let on_axis = with_ci(intensity.share_per_sr[0], intensity.ci95_per_sr[0]);
         Some(Absolute {
             unit,
             intensity_unit,
-            delivered,
-            peak_intensity: peak,
+            delivered: with_ci(delivered.share, delivered.ci95),
+            peak_intensity: with_ci(
+                intensity.share_per_sr[peak_ring],
+                intensity.ci95_per_sr[peak_ring],
+            ),
+            peak_angle_deg: intensity.angle_deg[peak_ring],
             on_axis_intensity: on_axis,
-            mean_exit_luminance: if unit == "lm" {
-                Some(on_axis / area_m2)
-            } else {
-                None
-            },
-            receiver: self.scenario.receiver.map(|_| batch.receiver.mean * value),
+            mean_exit_luminance: (unit == "lm").then(|| Value {
+                value: on_axis.value / area_m2,
+                ci95: on_axis.ci95 / area_m2,
+            }),
+            receiver: self.scenario.receiver.map(|_| {
+                let r = batch.receiver.share();
+                with_ci(r.share, r.ci95)
+            }),
         })
     }
 }
@@ -736,6 +809,26 @@ pub struct Map {
     pub height_mm: f64,
     /// Share of the emitted power per cell, row-major from −y to +y.
     pub share: Vec<f64>,
+    /// 95 % half-width of each cell's share.
+    pub ci95: Vec<f64>,
+    /// Share per unit area of a cell (per mm² on the exit face: relative irradiance).
+    pub share_per_area: Vec<f64>,
+}
+
+impl Map {
+    fn new(h: &Hist, rays: u64, cells: usize, width_mm: f64, height_mm: f64) -> Map {
+        let (share, ci95) = h.shares(rays);
+        let cell_area = width_mm * height_mm / (cells * cells) as f64;
+        let share_per_area = share.iter().map(|v| v / cell_area).collect();
+        Map {
+            cells,
+            width_mm,
+            height_mm,
+            share,
+            ci95,
+            share_per_area,
+        }
+    }
 }
 
 /// Intensity against polar angle beyond the exit face.
@@ -745,22 +838,28 @@ pub struct Intensity {
     pub angle_deg: Vec<f64>,
     /// Share of the emitted power per steradian in each 1° ring.
     pub share_per_sr: Vec<f64>,
+    /// 95 % half-width of each ring's value.
+    pub ci95_per_sr: Vec<f64>,
 }
 
 impl Intensity {
-    fn from_hist(hist: &[f64], rays: u64) -> Intensity {
-        let n = hist.len();
+    fn from_hist(hist: &Hist, rays: u64) -> Intensity {
+        let (share, ci) = hist.shares(rays);
+        let n = share.len();
         let mut angle_deg = Vec::with_capacity(n);
         let mut share_per_sr = Vec::with_capacity(n);
-        for (i, h) in hist.iter().enumerate() {
+        let mut ci95_per_sr = Vec::with_capacity(n);
+        for i in 0..n {
             let (a0, a1) = ((i as f64).to_radians(), ((i + 1) as f64).to_radians());
             let omega = std::f64::consts::TAU * (libm::cos(a0) - libm::cos(a1));
             angle_deg.push(i as f64 + 0.5);
-            share_per_sr.push(h / rays.max(1) as f64 / omega);
+            share_per_sr.push(share[i] / omega);
+            ci95_per_sr.push(ci[i] / omega);
         }
         Intensity {
             angle_deg,
             share_per_sr,
+            ci95_per_sr,
         }
     }
 }
@@ -772,6 +871,17 @@ pub struct RouteProfile {
     pub bin_mm: f64,
     /// Share of the emitted power leaving the walls (or lost to contacts) in each bin.
     pub share: Vec<f64>,
+    /// 95 % half-width of each bin's share.
+    pub ci95: Vec<f64>,
+}
+
+/// An absolute figure with its 95 % half-width, in the unit its field names.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct Value {
+    /// The figure.
+    pub value: f64,
+    /// 95 % half-width.
+    pub ci95: f64,
 }
 
 /// Absolute figures when the source flux is given.
@@ -782,16 +892,18 @@ pub struct Absolute {
     /// Unit of intensity: mW/sr or cd.
     pub intensity_unit: &'static str,
     /// Delivered flux.
-    pub delivered: f64,
-    /// Peak intensity beyond the exit face (1° rings).
-    pub peak_intensity: f64,
+    pub delivered: Value,
+    /// Peak intensity beyond the exit face (brightest 1° ring).
+    pub peak_intensity: Value,
+    /// Angle from the exit axis of the brightest ring, degrees (its centre).
+    pub peak_angle_deg: f64,
     /// Intensity along the exit axis (first 1° ring).
-    pub on_axis_intensity: f64,
+    pub on_axis_intensity: Value,
     /// Mean luminance of the exit face seen along its axis: on-axis intensity over the
     /// exit-face area, cd/m² (luminous input only).
-    pub mean_exit_luminance: Option<f64>,
+    pub mean_exit_luminance: Option<Value>,
     /// Flux on the receiver.
-    pub receiver: Option<f64>,
+    pub receiver: Option<Value>,
 }
 
 /// Everything a trace reports.

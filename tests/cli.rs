@@ -496,7 +496,7 @@ fn entry_fresnel_loss_is_the_normal_incidence_reflectance() {
 
 #[test]
 fn every_example_design_gives_figures() {
-    for entry in std::fs::read_dir("examples").unwrap() {
+    for entry in std::fs::read_dir("examples/designs").unwrap() {
         let path = entry.unwrap().path();
         if path.extension().is_some_and(|e| e == "json") {
             let (ok, _, out, err) = tirtrace(&["figures", path.to_str().unwrap()], "");

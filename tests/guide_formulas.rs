@@ -98,7 +98,8 @@ fn guide_filled_to_its_critical_angle_has_no_leak_free_radius() {
 #[test]
 fn index_matched_launch_reaches_deeper_angles() {
     // A gel in front of the entry face (n 1.432) lets steeper rays in than air does, so the
-    // leak-free radius grows: n_gel sin θ = n_core sin θ' (Snell).
+    // leak-free radius grows: n_gel sin θ = n_core sin θ' (Snell's law; W. J. Smith, Modern
+    // Optical Engineering, 4th ed., ch. 1).
     let air = max_internal_angle_rad(1.49, 1.0, 1.0, 0.5);
     let gel = max_internal_angle_rad(1.49, 1.0, 1.432, 0.5);
     assert!((gel.sin() * 1.49 - 1.432 * 0.5f64.sin()).abs() < 1e-12);
@@ -161,4 +162,29 @@ fn etendue() {
     let (n0, n1, t0) = (1.0, 1.49, 0.6f64);
     let t1 = (n0 * t0.sin() / n1).asin();
     assert!((etendue_mm2_sr(2.0, n0, t0) - etendue_mm2_sr(2.0, n1, t1)).abs() < 1e-12);
+}
+
+#[test]
+fn guide_function_edge_cases() {
+    // 0: no launch cone gives the axial value; a zero-area aperture has no étendue.
+    assert_eq!(max_internal_angle_rad(1.49, 1.0, 1.0, 0.0), 0.0);
+    assert_eq!(etendue_mm2_sr(0.0, 1.5, 0.3), 0.0);
+    assert_eq!(lambertian_fraction_within(0.0), 0.0);
+    assert_eq!(cos_power_fraction_within(3.0, 0.0), 0.0);
+    // NA = 0 accepts nothing; NA exactly n₀ saturates.
+    assert_eq!(acceptance_half_angle_rad(0.0, 1.0), 0.0);
+    assert_eq!(acceptance_half_angle_rad(1.0, 1.0), FRAC_PI_2);
+    // ∞: an infinitely dense guide bends nothing away and needs only R_in/d = n_out/∞ → 0.
+    assert_eq!(leak_free_bend_ratio(f64::INFINITY, 1.0, 0.3), Some(0.0));
+    assert_eq!(numerical_aperture(f64::INFINITY, 1.0), f64::INFINITY);
+    // Launch angles past 90° are clamped by the fractions, not turned into nonsense.
+    assert_eq!(lambertian_fraction_within(2.0), 1.0);
+    assert_eq!(cos_power_fraction_within(1.0, 4.0), 1.0);
+    // NaN propagates through the pure functions (validation keeps it out of the core).
+    assert!(numerical_aperture(f64::NAN, 1.0).is_nan());
+    assert!(max_internal_angle_rad(1.49, 1.0, 1.0, f64::NAN).is_nan());
+    assert_eq!(leak_free_bend_ratio(f64::NAN, 1.0, 0.3), None);
+    // cos θmax rounding just past the limit (n cos θ = n_out + tiny) still gives a radius.
+    let theta = (1.0f64 / 1.49 + 1e-12).acos();
+    assert!(leak_free_bend_ratio(1.49, 1.0, theta).is_none_or(|r| r > 1e9));
 }

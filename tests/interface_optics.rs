@@ -78,9 +78,43 @@ fn total_internal_reflection_beyond_the_critical_angle() {
 }
 
 #[test]
+fn reflectance_plus_transmittance_is_one() {
+    // Energy conservation at the interface, checked with T computed independently from the
+    // transmission amplitudes t_s = 2 n1 cos θi/(n1 cos θi + n2 cos θt),
+    // t_p = 2 n1 cos θi/(n2 cos θi + n1 cos θt), T = (n2 cos θt)/(n1 cos θi) |t|²
+    // (M. Born, E. Wolf, Principles of Optics, §1.5.3): R_s + T_s = 1 and R_p + T_p = 1.
+    let mut rng = Rng(3);
+    let mut checked = 0;
+    for _ in 0..2000 {
+        let n1 = 1.0 + rng.next();
+        let n2 = 1.0 + rng.next();
+        let cos_i = rng.range(0.01, 1.0);
+        let sin_t = n1 / n2 * (1.0 - cos_i * cos_i).sqrt();
+        if sin_t >= 1.0 {
+            continue;
+        }
+        let cos_t = (1.0 - sin_t * sin_t).sqrt();
+        let t_s = 2.0 * n1 * cos_i / (n1 * cos_i + n2 * cos_t);
+        let t_p = 2.0 * n1 * cos_i / (n2 * cos_i + n1 * cos_t);
+        let factor = n2 * cos_t / (n1 * cos_i);
+        let (r_s, r_p) = fresnel_reflectance_sp(cos_i, n1, n2);
+        assert!(
+            (r_s + factor * t_s * t_s - 1.0).abs() < 1e-12,
+            "s: {n1} {n2} {cos_i}"
+        );
+        assert!(
+            (r_p + factor * t_p * t_p - 1.0).abs() < 1e-12,
+            "p: {n1} {n2} {cos_i}"
+        );
+        checked += 1;
+    }
+    assert!(checked > 1000);
+}
+
+#[test]
 fn energy_and_reciprocity_laws() {
-    // R + T = 1 by construction; reciprocity: T(n1→n2, θi) = T(n2→n1, θt) (Born & Wolf §1.5,
-    // Stokes relations), for each polarisation.
+    // Reciprocity: R(n1→n2, θi) = R(n2→n1, θt) (Born & Wolf §1.5, Stokes relations), for each
+    // polarisation; and every reflectance is a fraction.
     let mut rng = Rng(7);
     for _ in 0..2000 {
         let n1 = 1.0 + rng.next();

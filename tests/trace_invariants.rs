@@ -111,7 +111,12 @@ fn random_scenario(rng: &mut Rng, rays: u64) -> Scenario {
                    "offset_mm": [rng.range(-1.0, 1.0), rng.range(-1.0, 1.0)],
                    "tilt_deg": rng.range(0.0, 30.0), "tilt_toward_deg": rng.range(0.0, 360.0),
                    "flux": {"lm": 1.0}},
-        "receiver": {"diameter_mm": rng.range(1.0, 10.0), "distance_mm": rng.range(0.0, 10.0)},
+        "receiver": if rng.chance(0.5) {
+            json!({"diameter_mm": rng.range(1.0, 10.0), "distance_mm": rng.range(0.0, 10.0)})
+        } else {
+            json!({"width_mm": rng.range(1.0, 10.0), "height_mm": rng.range(1.0, 10.0),
+                   "distance_mm": rng.range(0.0, 10.0)})
+        },
         "trace": {"rays": rays, "seed": (rng.next() * 1e9) as u64, "max_interactions": 2000}
     });
     Scenario::from_json(&v.to_string()).unwrap_or_else(|e| panic!("{e}\n{v}"))

@@ -46,7 +46,8 @@ fn round_guide(
 
 #[test]
 fn lossless_straight_guide_leaks_nothing_it_accepted() {
-    // An unclad PMMA rod in air (n ≥ √2) guides every ray that enters from air (REFERENCES §3);
+    // An unclad PMMA rod in air (n ≥ √2) guides every ray that enters from air (REFERENCES §3,
+    // derived: NA = √(n² − 1) ≥ 1);
     // a clad guide fed by a beam inside its acceptance cone (NA 0.51 → 30.69°, Keiser) likewise.
     let cases = [
         (
@@ -274,7 +275,9 @@ fn bend_criterion_lambertian_from_air_with_skew_rays() {
 
 #[test]
 fn beer_lambert_on_an_axial_beam() {
-    // P = P₀ e^(−αL), loss in dB = 4.343 αL (REFERENCES §6). Index-matched faces: no Fresnel
+    // Beer–Lambert, P = P₀ e^(−αL), loss in dB = 10 log10(e) αL = 4.343 αL (the definition of
+    // attenuation in dB, e.g. G. Keiser, Optical Fiber Communications, ch. 3; REFERENCES §6,
+    // computed). Index-matched faces: no Fresnel
     // loss, so every ray leaves with exactly 10^(−A L / 10) of its power.
     let n = 1.49;
     for (db_per_m, length_mm) in [(0.4, 1000.0), (1000.0, 20.0)] {
@@ -328,10 +331,33 @@ fn outputs_add_up_to_the_delivered_share() {
     assert!((leak_profile - r.budget.leaked.share - r.budget.contact.share).abs() < 1e-12);
     let rec = r.receiver.unwrap();
     assert!(rec.share <= d && rec.share > 0.0);
+    // A window as large as the exit face, right on it, catches every delivered ray; a disk
+    // inscribed in a square window catches no more than the window.
+    let mut on_face = s.clone();
+    on_face.receiver = Some(tirtrace::scenario::Receiver {
+        diameter_mm: None,
+        width_mm: Some(3.0),
+        height_mm: Some(3.0),
+        distance_mm: 0.0,
+    });
+    let f = run(&on_face);
+    assert_eq!(f.receiver.unwrap().share, f.delivered.share);
+    let window = |disk: bool| {
+        let mut w = s.clone();
+        w.receiver = Some(tirtrace::scenario::Receiver {
+            diameter_mm: disk.then_some(4.0),
+            width_mm: (!disk).then_some(4.0),
+            height_mm: (!disk).then_some(4.0),
+            distance_mm: 3.0,
+        });
+        run(&w).receiver.unwrap().share
+    };
+    assert!(window(true) < window(false));
     let abs = r.absolute.unwrap();
-    assert!((abs.delivered - 1.2 * d).abs() < 1e-12);
+    assert!((abs.delivered.value - 1.2 * d).abs() < 1e-12);
+    assert!((abs.delivered.ci95 - 1.2 * r.delivered.ci95).abs() < 1e-12);
     assert_eq!(abs.unit, "lm");
-    assert!(abs.mean_exit_luminance.unwrap() > 0.0);
+    assert!(abs.mean_exit_luminance.unwrap().value > 0.0);
 }
 
 #[test]

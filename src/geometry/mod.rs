@@ -559,18 +559,34 @@ pub fn torus_exit(o: DVec3, d: DVec3, rc: f64, a: f64, t_hi: f64) -> Option<f64>
         roots::Upcrossing::At(t) => return Some(t),
         roots::Upcrossing::Between { a, b, pa, convex } => (a, b, pa, convex),
     };
-    // Find the crossing by safeguarded Newton on g(t) = (ρ − rc)² + z² − a², which has the sign
-    // of the quartic but is far closer to quadratic, so Newton converges in a few steps from
-    // anywhere in the bracket (the quartic's own Newton crawls from a far end).
+    // Find the crossing by safeguarded Halley iteration on g(t) = (ρ − rc)² + z² − a², which has
+    // the sign of the quartic but is far closer to quadratic, so it converges in a few steps from
+    // anywhere in the bracket (the quartic's own Newton crawls from a far end). Along the ray
+    // ρ² = α t² + 2β t + γ, so ρ' = (α t + β)/ρ and ρ'' = (α − ρ'²)/ρ: g and its first two
+    // derivatives cost one square root and one division.
+    let a2 = a * a;
     let g = |t: f64| {
         let p = o + t * d;
         let rho = (p.x * p.x + p.y * p.y).sqrt();
-        let g = (rho - rc) * (rho - rc) + p.z * p.z - a * a;
-        let dg = 2.0 * (rho - rc) * (p.x * d.x + p.y * d.y) / rho + 2.0 * p.z * d.z;
-        (g, dg)
+        let inv = 1.0 / rho;
+        let drho = (p.x * d.x + p.y * d.y) * inv;
+        let e = rho - rc;
+        let g = e * e + p.z * p.z - a2;
+        let dg = 2.0 * (e * drho + p.z * d.z);
+        let ddg = 2.0 * (drho * drho + e * (alpha - drho * drho) * inv + d.z * d.z);
+        (g, dg, ddg)
     };
-    let (g_lo, _) = g(lo);
-    let (g_hi, _) = g(hi);
+    let (mut g_lo, dg_lo, ddg_lo) = g(lo);
+    // A start snapped onto the wall (p(0) = 0 above) is on it: g(0) computed there is rounding
+    // noise, and a positive one would make g seem to disagree with the quartic at a start that
+    // only rounds to outside. Measure g from that level instead (as if exactly on the wall).
+    let shift = if lo == 0.0 && p0 == 0.0 && g_lo > 0.0 {
+        g_lo
+    } else {
+        0.0
+    };
+    g_lo -= shift;
+    let g_hi = g(hi).0 - shift;
     if !(g_lo <= 0.0 && g_hi > 0.0) {
         // g and the quartic disagree on a sign within rounding: stay with the quartic.
         return Some(roots::polish_quartic(&coeffs, lo, hi, pa, convex));
@@ -580,35 +596,38 @@ pub fn torus_exit(o: DVec3, d: DVec3, rc: f64, a: f64, t_hi: f64) -> Option<f64>
     // Start from the up-crossing of g's own second-order Taylor model at the bracket start: along
     // a chord of the tube g is nearly quadratic, so this lands within a hair of the root.
     let mut t = if convex { hi } else { lo };
-    {
-        let p = o + lo * d;
-        let rho2 = p.x * p.x + p.y * p.y;
-        let rho = rho2.sqrt();
-        let drho = (p.x * d.x + p.y * d.y) / rho;
-        let g0 = (rho - rc) * (rho - rc) + p.z * p.z - a * a;
-        let dg = 2.0 * (rho - rc) * drho + 2.0 * p.z * d.z;
-        let ddg = 2.0 * (drho * drho + (rho - rc) * (alpha - drho * drho) / rho + d.z * d.z);
-        let disc = dg * dg - 2.0 * ddg * g0;
-        if ddg > 0.0 && disc >= 0.0 {
-            let guess = lo + (-dg + disc.sqrt()) / ddg;
-            if guess > l && guess < h {
-                t = guess;
-            }
+    let disc = dg_lo * dg_lo - 2.0 * ddg_lo * g_lo;
+    if ddg_lo > 0.0 && disc >= 0.0 {
+        let guess = lo + (-dg_lo + disc.sqrt()) / ddg_lo;
+        if guess > l && guess < h {
+            t = guess;
         }
     }
     for _ in 0..100 {
-        let (gt, dgt) = g(t);
+        let (gt, dgt, ddgt) = g(t);
+        let gt = gt - shift;
         if gt > 0.0 {
             h = t;
         } else {
             l = t;
         }
-        let newton = t - gt / dgt;
-        let newton_ok = dgt != 0.0 && newton > l && newton < h;
-        let next = if newton_ok { newton } else { 0.5 * (l + h) };
-        // Newton converges quadratically: once a step is below 1e-8 of the tube radius, the
-        // error after it is far below rounding, so `next` is the root to machine precision.
-        if (newton_ok && (next - t).abs() <= 1e-8 * a) || (next - t).abs() <= tol || h - l <= tol {
+        // Halley's step (cubic convergence), else Newton's, else bisection: the first that
+        // stays inside the bracket.
+        let halley = t - 2.0 * gt * dgt / (2.0 * dgt * dgt - gt * ddgt);
+        let (next, converging) = if halley > l && halley < h {
+            (halley, true)
+        } else {
+            let newton = t - gt / dgt;
+            if newton > l && newton < h {
+                (newton, false)
+            } else {
+                (0.5 * (l + h), false)
+            }
+        };
+        // Halley's error after a step of size s is ~s³/a² (less than the rounding of t once
+        // s ≤ 1e-6·a), so `next` is then the root to machine precision.
+        let step = (next - t).abs();
+        if (converging && step <= 1e-6 * a) || step <= tol || h - l <= tol {
             return Some(next);
         }
         t = next;

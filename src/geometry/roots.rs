@@ -195,13 +195,17 @@ pub fn first_upcrossing_bracket(c: &[f64; 5], lo: f64, hi: f64) -> Option<Upcros
         let (da, db) = (eval(&d1, a), eval(&d1, b));
         ((da < 0.0 && db > 0.0) || (da > 0.0 && db < 0.0)).then(|| polish(&d1, a, b, da))
     };
+    // `p ≤ noise` and `p > noise` are decided without the bound whenever the sign of p already
+    // settles them (the bound is ≥ 0), so the bound is only evaluated for p > 0.
+    let inside = |p: f64, t: f64| p <= 0.0 || p <= noise(t);
     let mut a = lo;
     let mut pa = eval(c, a);
+    let mut a_inside = inside(pa, a);
     for b in infl[..m].iter().copied().chain(std::iter::once(hi)) {
         let pb = eval(c, b);
-        let (na, nb) = (noise(a), noise(b));
+        let b_inside = inside(pb, b);
         let convex = eval(&d2, 0.5 * (a + b)) >= 0.0;
-        if pa <= na && pb > nb {
+        if a_inside && !b_inside {
             // Newton converges monotonically from b on a convex piece (the tangent lies below
             // the curve) and from a on a concave one (p' > 0 there, tangent above the curve).
             return Some(if pa > 0.0 {
@@ -210,7 +214,7 @@ pub fn first_upcrossing_bracket(c: &[f64; 5], lo: f64, hi: f64) -> Option<Upcros
                 Upcrossing::Between { a, b, pa, convex }
             });
         }
-        if pa <= na && !convex {
+        if a_inside && !convex {
             // Both ends inside on a concave piece: does the maximum get out?
             if let Some(t) = extremum(a, b) {
                 let pt = eval(c, t);
@@ -227,7 +231,7 @@ pub fn first_upcrossing_bracket(c: &[f64; 5], lo: f64, hi: f64) -> Option<Upcros
                     });
                 }
             }
-        } else if pa > na && convex && pb > nb {
+        } else if !a_inside && convex && !b_inside {
             // Outside at both ends on a convex piece: does the minimum get back inside?
             if let Some(t) = extremum(a, b) {
                 let pt = eval(c, t);
@@ -247,6 +251,7 @@ pub fn first_upcrossing_bracket(c: &[f64; 5], lo: f64, hi: f64) -> Option<Upcros
         }
         a = b;
         pa = pb;
+        a_inside = b_inside;
     }
     None
 }

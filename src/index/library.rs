@@ -152,7 +152,7 @@ pub fn materials() -> Vec<Material> {
             max_nm: 800.0,
             basis: IndexBasis::Air,
             source: "n at 589 nm, 20 °C, 1.432 ± 0.001 (chemical property databases)",
-            note: "constant: dispersion across the visible not modelled",
+            note: "constant: dispersion across the visible not modelled; the 400–800 nm range is our own choice, not the source's",
         },
     ]
 }

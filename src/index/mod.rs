@@ -137,7 +137,16 @@ impl IndexModel {
             IndexModel::Sellmeier { b, c_um2 } => terms("c_um2", b, c_um2)?,
             IndexModel::SellmeierWavelengths { b, lambda_um } => terms("lambda_um", b, lambda_um)?,
             IndexModel::BeadiePolynomial { a } => finite("a", a)?,
-            IndexModel::Cauchy { a, b_um2, c_um4 } => finite("a", &[*a, *b_um2, *c_um4])?,
+            IndexModel::Cauchy { a, b_um2, c_um4 } => {
+                for (name, x) in [("a", a), ("b_um2", b_um2), ("c_um4", c_um4)] {
+                    if !x.is_finite() {
+                        return Err(FieldError::new(
+                            format!("{path}.{name}"),
+                            format!("must be a finite number, got {}", show(*x)),
+                        ));
+                    }
+                }
+            }
         }
         Ok(())
     }

@@ -7,6 +7,7 @@ use plotters::prelude::*;
 use plotters_canvas::CanvasBackend;
 use serde::Serialize;
 use wasm_bindgen::prelude::*;
+use wasm_bindgen::JsCast;
 
 use crate::fan::{bend_fan as core_bend_fan, FanFate};
 use crate::index::library;
@@ -20,8 +21,52 @@ fn to_js<T: Serialize>(value: &T) -> Result<JsValue, JsError> {
 }
 
 fn read_design(design: JsValue) -> Result<QuickDesign, FieldError> {
-    serde_wasm_bindgen::from_value(design)
-        .map_err(|e| FieldError::new("design", format!("could not be read: {e}")))
+    let de = serde_wasm_bindgen::Deserializer::from(design.clone());
+    let parsed: QuickDesign = serde_path_to_error::deserialize(de).map_err(|e| {
+        let path = e.path().to_string();
+        let field = if path.is_empty() || path == "." || path == "?" {
+            "design".to_string()
+        } else {
+            path
+        };
+        FieldError::new(field, format!("could not be read: {}", e.into_inner()))
+    })?;
+    // serde-wasm-bindgen looks up only the fields it knows, so unknown ones would pass silently:
+    // compare the keys given with those of the design as read.
+    let known = parsed
+        .serialize(&serde_wasm_bindgen::Serializer::json_compatible())
+        .map_err(|e| FieldError::new("design", e.to_string()))?;
+    if let Some(path) = unknown_key(&design, &known, "") {
+        return Err(FieldError::new(
+            path,
+            "is not a field of the design (check the spelling)",
+        ));
+    }
+    Ok(parsed)
+}
+
+/// The path of the first key of `given` (a JS object tree) that `known` lacks.
+fn unknown_key(given: &JsValue, known: &JsValue, prefix: &str) -> Option<String> {
+    if !given.is_object() || !known.is_object() || Array::is_array(given) {
+        return None;
+    }
+    for key in Object::keys(given.unchecked_ref::<Object>()).iter() {
+        let name = key.as_string().unwrap_or_default();
+        let path = if prefix.is_empty() {
+            name.clone()
+        } else {
+            format!("{prefix}.{name}")
+        };
+        let sub_known = Reflect::get(known, &key).unwrap_or(JsValue::UNDEFINED);
+        if sub_known.is_undefined() {
+            return Some(path);
+        }
+        let sub_given = Reflect::get(given, &key).unwrap_or(JsValue::UNDEFINED);
+        if let Some(p) = unknown_key(&sub_given, &sub_known, &path) {
+            return Some(p);
+        }
+    }
+    None
 }
 
 fn js_error(e: TirError) -> JsError {
@@ -132,26 +177,42 @@ impl Tracer {
 
     /// Trace batches `first .. first + count` (merged in order) and return the report.
     pub fn report(&self, first: f64, count: f64, keep_paths: u32) -> Result<JsValue, JsError> {
-        let batch = self.merged(first, count, keep_paths as usize);
+        let batch = self.merged(first, count, keep_paths as usize)?;
         to_js(&self.prepared.report(&batch))
     }
 
     /// Trace batches `first .. first + count` and return only the number of wall interactions
     /// (for speed measurements).
-    pub fn wall_interactions(&self, first: f64, count: f64) -> f64 {
-        self.merged(first, count, 0).wall_interactions as f64
+    pub fn wall_interactions(&self, first: f64, count: f64) -> Result<f64, JsError> {
+        Ok(self.merged(first, count, 0)?.wall_interactions as f64)
     }
 }
 
 impl Tracer {
-    fn merged(&self, first: f64, count: f64, keep_paths: usize) -> crate::trace::Batch {
+    fn merged(
+        &self,
+        first: f64,
+        count: f64,
+        keep_paths: usize,
+    ) -> Result<crate::trace::Batch, JsError> {
         let total = self.prepared.batch_count();
-        let first = (first.max(0.0) as u64).min(total);
-        let end = (first + count.max(0.0) as u64).min(total);
+        let whole = |x: f64| x.is_finite() && x >= 0.0 && x.fract() == 0.0;
+        if !whole(first) || first >= total as f64 {
+            return Err(JsError::new(&format!(
+                "first must be a whole batch index ≥ 0 and < {total}, got {first}"
+            )));
+        }
+        let left = total - first as u64;
+        if !whole(count) || count < 1.0 || count > left as f64 {
+            return Err(JsError::new(&format!(
+                "count must be a whole number of batches ≥ 1 and ≤ {left}, got {count}"
+            )));
+        }
+        let (first, end) = (first as u64, first as u64 + count as u64);
         let mut merged = self.prepared.trace_batch(first, keep_paths);
         for b in first + 1..end {
             merged.merge(&self.prepared.trace_batch(b, keep_paths));
         }
-        merged
+        Ok(merged)
     }
 }

@@ -19,9 +19,42 @@ const SCENARIOS = join(ROOT, 'examples', 'scenarios');
 
 initSync({ module: readFileSync(join(ROOT, 'www', 'pkg', 'tirtrace_bg.wasm')) });
 
-for (const file of readdirSync(SCENARIOS).filter((f) => f.endsWith('.json'))) {
-  test(`wasm and native agree bit for bit on ${file}`, () => {
-    const scenario = JSON.parse(readFileSync(join(SCENARIOS, file), 'utf8'));
+const examples = readdirSync(SCENARIOS)
+  .filter((f) => f.endsWith('.json'))
+  .map((f) => [f, JSON.parse(readFileSync(join(SCENARIOS, f), 'utf8'))]);
+
+// Variants that reach the parts the examples do not: a tabulated, tilted, offset LED; a
+// rectangular bar with a taper, a bend across its height, a clip and a window receiver; a
+// beam through a high-index gel.
+const base = JSON.parse(readFileSync(join(SCENARIOS, 'thermostat_status_led.json'), 'utf8'));
+const variants = [
+  ['table LED, tilted and offset', {
+    ...base,
+    source: { ...base.source, tilt_deg: 12, tilt_toward_deg: 200, offset_mm: [0.3, -0.2],
+      emitter: { led: { area: { disk: { diameter_mm: 0.8 } },
+        pattern: { table: { points: [[0, 1], [20, 0.95], [45, 0.6], [70, 0.15], [85, 0]] } } } } },
+  }],
+  ['rectangular bar, taper, bend across the height, window receiver', {
+    ...base,
+    guide: { section: { rectangular: { width_mm: 4, height_mm: 2 } }, material: { library: 'polycarbonate' },
+      surroundings: { library: 'air' }, attenuation_db_per_m: 2,
+      contacts: [{ segment: 1, from_mm: 0, to_mm: 3, sector_from_deg: 80, sector_to_deg: 100,
+        medium: { library: 'pdms' } }] },
+    route: [{ straight: { length_mm: 4 } },
+      { taper: { length_mm: 8, end_section: { rectangular: { width_mm: 3, height_mm: 1.5 } } } },
+      { bend: { radius_mm: 6, angle_deg: 75, turn_deg: 90 } }, { straight: { length_mm: 5 } }],
+    receiver: { width_mm: 5, height_mm: 3, distance_mm: 2 },
+  }],
+  ['beam through a high-index gel', {
+    ...base,
+    source: { ...base.source, gap_mm: 0.5, gap_medium: { custom: { model: 'constant', n: 1.7 } },
+      emitter: { beam: { diameter_mm: 2.5, divergence_half_angle_deg: 35 } } },
+  }],
+];
+
+for (const [name, original] of [...examples, ...variants]) {
+  test(`wasm and native agree bit for bit on ${name}`, () => {
+    const scenario = structuredClone(original);
     scenario.trace = { ...(scenario.trace || {}), rays: 3 * 4096 + 17, seed: 99 };
     const text = JSON.stringify(scenario);
     const cli = spawnSync(CLI, ['trace', '-', '--threads', '2'], { input: text, encoding: 'utf8' });
@@ -33,7 +66,7 @@ for (const file of readdirSync(SCENARIOS).filter((f) => f.endsWith('.json'))) {
     assert.ok(native.delivered.share > 0, 'some light is delivered');
     // Every figure, compared as numbers (JSON printing is shortest round-trip on both sides).
     for (const key of ['delivered', 'budget', 'budget_sum', 'segments', 'contacts', 'receiver',
-      'wall_interactions', 'exit_map', 'intensity', 'leak_along_route']) {
+      'absolute', 'wall_interactions', 'exit_map', 'intensity', 'angular_map', 'leak_along_route']) {
       assert.deepStrictEqual(wasm[key] ?? null, native[key] ?? null, `${key} differs`);
     }
   });

@@ -3,10 +3,10 @@
 //! (T. F. Chan, G. H. Golub, R. J. LeVeque, "Algorithms for computing the sample variance",
 //! Am. Stat. 37, 242 (1983)), always in batch order, so results do not depend on thread count.
 
-use serde::Serialize;
+use serde::{Deserialize, Serialize};
 
 /// Running mean and sum of squared deviations of per-ray contributions.
-#[derive(Debug, Clone, Copy, Default, PartialEq)]
+#[derive(Debug, Clone, Copy, Default, PartialEq, Serialize, Deserialize)]
 pub struct Estimate {
     /// Number of rays.
     pub n: u64,

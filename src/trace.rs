@@ -17,7 +17,7 @@
 use glam::DVec3;
 use rand_core::{Rng, SeedableRng};
 use rand_pcg::Pcg64Mcg;
-use serde::Serialize;
+use serde::{Deserialize, Serialize};
 
 use crate::error::TirError;
 use crate::geometry::{Next, PlacedRoute};
@@ -53,7 +53,7 @@ const TOTAL_CONTACT: usize = 7;
 const FIXED: usize = 8;
 
 /// What became of a sampled path (for drawing).
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
 #[serde(rename_all = "snake_case")]
 pub enum Fate {
     /// Left through the exit face.
@@ -73,7 +73,7 @@ pub enum Fate {
 }
 
 /// A sampled ray path for drawing: global points, mm.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct Path {
     /// Fate.
     pub fate: Fate,
@@ -111,7 +111,7 @@ struct ContactZone {
 
 /// A histogram of per-ray weights in which each ray lands in at most one bin: sums and sums of
 /// squares, so that every bin has its own confidence interval.
-#[derive(Debug, Clone, PartialEq)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct Hist {
     /// Σ w per bin.
     pub sum: Vec<f64>,
@@ -166,8 +166,9 @@ impl Hist {
     }
 }
 
-/// The raw result of one or more merged batches.
-#[derive(Debug, Clone, PartialEq)]
+/// The raw result of one or more merged batches. Serialisable, so that batches traced in
+/// separate workers can be sent back and merged in batch order.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct Batch {
     /// Per-tally estimates (fixed tallies, leaked by segment, absorbed by segment, contacts).
     pub tallies: Vec<Estimate>,

@@ -181,6 +181,37 @@ impl Tracer {
         to_js(&self.prepared.report(&batch))
     }
 
+    /// Trace batches `first .. first + count` and return them one by one (an array of plain
+    /// objects) to send from a worker; [`Tracer::report_merged`] turns them into the report.
+    /// (They are not merged here: floating-point sums depend on grouping, and only merging every
+    /// batch in order reproduces a single run bit for bit.)
+    pub fn batches(&self, first: f64, count: f64, keep_paths: u32) -> Result<JsValue, JsError> {
+        let (first, end) = self.range(first, count)?;
+        let list: Vec<crate::trace::Batch> = (first..end)
+            .map(|b| self.prepared.trace_batch(b, keep_paths as usize))
+            .collect();
+        to_js(&list)
+    }
+
+    /// The report of batch results from [`Tracer::batches`] (from any number of workers),
+    /// flattened into one array in batch order: identical to tracing them all in one go.
+    pub fn report_merged(&self, parts: JsValue) -> Result<JsValue, JsError> {
+        let parts: Vec<crate::trace::Batch> = serde_wasm_bindgen::from_value(parts)
+            .map_err(|e| JsError::new(&format!("parts could not be read: {e}")))?;
+        let mut iter = parts.into_iter();
+        let mut total = iter
+            .next()
+            .ok_or_else(|| JsError::new("parts must hold at least one batch result"))?;
+        let k = total.tallies.len();
+        for p in iter {
+            if p.tallies.len() != k {
+                return Err(JsError::new("parts come from different scenarios"));
+            }
+            total.merge(&p);
+        }
+        to_js(&self.prepared.report(&total))
+    }
+
     /// Trace batches `first .. first + count` and return only the number of wall interactions
     /// (for speed measurements).
     pub fn wall_interactions(&self, first: f64, count: f64) -> Result<f64, JsError> {
@@ -195,6 +226,16 @@ impl Tracer {
         count: f64,
         keep_paths: usize,
     ) -> Result<crate::trace::Batch, JsError> {
+        let (first, end) = self.range(first, count)?;
+        let mut merged = self.prepared.trace_batch(first, keep_paths);
+        for b in first + 1..end {
+            merged.merge(&self.prepared.trace_batch(b, keep_paths));
+        }
+        Ok(merged)
+    }
+
+    /// Check a batch range given from JS: whole numbers, inside the scenario's batches.
+    fn range(&self, first: f64, count: f64) -> Result<(u64, u64), JsError> {
         let total = self.prepared.batch_count();
         let whole = |x: f64| x.is_finite() && x >= 0.0 && x.fract() == 0.0;
         if !whole(first) || first >= total as f64 {
@@ -208,11 +249,6 @@ impl Tracer {
                 "count must be a whole number of batches ≥ 1 and ≤ {left}, got {count}"
             )));
         }
-        let (first, end) = (first as u64, first as u64 + count as u64);
-        let mut merged = self.prepared.trace_batch(first, keep_paths);
-        for b in first + 1..end {
-            merged.merge(&self.prepared.trace_batch(b, keep_paths));
-        }
-        Ok(merged)
+        Ok((first as u64, first as u64 + count as u64))
     }
 }

@@ -71,3 +71,17 @@ for (const [name, original] of [...examples, ...variants]) {
     }
   });
 }
+
+test('batches traced apart (as by several workers) and merged in order give the same report', () => {
+  const scenario = structuredClone(base);
+  scenario.trace = { rays: 5 * 4096, seed: 5 };
+  const tracer = new Tracer(JSON.stringify(scenario));
+  const whole = tracer.report(0, 5, 0);
+  // Three "workers" take consecutive ranges; their batch lists are joined in order.
+  const parts = [tracer.batches(0, 2, 0), tracer.batches(2, 1, 0), tracer.batches(3, 2, 0)];
+  const merged = tracer.report_merged(parts.flat());
+  assert.deepStrictEqual(merged, whole);
+  assert.throws(() => tracer.report(5, 1, 0), /first must be a whole batch index/);
+  assert.throws(() => tracer.report_merged([]), /at least one/);
+  tracer.free();
+});

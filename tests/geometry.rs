@@ -1642,3 +1642,22 @@ fn s_bends_u_turns_and_closed_loops() {
         );
     }
 }
+
+#[test]
+fn position_along_a_half_turn_bend() {
+    // A 180° bend: points just past either end plane map to the ends, not to the wrong end.
+    let route = PlacedRoute::new(
+        tirtrace::scenario::Section::Round { diameter_mm: 2.0 },
+        &[tirtrace::scenario::Segment::Bend {
+            radius_mm: 10.0,
+            angle_deg: 180.0,
+            turn_deg: 0.0,
+        }],
+    );
+    let bend = &route.segments[0];
+    let len = 10.0 * std::f64::consts::PI;
+    // Local frame: centre line from angle 0 (+x) to 180° (−x), turning through +y.
+    assert_eq!(bend.along_mm(DVec3::new(10.0, -1e-12, 0.0)), 0.0);
+    assert!((bend.along_mm(DVec3::new(-10.0, -1e-12, 0.0)) - len).abs() < 1e-9);
+    assert!((bend.along_mm(DVec3::new(0.0, 10.0, 0.0)) - len / 2.0).abs() < 1e-9);
+}

@@ -453,11 +453,20 @@ impl Placed {
         }
     }
 
-    /// Position along the segment's centre line of a local point, mm from the segment's start.
+    /// Position along the segment's centre line of a local point, mm from the segment's start
+    /// (clamped to the segment).
     pub fn along_mm(&self, p: DVec3) -> f64 {
         match self.shape {
-            Shape::Axial { .. } => p.z,
-            Shape::Bend { rc, .. } => rc * libm::atan2(p.y, p.x).max(0.0),
+            Shape::Axial { length, .. } => p.z.clamp(0.0, length),
+            Shape::Bend { rc, phi, .. } => {
+                // atan2 lies in (−π, π]: a point at the far end of a 180° bend can come out
+                // as −π + ε; only a point just before the start comes out slightly negative.
+                let mut theta = libm::atan2(p.y, p.x);
+                if theta < -std::f64::consts::FRAC_PI_2 {
+                    theta += std::f64::consts::TAU;
+                }
+                rc * theta.clamp(0.0, phi)
+            }
         }
     }
 

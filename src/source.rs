@@ -109,6 +109,8 @@ impl SourceSampler {
         };
         let pos = self.centre + x * self.e1 + y * self.e2;
         let cos_t = match &self.law {
+            // Lambertian (m = 1): the square root, exact and far cheaper than pow.
+            Law::CosPower { inv_m1 } if *inv_m1 == 0.5 => (1.0 - u[2]).sqrt(),
             Law::CosPower { inv_m1 } => libm::pow(1.0 - u[2], *inv_m1),
             Law::Cone { one_minus_cos } => 1.0 - u[2] * one_minus_cos,
             Law::Table { cdf, step_rad } => {

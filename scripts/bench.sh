@@ -1,14 +1,26 @@
 #!/usr/bin/env bash
-# Speed: criterion benchmarks (native), then the same batches natively and in wasm one after
-# the other, printing the wasm/native ratio measured in this one run.
+# Speed, reported as ratios measured in one run (these machines are noisy):
+#   - criterion benchmarks of the tracer (native; skipped with --quick)
+#   - the same batches natively and in wasm (Node), one after the other: wasm/native ratio
+#   - with --against REV: this version against REV (e.g. HEAD~1) on the same batches,
+#     alternating runs, built from a temporary git worktree
 set -euo pipefail
 cd "$(dirname "$0")/.."
+quick=0; against=""
+while [[ $# -gt 0 ]]; do
+  case "$1" in
+    --quick) quick=1; shift ;;
+    --against) against="$2"; shift 2 ;;
+    *) echo "usage: scripts/bench.sh [--quick] [--against REV]" >&2; exit 2 ;;
+  esac
+done
 bash scripts/setup.sh
 bash scripts/build.sh
 scenario=examples/scenarios/bench_three_bends.json
 batches="${BATCHES:-20}"
-[[ "${1:-}" == "--quick" ]] || cargo bench --bench trace
-native=$(cargo run -q --release --example speed -- "$scenario" "$batches")
+[[ $quick -eq 1 ]] || cargo bench --bench trace
+cargo build -q --release --example speed
+native=$(target/release/examples/speed "$scenario" "$batches")
 wasm=$(node benches/wasm_speed.mjs "$scenario" "$batches")
 echo "$native"
 echo "$wasm"
@@ -17,3 +29,20 @@ import json, sys
 n, w = json.loads(sys.argv[1]), json.loads(sys.argv[2])
 print(f"wasm takes {n['rays_per_s'] / w['rays_per_s']:.2f}x the native time per ray (same batches, same run)")
 PY
+if [[ -n "$against" ]]; then
+  tree=$(mktemp -d)
+  trap 'git worktree remove --force "$tree" >/dev/null 2>&1 || true' EXIT
+  git worktree add -q --detach "$tree" "$against"
+  (cd "$tree" && CARGO_TARGET_DIR="$PWD/target" cargo build -q --release --example speed)
+  old_bin="$tree/target/release/examples/speed"
+  for round in 1 2 3; do
+    now=$(target/release/examples/speed "$scenario" "$batches")
+    then=$("$old_bin" "$scenario" "$batches")
+    python3 - "$now" "$then" "$round" "$against" <<'PY'
+import json, sys
+a, b = json.loads(sys.argv[1]), json.loads(sys.argv[2])
+print(f"round {sys.argv[3]}: this version traces {a['rays_per_s'] / b['rays_per_s']:.2f}x the rays/s of {sys.argv[4]} "
+      f"({a['wall_interactions_per_s'] / 1e6:.2f} vs {b['wall_interactions_per_s'] / 1e6:.2f} M wall interactions/s)")
+PY
+  done
+fi

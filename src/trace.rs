@@ -94,6 +94,8 @@ pub struct Prepared {
     source: SourceSampler,
     alpha_per_mm: f64,
     contacts: Vec<ContactZone>,
+    /// Whether any contact zone touches each segment (most wall hits need no zone look-up).
+    segment_has_contact: Vec<bool>,
     entry_half: (f64, f64),
     entry_round: bool,
     exit_half: (f64, f64),
@@ -107,6 +109,9 @@ struct ContactZone {
     from_deg: f64,
     to_deg: f64,
     n: f64,
+    /// sin² of the critical angle against the contact, (n/n_core)²; ∞ when the contact is as
+    /// dense as the guide or denser (no total internal reflection there).
+    sin2_critical: f64,
 }
 
 /// A histogram of per-ray weights in which each ray lands in at most one bin: sums and sums of
@@ -268,8 +273,17 @@ impl Prepared {
                 from_deg: c.sector_from_deg,
                 to_deg: c.sector_to_deg,
                 n,
+                sin2_critical: if n < indices.n_core {
+                    (n / indices.n_core) * (n / indices.n_core)
+                } else {
+                    f64::INFINITY
+                },
             })
-            .collect();
+            .collect::<Vec<_>>();
+        let mut segment_has_contact = vec![false; scenario.route.len()];
+        for c in &contacts {
+            segment_has_contact[c.segment] = true;
+        }
         // α in mm⁻¹ from dB/m: dB = 10 log10(e) αL ⇒ α = dB/m / (10 log10 e) / 1000.
         let alpha_per_mm =
             scenario.guide.attenuation_db_per_m / (10.0 * core::f64::consts::LOG10_E) / 1000.0;
@@ -277,6 +291,7 @@ impl Prepared {
             source: SourceSampler::new(&scenario.source),
             alpha_per_mm,
             contacts,
+            segment_has_contact,
             entry_half: scenario.guide.section.half_sizes_mm(),
             entry_round: matches!(scenario.guide.section, Section::Round { .. }),
             exit_half: route.exit_section.half_sizes_mm(),
@@ -449,9 +464,9 @@ impl Prepared {
                     rec!(placed.frame.point_to_global(o));
                     let cos_i = d.dot(normal).clamp(0.0, 1.0);
                     let sin2_i = 1.0 - cos_i * cos_i;
-                    // Contact zone at this point?
+                    // Contact zone at this point? (Only looked up on segments that have one.)
                     let mut zone = None;
-                    if !self.contacts.is_empty() {
+                    if self.segment_has_contact[seg] {
                         let along = placed.along_mm(o);
                         let az = placed.azimuth_deg(o);
                         zone = self.contacts.iter().position(|c| {
@@ -462,12 +477,11 @@ impl Prepared {
                                 && az <= c.to_deg
                         });
                     }
-                    let n_out = zone.map_or(ix.n_out, |z| self.contacts[z].n);
-                    let tir = if zone.is_none() {
-                        sin2_i > sin_c2_out
-                    } else {
-                        n_out < ix.n_core && sin2_i > (n_out / ix.n_core) * (n_out / ix.n_core)
+                    let (n_out, sin2_critical) = match zone {
+                        Some(z) => (self.contacts[z].n, self.contacts[z].sin2_critical),
+                        None => (ix.n_out, sin_c2_out),
                     };
+                    let tir = sin2_i > sin2_critical;
                     if tir || uniform(rng) < fresnel_reflectance(cos_i, ix.n_core, n_out) {
                         d = reflect(d, normal);
                         continue;
@@ -590,6 +604,17 @@ impl Prepared {
     /// result is identical to [`Prepared::trace_all_serial`].
     #[cfg(not(target_arch = "wasm32"))]
     pub fn trace_all_parallel(&self, threads: usize, keep_paths: usize) -> Result<Batch, TirError> {
+        self.trace_all_parallel_with_progress(threads, keep_paths, |_| {})
+    }
+
+    /// [`Prepared::trace_all_parallel`], calling `progress` with the rays done after each chunk.
+    #[cfg(not(target_arch = "wasm32"))]
+    pub fn trace_all_parallel_with_progress(
+        &self,
+        threads: usize,
+        keep_paths: usize,
+        mut progress: impl FnMut(u64),
+    ) -> Result<Batch, TirError> {
         use rayon::prelude::*;
         let pool = rayon::ThreadPoolBuilder::new()
             .num_threads(threads)
@@ -613,6 +638,7 @@ impl Prepared {
             for b in &batches {
                 total.merge(b);
             }
+            progress(total.rays);
             first = end;
         }
         Ok(total)

@@ -175,57 +175,31 @@ fn report_csv(report: &TraceReport) -> String {
     s
 }
 
-/// Trace every batch, `chunk` batches at a time, merging in batch order, so the result is the
-/// same as [`Prepared::trace_all_serial`] for any thread count. `progress` is called after each
-/// chunk with the rays traced so far.
-fn trace_chunked(
+/// Trace every batch in parallel (merged in batch order by the core, so the result does not
+/// depend on the thread count); `progress` gets the rays traced so far.
+#[cfg(not(target_arch = "wasm32"))]
+fn trace_all(
     prepared: &Prepared,
     threads: usize,
     keep_paths: usize,
+    progress: impl FnMut(u64),
+) -> Result<Batch, String> {
+    prepared
+        .trace_all_parallel_with_progress(threads, keep_paths, progress)
+        .map_err(|e| format!("--threads: could not start {threads} threads: {e}"))
+}
+
+/// The binary only builds for wasm32 so that the integration tests can; it traces serially.
+#[cfg(target_arch = "wasm32")]
+fn trace_all(
+    prepared: &Prepared,
+    _threads: usize,
+    keep_paths: usize,
     mut progress: impl FnMut(u64),
 ) -> Result<Batch, String> {
-    let batches = prepared.batch_count();
-    #[cfg(not(target_arch = "wasm32"))]
-    let pool = rayon::ThreadPoolBuilder::new()
-        .num_threads(threads)
-        .build()
-        .map_err(|e| format!("--threads: could not start {threads} threads: {e}"))?;
-    #[cfg(not(target_arch = "wasm32"))]
-    let chunk = 4 * pool.current_num_threads() as u64;
-    #[cfg(target_arch = "wasm32")]
-    let chunk = {
-        let _ = threads;
-        4u64
-    };
-    let mut total: Option<Batch> = None;
-    let mut start = 0u64;
-    while start < batches {
-        let end = (start + chunk).min(batches);
-        #[cfg(not(target_arch = "wasm32"))]
-        let done: Vec<Batch> = {
-            use rayon::prelude::*;
-            pool.install(|| {
-                (start..end)
-                    .into_par_iter()
-                    .map(|b| prepared.trace_batch(b, keep_paths))
-                    .collect()
-            })
-        };
-        #[cfg(target_arch = "wasm32")]
-        let done: Vec<Batch> = (start..end)
-            .map(|b| prepared.trace_batch(b, keep_paths))
-            .collect();
-        for b in done {
-            // Merging into an empty batch copies it, so starting from the first is the same.
-            match total.as_mut() {
-                None => total = Some(b),
-                Some(t) => t.merge(&b),
-            }
-        }
-        progress(total.as_ref().map_or(0, |t| t.rays));
-        start = end;
-    }
-    total.ok_or_else(|| "trace.rays must be ≥ 1".to_string())
+    let batch = prepared.trace_all_serial(keep_paths);
+    progress(batch.rays);
+    Ok(batch)
 }
 
 fn trace(args: TraceArgs) -> Result<String, String> {
@@ -265,7 +239,7 @@ fn trace(args: TraceArgs) -> Result<String, String> {
     let prepared = Prepared::new(&scenario).map_err(|e| e.to_string())?;
     let total_rays = scenario.trace.rays;
     let show = std::io::stderr().is_terminal();
-    let batch = trace_chunked(&prepared, args.threads, args.paths.unwrap_or(0), |done| {
+    let batch = trace_all(&prepared, args.threads, args.paths.unwrap_or(0), |done| {
         if show {
             let mut e = std::io::stderr().lock();
             let _ = write!(e, "\rtirtrace: traced {done} of {total_rays} rays");

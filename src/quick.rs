@@ -6,7 +6,7 @@
 
 use serde::{Deserialize, Serialize};
 
-use crate::error::{check_range, FieldError, TirError};
+use crate::error::{check_range, size_mm, FieldError, TirError};
 use crate::guide;
 use crate::index::library::MaterialChoice;
 use crate::interface;
@@ -146,15 +146,7 @@ impl QuickDesign {
             true,
             " nm",
         ));
-        keep(check_range(
-            "diameter_mm",
-            self.diameter_mm,
-            0.0,
-            false,
-            1000.0,
-            true,
-            " mm",
-        ));
+        keep(size_mm("diameter_mm", self.diameter_mm, 1000.0));
         keep(check_range(
             "launch_half_angle_deg",
             self.launch_half_angle_deg,
@@ -164,14 +156,10 @@ impl QuickDesign {
             true,
             "°",
         ));
-        keep(check_range(
+        keep(size_mm(
             "bend_inner_radius_mm",
             self.bend_inner_radius_mm,
-            0.0,
-            false,
             100_000.0,
-            true,
-            " mm",
         ));
         keep(check_range(
             "bend_angle_deg",

@@ -8,7 +8,7 @@
 
 use serde::{Deserialize, Serialize};
 
-use crate::error::{check_range, show, FieldError, TirError};
+use crate::error::{check_range, show, size_mm, FieldError, TirError};
 use crate::index::library::MaterialChoice;
 
 /// Current version of the scenario document.
@@ -116,38 +116,14 @@ impl Section {
     fn validate(&self, path: &str) -> Result<(), FieldError> {
         match *self {
             Section::Round { diameter_mm } => {
-                check_range(
-                    &format!("{path}.round.diameter_mm"),
-                    diameter_mm,
-                    0.0,
-                    false,
-                    1000.0,
-                    true,
-                    " mm",
-                )?;
+                size_mm(&format!("{path}.round.diameter_mm"), diameter_mm, 1000.0)?;
             }
             Section::Rectangular {
                 width_mm,
                 height_mm,
             } => {
-                check_range(
-                    &format!("{path}.rectangular.width_mm"),
-                    width_mm,
-                    0.0,
-                    false,
-                    1000.0,
-                    true,
-                    " mm",
-                )?;
-                check_range(
-                    &format!("{path}.rectangular.height_mm"),
-                    height_mm,
-                    0.0,
-                    false,
-                    1000.0,
-                    true,
-                    " mm",
-                )?;
+                size_mm(&format!("{path}.rectangular.width_mm"), width_mm, 1000.0)?;
+                size_mm(&format!("{path}.rectangular.height_mm"), height_mm, 1000.0)?;
             }
         }
         Ok(())
@@ -484,14 +460,10 @@ impl Scenario {
         for (i, seg) in self.route.iter().enumerate() {
             match *seg {
                 Segment::Straight { length_mm } => {
-                    keep!(check_range(
+                    keep!(size_mm(
                         &format!("route[{i}].straight.length_mm"),
                         length_mm,
-                        0.0,
-                        false,
-                        100_000.0,
-                        true,
-                        " mm"
+                        100_000.0
                     ));
                 }
                 Segment::Bend {
@@ -546,15 +518,7 @@ impl Scenario {
                     end_section,
                 } => {
                     let p = format!("route[{i}].taper");
-                    keep!(check_range(
-                        &format!("{p}.length_mm"),
-                        length_mm,
-                        0.0,
-                        false,
-                        100_000.0,
-                        true,
-                        " mm"
-                    ));
+                    keep!(size_mm(&format!("{p}.length_mm"), length_mm, 100_000.0));
                     if end_section.kind() != section.kind() {
                         errs.push(FieldError::new(
                             format!("{p}.end_section"),
@@ -687,25 +651,17 @@ impl Scenario {
             Emitter::Led { area, pattern } => {
                 match *area {
                     EmitterArea::Disk { diameter_mm } => {
-                        keep!(check_range(
+                        keep!(size_mm(
                             "source.emitter.led.area.disk.diameter_mm",
                             diameter_mm,
-                            0.0,
-                            false,
-                            1000.0,
-                            true,
-                            " mm"
+                            1000.0
                         ));
                     }
                     EmitterArea::Square { side_mm } => {
-                        keep!(check_range(
+                        keep!(size_mm(
                             "source.emitter.led.area.square.side_mm",
                             side_mm,
-                            0.0,
-                            false,
-                            1000.0,
-                            true,
-                            " mm"
+                            1000.0
                         ));
                     }
                 }
@@ -733,14 +689,10 @@ impl Scenario {
                 diameter_mm,
                 divergence_half_angle_deg,
             } => {
-                keep!(check_range(
+                keep!(size_mm(
                     "source.emitter.beam.diameter_mm",
                     *diameter_mm,
-                    0.0,
-                    false,
-                    1000.0,
-                    true,
-                    " mm"
+                    1000.0
                 ));
                 keep!(check_range(
                     "source.emitter.beam.divergence_half_angle_deg",
@@ -781,8 +733,7 @@ impl Scenario {
 
         // Receiver and trace settings.
         if let Some(r) = &self.receiver {
-            let size =
-                |field: &str, v: f64| check_range(field, v, 0.0, false, 10_000.0, true, " mm");
+            let size = |field: &str, v: f64| size_mm(field, v, 10_000.0);
             match (r.diameter_mm, r.width_mm, r.height_mm) {
                 (Some(d), None, None) => {
                     keep!(size("receiver.diameter_mm", d));

@@ -53,7 +53,7 @@ struct TraceArgs {
     file: String,
     /// Number of rays (overrides the scenario's trace.rays; 1 to 1000000000).
     #[arg(long, value_name = "N", allow_negative_numbers = true)]
-    rays: Option<u64>,
+    rays: Option<i64>,
     /// Seed of the random sequence (overrides the scenario's trace.seed).
     #[arg(long, value_name = "N", allow_negative_numbers = true)]
     seed: Option<u64>,
@@ -205,7 +205,11 @@ fn trace_all(
 fn trace(args: TraceArgs) -> Result<String, String> {
     let mut scenario = read_scenario(&args.file)?;
     if let Some(rays) = args.rays {
-        scenario.trace.rays = rays;
+        // Parsed signed so that a negative count gets the range message, not a parse error.
+        if rays < 1 {
+            return Err(format!("--rays must be ≥ 1 and ≤ 1000000000, got {rays}"));
+        }
+        scenario.trace.rays = rays as u64;
     }
     if let Some(seed) = args.seed {
         scenario.trace.seed = seed;

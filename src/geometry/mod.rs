@@ -557,6 +557,18 @@ pub fn torus_exit(o: DVec3, d: DVec3, rc: f64, a: f64, t_hi: f64) -> Option<f64>
     } else {
         dist0 * (dist0 + 2.0 * a) * ((rho0 + rc) * (rho0 + rc) + o.z * o.z - a * a)
     };
+    if p0 == 0.0 {
+        // On the wall: p'(0) = g'(0)·h(0) exactly (g(0) = 0), with h(0) = 4 rc ρ₀ there, so
+        // p'(0) = 8 rc ((ρ₀ − rc) β + ρ₀ z₀ d_z): accurate even for a grazing ray, where the
+        // expanded coefficient 4bc − 8rc²β cancels to noise.
+        let dp0 = 8.0 * rc * ((rho0 - rc) * beta + rho0 * o.z * d.z);
+        if dp0 < 0.0 {
+            // Heading in (every reflected ray): the exit is the first positive root of the
+            // cubic p(t)/t. On the wall c = |o|² + rc² − a² = 2 rc ρ₀, also exactly.
+            let b2 = 4.0 * (b * b + rc * rho0 - rc2 * alpha);
+            return cubic_exit(4.0 * b, b2, dp0, rho0, o, d, rc, a, t_hi);
+        }
+    }
     let coeffs = [
         p0,
         4.0 * b * c - 8.0 * rc2 * beta,
@@ -640,6 +652,92 @@ pub fn torus_exit(o: DVec3, d: DVec3, rc: f64, a: f64, t_hi: f64) -> Option<f64>
             return Some(next);
         }
         t = next;
+    }
+    Some(t)
+}
+
+/// The exit of a ray that starts on the torus wall heading in: the first positive root of the
+/// monic cubic q(t) = t³ + a2 t² + a1 t + a0 = p(t)/t, a0 = p'(0) < 0, within (0, t_hi].
+///
+/// Root isolation in closed form: q' = 3t² + 2 a2 t + a1 has roots s₁ ≤ s₂ (a local maximum and
+/// minimum of q). Since q(0) < 0, the first positive root lies on the rising piece (0, s₁] when
+/// s₁ > 0 and q(s₁) > 0 (q is concave there), else on the rising, convex piece (max(s₂, 0), ∞).
+/// On that piece q is monotone, so the root is unique and a bracketed Halley iteration (Newton
+/// or bisection when a step would leave the bracket) finds it to rounding. The first guess is
+/// where the tube's distance function's second-order Taylor model at the start crosses zero,
+/// exact for a straight tube and within a hair of the root in a bend.
+#[allow(clippy::too_many_arguments)]
+#[inline]
+fn cubic_exit(
+    a2: f64,
+    a1: f64,
+    a0: f64,
+    rho0: f64,
+    o: DVec3,
+    d: DVec3,
+    rc: f64,
+    a: f64,
+    t_hi: f64,
+) -> Option<f64> {
+    let q = |t: f64| ((t + a2) * t + a1) * t + a0;
+    let disc = a2 * a2 - 3.0 * a1;
+    let (mut lo, mut hi) = (0.0, t_hi);
+    if disc > 0.0 {
+        let sq = disc.sqrt();
+        let s1 = (-a2 - sq) / 3.0;
+        let s2 = (-a2 + sq) / 3.0;
+        if s1 > 0.0 && q(s1) > 0.0 {
+            hi = hi.min(s1);
+        } else {
+            lo = s2.max(0.0);
+        }
+    }
+    if lo >= hi || q(hi) <= 0.0 {
+        return None;
+    }
+    // First guess: g(t) = (ρ − rc)² + z² − a² ≈ g'(0) t + g''(0) t²/2 with g(0) = 0, so
+    // t ≈ −2 g'(0)/g''(0); ρ' = β/ρ, ρ'' = (α − ρ'²)/ρ.
+    let alpha = d.x * d.x + d.y * d.y;
+    let drho = (o.x * d.x + o.y * d.y) / rho0;
+    let e = rho0 - rc;
+    let dg = e * drho + o.z * d.z;
+    let ddg = drho * drho + e * (alpha - drho * drho) / rho0 + d.z * d.z;
+    let guess = -2.0 * dg / ddg;
+    let mut t = if guess > lo && guess < hi {
+        guess
+    } else {
+        0.5 * (lo + hi)
+    };
+    let tol = 4.0 * f64::EPSILON * (rc + a);
+    for _ in 0..100 {
+        let qt = q(t);
+        if qt > 0.0 {
+            hi = t;
+        } else {
+            lo = t;
+        }
+        let q1 = (3.0 * t + 2.0 * a2) * t + a1;
+        let q2 = 6.0 * t + 2.0 * a2;
+        let halley = t - 2.0 * qt * q1 / (2.0 * q1 * q1 - qt * q2);
+        // Halley converges cubically: after a step of relative size s ≤ 1e-6 the error is of
+        // order s³·t, below the rounding of t. (The test comes before the bracket test: a
+        // converged step that rounds onto the bracket's end is not a failure.)
+        if (halley - t).abs() <= 1e-6 * t && halley >= lo && halley <= hi {
+            return Some(halley);
+        }
+        t = if halley > lo && halley < hi {
+            halley
+        } else {
+            let newton = t - qt / q1;
+            if newton > lo && newton < hi {
+                newton
+            } else {
+                0.5 * (lo + hi)
+            }
+        };
+        if hi - lo <= tol {
+            return Some(t);
+        }
     }
     Some(t)
 }

@@ -17,11 +17,12 @@ pub struct Estimate {
 }
 
 /// A share of the emitted power with its 95 % confidence half-width.
-#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
 pub struct Share {
     /// The estimated share (0…1).
     pub share: f64,
     /// 95 % confidence half-width (normal approximation, 1.96 standard errors).
+    #[serde(deserialize_with = "crate::export::ci95_or_infinite")]
     pub ci95: f64,
 }
 

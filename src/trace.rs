@@ -775,7 +775,7 @@ impl Prepared {
 }
 
 /// The energy budget: shares of the emitted power, each with its 95 % half-width.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct Budget {
     /// Left through the exit face.
     pub delivered: Share,
@@ -815,7 +815,7 @@ pub struct SegmentReport {
 }
 
 /// Per-contact figures.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct ContactReport {
     /// The contact's label.
     pub name: String,
@@ -826,7 +826,7 @@ pub struct ContactReport {
 }
 
 /// A square map of delivered shares.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct Map {
     /// Cells across and down.
     pub cells: usize,
@@ -859,7 +859,7 @@ impl Map {
 }
 
 /// Intensity against polar angle beyond the exit face.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct Intensity {
     /// Bin centres, degrees.
     pub angle_deg: Vec<f64>,
@@ -892,7 +892,7 @@ impl Intensity {
 }
 
 /// Leakage along the route.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct RouteProfile {
     /// Bin width along the centre line, mm.
     pub bin_mm: f64,
@@ -903,11 +903,12 @@ pub struct RouteProfile {
 }
 
 /// An absolute figure with its 95 % half-width, in the unit its field names.
-#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
 pub struct Value {
     /// The figure.
     pub value: f64,
     /// 95 % half-width.
+    #[serde(deserialize_with = "crate::export::ci95_or_infinite")]
     pub ci95: f64,
 }
 
@@ -934,7 +935,7 @@ pub struct Absolute {
 }
 
 /// Everything a trace reports.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct TraceReport {
     /// Rays traced.
     pub rays: u64,
@@ -973,6 +974,6 @@ pub struct TraceReport {
     /// Leakage along the route.
     pub leak_along_route: RouteProfile,
     /// Sampled ray paths (left out of the JSON when none were asked for).
-    #[serde(skip_serializing_if = "Vec::is_empty")]
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
     pub paths: Vec<Path>,
 }

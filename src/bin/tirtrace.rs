@@ -119,62 +119,6 @@ fn report_json(report: &TraceReport, with_paths: bool) -> Result<String, String>
     serde_json::to_string_pretty(&value).map_err(|e| e.to_string())
 }
 
-/// A number for the CSV: shortest form that reads back exactly, with −0 written as 0.
-fn csv_num(x: f64) -> f64 {
-    x + 0.0
-}
-
-/// A CSV field: quoted, inner quotes doubled.
-fn csv_text(s: &str) -> String {
-    format!("\"{}\"", s.replace('"', "\"\""))
-}
-
-/// The budget (one row per mechanism), a blank line, the per-segment table, a blank line and
-/// the contacts. Numbers are printed in the shortest form that reads back exactly.
-fn report_csv(report: &TraceReport) -> String {
-    let b = &report.budget;
-    let mut s = String::from("mechanism,share,ci95\n");
-    for (name, share) in [
-        ("delivered", &b.delivered),
-        ("missed_entry", &b.missed_entry),
-        ("reflected_entry", &b.reflected_entry),
-        ("leaked", &b.leaked),
-        ("contact", &b.contact),
-        ("absorbed", &b.absorbed),
-        ("returned", &b.returned),
-        ("stopped", &b.stopped),
-    ] {
-        s += &format!("{name},{},{}\n", csv_num(share.share), csv_num(share.ci95));
-    }
-    s += "\nindex,kind,start_mm,length_mm,leaked,leaked_ci95,absorbed,absorbed_ci95,wall_hits\n";
-    for g in &report.segments {
-        s += &format!(
-            "{},{},{},{},{},{},{},{},{}\n",
-            g.index,
-            g.kind,
-            csv_num(g.start_mm),
-            csv_num(g.length_mm),
-            csv_num(g.leaked.share),
-            csv_num(g.leaked.ci95),
-            csv_num(g.absorbed.share),
-            csv_num(g.absorbed.ci95),
-            g.wall_hits
-        );
-    }
-    s += "\ncontact,segment,lost,lost_ci95\n";
-    for c in &report.contacts {
-        s += &format!(
-            "{},{},{},{}\n",
-            csv_text(&c.name),
-            c.segment,
-            csv_num(c.lost.share),
-            csv_num(c.lost.ci95)
-        );
-    }
-    s.pop(); // `main` adds the final newline.
-    s
-}
-
 /// Trace every batch in parallel (merged in batch order by the core, so the result does not
 /// depend on the thread count); `progress` gets the rays traced so far.
 #[cfg(not(target_arch = "wasm32"))]
@@ -255,7 +199,9 @@ fn trace(args: TraceArgs) -> Result<String, String> {
     })?;
     let report = prepared.report(&batch);
     if args.csv {
-        Ok(report_csv(&report))
+        // `main` adds the final newline.
+        let csv = tirtrace::export::report_csv(&report);
+        Ok(csv.strip_suffix('\n').unwrap_or(&csv).to_string())
     } else {
         report_json(&report, args.paths.is_some())
     }

@@ -1,0 +1,105 @@
+//! Every problem with a scenario document given as text, for a form that marks each bad field:
+//! a document that cannot be read at all (bad JSON, an unknown field, a wrong type) gives one
+//! problem at the field where reading stopped; a readable one gives every range problem
+//! [`Scenario::check`] finds, not only the first.
+
+use serde::Serialize;
+
+use crate::error::{FieldError, TirError};
+use crate::scenario::Scenario;
+
+/// One problem: the field's path in the document (`route[2].bend.radius_mm`, `source.gap_mm`;
+/// `scenario` when the whole document is at fault) and a whole sentence for people that names
+/// the field and the allowed range.
+#[derive(Debug, Clone, PartialEq, Eq, Serialize)]
+pub struct Problem {
+    /// Path of the offending field, in the syntax of the core's messages.
+    pub field: String,
+    /// The message, e.g. `route[1].bend.radius_mm must be > 1.5 mm (...) and ≤ 1000000 mm,
+    /// got -3`.
+    pub message: String,
+}
+
+impl From<&FieldError> for Problem {
+    fn from(e: &FieldError) -> Problem {
+        Problem {
+            field: e.field.clone(),
+            message: e.to_string(),
+        }
+    }
+}
+
+/// The verdict on a scenario document: `ok` exactly when `problems` is empty.
+#[derive(Debug, Clone, PartialEq, Eq, Serialize)]
+pub struct ScenarioCheck {
+    /// True when the scenario can be traced.
+    pub ok: bool,
+    /// Every problem found, in document order.
+    pub problems: Vec<Problem>,
+}
+
+/// Read a scenario from JSON text. On failure, the one problem where reading stopped: its
+/// field is the path serde reached (`scenario` for the document as a whole, e.g. bad JSON
+/// syntax at the top, or an array given for the document) and its message is the same text as
+/// [`Scenario::from_json`]'s error.
+pub fn read_scenario(text: &str) -> Result<Scenario, Problem> {
+    let de = &mut serde_json::Deserializer::from_str(text);
+    serde_path_to_error::deserialize(de).map_err(|e| {
+        let path = e.path().to_string();
+        let inner = e.into_inner();
+        if path.is_empty() || path == "." || path == "?" {
+            Problem {
+                field: "scenario".to_string(),
+                message: TirError::ParseScenario(inner.to_string()).to_string(),
+            }
+        } else {
+            Problem {
+                message: TirError::ParseScenario(format!("{path}: {inner}")).to_string(),
+                // A document given as an array (serde reads a struct from one) has no field to
+                // mark: the document is at fault.
+                field: if path.starts_with('[') {
+                    "scenario".to_string()
+                } else {
+                    path
+                },
+            }
+        }
+    })
+}
+
+/// Read and validate a scenario: the scenario, or every problem with it.
+pub fn valid_scenario(text: &str) -> Result<Scenario, Vec<Problem>> {
+    let scenario = read_scenario(text).map_err(|p| vec![p])?;
+    match scenario.check() {
+        Ok(_) => Ok(scenario),
+        Err(errors) if errors.is_empty() => Err(vec![Problem {
+            field: "scenario".to_string(),
+            message: "the scenario could not be validated".to_string(),
+        }]),
+        Err(errors) => Err(errors.iter().map(Problem::from).collect()),
+    }
+}
+
+/// Check a scenario document given as JSON text; never fails.
+pub fn check_scenario(text: &str) -> ScenarioCheck {
+    match valid_scenario(text) {
+        Ok(_) => ScenarioCheck {
+            ok: true,
+            problems: Vec::new(),
+        },
+        Err(problems) => ScenarioCheck {
+            ok: false,
+            problems,
+        },
+    }
+}
+
+/// The messages of a list of problems on one line, joined by `; ` (for an error that can carry
+/// only text).
+pub fn joined(problems: &[Problem]) -> String {
+    problems
+        .iter()
+        .map(|p| p.message.as_str())
+        .collect::<Vec<_>>()
+        .join("; ")
+}

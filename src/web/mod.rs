@@ -252,3 +252,91 @@ impl Tracer {
         Ok((first as u64, first as u64 + count as u64))
     }
 }
+
+/// Every problem with a scenario given as JSON text: `{ ok, problems: [{ field, message }] }`.
+/// A document that cannot be read gives one problem at the field where reading stopped; a
+/// readable one lists every field problem. Never throws for bad input.
+#[wasm_bindgen]
+pub fn check_scenario(json: &str) -> JsValue {
+    // Plain strings and booleans always convert; null only if the conversion itself broke.
+    to_js(&crate::problems::check_scenario(json)).unwrap_or(JsValue::NULL)
+}
+
+/// Read and validate a scenario; the error carries every problem's message.
+fn valid_scenario(json: &str) -> Result<crate::scenario::Scenario, JsError> {
+    crate::problems::valid_scenario(json)
+        .map_err(|problems| JsError::new(&crate::problems::joined(&problems)))
+}
+
+/// The closed-form figures of a scenario given as JSON text (what `tirtrace check` prints);
+/// throws with every problem's message (joined by `; `) when it is invalid.
+#[wasm_bindgen]
+pub fn closed_form(json: &str) -> Result<JsValue, JsError> {
+    let scenario = valid_scenario(json)?;
+    let figures = crate::check::figures(&scenario).map_err(|errors| {
+        let problems: Vec<_> = errors.iter().map(crate::problems::Problem::from).collect();
+        JsError::new(&crate::problems::joined(&problems))
+    })?;
+    to_js(&figures)
+}
+
+/// What it takes to draw the routed guide of a scenario given as JSON text (see
+/// `crate::outline::RouteOutline`); throws with every problem's message when it is invalid.
+#[wasm_bindgen]
+pub fn route_outline(json: &str) -> Result<JsValue, JsError> {
+    let scenario = valid_scenario(json)?;
+    let outline = crate::outline::route_outline(&scenario).map_err(|errors| {
+        let problems: Vec<_> = errors.iter().map(crate::problems::Problem::from).collect();
+        JsError::new(&crate::problems::joined(&problems))
+    })?;
+    to_js(&outline)
+}
+
+/// Read a trace report object (as `Tracer.report` returns it) back into the core's type.
+fn read_report(report: JsValue) -> Result<crate::trace::TraceReport, JsError> {
+    let de = serde_wasm_bindgen::Deserializer::from(report);
+    serde_path_to_error::deserialize(de).map_err(|e| {
+        let path = e.path().to_string();
+        let field = if path.is_empty() || path == "." || path == "?" {
+            "report".to_string()
+        } else {
+            format!("report.{path}")
+        };
+        JsError::new(&format!("{field} could not be read: {}", e.into_inner()))
+    })
+}
+
+/// The canvas with id `canvas_id` as a drawing area.
+fn canvas_area(
+    canvas_id: &str,
+) -> Result<DrawingArea<CanvasBackend, plotters::coord::Shift>, JsError> {
+    let backend = CanvasBackend::new(canvas_id)
+        .ok_or_else(|| JsError::new(&format!("no canvas with id '{canvas_id}' on the page")))?;
+    Ok(backend.into_drawing_area())
+}
+
+/// Draw the exit-face irradiance map of a trace report on the canvas with id `canvas_id`;
+/// `pixel_ratio` scales fonts and lines (pass `devicePixelRatio` with a canvas sized in device
+/// pixels). A report with no delivered light draws a message.
+#[wasm_bindgen]
+pub fn draw_exit_map(canvas_id: &str, report: JsValue, pixel_ratio: f64) -> Result<(), JsError> {
+    let report = read_report(report)?;
+    let area = canvas_area(canvas_id)?;
+    crate::chart::draw_exit_map(&area, &report, pixel_ratio).map_err(js_error)
+}
+
+/// Draw relative intensity against the angle from the exit axis, with its 95 % band, on the
+/// canvas with id `canvas_id`; `pixel_ratio` as for [`draw_exit_map`].
+#[wasm_bindgen]
+pub fn draw_intensity(canvas_id: &str, report: JsValue, pixel_ratio: f64) -> Result<(), JsError> {
+    let report = read_report(report)?;
+    let area = canvas_area(canvas_id)?;
+    crate::chart::draw_intensity(&area, &report, pixel_ratio).map_err(js_error)
+}
+
+/// The budget, per-segment and contact tables of a trace report as CSV: the same text as
+/// `tirtrace trace FILE --csv` prints for the same report (final newline included).
+#[wasm_bindgen]
+pub fn report_csv(report: JsValue) -> Result<String, JsError> {
+    Ok(crate::export::report_csv(&read_report(report)?))
+}

@@ -1,0 +1,168 @@
+// A trace worker: one long-lived instance of the core (WebAssembly) answering the pool
+// (www/js/trace/pool.js). The same script has two roles. A tracing worker keeps one `Tracer` per
+// job and traces one batch per message (so a cancel or a new job takes effect within one batch);
+// it sends the batch straight to the merging worker over its own channel and tells the pool only
+// that it is done. The merging worker keeps the batches and, when asked, reports the prefix
+// 0..count-1 merged in batch order (the only order that reproduces a single run bit for bit).
+//
+// From the pool (all but `job` and `connect` are ignored unless they name the job loaded):
+//   { type: 'connect', role: 'to-merger' | 'from-tracer', port }   a channel between the roles
+//   { type: 'job', job, scenario }           load a scenario (JSON text) for job `job`
+//   { type: 'batch', job, index, keepPaths } trace batch `index`
+//   { type: 'merge', job, count }            report batches 0..count-1 merged in batch order
+//                                            (waits for batches still on their way)
+//   { type: 'drop', job }                    forget the job (frees the batches kept for it)
+// From a tracing worker to the merging worker: { type: 'add', job, index, batch }.
+// To the pool:
+//   { type: 'ready' } | { type: 'init-error', message }      once, when the core has loaded
+//   { type: 'job-ready', job, batchCount } | { type: 'job-error', job, message }
+//   { type: 'batch', job, index, rays } | { type: 'batch-error', job, index, message }
+//   { type: 'report', job, count, report, ms } | { type: 'merge-error', job, message }
+//   { type: 'worker-error', message }                        a message could not be handled
+
+import init, { Tracer } from '../../pkg/tirtrace.js';
+
+const WASM_URL = new URL('../../pkg/tirtrace_bg.wasm', import.meta.url);
+
+const messageOf = (e) => (e instanceof Error ? e.message : String(e ?? 'unknown problem'));
+
+/** The job loaded: its id, its scenario text and Tracer. */
+const loaded = { job: null, scenario: null, tracer: null };
+/** Tracing role: the channel to the merging worker. */
+let mergerPort = null;
+/** Merging role: batches received, by job then batch index; jobs below `openFrom` are over. */
+const kept = new Map();
+let openFrom = 0;
+/** Merging role: the merge asked for, run once its batches are all in. */
+let pending = null;
+
+function loadJob(job, scenario) {
+  openFrom = Math.max(openFrom, job);
+  for (const j of kept.keys()) if (j < job) kept.delete(j);
+  if (pending && pending.job < job) pending = null;
+  loaded.job = null;
+  // A Tracer holds no trace state, so the same scenario again (a restart) keeps it.
+  if (loaded.tracer === null || loaded.scenario !== scenario) {
+    loaded.tracer?.free();
+    loaded.tracer = null;
+    loaded.scenario = null;
+    try {
+      loaded.tracer = new Tracer(scenario);
+    } catch (e) {
+      postMessage({ type: 'job-error', job, message: messageOf(e) });
+      return;
+    }
+    loaded.scenario = scenario;
+  }
+  loaded.job = job;
+  postMessage({ type: 'job-ready', job, batchCount: loaded.tracer.batch_count() });
+}
+
+function dropJob(job) {
+  openFrom = Math.max(openFrom, job + 1);
+  kept.delete(job);
+  if (pending?.job === job) pending = null;
+  if (loaded.job === job) loaded.job = null;
+}
+
+function traceBatch(job, index, keepPaths) {
+  if (mergerPort === null) {
+    postMessage({ type: 'batch-error', job, index, message: 'no channel to the merging worker' });
+    return;
+  }
+  let batch;
+  try {
+    [batch] = loaded.tracer.batches(index, 1, keepPaths);
+  } catch (e) {
+    postMessage({ type: 'batch-error', job, index, message: messageOf(e) });
+    return;
+  }
+  mergerPort.postMessage({ type: 'add', job, index, batch });
+  postMessage({ type: 'batch', job, index, rays: batch.rays });
+}
+
+function keep(job, index, batch) {
+  if (job < openFrom) return; // a job that is over
+  if (!kept.has(job)) kept.set(job, []);
+  kept.get(job)[index] = batch;
+  mergeIfComplete();
+}
+
+function mergeIfComplete() {
+  if (pending === null || pending.job !== loaded.job) return;
+  const { job, count } = pending;
+  const list = (kept.get(job) ?? []).slice(0, count);
+  if (list.length < count || list.some((b) => b === undefined)) return; // more on their way
+  pending = null;
+  try {
+    const start = performance.now();
+    const report = loaded.tracer.report_merged(list);
+    postMessage({ type: 'report', job, count, report, ms: performance.now() - start });
+  } catch (e) {
+    postMessage({ type: 'merge-error', job, message: messageOf(e) });
+  }
+}
+
+function handle(msg) {
+  switch (msg.type) {
+    case 'connect':
+      if (msg.role === 'to-merger') {
+        mergerPort?.close();
+        mergerPort = msg.port;
+      } else {
+        msg.port.onmessage = (event) => enqueue(event.data);
+      }
+      return;
+    case 'job':
+      loadJob(msg.job, msg.scenario);
+      return;
+    case 'add':
+      keep(msg.job, msg.index, msg.batch);
+      return;
+    case 'drop':
+      dropJob(msg.job);
+      return;
+    default:
+  }
+  if (msg.job !== loaded.job || loaded.tracer === null) {
+    // A request for a job this worker does not hold: only a batch request needs an answer.
+    if (msg.type === 'batch') {
+      postMessage({ type: 'batch-error', job: msg.job, index: msg.index, message: 'no scenario is loaded for this job' });
+    }
+    return;
+  }
+  switch (msg.type) {
+    case 'batch':
+      traceBatch(msg.job, msg.index, msg.keepPaths);
+      break;
+    case 'merge':
+      pending = { job: msg.job, count: msg.count };
+      mergeIfComplete();
+      break;
+    default:
+      postMessage({ type: 'worker-error', message: `unknown message type "${msg.type}"` });
+  }
+}
+
+// Messages that arrive while the core is loading wait for it; all run in arrival order.
+let failed = false;
+let queue = init({ module_or_path: WASM_URL }).then(
+  () => postMessage({ type: 'ready' }),
+  (e) => {
+    failed = true;
+    postMessage({ type: 'init-error', message: messageOf(e) });
+  },
+);
+
+function enqueue(msg) {
+  queue = queue.then(() => {
+    if (failed) return;
+    try {
+      handle(msg);
+    } catch (e) {
+      postMessage({ type: 'worker-error', message: messageOf(e) });
+    }
+  });
+}
+
+self.onmessage = (event) => enqueue(event.data);

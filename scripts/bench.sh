@@ -29,6 +29,35 @@ import json, sys
 n, w = json.loads(sys.argv[1]), json.loads(sys.argv[2])
 print(f"wasm takes {n['rays_per_s'] / w['rays_per_s']:.2f}x the native time per ray (same batches, same run)")
 PY
+# The page: the same rays traced in headless Chromium by the worker pool (www/js/trace/pool.js),
+# with 1 worker and with one per core, end to end (scenario in, merged report out), against the
+# native rates of this run: 1 thread from the speed example above, all threads timed here with
+# the command line (also end to end: process start, set-up, trace, report).
+rays=$((batches * 4096))
+threads=$(nproc)
+cargo build -q --release --bin tirtrace
+page=$(node benches/page_speed.mjs demos/bench_three_bends.json "$rays")
+native_all=$(python3 - "$scenario" "$rays" "$threads" <<'PY'
+import json, subprocess, sys, time
+scenario, rays, threads = sys.argv[1], int(sys.argv[2]), int(sys.argv[3])
+start = time.perf_counter()
+subprocess.run(["target/release/tirtrace", "trace", scenario, "--rays", str(rays), "--threads", str(threads)],
+               check=True, stdout=subprocess.DEVNULL)
+s = time.perf_counter() - start
+print(json.dumps({"runner": f"native CLI, {threads} threads, end to end", "rays_per_s": round(rays / s), "seconds": round(s, 3)}))
+PY
+)
+echo "$page"
+echo "$native_all"
+python3 - "$native" "$native_all" "$page" <<'PY'
+import json, sys
+n1, nall, p = (json.loads(a) for a in sys.argv[1:4])
+print(f"page, 1 worker: {p['rays_per_s_1_worker'] / n1['rays_per_s']:.2f}x the native 1-thread rate (page end to end, native batches only)")
+print(f"page, {p['workers']} workers: {p['rays_per_s_all_workers'] / nall['rays_per_s']:.2f}x the native rate with all threads "
+      f"(both end to end); {p['all_vs_1_worker']:.2f}x the page's 1-worker rate")
+print(f"page, time to the first answer: {p['first_answer_ms']} ms on a warm pool, "
+      f"{p['first_answer_cold_ms']} ms for a fresh pool's first trace ({p['rays']} rays in all)")
+PY
 if [[ -n "$against" ]]; then
   tree=$(mktemp -d)
   trap 'git worktree remove --force "$tree" >/dev/null 2>&1 || true' EXIT

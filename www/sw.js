@@ -18,6 +18,11 @@ const PAGE_FILES = [
   './pkg/tirtrace_bg.wasm',
   './icon.svg',
   './manifest.webmanifest',
+  './js/trace/pool.js',
+  './js/trace/worker.js',
+  './bench.html',
+  './js/trace/bench.js',
+  './demos/bench_three_bends.json',
 ];
 
 self.addEventListener('install', (event) => {

@@ -302,7 +302,10 @@ fn read_report(report: JsValue) -> Result<crate::trace::TraceReport, JsError> {
         } else {
             format!("report.{path}")
         };
-        JsError::new(&format!("{field} could not be read: {}", e.into_inner()))
+        // serde-wasm-bindgen's errors are JS errors, shown as "Error: …".
+        let inner = e.into_inner().to_string();
+        let inner = inner.strip_prefix("Error: ").unwrap_or(&inner);
+        JsError::new(&format!("{field} could not be read: {inner}"))
     })
 }
 

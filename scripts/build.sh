@@ -12,4 +12,17 @@ if [[ -x "$wasm_opt" ]]; then
     --enable-mutable-globals --enable-reference-types --enable-multivalue \
     www/pkg/tirtrace_bg.wasm -o www/pkg/tirtrace_bg.wasm
 fi
+# The example scenarios, for the page's "start from" menu (served, and cached for offline use).
+rm -rf www/demos && mkdir -p www/demos
+cp examples/scenarios/*.json www/demos/
+python3 - <<'PY'
+import json, pathlib
+demos = []
+for f in sorted(pathlib.Path("www/demos").glob("*.json")):
+    if f.name == "index.json":
+        continue
+    doc = json.loads(f.read_text())
+    demos.append({"file": f.name, "name": doc.get("name") or f.stem})
+pathlib.Path("www/demos/index.json").write_text(json.dumps(demos, indent=1) + "\n")
+PY
 printf '[build] www/pkg/tirtrace_bg.wasm: %s bytes\n' "$(stat -c %s www/pkg/tirtrace_bg.wasm)" >&2

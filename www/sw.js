@@ -2,13 +2,14 @@
 // sheet and the icon in a cache. Network first, so a running server always gives the newest
 // files; the cache answers when the server cannot be reached, so the page opens offline.
 
-const CACHE = 'tirtrace-page-v1';
+const CACHE = 'tirtrace-page-v2';
 
 const PAGE_FILES = [
   './',
   './index.html',
   './css/page.css',
-  './js/main.js',
+  './quick.html',
+  './js/quick-main.js',
   './js/state.js',
   './js/form.js',
   './js/format.js',
@@ -22,14 +23,30 @@ const PAGE_FILES = [
   './js/trace/worker.js',
   './bench.html',
   './js/trace/bench.js',
-  './demos/bench_three_bends.json',
+  './css/design.css',
+  './js/design/main.js',
+  './js/design/editor.js',
+  './js/design/scenario.js',
+  './js/design/route-view.js',
+  './js/design/report-view.js',
+  './demos/index.json',
 ];
+
+/** The examples listed in demos/index.json (made by scripts/build.sh), for the "start from" menu. */
+async function demoFiles() {
+  const res = await fetch('./demos/index.json', { cache: 'reload' });
+  const list = await res.json();
+  return list.map((d) => `./demos/${d.file}`);
+}
 
 self.addEventListener('install', (event) => {
   event.waitUntil(
     caches
       .open(CACHE)
-      .then((cache) => cache.addAll(PAGE_FILES.map((url) => new Request(url, { cache: 'reload' }))))
+      .then(async (cache) => {
+        const files = [...PAGE_FILES, ...(await demoFiles())];
+        return cache.addAll(files.map((url) => new Request(url, { cache: 'reload' })));
+      })
       .then(() => self.skipWaiting()),
   );
 });

@@ -215,7 +215,7 @@ describe('the tirtrace page in Chromium', { concurrency: false }, () => {
       if (m.type() === 'error') consoleErrors.push(m.text());
     });
     page.on('pageerror', (e) => pageErrors.push(String(e)));
-    await page.goto(`${server.origin}/`);
+    await page.goto(`${server.origin}/quick.html`);
     await page.waitForSelector('body[data-ready="true"]', { timeout: 20_000 });
   });
 
@@ -450,7 +450,7 @@ describe('the tirtrace page in Chromium', { concurrency: false }, () => {
         if (m.type() === 'error') consoleErrors.push(m.text());
       });
       p2.on('pageerror', (e) => pageErrors.push(String(e)));
-      await p2.goto(`${server.origin}/`);
+      await p2.goto(`${server.origin}/quick.html`);
       await p2.waitForSelector('body[data-ready="true"]', { timeout: 20_000 });
       const size = await p2.evaluate(() => {
         const c = document.getElementById('bend-drawing');

@@ -1,0 +1,363 @@
+// End-to-end test of the design page (www/index.html) in Debian's Chromium, driven by
+// playwright-core, at desktop (1280×800) and portrait-tablet (820×1180) sizes: build a route, see a
+// result, edit a bend and see the leakage move the expected way, stop a trace, save and open a
+// file, open a share link in a fresh browser context, import malformed files and keep the design,
+// names holding HTML shown as text, bad input named by field, work offline, and the delivered
+// share equal to the native CLI's for the same scenario and seed. Screenshots go to
+// tests/e2e/out/ (git-ignored).
+//
+// Before: cargo build; bash scripts/build.sh; npm ci --prefix tests/e2e. Run: node --test tests/e2e/
+
+import assert from 'node:assert/strict';
+import { existsSync, mkdirSync, readFileSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { after, before, describe, test } from 'node:test';
+
+import { chromium } from 'playwright-core';
+
+import { CHROMIUM, CHROMIUM_ARGS, CLI, OUT, ROOT, WWW, cli, reachable, startServer, stopServer } from './harness.mjs';
+
+const STATE_KEY = 'tirtrace.design.v1';
+
+/** The scenario the page holds (its autosave). */
+const pageScenario = (page) => page.evaluate((k) => JSON.parse(localStorage.getItem(k)).scenario, STATE_KEY);
+
+/** Run `action`, then wait until a trace started after it (a later job id) has finished. */
+async function tracedAfter(page, action, timeout = 60_000) {
+  const before = Number((await page.getAttribute('body', 'data-job')) || 0);
+  await action();
+  await page.waitForFunction(
+    (b) => {
+      const job = Number(document.body.dataset.job || 0);
+      return job > b && Number(document.body.dataset.traced || 0) === job;
+    },
+    before,
+    { timeout },
+  );
+}
+
+/** The finished answer: { share, ci95, rays }. */
+async function answer(page) {
+  const a = page.locator('#answer');
+  return {
+    share: Number(await a.getAttribute('data-share')),
+    ci95: Number(await a.getAttribute('data-ci95')),
+    rays: Number(await a.getAttribute('data-rays')),
+  };
+}
+
+/** The CLI's report for a scenario object. */
+function cliTrace(scenario) {
+  const file = join(tmpdir(), `tirtrace-e2e-${process.pid}-${Date.now()}.json`);
+  writeFileSync(file, JSON.stringify(scenario));
+  return JSON.parse(cli(['trace', file]));
+}
+
+/** Page text must never show NaN, Infinity or undefined. */
+async function assertNoJunk(page, what) {
+  const body = await page.locator('body').innerText();
+  for (const junk of ['NaN', 'Infinity', 'undefined', '[object Object]']) {
+    assert.ok(!body.includes(junk), `${what}: the page shows "${junk}"`);
+  }
+}
+
+/** Share of a canvas's pixels that are not (near) white. */
+async function inkShare(page, canvasId) {
+  return page.evaluate((canvasId) => {
+    const canvas = document.getElementById(canvasId);
+    const { data } = canvas.getContext('2d').getImageData(0, 0, canvas.width, canvas.height);
+    let ink = 0;
+    for (let i = 0; i < data.length; i += 4) if (data[i] + data[i + 1] + data[i + 2] < 3 * 235) ink += 1;
+    return ink / (data.length / 4);
+  }, canvasId);
+}
+
+describe('the design page in Chromium', { concurrency: false }, () => {
+  let server;
+  let browser;
+  let context;
+  let page;
+  const requests = [];
+  const consoleErrors = [];
+
+  const watch = (p) => {
+    p.on('console', (m) => {
+      if (m.type() === 'error') consoleErrors.push(m.text());
+    });
+    p.on('pageerror', (e) => consoleErrors.push(String(e)));
+  };
+
+  before(async () => {
+    assert.ok(existsSync(join(WWW, 'pkg', 'tirtrace.js')), 'www/pkg is missing: run `bash scripts/build.sh` first');
+    assert.ok(existsSync(join(WWW, 'demos', 'index.json')), 'www/demos is missing: run `bash scripts/build.sh` first');
+    assert.ok(existsSync(CLI), 'target/debug/tirtrace is missing: run `cargo build` first');
+    mkdirSync(OUT, { recursive: true });
+    server = await startServer();
+    browser = await chromium.launch({ executablePath: CHROMIUM, args: CHROMIUM_ARGS });
+    context = await browser.newContext({ viewport: { width: 1280, height: 800 }, acceptDownloads: true });
+    context.on('request', (r) => requests.push(r.url()));
+    page = await context.newPage();
+    watch(page);
+    await page.goto(`${server.origin}/`);
+    await page.waitForSelector('body[data-ready="true"]', { timeout: 30_000 });
+  });
+
+  after(async () => {
+    await browser?.close();
+    await stopServer(server?.child);
+  });
+
+  test('traces the starting design and shows every part of the answer', async () => {
+    await page.waitForFunction(() => Number(document.body.dataset.traced || 0) > 0, null, { timeout: 60_000 });
+    const a = await answer(page);
+    assert.ok(a.share > 0.3 && a.share < 1, `delivered ${a.share}`);
+    assert.ok(a.ci95 > 0 && a.ci95 < 0.01, `ci95 ${a.ci95}`);
+    // Budget rows for every mechanism, the energy check, the segment and bend tables.
+    assert.equal(await page.locator('#budget-rows tr[data-mechanism]').count(), 8);
+    const sum = Number(await page.locator('#budget-rows tr.sum td.num').innerText());
+    assert.ok(Math.abs(sum - 100) < 1e-6, `budget sums to ${sum} %`);
+    assert.equal(await page.locator('#segment-rows tr').count(), 3);
+    assert.equal(await page.locator('#bend-rows tr').count(), 1);
+    // Drawings: the route with rays, the exit map, the intensity chart.
+    for (const id of ['route-view', 'exit-map', 'intensity']) {
+      assert.ok((await inkShare(page, id)) > 0.01, `${id} is blank`);
+    }
+    assert.ok((await page.locator('#route-legend .key[data-fate="delivered"]').count()) === 1, 'no delivered rays in the legend');
+    await assertNoJunk(page, 'first answer');
+    await page.screenshot({ path: join(OUT, 'design-1280x800.png'), fullPage: true });
+  });
+
+  test('the delivered share equals the command line for the same scenario and seed', async () => {
+    // Open an example, set fewer rays (the debug CLI is slow), and compare with the CLI's JSON.
+    await tracedAfter(page, async () => {
+      await page.selectOption('#demo', 'thermostat_status_led.json');
+    });
+    await tracedAfter(page, async () => {
+      await page.fill('#f-trace-rays', '40000');
+    });
+    const scenario = await pageScenario(page);
+    assert.equal(scenario.trace.rays, 40000);
+    const mine = await answer(page);
+    const theirs = cliTrace(scenario);
+    assert.equal(mine.rays, theirs.rays);
+    assert.equal(mine.share, theirs.delivered.share, 'delivered share differs from the CLI');
+    assert.equal(mine.ci95, theirs.delivered.ci95, 'its 95 % half-width differs from the CLI');
+    // The shown percentage is that share, rounded.
+    const shown = Number(await page.locator('#answer-value').innerText());
+    assert.ok(Math.abs(shown - 100 * theirs.delivered.share) < 0.05 + 1e-9, `shows ${shown} %`);
+    // Absolute figures (the example gives 1.2 lm) and the mount's loss are shown.
+    assert.match(await page.locator('#extra').innerText(), /lm/);
+    assert.match(await page.locator('#segment-rows').innerText(), /snap clip/);
+    await page.screenshot({ path: join(OUT, 'design-example-thermostat.png'), fullPage: true });
+  });
+
+  test('builds a route and a tighter bend leaks more', async () => {
+    // Start afresh from the starter-like route built by hand: straight, bend, straight.
+    await tracedAfter(page, async () => {
+      await page.selectOption('#demo', 'bike_light_charge_indicator.json');
+    });
+    const before = await pageScenario(page);
+    const n = before.route.length;
+    await tracedAfter(page, async () => {
+      await page.click('#add-bend');
+    });
+    const added = await pageScenario(page);
+    assert.equal(added.route.length, n + 1);
+    assert.ok(added.route[n].bend, 'the new segment is a bend');
+    await tracedAfter(page, async () => {
+      await page.click('#add-straight');
+    });
+    // Generous bend: little leakage in it.
+    await tracedAfter(page, async () => {
+      await page.fill(`#f-route-${n}-bend-radius-mm`, '20');
+      await page.fill('#f-trace-rays', '40000');
+    });
+    const wide = await page.evaluate((i) => document.querySelector(`#segment-rows tr[data-segment="${i}"] td:nth-child(3)`).innerText, n);
+    const wideScenario = await pageScenario(page);
+    const wideCli = cliTrace(wideScenario);
+    // Tight bend: more leakage in that bend, less delivered.
+    await tracedAfter(page, async () => {
+      await page.fill(`#f-route-${n}-bend-radius-mm`, '2.2');
+    });
+    const tightCli = cliTrace(await pageScenario(page));
+    const wideLeak = wideCli.segments[n].leaked;
+    const tightLeak = tightCli.segments[n].leaked;
+    assert.ok(tightLeak.share - wideLeak.share > 3 * (tightLeak.ci95 + wideLeak.ci95), `leak ${wideLeak.share} → ${tightLeak.share}`);
+    const tight = await answer(page);
+    assert.equal(tight.share, tightCli.delivered.share);
+    assert.ok(tight.share < wideCli.delivered.share, 'a tighter bend delivers less');
+    assert.notEqual(await page.evaluate((i) => document.querySelector(`#segment-rows tr[data-segment="${i}"] td:nth-child(3)`).innerText, n), wide);
+    // The bend table marks it.
+    assert.equal(await page.getAttribute(`#bend-rows tr[data-segment="${n}"]`, 'data-verdict'), 'leaks');
+    // Reorder and remove: move the new bend up, then remove it.
+    await tracedAfter(page, async () => {
+      await page.click(`#seg-${n}-up`);
+    });
+    const moved = await pageScenario(page);
+    assert.ok(moved.route[n - 1].bend && moved.route[n - 1].bend.radius_mm === 2.2, 'the bend moved up');
+    await tracedAfter(page, async () => {
+      await page.click(`#seg-${n - 1}-remove`);
+    });
+    assert.equal((await pageScenario(page)).route.length, n + 1);
+    await page.screenshot({ path: join(OUT, 'design-route-edited.png'), fullPage: true });
+  });
+
+  test('bad input is named by field with its range, and the design is kept', async () => {
+    await tracedAfter(page, () => page.selectOption('#demo', 'soil_sensor_ambient_light_window.json'));
+    await page.fill('#f-route-1-bend-radius-mm', 'abc');
+    await page.waitForSelector('#f-route-1-bend-radius-mm-msg:not([hidden])');
+    assert.match(await page.locator('#f-route-1-bend-radius-mm-msg').innerText(), /route\[1\]\.bend\.radius_mm must be a number/);
+    await page.fill('#f-route-1-bend-radius-mm', '-3');
+    await page.waitForFunction(() => /must be/.test(document.getElementById('f-route-1-bend-radius-mm-msg')?.textContent || ''));
+    const msg = await page.locator('#f-route-1-bend-radius-mm-msg').innerText();
+    assert.match(msg, /route\[1\]\.bend\.radius_mm/);
+    assert.match(msg, /-3/);
+    assert.equal(await page.getAttribute('#f-route-1-bend-radius-mm', 'aria-invalid'), 'true');
+    await assertNoJunk(page, 'bad input');
+    await page.screenshot({ path: join(OUT, 'design-bad-input.png'), fullPage: false });
+    // What was typed survives a reload.
+    await page.fill('#f-route-1-bend-radius-mm', '4,5x');
+    await page.waitForTimeout(300);
+    await page.reload();
+    await page.waitForSelector('body[data-ready="true"]');
+    assert.equal(await page.inputValue('#f-route-1-bend-radius-mm'), '4,5x');
+    await tracedAfter(page, async () => {
+      await page.fill('#f-route-1-bend-radius-mm', '9');
+    });
+  });
+
+  test('stops a long trace', async () => {
+    await page.fill('#f-trace-rays', '3000000');
+    await page.waitForFunction(() => document.body.dataset.tracing === 'true', null, { timeout: 20_000 });
+    await page.click('#cancel');
+    await page.waitForFunction(() => /Stopped at/.test(document.getElementById('progress-text').textContent));
+    const stoppedAt = await page.locator('#progress-text').innerText();
+    await page.waitForTimeout(800);
+    assert.equal(await page.locator('#progress-text').innerText(), stoppedAt, 'updates came after Stop');
+    const rays = Number(await page.getAttribute('#answer', 'data-rays'));
+    assert.ok(rays < 3000000, `the shown answer is for ${rays} rays`);
+    await tracedAfter(page, async () => {
+      await page.fill('#f-trace-rays', '30000');
+    });
+  });
+
+  test('saves a file and opens it again; malformed files keep the design', async () => {
+    const saved = await pageScenario(page);
+    const [download] = await Promise.all([page.waitForEvent('download'), page.click('#save-file')]);
+    const path = join(tmpdir(), `tirtrace-saved-${process.pid}.json`);
+    await download.saveAs(path);
+    assert.deepEqual(JSON.parse(readFileSync(path, 'utf8')), saved);
+    // Change the design, then open the file: the saved design comes back.
+    await tracedAfter(page, () => page.selectOption('#demo', 'soil_sensor_ambient_light_window.json'));
+    assert.notDeepEqual(await pageScenario(page), saved);
+    await tracedAfter(page, () => page.setInputFiles('#file-input', path));
+    assert.deepEqual(await pageScenario(page), saved);
+    // Malformed: not JSON, an unknown field, a value out of range. The design stays.
+    const cases = [
+      ['broken.json', '{ "version": 1, "guide": ', /not JSON/],
+      ['unknown.json', JSON.stringify({ ...saved, colour: 'red' }), /colour/],
+      ['range.json', JSON.stringify({ ...saved, route: [{ bend: { radius_mm: -3, angle_deg: 90 } }] }), /route\[0\]\.bend\.radius_mm/],
+    ];
+    for (const [name, text, want] of cases) {
+      await page.setInputFiles('#file-input', { name, mimeType: 'application/json', buffer: Buffer.from(text) });
+      await page.waitForFunction((n) => (document.getElementById('toolbar-msg').textContent || '').includes(n), name);
+      const msg = await page.locator('#toolbar-msg').innerText();
+      assert.match(msg, want, `${name}: ${msg}`);
+      assert.match(msg, /unchanged/);
+      assert.deepEqual(await pageScenario(page), saved, `${name} changed the design`);
+    }
+    await page.screenshot({ path: join(OUT, 'design-malformed-file.png') });
+  });
+
+  test('names holding HTML are shown as text', async () => {
+    const s = await pageScenario(page);
+    const evil = '<img src=x onerror="window.__pwned=1">Pipe <b>bold</b>';
+    const doc = { ...s, name: evil, guide: { ...s.guide, contacts: [{ name: '<script>window.__pwned=2</script>clip', segment: 0, from_mm: 0, to_mm: 1, medium: { library: 'polycarbonate' } }] } };
+    const path = join(tmpdir(), `tirtrace-html-${process.pid}.json`);
+    writeFileSync(path, JSON.stringify(doc));
+    await tracedAfter(page, () => page.setInputFiles('#file-input', path));
+    assert.equal(await page.locator('#design-name').textContent(), evil);
+    assert.equal(await page.locator('#design-name img, #segment-rows img, #segment-rows script').count(), 0);
+    assert.match(await page.locator('#segment-rows').innerText(), /<script>window.__pwned=2<\/script>clip/);
+    assert.equal(await page.evaluate(() => window.__pwned), undefined);
+    assert.equal(await page.inputValue('#f-name'), evil);
+  });
+
+  test('a share link opens the identical design in a fresh browser', async () => {
+    await tracedAfter(page, () => page.selectOption('#demo', 'clad_plastic_fibre.json'));
+    await page.fill('#f-name', 'Fibre for the share test: “quotes” & <angle brackets>');
+    await page.waitForTimeout(400);
+    const mine = await pageScenario(page);
+    await page.click('#share');
+    await page.waitForFunction(() => document.getElementById('share').dataset.link);
+    const link = await page.getAttribute('#share', 'data-link');
+    assert.ok(link.startsWith(`${server.origin}/#`), link);
+    const fresh = await browser.newContext({ viewport: { width: 820, height: 1180 } });
+    fresh.on('request', (r) => requests.push(r.url()));
+    try {
+      const p2 = await fresh.newPage();
+      watch(p2);
+      await p2.goto(link);
+      await p2.waitForSelector('body[data-ready="true"]', { timeout: 30_000 });
+      await p2.waitForFunction(() => Number(document.body.dataset.traced || 0) > 0, null, { timeout: 60_000 });
+      assert.deepEqual(await pageScenario(p2), mine);
+      const a = await answer(p2);
+      const b = cliTrace(mine);
+      assert.equal(a.share, b.delivered.share);
+      await assertNoJunk(p2, 'tablet');
+      await p2.screenshot({ path: join(OUT, 'design-820x1180.png'), fullPage: true });
+      await p2.screenshot({ path: join(OUT, 'design-820x1180-top.png') });
+    } finally {
+      await fresh.close();
+    }
+  });
+
+  test('the unit switch shows inches and keeps millimetres in the document', async () => {
+    const s = await pageScenario(page);
+    await page.check('input[name="unit"][value="in"]');
+    const d = s.guide.section.round?.diameter_mm;
+    if (d !== undefined) {
+      const shown = Number(await page.inputValue('#f-guide-section-round-diameter-mm'));
+      assert.ok(Math.abs(shown - d / 25.4) < 1e-4, `${shown} in for ${d} mm`);
+      await tracedAfter(page, () => page.fill('#f-guide-section-round-diameter-mm', '0.05'));
+      assert.ok(Math.abs((await pageScenario(page)).guide.section.round.diameter_mm - 1.27) < 1e-12);
+    }
+    await page.check('input[name="unit"][value="mm"]');
+  });
+
+  test('works offline from the service worker', async () => {
+    const controlled = await page.evaluate(async () => {
+      const sw = navigator.serviceWorker;
+      const timeout = new Promise((resolve) => setTimeout(() => resolve(false), 15_000));
+      const ready = (async () => {
+        await sw.ready;
+        if (!sw.controller) await new Promise((resolve) => sw.addEventListener('controllerchange', resolve, { once: true }));
+        return true;
+      })();
+      return Promise.race([ready, timeout]);
+    });
+    assert.equal(controlled, true, 'no service worker controls the page');
+    // Let the worker cache everything (install finished), then cut the server.
+    await page.reload();
+    await page.waitForSelector('body[data-ready="true"]');
+    await stopServer(server.child);
+    assert.equal(await reachable(`${server.origin}/index.html`), false, 'the server still answers');
+    await page.reload();
+    await page.waitForSelector('body[data-ready="true"]', { timeout: 30_000 });
+    await tracedAfter(page, () => page.fill('#f-trace-rays', '20000'));
+    const a = await answer(page);
+    assert.equal(a.rays, 20000);
+    // The examples are there offline too.
+    await tracedAfter(page, () => page.selectOption('#demo', 'thermostat_status_led.json'));
+  });
+
+  test('no request left the origin and nothing went to the console', () => {
+    const foreign = requests.filter((u) => !u.startsWith(server.origin) && !u.startsWith('blob:') && !u.startsWith('data:'));
+    assert.deepEqual(foreign, []);
+    assert.deepEqual(consoleErrors, []);
+  });
+});
+
+// Keep ROOT referenced for readers looking for where the files come from.
+void ROOT;

@@ -1,0 +1,78 @@
+// Shared pieces of the browser tests: paths, a static server for www/ on a free port, and
+// Chromium's launch settings (Debian's chromium, no network beyond the page's origin).
+
+import { spawn, spawnSync } from 'node:child_process';
+import { createServer } from 'node:net';
+import { dirname, join } from 'node:path';
+import { fileURLToPath } from 'node:url';
+
+const HERE = dirname(fileURLToPath(import.meta.url));
+export const ROOT = join(HERE, '..', '..');
+export const WWW = join(ROOT, 'www');
+export const OUT = join(HERE, 'out');
+export const CLI = join(ROOT, 'target', 'debug', 'tirtrace');
+export const CHROMIUM = process.env.CHROMIUM || '/usr/bin/chromium';
+
+export const CHROMIUM_ARGS = [
+  '--no-sandbox',
+  '--disable-gpu',
+  '--disable-quic',
+  '--no-first-run',
+  '--disable-background-networking',
+  '--disable-component-update',
+  '--disable-sync',
+];
+
+export function freePort() {
+  return new Promise((resolve, reject) => {
+    const srv = createServer();
+    srv.unref();
+    srv.on('error', reject);
+    srv.listen(0, '127.0.0.1', () => {
+      const { port } = srv.address();
+      srv.close(() => resolve(port));
+    });
+  });
+}
+
+export async function reachable(url) {
+  try {
+    const res = await fetch(url, { signal: AbortSignal.timeout(1000) });
+    await res.arrayBuffer();
+    return res.ok;
+  } catch {
+    return false;
+  }
+}
+
+/** Start `python3 -m http.server` for www/ on a free port and wait until it answers. */
+export async function startServer() {
+  const port = await freePort();
+  const child = spawn('python3', ['-m', 'http.server', String(port), '--bind', '127.0.0.1', '--directory', WWW], {
+    stdio: 'ignore',
+  });
+  const origin = `http://127.0.0.1:${port}`;
+  const deadline = Date.now() + 15_000;
+  while (Date.now() < deadline) {
+    if (child.exitCode !== null) throw new Error(`the static server exited with ${child.exitCode}`);
+    if (await reachable(`${origin}/index.html`)) return { child, origin };
+    await new Promise((r) => setTimeout(r, 100));
+  }
+  child.kill('SIGTERM');
+  throw new Error('the static server did not answer within 15 s');
+}
+
+export function stopServer(child) {
+  return new Promise((resolve) => {
+    if (!child || child.exitCode !== null || child.signalCode !== null) return resolve();
+    child.once('exit', () => resolve());
+    child.kill('SIGTERM');
+  });
+}
+
+/** Run the native CLI; returns stdout, throws with stderr on failure. */
+export function cli(args, input) {
+  const run = spawnSync(CLI, args, { input, encoding: 'utf8', maxBuffer: 64 * 1024 * 1024 });
+  if (run.status !== 0) throw new Error(`tirtrace ${args.join(' ')} failed: ${run.stderr}`);
+  return run.stdout;
+}

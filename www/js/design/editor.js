@@ -1,0 +1,541 @@
+// The design form: source, pipe, route (a list of segments to add, move, remove and edit),
+// mounts touching the pipe, detector and trace settings. It edits the scenario document in the
+// page state and reports each change; it computes nothing.
+
+import { getAt, isLength, parseNumber, setAt, showNumber, toStored } from './scenario.js';
+
+/** Build an element: h('p', { class: 'x', text: 'hello' }, child, …). */
+export function h(tag, attrs = {}, ...children) {
+  const el = document.createElement(tag);
+  for (const [k, v] of Object.entries(attrs)) {
+    if (v == null || v === false) continue;
+    if (k === 'text') el.textContent = v;
+    else if (k === 'class') el.className = v;
+    else if (k.startsWith('on')) el.addEventListener(k.slice(2), v);
+    else if (k === 'dataset') Object.assign(el.dataset, v);
+    else el.setAttribute(k, v === true ? '' : v);
+  }
+  for (const c of children.flat()) if (c != null && c !== false) el.append(c);
+  return el;
+}
+
+const idFor = (path) => `f-${path.replace(/[^A-Za-z0-9]+/g, '-')}`;
+
+/** The key of a one-key object (a serde enum variant): { round: {…} } → 'round'. */
+const variant = (obj) => (obj && typeof obj === 'object' ? Object.keys(obj)[0] : obj);
+
+const SEGMENT_DEFAULTS = {
+  straight: () => ({ straight: { length_mm: 10 } }),
+  bend: () => ({ bend: { radius_mm: 10, angle_deg: 90, turn_deg: 0 } }),
+  taper: (section) => ({ taper: { length_mm: 8, end_section: JSON.parse(JSON.stringify(section)) } }),
+};
+
+const SEGMENT_NAMES = { straight: 'Straight', bend: 'Bend', taper: 'Taper' };
+
+export class Editor {
+  /**
+   * @param root element to render into
+   * @param state the page state ({ scenario, drafts, unit })
+   * @param materials the core's material list
+   * @param onChange called after every edit with { structural: bool }
+   */
+  constructor(root, state, materials, onChange) {
+    this.root = root;
+    this.state = state;
+    this.materials = materials;
+    this.onChange = onChange;
+    /** Messages shown under fields: path → text. */
+    this.messages = new Map();
+  }
+
+  get s() {
+    return this.state.scenario;
+  }
+
+  // ------------------------------------------------------------ building blocks
+
+  /** A number field bound to `path`. */
+  num(path, label, unit, { hint, step, inputmode = 'decimal' } = {}) {
+    const id = idFor(path);
+    const shownUnit = isLength(path) ? this.state.unit : unit;
+    const draft = this.state.drafts[path];
+    const input = h('input', {
+      id,
+      type: 'text',
+      inputmode,
+      spellcheck: 'false',
+      autocomplete: 'off',
+      dataset: { path },
+      'aria-describedby': `${id}-msg${hint ? ` ${id}-hint` : ''}`,
+      step,
+    });
+    input.value = draft ?? showNumber(getAt(this.s, path), path, this.state.unit);
+    input.addEventListener('input', () => this.typed(path, input.value));
+    input.addEventListener('change', () => this.settle(path, input));
+    return h(
+      'div',
+      { class: 'field' },
+      h('label', { for: id }, label, shownUnit ? h('span', { class: 'unit-label', text: shownUnit }) : null),
+      input,
+      hint ? h('p', { class: 'hint', id: `${id}-hint`, text: hint }) : null,
+      this.msgEl(path),
+    );
+  }
+
+  msgEl(path) {
+    const text = this.messages.get(path);
+    return h('p', { class: 'field-msg', id: `${idFor(path)}-msg`, dataset: { for: path }, hidden: !text, text: text || '' });
+  }
+
+  /** A select whose choice is applied by `apply(value)`; `value` is the current choice. */
+  choice(key, label, options, value, apply, { hint } = {}) {
+    const id = idFor(key);
+    const sel = h(
+      'select',
+      { id, dataset: { path: key }, 'aria-describedby': `${id}-msg${hint ? ` ${id}-hint` : ''}` },
+      options.map(([v, text]) => h('option', { value: v, text })),
+    );
+    sel.value = value;
+    sel.addEventListener('change', () => {
+      apply(sel.value);
+      this.changed(true, id);
+    });
+    return h(
+      'div',
+      { class: 'field' },
+      h('label', { for: id, text: label }),
+      sel,
+      hint ? h('p', { class: 'hint', id: `${id}-hint`, text: hint }) : null,
+      this.msgEl(key),
+    );
+  }
+
+  /** A material choice at `path` ({ library } or { custom: constant n }). */
+  material(path, label, { filter = () => true, hint } = {}) {
+    const current = getAt(this.s, path) || { library: 'air' };
+    const isCustom = !!current.custom;
+    const options = this.materials.filter(filter).map((m) => [m.id, m.name]);
+    options.push(['custom', 'Another medium: index n']);
+    const value = isCustom ? 'custom' : current.library;
+    const parts = [
+      this.choice(path, label, options, value, (v) => {
+        if (v === 'custom') {
+          const n = current.custom?.n ?? 1.5;
+          setAt(this.s, path, { custom: { model: 'constant', n } });
+        } else {
+          setAt(this.s, path, { library: v });
+        }
+      }, { hint }),
+    ];
+    if (isCustom) {
+      if (current.custom.model === 'constant') {
+        parts.push(this.num(`${path}.custom.n`, 'Index n (relative to air)', ''));
+      } else {
+        parts.push(h('p', { class: 'hint', text: `A ${current.custom.model} index model from the file (edit it in the file).` }));
+      }
+    }
+    return parts;
+  }
+
+  // ------------------------------------------------------------ edits
+
+  /** Text typed into a number field: store the number, or keep the text as a draft. */
+  typed(path, text) {
+    const x = parseNumber(text);
+    if (Number.isFinite(x)) {
+      delete this.state.drafts[path];
+      setAt(this.s, path, toStored(x, path, this.state.unit));
+      this.setMessage(path, null);
+    } else {
+      this.state.drafts[path] = text;
+      this.setMessage(path, `${path} must be a number${text.trim() ? `, got “${text.trim()}”` : ' (it is empty)'}`);
+    }
+    this.changed(false);
+  }
+
+  /** On leaving a field, show a valid number in its tidy form. */
+  settle(path, input) {
+    if (this.state.drafts[path] === undefined) {
+      input.value = showNumber(getAt(this.s, path), path, this.state.unit);
+    }
+  }
+
+  changed(structural, focusId) {
+    if (structural) this.render(focusId);
+    this.onChange({ structural });
+  }
+
+  /** Show (or clear, with null) the message under a field. Returns whether a field showed it. */
+  setMessage(path, text) {
+    if (text) this.messages.set(path, text);
+    else this.messages.delete(path);
+    const el = this.root.querySelector(`.field-msg[data-for="${CSS.escape(path)}"]`);
+    const input = this.root.querySelector(`[data-path="${CSS.escape(path)}"]`);
+    if (input) input.setAttribute('aria-invalid', text ? 'true' : 'false');
+    if (!el) return false;
+    el.hidden = !text;
+    el.textContent = text || '';
+    return true;
+  }
+
+  /** Problems from typing: fields whose text is not a number. */
+  draftProblems() {
+    return Object.entries(this.state.drafts).map(([field, text]) => ({
+      field,
+      message: `${field} must be a number${String(text).trim() ? `, got “${String(text).trim()}”` : ' (it is empty)'}`,
+    }));
+  }
+
+  /** Show the core's problems under their fields; returns those no field could show. */
+  showProblems(problems) {
+    for (const path of [...this.messages.keys()]) {
+      if (this.state.drafts[path] === undefined) this.setMessage(path, null);
+    }
+    const loose = [];
+    for (const p of problems) {
+      if (!this.setMessage(p.field, p.message)) {
+        // A problem about a whole object (e.g. `route[1].bend`) goes to its first field.
+        const input = this.root.querySelector(`[data-path^="${CSS.escape(p.field)}"]`);
+        if (!input || !this.setMessage(input.dataset.path, p.message)) loose.push(p);
+      }
+    }
+    return loose;
+  }
+
+  // ------------------------------------------------------------ the form
+
+  render(focusId) {
+    const active = focusId || document.activeElement?.id;
+    this.root.replaceChildren(
+      this.sourcePart(),
+      this.pipePart(),
+      this.routePart(),
+      this.contactsPart(),
+      this.receiverPart(),
+      this.tracePart(),
+    );
+    if (active) document.getElementById(active)?.focus();
+  }
+
+  part(id, title, ...children) {
+    return h('fieldset', { class: `part part-${id}`, id: `part-${id}` }, h('legend', { text: title }), ...children);
+  }
+
+  sourcePart() {
+    const src = this.s.source;
+    const kind = variant(src.emitter);
+    const rows = [
+      this.choice('source.emitter', 'Light source', [['led', 'LED'], ['beam', 'Collimated beam (laser or lens)']], kind, (v) => {
+        src.emitter =
+          v === 'beam'
+            ? { beam: { diameter_mm: 1, divergence_half_angle_deg: 1 } }
+            : { led: { area: { square: { side_mm: 0.5 } }, pattern: 'lambertian' } };
+      }),
+    ];
+    if (kind === 'led') {
+      const led = src.emitter.led;
+      const area = variant(led.area);
+      rows.push(
+        this.choice('source.emitter.led.area', 'Emitting area', [['square', 'Square chip'], ['disk', 'Round chip']], area, (v) => {
+          led.area = v === 'disk' ? { disk: { diameter_mm: 0.5 } } : { square: { side_mm: 0.5 } };
+        }),
+        area === 'disk'
+          ? this.num('source.emitter.led.area.disk.diameter_mm', 'Chip diameter', 'mm')
+          : this.num('source.emitter.led.area.square.side_mm', 'Chip side', 'mm'),
+      );
+      const pattern = variant(led.pattern);
+      rows.push(
+        this.choice(
+          'source.emitter.led.pattern',
+          'Beam shape',
+          [['lambertian', 'Lambertian (a bare chip)'], ['half_intensity', 'From the half-intensity angle'], ['table', 'From a table of intensity vs angle']],
+          pattern,
+          (v) => {
+            if (v === 'half_intensity') led.pattern = { half_intensity: { half_angle_deg: 60 } };
+            else if (v === 'table') led.pattern = { table: { points: [[0, 1], [30, 0.9], [60, 0.5], [90, 0]] } };
+            else led.pattern = 'lambertian';
+          },
+        ),
+      );
+      if (pattern === 'half_intensity') {
+        rows.push(this.num('source.emitter.led.pattern.half_intensity.half_angle_deg', 'Half-intensity angle', 'deg', {
+          hint: 'Angle off axis where the intensity falls to half, from the LED data sheet (60 for a Lambertian chip).',
+        }));
+      } else if (pattern === 'table') {
+        rows.push(this.tableField());
+      }
+    } else {
+      rows.push(
+        this.num('source.emitter.beam.diameter_mm', 'Beam diameter', 'mm'),
+        this.num('source.emitter.beam.divergence_half_angle_deg', 'Divergence half-angle', 'deg'),
+        h('p', { class: 'caution', role: 'note', text: 'Laser source: never look into the beam or a fibre end; classify and label it to IEC 60825-1 and your local rules.' }),
+      );
+    }
+    rows.push(
+      this.num('source.wavelength_nm', 'Wavelength', 'nm', { hint: 'Blue ≈ 465, green ≈ 525, amber ≈ 590, red ≈ 630, infrared 850 or 940.' }),
+      this.num('source.gap_mm', 'Gap to the entry face', 'mm'),
+      ...this.material('source.gap_medium', 'In the gap', { filter: (m) => m.id === 'air' || m.id === 'water' || m.id === 'propylene_glycol' }),
+      h('div', { class: 'pair' }, this.num('source.offset_mm[0]', 'Offset across', 'mm'), this.num('source.offset_mm[1]', 'Offset up', 'mm')),
+      h('div', { class: 'pair' }, this.num('source.tilt_deg', 'Tilt', 'deg'), this.num('source.tilt_toward_deg', 'Tilt toward', 'deg')),
+    );
+    const flux = src.flux ? variant(src.flux) : 'none';
+    rows.push(
+      this.choice('source.flux', 'Source output (for absolute figures)', [['none', 'Not given (shares only)'], ['lm', 'Luminous flux, lm'], ['mw', 'Radiant flux, mW']], flux, (v) => {
+        if (v === 'none') delete src.flux;
+        else src.flux = { [v]: src.flux ? Object.values(src.flux)[0] : 1 };
+      }),
+    );
+    if (flux !== 'none') rows.push(this.num(`source.flux.${flux}`, flux === 'lm' ? 'Luminous flux' : 'Radiant flux', flux === 'lm' ? 'lm' : 'mW'));
+    if (kind === 'led' && (src.gap_mm ?? 0) < 0.5) {
+      rows.push(h('p', { class: 'caution', role: 'note', text: 'LED close to a plastic pipe: check the temperature at the entry face in the real product (acrylic softens near 105 °C, polycarbonate near 150 °C).' }));
+    }
+    return this.part('source', 'Light source', ...rows);
+  }
+
+  tableField() {
+    const path = 'source.emitter.led.pattern.table.points';
+    const id = idFor(path);
+    const points = getAt(this.s, path) || [];
+    const area = h('textarea', { id, rows: '5', spellcheck: 'false', dataset: { path }, 'aria-describedby': `${id}-hint ${id}-msg` });
+    area.value = this.state.drafts[path] ?? points.map(([a, r]) => `${a}, ${r}`).join('\n');
+    area.addEventListener('input', () => {
+      const rows = area.value.split(/\n/).map((l) => l.trim()).filter(Boolean);
+      const parsed = rows.map((l) => l.split(/[\s;,\t]+/).filter(Boolean).map(parseNumber));
+      const bad = parsed.findIndex((r) => r.length !== 2 || !r.every(Number.isFinite));
+      if (bad >= 0 || parsed.length === 0) {
+        this.state.drafts[path] = area.value;
+        this.setMessage(path, parsed.length === 0 ? `${path} needs at least two rows “angle, relative intensity”` : `${path} row ${bad + 1} must be two numbers “angle, relative intensity”, got “${rows[bad]}”`);
+      } else {
+        delete this.state.drafts[path];
+        setAt(this.s, path, parsed);
+        this.setMessage(path, null);
+      }
+      this.changed(false);
+    });
+    return h(
+      'div',
+      { class: 'field' },
+      h('label', { for: id, text: 'Relative intensity vs angle' }),
+      area,
+      h('p', { class: 'hint', id: `${id}-hint`, text: 'One row per angle: degrees off axis, then relative intensity (paste two columns from a data sheet).' }),
+      this.msgEl(path),
+    );
+  }
+
+  sectionFields(prefix, section, onKind) {
+    const kind = variant(section);
+    return [
+      this.choice(prefix, 'Cross-section', [['round', 'Round'], ['rectangular', 'Rectangular']], kind, onKind),
+      kind === 'round'
+        ? this.num(`${prefix}.round.diameter_mm`, 'Diameter', 'mm')
+        : h('div', { class: 'pair' }, this.num(`${prefix}.rectangular.width_mm`, 'Width', 'mm'), this.num(`${prefix}.rectangular.height_mm`, 'Height', 'mm')),
+    ];
+  }
+
+  pipePart() {
+    const g = this.s.guide;
+    const toKind = (sec, v) => {
+      const [hw] = Object.values(Object.values(sec)[0]);
+      return v === 'round' ? { round: { diameter_mm: hw } } : { rectangular: { width_mm: hw, height_mm: hw } };
+    };
+    return this.part(
+      'pipe',
+      'Light pipe',
+      ...this.sectionFields('guide.section', g.section, (v) => {
+        g.section = toKind(g.section, v);
+      }),
+      ...this.material('guide.material', 'Material', {
+        filter: (m) => m.id !== 'air' && m.id !== 'water',
+        hint: this.materialHint || '',
+      }),
+      ...this.material('guide.surroundings', 'Around the pipe'),
+      this.num('guide.attenuation_db_per_m', 'Bulk attenuation', 'dB/m', { hint: 'Absorption and scattering in the material; moulded acrylic is typically a few tenths of a dB per metre in the visible.' }),
+    );
+  }
+
+  routePart() {
+    const route = this.s.route;
+    const cards = route.map((seg, i) => this.segmentCard(seg, i, route.length));
+    const add = (kind) => () => {
+      route.push(SEGMENT_DEFAULTS[kind](this.lastSection()));
+      this.changed(true, `add-${kind}`);
+    };
+    return this.part(
+      'route',
+      'Route, from the LED to the window',
+      h('ol', { class: 'segments' }, cards),
+      h(
+        'div',
+        { class: 'add-row' },
+        h('button', { type: 'button', id: 'add-straight', onclick: add('straight'), text: '+ Straight' }),
+        h('button', { type: 'button', id: 'add-bend', onclick: add('bend'), text: '+ Bend' }),
+        h('button', { type: 'button', id: 'add-taper', onclick: add('taper'), text: '+ Taper' }),
+      ),
+    );
+  }
+
+  /** The section at the end of the route (where a new taper starts). */
+  lastSection() {
+    let sec = this.s.guide.section;
+    for (const seg of this.s.route) if (seg.taper) sec = seg.taper.end_section;
+    return sec;
+  }
+
+  segmentCard(seg, i, count) {
+    const kind = variant(seg);
+    const p = `route[${i}].${kind}`;
+    const move = (to) => () => {
+      const r = this.s.route;
+      [r[i], r[to]] = [r[to], r[i]];
+      this.moveContacts(i, to);
+      this.changed(true, `seg-${to}-${to < i ? 'up' : 'down'}`);
+    };
+    const remove = () => {
+      this.s.route.splice(i, 1);
+      this.dropContacts(i);
+      this.changed(true, 'add-straight');
+    };
+    const fields = [];
+    if (kind === 'straight') fields.push(this.num(`${p}.length_mm`, 'Length', 'mm'));
+    if (kind === 'bend') {
+      fields.push(
+        h('div', { class: 'pair' }, this.num(`${p}.radius_mm`, 'Radius (centre line)', 'mm'), this.num(`${p}.angle_deg`, 'Bend angle', 'deg')),
+        this.num(`${p}.turn_deg`, 'Turns toward', 'deg', { hint: '0: toward the pipe’s width axis, 90: toward its height axis, 180: the other way.' }),
+      );
+    }
+    if (kind === 'taper') {
+      fields.push(
+        this.num(`${p}.length_mm`, 'Length', 'mm'),
+        ...this.sectionFields(`${p}.end_section`, seg.taper.end_section, (v) => {
+          const [hw] = Object.values(Object.values(seg.taper.end_section)[0]);
+          seg.taper.end_section = v === 'round' ? { round: { diameter_mm: hw } } : { rectangular: { width_mm: hw, height_mm: hw } };
+        }).map((el) => {
+          el.querySelector('label').textContent = el.querySelector('select') ? 'End cross-section' : el.querySelector('label').textContent;
+          return el;
+        }),
+      );
+    }
+    return h(
+      'li',
+      { class: `segment segment-${kind}`, dataset: { index: String(i) } },
+      h(
+        'div',
+        { class: 'segment-head' },
+        h('span', { class: 'segment-number', text: String(i + 1) }),
+        h('select', {
+          id: `seg-${i}-kind`,
+          'aria-label': `Segment ${i + 1} kind`,
+          onchange: (e) => {
+            const v = e.target.value;
+            this.s.route[i] = SEGMENT_DEFAULTS[v](this.lastSection());
+            this.changed(true, `seg-${i}-kind`);
+          },
+        }, Object.entries(SEGMENT_NAMES).map(([v, t]) => h('option', { value: v, text: t, selected: v === kind }))),
+        h('span', { class: 'segment-tools' },
+          h('button', { type: 'button', id: `seg-${i}-up`, class: 'icon', 'aria-label': `Move segment ${i + 1} up`, disabled: i === 0, onclick: move(i - 1), text: '↑' }),
+          h('button', { type: 'button', id: `seg-${i}-down`, class: 'icon', 'aria-label': `Move segment ${i + 1} down`, disabled: i === count - 1, onclick: move(i + 1), text: '↓' }),
+          h('button', { type: 'button', id: `seg-${i}-remove`, class: 'icon', 'aria-label': `Remove segment ${i + 1}`, disabled: count === 1, onclick: remove, text: '✕' })),
+      ),
+      h('div', { class: 'segment-fields' }, fields),
+      this.msgEl(`route[${i}]`),
+    );
+  }
+
+  /** Keep mounts on the segment they were on when segments swap places. */
+  moveContacts(a, b) {
+    for (const c of this.s.guide.contacts || []) {
+      if (c.segment === a) c.segment = b;
+      else if (c.segment === b) c.segment = a;
+    }
+  }
+
+  /** A removed segment takes its mounts with it; later ones shift down. */
+  dropContacts(i) {
+    const g = this.s.guide;
+    if (!g.contacts) return;
+    g.contacts = g.contacts.filter((c) => c.segment !== i).map((c) => (c.segment > i ? { ...c, segment: c.segment - 1 } : c));
+    if (g.contacts.length === 0) delete g.contacts;
+  }
+
+  contactsPart() {
+    const g = this.s.guide;
+    const list = g.contacts || [];
+    const segOptions = this.s.route.map((seg, i) => [String(i), `${i + 1} · ${SEGMENT_NAMES[variant(seg)]}`]);
+    const items = list.map((c, k) => {
+      const p = `guide.contacts[${k}]`;
+      const nameId = idFor(`${p}.name`);
+      const name = h('input', { id: nameId, type: 'text', dataset: { path: `${p}.name` }, maxlength: '80' });
+      name.value = c.name || '';
+      name.addEventListener('input', () => {
+        c.name = name.value;
+        this.changed(false);
+      });
+      return h(
+        'li',
+        { class: 'contact' },
+        h('div', { class: 'field' }, h('label', { for: nameId, text: 'What touches the pipe' }), name),
+        this.choice(`${p}.segment`, 'On segment', segOptions, String(c.segment), (v) => {
+          c.segment = Number(v);
+        }),
+        h('div', { class: 'pair' }, this.num(`${p}.from_mm`, 'From', 'mm'), this.num(`${p}.to_mm`, 'To', 'mm')),
+        h('div', { class: 'pair' }, this.num(`${p}.sector_from_deg`, 'Around from', 'deg'), this.num(`${p}.sector_to_deg`, 'Around to', 'deg')),
+        ...this.material(`${p}.medium`, 'Its material'),
+        h('button', {
+          type: 'button',
+          id: `contact-${k}-remove`,
+          onclick: () => {
+            list.splice(k, 1);
+            if (list.length === 0) delete g.contacts;
+            this.changed(true, 'add-contact');
+          },
+          text: 'Remove this mount',
+        }),
+      );
+    });
+    return this.part(
+      'contacts',
+      'Mounts touching the pipe',
+      h('p', { class: 'hint', text: 'A clip, rib or glue spot touching the pipe over a length of one segment (mm from its start) and an arc of its perimeter (degrees from the width axis toward the height axis). Light reaching the wall there can pass into it.' }),
+      h('ol', { class: 'contacts' }, items),
+      h('button', {
+        type: 'button',
+        id: 'add-contact',
+        onclick: () => {
+          g.contacts = list;
+          list.push({ name: 'clip', segment: 0, from_mm: 0, to_mm: 2, sector_from_deg: 0, sector_to_deg: 90, medium: { library: 'polycarbonate' } });
+          this.changed(true, 'add-contact');
+        },
+        text: '+ Mount',
+      }),
+    );
+  }
+
+  receiverPart() {
+    const r = this.s.receiver;
+    const kind = !r ? 'none' : r.diameter_mm != null ? 'disk' : 'window';
+    const rows = [
+      this.choice('receiver', 'Detector beyond the exit face', [['none', 'None'], ['disk', 'Round (e.g. a photodiode or an eye pupil)'], ['window', 'Rectangular window']], kind, (v) => {
+        const distance = r?.distance_mm ?? 1;
+        if (v === 'none') delete this.s.receiver;
+        else if (v === 'disk') this.s.receiver = { diameter_mm: 3, distance_mm: distance };
+        else this.s.receiver = { width_mm: 4, height_mm: 2, distance_mm: distance };
+      }),
+    ];
+    if (kind === 'disk') rows.push(this.num('receiver.diameter_mm', 'Diameter', 'mm'));
+    if (kind === 'window') rows.push(h('div', { class: 'pair' }, this.num('receiver.width_mm', 'Width', 'mm'), this.num('receiver.height_mm', 'Height', 'mm')));
+    if (kind !== 'none') rows.push(this.num('receiver.distance_mm', 'Distance from the exit face', 'mm'));
+    return this.part('receiver', 'Detector', ...rows);
+  }
+
+  tracePart() {
+    return this.part(
+      'trace',
+      'Trace',
+      h('div', { class: 'pair' },
+        this.num('trace.rays', 'Rays', '', { inputmode: 'numeric' }),
+        this.num('trace.seed', 'Seed', '', { inputmode: 'numeric' })),
+      this.num('trace.max_interactions', 'Wall hits per ray at most', '', { inputmode: 'numeric' }),
+      h('p', { class: 'hint', text: 'More rays give a narrower ± figure (it shrinks as 1/√rays). The same seed gives the same answer, here and on the command line.' }),
+    );
+  }
+}

@@ -1,0 +1,392 @@
+// Wiring of the design page: load the core, restore the design, and on every edit check it,
+// redraw the route, and trace it in the workers, showing each sharper answer as it arrives.
+// All physics and geometry come from the core; this file passes data along.
+
+import init, * as core from '../../pkg/tirtrace.js';
+import { sizeCanvasForCore } from '../drawing.js';
+import { TracePool } from '../trace/pool.js';
+import { Editor } from './editor.js';
+import { FATES, RouteView, heatGradientCss } from './route-view.js';
+import { clearReport, showBends, showFigures, showProgress, showReport } from './report-view.js';
+import {
+  STARTER, clone, download, fileNameFor, freshState, loadState, saveState, scenarioFromFragment, shareLink,
+} from './scenario.js';
+
+const $ = (id) => document.getElementById(id);
+const messageOf = (e) => (e instanceof Error ? e.message : String(e ?? 'unknown problem'));
+const PREVIOUS_KEY = 'tirtrace.design.previous.v1';
+const KEEP_PATHS = 90;
+
+function setStatus(text, kind = 'busy') {
+  const el = $('status');
+  el.textContent = text;
+  el.dataset.kind = kind;
+}
+
+function toolbarMessage(text, { kind = 'info', action } = {}) {
+  const el = $('toolbar-msg');
+  el.replaceChildren(document.createTextNode(text));
+  if (action) {
+    const b = document.createElement('button');
+    b.type = 'button';
+    b.textContent = action.label;
+    b.addEventListener('click', () => {
+      el.hidden = true;
+      action.run();
+    });
+    el.append(' ', b);
+  }
+  el.dataset.kind = kind;
+  el.hidden = !text;
+}
+
+/** Serde defaults the form shows as fields (the core fills the same when they are absent). */
+function withDefaults(s) {
+  const out = clone(s);
+  out.name ??= '';
+  out.guide.attenuation_db_per_m ??= 0;
+  const src = out.source;
+  src.gap_mm ??= 0;
+  src.gap_medium ??= { library: 'air' };
+  src.offset_mm ??= [0, 0];
+  src.tilt_deg ??= 0;
+  src.tilt_toward_deg ??= 0;
+  out.trace = { rays: 100000, seed: 1, max_interactions: 10000, ...(out.trace || {}) };
+  for (const seg of out.route) if (seg.bend) seg.bend.turn_deg ??= 0;
+  for (const c of out.guide.contacts || []) {
+    c.sector_from_deg ??= 0;
+    c.sector_to_deg ??= 360;
+  }
+  return out;
+}
+
+const page = {
+  state: null,
+  editor: null,
+  view: null,
+  pool: null,
+  figures: null,
+  report: null,
+  /** The scenario the shown report belongs to. */
+  reportScenario: null,
+  timer: 0,
+};
+
+// ------------------------------------------------------------ checking and tracing
+
+/** Problems with the design as typed: text that is not a number, then the core's checks. */
+function problemsOf(state) {
+  const typed = page.editor.draftProblems();
+  if (typed.length) return typed;
+  const res = core.check_scenario(JSON.stringify(state.scenario));
+  return res.ok ? [] : res.problems;
+}
+
+function showLoose(problems) {
+  const box = $('form-problems');
+  box.replaceChildren(...problems.map((p) => {
+    const li = document.createElement('p');
+    li.textContent = p.message;
+    return li;
+  }));
+  box.hidden = problems.length === 0;
+}
+
+function update() {
+  const { state } = page;
+  saveState(state);
+  $('design-name').textContent = state.scenario.name || 'Untitled design';
+  let problems;
+  try {
+    problems = problemsOf(state);
+  } catch (e) {
+    problems = [{ field: 'design', message: `The design could not be checked: ${messageOf(e)}` }];
+  }
+  showLoose(page.editor.showProblems(problems));
+  document.body.dataset.problems = String(problems.length);
+  if (problems.length) {
+    $('stale-note').hidden = !page.report;
+    page.pool.cancel();
+    setStatus(`${problems.length} ${problems.length === 1 ? 'entry needs' : 'entries need'} fixing`, 'error');
+    return;
+  }
+  $('stale-note').hidden = true;
+  const json = JSON.stringify(state.scenario);
+  try {
+    page.figures = core.closed_form(json);
+    showFigures(page.figures);
+    showBends(page.figures, null);
+    const material = page.editor.root.querySelector('#f-guide-material-hint');
+    if (material) material.textContent = `n = ${page.figures.n_core.toFixed(4)} at ${page.figures.wavelength_nm} nm`;
+    const outline = core.route_outline(json);
+    if (outline.receiver) outline.receiver.round = state.scenario.receiver?.diameter_mm != null;
+    page.view.setOutline(outline);
+  } catch (e) {
+    setStatus(`Could not draw the design: ${messageOf(e)}`, 'error');
+    return;
+  }
+  page.pendingScenario = clone(state.scenario);
+  document.body.dataset.job = String(page.pool.start(json, { keepPaths: KEEP_PATHS }));
+  setStatus('Tracing…');
+}
+
+function scheduleUpdate() {
+  clearTimeout(page.timer);
+  page.timer = setTimeout(update, 150);
+}
+
+function onTraceUpdate(u) {
+  showProgress(u);
+  if (u.error) {
+    setStatus(u.error, 'error');
+    showLoose([{ field: 'design', message: u.error }]);
+    return;
+  }
+  if (u.report) {
+    page.report = u.report;
+    page.reportScenario = page.pendingScenario;
+    showReport(u.report, page.figures, page.reportScenario);
+    page.view.setReport(u.report);
+    drawLegend(u.report);
+    drawCharts();
+    $('answer').dataset.done = String(u.done);
+    $('answer').dataset.job = String(u.job);
+  }
+  if (u.cancelled) {
+    setStatus('Stopped', 'ok');
+  } else if (u.done) {
+    setStatus(`Traced ${u.raysTotal.toLocaleString('en')} rays`, 'ok');
+    document.body.dataset.traced = String(u.job);
+  }
+}
+
+function drawCharts() {
+  if (!page.report) return;
+  for (const [id, draw] of [['exit-map', core.draw_exit_map], ['intensity', core.draw_intensity]]) {
+    const canvas = $(id);
+    const { ratio } = sizeCanvasForCore(canvas);
+    try {
+      draw(id, page.report, ratio);
+    } catch (e) {
+      setStatus(`A chart could not be drawn: ${messageOf(e)}`, 'error');
+    }
+  }
+}
+
+function drawLegend(report) {
+  const counts = {};
+  for (const p of report.paths || []) counts[p.fate] = (counts[p.fate] || 0) + 1;
+  const items = Object.entries(FATES)
+    .filter(([k]) => counts[k])
+    .map(([k, style]) => {
+      const span = document.createElement('span');
+      span.className = 'key';
+      span.dataset.fate = k;
+      const sw = document.createElement('span');
+      sw.className = 'swatch';
+      sw.style.borderTopColor = style.colour;
+      sw.setAttribute('aria-hidden', 'true');
+      span.append(sw, `${counts[k]} ${style.label}`);
+      return span;
+    });
+  const heat = document.createElement('span');
+  heat.className = 'key heat-key';
+  const ramp = document.createElement('span');
+  ramp.className = 'heat-ramp';
+  ramp.style.background = heatGradientCss();
+  ramp.setAttribute('aria-hidden', 'true');
+  const max = page.view.heatMax;
+  heat.append(ramp, max > 0 ? `leakage along the pipe, up to ${(100 * max).toPrecision(2)} % per mm` : 'no leakage along the pipe');
+  $('route-legend').replaceChildren(...items, heat);
+}
+
+// ------------------------------------------------------------ replacing the design
+
+/** Load another design (example, file, link), keeping the current one to go back to. */
+function replaceDesign(scenario, how) {
+  try {
+    localStorage.setItem(PREVIOUS_KEY, JSON.stringify(page.state));
+  } catch {
+    // No storage: the undo below still works in this visit.
+  }
+  const previous = clone(page.state);
+  page.state.scenario = withDefaults(scenario);
+  page.state.drafts = {};
+  page.editor.messages.clear();
+  page.editor.render();
+  $('f-name').value = page.state.scenario.name || '';
+  page.view.fitted = false;
+  clearReport();
+  update();
+  toolbarMessage(`${how}.`, {
+    action: {
+      label: 'Back to the previous design',
+      run: () => {
+        page.state.scenario = previous.scenario;
+        page.state.drafts = previous.drafts;
+        page.editor.render();
+        $('f-name').value = page.state.scenario.name || '';
+        page.view.fitted = false;
+        update();
+      },
+    },
+  });
+}
+
+/** Check a scenario given as text (file, link); returns it or throws a readable Error. */
+function readScenario(text) {
+  let parsed;
+  try {
+    parsed = JSON.parse(text);
+  } catch (e) {
+    throw new Error(`it is not JSON (${messageOf(e)})`);
+  }
+  const res = core.check_scenario(text);
+  if (!res.ok) {
+    const list = res.problems.slice(0, 3).map((p) => p.message).join('; ');
+    throw new Error(`${list}${res.problems.length > 3 ? `; and ${res.problems.length - 3} more` : ''}`);
+  }
+  return parsed;
+}
+
+async function loadDemos() {
+  try {
+    const res = await fetch('demos/index.json');
+    const list = await res.json();
+    const sel = $('demo');
+    for (const d of list) {
+      const o = document.createElement('option');
+      o.value = d.file;
+      o.textContent = d.name;
+      sel.append(o);
+    }
+  } catch {
+    // Examples unavailable: the menu stays empty.
+  }
+}
+
+function wireToolbar() {
+  $('demo').addEventListener('change', async (e) => {
+    const file = e.target.value;
+    e.target.value = '';
+    if (!file) return;
+    try {
+      const text = await (await fetch(`demos/${file}`)).text();
+      const s = readScenario(text);
+      replaceDesign(s, `Opened the example “${s.name}”`);
+    } catch (err) {
+      toolbarMessage(`The example could not be opened: ${messageOf(err)}`, { kind: 'error' });
+    }
+  });
+  $('open-file').addEventListener('click', () => $('file-input').click());
+  $('file-input').addEventListener('change', async (e) => {
+    const file = e.target.files?.[0];
+    e.target.value = '';
+    if (!file) return;
+    try {
+      if (file.size > 2_000_000) throw new Error('it is larger than 2 MB; a design file is a few kB');
+      const s = readScenario(await file.text());
+      replaceDesign(s, `Opened ${file.name}`);
+    } catch (err) {
+      toolbarMessage(`${file.name} could not be opened: ${messageOf(err)}. Your design is unchanged.`, { kind: 'error' });
+    }
+  });
+  $('save-file').addEventListener('click', () => {
+    const s = page.state.scenario;
+    download(new Blob([`${JSON.stringify(s, null, 2)}\n`], { type: 'application/json' }), fileNameFor(s));
+  });
+  $('share').addEventListener('click', async () => {
+    const link = await shareLink(page.state.scenario, location.href.split('#')[0]);
+    $('share').dataset.link = link;
+    try {
+      await navigator.clipboard.writeText(link);
+      toolbarMessage(`Share link copied (${link.length} characters). It carries the whole design; nothing is sent anywhere.`);
+    } catch {
+      toolbarMessage(`Share link (copy it from here): ${link}`);
+    }
+  });
+  $('export-csv').addEventListener('click', () => {
+    if (!page.report) {
+      toolbarMessage('Nothing traced yet.', { kind: 'error' });
+      return;
+    }
+    try {
+      const csv = core.report_csv(page.report);
+      download(new Blob([csv], { type: 'text/csv' }), fileNameFor(page.reportScenario).replace(/\.tirtrace\.json$/, '-budget.csv'));
+    } catch (e) {
+      toolbarMessage(`The CSV could not be made: ${messageOf(e)}`, { kind: 'error' });
+    }
+  });
+  for (const r of document.querySelectorAll('input[name="unit"]')) {
+    r.addEventListener('change', () => {
+      page.state.unit = r.value;
+      page.editor.render();
+      saveState(page.state);
+    });
+  }
+  $('cancel').addEventListener('click', () => page.pool.cancel());
+  for (const b of document.querySelectorAll('[data-view]')) {
+    b.addEventListener('click', () => (b.dataset.view === 'fit' ? page.view.fit() : page.view.view(b.dataset.view)));
+  }
+  for (const b of document.querySelectorAll('button.png')) {
+    b.addEventListener('click', () => {
+      const id = b.dataset.canvas;
+      $(id).toBlob((blob) => blob && download(blob, `${fileNameFor(page.reportScenario || page.state.scenario).replace(/\.tirtrace\.json$/, '')}-${id}.png`));
+    });
+  }
+  $('f-name').addEventListener('input', (e) => {
+    page.state.scenario.name = e.target.value;
+    scheduleUpdate();
+  });
+}
+
+// ------------------------------------------------------------ start
+
+async function start() {
+  try {
+    await init();
+  } catch (e) {
+    setStatus(`The calculator could not start: ${messageOf(e)}`, 'error');
+    return;
+  }
+  let fromLink = null;
+  try {
+    const text = await scenarioFromFragment();
+    if (text) fromLink = readScenario(text);
+  } catch (e) {
+    toolbarMessage(`The share link could not be read: ${messageOf(e)}. Showing your last design.`, { kind: 'error' });
+  }
+  page.state = loadState() || freshState(STARTER);
+  page.state.scenario = withDefaults(page.state.scenario);
+  for (const r of document.querySelectorAll('input[name="unit"]')) r.checked = r.value === page.state.unit;
+  page.editor = new Editor($('editor'), page.state, core.materials(), ({ structural }) => {
+    if (structural) {
+      for (const k of Object.keys(page.state.drafts)) if (/^(route|guide\.contacts)\[/.test(k)) delete page.state.drafts[k];
+    }
+    scheduleUpdate();
+  });
+  page.editor.render();
+  $('f-name').value = page.state.scenario.name || '';
+  page.view = new RouteView($('route-view'));
+  page.pool = new TracePool({ onUpdate: onTraceUpdate });
+  wireToolbar();
+  loadDemos();
+  try {
+    await page.pool.ready();
+  } catch (e) {
+    setStatus(`The tracing workers could not start: ${messageOf(e)}`, 'error');
+  }
+  if (fromLink) {
+    replaceDesign(fromLink, `Opened the design from the link: “${fromLink.name || 'untitled'}”`);
+    history.replaceState(null, '', location.pathname + location.search);
+  } else {
+    update();
+  }
+  document.body.dataset.ready = 'true';
+  window.addEventListener('resize', () => drawCharts());
+  if ('serviceWorker' in navigator) {
+    navigator.serviceWorker.register('sw.js').catch(() => {});
+  }
+}
+
+start();

@@ -1,0 +1,161 @@
+// Shows a trace report and the closed-form figures: the delivered share with its 95 % figure,
+// the loss budget by mechanism and by segment, the bend table, the detector's share and the
+// absolute figures. Text only through textContent (names from files are never HTML).
+
+import { h } from './editor.js';
+
+const $ = (id) => document.getElementById(id);
+
+/** A share as a percentage with as many decimals as its ± figure warrants. */
+export function pct(share, ci) {
+  if (!Number.isFinite(share)) return '—';
+  const p = 100 * share;
+  const c = Number.isFinite(ci) ? 100 * ci : 0;
+  // Two significant digits of the half-width decide the decimals (at most 3, at least 1).
+  const decimals = c > 0 ? Math.min(3, Math.max(1, 1 - Math.floor(Math.log10(c)))) : 1;
+  return p.toFixed(decimals);
+}
+
+const pm = (share, ci) => `${pct(share, ci)} % ± ${pct(ci, ci)}`;
+
+const MECHANISMS = [
+  ['delivered', 'Reaches the window (exit face)', '#1864ab'],
+  ['missed_entry', 'Misses the entry face', '#adb5bd'],
+  ['reflected_entry', 'Reflected at the entry face (Fresnel)', '#868e96'],
+  ['leaked', 'Leaks out of the side walls', '#d9480f'],
+  ['contact', 'Lost into mounts touching the pipe', '#862e9c'],
+  ['absorbed', 'Absorbed in the material', '#e8590c'],
+  ['returned', 'Comes back out of the entry face', '#2b8a3e'],
+  ['stopped', 'Stopped by the wall-hit limit', '#495057'],
+];
+
+export const MECHANISM_LIST = MECHANISMS;
+
+const KIND_NAMES = { straight: 'Straight', bend: 'Bend', taper: 'Taper' };
+
+function fixed(x, d) {
+  return Number.isFinite(x) ? x.toFixed(d) : '—';
+}
+
+/** A number with 3 significant digits, plain notation where sensible. */
+function sig(x) {
+  if (!Number.isFinite(x)) return '—';
+  if (x === 0) return '0';
+  const a = Math.abs(x);
+  if (a >= 0.01 && a < 1e6) return String(Number(x.toPrecision(3)));
+  return x.toExponential(2);
+}
+
+export function showProgress(u) {
+  const bar = $('progress');
+  bar.max = Math.max(1, u.raysTotal || 1);
+  bar.value = u.raysDone || 0;
+  let text;
+  if (u.error) text = 'Not traced: see the message above the form.';
+  else if (u.cancelled) text = `Stopped at ${u.raysDone.toLocaleString('en')} of ${u.raysTotal.toLocaleString('en')} rays.`;
+  else if (u.done) text = `${u.raysTotal.toLocaleString('en')} rays traced in ${(u.elapsedMs / 1000).toFixed(1)} s.`;
+  else text = `${(u.raysDone || 0).toLocaleString('en')} of ${(u.raysTotal || 0).toLocaleString('en')} rays…`;
+  $('progress-text').textContent = text;
+  $('cancel').disabled = u.done || u.cancelled || !!u.error;
+  document.body.dataset.tracing = u.done || u.cancelled || u.error ? 'false' : 'true';
+}
+
+export function showReport(report, figures, scenario) {
+  const d = report.delivered;
+  $('answer-value').textContent = pct(d.share, d.ci95);
+  $('answer-ci').textContent = `± ${pct(d.ci95, d.ci95)} %`;
+  $('answer').dataset.share = String(d.share);
+  $('answer').dataset.ci95 = String(d.ci95);
+  $('answer').dataset.rays = String(report.rays);
+  $('answer-note').textContent = `of the light the ${scenario.source.emitter.beam ? 'beam' : 'LED'} emits, from ${report.rays.toLocaleString('en')} rays (95 % confidence).`;
+
+  // Detector and absolute figures.
+  const extra = [];
+  if (report.receiver) extra.push(['On the detector', pm(report.receiver.share, report.receiver.ci95)]);
+  const abs = report.absolute;
+  if (abs) {
+    extra.push([`Flux reaching the window`, `${sig(abs.delivered.value)} ± ${sig(abs.delivered.ci95)} ${abs.unit}`]);
+    if (abs.receiver) extra.push([`Flux on the detector`, `${sig(abs.receiver.value)} ± ${sig(abs.receiver.ci95)} ${abs.unit}`]);
+    extra.push([`Peak intensity (at ${fixed(abs.peak_angle_deg, 1)}° off axis)`, `${sig(abs.peak_intensity.value)} ± ${sig(abs.peak_intensity.ci95)} ${abs.intensity_unit}`]);
+    extra.push([`On-axis intensity`, `${sig(abs.on_axis_intensity.value)} ± ${sig(abs.on_axis_intensity.ci95)} ${abs.intensity_unit}`]);
+    if (abs.mean_exit_luminance) extra.push(['Mean luminance of the exit face', `${sig(abs.mean_exit_luminance.value)} ± ${sig(abs.mean_exit_luminance.ci95)} cd/m²`]);
+  }
+  $('extra').replaceChildren(...extra.map(([k, v]) => h('div', { class: 'extra-item' }, h('dt', { text: k }), h('dd', { text: v }))));
+  $('extra').hidden = extra.length === 0;
+
+  // Budget by mechanism: one stacked bar and a table.
+  const b = report.budget;
+  const bar = $('budget-bar');
+  bar.replaceChildren(
+    ...MECHANISMS.filter(([k]) => b[k].share > 0).map(([k, label, colour]) =>
+      h('span', { class: 'budget-piece', title: `${label}: ${pm(b[k].share, b[k].ci95)}`, style: `flex-grow:${b[k].share};background:${colour}` }),
+    ),
+  );
+  $('budget-rows').replaceChildren(
+    ...MECHANISMS.map(([k, label, colour]) =>
+      h('tr', { dataset: { mechanism: k } },
+        h('th', { scope: 'row' }, h('span', { class: 'swatch', style: `background:${colour}`, 'aria-hidden': 'true' }), label),
+        h('td', { class: 'num', text: pct(b[k].share, b[k].ci95) }),
+        h('td', { class: 'num ci', text: `± ${pct(b[k].ci95, b[k].ci95)}` })),
+    ),
+    h('tr', { class: 'sum' }, h('th', { scope: 'row', text: 'Sum (energy check)' }), h('td', { class: 'num', text: (100 * report.budget_sum).toFixed(6) }), h('td')),
+  );
+
+  // By segment.
+  const contactsBySeg = new Map();
+  for (const c of report.contacts || []) {
+    contactsBySeg.set(c.segment, [...(contactsBySeg.get(c.segment) || []), c]);
+  }
+  $('segment-rows').replaceChildren(
+    ...report.segments.map((s) => {
+      const lost = contactsBySeg.get(s.index) || [];
+      return h('tr', { dataset: { segment: String(s.index) } },
+        h('th', { scope: 'row', text: `${s.index + 1} · ${KIND_NAMES[s.kind] || s.kind}` }),
+        h('td', { class: 'num', text: fixed(s.length_mm, 1) }),
+        h('td', { class: 'num', text: pm(s.leaked.share, s.leaked.ci95) }),
+        h('td', { class: 'num', text: pm(s.absorbed.share, s.absorbed.ci95) }),
+        h('td', { text: lost.length ? lost.map((c) => `${c.name || 'mount'}: ${pm(c.lost.share, c.lost.ci95)}`).join('; ') : '—' }));
+    }),
+  );
+
+  showBends(figures, report);
+}
+
+/** The per-bend table: closed-form leak-free radius for this launch, and the traced leakage. */
+export function showBends(figures, report) {
+  const rows = (figures?.bends || []).map((bf) => {
+    const seg = report?.segments?.[bf.segment];
+    const leaked = seg ? pm(seg.leaked.share, seg.leaked.ci95) : '…';
+    const ok = bf.verdict === 'ok';
+    return h('tr', { dataset: { segment: String(bf.segment), verdict: bf.verdict } },
+      h('th', { scope: 'row', text: `${bf.segment + 1}` }),
+      h('td', { class: 'num', text: `${fixed(bf.angle_deg, 0)}°` }),
+      h('td', { class: 'num', text: fixed(bf.inner_radius_mm, 2) }),
+      h('td', { class: 'num', text: fixed(bf.inner_radius_over_size, 2) }),
+      h('td', { class: 'num', text: bf.leak_free_inner_radius_mm == null ? 'none exists' : fixed(bf.leak_free_inner_radius_mm, 2) }),
+      h('td', { class: 'num', text: leaked }),
+      h('td', {}, h('span', { class: `mark mark-${ok ? 'ok' : 'leaks'}`, text: ok ? 'no leak expected' : 'leaks', title: bf.note })));
+  });
+  $('bend-rows').replaceChildren(...rows);
+  $('bends-empty').hidden = rows.length > 0;
+  $('bend-note').textContent = figures?.bend_note || '';
+}
+
+/** The closed-form figures line: n, critical angle, NA, acceptance, entry Fresnel loss. */
+export function showFigures(f) {
+  const items = [
+    ['Index n of the pipe', fixed(f.n_core, 4)],
+    ['Critical angle', `${fixed(f.critical_angle_deg, 2)}°`],
+    ['NA', fixed(f.numerical_aperture, 3)],
+    ['Acceptance half-angle in the gap', f.acceptance_saturated ? '90° (all light)' : `${fixed(f.acceptance_half_angle_in_gap_deg, 1)}°`],
+    ['Entry Fresnel loss (normal incidence)', `${fixed(100 * f.entry_fresnel_loss, 2)} %`],
+  ];
+  $('figures').replaceChildren(...items.map(([k, v]) => h('div', { class: 'fig' }, h('dt', { text: k }), h('dd', { text: v }))));
+}
+
+export function clearReport() {
+  $('answer-value').textContent = '—';
+  $('answer-ci').textContent = '';
+  $('answer-note').textContent = '';
+  delete $('answer').dataset.share;
+}

@@ -1,0 +1,342 @@
+// The routed pipe drawn in 3D (orthographic) on a canvas the user can turn (drag), zoom (wheel,
+// pinch, + / −) and pan (shift-drag, two fingers, arrow keys with shift): the pipe from the core's
+// outline, the leakage along it as a heat strip, and a sample of traced rays coloured by fate.
+// Drawing only: every position comes from the core.
+
+const FATE_STYLE = {
+  delivered: { colour: '#1864ab', label: 'reach the window' },
+  leaked: { colour: '#d9480f', label: 'leak out of the side' },
+  contact: { colour: '#862e9c', label: 'lost into a mount' },
+  returned: { colour: '#2b8a3e', label: 'come back out of the entry' },
+  reflected_entry: { colour: '#868e96', label: 'reflected at the entry' },
+  missed: { colour: '#adb5bd', label: 'miss the entry face' },
+  stopped: { colour: '#495057', label: 'stopped (hit limit)' },
+};
+
+export const FATES = FATE_STYLE;
+
+/** Heat strip colours, light to dark (sequential; our own ramp). */
+const HEAT = [
+  [255, 236, 179],
+  [253, 190, 95],
+  [240, 120, 40],
+  [200, 50, 20],
+  [120, 10, 20],
+];
+
+function heatColour(x) {
+  const t = Math.min(1, Math.max(0, x)) * (HEAT.length - 1);
+  const i = Math.min(HEAT.length - 2, Math.floor(t));
+  const f = t - i;
+  const c = HEAT[i].map((v, k) => Math.round(v + f * (HEAT[i + 1][k] - v)));
+  return `rgb(${c[0]},${c[1]},${c[2]})`;
+}
+
+export const heatGradientCss = () => `linear-gradient(to right, ${HEAT.map((c) => `rgb(${c.join(',')})`).join(', ')})`;
+
+const DEG = Math.PI / 180;
+const VIEWS = { turned: [90, 35], plan: [90, 90], side: [90, 0] };
+
+export class RouteView {
+  constructor(canvas) {
+    this.canvas = canvas;
+    this.outline = null;
+    this.report = null;
+    this.az = VIEWS.turned[0];
+    this.el = VIEWS.turned[1];
+    this.scale = 1; // CSS px per mm
+    this.pan = [0, 0]; // CSS px
+    this.fitted = false;
+    this.pointers = new Map();
+    this.wire();
+    new ResizeObserver(() => this.draw()).observe(canvas);
+  }
+
+  setOutline(outline) {
+    const first = !this.outline;
+    this.outline = outline;
+    if (first || !this.fitted) this.fit();
+    this.draw();
+  }
+
+  setReport(report) {
+    this.report = report;
+    this.draw();
+  }
+
+  view(name) {
+    [this.az, this.el] = VIEWS[name];
+    this.fit();
+  }
+
+  // ------------------------------------------------------------ projection
+
+  project(p) {
+    const [x, y, z] = p;
+    const ca = Math.cos(this.az * DEG);
+    const sa = Math.sin(this.az * DEG);
+    const x1 = x * ca + z * sa;
+    const z1 = -x * sa + z * ca;
+    const ce = Math.cos(this.el * DEG);
+    const se = Math.sin(this.el * DEG);
+    const y2 = y * ce - z1 * se;
+    return [x1, y2];
+  }
+
+  toScreen(p) {
+    const [u, v] = this.project(p);
+    const w = this.canvas.clientWidth;
+    const hgt = this.canvas.clientHeight;
+    return [w / 2 + this.pan[0] + u * this.scale, hgt / 2 + this.pan[1] - v * this.scale];
+  }
+
+  /** Scale and centre so the whole route, source and detector fit. */
+  fit() {
+    const o = this.outline;
+    if (!o) return;
+    let lo = [Infinity, Infinity];
+    let hi = [-Infinity, -Infinity];
+    const add = (p, r = 0) => {
+      const [u, v] = this.project(p);
+      lo = [Math.min(lo[0], u - r), Math.min(lo[1], v - r)];
+      hi = [Math.max(hi[0], u + r), Math.max(hi[1], v + r)];
+    };
+    for (const seg of o.segments) for (const pt of seg.points) add(pt.centre, Math.max(pt.half_width_mm, pt.half_height_mm));
+    if (o.source_mm) add(o.source_mm);
+    if (o.receiver) add(o.receiver.centre, Math.max(o.receiver.half_width_mm, o.receiver.half_height_mm));
+    const w = Math.max(1, this.canvas.clientWidth);
+    const hgt = Math.max(1, this.canvas.clientHeight);
+    const span = [Math.max(hi[0] - lo[0], 1e-3), Math.max(hi[1] - lo[1], 1e-3)];
+    this.scale = 0.86 * Math.min(w / span[0], hgt / span[1]);
+    const mid = [(lo[0] + hi[0]) / 2, (lo[1] + hi[1]) / 2];
+    this.pan = [-mid[0] * this.scale, mid[1] * this.scale];
+    this.fitted = true;
+    this.draw();
+  }
+
+  zoomAt(factor, sx, sy) {
+    const w = this.canvas.clientWidth;
+    const hgt = this.canvas.clientHeight;
+    const s = Math.min(Math.max(this.scale * factor, 0.05), 5000);
+    const f = s / this.scale;
+    // Keep the point under (sx, sy) in place.
+    this.pan = [(this.pan[0] + w / 2 - sx) * f + sx - w / 2, (this.pan[1] + hgt / 2 - sy) * f + sy - hgt / 2];
+    this.scale = s;
+    this.fitted = false;
+    this.draw();
+  }
+
+  turn(dAz, dEl) {
+    this.az = (this.az + dAz) % 360;
+    this.el = Math.min(90, Math.max(-90, this.el + dEl));
+    this.fitted = false;
+    this.draw();
+  }
+
+  wire() {
+    const c = this.canvas;
+    c.addEventListener('wheel', (e) => {
+      e.preventDefault();
+      const r = c.getBoundingClientRect();
+      this.zoomAt(Math.exp(-e.deltaY * 0.0015), e.clientX - r.left, e.clientY - r.top);
+    }, { passive: false });
+    c.addEventListener('pointerdown', (e) => {
+      c.setPointerCapture(e.pointerId);
+      this.pointers.set(e.pointerId, { x: e.clientX, y: e.clientY, shift: e.shiftKey || e.button === 1 || e.button === 2 });
+    });
+    c.addEventListener('pointermove', (e) => {
+      const prev = this.pointers.get(e.pointerId);
+      if (!prev) return;
+      const dx = e.clientX - prev.x;
+      const dy = e.clientY - prev.y;
+      if (this.pointers.size === 2) {
+        // Two fingers: pinch to zoom, move to pan (each finger contributes half).
+        const [a, b] = [...this.pointers.entries()].map(([id, p]) => (id === e.pointerId ? { x: e.clientX, y: e.clientY } : p));
+        const [pa, pb] = [...this.pointers.values()];
+        const before = Math.hypot(pa.x - pb.x, pa.y - pb.y);
+        const after = Math.hypot(a.x - b.x, a.y - b.y);
+        const r = c.getBoundingClientRect();
+        this.pan = [this.pan[0] + dx / 2, this.pan[1] + dy / 2];
+        if (before > 0) this.zoomAt(after / before, (a.x + b.x) / 2 - r.left, (a.y + b.y) / 2 - r.top);
+      } else if (prev.shift || e.shiftKey) {
+        this.pan = [this.pan[0] + dx, this.pan[1] + dy];
+        this.fitted = false;
+        this.draw();
+      } else {
+        this.turn(dx * 0.4, dy * 0.4);
+      }
+      this.pointers.set(e.pointerId, { ...prev, x: e.clientX, y: e.clientY });
+    });
+    const up = (e) => this.pointers.delete(e.pointerId);
+    c.addEventListener('pointerup', up);
+    c.addEventListener('pointercancel', up);
+    c.addEventListener('contextmenu', (e) => e.preventDefault());
+    c.addEventListener('keydown', (e) => {
+      const step = 8;
+      const k = e.key;
+      if (k === '+' || k === '=') this.zoomAt(1.25, c.clientWidth / 2, c.clientHeight / 2);
+      else if (k === '-' || k === '_') this.zoomAt(0.8, c.clientWidth / 2, c.clientHeight / 2);
+      else if (k === '0') this.fit();
+      else if (k.startsWith('Arrow')) {
+        const d = { ArrowLeft: [-1, 0], ArrowRight: [1, 0], ArrowUp: [0, -1], ArrowDown: [0, 1] }[k];
+        if (e.shiftKey) {
+          this.pan = [this.pan[0] + d[0] * 20, this.pan[1] + d[1] * 20];
+          this.draw();
+        } else this.turn(d[0] * step, d[1] * step);
+      } else return;
+      e.preventDefault();
+    });
+  }
+
+  // ------------------------------------------------------------ drawing
+
+  draw() {
+    const c = this.canvas;
+    const ratio = window.devicePixelRatio || 1;
+    const w = c.clientWidth;
+    const hgt = c.clientHeight;
+    if (w === 0 || hgt === 0) return;
+    if (c.width !== Math.round(w * ratio) || c.height !== Math.round(hgt * ratio)) {
+      c.width = Math.round(w * ratio);
+      c.height = Math.round(hgt * ratio);
+    }
+    const g = c.getContext('2d');
+    g.setTransform(ratio, 0, 0, ratio, 0, 0);
+    g.fillStyle = '#ffffff';
+    g.fillRect(0, 0, w, hgt);
+    const o = this.outline;
+    if (!o) return;
+    g.lineJoin = 'round';
+    g.lineCap = 'butt';
+
+    // The pipe: a dark outline stroke, then the body (a round pipe's outline under an
+    // orthographic view is as wide as its diameter from every side).
+    for (const pass of ['wall', 'body']) {
+      for (const seg of o.segments) {
+        const pts = seg.points;
+        for (let i = 0; i + 1 < pts.length; i += 1) {
+          const hw = Math.max(pts[i].half_width_mm, pts[i].half_height_mm, pts[i + 1].half_width_mm, pts[i + 1].half_height_mm);
+          const [x0, y0] = this.toScreen(pts[i].centre);
+          const [x1, y1] = this.toScreen(pts[i + 1].centre);
+          g.beginPath();
+          g.moveTo(x0, y0);
+          g.lineTo(x1, y1);
+          g.lineWidth = Math.max(2 * hw * this.scale + (pass === 'wall' ? 2.5 : 0), pass === 'wall' ? 3 : 1);
+          g.strokeStyle = pass === 'wall' ? '#1f2a36' : '#e4f0f2';
+          g.lineCap = 'round';
+          g.stroke();
+        }
+      }
+    }
+    this.drawRays(g);
+    this.drawHeat(g);
+    this.drawFaces(g);
+  }
+
+  /** Leakage along the route as a coloured strip down the middle of the pipe. */
+  drawHeat(g) {
+    const prof = this.report?.leak_along_route;
+    if (!prof || !prof.share?.length) return;
+    const density = prof.share.map((s) => s / prof.bin_mm);
+    const max = Math.max(...density);
+    this.heatMax = max;
+    if (!(max > 0)) return;
+    const binAt = (s) => Math.min(density.length - 1, Math.max(0, Math.floor(s / prof.bin_mm)));
+    for (const seg of this.outline.segments) {
+      const pts = seg.points;
+      for (let i = 0; i + 1 < pts.length; i += 1) {
+        const a = pts[i];
+        const b = pts[i + 1];
+        const hw = Math.max(a.half_width_mm, a.half_height_mm);
+        // Split the piece at bin edges so each part takes its own bin's colour.
+        const cuts = [a.s_mm];
+        for (let e = (Math.floor(a.s_mm / prof.bin_mm) + 1) * prof.bin_mm; e < b.s_mm; e += prof.bin_mm) cuts.push(e);
+        cuts.push(b.s_mm);
+        for (let k = 0; k + 1 < cuts.length; k += 1) {
+          const v = density[binAt(0.5 * (cuts[k] + cuts[k + 1]))] / max;
+          if (v <= 0) continue;
+          const at = (s) => {
+            const f = b.s_mm > a.s_mm ? (s - a.s_mm) / (b.s_mm - a.s_mm) : 0;
+            return a.centre.map((x, j) => x + f * (b.centre[j] - x));
+          };
+          const [x0, y0] = this.toScreen(at(cuts[k]));
+          const [x1, y1] = this.toScreen(at(cuts[k + 1]));
+          g.beginPath();
+          g.moveTo(x0, y0);
+          g.lineTo(x1, y1);
+          g.lineCap = 'butt';
+          g.lineWidth = Math.max(4, 0.7 * hw * this.scale);
+          g.strokeStyle = heatColour(0.15 + 0.85 * v);
+          g.stroke();
+        }
+      }
+    }
+  }
+
+  /** Source, entry and exit faces, detector. */
+  drawFaces(g) {
+    const o = this.outline;
+    const ring = (centre, u, v, ru, rv, round) => {
+      g.beginPath();
+      const n = round ? 40 : 4;
+      for (let k = 0; k <= n; k += 1) {
+        const t = round ? (k / n) * 2 * Math.PI : (k + 0.5) * (Math.PI / 2);
+        const cu = round ? Math.cos(t) : Math.sign(Math.cos(t));
+        const cv = round ? Math.sin(t) : Math.sign(Math.sin(t));
+        const p = centre.map((x, j) => x + ru * cu * u[j] + rv * cv * v[j]);
+        const [sx, sy] = this.toScreen(p);
+        if (k === 0) g.moveTo(sx, sy);
+        else g.lineTo(sx, sy);
+      }
+    };
+    const first = o.segments[0]?.points[0];
+    const lastSeg = o.segments[o.segments.length - 1];
+    const last = lastSeg?.points[lastSeg.points.length - 1];
+    g.lineWidth = 1.5;
+    for (const [pt, seg, colour] of [[first, o.segments[0], '#12525a'], [last, lastSeg, '#1864ab']]) {
+      if (!pt) continue;
+      ring(pt.centre, pt.width_axis, pt.height_axis, pt.half_width_mm, pt.half_height_mm, seg.round);
+      g.strokeStyle = colour;
+      g.stroke();
+    }
+    if (o.source_mm) {
+      const [sx, sy] = this.toScreen(o.source_mm);
+      g.fillStyle = '#f08c00';
+      g.strokeStyle = '#5c3b00';
+      g.beginPath();
+      g.arc(sx, sy, 4, 0, 2 * Math.PI);
+      g.fill();
+      g.stroke();
+    }
+    if (o.receiver) {
+      const r = o.receiver;
+      const ex = o.exit;
+      g.setLineDash([4, 3]);
+      ring(r.centre, ex.x, ex.y, r.half_width_mm, r.half_height_mm, r.round ?? Math.abs(r.half_width_mm - r.half_height_mm) < 1e-12);
+      g.strokeStyle = '#364fc7';
+      g.stroke();
+      g.setLineDash([]);
+    }
+  }
+
+  drawRays(g) {
+    const paths = this.report?.paths;
+    if (!paths?.length) return;
+    g.lineWidth = 0.9;
+    g.globalAlpha = 0.5;
+    g.lineCap = 'round';
+    for (const path of paths) {
+      const style = FATE_STYLE[path.fate] || FATE_STYLE.stopped;
+      if (path.hidden) continue;
+      g.strokeStyle = style.colour;
+      g.beginPath();
+      path.points.forEach((p, k) => {
+        const [sx, sy] = this.toScreen(p);
+        if (k === 0) g.moveTo(sx, sy);
+        else g.lineTo(sx, sy);
+      });
+      g.stroke();
+    }
+    g.globalAlpha = 1;
+  }
+}

@@ -1,0 +1,206 @@
+// The design page's state: the scenario document (the same JSON the native command line reads),
+// the text the user typed into each number field (kept verbatim so nothing typed is lost), and
+// the chosen length unit. Plus keeping it: local storage, files, and share links.
+
+const STORAGE_KEY = 'tirtrace.design.v1';
+
+export const MM_PER_INCH = 25.4;
+
+/** The design a first visit starts from (an invented desk-lamp touch-ring indicator). */
+export const STARTER = Object.freeze({
+  version: 1,
+  name: 'Desk lamp touch-ring indicator: 3 mm acrylic pipe, one bend',
+  guide: {
+    section: { round: { diameter_mm: 3 } },
+    material: { library: 'pmma' },
+    surroundings: { library: 'air' },
+    attenuation_db_per_m: 0.5,
+  },
+  route: [
+    { straight: { length_mm: 5 } },
+    { bend: { radius_mm: 8, angle_deg: 90, turn_deg: 0 } },
+    { straight: { length_mm: 10 } },
+  ],
+  source: {
+    emitter: { led: { area: { square: { side_mm: 0.5 } }, pattern: 'lambertian' } },
+    wavelength_nm: 525,
+    gap_mm: 0.3,
+    gap_medium: { library: 'air' },
+  },
+  trace: { rays: 100000, seed: 1, max_interactions: 10000 },
+});
+
+export const clone = (x) => JSON.parse(JSON.stringify(x));
+
+// ---------------------------------------------------------------- paths
+
+/**
+ * Split a field path in the core's syntax (`route[2].bend.radius_mm`, `source.offset_mm[0]`) into
+ * keys and indices.
+ */
+export function pathKeys(path) {
+  const keys = [];
+  for (const part of path.split('.')) {
+    const m = part.match(/^([^[\]]*)((?:\[\d+\])*)$/);
+    if (!m) return null;
+    if (m[1]) keys.push(m[1]);
+    for (const idx of m[2].matchAll(/\[(\d+)\]/g)) keys.push(Number(idx[1]));
+  }
+  return keys;
+}
+
+/** The value at `path`, or undefined. */
+export function getAt(obj, path) {
+  const keys = pathKeys(path);
+  if (!keys) return undefined;
+  let v = obj;
+  for (const k of keys) {
+    if (v == null || typeof v !== 'object') return undefined;
+    v = v[k];
+  }
+  return v;
+}
+
+/** Set the value at `path`, creating plain objects on the way. */
+export function setAt(obj, path, value) {
+  const keys = pathKeys(path);
+  if (!keys || keys.length === 0) return;
+  let v = obj;
+  for (let i = 0; i < keys.length - 1; i += 1) {
+    const k = keys[i];
+    if (v[k] == null || typeof v[k] !== 'object') v[k] = typeof keys[i + 1] === 'number' ? [] : {};
+    v = v[k];
+  }
+  v[keys[keys.length - 1]] = value;
+}
+
+/** Whether a field holds a length (converted by the mm / inch switch). */
+export const isLength = (path) => /_mm(\[\d+\])?$/.test(path);
+
+// ---------------------------------------------------------------- numbers
+
+/**
+ * Read a number the way a person types it: surrounding spaces, a leading sign, a decimal comma
+ * or point, an exponent. Anything else (empty text included) is NaN.
+ */
+export function parseNumber(text) {
+  if (typeof text !== 'string') return Number.NaN;
+  let t = text.trim().replace(/\u2212/g, '-');
+  if (!t.includes('.') && (t.match(/,/g) || []).length === 1) t = t.replace(',', '.');
+  if (!/^[+-]?(\d+\.?\d*|\.\d+)([eE][+-]?\d+)?$/.test(t)) return Number.NaN;
+  return Number(t);
+}
+
+/** A stored value shown in the chosen unit, without trailing noise (e.g. 0.1181 in). */
+export function showNumber(value, path, unit) {
+  if (typeof value !== 'number' || !Number.isFinite(value)) return '';
+  const v = unit === 'in' && isLength(path) ? value / MM_PER_INCH : value;
+  return String(Number(v.toPrecision(unit === 'in' && isLength(path) ? 5 : 10)));
+}
+
+/** A typed value in the chosen unit as stored (mm for lengths). */
+export const toStored = (x, path, unit) => (unit === 'in' && isLength(path) ? x * MM_PER_INCH : x);
+
+// ---------------------------------------------------------------- the page state
+
+/**
+ * `{ scenario, drafts, unit }`: `drafts` maps a field path to the text typed there when it is
+ * not (yet) a number, so it survives a reload; `unit` is 'mm' or 'in'.
+ */
+export function freshState(scenario = STARTER) {
+  return { scenario: clone(scenario), drafts: {}, unit: 'mm' };
+}
+
+/** The state kept in this browser, or null. */
+export function loadState() {
+  try {
+    const saved = JSON.parse(localStorage.getItem(STORAGE_KEY) || 'null');
+    if (saved && typeof saved === 'object' && saved.scenario && typeof saved.scenario === 'object') {
+      return {
+        scenario: saved.scenario,
+        drafts: saved.drafts && typeof saved.drafts === 'object' ? saved.drafts : {},
+        unit: saved.unit === 'in' ? 'in' : 'mm',
+      };
+    }
+  } catch {
+    // Unreadable: start afresh.
+  }
+  return null;
+}
+
+/** Keep the state in this browser; false when storage is unavailable. */
+export function saveState(state) {
+  try {
+    localStorage.setItem(STORAGE_KEY, JSON.stringify(state));
+    return true;
+  } catch {
+    return false;
+  }
+}
+
+// ---------------------------------------------------------------- share links
+
+const toBase64Url = (bytes) => {
+  let s = '';
+  for (let i = 0; i < bytes.length; i += 0x8000) s += String.fromCharCode(...bytes.subarray(i, i + 0x8000));
+  return btoa(s).replace(/\+/g, '-').replace(/\//g, '_').replace(/=+$/, '');
+};
+
+const fromBase64Url = (text) => {
+  const b = atob(text.replace(/-/g, '+').replace(/_/g, '/'));
+  const out = new Uint8Array(b.length);
+  for (let i = 0; i < b.length; i += 1) out[i] = b.charCodeAt(i);
+  return out;
+};
+
+async function pipe(bytes, stream) {
+  const out = new Response(new Blob([bytes]).stream().pipeThrough(stream));
+  return new Uint8Array(await out.arrayBuffer());
+}
+
+/**
+ * A link to this page carrying the whole scenario in its fragment (never sent to a server):
+ * `#d=` deflated JSON in base64url where the browser can compress, else `#j=` plain JSON.
+ */
+export async function shareLink(scenario, base = location.href) {
+  const json = new TextEncoder().encode(JSON.stringify(scenario));
+  const url = new URL(base);
+  if (typeof CompressionStream === 'function') {
+    url.hash = `d=${toBase64Url(await pipe(json, new CompressionStream('deflate-raw')))}`;
+  } else {
+    url.hash = `j=${toBase64Url(json)}`;
+  }
+  return url.href;
+}
+
+/** The scenario JSON text in a share-link fragment, null when there is none. */
+export async function scenarioFromFragment(hash = location.hash) {
+  const m = hash.match(/^#([dj])=([A-Za-z0-9_-]+)$/);
+  if (!m) return null;
+  let bytes = fromBase64Url(m[2]);
+  if (m[1] === 'd') bytes = await pipe(bytes, new DecompressionStream('deflate-raw'));
+  return new TextDecoder().decode(bytes);
+}
+
+// ---------------------------------------------------------------- files
+
+/** A file name from the design's name: plain letters, digits and dashes. */
+export function fileNameFor(scenario) {
+  const base = String(scenario?.name || 'light-guide')
+    .toLowerCase()
+    .replace(/[^a-z0-9]+/g, '-')
+    .replace(/^-+|-+$/g, '')
+    .slice(0, 60);
+  return `${base || 'light-guide'}.tirtrace.json`;
+}
+
+/** Offer `blob` as a download named `name`. */
+export function download(blob, name) {
+  const a = document.createElement('a');
+  a.href = URL.createObjectURL(blob);
+  a.download = name;
+  document.body.append(a);
+  a.click();
+  a.remove();
+  setTimeout(() => URL.revokeObjectURL(a.href), 10_000);
+}

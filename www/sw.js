@@ -29,6 +29,9 @@ const PAGE_FILES = [
   './js/design/scenario.js',
   './js/design/route-view.js',
   './js/design/report-view.js',
+  './js/design/sources.js',
+  './js/wasm-source.js',
+  './js/trace/main-thread-pool.js',
   './demos/index.json',
 ];
 

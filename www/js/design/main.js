@@ -4,13 +4,16 @@
 
 import init, * as core from '../../pkg/tirtrace.js';
 import { sizeCanvasForCore } from '../drawing.js';
+import { MainThreadPool } from '../trace/main-thread-pool.js';
 import { TracePool } from '../trace/pool.js';
+import { wasmSource } from '../wasm-source.js';
 import { Editor } from './editor.js';
 import { FATES, RouteView, heatGradientCss } from './route-view.js';
 import { clearReport, showBends, showFigures, showProgress, showReport } from './report-view.js';
 import {
   STARTER, clone, download, fileNameFor, freshState, loadState, saveState, scenarioFromFragment, shareLink,
 } from './scenario.js';
+import { demoList, demoText, traceWorker } from './sources.js';
 
 const $ = (id) => document.getElementById(id);
 const messageOf = (e) => (e instanceof Error ? e.message : String(e ?? 'unknown problem'));
@@ -251,8 +254,7 @@ function readScenario(text) {
 
 async function loadDemos() {
   try {
-    const res = await fetch('demos/index.json');
-    const list = await res.json();
+    const list = await demoList();
     const sel = $('demo');
     for (const d of list) {
       const o = document.createElement('option');
@@ -271,7 +273,7 @@ function wireToolbar() {
     e.target.value = '';
     if (!file) return;
     try {
-      const text = await (await fetch(`demos/${file}`)).text();
+      const text = await demoText(file);
       const s = readScenario(text);
       replaceDesign(s, `Opened the example “${s.name}”`);
     } catch (err) {
@@ -344,7 +346,7 @@ function wireToolbar() {
 
 async function start() {
   try {
-    await init();
+    await init(wasmSource());
   } catch (e) {
     setStatus(`The calculator could not start: ${messageOf(e)}`, 'error');
     return;
@@ -368,13 +370,18 @@ async function start() {
   page.editor.render();
   $('f-name').value = page.state.scenario.name || '';
   page.view = new RouteView($('route-view'));
-  page.pool = new TracePool({ onUpdate: onTraceUpdate });
+  page.pool = new TracePool({ onUpdate: onTraceUpdate, ...traceWorker() });
   wireToolbar();
   loadDemos();
   try {
     await page.pool.ready();
+    document.body.dataset.tracer = 'workers';
   } catch (e) {
-    setStatus(`The tracing workers could not start: ${messageOf(e)}`, 'error');
+    // No workers here (a browser that refuses them, e.g. from a file:// page): trace on the page.
+    page.pool.dispose();
+    page.pool = new MainThreadPool({ Tracer: core.Tracer, onUpdate: onTraceUpdate });
+    document.body.dataset.tracer = 'page';
+    toolbarMessage(`Tracing on the page itself, more slowly: ${messageOf(e)}.`);
   }
   if (fromLink) {
     replaceDesign(fromLink, `Opened the design from the link: “${fromLink.name || 'untitled'}”`);
@@ -384,7 +391,8 @@ async function start() {
   }
   document.body.dataset.ready = 'true';
   window.addEventListener('resize', () => drawCharts());
-  if ('serviceWorker' in navigator) {
+  // A service worker needs a served page (http or https); a file opened from disk has none.
+  if ('serviceWorker' in navigator && /^https?:$/.test(location.protocol)) {
     navigator.serviceWorker.register('sw.js').catch(() => {});
   }
 }

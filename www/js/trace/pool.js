@@ -29,14 +29,12 @@
 // raysPerSecond: raysDone over the time since start().
 
 /** Shortest time between two progressive merges (ms); the first and the final are not held back. */
-const MIN_MERGE_INTERVAL_MS = 150;
+export const MIN_MERGE_INTERVAL_MS = 150;
 /** A merge may take at most this share of the time between merges (so large traces keep tracing). */
-const MERGE_DUTY = 1 / 3;
+export const MERGE_DUTY = 1 / 3;
 /** Most tracing workers a pool starts by default (and the largest size accepted). */
 const DEFAULT_MAX_WORKERS = 8;
 const MAX_WORKERS = 32;
-
-const WORKER_URL = new URL('./worker.js', import.meta.url);
 
 const messageOf = (e) => (e instanceof Error ? e.message : String(e ?? 'unknown problem'));
 
@@ -46,7 +44,7 @@ function defaultSize() {
 }
 
 /** The ray count a scenario document asks for, or null when it leaves it to the core's default. */
-function declaredRays(scenarioJson) {
+export function declaredRays(scenarioJson) {
   try {
     const rays = JSON.parse(scenarioJson)?.trace?.rays;
     return Number.isSafeInteger(rays) && rays > 0 ? rays : null;
@@ -59,6 +57,7 @@ export class TracePool {
   #size;
   #onUpdate;
   #workerUrl;
+  #workerType;
   /** Tracing workers: { worker, alive, loaded, job (id whose scenario it holds), busy }. */
   #tracers = [];
   /** The merging worker, same shape. */
@@ -71,9 +70,11 @@ export class TracePool {
   /**
    * size: number of tracing workers (default: navigator.hardwareConcurrency clamped to 1..8);
    * onUpdate: called with every update (see the top of this file);
-   * workerUrl: the worker script (default: ./worker.js beside this module; tests replace it).
+   * workerUrl: the worker script (default: ./worker.js beside this module; tests replace it);
+   * workerType: 'module' (default) or 'classic' (a script that imports the modules itself, as the
+   * single-file build's does: a file:// page may not start a module worker from a blob: URL).
    */
-  constructor({ size, onUpdate, workerUrl } = {}) {
+  constructor({ size, onUpdate, workerUrl, workerType = 'module' } = {}) {
     const n = size ?? defaultSize();
     if (!Number.isInteger(n) || n < 1 || n > MAX_WORKERS) {
       throw new RangeError(`TracePool size must be a whole number from 1 to ${MAX_WORKERS}, got ${size}`);
@@ -81,9 +82,14 @@ export class TracePool {
     if (onUpdate !== undefined && typeof onUpdate !== 'function') {
       throw new TypeError('TracePool onUpdate must be a function');
     }
+    if (workerType !== 'module' && workerType !== 'classic') {
+      throw new RangeError(`TracePool workerType must be 'module' or 'classic', got ${workerType}`);
+    }
     this.#size = n;
     this.#onUpdate = onUpdate ?? (() => {});
-    this.#workerUrl = workerUrl ?? WORKER_URL;
+    // Resolved only when needed: a module loaded from a blob: URL has no folder to resolve it in.
+    this.#workerUrl = workerUrl ?? new URL('./worker.js', import.meta.url);
+    this.#workerType = workerType;
     for (let i = 0; i < n; i += 1) this.#tracers.push(this.#spawn());
     this.#merger = this.#spawn();
     for (const t of this.#tracers) this.#connect(t);
@@ -183,7 +189,7 @@ export class TracePool {
     });
     w.loadedPromise.catch(() => {});
     try {
-      w.worker = new Worker(this.#workerUrl, { type: 'module' });
+      w.worker = new Worker(this.#workerUrl, { type: this.#workerType });
     } catch (e) {
       w.alive = false;
       w.failure = `A trace worker could not start: ${messageOf(e)}`;

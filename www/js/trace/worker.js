@@ -21,8 +21,7 @@
 //   { type: 'worker-error', message }                        a message could not be handled
 
 import init, { Tracer } from '../../pkg/tirtrace.js';
-
-const WASM_URL = new URL('../../pkg/tirtrace_bg.wasm', import.meta.url);
+import { wasmSource } from '../wasm-source.js';
 
 const messageOf = (e) => (e instanceof Error ? e.message : String(e ?? 'unknown problem'));
 
@@ -146,7 +145,7 @@ function handle(msg) {
 
 // Messages that arrive while the core is loading wait for it; all run in arrival order.
 let failed = false;
-let queue = init({ module_or_path: WASM_URL }).then(
+let queue = init(wasmSource()).then(
   () => postMessage({ type: 'ready' }),
   (e) => {
     failed = true;

@@ -1,0 +1,205 @@
+// Traces a scenario on the page's own thread, batch by batch, for a browser that will not start
+// the trace workers (www/js/trace/pool.js). Same API and the same updates as TracePool (see the
+// top of pool.js), so the page does not care which one it holds; the answers are identical, since
+// both report the batches 0..k merged in batch order with the core's own Tracer.
+//
+// The page stays responsive by tracing for at most SLICE_MS before giving the thread back; the
+// progressive merges follow the pool's pacing (MIN_MERGE_INTERVAL_MS, MERGE_DUTY). Slower than
+// the workers: one thread, and the merges run on it too.
+//
+// Usage (the core already initialised on this thread):
+//   import * as core from '../../pkg/tirtrace.js';
+//   const pool = new MainThreadPool({ Tracer: core.Tracer, onUpdate: (u) => show(u) });
+
+import { MERGE_DUTY, MIN_MERGE_INTERVAL_MS, declaredRays } from './pool.js';
+
+/** Longest stretch of tracing before the page gets its thread back (ms); one batch may exceed it. */
+const SLICE_MS = 40;
+
+const messageOf = (e) => (e instanceof Error ? e.message : String(e ?? 'unknown problem'));
+
+// The next task, without the 4 ms clamp nested timers get: one shared channel, resolved in order.
+const wakeUps = [];
+let channel = null;
+function nextTask() {
+  if (channel === null) {
+    channel = new MessageChannel();
+    channel.port1.onmessage = () => wakeUps.shift()?.();
+  }
+  return new Promise((resolve) => {
+    wakeUps.push(resolve);
+    channel.port2.postMessage(null);
+  });
+}
+
+export class MainThreadPool {
+  #Tracer;
+  #onUpdate;
+  #job = null;
+  #nextJob = 1;
+  #disposed = false;
+
+  /**
+   * Tracer: the core's Tracer class (the core initialised on this thread);
+   * onUpdate: called with every update, as TracePool's.
+   */
+  constructor({ Tracer, onUpdate } = {}) {
+    if (typeof Tracer !== 'function') throw new TypeError('MainThreadPool needs the core\'s Tracer class');
+    if (onUpdate !== undefined && typeof onUpdate !== 'function') {
+      throw new TypeError('MainThreadPool onUpdate must be a function');
+    }
+    this.#Tracer = Tracer;
+    this.#onUpdate = onUpdate ?? (() => {});
+  }
+
+  /** Number of tracing workers: none, it traces on this thread. */
+  get size() {
+    return 0;
+  }
+
+  /** Nothing to load: resolves at once. */
+  ready() {
+    return Promise.resolve();
+  }
+
+  /** As TracePool.start: replaces any running job; updates come after it returns. */
+  start(scenarioJson, { keepPaths = 200 } = {}) {
+    if (this.#disposed) throw new Error('this MainThreadPool has been disposed');
+    if (!Number.isInteger(keepPaths) || keepPaths < 0 || keepPaths > 0xffffffff) {
+      throw new RangeError(`keepPaths must be a whole number ≥ 0, got ${keepPaths}`);
+    }
+    this.#stop();
+    const scenario = String(scenarioJson);
+    const job = {
+      id: this.#nextJob++,
+      scenario,
+      keepPaths,
+      startedAt: performance.now(),
+      declaredRays: declaredRays(scenario),
+      batchCount: null,
+      batches: [], // traced batches 0..length-1, in order
+      lastMergeAt: 0,
+      lastMergeMs: 0,
+      report: null,
+      reportBatches: 0,
+      firstAnswerMs: null,
+      finished: false,
+    };
+    this.#job = job;
+    this.#run(job);
+    return job.id;
+  }
+
+  /** As TracePool.cancel. */
+  cancel() {
+    const job = this.#job;
+    if (!job || job.finished) return;
+    job.finished = true;
+    this.#emit(job, { done: true, cancelled: true });
+  }
+
+  /** Stop tracing; the pool cannot be used afterwards. */
+  dispose() {
+    this.#disposed = true;
+    this.#stop();
+  }
+
+  #stop() {
+    if (this.#job) this.#job.finished = true;
+  }
+
+  async #run(job) {
+    await nextTask(); // updates never arrive before start() has returned
+    if (job.finished) return;
+    let tracer;
+    try {
+      tracer = new this.#Tracer(job.scenario);
+    } catch (e) {
+      this.#fail(job, messageOf(e));
+      return;
+    }
+    try {
+      job.batchCount = tracer.batch_count();
+      while (!job.finished) {
+        const sliceStart = performance.now();
+        while (job.batches.length < job.batchCount && performance.now() - sliceStart < SLICE_MS) {
+          const index = job.batches.length;
+          try {
+            job.batches.push(tracer.batches(index, 1, job.keepPaths)[0]);
+          } catch (e) {
+            this.#fail(job, `Tracing batch ${index} failed: ${messageOf(e)}`);
+            return;
+          }
+        }
+        const final = job.batches.length === job.batchCount;
+        const interval = Math.max(MIN_MERGE_INTERVAL_MS, job.lastMergeMs / MERGE_DUTY);
+        if (final || job.reportBatches === 0 || performance.now() - job.lastMergeAt >= interval) {
+          if (!this.#merge(job, tracer)) return;
+          if (final) job.finished = true;
+          this.#emit(job, { done: final, cancelled: false });
+          if (final) return;
+        }
+        await nextTask();
+      }
+    } catch (e) {
+      if (!job.finished) this.#fail(job, `Tracing failed: ${messageOf(e)}`);
+    } finally {
+      tracer.free();
+    }
+  }
+
+  /** Report batches 0..length-1 merged in batch order; false when that failed (and was reported). */
+  #merge(job, tracer) {
+    const start = performance.now();
+    try {
+      job.report = tracer.report_merged(job.batches);
+    } catch (e) {
+      this.#fail(job, `The traced batches could not be merged: ${messageOf(e)}`);
+      return false;
+    }
+    job.lastMergeAt = performance.now();
+    job.lastMergeMs = job.lastMergeAt - start;
+    job.reportBatches = job.batches.length;
+    job.firstAnswerMs ??= job.lastMergeAt - job.startedAt;
+    return true;
+  }
+
+  #fail(job, message) {
+    job.finished = true;
+    this.#emit(job, { done: true, cancelled: false, error: message });
+  }
+
+  #raysTotal(job) {
+    if (job.declaredRays !== null) return job.declaredRays;
+    if (job.batchCount === null) return 0;
+    if (job.batches.length === job.batchCount) return job.batches.reduce((a, b) => a + b.rays, 0);
+    return job.batches.length === 0 ? 0 : job.batchCount * job.batches[0].rays;
+  }
+
+  #emit(job, { done, cancelled, error = null }) {
+    const elapsedMs = performance.now() - job.startedAt;
+    const raysDone = job.report?.rays ?? 0;
+    const update = {
+      job: job.id,
+      report: job.report,
+      batchesDone: job.reportBatches,
+      batchCount: job.batchCount ?? 0,
+      raysDone,
+      raysTotal: this.#raysTotal(job),
+      done,
+      cancelled,
+      error,
+      firstAnswerMs: job.firstAnswerMs,
+      elapsedMs,
+      raysPerSecond: elapsedMs > 0 ? (raysDone * 1000) / elapsedMs : 0,
+    };
+    try {
+      this.#onUpdate(update);
+    } catch (e) {
+      // The page's handler failed: report it as uncaught, but keep tracing.
+      setTimeout(() => {
+        throw e;
+      });
+    }
+  }
+}

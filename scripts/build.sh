@@ -26,3 +26,5 @@ for f in sorted(pathlib.Path("www/demos").glob("*.json")):
 pathlib.Path("www/demos/index.json").write_text(json.dumps(demos, indent=1) + "\n")
 PY
 printf '[build] www/pkg/tirtrace_bg.wasm: %s bytes\n' "$(stat -c %s www/pkg/tirtrace_bg.wasm)" >&2
+# The same page as one file that works opened from disk (no server, no network): dist/tirtrace.html.
+python3 scripts/build_single.py

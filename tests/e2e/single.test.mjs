@@ -1,0 +1,183 @@
+// End-to-end test of the single-file page (dist/tirtrace.html, made by scripts/build_single.py)
+// opened from disk as file://…, with no server running, in Debian's Chromium (fresh profile):
+// it loads, traces in Web Workers, and the delivered share equals the native CLI's for the page's
+// scenario; the examples come from inside the file; with workers refused it traces on the page
+// itself (same answer, Stop works); nothing is requested but the file itself and blob:/data: URLs,
+// and nothing goes to the console. Screenshot: tests/e2e/out/single-file.png (git-ignored).
+//
+// Before: cargo build; bash scripts/build.sh (it writes dist/); npm ci --prefix tests/e2e.
+// Run: node --test tests/e2e/single.test.mjs
+
+import assert from 'node:assert/strict';
+import { existsSync, mkdirSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { after, before, describe, test } from 'node:test';
+import { pathToFileURL } from 'node:url';
+
+import { chromium } from 'playwright-core';
+
+import { CHROMIUM, CHROMIUM_ARGS, CLI, OUT, ROOT, WWW, cli } from './harness.mjs';
+
+const SINGLE = join(ROOT, 'dist', 'tirtrace.html');
+const SINGLE_URL = pathToFileURL(SINGLE).href;
+const STATE_KEY = 'tirtrace.design.v1';
+
+/** The scenario the page holds (its autosave). */
+const pageScenario = (page) => page.evaluate((k) => JSON.parse(localStorage.getItem(k)).scenario, STATE_KEY);
+
+/** Run `action`, then wait until a trace started after it (a later job id) has finished. */
+async function tracedAfter(page, action, timeout = 60_000) {
+  const before = Number((await page.getAttribute('body', 'data-job')) || 0);
+  await action();
+  await page.waitForFunction(
+    (b) => {
+      const job = Number(document.body.dataset.job || 0);
+      return job > b && Number(document.body.dataset.traced || 0) === job;
+    },
+    before,
+    { timeout },
+  );
+}
+
+/** Wait until the page has started and its first trace has finished. */
+async function firstTrace(page) {
+  await page.waitForSelector('body[data-ready="true"]', { timeout: 30_000 });
+  await page.waitForFunction(() => Number(document.body.dataset.traced || 0) > 0, null, { timeout: 60_000 });
+}
+
+/** The finished answer: { share, ci95, rays }. */
+async function answer(page) {
+  const a = page.locator('#answer');
+  return {
+    share: Number(await a.getAttribute('data-share')),
+    ci95: Number(await a.getAttribute('data-ci95')),
+    rays: Number(await a.getAttribute('data-rays')),
+  };
+}
+
+/** The CLI's report for a scenario object. */
+function cliTrace(scenario) {
+  const file = join(tmpdir(), `tirtrace-single-${process.pid}-${Date.now()}.json`);
+  writeFileSync(file, JSON.stringify(scenario));
+  try {
+    return JSON.parse(cli(['trace', file]));
+  } finally {
+    rmSync(file, { force: true });
+  }
+}
+
+/** The page's answer equals the CLI's for the scenario it holds. */
+async function assertMatchesCli(page, what) {
+  const scenario = await pageScenario(page);
+  const mine = await answer(page);
+  const theirs = cliTrace(scenario);
+  assert.equal(mine.rays, theirs.rays, `${what}: rays`);
+  assert.equal(mine.share, theirs.delivered.share, `${what}: delivered share differs from the CLI`);
+  assert.equal(mine.ci95, theirs.delivered.ci95, `${what}: its 95 % half-width differs from the CLI`);
+}
+
+describe('the single-file page opened from disk', { concurrency: false }, () => {
+  let profile;
+  let context;
+  let page;
+  const requests = [];
+  const consoleErrors = [];
+
+  const watch = (p) => {
+    p.on('console', (m) => {
+      if (m.type() === 'error') consoleErrors.push(m.text());
+    });
+    p.on('pageerror', (e) => consoleErrors.push(String(e)));
+  };
+
+  before(async () => {
+    assert.ok(existsSync(SINGLE), 'dist/tirtrace.html is missing: run `bash scripts/build.sh` first');
+    assert.ok(existsSync(CLI), 'target/debug/tirtrace is missing: run `cargo build` first');
+    mkdirSync(OUT, { recursive: true });
+    profile = mkdtempSync(join(tmpdir(), 'tirtrace-single-profile-'));
+    context = await chromium.launchPersistentContext(profile, {
+      executablePath: CHROMIUM,
+      args: CHROMIUM_ARGS,
+      viewport: { width: 1280, height: 800 },
+    });
+    context.on('request', (r) => requests.push(r.url()));
+    page = context.pages()[0] ?? (await context.newPage());
+    watch(page);
+    await page.goto(SINGLE_URL);
+  });
+
+  after(async () => {
+    await context?.close();
+    if (profile) rmSync(profile, { recursive: true, force: true });
+  });
+
+  test('loads, traces in Web Workers, and gives the CLI\'s answer', async () => {
+    await firstTrace(page);
+    assert.equal(new URL(page.url()).protocol, 'file:');
+    assert.equal(await page.getAttribute('body', 'data-tracer'), 'workers', 'the trace did not run in workers');
+    assert.ok((await page.evaluate(() => performance.getEntriesByType('resource').length)) === 0, 'the page fetched resources');
+    const a = await answer(page);
+    assert.ok(a.share > 0 && a.share < 1, `delivered ${a.share}`);
+    await assertMatchesCli(page, 'starting design');
+    assert.match(await page.locator('#status').innerText(), /Traced/);
+  });
+
+  test('the examples are inside the file, and one traces to the CLI\'s answer', async () => {
+    const listed = JSON.parse(readFileSync(join(WWW, 'demos', 'index.json'), 'utf8'));
+    const offered = await page.$$eval('#demo option', (os) => os.filter((o) => o.value).map((o) => ({ file: o.value, name: o.textContent })));
+    assert.deepEqual(offered, listed);
+    await tracedAfter(page, () => page.selectOption('#demo', 'thermostat_status_led.json'));
+    const expected = JSON.parse(readFileSync(join(WWW, 'demos', 'thermostat_status_led.json'), 'utf8'));
+    assert.equal((await pageScenario(page)).name, expected.name);
+    assert.match(await page.locator('#toolbar-msg').innerText(), /Opened the example/);
+    await tracedAfter(page, () => page.fill('#f-trace-rays', '40000'));
+    await assertMatchesCli(page, 'example');
+    for (const id of ['route-view', 'exit-map', 'intensity']) {
+      const ink = await page.evaluate((id) => {
+        const c = document.getElementById(id);
+        const { data } = c.getContext('2d').getImageData(0, 0, c.width, c.height);
+        let n = 0;
+        for (let i = 0; i < data.length; i += 4) if (data[i] + data[i + 1] + data[i + 2] < 3 * 235) n += 1;
+        return n / (data.length / 4);
+      }, id);
+      assert.ok(ink > 0.01, `${id} is blank`);
+    }
+    await page.screenshot({ path: join(OUT, 'single-file.png'), fullPage: true });
+  });
+
+  test('where workers are refused it traces on the page: same answer, and Stop works', async () => {
+    const p2 = await context.newPage();
+    watch(p2);
+    try {
+      await p2.addInitScript(() => {
+        delete globalThis.Worker;
+      });
+      await p2.goto(SINGLE_URL);
+      await firstTrace(p2);
+      assert.equal(await p2.getAttribute('body', 'data-tracer'), 'page');
+      assert.match(await p2.locator('#toolbar-msg').innerText(), /Tracing on the page itself/);
+      await tracedAfter(p2, () => p2.selectOption('#demo', 'clad_plastic_fibre.json'));
+      await tracedAfter(p2, () => p2.fill('#f-trace-rays', '30000'));
+      await assertMatchesCli(p2, 'on the page');
+      await p2.fill('#f-trace-rays', '3000000');
+      await p2.waitForFunction(() => document.body.dataset.tracing === 'true', null, { timeout: 20_000 });
+      await p2.click('#cancel');
+      await p2.waitForFunction(() => /Stopped at/.test(document.getElementById('progress-text').textContent));
+      const stoppedAt = await p2.locator('#progress-text').innerText();
+      await p2.waitForTimeout(500);
+      assert.equal(await p2.locator('#progress-text').innerText(), stoppedAt, 'updates came after Stop');
+      assert.ok(Number(await p2.getAttribute('#answer', 'data-rays')) < 3000000);
+      await tracedAfter(p2, () => p2.fill('#f-trace-rays', '20000'));
+    } finally {
+      await p2.close();
+    }
+  });
+
+  test('asked for nothing but itself and blob:/data: URLs; nothing went to the console', () => {
+    const other = requests.filter((u) => u !== SINGLE_URL && !u.startsWith('blob:') && !u.startsWith('data:'));
+    assert.deepEqual(other, []);
+    assert.ok(requests.includes(SINGLE_URL));
+    assert.deepEqual(consoleErrors, []);
+  });
+});

@@ -549,3 +549,24 @@ fn materials_are_listed_with_sources() {
         .iter()
         .all(|m| !m["source"].as_str().unwrap().is_empty()));
 }
+
+#[test]
+fn a_reader_that_stops_early_is_not_an_error() {
+    // `tirtrace trace … | head`: the pipe closes before the report is written.
+    let mut child = Command::new(env!("CARGO_BIN_EXE_tirtrace"))
+        .args([
+            "trace",
+            "examples/scenarios/thermostat_status_led.json",
+            "--rays",
+            "4096",
+        ])
+        .stdout(Stdio::piped())
+        .stderr(Stdio::piped())
+        .spawn()
+        .expect("run tirtrace");
+    drop(child.stdout.take());
+    let out = child.wait_with_output().expect("wait for tirtrace");
+    let stderr = String::from_utf8_lossy(&out.stderr);
+    assert!(!stderr.contains("panicked"), "{stderr}");
+    assert!(out.status.success(), "{:?}: {stderr}", out.status);
+}

@@ -254,8 +254,16 @@ fn main() -> ExitCode {
     };
     match run(cli) {
         Ok(out) => {
-            println!("{out}");
-            ExitCode::SUCCESS
+            // A reader that stops early (`| head`) closes the pipe: that is not an error of ours,
+            // and `println!` would panic on it.
+            use std::io::Write;
+            match writeln!(std::io::stdout().lock(), "{out}") {
+                Err(e) if e.kind() != std::io::ErrorKind::BrokenPipe => {
+                    eprintln!("tirtrace: could not write the output: {e}");
+                    ExitCode::FAILURE
+                }
+                _ => ExitCode::SUCCESS,
+            }
         }
         Err(msg) => {
             eprintln!("tirtrace: {msg}");

@@ -173,7 +173,7 @@ describe('the design page in Chromium', { concurrency: false }, () => {
       await page.fill(`#f-route-${n}-bend-radius-mm`, '20');
       await page.fill('#f-trace-rays', '40000');
     });
-    const wide = await page.evaluate((i) => document.querySelector(`#segment-rows tr[data-segment="${i}"] td:nth-child(3)`).innerText, n);
+    const wide = await page.evaluate((i) => document.querySelector(`#segment-rows tr[data-segment="${i}"] td:nth-child(4)`).innerText, n);
     const wideScenario = await pageScenario(page);
     const wideCli = cliTrace(wideScenario);
     // Tight bend: more leakage in that bend, less delivered.
@@ -187,7 +187,7 @@ describe('the design page in Chromium', { concurrency: false }, () => {
     const tight = await answer(page);
     assert.equal(tight.share, tightCli.delivered.share);
     assert.ok(tight.share < wideCli.delivered.share, 'a tighter bend delivers less');
-    assert.notEqual(await page.evaluate((i) => document.querySelector(`#segment-rows tr[data-segment="${i}"] td:nth-child(3)`).innerText, n), wide);
+    assert.notEqual(await page.evaluate((i) => document.querySelector(`#segment-rows tr[data-segment="${i}"] td:nth-child(4)`).innerText, n), wide);
     // The bend table marks it.
     assert.equal(await page.getAttribute(`#bend-rows tr[data-segment="${n}"]`, 'data-verdict'), 'leaks');
     // Reorder and remove: move the new bend up, then remove it.

@@ -24,7 +24,7 @@ const MECHANISMS = [
   ['reflected_entry', 'Reflected at the entry face (Fresnel)', '#868e96'],
   ['leaked', 'Leaks out of the side walls', '#d9480f'],
   ['contact', 'Lost into mounts touching the pipe', '#862e9c'],
-  ['absorbed', 'Absorbed in the material', '#e8590c'],
+  ['absorbed', 'Absorbed in the material', '#f59f00'],
   ['returned', 'Comes back out of the entry face', '#2b8a3e'],
   ['stopped', 'Stopped by the wall-hit limit', '#495057'],
 ];
@@ -106,11 +106,18 @@ export function showReport(report, figures, scenario) {
   for (const c of report.contacts || []) {
     contactsBySeg.set(c.segment, [...(contactsBySeg.get(c.segment) || []), c]);
   }
+  const lossOf = (s) => s.leaked.share + s.absorbed.share + (contactsBySeg.get(s.index) || []).reduce((a, c) => a + c.lost.share, 0);
+  const maxLoss = Math.max(...report.segments.map(lossOf), 0);
   $('segment-rows').replaceChildren(
     ...report.segments.map((s) => {
       const lost = contactsBySeg.get(s.index) || [];
+      const loss = lossOf(s);
+      const bar = (share, cls) => h('span', { class: `seg-bar ${cls}`, style: `width:${maxLoss > 0 ? (100 * share) / maxLoss : 0}%` });
       return h('tr', { dataset: { segment: String(s.index) } },
         h('th', { scope: 'row', text: `${s.index + 1} · ${KIND_NAMES[s.kind] || s.kind}` }),
+        h('td', { class: 'seg-bars', title: `lost in this segment: ${pct(loss, 0)} %` },
+          h('span', { class: 'seg-track', 'aria-hidden': 'true' },
+            bar(s.leaked.share, 'leak'), bar(s.absorbed.share, 'absorb'), bar(loss - s.leaked.share - s.absorbed.share, 'mount'))),
         h('td', { class: 'num', text: fixed(s.length_mm, 1) }),
         h('td', { class: 'num', text: pm(s.leaked.share, s.leaked.ci95) }),
         h('td', { class: 'num', text: pm(s.absorbed.share, s.absorbed.ci95) }),

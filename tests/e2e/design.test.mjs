@@ -222,8 +222,17 @@ describe('the design page in Chromium', { concurrency: false }, () => {
     await page.reload();
     await page.waitForSelector('body[data-ready="true"]');
     assert.equal(await page.inputValue('#f-route-1-bend-radius-mm'), '4,5x');
+    // …and moves with its segment when the route is reordered.
+    await page.click('#seg-1-down');
+    await page.waitForSelector('#f-route-2-bend-radius-mm');
+    assert.equal(await page.inputValue('#f-route-2-bend-radius-mm'), '4,5x');
+    await page.waitForFunction(() => /must be a number/.test(document.getElementById('f-route-2-bend-radius-mm-msg')?.textContent || ''));
+    assert.match(await page.locator('#f-route-2-bend-radius-mm-msg').innerText(), /route\[2\]\.bend\.radius_mm must be a number/);
     await tracedAfter(page, async () => {
-      await page.fill('#f-route-1-bend-radius-mm', '9');
+      await page.fill('#f-route-2-bend-radius-mm', '9');
+    });
+    await tracedAfter(page, async () => {
+      await page.click('#seg-2-up');
     });
   });
 
@@ -274,9 +283,17 @@ describe('the design page in Chromium', { concurrency: false }, () => {
     const s = await pageScenario(page);
     const evil = '<img src=x onerror="window.__pwned=1">Pipe <b>bold</b>';
     const doc = { ...s, name: evil, guide: { ...s.guide, contacts: [{ name: '<script>window.__pwned=2</script>clip', segment: 0, from_mm: 0, to_mm: 1, medium: { library: 'polycarbonate' } }] } };
-    const path = join(tmpdir(), `tirtrace-html-${process.pid}.json`);
-    writeFileSync(path, JSON.stringify(doc));
-    await tracedAfter(page, () => page.setInputFiles('#file-input', path));
+    // Pasted: first something malformed (the design stays), then the scenario.
+    await page.click('#paste-design');
+    await page.fill('#paste-text', '{"version": 1, "guide": {"section": 3}}');
+    await page.click('#paste-use');
+    await page.waitForSelector('#paste-msg:not([hidden])');
+    assert.match(await page.locator('#paste-msg').innerText(), /unchanged/);
+    assert.deepEqual(await pageScenario(page), s);
+    await page.screenshot({ path: join(OUT, 'design-paste-dialog.png') });
+    await page.fill('#paste-text', JSON.stringify(doc, null, 2));
+    await tracedAfter(page, () => page.click('#paste-use'));
+    assert.equal(await page.locator('#paste-dialog[open]').count(), 0, 'the dialog stayed open');
     assert.equal(await page.locator('#design-name').textContent(), evil);
     assert.equal(await page.locator('#design-name img, #segment-rows img, #segment-rows script').count(), 0);
     assert.match(await page.locator('#segment-rows').innerText(), /<script>window.__pwned=2<\/script>clip/);

@@ -202,6 +202,26 @@ export class Editor {
     return loose;
   }
 
+  /**
+   * Move the drafts (and their messages) of list items when items move: `map(i)` gives an item's
+   * new index, or null when it is gone. `list` is 'route' or 'guide.contacts'.
+   */
+  remapDrafts(list, map) {
+    const re = new RegExp(`^${list.replace('.', '\\.')}\\[(\\d+)\\](.*)$`);
+    const moved = {};
+    for (const [path, text] of Object.entries(this.state.drafts)) {
+      const m = path.match(re);
+      if (!m) {
+        moved[path] = text;
+        continue;
+      }
+      const to = map(Number(m[1]));
+      if (to != null) moved[`${list}[${to}]${m[2]}`] = text;
+    }
+    this.state.drafts = moved;
+    this.messages.clear();
+  }
+
   // ------------------------------------------------------------ the form
 
   render(focusId) {
@@ -388,11 +408,13 @@ export class Editor {
       const r = this.s.route;
       [r[i], r[to]] = [r[to], r[i]];
       this.moveContacts(i, to);
+      this.remapDrafts('route', (k) => (k === i ? to : k === to ? i : k));
       this.changed(true, `seg-${to}-${to < i ? 'up' : 'down'}`);
     };
     const remove = () => {
       this.s.route.splice(i, 1);
       this.dropContacts(i);
+      this.remapDrafts('route', (k) => (k === i ? null : k > i ? k - 1 : k));
       this.changed(true, 'add-straight');
     };
     const fields = [];
@@ -428,6 +450,7 @@ export class Editor {
           onchange: (e) => {
             const v = e.target.value;
             this.s.route[i] = SEGMENT_DEFAULTS[v](this.lastSection());
+            this.remapDrafts('route', (k) => (k === i ? null : k));
             this.changed(true, `seg-${i}-kind`);
           },
         }, Object.entries(SEGMENT_NAMES).map(([v, t]) => h('option', { value: v, text: t, selected: v === kind }))),
@@ -453,6 +476,10 @@ export class Editor {
   dropContacts(i) {
     const g = this.s.guide;
     if (!g.contacts) return;
+    const newIndex = [];
+    let kept = 0;
+    for (const c of g.contacts) newIndex.push(c.segment === i ? null : kept++);
+    this.remapDrafts('guide.contacts', (k) => newIndex[k] ?? null);
     g.contacts = g.contacts.filter((c) => c.segment !== i).map((c) => (c.segment > i ? { ...c, segment: c.segment - 1 } : c));
     if (g.contacts.length === 0) delete g.contacts;
   }
@@ -486,6 +513,7 @@ export class Editor {
           onclick: () => {
             list.splice(k, 1);
             if (list.length === 0) delete g.contacts;
+            this.remapDrafts('guide.contacts', (j) => (j === k ? null : j > k ? j - 1 : j));
             this.changed(true, 'add-contact');
           },
           text: 'Remove this mount',

@@ -293,6 +293,22 @@ function wireToolbar() {
       toolbarMessage(`${file.name} could not be opened: ${messageOf(err)}. Your design is unchanged.`, { kind: 'error' });
     }
   });
+  $('paste-design').addEventListener('click', () => {
+    $('paste-msg').hidden = true;
+    $('paste-dialog').showModal();
+    $('paste-text').focus();
+  });
+  $('paste-use').addEventListener('click', () => {
+    try {
+      const s = readScenario($('paste-text').value);
+      $('paste-dialog').close();
+      $('paste-text').value = '';
+      replaceDesign(s, `Pasted the design “${s.name || 'untitled'}”`);
+    } catch (err) {
+      $('paste-msg').textContent = `This text cannot be used: ${messageOf(err)}. Your design is unchanged.`;
+      $('paste-msg').hidden = false;
+    }
+  });
   $('save-file').addEventListener('click', () => {
     const s = page.state.scenario;
     download(new Blob([`${JSON.stringify(s, null, 2)}\n`], { type: 'application/json' }), fileNameFor(s));
@@ -361,12 +377,7 @@ async function start() {
   page.state = loadState() || freshState(STARTER);
   page.state.scenario = withDefaults(page.state.scenario);
   for (const r of document.querySelectorAll('input[name="unit"]')) r.checked = r.value === page.state.unit;
-  page.editor = new Editor($('editor'), page.state, core.materials(), ({ structural }) => {
-    if (structural) {
-      for (const k of Object.keys(page.state.drafts)) if (/^(route|guide\.contacts)\[/.test(k)) delete page.state.drafts[k];
-    }
-    scheduleUpdate();
-  });
+  page.editor = new Editor($('editor'), page.state, core.materials(), () => scheduleUpdate());
   page.editor.render();
   $('f-name').value = page.state.scenario.name || '';
   page.view = new RouteView($('route-view'));

@@ -124,6 +124,8 @@ describe('the design page in Chromium', { concurrency: false }, () => {
       assert.ok((await inkShare(page, id)) > 0.01, `${id} is blank`);
     }
     assert.ok((await page.locator('#route-legend .key[data-fate="delivered"]').count()) === 1, 'no delivered rays in the legend');
+    // The pipe's index at the wavelength, from the core, under the material.
+    assert.match(await page.locator('#f-guide-material-hint').innerText(), /^n = 1\.\d{4} at 525 nm/);
     await assertNoJunk(page, 'first answer');
     await page.screenshot({ path: join(OUT, 'design-1280x800.png'), fullPage: true });
   });
@@ -341,6 +343,89 @@ describe('the design page in Chromium', { concurrency: false }, () => {
       assert.ok(Math.abs((await pageScenario(page)).guide.section.round.diameter_mm - 1.27) < 1e-12);
     }
     await page.check('input[name="unit"][value="mm"]');
+  });
+
+  test('text contrast meets WCAG 2.1 AA and every control has a label and a 44 px target', async () => {
+    // WCAG 2.1, success criterion 1.4.3: contrast ratio ≥ 4.5:1 for text (3:1 for large text,
+    // ≥ 24 px, or ≥ 18.66 px bold), with relative luminance as defined there (sRGB).
+    const failures = await page.evaluate(() => {
+      const lin = (c) => {
+        const v = c / 255;
+        return v <= 0.03928 ? v / 12.92 : ((v + 0.055) / 1.055) ** 2.4;
+      };
+      const lum = ([r, g, b]) => 0.2126 * lin(r) + 0.7152 * lin(g) + 0.0722 * lin(b);
+      const rgba = (s) => (s.match(/[\d.]+/g) || []).map(Number);
+      const background = (el) => {
+        for (let e = el; e; e = e.parentElement) {
+          const c = rgba(getComputedStyle(e).backgroundColor);
+          if (c.length >= 3 && (c.length < 4 || c[3] > 0.99)) return c.slice(0, 3);
+        }
+        return [255, 255, 255];
+      };
+      const out = [];
+      const walker = document.createTreeWalker(document.body, NodeFilter.SHOW_TEXT);
+      for (let n = walker.nextNode(); n; n = walker.nextNode()) {
+        const el = n.parentElement;
+        if (!n.textContent.trim() || !el || el.closest('[hidden], dialog:not([open]), button:disabled, option, select')) continue;
+        const st = getComputedStyle(el);
+        if (st.visibility === 'hidden' || st.display === 'none' || Number(st.opacity) < 1) continue;
+        if (el.getClientRects().length === 0) continue;
+        const fg = rgba(st.color).slice(0, 3);
+        const bg = background(el);
+        const [a, b] = [lum(fg), lum(bg)].sort((x, y) => y - x);
+        const ratio = (a + 0.05) / (b + 0.05);
+        const size = parseFloat(st.fontSize);
+        const large = size >= 24 || (size >= 18.66 && Number(st.fontWeight) >= 700);
+        if (ratio < (large ? 3 : 4.5)) out.push(`${ratio.toFixed(2)}:1 "${n.textContent.trim().slice(0, 40)}"`);
+      }
+      return out;
+    });
+    assert.deepEqual(failures, []);
+    const unlabelled = await page.evaluate(() =>
+      [...document.querySelectorAll('input:not([type="hidden"]):not([hidden]), select, textarea, button, canvas[tabindex]')]
+        .filter((el) => el.getClientRects().length > 0)
+        .filter((el) => {
+          if (el.getAttribute('aria-label') || el.getAttribute('aria-labelledby')) return false;
+          if (el.tagName === 'BUTTON') return !el.textContent.trim();
+          return !(el.labels && el.labels.length);
+        })
+        .map((el) => el.id || el.outerHTML.slice(0, 60)));
+    assert.deepEqual(unlabelled, []);
+    const small = await page.evaluate(() =>
+      [...document.querySelectorAll('input:not([type="radio"]):not([hidden]), select, textarea, button, .unit-option')]
+        .filter((el) => el.getClientRects().length > 0 && !el.closest('dialog:not([open])'))
+        .filter((el) => el.getBoundingClientRect().height < 44)
+        .map((el) => `${el.id || el.className || el.tagName}: ${el.getBoundingClientRect().height.toFixed(0)} px`));
+    assert.deepEqual(small, []);
+  });
+
+  test('the whole loop works at portrait-tablet size', async () => {
+    const tablet = await browser.newContext({ viewport: { width: 820, height: 1180 }, hasTouch: true });
+    tablet.on('request', (r) => requests.push(r.url()));
+    try {
+      const p = await tablet.newPage();
+      watch(p);
+      await p.goto(`${server.origin}/`);
+      await p.waitForSelector('body[data-ready="true"]', { timeout: 30_000 });
+      await p.waitForFunction(() => Number(document.body.dataset.traced || 0) > 0, null, { timeout: 60_000 });
+      // Nothing wider than the screen.
+      assert.ok(await p.evaluate(() => document.documentElement.scrollWidth <= 820), 'the page scrolls sideways');
+      const before = await answer(p);
+      // The starter's bend made tighter with taps and typing: less reaches the window.
+      await tracedAfter(p, () => p.fill('#f-route-1-bend-radius-mm', '3'));
+      const after = await answer(p);
+      assert.ok(after.share < before.share - 3 * (after.ci95 + before.ci95), `${before.share} → ${after.share}`);
+      assert.equal(after.share, cliTrace(await pageScenario(p)).delivered.share);
+      await tracedAfter(p, () => p.tap('#add-straight'));
+      assert.equal((await pageScenario(p)).route.length, 4);
+      // The answer stays in view while the form scrolls.
+      await p.locator('#part-trace').scrollIntoViewIfNeeded();
+      const top = await p.locator('.answer-card').boundingBox();
+      assert.ok(top && top.y >= -1 && top.y < 40, `the answer card is at y = ${top?.y}`);
+      await p.screenshot({ path: join(OUT, 'design-820x1180-editing.png') });
+    } finally {
+      await tablet.close();
+    }
   });
 
   test('works offline from the service worker', async () => {

@@ -92,7 +92,7 @@ export class Editor {
     const id = idFor(key);
     const sel = h(
       'select',
-      { id, dataset: { path: key }, 'aria-describedby': `${id}-msg${hint ? ` ${id}-hint` : ''}` },
+      { id, dataset: { path: key }, 'aria-describedby': `${id}-msg${hint != null ? ` ${id}-hint` : ''}` },
       options.map(([v, text]) => h('option', { value: v, text })),
     );
     sel.value = value;
@@ -105,7 +105,7 @@ export class Editor {
       { class: 'field' },
       h('label', { for: id, text: label }),
       sel,
-      hint ? h('p', { class: 'hint', id: `${id}-hint`, text: hint }) : null,
+      hint != null ? h('p', { class: 'hint', id: `${id}-hint`, text: hint }) : null,
       this.msgEl(key),
     );
   }
@@ -366,7 +366,7 @@ export class Editor {
       }),
       ...this.material('guide.material', 'Material', {
         filter: (m) => m.id !== 'air' && m.id !== 'water',
-        hint: this.materialHint || '',
+        hint: this.materialHint ?? '',
       }),
       ...this.material('guide.surroundings', 'Around the pipe'),
       this.num('guide.attenuation_db_per_m', 'Bulk attenuation', 'dB/m', { hint: 'Absorption and scattering in the material; moulded acrylic is typically a few tenths of a dB per metre in the visible.' }),

@@ -120,7 +120,8 @@ function update() {
     showFigures(page.figures);
     showBends(page.figures, null);
     const material = page.editor.root.querySelector('#f-guide-material-hint');
-    if (material) material.textContent = `n = ${page.figures.n_core.toFixed(4)} at ${page.figures.wavelength_nm} nm`;
+    page.editor.materialHint = `n = ${page.figures.n_core.toFixed(4)} at ${page.figures.wavelength_nm} nm (relative to air)`;
+    if (material) material.textContent = page.editor.materialHint;
     const outline = core.route_outline(json);
     if (outline.receiver) outline.receiver.round = state.scenario.receiver?.diameter_mm != null;
     page.view.setOutline(outline);

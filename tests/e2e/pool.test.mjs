@@ -234,6 +234,54 @@ describe('tracing in Web Workers (www/js/trace/pool.js) in Chromium', { concurre
     assertSameReport(intermediate, cliReport(text, ['--rays', String(k * BATCH_RAYS), '--paths', '200']), `the first ${k} batches`);
   });
 
+  test('the merging worker waits for every batch of a prefix, whatever order they arrive in', async () => {
+    // Batch data go tracer → merger over their own channel and the "done" notes tracer → pool, so
+    // the pool may ask for a merge before the merger holds every batch. Driven by hand here: the
+    // merger is asked for batches 0..1, gets batch 1 first, and must wait for batch 0.
+    const got = await page.evaluate(async () => {
+      const url = new URL('js/trace/worker.js', location.href);
+      const start = (w) => new Promise((resolve) => {
+        w.onmessage = (e) => e.data.type === 'ready' && resolve();
+      });
+      const tracer = new Worker(url, { type: 'module' });
+      const merger = new Worker(url, { type: 'module' });
+      await Promise.all([start(tracer), start(merger)]);
+      const doc = await (await fetch('demos/thermostat_status_led.json')).json();
+      const json = JSON.stringify({ ...doc, trace: { ...doc.trace, rays: 2 * 4096 } });
+      // The tracer's batches come to this page instead of the merger.
+      const channel = new MessageChannel();
+      const batches = [];
+      channel.port2.onmessage = (e) => batches.push(e.data);
+      tracer.postMessage({ type: 'connect', role: 'to-merger', port: channel.port1 }, [channel.port1]);
+      const next = (w, type) => new Promise((resolve) => {
+        w.onmessage = (e) => (e.data.type === type || e.data.type.endsWith('error')) && resolve(e.data);
+      });
+      for (const w of [tracer, merger]) {
+        const ready = next(w, 'job-ready');
+        w.postMessage({ type: 'job', job: 1, scenario: json });
+        await ready;
+      }
+      for (const index of [0, 1]) {
+        const done = next(tracer, 'batch');
+        tracer.postMessage({ type: 'batch', job: 1, index, keepPaths: 0 });
+        await done;
+      }
+      while (batches.length < 2) await new Promise((r) => setTimeout(r, 10));
+      const early = [];
+      merger.onmessage = (e) => early.push(e.data.type);
+      merger.postMessage({ type: 'merge', job: 1, count: 2 });
+      merger.postMessage(batches.find((b) => b.index === 1));
+      await new Promise((r) => setTimeout(r, 300));
+      const report = next(merger, 'report');
+      merger.postMessage(batches.find((b) => b.index === 0));
+      const last = await Promise.race([report, new Promise((r) => setTimeout(() => r({ type: 'no answer within 10 s' }), 10_000))]);
+      tracer.terminate();
+      merger.terminate();
+      return { early, type: last.type, rays: last.report?.rays ?? null, message: last.message ?? null };
+    });
+    assert.deepEqual(got, { early: [], type: 'report', rays: 2 * 4096, message: null });
+  });
+
   test('cancel() stops a job: one last update, cancelled, and nothing after it', async () => {
     const long = scenarioText('bench_three_bends', { rays: 2_000_000, seed: 5 });
     const small = scenarioText('bench_three_bends', { rays: BATCH_RAYS, seed: 5 });

@@ -27,14 +27,23 @@ const pageScenario = (page) => page.evaluate((k) => JSON.parse(localStorage.getI
 async function tracedAfter(page, action, timeout = 60_000) {
   const before = Number((await page.getAttribute('body', 'data-job')) || 0);
   await action();
-  await page.waitForFunction(
-    (b) => {
-      const job = Number(document.body.dataset.job || 0);
-      return job > b && Number(document.body.dataset.traced || 0) === job;
-    },
-    before,
-    { timeout },
-  );
+  try {
+    await page.waitForFunction(
+      (b) => {
+        const job = Number(document.body.dataset.job || 0);
+        return job > b && Number(document.body.dataset.traced || 0) === job;
+      },
+      before,
+      { timeout },
+    );
+  } catch (e) {
+    const state = await page.evaluate(() => ({
+      ...document.body.dataset,
+      status: document.getElementById('status').textContent,
+      progress: document.getElementById('progress-text').textContent,
+    }));
+    throw new Error(`no finished trace after the action (job before: ${before}): ${JSON.stringify(state)}`, { cause: e });
+  }
 }
 
 /** The finished answer: { share, ci95, rays }. */
@@ -238,6 +247,33 @@ describe('the design page in Chromium', { concurrency: false }, () => {
     });
   });
 
+  test('the page stays responsive while a large trace refines', async () => {
+    // Long tasks (main-thread work over 50 ms, reported by the browser's Long Tasks API) while a
+    // million-ray trace sharpens: tracing and merging run in workers, so none may come near a
+    // frozen page (200 ms, common practice, no source).
+    await page.evaluate(() => {
+      window.__longest = 0;
+      window.__longObserver = new PerformanceObserver((list) => {
+        for (const e of list.getEntries()) window.__longest = Math.max(window.__longest, e.duration);
+      });
+      window.__longObserver.observe({ type: 'longtask' });
+    });
+    await page.fill('#f-trace-rays', '3000000');
+    await page.waitForFunction(() => document.body.dataset.tracing === 'true', null, { timeout: 20_000 });
+    // Keep typing into another field while it runs, like a person trying values.
+    for (const v of ['0.3', '0.35', '0.4']) {
+      await page.fill('#f-source-gap-mm', v);
+      await page.waitForTimeout(700);
+    }
+    const longest = await page.evaluate(() => {
+      window.__longObserver.disconnect();
+      return window.__longest;
+    });
+    assert.ok(longest < 200, `a main-thread task took ${longest.toFixed(0)} ms`);
+    if (await page.isEnabled('#cancel')) await page.click('#cancel');
+    await tracedAfter(page, () => page.fill('#f-trace-rays', '30000'));
+  });
+
   test('stops a long trace', async () => {
     await page.fill('#f-trace-rays', '3000000');
     await page.waitForFunction(() => document.body.dataset.tracing === 'true', null, { timeout: 20_000 });
@@ -332,6 +368,16 @@ describe('the design page in Chromium', { concurrency: false }, () => {
     }
   });
 
+  test('the medium beyond the window can differ from the surroundings', async () => {
+    await tracedAfter(page, () => page.selectOption('#f-guide-exit-medium', 'water'));
+    assert.deepEqual((await pageScenario(page)).guide.exit_medium, { library: 'water' });
+    const inWater = await answer(page);
+    // The CLI agrees on the same document (the exit Fresnel loss into water is smaller).
+    assert.equal(inWater.share, cliTrace(await pageScenario(page)).delivered.share);
+    await tracedAfter(page, () => page.selectOption('#f-guide-exit-medium', ''));
+    assert.equal((await pageScenario(page)).guide.exit_medium, undefined);
+  });
+
   test('the unit switch shows inches and keeps millimetres in the document', async () => {
     const s = await pageScenario(page);
     await page.check('input[name="unit"][value="in"]');
@@ -416,6 +462,7 @@ describe('the design page in Chromium', { concurrency: false }, () => {
       const after = await answer(p);
       assert.ok(after.share < before.share - 3 * (after.ci95 + before.ci95), `${before.share} → ${after.share}`);
       assert.equal(after.share, cliTrace(await pageScenario(p)).delivered.share);
+      await p.locator('#add-straight').evaluate((el) => el.scrollIntoView({ block: 'center' }));
       await tracedAfter(p, () => p.tap('#add-straight'));
       assert.equal((await pageScenario(p)).route.length, 4);
       // The answer stays in view while the form scrolls.

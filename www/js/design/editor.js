@@ -111,15 +111,20 @@ export class Editor {
   }
 
   /** A material choice at `path` ({ library } or { custom: constant n }). */
-  material(path, label, { filter = () => true, hint } = {}) {
-    const current = getAt(this.s, path) || { library: 'air' };
+  material(path, label, { filter = () => true, hint, optional } = {}) {
+    const given = getAt(this.s, path);
+    const current = given || { library: 'air' };
     const isCustom = !!current.custom;
     const options = this.materials.filter(filter).map((m) => [m.id, m.name]);
     options.push(['custom', 'Another medium: index n']);
-    const value = isCustom ? 'custom' : current.library;
+    if (optional) options.unshift(['', optional]);
+    const value = optional && !given ? '' : isCustom ? 'custom' : current.library;
     const parts = [
       this.choice(path, label, options, value, (v) => {
-        if (v === 'custom') {
+        if (v === '') {
+          const keys = path.split('.');
+          delete getAt(this.s, keys.slice(0, -1).join('.'))[keys[keys.length - 1]];
+        } else if (v === 'custom') {
           const n = current.custom?.n ?? 1.5;
           setAt(this.s, path, { custom: { model: 'constant', n } });
         } else {
@@ -127,7 +132,7 @@ export class Editor {
         }
       }, { hint }),
     ];
-    if (isCustom) {
+    if (isCustom && given) {
       if (current.custom.model === 'constant') {
         parts.push(this.num(`${path}.custom.n`, 'Index n (relative to air)', ''));
       } else {
@@ -369,6 +374,7 @@ export class Editor {
         hint: this.materialHint ?? '',
       }),
       ...this.material('guide.surroundings', 'Around the pipe'),
+      ...this.material('guide.exit_medium', 'Beyond the window (exit face)', { optional: 'The same as around the pipe' }),
       this.num('guide.attenuation_db_per_m', 'Bulk attenuation', 'dB/m', { hint: 'Absorption and scattering in the material; moulded acrylic is typically a few tenths of a dB per metre in the visible.' }),
     );
   }

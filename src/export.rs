@@ -15,9 +15,16 @@ fn csv_num(x: f64) -> f64 {
     x + 0.0
 }
 
-/// A CSV field: quoted, inner quotes doubled.
+/// A CSV field: quoted, inner quotes doubled; a name a spreadsheet would take for a formula
+/// (starting with `=`, `+`, `-`, `@`, tab or carriage return) gets a leading `'` so it stays
+/// text (names come from files and share links).
 fn csv_text(s: &str) -> String {
-    format!("\"{}\"", s.replace('"', "\"\""))
+    let guard = if s.starts_with(['=', '+', '-', '@', '\t', '\r']) {
+        "'"
+    } else {
+        ""
+    };
+    format!("\"{guard}{}\"", s.replace('"', "\"\""))
 }
 
 /// The report as CSV: the budget (one row per mechanism: `mechanism,share,ci95`), a blank line,

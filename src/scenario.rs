@@ -335,14 +335,39 @@ impl Receiver {
 #[serde(deny_unknown_fields)]
 pub struct TraceSettings {
     /// Number of rays.
-    #[serde(default = "default_rays")]
+    #[serde(default = "default_rays", deserialize_with = "whole_u64")]
     pub rays: u64,
-    /// Seed of the random sequence; the same seed gives the same result.
-    #[serde(default = "default_seed")]
+    /// Seed of the random sequence; the same seed gives the same result. At most 2⁵³ − 1, so a
+    /// browser (whose numbers are doubles) reads the same seed as the command line.
+    #[serde(default = "default_seed", deserialize_with = "whole_u64")]
     pub seed: u64,
     /// Interactions after which a ray is stopped and counted as such.
-    #[serde(default = "default_max_interactions")]
+    #[serde(default = "default_max_interactions", deserialize_with = "whole_u32")]
     pub max_interactions: u32,
+}
+
+/// Largest whole number a JSON reader using doubles (a browser) keeps exactly: 2⁵³ − 1.
+pub const MAX_WHOLE: u64 = (1 << 53) - 1;
+
+/// A whole number 0 ≤ x ≤ 2⁵³ − 1 given as any JSON number, with a plain message otherwise
+/// (serde's own for `1.5` or `-5` is "invalid type: floating point, expected u64").
+fn whole_number<'de, D: serde::Deserializer<'de>>(d: D, max: u64) -> Result<u64, D::Error> {
+    let x = f64::deserialize(d)?;
+    if x.is_finite() && x >= 0.0 && x <= max as f64 && x.fract() == 0.0 {
+        Ok(x as u64)
+    } else {
+        Err(serde::de::Error::custom(format!(
+            "must be a whole number ≥ 0 and ≤ {max}, got {x}"
+        )))
+    }
+}
+
+fn whole_u64<'de, D: serde::Deserializer<'de>>(d: D) -> Result<u64, D::Error> {
+    whole_number(d, MAX_WHOLE)
+}
+
+fn whole_u32<'de, D: serde::Deserializer<'de>>(d: D) -> Result<u32, D::Error> {
+    whole_number(d, u32::MAX as u64).map(|x| x as u32)
 }
 
 fn default_rays() -> u64 {
@@ -762,6 +787,12 @@ impl Scenario {
             errs.push(FieldError::new(
                 "trace.rays",
                 format!("must be ≥ 1 and ≤ 1000000000, got {}", t.rays),
+            ));
+        }
+        if t.seed > MAX_WHOLE {
+            errs.push(FieldError::new(
+                "trace.seed",
+                format!("must be ≤ {MAX_WHOLE}, got {}", t.seed),
             ));
         }
         if !(1..=10_000_000).contains(&t.max_interactions) {

@@ -434,3 +434,56 @@ fn the_map_palette_is_ordered_in_lightness() {
     assert_eq!(sequential_colour(7.0), sequential_colour(1.0));
     assert_eq!(sequential_colour(f64::NAN), sequential_colour(0.0));
 }
+
+#[test]
+fn whole_number_fields_say_so_with_their_range() {
+    for (field, value) in [
+        ("rays", json!(1.5)),
+        ("rays", json!(-5)),
+        ("seed", json!(9_007_199_254_740_993u64)),
+        ("max_interactions", json!(1e12)),
+    ] {
+        let text = with(THERMOSTAT, |d| d["trace"][field] = value.clone());
+        let c = check_scenario(&text);
+        assert_eq!(c.problems.len(), 1, "{value}: {:?}", c.problems);
+        let p = &c.problems[0];
+        assert_eq!(p.field, format!("trace.{field}"));
+        assert!(
+            p.message.contains("must be a whole number ≥ 0 and ≤ "),
+            "{value}: {}",
+            p.message
+        );
+    }
+    // In range once read, then checked like any other field.
+    let text = with(THERMOSTAT, |d| d["trace"]["rays"] = json!(0));
+    let c = check_scenario(&text);
+    assert_eq!(c.problems[0].field, "trace.rays");
+    assert!(
+        c.problems[0].message.contains("must be ≥ 1"),
+        "{}",
+        c.problems[0].message
+    );
+}
+
+#[test]
+fn csv_names_that_look_like_formulas_stay_text() {
+    let text = with(THERMOSTAT, |d| {
+        d["guide"]["contacts"][0]["name"] = json!("=HYPERLINK(\"x\")");
+    });
+    let mut scenario = Scenario::from_json(&text).unwrap();
+    scenario.trace.rays = 4_096;
+    let prepared = Prepared::new(&scenario).unwrap();
+    let csv = report_csv(&prepared.report(&prepared.trace_all_serial(0)));
+    let contact = csv
+        .trim_end()
+        .split("\n\n")
+        .nth(2)
+        .unwrap()
+        .lines()
+        .nth(1)
+        .unwrap();
+    assert!(
+        contact.starts_with("\"'=HYPERLINK(\"\"x\"\")\",2,"),
+        "{contact}"
+    );
+}

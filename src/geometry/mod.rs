@@ -720,9 +720,15 @@ fn cubic_exit(
         let q2 = 6.0 * t + 2.0 * a2;
         let halley = t - 2.0 * qt * q1 / (2.0 * q1 * q1 - qt * q2);
         // Halley converges cubically: after a step of relative size s ≤ 1e-6 the error is of
-        // order s³·t, below the rounding of t. (The test comes before the bracket test: a
-        // converged step that rounds onto the bracket's end is not a failure.)
-        if (halley - t).abs() <= 1e-6 * t && halley >= lo && halley <= hi {
+        // order s³·t, below the rounding of t. Near a turning point of q (q' → 0, q ≠ 0) Halley's
+        // step also shrinks without a root there, so the Newton step q/q' must be small too.
+        // (The test comes before the bracket test: a converged step that rounds onto the
+        // bracket's end is not a failure.)
+        if (halley - t).abs() <= 1e-6 * t
+            && qt.abs() <= 1e-6 * t * q1.abs()
+            && halley >= lo
+            && halley <= hi
+        {
             return Some(halley);
         }
         t = if halley > lo && halley < hi {

@@ -236,6 +236,54 @@ impl Batch {
     }
 }
 
+fn same_bins(a: &Hist, b: &Hist) -> bool {
+    a.sum.len() == b.sum.len() && a.sumsq.len() == b.sumsq.len()
+}
+
+/// Folds batch results into one running total in batch order — the only order that reproduces
+/// a single run bit for bit — holding only the batches that arrive ahead of their turn (from
+/// several workers). Memory stays at one batch plus the early ones, however many rays.
+#[derive(Debug, Clone, Default)]
+pub struct PrefixMerger {
+    total: Option<Batch>,
+    next: u64,
+    early: std::collections::BTreeMap<u64, Batch>,
+}
+
+impl PrefixMerger {
+    /// An empty merger (nothing folded yet).
+    pub fn new() -> PrefixMerger {
+        PrefixMerger::default()
+    }
+
+    /// Keep batch `index` until its turn. A batch already folded is ignored.
+    pub fn add(&mut self, index: u64, batch: Batch) {
+        if index >= self.next {
+            self.early.insert(index, batch);
+        }
+    }
+
+    /// Fold batches up to `count` (exclusive) into the total; `None` while one of them is still
+    /// missing, else the total of batches `0..folded()` (at least `count`, never more than
+    /// asked for: batches beyond `count` wait).
+    pub fn fold_to(&mut self, count: u64) -> Option<&Batch> {
+        while self.next < count {
+            let b = self.early.remove(&self.next)?;
+            match &mut self.total {
+                None => self.total = Some(b),
+                Some(t) => t.merge(&b),
+            }
+            self.next += 1;
+        }
+        self.total.as_ref()
+    }
+
+    /// Batches folded so far.
+    pub fn folded(&self) -> u64 {
+        self.next
+    }
+}
+
 /// Mix a seed and a batch index into a generator seed (SplitMix64 finaliser).
 fn batch_seed(seed: u64, batch: u64) -> u64 {
     let mut z = seed ^ batch.wrapping_mul(0x9E37_79B9_7F4A_7C15);
@@ -642,6 +690,18 @@ impl Prepared {
             first = end;
         }
         Ok(total)
+    }
+
+    /// Whether a batch result has this scenario's shape (tallies, histograms, segments), so it
+    /// can be merged and reported; batches read from outside (a worker) are checked with this.
+    pub fn fits(&self, batch: &Batch) -> bool {
+        let e = Batch::empty(self);
+        batch.tallies.len() == e.tallies.len()
+            && batch.wall_hits.len() == e.wall_hits.len()
+            && same_bins(&batch.exit_map, &e.exit_map)
+            && same_bins(&batch.angle_hist, &e.angle_hist)
+            && same_bins(&batch.angular_map, &e.angular_map)
+            && same_bins(&batch.route_leak, &e.route_leak)
     }
 
     /// Turn merged batches into the reported result.

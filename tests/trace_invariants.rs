@@ -12,7 +12,7 @@ use common::Rng;
 
 use serde_json::{json, Value};
 use tirtrace::scenario::Scenario;
-use tirtrace::trace::Prepared;
+use tirtrace::trace::{PrefixMerger, Prepared};
 
 /// A random valid scenario: round or rectangular, 1–5 segments of every kind, any library
 /// material that has data at the wavelength, contacts, every source kind.
@@ -202,6 +202,29 @@ fn same_seed_same_result_any_thread_count() {
             merged.merge(b);
         }
         assert_eq!(serial, merged, "case {case}: batch order");
+        // The running merger (as a browser's merging worker uses it): batches added in any
+        // order, folded only as far as asked and only when every batch up to there is in.
+        let n = p.batch_count();
+        let mut merger = PrefixMerger::new();
+        let mut order: Vec<u64> = (0..n).collect();
+        order.swap(0, (n - 1) as usize);
+        for (k, &b) in order.iter().enumerate() {
+            merger.add(b, p.trace_batch(b, 5));
+            let asked = (k as u64 + 1).min(n);
+            let folded = merger.fold_to(asked).is_some();
+            // Batch 0 arrives last: nothing can be folded before it.
+            assert_eq!(
+                folded,
+                k + 1 == order.len(),
+                "case {case}: folded with a batch missing"
+            );
+        }
+        assert_eq!(merger.folded(), n);
+        assert_eq!(
+            Some(&serial),
+            merger.fold_to(n),
+            "case {case}: running merge"
+        );
         let mut other = s.clone();
         other.trace.seed ^= 1;
         let q = Prepared::new(&other).unwrap();

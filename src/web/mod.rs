@@ -157,6 +157,7 @@ pub fn draw_bend_chart(canvas_id: &str, design: JsValue, pixel_ratio: f64) -> Re
 #[wasm_bindgen]
 pub struct Tracer {
     prepared: crate::trace::Prepared,
+    merger: crate::trace::PrefixMerger,
 }
 
 #[wasm_bindgen]
@@ -167,7 +168,10 @@ impl Tracer {
     pub fn new(scenario_json: &str) -> Result<Tracer, JsError> {
         let scenario = crate::scenario::Scenario::from_json(scenario_json).map_err(js_error)?;
         let prepared = crate::trace::Prepared::new(&scenario).map_err(js_error)?;
-        Ok(Tracer { prepared })
+        Ok(Tracer {
+            prepared,
+            merger: crate::trace::PrefixMerger::new(),
+        })
     }
 
     /// Number of batches of the scenario's ray count.
@@ -202,14 +206,58 @@ impl Tracer {
         let mut total = iter
             .next()
             .ok_or_else(|| JsError::new("parts must hold at least one batch result"))?;
-        let k = total.tallies.len();
+        if !self.prepared.fits(&total) {
+            return Err(JsError::new("parts come from a different scenario"));
+        }
         for p in iter {
-            if p.tallies.len() != k {
-                return Err(JsError::new("parts come from different scenarios"));
+            if !self.prepared.fits(&p) {
+                return Err(JsError::new("parts come from a different scenario"));
             }
             total.merge(&p);
         }
         to_js(&self.prepared.report(&total))
+    }
+
+    /// Keep batch `index` (a plain object from [`Tracer::batches`]) for the running merge.
+    /// Reading it into the core happens here, once per batch.
+    pub fn merger_add(&mut self, index: f64, batch: JsValue) -> Result<(), JsError> {
+        if !(index.is_finite() && index >= 0.0 && index.fract() == 0.0) {
+            return Err(JsError::new(&format!(
+                "index must be a whole batch index ≥ 0, got {index}"
+            )));
+        }
+        let batch: crate::trace::Batch = serde_wasm_bindgen::from_value(batch)
+            .map_err(|e| JsError::new(&format!("the batch could not be read: {e}")))?;
+        if !self.prepared.fits(&batch) {
+            return Err(JsError::new("the batch comes from a different scenario"));
+        }
+        self.merger.add(index as u64, batch);
+        Ok(())
+    }
+
+    /// The report of batches `0 .. count` folded in order, or `null` while one of them has not
+    /// been added yet. Counts must not decrease between calls (until `merger_reset`).
+    pub fn merger_report(&mut self, count: f64) -> Result<JsValue, JsError> {
+        if !(count.is_finite() && count >= 1.0 && count.fract() == 0.0) {
+            return Err(JsError::new(&format!(
+                "count must be a whole number of batches ≥ 1, got {count}"
+            )));
+        }
+        if (count as u64) < self.merger.folded() {
+            return Err(JsError::new(&format!(
+                "count must not go below the {} batches already merged, got {count}",
+                self.merger.folded()
+            )));
+        }
+        match self.merger.fold_to(count as u64) {
+            Some(total) => to_js(&self.prepared.report(total)),
+            None => Ok(JsValue::NULL),
+        }
+    }
+
+    /// Forget the running merge (a new job with the same scenario).
+    pub fn merger_reset(&mut self) {
+        self.merger = crate::trace::PrefixMerger::new();
     }
 
     /// Trace batches `first .. first + count` and return only the number of wall interactions

@@ -77,7 +77,8 @@ export class MainThreadPool {
       startedAt: performance.now(),
       declaredRays: declaredRays(scenario),
       batchCount: null,
-      batches: [], // traced batches 0..length-1, in order
+      traced: 0, // batches 0..traced-1 are in the core's running merge
+      rays: [], // rays of each traced batch
       lastMergeAt: 0,
       lastMergeMs: 0,
       report: null,
@@ -122,16 +123,19 @@ export class MainThreadPool {
       job.batchCount = tracer.batch_count();
       while (!job.finished) {
         const sliceStart = performance.now();
-        while (job.batches.length < job.batchCount && performance.now() - sliceStart < SLICE_MS) {
-          const index = job.batches.length;
+        while (job.traced < job.batchCount && performance.now() - sliceStart < SLICE_MS) {
+          const index = job.traced;
           try {
-            job.batches.push(tracer.batches(index, 1, job.keepPaths)[0]);
+            const [batch] = tracer.batches(index, 1, job.keepPaths);
+            tracer.merger_add(index, batch);
+            job.rays.push(batch.rays);
+            job.traced += 1;
           } catch (e) {
             this.#fail(job, `Tracing batch ${index} failed: ${messageOf(e)}`);
             return;
           }
         }
-        const final = job.batches.length === job.batchCount;
+        const final = job.traced === job.batchCount;
         const interval = Math.max(MIN_MERGE_INTERVAL_MS, job.lastMergeMs / MERGE_DUTY);
         if (final || job.reportBatches === 0 || performance.now() - job.lastMergeAt >= interval) {
           if (!this.#merge(job, tracer)) return;
@@ -148,18 +152,18 @@ export class MainThreadPool {
     }
   }
 
-  /** Report batches 0..length-1 merged in batch order; false when that failed (and was reported). */
+  /** Report batches 0..traced-1 merged in batch order; false when that failed (and was reported). */
   #merge(job, tracer) {
     const start = performance.now();
     try {
-      job.report = tracer.report_merged(job.batches);
+      job.report = tracer.merger_report(job.traced);
     } catch (e) {
       this.#fail(job, `The traced batches could not be merged: ${messageOf(e)}`);
       return false;
     }
     job.lastMergeAt = performance.now();
     job.lastMergeMs = job.lastMergeAt - start;
-    job.reportBatches = job.batches.length;
+    job.reportBatches = job.traced;
     job.firstAnswerMs ??= job.lastMergeAt - job.startedAt;
     return true;
   }
@@ -172,8 +176,8 @@ export class MainThreadPool {
   #raysTotal(job) {
     if (job.declaredRays !== null) return job.declaredRays;
     if (job.batchCount === null) return 0;
-    if (job.batches.length === job.batchCount) return job.batches.reduce((a, b) => a + b.rays, 0);
-    return job.batches.length === 0 ? 0 : job.batchCount * job.batches[0].rays;
+    if (job.traced === job.batchCount) return job.rays.reduce((a, b) => a + b, 0);
+    return job.traced === 0 ? 0 : job.batchCount * job.rays[0];
   }
 
   #emit(job, { done, cancelled, error = null }) {

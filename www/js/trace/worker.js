@@ -2,7 +2,7 @@
 // (www/js/trace/pool.js). The same script has two roles. A tracing worker keeps one `Tracer` per
 // job and traces one batch per message (so a cancel or a new job takes effect within one batch);
 // it sends the batch straight to the merging worker over its own channel and tells the pool only
-// that it is done. The merging worker keeps the batches and, when asked, reports the prefix
+// that it is done. The merging worker folds the batches into the core's running merge and, when asked, reports the prefix
 // 0..count-1 merged in batch order (the only order that reproduces a single run bit for bit).
 //
 // From the pool (all but `job` and `connect` are ignored unless they name the job loaded):
@@ -54,6 +54,11 @@ function loadJob(job, scenario) {
     loaded.scenario = scenario;
   }
   loaded.job = job;
+  loaded.tracer.merger_reset();
+  // Batches that reached this merging worker before the job did.
+  const early = kept.get(job);
+  kept.delete(job);
+  if (early) early.forEach((batch, index) => batch !== undefined && keep(job, index, batch));
   postMessage({ type: 'job-ready', job, batchCount: loaded.tracer.batch_count() });
 }
 
@@ -82,23 +87,35 @@ function traceBatch(job, index, keepPaths) {
 
 function keep(job, index, batch) {
   if (job < openFrom) return; // a job that is over
+  if (job === loaded.job && loaded.tracer !== null) {
+    // Read into the core's running merge at once: it holds only the batches ahead of their
+    // turn and folds the rest in batch order, so memory does not grow with the ray count.
+    try {
+      loaded.tracer.merger_add(index, batch);
+    } catch (e) {
+      postMessage({ type: 'merge-error', job, message: messageOf(e) });
+      return;
+    }
+    mergeIfComplete();
+    return;
+  }
+  // The job's scenario has not reached this worker yet: keep the batch until it does.
   if (!kept.has(job)) kept.set(job, []);
   kept.get(job)[index] = batch;
-  mergeIfComplete();
 }
 
 function mergeIfComplete() {
   if (pending === null || pending.job !== loaded.job) return;
   const { job, count } = pending;
-  const list = (kept.get(job) ?? []).slice(0, count);
-  // More on their way? (An indexed loop: `some` and friends skip the holes of a sparse array.)
-  for (let i = 0; i < count; i += 1) if (list[i] === undefined) return;
-  pending = null;
   try {
     const start = performance.now();
-    const report = loaded.tracer.report_merged(list);
+    // null while a batch of 0..count-1 is still on its way.
+    const report = loaded.tracer.merger_report(count);
+    if (report === null) return;
+    pending = null;
     postMessage({ type: 'report', job, count, report, ms: performance.now() - start });
   } catch (e) {
+    pending = null;
     postMessage({ type: 'merge-error', job, message: messageOf(e) });
   }
 }

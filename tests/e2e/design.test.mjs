@@ -247,6 +247,49 @@ describe('the design page in Chromium', { concurrency: false }, () => {
     });
   });
 
+  test('more bad input: whole numbers, thousands separators, a hidden entry, damaged storage and links', async () => {
+    await tracedAfter(page, () => page.selectOption('#demo', 'thermostat_status_led.json'));
+    const msgOf = async (id) => {
+      await page.waitForFunction((i) => (document.getElementById(`${i}-msg`)?.textContent || '').length > 0, id);
+      return page.locator(`#${id}-msg`).innerText();
+    };
+    // A ray count with a fraction: the core's message names the field and the range.
+    await page.fill('#f-trace-rays', '1.5');
+    assert.match(await msgOf('f-trace-rays'), /trace\.rays.*must be a whole number ≥ 0 and ≤ 9007199254740991, got 1\.5/);
+    // "200,000" is not silently read as 200.
+    await page.fill('#f-trace-rays', '200,000');
+    assert.match(await msgOf('f-trace-rays'), /could be read two ways/);
+    await tracedAfter(page, () => page.fill('#f-trace-rays', '20000'));
+    // Text typed under a choice that is then replaced does not block the design.
+    await page.selectOption('#f-source-emitter-led-pattern', 'half_intensity');
+    await page.fill('#f-source-emitter-led-pattern-half-intensity-half-angle-deg', 'abc');
+    await page.waitForFunction(() => document.body.dataset.problems === '1');
+    await tracedAfter(page, () => page.selectOption('#f-source-emitter-led-pattern', 'lambertian'));
+    assert.equal(await page.getAttribute('body', 'data-problems'), '0');
+    // A damaged design in storage and a damaged share link: a message, and the page works.
+    const other = await browser.newContext({ viewport: { width: 1280, height: 800 } });
+    other.on('request', (r) => requests.push(r.url()));
+    try {
+      const p = await other.newPage();
+      watch(p);
+      await p.goto(`${server.origin}/`);
+      await p.waitForSelector('body[data-ready="true"]', { timeout: 30_000 });
+      await p.evaluate((k) => localStorage.setItem(k, JSON.stringify({ scenario: { version: 1 }, drafts: {}, unit: 'mm' })), STATE_KEY);
+      await p.reload();
+      await p.waitForSelector('body[data-ready="true"]', { timeout: 30_000 });
+      const msg = await p.locator('#toolbar-msg').innerText();
+      assert.match(msg, /could not be shown/);
+      await p.waitForFunction(() => Number(document.body.dataset.traced || 0) > 0, null, { timeout: 60_000 });
+      await assertNoJunk(p, 'damaged storage');
+      await p.goto('about:blank');
+      await p.goto(`${server.origin}/#d=AAAA_not-a-design`);
+      await p.waitForSelector('body[data-ready="true"]', { timeout: 30_000 });
+      assert.match(await p.locator('#toolbar-msg').innerText(), /share link is damaged/);
+    } finally {
+      await other.close();
+    }
+  });
+
   test('the page stays responsive while a large trace refines', async () => {
     // Long tasks (main-thread work over 50 ms, reported by the browser's Long Tasks API) while a
     // million-ray trace sharpens: tracing and merging run in workers, so none may come near a

@@ -19,6 +19,9 @@ export function h(tag, attrs = {}, ...children) {
   return el;
 }
 
+/** “200,000”: a thousands separator or a decimal comma? Refused rather than guessed. */
+const looksLikeThousands = (text) => /^\s*[+-]?[1-9]\d{0,2}(,\d{3})+\s*$/.test(text);
+
 const idFor = (path) => `f-${path.replace(/[^A-Za-z0-9]+/g, '-')}`;
 
 /** The key of a one-key object (a serde enum variant): { round: {…} } → 'round'. */
@@ -98,6 +101,10 @@ export class Editor {
     sel.value = value;
     sel.addEventListener('change', () => {
       apply(sel.value);
+      // What was typed under the replaced choice has no field any more.
+      for (const path of Object.keys(this.state.drafts)) {
+        if (path.startsWith(`${key}.`)) delete this.state.drafts[path];
+      }
       this.changed(true, id);
     });
     return h(
@@ -147,7 +154,10 @@ export class Editor {
   /** Text typed into a number field: store the number, or keep the text as a draft. */
   typed(path, text) {
     const x = parseNumber(text);
-    if (Number.isFinite(x)) {
+    if (looksLikeThousands(text)) {
+      this.state.drafts[path] = text;
+      this.setMessage(path, `${path}: “${text.trim()}” could be read two ways: write it without a thousands separator (e.g. ${text.trim().replace(/,/g, '')}), or with a decimal point`);
+    } else if (Number.isFinite(x)) {
       delete this.state.drafts[path];
       setAt(this.s, path, toStored(x, path, this.state.unit));
       this.setMessage(path, null);
@@ -185,10 +195,14 @@ export class Editor {
 
   /** Problems from typing: fields whose text is not a number. */
   draftProblems() {
-    return Object.entries(this.state.drafts).map(([field, text]) => ({
-      field,
-      message: `${field} must be a number${String(text).trim() ? `, got “${String(text).trim()}”` : ' (it is empty)'}`,
-    }));
+    return Object.entries(this.state.drafts)
+      .filter(([field]) => this.root.querySelector(`[data-path="${CSS.escape(field)}"]`))
+      .map(([field, text]) => ({
+        field,
+        message: looksLikeThousands(String(text))
+          ? `${field}: “${String(text).trim()}” could be read two ways: write it without a thousands separator, or with a decimal point`
+          : `${field} must be a number${String(text).trim() ? `, got “${String(text).trim()}”` : ' (it is empty)'}`,
+      }));
   }
 
   /** Show the core's problems under their fields; returns those no field could show. */
@@ -401,9 +415,9 @@ export class Editor {
   }
 
   /** The section at the end of the route (where a new taper starts). */
-  lastSection() {
+  lastSection(upTo = this.s.route.length) {
     let sec = this.s.guide.section;
-    for (const seg of this.s.route) if (seg.taper) sec = seg.taper.end_section;
+    for (const seg of this.s.route.slice(0, upTo)) if (seg.taper) sec = seg.taper.end_section;
     return sec;
   }
 
@@ -455,7 +469,7 @@ export class Editor {
           'aria-label': `Segment ${i + 1} kind`,
           onchange: (e) => {
             const v = e.target.value;
-            this.s.route[i] = SEGMENT_DEFAULTS[v](this.lastSection());
+            this.s.route[i] = SEGMENT_DEFAULTS[v](this.lastSection(i));
             this.remapDrafts('route', (k) => (k === i ? null : k));
             this.changed(true, `seg-${i}-kind`);
           },
@@ -516,6 +530,7 @@ export class Editor {
         h('button', {
           type: 'button',
           id: `contact-${k}-remove`,
+          'aria-label': `Remove mount ${k + 1}${c.name ? ` (${c.name})` : ''}`,
           onclick: () => {
             list.splice(k, 1);
             if (list.length === 0) delete g.contacts;

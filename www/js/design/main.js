@@ -17,7 +17,7 @@ import { demoList, demoText, traceWorker } from './sources.js';
 
 const $ = (id) => document.getElementById(id);
 const messageOf = (e) => (e instanceof Error ? e.message : String(e ?? 'unknown problem'));
-const PREVIOUS_KEY = 'tirtrace.design.previous.v1';
+const UNREADABLE_KEY = 'tirtrace.design.unreadable.v1';
 const KEEP_PATHS = 90;
 
 function setStatus(text, kind = 'busy') {
@@ -200,7 +200,7 @@ function drawLegend(report) {
   ramp.style.background = heatGradientCss();
   ramp.setAttribute('aria-hidden', 'true');
   const max = page.view.heatMax;
-  heat.append(ramp, max > 0 ? `leakage along the pipe, up to ${(100 * max).toPrecision(2)} % per mm` : 'no leakage along the pipe');
+  heat.append(ramp, max > 0 ? `leakage along the pipe: darkest, ${(100 * max).toPrecision(2)} % of the light within ${page.view.heatBinMm.toPrecision(2)} mm` : 'no leakage along the pipe');
   $('route-legend').replaceChildren(...items, heat);
 }
 
@@ -208,11 +208,6 @@ function drawLegend(report) {
 
 /** Load another design (example, file, link), keeping the current one to go back to. */
 function replaceDesign(scenario, how) {
-  try {
-    localStorage.setItem(PREVIOUS_KEY, JSON.stringify(page.state));
-  } catch {
-    // No storage: the undo below still works in this visit.
-  }
   const previous = clone(page.state);
   page.state.scenario = withDefaults(scenario);
   page.state.drafts = {};
@@ -310,18 +305,25 @@ function wireToolbar() {
       $('paste-msg').hidden = false;
     }
   });
+  /** A note when some fields hold text that is not a number (the file or link has their last numbers). */
+  const pendingNote = () => {
+    const n = page.editor.draftProblems().length;
+    return n ? ` Note: ${n} ${n === 1 ? 'field holds' : 'fields hold'} text that is not a number; ${n === 1 ? 'its' : 'their'} last valid value is used.` : '';
+  };
   $('save-file').addEventListener('click', () => {
     const s = page.state.scenario;
     download(new Blob([`${JSON.stringify(s, null, 2)}\n`], { type: 'application/json' }), fileNameFor(s));
+    const note = pendingNote();
+    if (note) toolbarMessage(`Saved ${fileNameFor(s)}.${note}`, { kind: 'error' });
   });
   $('share').addEventListener('click', async () => {
     const link = await shareLink(page.state.scenario, location.href.split('#')[0]);
     $('share').dataset.link = link;
     try {
       await navigator.clipboard.writeText(link);
-      toolbarMessage(`Share link copied (${link.length} characters). It carries the whole design; nothing is sent anywhere.`);
+      toolbarMessage(`Share link copied (${link.length} characters). It carries the whole design; nothing is sent anywhere.${pendingNote()}`);
     } catch {
-      toolbarMessage(`Share link (copy it from here): ${link}`);
+      toolbarMessage(`Share link (copy it from here): ${link}${pendingNote()}`);
     }
   });
   $('export-csv').addEventListener('click', () => {
@@ -373,13 +375,32 @@ async function start() {
     const text = await scenarioFromFragment();
     if (text) fromLink = readScenario(text);
   } catch (e) {
-    toolbarMessage(`The share link could not be read: ${messageOf(e)}. Showing your last design.`, { kind: 'error' });
+    toolbarMessage(`The share link is damaged or incomplete (copy it again from where it was sent): ${messageOf(e)}. Showing your last design.`, { kind: 'error' });
   }
   page.state = loadState() || freshState(STARTER);
-  page.state.scenario = withDefaults(page.state.scenario);
+  const materials = core.materials();
+  try {
+    page.state.scenario = withDefaults(page.state.scenario);
+    page.editor = new Editor($('editor'), page.state, materials, () => scheduleUpdate());
+    page.editor.render();
+  } catch {
+    // A kept design this page cannot show (damaged storage, or from a different version):
+    // keep its text aside, start from the starter design, and say so.
+    try {
+      localStorage.setItem(UNREADABLE_KEY, JSON.stringify(loadState()));
+    } catch {
+      // No storage: nothing to keep aside.
+    }
+    page.state = freshState(STARTER);
+    page.state.scenario = withDefaults(page.state.scenario);
+    page.editor = new Editor($('editor'), page.state, materials, () => scheduleUpdate());
+    page.editor.render();
+    toolbarMessage(
+      `The design kept in this browser could not be shown (it is damaged or from another version); it is set aside under “${UNREADABLE_KEY}” in this browser's storage. Starting from the example design.`,
+      { kind: 'error' },
+    );
+  }
   for (const r of document.querySelectorAll('input[name="unit"]')) r.checked = r.value === page.state.unit;
-  page.editor = new Editor($('editor'), page.state, core.materials(), () => scheduleUpdate());
-  page.editor.render();
   $('f-name').value = page.state.scenario.name || '';
   page.view = new RouteView($('route-view'));
   page.pool = new TracePool({ onUpdate: onTraceUpdate, ...traceWorker() });

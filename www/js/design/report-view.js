@@ -111,11 +111,11 @@ export function showReport(report, figures, scenario) {
   $('segment-rows').replaceChildren(
     ...report.segments.map((s) => {
       const lost = contactsBySeg.get(s.index) || [];
-      const loss = lossOf(s);
+      const loss = lossOf(s); // bar lengths only: the figures are in the columns beside
       const bar = (share, cls) => h('span', { class: `seg-bar ${cls}`, style: `width:${maxLoss > 0 ? (100 * share) / maxLoss : 0}%` });
       return h('tr', { dataset: { segment: String(s.index) } },
         h('th', { scope: 'row', text: `${s.index + 1} · ${KIND_NAMES[s.kind] || s.kind}` }),
-        h('td', { class: 'seg-bars', title: `lost in this segment: ${pct(loss, 0)} %` },
+        h('td', { class: 'seg-bars' },
           h('span', { class: 'seg-track', 'aria-hidden': 'true' },
             bar(s.leaked.share, 'leak'), bar(s.absorbed.share, 'absorb'), bar(loss - s.leaked.share - s.absorbed.share, 'mount'))),
         h('td', { class: 'num', text: fixed(s.length_mm, 1) }),

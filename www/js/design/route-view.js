@@ -55,6 +55,8 @@ export class RouteView {
   setOutline(outline) {
     const first = !this.outline;
     this.outline = outline;
+    // Rays and leakage of the previous route do not belong on this one.
+    this.report = null;
     if (first || !this.fitted) this.fit();
     this.draw();
   }
@@ -237,9 +239,12 @@ export class RouteView {
   drawHeat(g) {
     const prof = this.report?.leak_along_route;
     if (!prof || !prof.share?.length) return;
-    const density = prof.share.map((s) => s / prof.bin_mm);
+    // Colour by each bin's share (the bins are equally long, so this is the share per mm up to
+    // a constant); the legend quotes the largest bin's share and the bin length from the core.
+    const density = prof.share;
     const max = Math.max(...density);
     this.heatMax = max;
+    this.heatBinMm = prof.bin_mm;
     if (!(max > 0)) return;
     const binAt = (s) => Math.min(density.length - 1, Math.max(0, Math.floor(s / prof.bin_mm)));
     for (const seg of this.outline.segments) {

@@ -177,9 +177,13 @@ export async function shareLink(scenario, base = location.href) {
 export async function scenarioFromFragment(hash = location.hash) {
   const m = hash.match(/^#([dj])=([A-Za-z0-9_-]+)$/);
   if (!m) return null;
-  let bytes = fromBase64Url(m[2]);
-  if (m[1] === 'd') bytes = await pipe(bytes, new DecompressionStream('deflate-raw'));
-  return new TextDecoder().decode(bytes);
+  try {
+    let bytes = fromBase64Url(m[2]);
+    if (m[1] === 'd') bytes = await pipe(bytes, new DecompressionStream('deflate-raw'));
+    return new TextDecoder('utf-8', { fatal: true }).decode(bytes);
+  } catch {
+    throw new Error('its design text does not decode');
+  }
 }
 
 // ---------------------------------------------------------------- files

@@ -5,27 +5,13 @@
 // Usage: node benches/page_speed.mjs [SCENARIO (path under www/)] [RAYS]
 // Before: bash scripts/build.sh (www/pkg) and npm ci --prefix tests/e2e.
 
-import { spawn } from 'node:child_process';
 import { existsSync, mkdtempSync, rmSync } from 'node:fs';
 import { createRequire } from 'node:module';
-import { createServer } from 'node:net';
 import { tmpdir } from 'node:os';
-import { dirname, join } from 'node:path';
-import { fileURLToPath } from 'node:url';
+import { join } from 'node:path';
 
-const ROOT = join(dirname(fileURLToPath(import.meta.url)), '..');
-const WWW = join(ROOT, 'www');
-const CHROMIUM = process.env.CHROMIUM || '/usr/bin/chromium';
-const CHROMIUM_ARGS = [
-  '--headless',
-  '--no-sandbox',
-  '--disable-gpu',
-  '--disable-background-networking',
-  '--disable-component-update',
-  '--disable-sync',
-  '--no-first-run',
-  '--disable-quic',
-];
+import { CHROMIUM, CHROMIUM_ARGS, ROOT, WWW, startServer } from '../tests/e2e/harness.mjs';
+
 const { chromium } = createRequire(join(ROOT, 'tests', 'e2e', 'package.json'))('playwright-core');
 
 const [scenario = 'demos/bench_three_bends.json', raysArg] = process.argv.slice(2);
@@ -39,39 +25,6 @@ for (const [path, hint] of [[join(WWW, 'pkg', 'tirtrace.js'), 'run `bash scripts
     console.error(`page_speed: ${path} is missing: ${hint}`);
     process.exit(2);
   }
-}
-
-function freePort() {
-  return new Promise((resolve, reject) => {
-    const srv = createServer();
-    srv.unref();
-    srv.on('error', reject);
-    srv.listen(0, '127.0.0.1', () => {
-      const { port } = srv.address();
-      srv.close(() => resolve(port));
-    });
-  });
-}
-
-/** `python3 -m http.server` on a free port, once it answers. */
-async function startServer() {
-  const port = await freePort();
-  const child = spawn('python3', ['-m', 'http.server', String(port), '--bind', '127.0.0.1', '--directory', WWW], { stdio: 'ignore' });
-  const origin = `http://127.0.0.1:${port}`;
-  const deadline = Date.now() + 15_000;
-  while (Date.now() < deadline) {
-    if (child.exitCode !== null) throw new Error(`the static server exited with ${child.exitCode}`);
-    try {
-      const res = await fetch(`${origin}/bench.html`, { signal: AbortSignal.timeout(1000) });
-      await res.arrayBuffer();
-      if (res.ok) return { child, origin };
-    } catch {
-      // not up yet
-    }
-    await new Promise((r) => setTimeout(r, 100));
-  }
-  child.kill('SIGTERM');
-  throw new Error('the static server did not answer within 15 s');
 }
 
 const server = await startServer();

@@ -9,78 +9,15 @@
 // Before: cargo build; bash scripts/build.sh; npm ci --prefix tests/e2e. Run: node --test tests/e2e/
 
 import assert from 'node:assert/strict';
-import { existsSync, mkdirSync, readFileSync, writeFileSync } from 'node:fs';
+import { existsSync, mkdirSync, readFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { after, before, describe, test } from 'node:test';
 
 import { chromium } from 'playwright-core';
 
-import { CHROMIUM, CHROMIUM_ARGS, CLI, OUT, ROOT, WWW, cli, reachable, startServer, stopServer } from './harness.mjs';
-
-const STATE_KEY = 'tirtrace.design.v1';
-
-/** The scenario the page holds (its autosave). */
-const pageScenario = (page) => page.evaluate((k) => JSON.parse(localStorage.getItem(k)).scenario, STATE_KEY);
-
-/** Run `action`, then wait until a trace started after it (a later job id) has finished. */
-async function tracedAfter(page, action, timeout = 60_000) {
-  const before = Number((await page.getAttribute('body', 'data-job')) || 0);
-  await action();
-  try {
-    await page.waitForFunction(
-      (b) => {
-        const job = Number(document.body.dataset.job || 0);
-        return job > b && Number(document.body.dataset.traced || 0) === job;
-      },
-      before,
-      { timeout },
-    );
-  } catch (e) {
-    const state = await page.evaluate(() => ({
-      ...document.body.dataset,
-      status: document.getElementById('status').textContent,
-      progress: document.getElementById('progress-text').textContent,
-    }));
-    throw new Error(`no finished trace after the action (job before: ${before}): ${JSON.stringify(state)}`, { cause: e });
-  }
-}
-
-/** The finished answer: { share, ci95, rays }. */
-async function answer(page) {
-  const a = page.locator('#answer');
-  return {
-    share: Number(await a.getAttribute('data-share')),
-    ci95: Number(await a.getAttribute('data-ci95')),
-    rays: Number(await a.getAttribute('data-rays')),
-  };
-}
-
-/** The CLI's report for a scenario object. */
-function cliTrace(scenario) {
-  const file = join(tmpdir(), `tirtrace-e2e-${process.pid}-${Date.now()}.json`);
-  writeFileSync(file, JSON.stringify(scenario));
-  return JSON.parse(cli(['trace', file]));
-}
-
-/** Page text must never show NaN, Infinity or undefined. */
-async function assertNoJunk(page, what) {
-  const body = await page.locator('body').innerText();
-  for (const junk of ['NaN', 'Infinity', 'undefined', '[object Object]']) {
-    assert.ok(!body.includes(junk), `${what}: the page shows "${junk}"`);
-  }
-}
-
-/** Share of a canvas's pixels that are not (near) white. */
-async function inkShare(page, canvasId) {
-  return page.evaluate((canvasId) => {
-    const canvas = document.getElementById(canvasId);
-    const { data } = canvas.getContext('2d').getImageData(0, 0, canvas.width, canvas.height);
-    let ink = 0;
-    for (let i = 0; i < data.length; i += 4) if (data[i] + data[i + 1] + data[i + 2] < 3 * 235) ink += 1;
-    return ink / (data.length / 4);
-  }, canvasId);
-}
+import { STATE_KEY, answer, assertNoJunk, cliTrace, inkShare, pageScenario, tracedAfter } from './design-helpers.mjs';
+import { CHROMIUM, CHROMIUM_ARGS, CLI, OUT, ROOT, WWW, reachable, startServer, stopServer } from './harness.mjs';
 
 describe('the design page in Chromium', { concurrency: false }, () => {
   let server;

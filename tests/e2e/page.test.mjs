@@ -12,80 +12,14 @@
 // worker with the server stopped. Screenshots go to tests/e2e/out/ (git-ignored).
 
 import assert from 'node:assert/strict';
-import { spawn, spawnSync } from 'node:child_process';
+import { spawnSync } from 'node:child_process';
 import { existsSync, mkdirSync } from 'node:fs';
-import { createServer } from 'node:net';
-import { dirname, join } from 'node:path';
+import { join } from 'node:path';
 import { after, before, describe, test } from 'node:test';
-import { fileURLToPath } from 'node:url';
 
 import { chromium } from 'playwright-core';
 
-const HERE = dirname(fileURLToPath(import.meta.url));
-const ROOT = join(HERE, '..', '..');
-const WWW = join(ROOT, 'www');
-const OUT = join(HERE, 'out');
-const CLI = join(ROOT, 'target', 'debug', 'tirtrace');
-const CHROMIUM = process.env.CHROMIUM || '/usr/bin/chromium';
-
-const CHROMIUM_ARGS = [
-  '--no-sandbox',
-  '--disable-gpu',
-  '--disable-quic',
-  '--no-first-run',
-  '--disable-background-networking',
-  '--disable-component-update',
-  '--disable-sync',
-];
-
-// ---------------------------------------------------------------- helpers
-
-function freePort() {
-  return new Promise((resolve, reject) => {
-    const srv = createServer();
-    srv.unref();
-    srv.on('error', reject);
-    srv.listen(0, '127.0.0.1', () => {
-      const { port } = srv.address();
-      srv.close(() => resolve(port));
-    });
-  });
-}
-
-async function reachable(url) {
-  try {
-    const res = await fetch(url, { signal: AbortSignal.timeout(1000) });
-    await res.arrayBuffer();
-    return res.ok;
-  } catch {
-    return false;
-  }
-}
-
-/** Start `python3 -m http.server` on a free port and wait until it answers. */
-async function startServer() {
-  const port = await freePort();
-  const child = spawn('python3', ['-m', 'http.server', String(port), '--bind', '127.0.0.1', '--directory', WWW], {
-    stdio: 'ignore',
-  });
-  const origin = `http://127.0.0.1:${port}`;
-  const deadline = Date.now() + 15_000;
-  while (Date.now() < deadline) {
-    if (child.exitCode !== null) throw new Error(`the static server exited with ${child.exitCode}`);
-    if (await reachable(`${origin}/index.html`)) return { child, origin };
-    await new Promise((r) => setTimeout(r, 100));
-  }
-  child.kill('SIGTERM');
-  throw new Error('the static server did not answer within 15 s');
-}
-
-function stopServer(child) {
-  return new Promise((resolve) => {
-    if (!child || child.exitCode !== null || child.signalCode !== null) return resolve();
-    child.once('exit', () => resolve());
-    child.kill('SIGTERM');
-  });
-}
+import { CHROMIUM, CHROMIUM_ARGS, CLI, OUT, WWW, reachable, startServer, stopServer } from './harness.mjs';
 
 /** The native core's figures for a design document (`tirtrace figures -`). */
 function cliFigures(design) {

@@ -9,7 +9,7 @@
 // Run: node --test tests/e2e/single.test.mjs
 
 import assert from 'node:assert/strict';
-import { existsSync, mkdirSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
+import { existsSync, mkdirSync, mkdtempSync, readFileSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { after, before, describe, test } from 'node:test';
@@ -17,66 +17,11 @@ import { pathToFileURL } from 'node:url';
 
 import { chromium } from 'playwright-core';
 
-import { CHROMIUM, CHROMIUM_ARGS, CLI, OUT, ROOT, WWW, cli } from './harness.mjs';
+import { answer, assertMatchesCli, firstTrace, pageScenario, tracedAfter } from './design-helpers.mjs';
+import { CHROMIUM, CHROMIUM_ARGS, CLI, OUT, ROOT, WWW } from './harness.mjs';
 
 const SINGLE = join(ROOT, 'dist', 'tirtrace.html');
 const SINGLE_URL = pathToFileURL(SINGLE).href;
-const STATE_KEY = 'tirtrace.design.v1';
-
-/** The scenario the page holds (its autosave). */
-const pageScenario = (page) => page.evaluate((k) => JSON.parse(localStorage.getItem(k)).scenario, STATE_KEY);
-
-/** Run `action`, then wait until a trace started after it (a later job id) has finished. */
-async function tracedAfter(page, action, timeout = 60_000) {
-  const before = Number((await page.getAttribute('body', 'data-job')) || 0);
-  await action();
-  await page.waitForFunction(
-    (b) => {
-      const job = Number(document.body.dataset.job || 0);
-      return job > b && Number(document.body.dataset.traced || 0) === job;
-    },
-    before,
-    { timeout },
-  );
-}
-
-/** Wait until the page has started and its first trace has finished. */
-async function firstTrace(page) {
-  await page.waitForSelector('body[data-ready="true"]', { timeout: 30_000 });
-  await page.waitForFunction(() => Number(document.body.dataset.traced || 0) > 0, null, { timeout: 60_000 });
-}
-
-/** The finished answer: { share, ci95, rays }. */
-async function answer(page) {
-  const a = page.locator('#answer');
-  return {
-    share: Number(await a.getAttribute('data-share')),
-    ci95: Number(await a.getAttribute('data-ci95')),
-    rays: Number(await a.getAttribute('data-rays')),
-  };
-}
-
-/** The CLI's report for a scenario object. */
-function cliTrace(scenario) {
-  const file = join(tmpdir(), `tirtrace-single-${process.pid}-${Date.now()}.json`);
-  writeFileSync(file, JSON.stringify(scenario));
-  try {
-    return JSON.parse(cli(['trace', file]));
-  } finally {
-    rmSync(file, { force: true });
-  }
-}
-
-/** The page's answer equals the CLI's for the scenario it holds. */
-async function assertMatchesCli(page, what) {
-  const scenario = await pageScenario(page);
-  const mine = await answer(page);
-  const theirs = cliTrace(scenario);
-  assert.equal(mine.rays, theirs.rays, `${what}: rays`);
-  assert.equal(mine.share, theirs.delivered.share, `${what}: delivered share differs from the CLI`);
-  assert.equal(mine.ci95, theirs.delivered.ci95, `${what}: its 95 % half-width differs from the CLI`);
-}
-
 describe('the single-file page opened from disk', { concurrency: false }, () => {
   let profile;
   let context;

@@ -1,0 +1,94 @@
+// Helpers shared by the tests of the design page (served, and the single file): read the page's
+// scenario and answer, wait for a trace, and trace the same scenario with the native CLI.
+
+import assert from 'node:assert/strict';
+import { rmSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+
+import { cli } from './harness.mjs';
+
+export const STATE_KEY = 'tirtrace.design.v1';
+
+/** The scenario the page holds (its autosave). */
+export const pageScenario = (page) => page.evaluate((k) => JSON.parse(localStorage.getItem(k)).scenario, STATE_KEY);
+
+/** Run `action`, then wait until a trace started after it (a later job id) has finished. */
+export async function tracedAfter(page, action, timeout = 60_000) {
+  const before = Number((await page.getAttribute('body', 'data-job')) || 0);
+  await action();
+  try {
+    await page.waitForFunction(
+      (b) => {
+        const job = Number(document.body.dataset.job || 0);
+        return job > b && Number(document.body.dataset.traced || 0) === job;
+      },
+      before,
+      { timeout },
+    );
+  } catch (e) {
+    const state = await page.evaluate(() => ({
+      ...document.body.dataset,
+      status: document.getElementById('status').textContent,
+      progress: document.getElementById('progress-text').textContent,
+    }));
+    throw new Error(`no finished trace after the action (job before: ${before}): ${JSON.stringify(state)}`, { cause: e });
+  }
+}
+
+/** Wait until the page has started and its first trace has finished. */
+export async function firstTrace(page) {
+  await page.waitForSelector('body[data-ready="true"]', { timeout: 30_000 });
+  await page.waitForFunction(() => Number(document.body.dataset.traced || 0) > 0, null, { timeout: 60_000 });
+}
+
+/** The finished answer: { share, ci95, rays }. */
+export async function answer(page) {
+  const a = page.locator('#answer');
+  return {
+    share: Number(await a.getAttribute('data-share')),
+    ci95: Number(await a.getAttribute('data-ci95')),
+    rays: Number(await a.getAttribute('data-rays')),
+  };
+}
+
+/** The CLI's report for a scenario object. */
+export function cliTrace(scenario) {
+  const file = join(tmpdir(), `tirtrace-e2e-${process.pid}-${Date.now()}.json`);
+  writeFileSync(file, JSON.stringify(scenario));
+  try {
+    return JSON.parse(cli(['trace', file]));
+  } finally {
+    rmSync(file, { force: true });
+  }
+}
+
+/** The page's answer equals the CLI's for the scenario it holds. */
+export async function assertMatchesCli(page, what) {
+  const scenario = await pageScenario(page);
+  const mine = await answer(page);
+  const theirs = cliTrace(scenario);
+  assert.equal(mine.rays, theirs.rays, `${what}: rays`);
+  assert.equal(mine.share, theirs.delivered.share, `${what}: delivered share differs from the CLI`);
+  assert.equal(mine.ci95, theirs.delivered.ci95, `${what}: its 95 % half-width differs from the CLI`);
+  return { mine, theirs };
+}
+
+/** Page text must never show NaN, Infinity or undefined. */
+export async function assertNoJunk(page, what) {
+  const body = await page.locator('body').innerText();
+  for (const junk of ['NaN', 'Infinity', 'undefined', '[object Object]']) {
+    assert.ok(!body.includes(junk), `${what}: the page shows "${junk}"`);
+  }
+}
+
+/** Share of a canvas's pixels that are not (near) white: 0 for a blank canvas. */
+export async function inkShare(page, canvasId) {
+  return page.evaluate((canvasId) => {
+    const canvas = document.getElementById(canvasId);
+    const { data } = canvas.getContext('2d').getImageData(0, 0, canvas.width, canvas.height);
+    let ink = 0;
+    for (let i = 0; i < data.length; i += 4) if (data[i] + data[i + 1] + data[i + 2] < 3 * 235) ink += 1;
+    return ink / (data.length / 4);
+  }, canvasId);
+}

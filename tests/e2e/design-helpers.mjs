@@ -82,13 +82,4 @@ export async function assertNoJunk(page, what) {
   }
 }
 
-/** Share of a canvas's pixels that are not (near) white: 0 for a blank canvas. */
-export async function inkShare(page, canvasId) {
-  return page.evaluate((canvasId) => {
-    const canvas = document.getElementById(canvasId);
-    const { data } = canvas.getContext('2d').getImageData(0, 0, canvas.width, canvas.height);
-    let ink = 0;
-    for (let i = 0; i < data.length; i += 4) if (data[i] + data[i + 1] + data[i + 2] < 3 * 235) ink += 1;
-    return ink / (data.length / 4);
-  }, canvasId);
-}
+export { inkShare } from './harness.mjs';

@@ -17,7 +17,7 @@ import { after, before, describe, test } from 'node:test';
 import { chromium } from 'playwright-core';
 
 import { STATE_KEY, answer, assertNoJunk, cliTrace, inkShare, pageScenario, tracedAfter } from './design-helpers.mjs';
-import { CHROMIUM, CHROMIUM_ARGS, CLI, OUT, ROOT, WWW, reachable, startServer, stopServer } from './harness.mjs';
+import { CHROMIUM, CHROMIUM_ARGS, CLI, OUT, ROOT, WWW, reachable, serviceWorkerControls, startServer, stopServer } from './harness.mjs';
 
 describe('the design page in Chromium', { concurrency: false }, () => {
   let server;
@@ -456,16 +456,7 @@ describe('the design page in Chromium', { concurrency: false }, () => {
   });
 
   test('works offline from the service worker', async () => {
-    const controlled = await page.evaluate(async () => {
-      const sw = navigator.serviceWorker;
-      const timeout = new Promise((resolve) => setTimeout(() => resolve(false), 15_000));
-      const ready = (async () => {
-        await sw.ready;
-        if (!sw.controller) await new Promise((resolve) => sw.addEventListener('controllerchange', resolve, { once: true }));
-        return true;
-      })();
-      return Promise.race([ready, timeout]);
-    });
+    const controlled = await serviceWorkerControls(page);
     assert.equal(controlled, true, 'no service worker controls the page');
     // Let the worker cache everything (install finished), then cut the server.
     await page.reload();

@@ -76,3 +76,28 @@ export function cli(args, input) {
   if (run.status !== 0) throw new Error(`tirtrace ${args.join(' ')} failed: ${run.stderr}`);
   return run.stdout;
 }
+
+/** Share of a canvas's pixels that are not (near) white: 0 for a blank canvas. */
+export async function inkShare(page, canvasId) {
+  return page.evaluate((canvasId) => {
+    const canvas = document.getElementById(canvasId);
+    const { data } = canvas.getContext('2d').getImageData(0, 0, canvas.width, canvas.height);
+    let ink = 0;
+    for (let i = 0; i < data.length; i += 4) if (data[i] + data[i + 1] + data[i + 2] < 3 * 235) ink += 1;
+    return ink / (data.length / 4);
+  }, canvasId);
+}
+
+/** Whether a service worker controls the page within `ms` (it registered and claimed it). */
+export function serviceWorkerControls(page, ms = 15_000) {
+  return page.evaluate(async (ms) => {
+    const sw = navigator.serviceWorker;
+    const timeout = new Promise((resolve) => setTimeout(() => resolve(false), ms));
+    const ready = (async () => {
+      await sw.ready;
+      if (!sw.controller) await new Promise((resolve) => sw.addEventListener('controllerchange', resolve, { once: true }));
+      return true;
+    })();
+    return Promise.race([ready, timeout]);
+  }, ms);
+}

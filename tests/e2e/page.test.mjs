@@ -19,7 +19,7 @@ import { after, before, describe, test } from 'node:test';
 
 import { chromium } from 'playwright-core';
 
-import { CHROMIUM, CHROMIUM_ARGS, CLI, OUT, WWW, reachable, startServer, stopServer } from './harness.mjs';
+import { CHROMIUM, CHROMIUM_ARGS, CLI, OUT, WWW, inkShare, reachable, serviceWorkerControls, startServer, stopServer } from './harness.mjs';
 
 /** The native core's figures for a design document (`tirtrace figures -`). */
 function cliFigures(design) {
@@ -110,16 +110,6 @@ async function countPixels(page, canvasId, hex, tol = 40) {
   );
 }
 
-/** Share of a canvas's pixels that are not (near) white: 0 for a blank canvas. */
-async function inkShare(page, canvasId) {
-  return page.evaluate((canvasId) => {
-    const canvas = document.getElementById(canvasId);
-    const { data } = canvas.getContext('2d').getImageData(0, 0, canvas.width, canvas.height);
-    let ink = 0;
-    for (let i = 0; i < data.length; i += 4) if (data[i] + data[i + 1] + data[i + 2] < 3 * 235) ink += 1;
-    return ink / (data.length / 4);
-  }, canvasId);
-}
 
 const cssColour = (page, name) =>
   page.evaluate((name) => getComputedStyle(document.documentElement).getPropertyValue(name).trim(), name);
@@ -402,16 +392,7 @@ describe('the tirtrace page in Chromium', { concurrency: false }, () => {
 
   test('keeps the entries and works offline from the service worker', async () => {
     // The page registered its service worker, which now controls the page (bounded wait).
-    const controlled = await page.evaluate(async () => {
-      const sw = navigator.serviceWorker;
-      const timeout = new Promise((resolve) => setTimeout(() => resolve(false), 10_000));
-      const ready = (async () => {
-        await sw.ready;
-        if (!sw.controller) await new Promise((resolve) => sw.addEventListener('controllerchange', resolve, { once: true }));
-        return true;
-      })();
-      return Promise.race([ready, timeout]);
-    });
+    const controlled = await serviceWorkerControls(page, 10_000);
     assert.equal(controlled, true, 'no service worker controls the page');
     const design = await enterDesign(page, {
       material: 'polystyrene', surroundings: 'water', wavelength_nm: 633, diameter_mm: 4.2,

@@ -11,6 +11,7 @@ const PAGE_FILES = [
   './quick.html',
   './js/quick-main.js',
   './js/state.js',
+  './js/numbers.js',
   './js/form.js',
   './js/format.js',
   './js/results.js',

@@ -17,7 +17,7 @@ import { after, before, describe, test } from 'node:test';
 import { chromium } from 'playwright-core';
 
 import { STATE_KEY, answer, assertNoJunk, cliTrace, inkShare, pageScenario, tracedAfter } from './design-helpers.mjs';
-import { CHROMIUM, CHROMIUM_ARGS, CLI, OUT, ROOT, WWW, reachable, serviceWorkerControls, startServer, stopServer } from './harness.mjs';
+import { CHROMIUM, CHROMIUM_ARGS, CLI, OUT, ROOT, WWW, collectErrors, reachable, serviceWorkerControls, startServer, stopServer } from './harness.mjs';
 
 describe('the design page in Chromium', { concurrency: false }, () => {
   let server;
@@ -27,12 +27,7 @@ describe('the design page in Chromium', { concurrency: false }, () => {
   const requests = [];
   const consoleErrors = [];
 
-  const watch = (p) => {
-    p.on('console', (m) => {
-      if (m.type() === 'error') consoleErrors.push(m.text());
-    });
-    p.on('pageerror', (e) => consoleErrors.push(String(e)));
-  };
+  const watch = (p) => collectErrors(p, consoleErrors);
 
   before(async () => {
     assert.ok(existsSync(join(WWW, 'pkg', 'tirtrace.js')), 'www/pkg is missing: run `bash scripts/build.sh` first');

@@ -101,3 +101,11 @@ export function serviceWorkerControls(page, ms = 15_000) {
     return Promise.race([ready, timeout]);
   }, ms);
 }
+
+/** Collect a page's console errors and uncaught exceptions into `list`. */
+export function collectErrors(page, list) {
+  page.on('console', (m) => {
+    if (m.type() === 'error') list.push(m.text());
+  });
+  page.on('pageerror', (e) => list.push(String(e)));
+}

@@ -18,7 +18,7 @@ import { pathToFileURL } from 'node:url';
 import { chromium } from 'playwright-core';
 
 import { answer, assertMatchesCli, firstTrace, pageScenario, tracedAfter } from './design-helpers.mjs';
-import { CHROMIUM, CHROMIUM_ARGS, CLI, OUT, ROOT, WWW } from './harness.mjs';
+import { CHROMIUM, CHROMIUM_ARGS, CLI, OUT, ROOT, WWW, collectErrors } from './harness.mjs';
 
 const SINGLE = join(ROOT, 'dist', 'tirtrace.html');
 const SINGLE_URL = pathToFileURL(SINGLE).href;
@@ -29,12 +29,7 @@ describe('the single-file page opened from disk', { concurrency: false }, () => 
   const requests = [];
   const consoleErrors = [];
 
-  const watch = (p) => {
-    p.on('console', (m) => {
-      if (m.type() === 'error') consoleErrors.push(m.text());
-    });
-    p.on('pageerror', (e) => consoleErrors.push(String(e)));
-  };
+  const watch = (p) => collectErrors(p, consoleErrors);
 
   before(async () => {
     assert.ok(existsSync(SINGLE), 'dist/tirtrace.html is missing: run `bash scripts/build.sh` first');

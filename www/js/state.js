@@ -1,6 +1,10 @@
 // The page's state: what the user typed (kept verbatim, so nothing is lost on reload) and the
 // quick-look design document built from it (the same JSON the native command line reads).
 
+import { parseNumber } from './numbers.js';
+
+export { parseNumber };
+
 const STORAGE_KEY = 'tirtrace.quick-look.entries.v1';
 
 /** The example the page starts from (invented values: a 3 mm acrylic pipe round a 90° bend). */
@@ -17,19 +21,6 @@ export const EXAMPLE_ENTRIES = Object.freeze({
   bend_inner_radius_mm: '6',
   bend_angle_deg: '90',
 });
-
-/**
- * Read a number the way a person types it: surrounding spaces, a leading sign, a decimal comma
- * or point, an exponent. Anything else (empty text included) is NaN, which the core's
- * validation reports as "not a number" against the field.
- */
-export function parseNumber(text) {
-  if (typeof text !== 'string') return Number.NaN;
-  let t = text.trim().replace(/\u2212/g, '-');
-  if (!t.includes('.') && (t.match(/,/g) || []).length === 1) t = t.replace(',', '.');
-  if (!/^[+-]?(\d+\.?\d*|\.\d+)([eE][+-]?\d+)?$/.test(t)) return Number.NaN;
-  return Number(t);
-}
 
 function constant(text) {
   return { custom: { model: 'constant', n: parseNumber(text) } };

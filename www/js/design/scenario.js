@@ -2,6 +2,10 @@
 // the text the user typed into each number field (kept verbatim so nothing typed is lost), and
 // the chosen length unit. Plus keeping it: local storage, files, and share links.
 
+import { parseNumber } from '../numbers.js';
+
+export { parseNumber };
+
 const STORAGE_KEY = 'tirtrace.design.v1';
 
 export const MM_PER_INCH = 25.4;
@@ -78,18 +82,6 @@ export function setAt(obj, path, value) {
 export const isLength = (path) => /_mm(\[\d+\])?$/.test(path);
 
 // ---------------------------------------------------------------- numbers
-
-/**
- * Read a number the way a person types it: surrounding spaces, a leading sign, a decimal comma
- * or point, an exponent. Anything else (empty text included) is NaN.
- */
-export function parseNumber(text) {
-  if (typeof text !== 'string') return Number.NaN;
-  let t = text.trim().replace(/\u2212/g, '-');
-  if (!t.includes('.') && (t.match(/,/g) || []).length === 1) t = t.replace(',', '.');
-  if (!/^[+-]?(\d+\.?\d*|\.\d+)([eE][+-]?\d+)?$/.test(t)) return Number.NaN;
-  return Number(t);
-}
 
 /** A stored value shown in the chosen unit, without trailing noise (e.g. 0.1181 in). */
 export function showNumber(value, path, unit) {

@@ -11,7 +11,7 @@
 //   import * as core from '../../pkg/tirtrace.js';
 //   const pool = new MainThreadPool({ Tracer: core.Tracer, onUpdate: (u) => show(u) });
 
-import { MERGE_DUTY, MIN_MERGE_INTERVAL_MS, declaredRays } from './pool.js';
+import { MERGE_DUTY, MIN_MERGE_INTERVAL_MS, declaredRays, deliverUpdate } from './pool.js';
 
 /** Longest stretch of tracing before the page gets its thread back (ms); one batch may exceed it. */
 const SLICE_MS = 40;
@@ -181,29 +181,7 @@ export class MainThreadPool {
   }
 
   #emit(job, { done, cancelled, error = null }) {
-    const elapsedMs = performance.now() - job.startedAt;
-    const raysDone = job.report?.rays ?? 0;
-    const update = {
-      job: job.id,
-      report: job.report,
-      batchesDone: job.reportBatches,
-      batchCount: job.batchCount ?? 0,
-      raysDone,
-      raysTotal: this.#raysTotal(job),
-      done,
-      cancelled,
-      error,
-      firstAnswerMs: job.firstAnswerMs,
-      elapsedMs,
-      raysPerSecond: elapsedMs > 0 ? (raysDone * 1000) / elapsedMs : 0,
-    };
-    try {
-      this.#onUpdate(update);
-    } catch (e) {
-      // The page's handler failed: report it as uncaught, but keep tracing.
-      setTimeout(() => {
-        throw e;
-      });
-    }
+    deliverUpdate(this.#onUpdate, job, this.#raysTotal(job), { done, cancelled, error });
   }
+
 }

@@ -53,6 +53,37 @@ export function declaredRays(scenarioJson) {
   }
 }
 
+/**
+ * Build the update of `job` (see the top of this file) and hand it to the page's `onUpdate`; a
+ * handler that throws is reported as uncaught without stopping the pool. Shared with the
+ * on-page tracer (main-thread-pool.js), whose jobs carry the same fields.
+ */
+export function deliverUpdate(onUpdate, job, raysTotal, { done, cancelled, error = null }) {
+  const elapsedMs = performance.now() - job.startedAt;
+  const raysDone = job.report?.rays ?? 0;
+  const update = {
+    job: job.id,
+    report: job.report,
+    batchesDone: job.reportBatches,
+    batchCount: job.batchCount ?? 0,
+    raysDone,
+    raysTotal,
+    done,
+    cancelled,
+    error,
+    firstAnswerMs: job.firstAnswerMs,
+    elapsedMs,
+    raysPerSecond: elapsedMs > 0 ? (raysDone * 1000) / elapsedMs : 0,
+  };
+  try {
+    onUpdate(update);
+  } catch (e) {
+    setTimeout(() => {
+      throw e;
+    });
+  }
+}
+
 export class TracePool {
   #size;
   #onUpdate;
@@ -373,29 +404,7 @@ export class TracePool {
   }
 
   #emit(job, { done, cancelled, error = null }) {
-    const elapsedMs = performance.now() - job.startedAt;
-    const raysDone = job.report?.rays ?? 0;
-    const update = {
-      job: job.id,
-      report: job.report,
-      batchesDone: job.reportBatches,
-      batchCount: job.batchCount ?? 0,
-      raysDone,
-      raysTotal: this.#raysTotal(job),
-      done,
-      cancelled,
-      error,
-      firstAnswerMs: job.firstAnswerMs,
-      elapsedMs,
-      raysPerSecond: elapsedMs > 0 ? (raysDone * 1000) / elapsedMs : 0,
-    };
-    try {
-      this.#onUpdate(update);
-    } catch (e) {
-      // The page's handler failed: report it as uncaught, but keep the pool's state going.
-      setTimeout(() => {
-        throw e;
-      });
-    }
+    deliverUpdate(this.#onUpdate, job, this.#raysTotal(job), { done, cancelled, error });
   }
+
 }

@@ -397,9 +397,6 @@ impl Placed {
                 }
                 // A ray inside the tube cannot travel further than the bounding sphere.
                 let t_hi = next_t(best).min(2.0 * (rc + radial_half.max(axial_half)) + 1.0);
-                let alpha = d.x * d.x + d.y * d.y;
-                let beta = o.x * d.x + o.y * d.y;
-                let gamma = o.x * o.x + o.y * o.y;
                 if self.round {
                     let a = radial_half;
                     if let Some(t) = torus_exit(o, d, rc, a, t_hi) {
@@ -412,6 +409,9 @@ impl Placed {
                         };
                     }
                 } else {
+                    let alpha = d.x * d.x + d.y * d.y;
+                    let beta = o.x * d.x + o.y * d.y;
+                    let gamma = o.x * o.x + o.y * o.y;
                     let mut t_best = t_hi;
                     let mut normal = DVec3::ZERO;
                     let r_out = rc + radial_half;
@@ -566,7 +566,13 @@ pub fn torus_exit(o: DVec3, d: DVec3, rc: f64, a: f64, t_hi: f64) -> Option<f64>
             // Heading in (every reflected ray): the exit is the first positive root of the
             // cubic p(t)/t. On the wall c = |o|² + rc² − a² = 2 rc ρ₀, also exactly.
             let b2 = 4.0 * (b * b + rc * rho0 - rc2 * alpha);
-            return cubic_exit(4.0 * b, b2, dp0, rho0, o, d, rc, a, t_hi);
+            // First guess: g(t) = (ρ − rc)² + z² − a² ≈ g'(0) t + g''(0) t²/2 with g(0) = 0,
+            // so t ≈ −2 g'(0)/g''(0); ρ' = β/ρ, ρ'' = (α − ρ'²)/ρ.
+            let drho = beta / rho0;
+            let e = rho0 - rc;
+            let dg = e * drho + o.z * d.z;
+            let ddg = drho * drho + e * (alpha - drho * drho) / rho0 + d.z * d.z;
+            return cubic_exit(4.0 * b, b2, dp0, -2.0 * dg / ddg, rc + a, t_hi);
         }
     }
     let coeffs = [
@@ -663,22 +669,13 @@ pub fn torus_exit(o: DVec3, d: DVec3, rc: f64, a: f64, t_hi: f64) -> Option<f64>
 /// minimum of q). Since q(0) < 0, the first positive root lies on the rising piece (0, s₁] when
 /// s₁ > 0 and q(s₁) > 0 (q is concave there), else on the rising, convex piece (max(s₂, 0), ∞).
 /// On that piece q is monotone, so the root is unique and a bracketed Halley iteration (Newton
-/// or bisection when a step would leave the bracket) finds it to rounding. The first guess is
-/// where the tube's distance function's second-order Taylor model at the start crosses zero,
-/// exact for a straight tube and within a hair of the root in a bend.
-#[allow(clippy::too_many_arguments)]
+/// or bisection when a step would leave the bracket) finds it to rounding. `guess` starts it (the
+/// caller gives where the tube's distance function's second-order Taylor model at the start
+/// crosses zero: exact for a straight tube, within a hair of the root in a bend; anything
+/// outside the piece, NaN included, starts from its middle). `size` (rc + a, mm) scales the
+/// bracket's width tolerance.
 #[inline]
-fn cubic_exit(
-    a2: f64,
-    a1: f64,
-    a0: f64,
-    rho0: f64,
-    o: DVec3,
-    d: DVec3,
-    rc: f64,
-    a: f64,
-    t_hi: f64,
-) -> Option<f64> {
+fn cubic_exit(a2: f64, a1: f64, a0: f64, guess: f64, size: f64, t_hi: f64) -> Option<f64> {
     let q = |t: f64| ((t + a2) * t + a1) * t + a0;
     let disc = a2 * a2 - 3.0 * a1;
     let (mut lo, mut hi) = (0.0, t_hi);
@@ -695,20 +692,12 @@ fn cubic_exit(
     if lo >= hi || q(hi) <= 0.0 {
         return None;
     }
-    // First guess: g(t) = (ρ − rc)² + z² − a² ≈ g'(0) t + g''(0) t²/2 with g(0) = 0, so
-    // t ≈ −2 g'(0)/g''(0); ρ' = β/ρ, ρ'' = (α − ρ'²)/ρ.
-    let alpha = d.x * d.x + d.y * d.y;
-    let drho = (o.x * d.x + o.y * d.y) / rho0;
-    let e = rho0 - rc;
-    let dg = e * drho + o.z * d.z;
-    let ddg = drho * drho + e * (alpha - drho * drho) / rho0 + d.z * d.z;
-    let guess = -2.0 * dg / ddg;
     let mut t = if guess > lo && guess < hi {
         guess
     } else {
         0.5 * (lo + hi)
     };
-    let tol = 4.0 * f64::EPSILON * (rc + a);
+    let tol = 4.0 * f64::EPSILON * size;
     for _ in 0..100 {
         let qt = q(t);
         if qt > 0.0 {

@@ -6,7 +6,7 @@
 //! This is what `tirtrace check` prints. Everything here is a pure function of the scenario;
 //! angles are radians inside and degrees in the serialised figures, indices are relative to air.
 //!
-//! Formulas (sources in `shared/REFERENCES.md`):
+//! Formulas (sources in `docs/REFERENCES.md`):
 //! - critical angle θc = asin(n_out/n_core) at the side wall (W. J. Smith, *Modern Optical
 //!   Engineering*, 4th ed., eq. 11.1–11.2; §2);
 //! - NA = √(n_core² − n_out²), acceptance n_gap sin θa = NA, saturating at 90° when NA ≥ n_gap
@@ -125,7 +125,7 @@ pub fn launch_half_angle_rad(source: &Source) -> f64 {
 ///
 /// Inner radius R_in = R_centre − d/2 with d the section's size across the bend there
 /// ([`bend_half_size_mm`]); the leak-free ratio is R_in/d ≥ n_out / (n_core cos θmax − n_out)
-/// ([`guide::leak_free_bend_ratio`], `shared/REFERENCES.md` §4).
+/// ([`guide::leak_free_bend_ratio`], `docs/REFERENCES.md` §4).
 pub fn bend_figures(
     start: Section,
     route: &[Segment],

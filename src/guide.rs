@@ -56,7 +56,7 @@ pub fn max_internal_angle_rad(n_core: f64, n_out: f64, n_front: f64, launch_rad:
 /// R_in n_core cos θmax ≥ (R_in + d) n_out  ⇔  R_in/d ≥ n_out / (n_core cos θmax − n_out).
 /// For a round rod bent into a torus the condition also holds for skew rays (angular momentum
 /// about the bend axis bounds their incidence angle). Derivation: geometric optics, see
-/// `shared/REFERENCES.md` §4; handbook axial form R_centre = t (n + 1)/(2 (n − 1)).
+/// `docs/REFERENCES.md` §4; handbook axial form R_centre = t (n + 1)/(2 (n − 1)).
 ///
 /// Returns `None` when n_core cos θmax ≤ n_out: no radius is leak-free.
 pub fn leak_free_bend_ratio(n_core: f64, n_out: f64, theta_max_rad: f64) -> Option<f64> {

@@ -340,7 +340,7 @@ fn bad_input_gives_one_line_naming_the_field() {
 }
 
 /// PMMA index, G. Beadie et al., Appl. Opt. 54, F139 (2015):
-/// n² = A0 + A1 λ² + A2 λ⁴ + A3 λ⁻² + A4 λ⁻⁴ + A5 λ⁻⁶ + A6 λ⁻⁸, λ in µm (shared/REFERENCES.md §1).
+/// n² = A0 + A1 λ² + A2 λ⁴ + A3 λ⁻² + A4 λ⁻⁴ + A5 λ⁻⁶ + A6 λ⁻⁸, λ in µm (docs/REFERENCES.md §1).
 fn pmma_beadie(lambda_um: f64) -> f64 {
     let a = [
         2.1778, 6.1209e-3, -1.5004e-3, 2.3678e-2, -4.2137e-3, 7.3417e-4, -4.5042e-5,
@@ -356,7 +356,7 @@ fn pmma_beadie(lambda_um: f64) -> f64 {
         .sqrt()
 }
 
-/// Leak-free bend, shared/REFERENCES.md §4 (derived; handbook axial form in the Engineering
+/// Leak-free bend, docs/REFERENCES.md §4 (derived; handbook axial form in the Engineering
 /// Plastics Handbook, McGraw-Hill 2006, ch. 1): R_in/d ≥ n_out / (n_core cos θmax − n_out).
 fn leak_free_ratio(n_core: f64, n_out: f64, theta_max: f64) -> Option<f64> {
     let denom = n_core * theta_max.cos() - n_out;
@@ -369,7 +369,7 @@ fn check_json(path: &str) -> Value {
 
 #[test]
 fn thermostat_bends_are_tighter_than_leak_free_for_a_lambertian_led() {
-    // The criterion itself against the computed table of shared/REFERENCES.md §4: n = 1.49 in
+    // The criterion itself against the computed table of docs/REFERENCES.md §4: n = 1.49 in
     // air, Lambertian launch from air (θair = 90°, sin θmax = 1/n): 9.562.
     let n = 1.49f64;
     let r = leak_free_ratio(n, 1.0, (1.0 / n).asin()).unwrap();
@@ -423,7 +423,7 @@ fn bend_figures_follow_the_taper_and_the_launch() {
     assert!((f(&b["size_across_mm"]) - 1.5).abs() < 1e-12);
     assert!((f(&b["inner_radius_mm"]) - 4.25).abs() < 1e-12);
     let n_core = f(&v["n_core"]);
-    let theta_max = (1.0 / n_core).asin(); // LED in air (REFERENCES §4)
+    let theta_max = (1.0 / n_core).asin(); // LED in air (docs/REFERENCES.md §4)
     let want = leak_free_ratio(n_core, 1.0, theta_max).unwrap();
     assert!((f(&b["leak_free_inner_radius_over_size"]) - want).abs() < 1e-9 * want);
     assert_eq!(
@@ -445,7 +445,7 @@ fn bend_figures_follow_the_taper_and_the_launch() {
     assert!((f(&b["inner_radius_over_size"]) - 19.5).abs() < 1e-12);
     assert!((f(&b["leak_free_inner_radius_over_size"]) - want).abs() < 1e-9 * want);
     assert_eq!(b["verdict"], if 19.5 >= want { "ok" } else { "leaks" });
-    // Acceptance n_gap sin θa = NA (Keiser; REFERENCES §3), not saturated in water.
+    // Acceptance n_gap sin θa = NA (Keiser; docs/REFERENCES.md §3), not saturated in water.
     let na = (n_core * n_core - n_out * n_out).sqrt();
     assert!((f(&v["numerical_aperture"]) - na).abs() < 1e-12);
     assert!(
@@ -454,14 +454,14 @@ fn bend_figures_follow_the_taper_and_the_launch() {
     assert_eq!(v["acceptance_saturated"], false);
 
     // Clad fibre: NA < 1, so a Lambertian LED in air fills the core up to its guiding limit,
-    // where n_core cos θmax = n_out: no leak-free radius exists (REFERENCES §4).
+    // where n_core cos θmax = n_out: no leak-free radius exists (docs/REFERENCES.md §4).
     let v = check_json(FIBRE);
     let (n_core, n_out) = (f(&v["n_core"]), f(&v["n_surroundings"]));
     assert_eq!(n_out, 1.402);
     assert!(n_core * n_core - n_out * n_out < 1.0);
     let limit = 90.0 - (n_out / n_core).asin().to_degrees();
     assert!((f(&v["max_internal_angle_deg"]) - limit).abs() < 1e-9);
-    // NA = √(1.492² − 1.402²) ≈ 0.5104 at 1.492 (REFERENCES §3), ~0.505 at 650 nm here.
+    // NA = √(1.492² − 1.402²) ≈ 0.5104 at 1.492 (docs/REFERENCES.md §3), ~0.505 at 650 nm here.
     assert!((f(&v["numerical_aperture"]) - 0.5104).abs() < 0.01);
     let bends = v["bends"].as_array().unwrap();
     assert_eq!(bends.len(), 3);
@@ -478,7 +478,7 @@ fn bend_figures_follow_the_taper_and_the_launch() {
 
 #[test]
 fn entry_fresnel_loss_is_the_normal_incidence_reflectance() {
-    // R = ((n1 − n2)/(n1 + n2))² (Born & Wolf §1.5; REFERENCES §2: 1.5 in air → 0.04).
+    // R = ((n1 − n2)/(n1 + n2))² (Born & Wolf §1.5; docs/REFERENCES.md §2: 1.5 in air → 0.04).
     for path in [THERMOSTAT, SOIL] {
         let v = check_json(path);
         let (n1, n2) = (f(&v["n_gap"]), f(&v["n_core"]));

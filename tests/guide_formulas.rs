@@ -1,5 +1,5 @@
 //! Closed-form guide results: NA, acceptance, Δ, the leak-free bend criterion, coupling,
-//! étendue. Check values: shared/REFERENCES.md §3–§5 with the sources named at each check.
+//! étendue. Check values: docs/REFERENCES.md §3–§5 with the sources named at each check.
 #![allow(clippy::disallowed_methods)] // checks may use std maths; the core uses libm
 #[cfg(target_arch = "wasm32")]
 use wasm_bindgen_test::wasm_bindgen_test as test;
@@ -12,14 +12,14 @@ use tirtrace::guide::*;
 #[test]
 fn numerical_aperture_and_acceptance() {
     // G. Keiser, Optical Fiber Communications: NA = √(n1² − n2²), n0 sin θa = NA; computed in
-    // REFERENCES §3. PMMA fibre 1.492 / cladding 1.402: NA 0.5104, θa 30.69°.
+    // docs/REFERENCES.md §3. PMMA fibre 1.492 / cladding 1.402: NA 0.5104, θa 30.69°.
     let na = numerical_aperture(1.492, 1.402);
     assert!((na - 0.5104).abs() < 5e-5, "{na}");
     assert!((acceptance_half_angle_rad(na, 1.0).to_degrees() - 30.69).abs() < 5e-3);
     // IEC 60793-2-40:2011 category A4a plastic fibre: NA 0.50 (theoretical): these indices sit
     // within the category's ±0.03 tolerance (standard's tolerance from memory).
     assert!((na - 0.50).abs() < 0.03);
-    // Unclad 1.49 in water (1.333): NA 0.6657, θa 41.74° (REFERENCES §3, computed).
+    // Unclad 1.49 in water (1.333): NA 0.6657, θa 41.74° (docs/REFERENCES.md §3, computed).
     let na = numerical_aperture(1.49, 1.333);
     assert!((na - 0.6657).abs() < 5e-5, "{na}");
     assert!((acceptance_half_angle_rad(na, 1.0).to_degrees() - 41.74).abs() < 5e-3);
@@ -50,7 +50,7 @@ fn relative_index_difference_matches_definition_and_na() {
 
 #[test]
 fn leak_free_bend_table() {
-    // REFERENCES §4 (derived; handbook form in Engineering Plastics Handbook, McGraw-Hill 2006,
+    // docs/REFERENCES.md §4 (derived; handbook form in Engineering Plastics Handbook, McGraw-Hill 2006,
     // ch. 1): R_in/d for a guide in air launched from air; printed to 4 significant figures.
     // (n, axial, 15°, 30°, 60°, fully filled from air = 90°)
     let rows = [
@@ -73,7 +73,7 @@ fn leak_free_bend_table() {
 #[test]
 fn axial_bend_equals_handbook_centre_line_form() {
     // Centre-line R_min = t (n + 1) / (2 (n − 1)) (Engineering Plastics Handbook, McGraw-Hill
-    // 2006, ch. 1) equals R_in + d/2 with R_in = d/(n − 1) (REFERENCES §4).
+    // 2006, ch. 1) equals R_in + d/2 with R_in = d/(n − 1) (docs/REFERENCES.md §4).
     for n in [1.3, 1.4585, 1.49, 1.586, 2.0] {
         let r_in = leak_free_bend_ratio(n, 1.0, 0.0).unwrap();
         assert!((r_in + 0.5 - (n + 1.0) / (2.0 * (n - 1.0))).abs() < 1e-12);
@@ -83,7 +83,7 @@ fn axial_bend_equals_handbook_centre_line_form() {
 
 #[test]
 fn guide_filled_to_its_critical_angle_has_no_leak_free_radius() {
-    // REFERENCES §4: a clad fibre's bound rays fill it to its critical angle: every bend leaks.
+    // docs/REFERENCES.md §4: a clad fibre's bound rays fill it to its critical angle: every bend leaks.
     let (n1, n2) = (1.492, 1.402);
     // Lambertian launch from air overfills a fibre of NA 0.51: capped at the guiding limit.
     let theta = max_internal_angle_rad(n1, n2, 1.0, FRAC_PI_2);
@@ -123,7 +123,7 @@ fn lambertian_coupling_keiser() {
 
 #[test]
 fn cos_power_emitters() {
-    // m = −ln 2 / ln cos θ½: θ½ = 60° is Lambertian, m = 1 (REFERENCES §5, memory; I. Moreno,
+    // m = −ln 2 / ln cos θ½: θ½ = 60° is Lambertian, m = 1 (docs/REFERENCES.md §5, memory; I. Moreno,
     // C.-C. Sun, Opt. Express 16, 1808 (2008)).
     assert!((cos_power_exponent(60f64.to_radians()) - 1.0).abs() < 1e-12);
     // Narrower beams have larger m, and I(θ½) = ½ by construction.
@@ -156,7 +156,7 @@ fn cos_power_emitters() {
 #[test]
 fn etendue() {
     // G = π A n² sin² θ; 1 mm² Lambertian in air: π mm²·sr (R. Winston, J. C. Miñano,
-    // P. Benítez, Nonimaging Optics, 2005; REFERENCES §5, memory).
+    // P. Benítez, Nonimaging Optics, 2005; docs/REFERENCES.md §5, memory).
     assert!((etendue_mm2_sr(1.0, 1.0, FRAC_PI_2) - PI).abs() < 1e-12);
     // Conservation across a flat interface: A n² sin² θ is invariant under Snell's law.
     let (n0, n1, t0) = (1.0, 1.49, 0.6f64);

@@ -1,5 +1,5 @@
 //! Refractive-index models and the material library against published values.
-//! Spot values are those of shared/REFERENCES.md §1, computed there from the cited coefficients.
+//! Spot values are those of docs/REFERENCES.md §1, computed there from the cited coefficients.
 #![allow(clippy::disallowed_methods)] // checks may use std maths; the core uses libm
 #[cfg(target_arch = "wasm32")]
 use wasm_bindgen_test::wasm_bindgen_test as test;
@@ -29,7 +29,7 @@ fn check_spots(id: &str, expected: [f64; 5]) {
 
 #[test]
 fn fused_silica_malitson_1965() {
-    // I. H. Malitson, J. Opt. Soc. Am. 55, 1205 (1965); spot values computed (REFERENCES §1).
+    // I. H. Malitson, J. Opt. Soc. Am. 55, 1205 (1965); spot values computed (docs/REFERENCES.md §1).
     check_spots(
         "fused_silica",
         [1.46313, 1.45846, 1.45702, 1.45637, 1.45250],
@@ -38,14 +38,14 @@ fn fused_silica_malitson_1965() {
 
 #[test]
 fn pmma_beadie_2015() {
-    // G. Beadie et al., Appl. Opt. 54, F139 (2015); spot values computed (REFERENCES §1).
+    // G. Beadie et al., Appl. Opt. 54, F139 (2015); spot values computed (docs/REFERENCES.md §1).
     check_spots("pmma", [1.49836, 1.49253, 1.49082, 1.49007, 1.48591]);
 }
 
 #[test]
 fn polycarbonate_sultanova_fit() {
     // N. Sultanova, S. Kasarova, I. Nikolov, Acta Phys. Pol. A 116, 585 (2009), one-term
-    // Sellmeier fit; spot values computed (REFERENCES §1).
+    // Sellmeier fit; spot values computed (docs/REFERENCES.md §1).
     check_spots(
         "polycarbonate",
         [1.59960, 1.58476, 1.58047, 1.57861, 1.56885],
@@ -55,7 +55,7 @@ fn polycarbonate_sultanova_fit() {
 #[test]
 fn water_daimon_masumura_2007_absolute() {
     // M. Daimon, A. Masumura, Appl. Opt. 46, 3811 (2007), 20.0 °C, absolute; computed
-    // (REFERENCES §1).
+    // (docs/REFERENCES.md §1).
     check_spots("water", [1.33749, 1.33340, 1.33211, 1.33151, 1.32777]);
     assert_eq!(library::find("water").unwrap().basis, IndexBasis::Vacuum);
 }
@@ -63,7 +63,7 @@ fn water_daimon_masumura_2007_absolute() {
 #[test]
 fn water_relative_to_air_matches_refractometry() {
     // Water relative to air at 589 nm, 20 °C: 1.33299 (refractometry reference value,
-    // REFERENCES §1). Our conversion divides by standard air (Ciddor 1996, 15 °C), which differs
+    // docs/REFERENCES.md §1). Our conversion divides by standard air (Ciddor 1996, 15 °C), which differs
     // from 20 °C air by ~1e-5; allow 1e-4.
     let n = MaterialChoice::library("water")
         .n_rel_air(589.0, "material")
@@ -76,7 +76,7 @@ fn water_relative_to_air_matches_refractometry() {
 
 #[test]
 fn standard_air_index() {
-    // n_air − 1 ≈ 2.7e-4 in the visible (REFERENCES §1, memory; P. E. Ciddor, Appl. Opt. 35,
+    // n_air − 1 ≈ 2.7e-4 in the visible (docs/REFERENCES.md §1, memory; P. E. Ciddor, Appl. Opt. 35,
     // 1566 (1996) gives 2.77e-4 at 589 nm for standard air, from memory).
     let n = n_standard_air(0.589);
     assert!((n - 1.000277).abs() < 5e-6, "{n}");
@@ -101,7 +101,7 @@ fn abbe(id: &str) -> f64 {
 
 #[test]
 fn abbe_numbers() {
-    // Fused silica V_d = 67.82, computed from Malitson (REFERENCES §1).
+    // Fused silica V_d = 67.82, computed from Malitson (docs/REFERENCES.md §1).
     assert!(
         (abbe("fused_silica") - 67.82).abs() < 0.01,
         "{}",

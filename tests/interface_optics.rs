@@ -1,5 +1,5 @@
 //! Snell, reflection, Fresnel, critical and Brewster angles.
-//! Check values: shared/REFERENCES.md §2, computed there in double precision from the Fresnel
+//! Check values: docs/REFERENCES.md §2, computed there in double precision from the Fresnel
 //! equations of W. J. Smith, Modern Optical Engineering, 4th ed., eqs. 11.1–11.2, and M. Born,
 //! E. Wolf, Principles of Optics, §1.5.
 #![allow(clippy::disallowed_methods)] // checks may use std maths; the core uses libm
@@ -20,7 +20,7 @@ fn cos_deg(a: f64) -> f64 {
 
 #[test]
 fn fresnel_reference_table() {
-    // (n_i, n_t, θi°, R_s, R_p, R) — REFERENCES §2 (Smith eqs. 11.1–11.2), tolerance 1e-6.
+    // (n_i, n_t, θi°, R_s, R_p, R) — docs/REFERENCES.md §2 (Smith eqs. 11.1–11.2), tolerance 1e-6.
     let rows = [
         (1.0, 1.5, 0.0, 0.040000, 0.040000, 0.040000),
         (1.0, 1.5, 45.0, 0.092013, 0.008466, 0.050240),
@@ -45,7 +45,7 @@ fn fresnel_reference_table() {
 
 #[test]
 fn index_reference_table() {
-    // (n, R at 0°, Brewster °, critical °) — REFERENCES §2, tolerance 1e-6 (R) and 1e-4°.
+    // (n, R at 0°, Brewster °, critical °) — docs/REFERENCES.md §2, tolerance 1e-6 (R) and 1e-4°.
     let rows = [
         (1.333, 0.020373, 53.1232, 48.6066),
         (1.49, 0.038725, 56.1328, 42.1552),

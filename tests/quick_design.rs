@@ -121,7 +121,7 @@ fn unknown_fields_and_wrong_types_are_refused() {
 #[test]
 fn figures_of_an_acrylic_pipe_in_air() {
     // PMMA at 587.56 nm: n = 1.49253 (Beadie et al., Appl. Opt. 54, F139 (2015), computed,
-    // REFERENCES §1); critical angle asin(1/n); normal-incidence Fresnel ((n−1)/(n+1))².
+    // docs/REFERENCES.md §1); critical angle asin(1/n); normal-incidence Fresnel ((n−1)/(n+1))².
     let d = QuickDesign {
         wavelength_nm: 587.56,
         launch_half_angle_deg: 0.0,
@@ -135,7 +135,7 @@ fn figures_of_an_acrylic_pipe_in_air() {
     assert!(f.acceptance_saturated);
     assert_eq!(f.acceptance_half_angle_deg, 90.0);
     assert_eq!(f.lambertian_coupling, 1.0);
-    // Axial launch: R_in = d/(n − 1) (REFERENCES §4).
+    // Axial launch: R_in = d/(n − 1) (docs/REFERENCES.md §4).
     let r = f.leak_free_ratio.unwrap();
     assert!((r - 1.0 / (f.n_core - 1.0)).abs() < 1e-12);
     assert!((f.leak_free_inner_radius_mm.unwrap() - r * d.diameter_mm).abs() < 1e-12);
@@ -158,7 +158,7 @@ fn clad_fibre_overfilled_has_no_leak_free_radius() {
     assert_eq!(f.leak_free_inner_radius_mm, None);
     assert!(f.bend_leaks);
     assert!(f.leak_free_note.contains("no leak-free radius exists"));
-    // NA 0.5104 → acceptance 30.69° in air (REFERENCES §3).
+    // NA 0.5104 → acceptance 30.69° in air (docs/REFERENCES.md §3).
     assert!((f.acceptance_half_angle_deg - 30.69).abs() < 5e-3);
     assert!(!f.acceptance_saturated);
 }
@@ -174,7 +174,7 @@ fn escaped(d: &QuickDesign, rays: usize) -> usize {
 
 #[test]
 fn ray_fan_obeys_the_meridional_bend_criterion() {
-    // The 2D fan is exactly the meridional case of the criterion (REFERENCES §4): no ray
+    // The 2D fan is exactly the meridional case of the criterion (docs/REFERENCES.md §4): no ray
     // escapes at 1.01× the leak-free radius (3001 rays), and at 0.99× even the page's 25-ray
     // fan shows escaping light, because its edge rays are aimed at the worst case.
     for (material, launch) in [

@@ -1,5 +1,5 @@
 //! The Monte Carlo tracer against closed-form optics and its own invariants.
-//! Sources are named at each check; shared/REFERENCES.md holds the check values.
+//! Sources are named at each check; docs/REFERENCES.md holds the check values.
 #![allow(clippy::disallowed_methods)] // checks may use std maths; the core uses libm
 #[cfg(target_arch = "wasm32")]
 use wasm_bindgen_test::wasm_bindgen_test as test;
@@ -46,7 +46,7 @@ fn round_guide(
 
 #[test]
 fn lossless_straight_guide_leaks_nothing_it_accepted() {
-    // An unclad PMMA rod in air (n ≥ √2) guides every ray that enters from air (REFERENCES §3,
+    // An unclad PMMA rod in air (n ≥ √2) guides every ray that enters from air (docs/REFERENCES.md §3,
     // derived: NA = √(n² − 1) ≥ 1);
     // a clad guide fed by a beam inside its acceptance cone (NA 0.51 → 30.69°, Keiser) likewise.
     let cases = [
@@ -168,7 +168,7 @@ fn skew_rays_follow_the_ray_invariants() {
 /// A 2 mm PMMA rod in air with a 90° bend turning towards 30° about the axis, its inner radius
 /// `ratio_factor` × the leak-free value for `launch_deg` from air, after a lead-in of `lead_mm`.
 /// The exit face is bonded to an index-matched window so no light is reflected back into the
-/// bend with the steeper angles the bend gave it (REFERENCES §4, caution).
+/// bend with the steeper angles the bend gave it (docs/REFERENCES.md §4, caution).
 fn bend_case(
     ratio_factor: f64,
     emitter: Value,
@@ -216,7 +216,7 @@ fn bend_leak(r: &TraceReport) -> tirtrace::stats::Share {
 #[test]
 fn bend_criterion_axial_launch() {
     // R_in/d ≥ n_out/(n_core cos θmax − n_out) keeps every ray totally reflected through a
-    // circular bend (REFERENCES §4, derived; axial form R_in = d/(n − 1), Engineering Plastics
+    // circular bend (docs/REFERENCES.md §4, derived; axial form R_in = d/(n − 1), Engineering Plastics
     // Handbook, McGraw-Hill 2006, ch. 1). Collimated axial beam filling the face.
     let beam = json!({"beam": {"diameter_mm": 1.98, "divergence_half_angle_deg": 0.0}});
     let (r, _) = bend_case(1.01, beam.clone(), [0.0, 0.0], 0.0, 4.0, 30_000);
@@ -235,12 +235,12 @@ fn bend_criterion_axial_launch() {
 
 #[test]
 fn bend_criterion_lambertian_from_air_with_skew_rays() {
-    // The same criterion with θmax from a Lambertian LED in air, sin θmax = 1/n (REFERENCES §4):
+    // The same criterion with θmax from a Lambertian LED in air, sin θmax = 1/n (docs/REFERENCES.md §4):
     // exact for skew rays too in a torus (angular momentum about the bend axis). A wide LED
     // after a lead-in sends mostly skew rays: nothing may leak at 1.01×.
     let wide = json!({"led": {"area": {"disk": {"diameter_mm": 1.6}}, "pattern": "lambertian"}});
     let (r, ratio) = bend_case(1.01, wide, [0.3, -0.2], 90.0, 4.0, 200_000);
-    // Closed form for a launch from air filling the face: 1/(√(n² − 1) − 1) (REFERENCES §4).
+    // Closed form for a launch from air filling the face: 1/(√(n² − 1) − 1) (docs/REFERENCES.md §4).
     let n = r.n_core;
     assert!(
         (ratio - 1.0 / ((n * n - 1.0).sqrt() - 1.0)).abs() < 1e-9,
@@ -276,7 +276,7 @@ fn bend_criterion_lambertian_from_air_with_skew_rays() {
 #[test]
 fn beer_lambert_on_an_axial_beam() {
     // Beer–Lambert, P = P₀ e^(−αL), loss in dB = 10 log10(e) αL = 4.343 αL (the definition of
-    // attenuation in dB, e.g. G. Keiser, Optical Fiber Communications, ch. 3; REFERENCES §6,
+    // attenuation in dB, e.g. G. Keiser, Optical Fiber Communications, ch. 3; docs/REFERENCES.md §6,
     // computed). Index-matched faces: no Fresnel
     // loss, so every ray leaves with exactly 10^(−A L / 10) of its power.
     let n = 1.49;
@@ -364,7 +364,7 @@ fn outputs_add_up_to_the_delivered_share() {
 fn rectangular_bend_criterion_across_width_and_height() {
     // A rectangular bar's bend walls are two cylinders about the bend axis and two planes
     // normal to it: neither turns a ray about that axis, so the angular momentum argument of
-    // REFERENCES §4 holds and the criterion is exact with d the size across the bend.
+    // docs/REFERENCES.md §4 holds and the criterion is exact with d the size across the bend.
     let n = tirtrace::index::library::MaterialChoice::library("pmma")
         .n_rel_air(587.56, "m")
         .unwrap();
@@ -399,7 +399,7 @@ fn rectangular_bend_criterion_across_width_and_height() {
 #[test]
 fn narrowing_taper_obeys_etendue() {
     // Étendue is conserved in lossless optics (R. Winston, J. C. Miñano, P. Benítez, Nonimaging
-    // Optics, 2005; REFERENCES §5): light entering a face of area A_in from air, filling the
+    // Optics, 2005; docs/REFERENCES.md §5): light entering a face of area A_in from air, filling the
     // hemisphere, can leave a face of area A_out into air only up to A_out/A_in of it.
     // A 3 mm PMMA rod narrowing to 1.5 mm: at most a quarter of what entered comes out; the
     // same taper the other way round (widening) loses nothing to its walls.

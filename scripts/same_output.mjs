@@ -1,0 +1,187 @@
+// Writes everything the command line and the page-facing wasm exports answer for the examples,
+// for variants that reach the parts the examples do not, and for a few thousand broken
+// documents (every number, every field and every extra key of every example), one file per
+// question, so that two builds can be compared byte for byte (scripts/same_output.sh).
+//
+// Usage: node scripts/same_output.mjs OUT_DIR CLI PKG_DIR
+//   CLI      the native command line (target/release/tirtrace of the build)
+//   PKG_DIR  the wasm-bindgen output of the same build (tirtrace.js, tirtrace_bg.wasm)
+
+import { spawnSync } from 'node:child_process';
+import { mkdirSync, readdirSync, readFileSync, writeFileSync } from 'node:fs';
+import { join, resolve } from 'node:path';
+import { pathToFileURL } from 'node:url';
+
+const [outDir, cli, pkgDir] = process.argv.slice(2).map((p) => resolve(p));
+const ROOT = resolve(import.meta.dirname, '..');
+const wasm = await import(pathToFileURL(join(pkgDir, 'tirtrace.js')));
+wasm.initSync({ module: readFileSync(join(pkgDir, 'tirtrace_bg.wasm')) });
+
+mkdirSync(outDir, { recursive: true });
+let written = 0;
+function put(name, text) {
+  writeFileSync(join(outDir, name.replace(/[^A-Za-z0-9_.-]+/g, '_')), text);
+  written += 1;
+}
+
+/** The command line's answer: exit code, standard output and standard error, as one text. */
+function run(args, input) {
+  const r = spawnSync(cli, args, { input, encoding: 'utf8', maxBuffer: 1 << 28 });
+  return `exit ${r.status}\n--- stdout\n${r.stdout}--- stderr\n${r.stderr}`;
+}
+
+/** A wasm call's answer as text: the value as JSON, or the thrown message. */
+function ask(f) {
+  try {
+    const value = f();
+    return `ok\n${typeof value === 'string' ? value : JSON.stringify(value, null, 1)}\n`;
+  } catch (e) {
+    return `threw\n${e && e.message !== undefined ? e.message : String(e)}\n`;
+  }
+}
+
+const read = (dir) => readdirSync(join(ROOT, dir)).filter((f) => f.endsWith('.json')).sort()
+  .map((f) => [f.replace(/\.json$/, ''), JSON.parse(readFileSync(join(ROOT, dir, f), 'utf8'))]);
+const scenarios = read('examples/scenarios');
+const designs = read('examples/designs');
+
+// Variants that reach what the examples do not (the same as the wasm-vs-native browser test).
+const base = Object.fromEntries(scenarios).thermostat_status_led;
+scenarios.push(
+  ['variant_table_led', {
+    ...base,
+    source: { ...base.source, tilt_deg: 12, tilt_toward_deg: 200, offset_mm: [0.3, -0.2],
+      emitter: { led: { area: { disk: { diameter_mm: 0.8 } },
+        pattern: { table: { points: [[0, 1], [20, 0.95], [45, 0.6], [70, 0.15], [85, 0]] } } } } },
+  }],
+  ['variant_rect_taper', {
+    ...base,
+    guide: { section: { rectangular: { width_mm: 4, height_mm: 2 } }, material: { library: 'polycarbonate' },
+      surroundings: { library: 'air' }, attenuation_db_per_m: 2,
+      contacts: [{ segment: 1, from_mm: 0, to_mm: 3, sector_from_deg: 80, sector_to_deg: 100,
+        medium: { library: 'pdms' } }] },
+    route: [{ straight: { length_mm: 4 } },
+      { taper: { length_mm: 8, end_section: { rectangular: { width_mm: 3, height_mm: 1.5 } } } },
+      { bend: { radius_mm: 6, angle_deg: 75, turn_deg: 90 } }, { straight: { length_mm: 5 } }],
+    receiver: { width_mm: 5, height_mm: 3, distance_mm: 2 },
+  }],
+  ['variant_gel_beam', {
+    ...base,
+    source: { ...base.source, gap_mm: 0.5, gap_medium: { custom: { model: 'constant', n: 1.7 } },
+      emitter: { beam: { diameter_mm: 2.5, divergence_half_angle_deg: 35 } } },
+  }],
+  ['variant_cos_m_mw', {
+    ...base,
+    source: { ...base.source, flux: { mw: 3 },
+      emitter: { led: { area: { square: { side_mm: 0.5 } }, pattern: { half_intensity_deg: 40 } } } },
+    guide: { ...base.guide, exit_medium: { library: 'water' } },
+  }],
+);
+
+/** Every variation of a document that breaks it one place at a time. */
+function* broken(doc) {
+  function* walk(node, path) {
+    if (Array.isArray(node)) {
+      for (let i = 0; i < node.length; i++) yield* walk(node[i], [...path, i]);
+      yield [[...path, node.length], 1, 'appended'];
+      return;
+    }
+    if (node && typeof node === 'object') {
+      for (const key of Object.keys(node)) {
+        yield [[...path, key], undefined, 'removed'];
+        yield* walk(node[key], [...path, key]);
+      }
+      yield [[...path, 'extra_field'], 1, 'unknown'];
+      return;
+    }
+    const values = typeof node === 'number'
+      ? [-1, 0, 0.5, 1e12, -1e-9, 1.5, 2 ** 53, 'x', null, true]
+      : [1, 'no such thing', '', null, { a: 1 }];
+    for (const v of values) yield [path, v, `= ${JSON.stringify(v)}`];
+  }
+  for (const [path, value, what] of walk(doc, [])) {
+    const copy = structuredClone(doc);
+    let node = copy;
+    for (const k of path.slice(0, -1)) node = node[k];
+    const last = path[path.length - 1];
+    if (value === undefined) {
+      if (Array.isArray(node)) node.splice(last, 1); else delete node[last];
+    } else {
+      node[last] = value;
+    }
+    yield [`${path.join('.')} ${what}`, copy];
+  }
+}
+
+// The command line's fixed questions.
+put('cli_materials', run(['materials']));
+put('cli_no_such_file', run(['check', '/no/such/file.json']));
+put('cli_not_json', run(['check', '-'], '{ not json'));
+put('cli_empty', run(['check', '-'], ''));
+const thermostat = JSON.stringify(base);
+for (const flags of [['--rays', '-1'], ['--rays', '0'], ['--rays', '2000000000'], ['--rays', 'x'],
+  ['--paths', '5000'], ['--threads', '5000'], ['--seed', '-3'], ['--bogus']]) {
+  put(`cli_trace_flags ${flags.join(' ')}`, run(['trace', '-', ...flags], thermostat));
+}
+put('wasm_materials', ask(() => wasm.materials()));
+
+for (const [name, doc] of designs) {
+  const text = JSON.stringify(doc);
+  put(`design ${name} cli`, run(['figures', '-'], text));
+  put(`design ${name} wasm_validate`, ask(() => wasm.validate(doc)));
+  put(`design ${name} wasm_figures`, ask(() => wasm.figures(doc)));
+  put(`design ${name} wasm_fan`, ask(() => wasm.bend_fan(doc, 15)));
+  for (const [what, bad] of broken(doc)) {
+    put(`design ${name} broken ${what} cli`, run(['figures', '-'], JSON.stringify(bad)));
+    put(`design ${name} broken ${what} wasm`,
+      ask(() => [wasm.validate(bad), ask(() => wasm.figures(bad)), ask(() => wasm.bend_fan(bad, 5))]));
+  }
+}
+
+for (const [name, doc] of scenarios) {
+  const text = JSON.stringify(doc);
+  const small = JSON.stringify({ ...doc, trace: { ...(doc.trace || {}), rays: 3 * 4096 + 17, seed: 99 } });
+  if (!name.startsWith('variant')) {
+    put(`scenario ${name} cli_trace_json`, run(['trace', '-', '--threads', '2'], text));
+    put(`scenario ${name} cli_trace_csv`, run(['trace', '-', '--csv'], text));
+  }
+  put(`scenario ${name} cli_small_json_paths`, run(['trace', '-', '--paths', '25'], small));
+  put(`scenario ${name} cli_small_csv`, run(['trace', '-', '--csv', '--threads', '1'], small));
+  put(`scenario ${name} cli_check`, run(['check', '-'], text));
+  put(`scenario ${name} wasm_check_scenario`, ask(() => wasm.check_scenario(text)));
+  put(`scenario ${name} wasm_closed_form`, ask(() => wasm.closed_form(text)));
+  put(`scenario ${name} wasm_route_outline`, ask(() => wasm.route_outline(text)));
+  const tracer = new wasm.Tracer(small);
+  const count = tracer.batch_count();
+  const report = tracer.report(0, count, 25);
+  put(`scenario ${name} wasm_report`, ask(() => report));
+  put(`scenario ${name} wasm_report_csv`, ask(() => wasm.report_csv(report)));
+  put(`scenario ${name} wasm_first_batch`, ask(() => tracer.report(0, 1, 0)));
+  put(`scenario ${name} wasm_batches_merged`,
+    ask(() => tracer.report_merged([...tracer.batches(0, 2, 3), ...tracer.batches(2, count - 2, 3)])));
+  put(`scenario ${name} wasm_merger`, ask(() => {
+    const out = [];
+    const batches = tracer.batches(0, count, 2);
+    for (const i of [1, 0, 3, 2]) {
+      tracer.merger_add(i, batches[i]);
+      out.push(ask(() => tracer.merger_report(count)));
+    }
+    tracer.merger_reset();
+    return out;
+  }));
+  put(`scenario ${name} wasm_wall_interactions`, ask(() => tracer.wall_interactions(1, 2)));
+  put(`scenario ${name} wasm_tracer_errors`, ask(() => [
+    ask(() => tracer.report(count, 1, 0)), ask(() => tracer.report(0.5, 1, 0)),
+    ask(() => tracer.report(0, 1, 1e9)), ask(() => tracer.report_merged([])),
+    ask(() => tracer.report_merged([{ nonsense: 1 }])), ask(() => wasm.report_csv({ delivered: 1 })),
+  ]));
+  tracer.free();
+  for (const [what, bad] of broken(doc)) {
+    const badText = JSON.stringify(bad);
+    put(`scenario ${name} broken ${what} cli`, run(['check', '-'], badText));
+    put(`scenario ${name} broken ${what} wasm`, ask(() => [wasm.check_scenario(badText),
+      ask(() => wasm.closed_form(badText)), ask(() => wasm.route_outline(badText)),
+      ask(() => { const t = new wasm.Tracer(badText); const n = t.batch_count(); t.free(); return n; })]));
+  }
+}
+console.error(`[same_output] ${written} answers written to ${outDir}`);

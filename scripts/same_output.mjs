@@ -73,7 +73,7 @@ scenarios.push(
   ['variant_cos_m_mw', {
     ...base,
     source: { ...base.source, flux: { mw: 3 },
-      emitter: { led: { area: { square: { side_mm: 0.5 } }, pattern: { half_intensity_deg: 40 } } } },
+      emitter: { led: { area: { square: { side_mm: 0.5 } }, pattern: { half_intensity: { half_angle_deg: 40 } } } } },
     guide: { ...base.guide, exit_medium: { library: 'water' } },
   }],
 );

@@ -1,6 +1,8 @@
 #!/usr/bin/env bash
-# Run every test: format and lint, native core tests, the same core tests in wasm (Node), and the
-# real-browser end-to-end tests of the page (headless Chromium). Installs what is missing first.
+# Run every test: format and lint, the native core tests, the same core tests compiled to wasm and
+# run in headless Chromium (wasm-bindgen-test with chromedriver), and the real-browser end-to-end
+# tests of the page (headless Chromium; the wasm-vs-native check among them runs in Node).
+# Installs what is missing first.
 set -euo pipefail
 cd "$(dirname "$0")/.."
 bash scripts/setup.sh --browser
@@ -16,13 +18,13 @@ step "native tests"
 cargo test
 
 step "the same core tests compiled to wasm, in headless Chromium (wasm-bindgen-test, webdriver.json)"
-# chromedriver leaves profile folders in TMPDIR: give it one we delete.
+# chromedriver leaves profile folders in TMPDIR: give it one we delete on every exit.
 wasm_tmp="$PWD/.tmp/wasm-test"
+trap 'rm -rf "$wasm_tmp"' EXIT
 rm -rf "$wasm_tmp"; mkdir -p "$wasm_tmp"
 TMPDIR="$wasm_tmp" CHROMEDRIVER=/usr/bin/chromedriver \
   CARGO_TARGET_WASM32_UNKNOWN_UNKNOWN_RUNNER="$PWD/.tools/bin/wasm-bindgen-test-runner" \
   cargo test --target wasm32-unknown-unknown --test '*'
-rm -rf "$wasm_tmp"
 
 step "build the page"
 bash scripts/build.sh

@@ -1,4 +1,5 @@
-//! tirtrace command line: batch runs of the core on design and scenario documents.
+//! tirtrace command line: batch runs of the core on design and scenario documents (native only;
+//! `main.rs` explains why).
 
 use std::io::{IsTerminal, Read, Write};
 use std::process::ExitCode;
@@ -121,7 +122,6 @@ fn report_json(report: &TraceReport, with_paths: bool) -> Result<String, String>
 
 /// Trace every batch in parallel (merged in batch order by the core, so the result does not
 /// depend on the thread count); `progress` gets the rays traced so far.
-#[cfg(not(target_arch = "wasm32"))]
 fn trace_all(
     prepared: &Prepared,
     threads: usize,
@@ -131,19 +131,6 @@ fn trace_all(
     prepared
         .trace_all_parallel_with_progress(threads, keep_paths, progress)
         .map_err(|e| format!("--threads: could not start {threads} threads: {e}"))
-}
-
-/// The binary only builds for wasm32 so that the integration tests can; it traces serially.
-#[cfg(target_arch = "wasm32")]
-fn trace_all(
-    prepared: &Prepared,
-    _threads: usize,
-    keep_paths: usize,
-    mut progress: impl FnMut(u64),
-) -> Result<Batch, String> {
-    let batch = prepared.trace_all_serial(keep_paths);
-    progress(batch.rays);
-    Ok(batch)
 }
 
 fn trace(args: TraceArgs) -> Result<String, String> {
@@ -226,7 +213,8 @@ fn run(cli: Cli) -> Result<String, String> {
     }
 }
 
-fn main() -> ExitCode {
+/// Run the command line with the process's arguments.
+pub fn main() -> ExitCode {
     let cli = match Cli::try_parse() {
         Ok(cli) => cli,
         Err(e) => {

@@ -6,8 +6,12 @@
 // Usage: node scripts/same_output.mjs OUT_DIR CLI PKG_DIR
 //   CLI      the native command line (target/release/tirtrace of the build)
 //   PKG_DIR  the wasm-bindgen output of the same build (tirtrace.js, tirtrace_bg.wasm)
+// The charts the wasm draws on a canvas (draw_bend_chart, draw_exit_map, draw_intensity) are
+// drawn in headless Chromium (Debian's, driven by playwright-core from tests/e2e) and compared as
+// the canvas's PNG.
 
 import { spawnSync } from 'node:child_process';
+import { createServer } from 'node:http';
 import { mkdirSync, readdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { join, resolve } from 'node:path';
 import { pathToFileURL } from 'node:url';
@@ -183,5 +187,70 @@ for (const [name, doc] of scenarios) {
       ask(() => wasm.closed_form(badText)), ask(() => wasm.route_outline(badText)),
       ask(() => { const t = new wasm.Tracer(badText); const n = t.batch_count(); t.free(); return n; })]));
   }
+}
+// The charts, drawn by the wasm on a page's canvas in Chromium.
+const { chromium } = await import(pathToFileURL(join(ROOT, 'tests/e2e/node_modules/playwright-core/index.mjs')));
+const server = createServer((req, res) => {
+  const file = req.url.split('?')[0].slice(1);
+  if (file === '') {
+    res.setHeader('content-type', 'text/html');
+    return res.end('<!doctype html><meta charset="utf-8"><body></body>');
+  }
+  try {
+    const body = readFileSync(join(pkgDir, file.replace(/[^A-Za-z0-9_.]/g, '')));
+    res.setHeader('content-type', file.endsWith('.wasm') ? 'application/wasm' : 'text/javascript');
+    res.end(body);
+  } catch {
+    res.statusCode = 404;
+    res.end();
+  }
+});
+await new Promise((ok) => server.listen(0, '127.0.0.1', ok));
+const browser = await chromium.launch({ executablePath: process.env.CHROMIUM || '/usr/bin/chromium',
+  args: ['--no-sandbox', '--disable-gpu', '--disable-quic', '--no-first-run',
+    '--disable-background-networking', '--disable-component-update', '--disable-sync'] });
+try {
+  const page = await browser.newPage();
+  await page.goto(`http://127.0.0.1:${server.address().port}/`);
+  const small = scenarios.map(([name, doc]) => [name,
+    JSON.stringify({ ...doc, trace: { ...(doc.trace || {}), rays: 2 * 4096, seed: 3 } })]);
+  const dark = JSON.stringify({ ...base, trace: { rays: 64, seed: 1 },
+    source: { ...base.source, offset_mm: [40, 0] } });
+  const pictures = await page.evaluate(async ({ designs, small, dark }) => {
+    const wasm = await import('/tirtrace.js');
+    await wasm.default();
+    const out = {};
+    const draw = (name, size, f) => {
+      const canvas = document.createElement('canvas');
+      canvas.id = 'c';
+      [canvas.width, canvas.height] = size;
+      document.body.replaceChildren(canvas);
+      try {
+        f();
+        out[name] = canvas.toDataURL('image/png');
+      } catch (e) {
+        out[name] = `threw ${e.message}`;
+      }
+    };
+    for (const [name, doc] of designs) {
+      for (const ratio of [1, 2]) draw(`chart bend ${name} x${ratio}`, [480 * ratio, 320 * ratio], () => wasm.draw_bend_chart('c', doc, ratio));
+    }
+    draw('chart bend broken', [480, 320], () => wasm.draw_bend_chart('c', { ...designs[0][1], diameter_mm: -1 }, 1));
+    for (const [name, text] of [...small, ['no light', dark]]) {
+      const tracer = new wasm.Tracer(text);
+      const report = tracer.report(0, tracer.batch_count(), 0);
+      tracer.free();
+      for (const ratio of [1, 2]) {
+        draw(`chart exit map ${name} x${ratio}`, [420 * ratio, 360 * ratio], () => wasm.draw_exit_map('c', report, ratio));
+        draw(`chart intensity ${name} x${ratio}`, [480 * ratio, 320 * ratio], () => wasm.draw_intensity('c', report, ratio));
+      }
+    }
+    draw('chart no canvas', [10, 10], () => wasm.draw_intensity('missing', {}, 1));
+    return out;
+  }, { designs, small, dark });
+  for (const [name, png] of Object.entries(pictures)) put(name, `${png}\n`);
+} finally {
+  await browser.close();
+  server.close();
 }
 console.error(`[same_output] ${written} answers written to ${outDir}`);

@@ -33,6 +33,10 @@ const PAGE_FILES = [
   './js/design/sources.js',
   './js/wasm-source.js',
   './js/trace/main-thread-pool.js',
+  './js/core.js',
+  './js/dom.js',
+  './js/errors.js',
+  './js/storage.js',
   './demos/index.json',
 ];
 

@@ -2,11 +2,14 @@
 // redraw the route, and trace it in the workers, showing each sharper answer as it arrives.
 // All physics and geometry come from the core; this file passes data along.
 
-import init, * as core from '../../pkg/tirtrace.js';
+import { loadCore, registerServiceWorker } from '../core.js';
+import { $, h, setStatus } from '../dom.js';
 import { sizeCanvasForCore } from '../drawing.js';
+import { messageOf } from '../errors.js';
+import { formatCount, formatIndex } from '../format.js';
+import { store } from '../storage.js';
 import { MainThreadPool } from '../trace/main-thread-pool.js';
 import { TracePool } from '../trace/pool.js';
-import { wasmSource } from '../wasm-source.js';
 import { Editor } from './editor.js';
 import { FATES, RouteView, heatGradientCss } from './route-view.js';
 import { clearReport, showBends, showFigures, showProgress, showReport } from './report-view.js';
@@ -15,29 +18,18 @@ import {
 } from './scenario.js';
 import { demoList, demoText, traceWorker } from './sources.js';
 
-const $ = (id) => document.getElementById(id);
-const messageOf = (e) => (e instanceof Error ? e.message : String(e ?? 'unknown problem'));
 const UNREADABLE_KEY = 'tirtrace.design.unreadable.v1';
 const KEEP_PATHS = 90;
-
-function setStatus(text, kind = 'busy') {
-  const el = $('status');
-  el.textContent = text;
-  el.dataset.kind = kind;
-}
 
 function toolbarMessage(text, { kind = 'info', action } = {}) {
   const el = $('toolbar-msg');
   el.replaceChildren(document.createTextNode(text));
   if (action) {
-    const b = document.createElement('button');
-    b.type = 'button';
-    b.textContent = action.label;
-    b.addEventListener('click', () => {
+    const run = () => {
       el.hidden = true;
       action.run();
-    });
-    el.append(' ', b);
+    };
+    el.append(' ', h('button', { type: 'button', text: action.label, onclick: run }));
   }
   el.dataset.kind = kind;
   el.hidden = !text;
@@ -63,6 +55,9 @@ function withDefaults(s) {
   return out;
 }
 
+/** The core's exports (loadCore), once it runs. */
+let core = null;
+
 const page = {
   state: null,
   editor: null,
@@ -87,11 +82,7 @@ function problemsOf(state) {
 
 function showLoose(problems) {
   const box = $('form-problems');
-  box.replaceChildren(...problems.map((p) => {
-    const li = document.createElement('p');
-    li.textContent = p.message;
-    return li;
-  }));
+  box.replaceChildren(...problems.map((p) => h('p', { text: p.message })));
   box.hidden = problems.length === 0;
 }
 
@@ -120,7 +111,7 @@ function update() {
     showFigures(page.figures);
     showBends(page.figures, null);
     const material = page.editor.root.querySelector('#f-guide-material-hint');
-    page.editor.materialHint = `n = ${page.figures.n_core.toFixed(4)} at ${page.figures.wavelength_nm} nm (relative to air)`;
+    page.editor.materialHint = `n = ${formatIndex(page.figures.n_core)} at ${page.figures.wavelength_nm} nm (relative to air)`;
     if (material) material.textContent = page.editor.materialHint;
     const outline = core.route_outline(json);
     if (outline.receiver) outline.receiver.round = state.scenario.receiver?.diameter_mm != null;
@@ -159,7 +150,7 @@ function onTraceUpdate(u) {
   if (u.cancelled) {
     setStatus('Stopped', 'ok');
   } else if (u.done) {
-    setStatus(`Traced ${u.raysTotal.toLocaleString('en')} rays`, 'ok');
+    setStatus(`Traced ${formatCount(u.raysTotal)} rays`, 'ok');
     document.body.dataset.traced = String(u.job);
   }
 }
@@ -365,7 +356,7 @@ function wireToolbar() {
 
 async function start() {
   try {
-    await init(wasmSource());
+    core = await loadCore();
   } catch (e) {
     setStatus(`The calculator could not start: ${messageOf(e)}`, 'error');
     return;
@@ -386,11 +377,7 @@ async function start() {
   } catch {
     // A kept design this page cannot show (damaged storage, or from a different version):
     // keep its text aside, start from the starter design, and say so.
-    try {
-      localStorage.setItem(UNREADABLE_KEY, JSON.stringify(loadState()));
-    } catch {
-      // No storage: nothing to keep aside.
-    }
+    store(UNREADABLE_KEY, loadState()); // without storage there is nothing to keep aside
     page.state = freshState(STARTER);
     page.state.scenario = withDefaults(page.state.scenario);
     page.editor = new Editor($('editor'), page.state, materials, () => scheduleUpdate());
@@ -424,10 +411,8 @@ async function start() {
   }
   document.body.dataset.ready = 'true';
   window.addEventListener('resize', () => drawCharts());
-  // A service worker needs a served page (http or https); a file opened from disk has none.
-  if ('serviceWorker' in navigator && /^https?:$/.test(location.protocol)) {
-    navigator.serviceWorker.register('sw.js').catch(() => {});
-  }
+  // Only a served page (http or https) can have a service worker; a file opened from disk has none.
+  registerServiceWorker();
 }
 
 start();

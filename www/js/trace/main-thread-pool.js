@@ -11,12 +11,11 @@
 //   import * as core from '../../pkg/tirtrace.js';
 //   const pool = new MainThreadPool({ Tracer: core.Tracer, onUpdate: (u) => show(u) });
 
+import { messageOf } from '../errors.js';
 import { MERGE_DUTY, MIN_MERGE_INTERVAL_MS, declaredRays, deliverUpdate } from './pool.js';
 
 /** Longest stretch of tracing before the page gets its thread back (ms); one batch may exceed it. */
 const SLICE_MS = 40;
-
-const messageOf = (e) => (e instanceof Error ? e.message : String(e ?? 'unknown problem'));
 
 // The next task, without the 4 ms clamp nested timers get: one shared channel, resolved in order.
 const wakeUps = [];

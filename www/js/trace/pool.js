@@ -28,6 +28,8 @@
 // firstAnswerMs: ms from start() to the first report (null before it);
 // raysPerSecond: raysDone over the time since start().
 
+import { messageOf } from '../errors.js';
+
 /** Shortest time between two progressive merges (ms); the first and the final are not held back. */
 export const MIN_MERGE_INTERVAL_MS = 150;
 /** A merge may take at most this share of the time between merges (so large traces keep tracing). */
@@ -35,8 +37,6 @@ export const MERGE_DUTY = 1 / 3;
 /** Most tracing workers a pool starts by default (and the largest size accepted). */
 const DEFAULT_MAX_WORKERS = 8;
 const MAX_WORKERS = 32;
-
-const messageOf = (e) => (e instanceof Error ? e.message : String(e ?? 'unknown problem'));
 
 function defaultSize() {
   const cores = Number(globalThis.navigator?.hardwareConcurrency) || 1;

@@ -222,6 +222,40 @@ describe('the design page in Chromium', { concurrency: false }, () => {
     }
   });
 
+  test('a kept design with defaults left out, or with a field the core cannot read, comes back in the form', async () => {
+    const other = await browser.newContext({ viewport: { width: 1280, height: 800 } });
+    other.on('request', (r) => requests.push(r.url()));
+    try {
+      const p = await other.newPage();
+      watch(p);
+      await p.goto(`${server.origin}/`);
+      await p.waitForSelector('body[data-ready="true"]', { timeout: 30_000 });
+      const kept = await pageScenario(p);
+      // Defaults left out: the form shows the core's (no trace settings, no gap, no bend turn).
+      const bare = JSON.parse(JSON.stringify(kept));
+      delete bare.trace;
+      delete bare.source.gap_mm;
+      for (const seg of bare.route) if (seg.bend) delete seg.bend.turn_deg;
+      await p.evaluate(([k, s]) => localStorage.setItem(k, JSON.stringify({ scenario: s, drafts: {}, unit: 'mm' })), [STATE_KEY, bare]);
+      await p.reload();
+      await p.waitForSelector('body[data-ready="true"]', { timeout: 30_000 });
+      assert.equal(await p.inputValue('#f-trace-rays'), '100000');
+      assert.equal(await p.inputValue('#f-trace-seed'), '1');
+      assert.equal(await p.inputValue('#f-source-gap-mm'), '0');
+      assert.equal(await p.inputValue('#f-route-1-bend-turn-deg'), '0');
+      assert.equal(await p.locator('#toolbar-msg').isVisible(), false);
+      // A whole-number field holding 1.5 (typed on the last visit): kept, and named by the check.
+      await p.evaluate(([k, s]) => localStorage.setItem(k, JSON.stringify({ scenario: { ...s, trace: { ...s.trace, rays: 1.5 } }, drafts: {}, unit: 'mm' })), [STATE_KEY, kept]);
+      await p.reload();
+      await p.waitForSelector('body[data-ready="true"]', { timeout: 30_000 });
+      assert.equal(await p.inputValue('#f-trace-rays'), '1.5');
+      await p.waitForFunction(() => /must be a whole number/.test(document.getElementById('f-trace-rays-msg')?.textContent || ''));
+      assert.equal(await p.locator('#toolbar-msg').isVisible(), false);
+    } finally {
+      await other.close();
+    }
+  });
+
   test('the page stays responsive while a large trace refines', async () => {
     // Long tasks (main-thread work over 50 ms, reported by the browser's Long Tasks API) while a
     // million-ray trace sharpens: tracing and merging run in workers, so none may come near a

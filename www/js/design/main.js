@@ -35,28 +35,22 @@ function toolbarMessage(text, { kind = 'info', action } = {}) {
   el.hidden = !text;
 }
 
-/** Serde defaults the form shows as fields (the core fills the same when they are absent). */
-function withDefaults(s) {
-  const out = clone(s);
-  out.name ??= '';
-  out.guide.attenuation_db_per_m ??= 0;
-  const src = out.source;
-  src.gap_mm ??= 0;
-  src.gap_medium ??= { library: 'air' };
-  src.offset_mm ??= [0, 0];
-  src.tilt_deg ??= 0;
-  src.tilt_toward_deg ??= 0;
-  out.trace = { rays: 100000, seed: 1, max_interactions: 10000, ...(out.trace || {}) };
-  for (const seg of out.route) if (seg.bend) seg.bend.turn_deg ??= 0;
-  for (const c of out.guide.contacts || []) {
-    c.sector_from_deg ??= 0;
-    c.sector_to_deg ??= 360;
-  }
-  return out;
-}
-
 /** The core's exports (loadCore), once it runs. */
 let core = null;
+
+/**
+ * A kept scenario as the core reads it: its defaults filled in, so the form has a value for
+ * every field. One the core cannot read at all (a whole-number field holding 1.5, say, kept from
+ * the last visit) is taken as it is: the form shows what it can and the check names the field;
+ * one the form cannot show either is set aside (see start()).
+ */
+function asRead(scenario) {
+  try {
+    return core.scenario_as_read(JSON.stringify(scenario));
+  } catch {
+    return clone(scenario);
+  }
+}
 
 const page = {
   state: null,
@@ -200,7 +194,7 @@ function drawLegend(report) {
 /** Load another design (example, file, link), keeping the current one to go back to. */
 function replaceDesign(scenario, how) {
   const previous = clone(page.state);
-  page.state.scenario = withDefaults(scenario);
+  page.state.scenario = scenario;
   page.state.drafts = {};
   page.editor.messages.clear();
   page.editor.render();
@@ -223,11 +217,13 @@ function replaceDesign(scenario, how) {
   });
 }
 
-/** Check a scenario given as text (file, link); returns it or throws a readable Error. */
+/**
+ * Check a scenario given as text (file, link); returns it as the core reads it (its defaults
+ * filled in) or throws a readable Error.
+ */
 function readScenario(text) {
-  let parsed;
   try {
-    parsed = JSON.parse(text);
+    JSON.parse(text);
   } catch (e) {
     throw new Error(`it is not JSON (${messageOf(e)})`);
   }
@@ -236,7 +232,7 @@ function readScenario(text) {
     const list = res.problems.slice(0, 3).map((p) => p.message).join('; ');
     throw new Error(`${list}${res.problems.length > 3 ? `; and ${res.problems.length - 3} more` : ''}`);
   }
-  return parsed;
+  return core.scenario_as_read(text);
 }
 
 async function loadDemos() {
@@ -371,7 +367,7 @@ async function start() {
   page.state = loadState() || freshState(STARTER);
   const materials = core.materials();
   try {
-    page.state.scenario = withDefaults(page.state.scenario);
+    page.state.scenario = asRead(page.state.scenario);
     page.editor = new Editor($('editor'), page.state, materials, () => scheduleUpdate());
     page.editor.render();
   } catch {
@@ -379,7 +375,7 @@ async function start() {
     // keep its text aside, start from the starter design, and say so.
     store(UNREADABLE_KEY, loadState()); // without storage there is nothing to keep aside
     page.state = freshState(STARTER);
-    page.state.scenario = withDefaults(page.state.scenario);
+    page.state.scenario = asRead(page.state.scenario);
     page.editor = new Editor($('editor'), page.state, materials, () => scheduleUpdate());
     page.editor.render();
     toolbarMessage(

@@ -33,6 +33,7 @@ const PAGE_FILES = [
   './js/design/sources.js',
   './js/wasm-source.js',
   './js/trace/main-thread-pool.js',
+  './js/trace/job.js',
   './js/core.js',
   './js/dom.js',
   './js/errors.js',

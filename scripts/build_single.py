@@ -1,24 +1,21 @@
 #!/usr/bin/env python3
 """Write dist/tirtrace.html: the design page as one file that works opened from disk (file://).
 
-Everything the page needs is inside: the style sheets, the icon, every ES module of the page and
-of its trace worker, the core's WebAssembly (gzip, base64) and the example scenarios. Run it after
+Everything the page needs is inside: the style sheets, the icon, the page's modules and those of
+its trace worker, the core's WebAssembly (gzip, base64) and the example scenarios. Run it after
 scripts/build.sh has made www/pkg and www/demos (build.sh calls it last).
 
-How the file works when opened:
-- A module loaded from a blob: URL has no folder, so relative imports cannot resolve there. This
-  script therefore replaces every relative import specifier by a token naming the target
-  (`tirtrace-module:js/design/editor.js`); at run time a small loader turns each module into a
-  blob: URL, dependencies first, with its tokens replaced by the URLs already made, and imports
-  the page's main module.
-- Two modules are swapped for generated ones: js/wasm-source.js gives init() the embedded
-  WebAssembly instead of a URL beside the glue, and js/design/sources.js gives the examples'
-  text and starts the trace workers from the file.
+The modules are bundled by esbuild (from npm, tools/package.json; used for dist/ only: the served
+page stays plain ES modules, no bundler), from a copy of www/js and www/pkg in which two modules
+are swapped for generated ones: js/wasm-source.js gives init() the embedded WebAssembly instead
+of a URL beside the glue, and js/design/sources.js gives the examples' text and starts the trace
+workers from the file. When the file is opened:
+- The page is one inline module script: esbuild's ESM bundle of js/design/main.js.
 - A file:// page may not start a module worker from a blob: URL (Chromium refuses it), but it may
-  start a classic one, and that worker may import blob: modules it makes itself. So each worker
-  is a classic script that holds the worker's modules and links them the same way; messages that
-  arrive while it loads are kept and handed to the worker module once it has set its handler.
-  Where even that fails, the page traces on its own thread (www/js/trace/main-thread-pool.js).
+  start a classic one: each trace worker runs esbuild's IIFE bundle of js/trace/worker.js, kept as
+  a string in the page's bundle and started from a blob: URL. The WebAssembly is in the file once:
+  the page hands its packed bytes to the worker at the head of the worker's script. Where no
+  worker can start at all, the page traces on its own thread (js/trace/main-thread-pool.js).
 
 Anything in www/index.html this script does not know how to embed stops the build with a message
 naming it, rather than leaving a file that would quietly ask for something that is not there.
@@ -32,29 +29,32 @@ import html
 import json
 import posixpath
 import re
+import shutil
+import subprocess
 import sys
+import tempfile
 from pathlib import Path
 
 ROOT = Path(__file__).resolve().parent.parent
 WWW = ROOT / "www"
 OUT = ROOT / "dist" / "tirtrace.html"
+ESBUILD = ROOT / "tools" / "node_modules" / ".bin" / "esbuild"
 
 PAGE = "index.html"
-GLUE = "pkg/tirtrace.js"
 WASM = "pkg/tirtrace_bg.wasm"
 WASM_SOURCE = "js/wasm-source.js"
 PAGE_SOURCES = "js/design/sources.js"
 WORKER = "js/trace/worker.js"
 DEMOS = "demos/index.json"
 
-MODULE_TOKEN = "tirtrace-module:"
-WORKER_TOKEN = "tirtrace-worker:"
+# The global through which the page hands the packed WebAssembly to a worker.
+WASM_GLOBAL = "tirtraceWasmGzipBase64"
 
-# Uses of import.meta.url that cannot work in a blob: module but are never evaluated in this file:
-# init()'s default wasm URL (wasmSource() always gives the bytes here) and the pool's default
-# worker URL (sources.js always gives workerUrl here). Any other use stops the build.
+# Uses of import.meta.url that have no meaning in this file but are never evaluated in it: init()'s
+# default wasm URL (wasmSource() always gives the bytes here) and the pool's default worker URL
+# (sources.js always gives workerUrl here). Any other use in a bundled module stops the build.
 ALLOWED_IMPORT_META = {
-    GLUE: "new URL('tirtrace_bg.wasm', import.meta.url)",
+    "pkg/tirtrace.js": "new URL('tirtrace_bg.wasm', import.meta.url)",
     "js/trace/pool.js": "new URL('./worker.js', import.meta.url)",
 }
 
@@ -65,14 +65,6 @@ class BuildError(Exception):
     """A problem that stops the build; the message names the file and what is wrong."""
 
 
-# ---------------------------------------------------------------------------- modules
-
-# `import … from '…'` / `export … from '…'` (the clause may span lines), `import '…'`, `import('…')`.
-STATIC_FROM = re.compile(r"""^([ \t]*(?:import|export)\b[^;'"`]*?\bfrom\s*)(['"])([^'"\n]+)\2""", re.M)
-SIDE_EFFECT = re.compile(r"""^([ \t]*import\s*)(['"])([^'"\n]+)\2""", re.M)
-DYNAMIC = re.compile(r"""(\bimport\(\s*)(['"])([^'"\n]+)\2(?=\s*\))""")
-
-
 def read_text(path: str) -> str:
     file = WWW / path
     if not file.is_file():
@@ -80,74 +72,50 @@ def read_text(path: str) -> str:
     return file.read_text(encoding="utf-8")
 
 
-def resolve(importer: str, spec: str) -> str:
-    """The www-relative path a relative specifier in `importer` names."""
-    if not spec.startswith(("./", "../")):
-        raise BuildError(
-            f"www/{importer} imports '{spec}': only relative specifiers ('./', '../') can be embedded"
-        )
-    target = posixpath.normpath(posixpath.join(posixpath.dirname(importer), spec))
-    if target.startswith("../") or not (WWW / target).is_file():
-        raise BuildError(f"www/{importer} imports '{spec}', which is not a file under www/")
-    return target
+# ---------------------------------------------------------------------------- modules
 
 
-def link_imports(path: str, text: str) -> tuple[str, list[str]]:
-    """Replace every relative specifier by a token naming its target; return the text and targets."""
-    deps: list[str] = []
-
-    def swap(match: re.Match) -> str:
-        target = resolve(path, match.group(3))
-        deps.append(target)
-        return f"{match.group(1)}{match.group(2)}{MODULE_TOKEN}{target}{match.group(2)}"
-
-    for pattern in (STATIC_FROM, SIDE_EFFECT, DYNAMIC):
-        text = pattern.sub(swap, text)
-    rest = text.replace(ALLOWED_IMPORT_META.get(path, "\0"), "")
-    if "import.meta" in rest:
-        raise BuildError(
-            f"www/{path} uses import.meta, which a module loaded from a blob: URL cannot resolve "
-            "against; give it what it needs another way (see www/js/wasm-source.js)"
-        )
-    return text, deps
-
-
-def module_graph(entry: str, generated: dict[str, str], modules: dict[str, str]) -> list[str]:
-    """Add `entry` and everything it imports to `modules`; return them dependencies first."""
-    order: list[str] = []
-    state: dict[str, str] = {}
-
-    def visit(path: str, chain: list[str]) -> None:
-        if state.get(path) == "done":
-            return
-        if state.get(path) == "open":
-            raise BuildError("import cycle, which blob: URLs cannot express: " + " → ".join(chain + [path]))
-        state[path] = "open"
-        if path in generated:
-            text = generated[path]
-        else:
-            text = read_text(path)
-            for token in (MODULE_TOKEN, WORKER_TOKEN):
-                if token in text:
-                    raise BuildError(f"www/{path} contains '{token}', which the single-file loader replaces")
-        text, deps = link_imports(path, text)
-        modules[path] = text
-        for dep in deps:
-            visit(dep, chain + [path])
-        state[path] = "done"
-        order.append(path)
-
-    visit(entry, [])
-    return order
+def bundle(tree: Path, entry: str, fmt: str) -> tuple[str, list[str]]:
+    """esbuild's bundle of `entry` (a www-relative path in the copy `tree`) in format `fmt`
+    ('esm' or 'iife'), and the www-relative paths of the modules it holds."""
+    if not ESBUILD.is_file():
+        raise BuildError(f"{ESBUILD.relative_to(ROOT)} is missing (run `npm ci --prefix tools`, or scripts/setup.sh)")
+    out, meta = tree / "bundle.js", tree / "meta.json"
+    run = subprocess.run(
+        [str(ESBUILD), entry, "--bundle", f"--format={fmt}", "--charset=utf8", "--legal-comments=none",
+         "--log-level=error", f"--outfile={out}", f"--metafile={meta}"],
+        cwd=tree, capture_output=True, text=True, check=False,
+    )
+    if run.returncode != 0:
+        raise BuildError(f"esbuild could not bundle www/{entry}:\n{run.stderr.strip()}")
+    inputs = sorted(json.loads(meta.read_text(encoding="utf-8"))["inputs"])
+    for path in inputs:
+        rest = (tree / path).read_text(encoding="utf-8").replace(ALLOWED_IMPORT_META.get(path, "\0"), "")
+        if "import.meta" in rest:
+            raise BuildError(
+                f"www/{path} uses import.meta, which has no meaning in a file opened from disk; give it "
+                "what it needs another way (see www/js/wasm-source.js)"
+            )
+    return out.read_text(encoding="utf-8"), inputs
 
 
-def wasm_source_module() -> str:
+def wasm_source_module(where: str) -> str:
+    """js/wasm-source.js for the page (`where` 'page': it holds the packed WebAssembly) or for the
+    trace worker ('worker': the page puts it in a global at the head of the worker's script)."""
     wasm = (WWW / WASM).read_bytes()
     packed = base64.b64encode(gzip.compress(wasm, compresslevel=9, mtime=0)).decode("ascii")
-    return f"""// Generated by scripts/build_single.py for the single-file page: the core's WebAssembly
-// ({len(wasm)} bytes), gzip-compressed, in base64; wasmSource() gives init() the unpacked bytes.
+    if where == "page":
+        holder = (
+            "/** The packed WebAssembly; sources.js hands it to each trace worker too. */\n"
+            f"export const WASM_GZIP_BASE64 = '{packed}';\n"
+            "const packed = () => WASM_GZIP_BASE64;"
+        )
+    else:
+        holder = f"/** Put here by the page (sources.js) at the head of this worker's script. */\nconst packed = () => self.{WASM_GLOBAL};"
+    return f"""// Generated by scripts/build_single.py for the single-file page ({where}): the core's
+// WebAssembly ({len(wasm)} bytes), gzip-compressed, in base64; wasmSource() gives init() the bytes.
 
-const WASM_GZIP_BASE64 = '{packed}';
+{holder}
 const WASM_BYTES = {len(wasm)};
 
 let bytes = null;
@@ -156,8 +124,8 @@ async function unpack() {{
   if (typeof DecompressionStream !== 'function') {{
     throw new Error('this browser cannot unpack the embedded calculator (it has no DecompressionStream); open the file in a current browser');
   }}
-  const packed = Uint8Array.from(atob(WASM_GZIP_BASE64), (c) => c.charCodeAt(0));
-  const stream = new Blob([packed]).stream().pipeThrough(new DecompressionStream('gzip'));
+  const data = Uint8Array.from(atob(packed()), (c) => c.charCodeAt(0));
+  const stream = new Blob([data]).stream().pipeThrough(new DecompressionStream('gzip'));
   const wasm = new Uint8Array(await new Response(stream).arrayBuffer());
   if (wasm.length !== WASM_BYTES) throw new Error(`the embedded calculator is damaged (${{wasm.length}} bytes, not ${{WASM_BYTES}})`);
   return wasm;
@@ -171,7 +139,7 @@ export function wasmSource() {{
 """
 
 
-def page_sources_module() -> str:
+def page_sources_module(worker_script: str) -> str:
     listing = json.loads(read_text(DEMOS))
     texts = {}
     for demo in listing:
@@ -185,11 +153,16 @@ def page_sources_module() -> str:
             raise BuildError(f"www/demos/{name} is not JSON: {e}") from e
         texts[name] = text
     return f"""// Generated by scripts/build_single.py for the single-file page: the examples' text, and the
-// trace workers started from a classic script made by the page's loader (a file:// page may not
-// start a module worker from a blob: URL).
+// trace worker: its bundle, started as a classic script from a blob: URL (a file:// page may not
+// start a module worker from one), with the packed WebAssembly handed over at its head.
+
+import {{ WASM_GZIP_BASE64 }} from '../wasm-source.js';
 
 const DEMOS = {json.dumps(listing, ensure_ascii=False)};
 const TEXTS = {json.dumps(texts, ensure_ascii=False)};
+const WORKER_SCRIPT = {json.dumps(worker_script, ensure_ascii=False)};
+
+let workerUrl = null;
 
 /** The examples for the "Start from" menu: [{{ file, name }}]. */
 export async function demoList() {{
@@ -202,66 +175,39 @@ export async function demoText(file) {{
   return TEXTS[file];
 }}
 
-/** TracePool options: the classic worker script that loads the embedded worker modules. */
+/** TracePool options: the worker's bundle, a classic script from a blob: URL. */
 export function traceWorker() {{
-  return {{ workerUrl: '{WORKER_TOKEN}{WORKER}', workerType: 'classic' }};
+  workerUrl ??= URL.createObjectURL(new Blob(
+    [`self.{WASM_GLOBAL} = '${{WASM_GZIP_BASE64}}';\\n`, WORKER_SCRIPT],
+    {{ type: 'text/javascript' }},
+  ));
+  return {{ workerUrl, workerType: 'classic' }};
 }}
 """
 
 
-# ---------------------------------------------------------------------------- the loader
-
-LOADER = r"""
-// Loader of the single-file page (scripts/build_single.py): every embedded module becomes a blob:
-// URL, dependencies first, its tokens (tirtrace-module:PATH) replaced by the URLs of their
-// targets; then the page's main module is imported. Each trace worker is a classic script that
-// links the worker's modules the same way inside the worker.
-const bundle = JSON.parse(document.getElementById('tirtrace-bundle').textContent);
-
-function link(modules, order, workerUrls) {
-  const urls = new Map();
-  for (const path of order) {
-    const text = modules[path].replace(/tirtrace-(module|worker):([\w./-]+)/g, (token, kind, target) => {
-      const url = kind === 'module' ? urls.get(target) : workerUrls?.get(target);
-      if (!url) throw new Error(`${path} needs ${target}, which is not linked before it`);
-      return url;
-    });
-    urls.set(path, URL.createObjectURL(new Blob([text], { type: 'text/javascript' })));
-  }
-  return urls;
-}
-
-function workerScript(entry, order) {
-  const modules = Object.fromEntries(order.map((path) => [path, bundle.modules[path]]));
-  return `'use strict';
-// A trace worker of the single-file page: links its modules here, then imports ${entry}.
-// Messages that arrive meanwhile are kept and handed to the handler the module sets.
-const early = [];
-self.onmessage = (event) => early.push(event);
-${link}
-import(link(${JSON.stringify(modules)}, ${JSON.stringify(order)}).get(${JSON.stringify(entry)})).then(
-  () => {
-    for (const event of early) self.onmessage(event);
-  },
-  (e) => postMessage({ type: 'init-error', message: String((e && e.message) || e) }),
-);
-`;
-}
-
-try {
-  const workerUrls = new Map();
-  for (const [entry, order] of Object.entries(bundle.workers)) {
-    workerUrls.set(entry, URL.createObjectURL(new Blob([workerScript(entry, order)], { type: 'text/javascript' })));
-  }
-  await import(link(bundle.modules, bundle.order, workerUrls).get(bundle.entry));
-} catch (e) {
-  const status = document.getElementById('status');
-  if (status) {
-    status.textContent = `The calculator could not start: ${(e && e.message) || e}`;
-    status.dataset.kind = 'error';
-  }
-}
-"""
+def bundles(entry: str) -> str:
+    """The page's bundle (ESM) with its trace worker's bundle (IIFE) inside, made from a copy of
+    www/js and www/pkg with the generated modules in place of the served ones."""
+    with tempfile.TemporaryDirectory(prefix="tirtrace-single-") as tmp:
+        tree = Path(tmp)
+        for folder in ("js", "pkg"):
+            if not (WWW / folder).is_dir():
+                raise BuildError(f"www/{folder} is missing (run `bash scripts/build.sh` first)")
+            shutil.copytree(WWW / folder, tree / folder)
+        (tree / WASM_SOURCE).write_text(wasm_source_module("worker"), encoding="utf-8")
+        worker, worker_inputs = bundle(tree, WORKER, "iife")
+        (tree / WASM_SOURCE).write_text(wasm_source_module("page"), encoding="utf-8")
+        (tree / PAGE_SOURCES).write_text(page_sources_module(worker), encoding="utf-8")
+        page, page_inputs = bundle(tree, entry, "esm")
+    for path, inputs in ((WASM_SOURCE, worker_inputs), (WASM_SOURCE, page_inputs), (PAGE_SOURCES, page_inputs)):
+        if path not in inputs:
+            raise BuildError(f"www/{path} is no longer imported; scripts/build_single.py swaps it for the embedded data")
+    if PAGE_SOURCES in worker_inputs:
+        raise BuildError(f"www/{PAGE_SOURCES} is loaded in the trace worker, which cannot start workers itself")
+    if re.search(r"</script|<!--", page, re.I):
+        raise BuildError("the page's bundle contains '</script' or '<!--', which would end its script early")
+    return page
 
 
 # ---------------------------------------------------------------------------- the page
@@ -364,26 +310,10 @@ def transform_page(page: str) -> tuple[str, str, list[str]]:
     return page, entries[0], left_out
 
 
+
 def build() -> tuple[int, list[str]]:
     page, entry, left_out = transform_page(read_text(PAGE))
-    generated = {WASM_SOURCE: wasm_source_module(), PAGE_SOURCES: page_sources_module()}
-    modules: dict[str, str] = {}
-    order = module_graph(entry, generated, modules)
-    workers = {WORKER: module_graph(WORKER, generated, modules)}
-    for path in (WASM_SOURCE, PAGE_SOURCES):
-        if path not in modules:
-            raise BuildError(f"www/{path} is no longer imported; scripts/build_single.py swaps it for the embedded data")
-    for path in workers[WORKER]:
-        if WORKER_TOKEN in modules[path]:
-            raise BuildError(f"www/{path} is loaded in the worker but starts workers itself")
-    bundle = {"entry": entry, "order": order, "workers": workers, "modules": modules}
-    data = json.dumps(bundle, ensure_ascii=False, separators=(",", ":")).replace("<", "\\u003c")
-    if re.search(r"</script|<!--", LOADER, re.I):
-        raise BuildError("the loader contains '</script' or '<!--'")
-    scripts = (
-        f'<script type="application/json" id="tirtrace-bundle">{data}</script>\n'
-        f'<script type="module">{LOADER}</script>\n'
-    )
+    scripts = f'<script type="module">\n{bundles(entry)}</script>\n'
     if page.count("</body>") != 1:
         raise BuildError(f"www/{PAGE} needs exactly one </body>")
     page = page.replace("</body>", scripts + "</body>")

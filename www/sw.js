@@ -1,56 +1,18 @@
-// Service worker: keeps the page, its modules, the core (JS glue and WebAssembly), the style
-// sheet and the icon in a cache. Network first, so a running server always gives the newest
-// files; the cache answers when the server cannot be reached, so the page opens offline.
+// Service worker: keeps every file the page serves (its pages, modules, the core's JS glue and
+// WebAssembly, style sheets, icon, examples: the list precache.js that scripts/build.sh writes) in
+// a cache. Network first, so a running server always gives the newest files; the cache answers
+// when the server cannot be reached, so the page opens offline.
 
 const CACHE = 'tirtrace-page-v2';
 
-const PAGE_FILES = [
-  './',
-  './index.html',
-  './css/page.css',
-  './quick.html',
-  './js/quick-main.js',
-  './js/state.js',
-  './js/numbers.js',
-  './js/form.js',
-  './js/format.js',
-  './js/results.js',
-  './js/drawing.js',
-  './pkg/tirtrace.js',
-  './pkg/tirtrace_bg.wasm',
-  './icon.svg',
-  './manifest.webmanifest',
-  './js/trace/pool.js',
-  './js/trace/worker.js',
-  './bench.html',
-  './js/trace/bench.js',
-  './css/design.css',
-  './js/design/main.js',
-  './js/design/editor.js',
-  './js/design/scenario.js',
-  './js/design/route-view.js',
-  './js/design/report-view.js',
-  './js/design/sources.js',
-  './js/wasm-source.js',
-  './js/trace/main-thread-pool.js',
-  './demos/index.json',
-];
-
-/** The examples listed in demos/index.json (made by scripts/build.sh), for the "start from" menu. */
-async function demoFiles() {
-  const res = await fetch('./demos/index.json', { cache: 'reload' });
-  const list = await res.json();
-  return list.map((d) => `./demos/${d.file}`);
-}
+// self.PRECACHE: every file the page serves ('./' first), listed by scripts/build.sh.
+importScripts('./precache.js');
 
 self.addEventListener('install', (event) => {
   event.waitUntil(
     caches
       .open(CACHE)
-      .then(async (cache) => {
-        const files = [...PAGE_FILES, ...(await demoFiles())];
-        return cache.addAll(files.map((url) => new Request(url, { cache: 'reload' })));
-      })
+      .then((cache) => cache.addAll(self.PRECACHE.map((url) => new Request(url, { cache: 'reload' }))))
       .then(() => self.skipWaiting()),
   );
 });

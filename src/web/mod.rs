@@ -310,6 +310,17 @@ pub fn check_scenario(json: &str) -> JsValue {
     to_js(&crate::problems::check_scenario(json)).unwrap_or(JsValue::NULL)
 }
 
+/// A scenario given as JSON text as the core reads it: every field the document leaves out is
+/// there with the core's default (`name`, `trace`, `source.gap_medium`, a bend's `turn_deg`, …),
+/// fields in the core's order. Values are not range-checked here (`check_scenario` does that), so
+/// a document with problems still comes back to be shown and mended; a text that cannot be read
+/// at all throws with the same message `check_scenario` gives for it.
+#[wasm_bindgen]
+pub fn scenario_as_read(json: &str) -> Result<JsValue, JsError> {
+    let scenario = crate::problems::read_scenario(json).map_err(|p| JsError::new(&p.message))?;
+    to_js(&scenario)
+}
+
 /// Read and validate a scenario; the error carries every problem's message.
 fn valid_scenario(json: &str) -> Result<crate::scenario::Scenario, JsError> {
     crate::problems::valid_scenario(json)

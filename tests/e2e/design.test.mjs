@@ -29,6 +29,24 @@ describe('the design page in Chromium', { concurrency: false }, () => {
 
   const watch = (p) => collectErrors(p, consoleErrors);
 
+  /** A page of the designer in a browser context of its own (its own storage), ready. */
+  async function freshPage() {
+    const other = await browser.newContext({ viewport: { width: 1280, height: 800 } });
+    other.on('request', (r) => requests.push(r.url()));
+    const p = await other.newPage();
+    watch(p);
+    await p.goto(`${server.origin}/`);
+    await p.waitForSelector('body[data-ready="true"]', { timeout: 30_000 });
+    return { other, p };
+  }
+
+  /** Keep `scenario` in the page's storage (as the page keeps its design) and reload. */
+  async function reopenWith(p, scenario) {
+    await p.evaluate(([k, s]) => localStorage.setItem(k, JSON.stringify({ scenario: s, drafts: {}, unit: 'mm' })), [STATE_KEY, scenario]);
+    await p.reload();
+    await p.waitForSelector('body[data-ready="true"]', { timeout: 30_000 });
+  }
+
   before(async () => {
     assert.ok(existsSync(join(WWW, 'pkg', 'tirtrace.js')), 'www/pkg is missing: run `bash scripts/build.sh` first');
     assert.ok(existsSync(join(WWW, 'demos', 'index.json')), 'www/demos is missing: run `bash scripts/build.sh` first');
@@ -199,16 +217,9 @@ describe('the design page in Chromium', { concurrency: false }, () => {
     await tracedAfter(page, () => page.selectOption('#f-source-emitter-led-pattern', 'lambertian'));
     assert.equal(await page.getAttribute('body', 'data-problems'), '0');
     // A damaged design in storage and a damaged share link: a message, and the page works.
-    const other = await browser.newContext({ viewport: { width: 1280, height: 800 } });
-    other.on('request', (r) => requests.push(r.url()));
+    const { other, p } = await freshPage();
     try {
-      const p = await other.newPage();
-      watch(p);
-      await p.goto(`${server.origin}/`);
-      await p.waitForSelector('body[data-ready="true"]', { timeout: 30_000 });
-      await p.evaluate((k) => localStorage.setItem(k, JSON.stringify({ scenario: { version: 1 }, drafts: {}, unit: 'mm' })), STATE_KEY);
-      await p.reload();
-      await p.waitForSelector('body[data-ready="true"]', { timeout: 30_000 });
+      await reopenWith(p, { version: 1 });
       const msg = await p.locator('#toolbar-msg').innerText();
       assert.match(msg, /could not be shown/);
       await p.waitForFunction(() => Number(document.body.dataset.traced || 0) > 0, null, { timeout: 60_000 });
@@ -217,6 +228,31 @@ describe('the design page in Chromium', { concurrency: false }, () => {
       await p.goto(`${server.origin}/#d=AAAA_not-a-design`);
       await p.waitForSelector('body[data-ready="true"]', { timeout: 30_000 });
       assert.match(await p.locator('#toolbar-msg').innerText(), /share link is damaged/);
+    } finally {
+      await other.close();
+    }
+  });
+
+  test('a kept design with defaults left out, or with a field the core cannot read, comes back in the form', async () => {
+    const { other, p } = await freshPage();
+    try {
+      const kept = await pageScenario(p);
+      // Defaults left out: the form shows the core's (no trace settings, no gap, no bend turn).
+      const bare = JSON.parse(JSON.stringify(kept));
+      delete bare.trace;
+      delete bare.source.gap_mm;
+      for (const seg of bare.route) if (seg.bend) delete seg.bend.turn_deg;
+      await reopenWith(p, bare);
+      assert.equal(await p.inputValue('#f-trace-rays'), '100000');
+      assert.equal(await p.inputValue('#f-trace-seed'), '1');
+      assert.equal(await p.inputValue('#f-source-gap-mm'), '0');
+      assert.equal(await p.inputValue('#f-route-1-bend-turn-deg'), '0');
+      assert.equal(await p.locator('#toolbar-msg').isVisible(), false);
+      // A whole-number field holding 1.5 (typed on the last visit): kept, and named by the check.
+      await reopenWith(p, { ...kept, trace: { ...kept.trace, rays: 1.5 } });
+      assert.equal(await p.inputValue('#f-trace-rays'), '1.5');
+      await p.waitForFunction(() => /must be a whole number/.test(document.getElementById('f-trace-rays-msg')?.textContent || ''));
+      assert.equal(await p.locator('#toolbar-msg').isVisible(), false);
     } finally {
       await other.close();
     }

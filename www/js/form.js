@@ -1,8 +1,10 @@
 // The entry form: entries ↔ inputs, the fields that appear with a choice, and the core's
 // validation messages shown inline next to the field they name.
 
+import { $, h } from './dom.js';
 import { formatIndex, formatPlain } from './format.js';
-import { EXAMPLE_ENTRIES, parseNumber } from './state.js';
+import { parseNumber } from './numbers.js';
+import { EXAMPLE_ENTRIES } from './state.js';
 
 /** Entry key → input element id. */
 const INPUT_OF_ENTRY = {
@@ -54,8 +56,6 @@ export function sentenceFor(label, message) {
   if (!label) return text;
   return /^[a-z]/.test(text) ? `${label} ${text}` : `${label}: ${text}`;
 }
-
-const $ = (id) => document.getElementById(id);
 
 export class EntryForm {
   /**
@@ -152,7 +152,7 @@ export class EntryForm {
       }
     }
     const box = $('form-problems');
-    box.replaceChildren(...general.map((text) => Object.assign(document.createElement('p'), { textContent: text })));
+    box.replaceChildren(...general.map((text) => h('p', { text })));
     box.hidden = general.length === 0;
   }
 
@@ -160,7 +160,7 @@ export class EntryForm {
   showFormMessage(text) {
     const box = $('form-problems');
     if (text) {
-      box.replaceChildren(Object.assign(document.createElement('p'), { textContent: text }));
+      box.replaceChildren(h('p', { text }));
       box.hidden = false;
     } else {
       box.replaceChildren();

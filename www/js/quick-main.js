@@ -1,6 +1,9 @@
 // Wiring: load the core (WebAssembly), restore the entries, and on every edit validate,
 // compute, show and draw. All physics comes from the core; this file only passes data along.
 
+import { loadCore, registerServiceWorker } from './core.js';
+import { $, setStatus } from './dom.js';
+import { messageOf } from './errors.js';
 import { EntryForm } from './form.js';
 import { clearCanvas, drawBend, sizeCanvasForCore } from './drawing.js';
 import { markStale, showFigures } from './results.js';
@@ -8,16 +11,6 @@ import { EXAMPLE_ENTRIES, designFromEntries, loadEntries, saveEntries } from './
 
 /** Rays in the drawn fan: enough to see the pattern, few enough to tell them apart. */
 const RAY_COUNT = 25;
-
-const $ = (id) => document.getElementById(id);
-
-const messageOf = (e) => (e instanceof Error ? e.message : String(e ?? 'unknown problem'));
-
-function setStatus(text, kind = 'busy') {
-  const el = $('status');
-  el.textContent = text;
-  el.dataset.kind = kind;
-}
 
 /** Everything the page knows, in one place. */
 const page = {
@@ -104,21 +97,9 @@ function watchCanvasSizes() {
   observer.observe($('bend-chart'));
 }
 
-async function registerServiceWorker() {
-  if (!('serviceWorker' in navigator) || !location.protocol.startsWith('http')) return false;
-  try {
-    await navigator.serviceWorker.register('./sw.js');
-    return true;
-  } catch {
-    return false; // the page still works; it just will not open without the server
-  }
-}
-
 async function start() {
   try {
-    const core = await import('../pkg/tirtrace.js');
-    await core.default();
-    page.core = core;
+    page.core = await loadCore();
   } catch (e) {
     setStatus(`The calculator could not start: ${messageOf(e)}`, 'error');
     return;

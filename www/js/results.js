@@ -1,14 +1,13 @@
 // The results panel: the core's figures with units and sensible significant figures, a plain
 // verdict on the drawn bend, and the "stale" state when the entries have a problem.
 
-import { formatFixed, formatIndex, formatPercent, formatPlain, formatSig } from './format.js';
-
-const $ = (id) => document.getElementById(id);
+import { $ } from './dom.js';
+import { formatFixed, formatIndex, formatPercent, formatPlain, formatSig, orDash } from './format.js';
 
 /** Set one figure: its value text ('' shows a dash), optional unit and explanation. */
 function setFigure(id, value, { unit, explain } = {}) {
   const root = $(id);
-  root.querySelector('.value').textContent = value === '' ? '—' : value;
+  root.querySelector('.value').textContent = orDash(value);
   const unitEl = root.querySelector('.unit');
   if (unitEl && unit !== undefined) unitEl.textContent = unit;
   if (unitEl) unitEl.hidden = value === '' || unitEl.textContent === '';

@@ -2,8 +2,7 @@
 // quick-look design document built from it (the same JSON the native command line reads).
 
 import { parseNumber } from './numbers.js';
-
-export { parseNumber };
+import { readStored, store } from './storage.js';
 
 const STORAGE_KEY = 'tirtrace.quick-look.entries.v1';
 
@@ -47,25 +46,14 @@ export function designFromEntries(e) {
 /** Entries restored from this browser's storage, falling back to the example field by field. */
 export function loadEntries() {
   const entries = { ...EXAMPLE_ENTRIES };
-  try {
-    const saved = JSON.parse(localStorage.getItem(STORAGE_KEY) || 'null');
-    if (saved && typeof saved === 'object') {
-      for (const key of Object.keys(EXAMPLE_ENTRIES)) {
-        if (typeof saved[key] === 'string') entries[key] = saved[key];
-      }
+  const saved = readStored(STORAGE_KEY);
+  if (saved && typeof saved === 'object') {
+    for (const key of Object.keys(EXAMPLE_ENTRIES)) {
+      if (typeof saved[key] === 'string') entries[key] = saved[key];
     }
-  } catch {
-    // Storage unavailable or unreadable: start from the example.
   }
   return entries;
 }
 
 /** Keep the entries in this browser. Returns false when storage is unavailable. */
-export function saveEntries(entries) {
-  try {
-    localStorage.setItem(STORAGE_KEY, JSON.stringify(entries));
-    return true;
-  } catch {
-    return false;
-  }
-}
+export const saveEntries = (entries) => store(STORAGE_KEY, entries);

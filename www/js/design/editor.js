@@ -2,22 +2,9 @@
 // mounts touching the pipe, detector and trace settings. It edits the scenario document in the
 // page state and reports each change; it computes nothing.
 
-import { getAt, isLength, parseNumber, setAt, showNumber, toStored } from './scenario.js';
-
-/** Build an element: h('p', { class: 'x', text: 'hello' }, child, …). */
-export function h(tag, attrs = {}, ...children) {
-  const el = document.createElement(tag);
-  for (const [k, v] of Object.entries(attrs)) {
-    if (v == null || v === false) continue;
-    if (k === 'text') el.textContent = v;
-    else if (k === 'class') el.className = v;
-    else if (k.startsWith('on')) el.addEventListener(k.slice(2), v);
-    else if (k === 'dataset') Object.assign(el.dataset, v);
-    else el.setAttribute(k, v === true ? '' : v);
-  }
-  for (const c of children.flat()) if (c != null && c !== false) el.append(c);
-  return el;
-}
+import { h } from '../dom.js';
+import { parseNumber } from '../numbers.js';
+import { getAt, isLength, setAt, showNumber, toStored } from './scenario.js';
 
 /** “200,000”: a thousands separator or a decimal comma? Refused rather than guessed. */
 const looksLikeThousands = (text) => /^\s*[+-]?[1-9]\d{0,2}(,\d{3})+\s*$/.test(text);

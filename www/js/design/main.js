@@ -2,11 +2,14 @@
 // redraw the route, and trace it in the workers, showing each sharper answer as it arrives.
 // All physics and geometry come from the core; this file passes data along.
 
-import init, * as core from '../../pkg/tirtrace.js';
+import { loadCore, registerServiceWorker } from '../core.js';
+import { $, h, setStatus } from '../dom.js';
 import { sizeCanvasForCore } from '../drawing.js';
+import { messageOf } from '../errors.js';
+import { formatCount, formatIndex } from '../format.js';
+import { store } from '../storage.js';
 import { MainThreadPool } from '../trace/main-thread-pool.js';
 import { TracePool } from '../trace/pool.js';
-import { wasmSource } from '../wasm-source.js';
 import { Editor } from './editor.js';
 import { FATES, RouteView, heatGradientCss } from './route-view.js';
 import { clearReport, showBends, showFigures, showProgress, showReport } from './report-view.js';
@@ -15,52 +18,38 @@ import {
 } from './scenario.js';
 import { demoList, demoText, traceWorker } from './sources.js';
 
-const $ = (id) => document.getElementById(id);
-const messageOf = (e) => (e instanceof Error ? e.message : String(e ?? 'unknown problem'));
 const UNREADABLE_KEY = 'tirtrace.design.unreadable.v1';
 const KEEP_PATHS = 90;
-
-function setStatus(text, kind = 'busy') {
-  const el = $('status');
-  el.textContent = text;
-  el.dataset.kind = kind;
-}
 
 function toolbarMessage(text, { kind = 'info', action } = {}) {
   const el = $('toolbar-msg');
   el.replaceChildren(document.createTextNode(text));
   if (action) {
-    const b = document.createElement('button');
-    b.type = 'button';
-    b.textContent = action.label;
-    b.addEventListener('click', () => {
+    const run = () => {
       el.hidden = true;
       action.run();
-    });
-    el.append(' ', b);
+    };
+    el.append(' ', h('button', { type: 'button', text: action.label, onclick: run }));
   }
   el.dataset.kind = kind;
   el.hidden = !text;
 }
 
-/** Serde defaults the form shows as fields (the core fills the same when they are absent). */
-function withDefaults(s) {
-  const out = clone(s);
-  out.name ??= '';
-  out.guide.attenuation_db_per_m ??= 0;
-  const src = out.source;
-  src.gap_mm ??= 0;
-  src.gap_medium ??= { library: 'air' };
-  src.offset_mm ??= [0, 0];
-  src.tilt_deg ??= 0;
-  src.tilt_toward_deg ??= 0;
-  out.trace = { rays: 100000, seed: 1, max_interactions: 10000, ...(out.trace || {}) };
-  for (const seg of out.route) if (seg.bend) seg.bend.turn_deg ??= 0;
-  for (const c of out.guide.contacts || []) {
-    c.sector_from_deg ??= 0;
-    c.sector_to_deg ??= 360;
+/** The core's exports (loadCore), once it runs. */
+let core = null;
+
+/**
+ * A kept scenario as the core reads it: its defaults filled in, so the form has a value for
+ * every field. One the core cannot read at all (a whole-number field holding 1.5, say, kept from
+ * the last visit) is taken as it is: the form shows what it can and the check names the field;
+ * one the form cannot show either is set aside (see start()).
+ */
+function asRead(scenario) {
+  try {
+    return core.scenario_as_read(JSON.stringify(scenario));
+  } catch {
+    return clone(scenario);
   }
-  return out;
 }
 
 const page = {
@@ -87,11 +76,7 @@ function problemsOf(state) {
 
 function showLoose(problems) {
   const box = $('form-problems');
-  box.replaceChildren(...problems.map((p) => {
-    const li = document.createElement('p');
-    li.textContent = p.message;
-    return li;
-  }));
+  box.replaceChildren(...problems.map((p) => h('p', { text: p.message })));
   box.hidden = problems.length === 0;
 }
 
@@ -120,7 +105,7 @@ function update() {
     showFigures(page.figures);
     showBends(page.figures, null);
     const material = page.editor.root.querySelector('#f-guide-material-hint');
-    page.editor.materialHint = `n = ${page.figures.n_core.toFixed(4)} at ${page.figures.wavelength_nm} nm (relative to air)`;
+    page.editor.materialHint = `n = ${formatIndex(page.figures.n_core)} at ${page.figures.wavelength_nm} nm (relative to air)`;
     if (material) material.textContent = page.editor.materialHint;
     const outline = core.route_outline(json);
     if (outline.receiver) outline.receiver.round = state.scenario.receiver?.diameter_mm != null;
@@ -159,7 +144,7 @@ function onTraceUpdate(u) {
   if (u.cancelled) {
     setStatus('Stopped', 'ok');
   } else if (u.done) {
-    setStatus(`Traced ${u.raysTotal.toLocaleString('en')} rays`, 'ok');
+    setStatus(`Traced ${formatCount(u.raysTotal)} rays`, 'ok');
     document.body.dataset.traced = String(u.job);
   }
 }
@@ -209,7 +194,7 @@ function drawLegend(report) {
 /** Load another design (example, file, link), keeping the current one to go back to. */
 function replaceDesign(scenario, how) {
   const previous = clone(page.state);
-  page.state.scenario = withDefaults(scenario);
+  page.state.scenario = scenario;
   page.state.drafts = {};
   page.editor.messages.clear();
   page.editor.render();
@@ -232,11 +217,13 @@ function replaceDesign(scenario, how) {
   });
 }
 
-/** Check a scenario given as text (file, link); returns it or throws a readable Error. */
+/**
+ * Check a scenario given as text (file, link); returns it as the core reads it (its defaults
+ * filled in) or throws a readable Error.
+ */
 function readScenario(text) {
-  let parsed;
   try {
-    parsed = JSON.parse(text);
+    JSON.parse(text);
   } catch (e) {
     throw new Error(`it is not JSON (${messageOf(e)})`);
   }
@@ -245,7 +232,7 @@ function readScenario(text) {
     const list = res.problems.slice(0, 3).map((p) => p.message).join('; ');
     throw new Error(`${list}${res.problems.length > 3 ? `; and ${res.problems.length - 3} more` : ''}`);
   }
-  return parsed;
+  return core.scenario_as_read(text);
 }
 
 async function loadDemos() {
@@ -365,7 +352,7 @@ function wireToolbar() {
 
 async function start() {
   try {
-    await init(wasmSource());
+    core = await loadCore();
   } catch (e) {
     setStatus(`The calculator could not start: ${messageOf(e)}`, 'error');
     return;
@@ -380,19 +367,15 @@ async function start() {
   page.state = loadState() || freshState(STARTER);
   const materials = core.materials();
   try {
-    page.state.scenario = withDefaults(page.state.scenario);
+    page.state.scenario = asRead(page.state.scenario);
     page.editor = new Editor($('editor'), page.state, materials, () => scheduleUpdate());
     page.editor.render();
   } catch {
     // A kept design this page cannot show (damaged storage, or from a different version):
     // keep its text aside, start from the starter design, and say so.
-    try {
-      localStorage.setItem(UNREADABLE_KEY, JSON.stringify(loadState()));
-    } catch {
-      // No storage: nothing to keep aside.
-    }
+    store(UNREADABLE_KEY, loadState()); // without storage there is nothing to keep aside
     page.state = freshState(STARTER);
-    page.state.scenario = withDefaults(page.state.scenario);
+    page.state.scenario = asRead(page.state.scenario);
     page.editor = new Editor($('editor'), page.state, materials, () => scheduleUpdate());
     page.editor.render();
     toolbarMessage(
@@ -424,10 +407,8 @@ async function start() {
   }
   document.body.dataset.ready = 'true';
   window.addEventListener('resize', () => drawCharts());
-  // A service worker needs a served page (http or https); a file opened from disk has none.
-  if ('serviceWorker' in navigator && /^https?:$/.test(location.protocol)) {
-    navigator.serviceWorker.register('sw.js').catch(() => {});
-  }
+  // Only a served page (http or https) can have a service worker; a file opened from disk has none.
+  registerServiceWorker();
 }
 
 start();

@@ -2,21 +2,8 @@
 // the loss budget by mechanism and by segment, the bend table, the detector's share and the
 // absolute figures. Text only through textContent (names from files are never HTML).
 
-import { h } from './editor.js';
-
-const $ = (id) => document.getElementById(id);
-
-/** A share as a percentage with as many decimals as its ± figure warrants. */
-export function pct(share, ci) {
-  if (!Number.isFinite(share)) return '—';
-  const p = 100 * share;
-  const c = Number.isFinite(ci) ? 100 * ci : 0;
-  // Two significant digits of the half-width decide the decimals (at most 3, at least 1).
-  const decimals = c > 0 ? Math.min(3, Math.max(1, 1 - Math.floor(Math.log10(c)))) : 1;
-  return p.toFixed(decimals);
-}
-
-const pm = (share, ci) => `${pct(share, ci)} % ± ${pct(ci, ci)}`;
+import { $, h } from '../dom.js';
+import { formatAmount, formatCount, formatFixed, formatShare, formatShareCi, orDash } from '../format.js';
 
 const MECHANISMS = [
   ['delivered', 'Reaches the window (exit face)', '#1864ab'],
@@ -33,18 +20,7 @@ export const MECHANISM_LIST = MECHANISMS;
 
 const KIND_NAMES = { straight: 'Straight', bend: 'Bend', taper: 'Taper' };
 
-function fixed(x, d) {
-  return Number.isFinite(x) ? x.toFixed(d) : '—';
-}
-
-/** A number with 3 significant digits, plain notation where sensible. */
-function sig(x) {
-  if (!Number.isFinite(x)) return '—';
-  if (x === 0) return '0';
-  const a = Math.abs(x);
-  if (a >= 0.01 && a < 1e6) return String(Number(x.toPrecision(3)));
-  return x.toExponential(2);
-}
+const fixed = (x, d) => orDash(formatFixed(x, d));
 
 export function showProgress(u) {
   const bar = $('progress');
@@ -52,9 +28,9 @@ export function showProgress(u) {
   bar.value = u.raysDone || 0;
   let text;
   if (u.error) text = 'Not traced: see the message above the form.';
-  else if (u.cancelled) text = `Stopped at ${u.raysDone.toLocaleString('en')} of ${u.raysTotal.toLocaleString('en')} rays.`;
-  else if (u.done) text = `${u.raysTotal.toLocaleString('en')} rays traced in ${(u.elapsedMs / 1000).toFixed(1)} s.`;
-  else text = `${(u.raysDone || 0).toLocaleString('en')} of ${(u.raysTotal || 0).toLocaleString('en')} rays…`;
+  else if (u.cancelled) text = `Stopped at ${formatCount(u.raysDone)} of ${formatCount(u.raysTotal)} rays.`;
+  else if (u.done) text = `${formatCount(u.raysTotal)} rays traced in ${(u.elapsedMs / 1000).toFixed(1)} s.`;
+  else text = `${formatCount(u.raysDone || 0)} of ${formatCount(u.raysTotal || 0)} rays…`;
   $('progress-text').textContent = text;
   $('cancel').disabled = u.done || u.cancelled || !!u.error;
   document.body.dataset.tracing = u.done || u.cancelled || u.error ? 'false' : 'true';
@@ -62,23 +38,23 @@ export function showProgress(u) {
 
 export function showReport(report, figures, scenario) {
   const d = report.delivered;
-  $('answer-value').textContent = pct(d.share, d.ci95);
-  $('answer-ci').textContent = `± ${pct(d.ci95, d.ci95)} %`;
+  $('answer-value').textContent = formatShare(d.share, d.ci95);
+  $('answer-ci').textContent = `± ${formatShare(d.ci95, d.ci95)} %`;
   $('answer').dataset.share = String(d.share);
   $('answer').dataset.ci95 = String(d.ci95);
   $('answer').dataset.rays = String(report.rays);
-  $('answer-note').textContent = `of the light the ${scenario.source.emitter.beam ? 'beam' : 'LED'} emits, from ${report.rays.toLocaleString('en')} rays (95 % confidence).`;
+  $('answer-note').textContent = `of the light the ${scenario.source.emitter.beam ? 'beam' : 'LED'} emits, from ${formatCount(report.rays)} rays (95 % confidence).`;
 
   // Detector and absolute figures.
   const extra = [];
-  if (report.receiver) extra.push(['On the detector', pm(report.receiver.share, report.receiver.ci95)]);
+  if (report.receiver) extra.push(['On the detector', formatShareCi(report.receiver.share, report.receiver.ci95)]);
   const abs = report.absolute;
   if (abs) {
-    extra.push([`Flux reaching the window`, `${sig(abs.delivered.value)} ± ${sig(abs.delivered.ci95)} ${abs.unit}`]);
-    if (abs.receiver) extra.push([`Flux on the detector`, `${sig(abs.receiver.value)} ± ${sig(abs.receiver.ci95)} ${abs.unit}`]);
-    extra.push([`Peak intensity (at ${fixed(abs.peak_angle_deg, 1)}° off axis)`, `${sig(abs.peak_intensity.value)} ± ${sig(abs.peak_intensity.ci95)} ${abs.intensity_unit}`]);
-    extra.push([`On-axis intensity`, `${sig(abs.on_axis_intensity.value)} ± ${sig(abs.on_axis_intensity.ci95)} ${abs.intensity_unit}`]);
-    if (abs.mean_exit_luminance) extra.push(['Mean luminance of the exit face', `${sig(abs.mean_exit_luminance.value)} ± ${sig(abs.mean_exit_luminance.ci95)} cd/m²`]);
+    extra.push([`Flux reaching the window`, `${formatAmount(abs.delivered.value)} ± ${formatAmount(abs.delivered.ci95)} ${abs.unit}`]);
+    if (abs.receiver) extra.push([`Flux on the detector`, `${formatAmount(abs.receiver.value)} ± ${formatAmount(abs.receiver.ci95)} ${abs.unit}`]);
+    extra.push([`Peak intensity (at ${fixed(abs.peak_angle_deg, 1)}° off axis)`, `${formatAmount(abs.peak_intensity.value)} ± ${formatAmount(abs.peak_intensity.ci95)} ${abs.intensity_unit}`]);
+    extra.push([`On-axis intensity`, `${formatAmount(abs.on_axis_intensity.value)} ± ${formatAmount(abs.on_axis_intensity.ci95)} ${abs.intensity_unit}`]);
+    if (abs.mean_exit_luminance) extra.push(['Mean luminance of the exit face', `${formatAmount(abs.mean_exit_luminance.value)} ± ${formatAmount(abs.mean_exit_luminance.ci95)} cd/m²`]);
   }
   $('extra').replaceChildren(...extra.map(([k, v]) => h('div', { class: 'extra-item' }, h('dt', { text: k }), h('dd', { text: v }))));
   $('extra').hidden = extra.length === 0;
@@ -88,17 +64,17 @@ export function showReport(report, figures, scenario) {
   const bar = $('budget-bar');
   bar.replaceChildren(
     ...MECHANISMS.filter(([k]) => b[k].share > 0).map(([k, label, colour]) =>
-      h('span', { class: 'budget-piece', title: `${label}: ${pm(b[k].share, b[k].ci95)}`, style: `flex-grow:${b[k].share};background:${colour}` }),
+      h('span', { class: 'budget-piece', title: `${label}: ${formatShareCi(b[k].share, b[k].ci95)}`, style: `flex-grow:${b[k].share};background:${colour}` }),
     ),
   );
   $('budget-rows').replaceChildren(
     ...MECHANISMS.map(([k, label, colour]) =>
       h('tr', { dataset: { mechanism: k } },
         h('th', { scope: 'row' }, h('span', { class: 'swatch', style: `background:${colour}`, 'aria-hidden': 'true' }), label),
-        h('td', { class: 'num', text: pct(b[k].share, b[k].ci95) }),
-        h('td', { class: 'num ci', text: `± ${pct(b[k].ci95, b[k].ci95)}` })),
+        h('td', { class: 'num', text: formatShare(b[k].share, b[k].ci95) }),
+        h('td', { class: 'num ci', text: `± ${formatShare(b[k].ci95, b[k].ci95)}` })),
     ),
-    h('tr', { class: 'sum' }, h('th', { scope: 'row', text: 'Sum (energy check)' }), h('td', { class: 'num', text: (100 * report.budget_sum).toFixed(6) }), h('td')),
+    h('tr', { class: 'sum' }, h('th', { scope: 'row', text: 'Sum (energy check)' }), h('td', { class: 'num', text: formatFixed(100 * report.budget_sum, 6) }), h('td')),
   );
 
   // By segment.
@@ -119,9 +95,9 @@ export function showReport(report, figures, scenario) {
           h('span', { class: 'seg-track', 'aria-hidden': 'true' },
             bar(s.leaked.share, 'leak'), bar(s.absorbed.share, 'absorb'), bar(loss - s.leaked.share - s.absorbed.share, 'mount'))),
         h('td', { class: 'num', text: fixed(s.length_mm, 1) }),
-        h('td', { class: 'num', text: pm(s.leaked.share, s.leaked.ci95) }),
-        h('td', { class: 'num', text: pm(s.absorbed.share, s.absorbed.ci95) }),
-        h('td', { text: lost.length ? lost.map((c) => `${c.name || 'mount'}: ${pm(c.lost.share, c.lost.ci95)}`).join('; ') : '—' }));
+        h('td', { class: 'num', text: formatShareCi(s.leaked.share, s.leaked.ci95) }),
+        h('td', { class: 'num', text: formatShareCi(s.absorbed.share, s.absorbed.ci95) }),
+        h('td', { text: lost.length ? lost.map((c) => `${c.name || 'mount'}: ${formatShareCi(c.lost.share, c.lost.ci95)}`).join('; ') : '—' }));
     }),
   );
 
@@ -132,7 +108,7 @@ export function showReport(report, figures, scenario) {
 export function showBends(figures, report) {
   const rows = (figures?.bends || []).map((bf) => {
     const seg = report?.segments?.[bf.segment];
-    const leaked = seg ? pm(seg.leaked.share, seg.leaked.ci95) : '…';
+    const leaked = seg ? formatShareCi(seg.leaked.share, seg.leaked.ci95) : '…';
     const ok = bf.verdict === 'ok';
     return h('tr', { dataset: { segment: String(bf.segment), verdict: bf.verdict } },
       h('th', { scope: 'row', text: `${bf.segment + 1}` }),

@@ -2,9 +2,7 @@
 // the text the user typed into each number field (kept verbatim so nothing typed is lost), and
 // the chosen length unit. Plus keeping it: local storage, files, and share links.
 
-import { parseNumber } from '../numbers.js';
-
-export { parseNumber };
+import { readStored, store } from '../storage.js';
 
 const STORAGE_KEY = 'tirtrace.design.v1';
 
@@ -105,30 +103,19 @@ export function freshState(scenario = STARTER) {
 
 /** The state kept in this browser, or null. */
 export function loadState() {
-  try {
-    const saved = JSON.parse(localStorage.getItem(STORAGE_KEY) || 'null');
-    if (saved && typeof saved === 'object' && saved.scenario && typeof saved.scenario === 'object') {
-      return {
-        scenario: saved.scenario,
-        drafts: saved.drafts && typeof saved.drafts === 'object' ? saved.drafts : {},
-        unit: saved.unit === 'in' ? 'in' : 'mm',
-      };
-    }
-  } catch {
-    // Unreadable: start afresh.
+  const saved = readStored(STORAGE_KEY);
+  if (saved && typeof saved === 'object' && saved.scenario && typeof saved.scenario === 'object') {
+    return {
+      scenario: saved.scenario,
+      drafts: saved.drafts && typeof saved.drafts === 'object' ? saved.drafts : {},
+      unit: saved.unit === 'in' ? 'in' : 'mm',
+    };
   }
   return null;
 }
 
 /** Keep the state in this browser; false when storage is unavailable. */
-export function saveState(state) {
-  try {
-    localStorage.setItem(STORAGE_KEY, JSON.stringify(state));
-    return true;
-  } catch {
-    return false;
-  }
-}
+export const saveState = (state) => store(STORAGE_KEY, state);
 
 // ---------------------------------------------------------------- share links
 

@@ -4,7 +4,7 @@
 // scripts/build.sh; the service worker keeps them offline) and the trace pool starts its own
 // module workers (www/js/trace/worker.js). The single-file build (scripts/build_single.py)
 // replaces this module by one that holds the examples' text and starts the workers from the
-// modules embedded in the file.
+// worker's bundle embedded in the file.
 
 /** The examples for the "Start from" menu: [{ file, name }]. */
 export async function demoList() {

@@ -5,15 +5,15 @@
 //
 // Page address options: ?scenario=demos/x.json&rays=N&run=1 (run starts it at once).
 
+import { $, setStatus } from '../dom.js';
+import { messageOf } from '../errors.js';
+import { formatCount } from '../format.js';
 import { TracePool } from './pool.js';
 
 /** Rays per batch in the core (src/trace.rs, BATCH_RAYS): sizes the warm-up trace. */
 const BATCH_RAYS = 4096;
 /** Warm-up batches per worker before a timed run (V8 first runs wasm on its baseline compiler). */
 const WARM_BATCHES_PER_WORKER = 2;
-
-const $ = (id) => document.getElementById(id);
-const messageOf = (e) => (e instanceof Error ? e.message : String(e ?? 'unknown problem'));
 
 /** Run one job on a pool; resolves with its final update, rejects with its error. */
 function runJob(pool, listen, scenarioJson) {
@@ -88,13 +88,8 @@ export async function measure({ scenario = 'demos/bench_three_bends.json', rays 
 
 // ------------------------------------------------------------------ the page
 
-function setStatus(text, kind = 'busy') {
-  $('status').textContent = text;
-  $('status').dataset.kind = kind;
-}
-
 function show(r) {
-  const n = (x) => x.toLocaleString('en');
+  const n = formatCount;
   $('first-answer').textContent = `${n(r.first_answer_ms)} ms (first trace on a new pool: ${n(r.first_answer_cold_ms)} ms)`;
   $('rate-one').textContent = n(r.rays_per_s_1_worker);
   $('worker-count').textContent = String(r.workers);
@@ -119,7 +114,7 @@ async function runFromForm() {
   try {
     const r = await measure({ scenario: $('scenario').value.trim(), rays });
     show(r);
-    setStatus(`Done: ${r.rays.toLocaleString('en')} rays.`, 'ok');
+    setStatus(`Done: ${formatCount(r.rays)} rays.`, 'ok');
     document.body.dataset.state = 'done';
   } catch (e) {
     setStatus(`The speed check failed: ${messageOf(e)}`, 'error');

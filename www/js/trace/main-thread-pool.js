@@ -4,19 +4,18 @@
 // both report the batches 0..k merged in batch order with the core's own Tracer.
 //
 // The page stays responsive by tracing for at most SLICE_MS before giving the thread back; the
-// progressive merges follow the pool's pacing (MIN_MERGE_INTERVAL_MS, MERGE_DUTY). Slower than
+// progressive merges follow the pool's pacing (job.js: MIN_MERGE_INTERVAL_MS, MERGE_DUTY). Slower than
 // the workers: one thread, and the merges run on it too.
 //
 // Usage (the core already initialised on this thread):
 //   import * as core from '../../pkg/tirtrace.js';
 //   const pool = new MainThreadPool({ Tracer: core.Tracer, onUpdate: (u) => show(u) });
 
-import { MERGE_DUTY, MIN_MERGE_INTERVAL_MS, declaredRays, deliverUpdate } from './pool.js';
+import { messageOf } from '../errors.js';
+import { deliverUpdate, mergeInterval, newJob, updateHandler } from './job.js';
 
 /** Longest stretch of tracing before the page gets its thread back (ms); one batch may exceed it. */
 const SLICE_MS = 40;
-
-const messageOf = (e) => (e instanceof Error ? e.message : String(e ?? 'unknown problem'));
 
 // The next task, without the 4 ms clamp nested timers get: one shared channel, resolved in order.
 const wakeUps = [];
@@ -45,11 +44,8 @@ export class MainThreadPool {
    */
   constructor({ Tracer, onUpdate } = {}) {
     if (typeof Tracer !== 'function') throw new TypeError('MainThreadPool needs the core\'s Tracer class');
-    if (onUpdate !== undefined && typeof onUpdate !== 'function') {
-      throw new TypeError('MainThreadPool onUpdate must be a function');
-    }
     this.#Tracer = Tracer;
-    this.#onUpdate = onUpdate ?? (() => {});
+    this.#onUpdate = updateHandler(onUpdate, 'MainThreadPool');
   }
 
   /** Number of tracing workers: none, it traces on this thread. */
@@ -65,27 +61,9 @@ export class MainThreadPool {
   /** As TracePool.start: replaces any running job; updates come after it returns. */
   start(scenarioJson, { keepPaths = 200 } = {}) {
     if (this.#disposed) throw new Error('this MainThreadPool has been disposed');
-    if (!Number.isInteger(keepPaths) || keepPaths < 0 || keepPaths > 0xffffffff) {
-      throw new RangeError(`keepPaths must be a whole number ≥ 0, got ${keepPaths}`);
-    }
+    const job = newJob(this.#nextJob, scenarioJson, keepPaths);
+    this.#nextJob += 1;
     this.#stop();
-    const scenario = String(scenarioJson);
-    const job = {
-      id: this.#nextJob++,
-      scenario,
-      keepPaths,
-      startedAt: performance.now(),
-      declaredRays: declaredRays(scenario),
-      batchCount: null,
-      traced: 0, // batches 0..traced-1 are in the core's running merge
-      rays: [], // rays of each traced batch
-      lastMergeAt: 0,
-      lastMergeMs: 0,
-      report: null,
-      reportBatches: 0,
-      firstAnswerMs: null,
-      finished: false,
-    };
     this.#job = job;
     this.#run(job);
     return job.id;
@@ -123,21 +101,20 @@ export class MainThreadPool {
       job.batchCount = tracer.batch_count();
       while (!job.finished) {
         const sliceStart = performance.now();
-        while (job.traced < job.batchCount && performance.now() - sliceStart < SLICE_MS) {
-          const index = job.traced;
+        while (job.prefix < job.batchCount && performance.now() - sliceStart < SLICE_MS) {
+          const index = job.prefix;
           try {
             const [batch] = tracer.batches(index, 1, job.keepPaths);
             tracer.merger_add(index, batch);
             job.rays.push(batch.rays);
-            job.traced += 1;
+            job.prefix += 1;
           } catch (e) {
             this.#fail(job, `Tracing batch ${index} failed: ${messageOf(e)}`);
             return;
           }
         }
-        const final = job.traced === job.batchCount;
-        const interval = Math.max(MIN_MERGE_INTERVAL_MS, job.lastMergeMs / MERGE_DUTY);
-        if (final || job.reportBatches === 0 || performance.now() - job.lastMergeAt >= interval) {
+        const final = job.prefix === job.batchCount;
+        if (final || job.reportBatches === 0 || performance.now() - job.lastMergeAt >= mergeInterval(job)) {
           if (!this.#merge(job, tracer)) return;
           if (final) job.finished = true;
           this.#emit(job, { done: final, cancelled: false });
@@ -156,14 +133,14 @@ export class MainThreadPool {
   #merge(job, tracer) {
     const start = performance.now();
     try {
-      job.report = tracer.merger_report(job.traced);
+      job.report = tracer.merger_report(job.prefix);
     } catch (e) {
       this.#fail(job, `The traced batches could not be merged: ${messageOf(e)}`);
       return false;
     }
     job.lastMergeAt = performance.now();
     job.lastMergeMs = job.lastMergeAt - start;
-    job.reportBatches = job.traced;
+    job.reportBatches = job.prefix;
     job.firstAnswerMs ??= job.lastMergeAt - job.startedAt;
     return true;
   }
@@ -173,15 +150,8 @@ export class MainThreadPool {
     this.#emit(job, { done: true, cancelled: false, error: message });
   }
 
-  #raysTotal(job) {
-    if (job.declaredRays !== null) return job.declaredRays;
-    if (job.batchCount === null) return 0;
-    if (job.traced === job.batchCount) return job.rays.reduce((a, b) => a + b, 0);
-    return job.traced === 0 ? 0 : job.batchCount * job.rays[0];
-  }
-
   #emit(job, { done, cancelled, error = null }) {
-    deliverUpdate(this.#onUpdate, job, this.#raysTotal(job), { done, cancelled, error });
+    deliverUpdate(this.#onUpdate, job, { done, cancelled, error });
   }
 
 }

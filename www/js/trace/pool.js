@@ -28,60 +28,16 @@
 // firstAnswerMs: ms from start() to the first report (null before it);
 // raysPerSecond: raysDone over the time since start().
 
-/** Shortest time between two progressive merges (ms); the first and the final are not held back. */
-export const MIN_MERGE_INTERVAL_MS = 150;
-/** A merge may take at most this share of the time between merges (so large traces keep tracing). */
-export const MERGE_DUTY = 1 / 3;
+import { messageOf } from '../errors.js';
+import { deliverUpdate, mergeInterval, newJob, updateHandler } from './job.js';
+
 /** Most tracing workers a pool starts by default (and the largest size accepted). */
 const DEFAULT_MAX_WORKERS = 8;
 const MAX_WORKERS = 32;
 
-const messageOf = (e) => (e instanceof Error ? e.message : String(e ?? 'unknown problem'));
-
 function defaultSize() {
   const cores = Number(globalThis.navigator?.hardwareConcurrency) || 1;
   return Math.min(DEFAULT_MAX_WORKERS, Math.max(1, Math.floor(cores)));
-}
-
-/** The ray count a scenario document asks for, or null when it leaves it to the core's default. */
-export function declaredRays(scenarioJson) {
-  try {
-    const rays = JSON.parse(scenarioJson)?.trace?.rays;
-    return Number.isSafeInteger(rays) && rays > 0 ? rays : null;
-  } catch {
-    return null; // the core will say what is wrong with the text
-  }
-}
-
-/**
- * Build the update of `job` (see the top of this file) and hand it to the page's `onUpdate`; a
- * handler that throws is reported as uncaught without stopping the pool. Shared with the
- * on-page tracer (main-thread-pool.js), whose jobs carry the same fields.
- */
-export function deliverUpdate(onUpdate, job, raysTotal, { done, cancelled, error = null }) {
-  const elapsedMs = performance.now() - job.startedAt;
-  const raysDone = job.report?.rays ?? 0;
-  const update = {
-    job: job.id,
-    report: job.report,
-    batchesDone: job.reportBatches,
-    batchCount: job.batchCount ?? 0,
-    raysDone,
-    raysTotal,
-    done,
-    cancelled,
-    error,
-    firstAnswerMs: job.firstAnswerMs,
-    elapsedMs,
-    raysPerSecond: elapsedMs > 0 ? (raysDone * 1000) / elapsedMs : 0,
-  };
-  try {
-    onUpdate(update);
-  } catch (e) {
-    setTimeout(() => {
-      throw e;
-    });
-  }
 }
 
 export class TracePool {
@@ -110,14 +66,11 @@ export class TracePool {
     if (!Number.isInteger(n) || n < 1 || n > MAX_WORKERS) {
       throw new RangeError(`TracePool size must be a whole number from 1 to ${MAX_WORKERS}, got ${size}`);
     }
-    if (onUpdate !== undefined && typeof onUpdate !== 'function') {
-      throw new TypeError('TracePool onUpdate must be a function');
-    }
     if (workerType !== 'module' && workerType !== 'classic') {
       throw new RangeError(`TracePool workerType must be 'module' or 'classic', got ${workerType}`);
     }
     this.#size = n;
-    this.#onUpdate = onUpdate ?? (() => {});
+    this.#onUpdate = updateHandler(onUpdate, 'TracePool');
     // Resolved only when needed: a module loaded from a blob: URL has no folder to resolve it in.
     this.#workerUrl = workerUrl ?? new URL('./worker.js', import.meta.url);
     this.#workerType = workerType;
@@ -145,31 +98,15 @@ export class TracePool {
    */
   start(scenarioJson, { keepPaths = 200 } = {}) {
     if (this.#disposed) throw new Error('this TracePool has been disposed');
-    if (!Number.isInteger(keepPaths) || keepPaths < 0 || keepPaths > 0xffffffff) {
-      throw new RangeError(`keepPaths must be a whole number ≥ 0, got ${keepPaths}`);
-    }
-    this.#stop();
-    const scenario = String(scenarioJson);
-    const job = {
-      id: this.#nextJob++,
-      scenario,
-      keepPaths,
-      startedAt: performance.now(),
-      declaredRays: declaredRays(scenario),
-      batchCount: null,
+    const job = Object.assign(newJob(this.#nextJob, scenarioJson, keepPaths), {
       next: 0, // next batch index to hand out
-      rays: [], // rays of each batch received, by index
-      prefix: 0, // batches 0..prefix-1 have all been received
       requested: 0, // prefix length of the last merge asked for
       merging: false,
-      lastMergeAt: 0,
-      lastMergeMs: 0,
       timer: null,
-      report: null,
-      reportBatches: 0,
-      firstAnswerMs: null,
-      finished: false,
-    };
+    });
+    this.#nextJob += 1;
+    this.#stop();
+    const { scenario } = job;
     this.#job = job;
     // Replace workers that have stopped (a crash, or a core that failed to load).
     const newMerger = !this.#merger.alive;
@@ -345,8 +282,7 @@ export class TracePool {
     if (job !== this.#job || job.finished || job.merging || job.prefix <= job.requested) return;
     const final = job.prefix === job.batchCount;
     if (!final && job.requested > 0 && job.next === job.batchCount) return;
-    const interval = Math.max(MIN_MERGE_INTERVAL_MS, job.lastMergeMs / MERGE_DUTY);
-    const wait = job.requested === 0 || final ? 0 : job.lastMergeAt + interval - performance.now();
+    const wait = job.requested === 0 || final ? 0 : job.lastMergeAt + mergeInterval(job) - performance.now();
     if (wait > 0) {
       job.timer ??= setTimeout(() => {
         job.timer = null;
@@ -376,13 +312,6 @@ export class TracePool {
 
   // ------------------------------------------------------------------ job state and updates
 
-  #raysTotal(job) {
-    if (job.declaredRays !== null) return job.declaredRays;
-    if (job.batchCount === null) return 0;
-    if (job.prefix === job.batchCount) return job.rays.reduce((a, b) => a + b, 0);
-    return job.rays[0] === undefined ? 0 : job.batchCount * job.rays[0];
-  }
-
   /** Mark a job finished: no more merges or batches for it; the workers forget it. */
   #finish(job) {
     job.finished = true;
@@ -404,7 +333,7 @@ export class TracePool {
   }
 
   #emit(job, { done, cancelled, error = null }) {
-    deliverUpdate(this.#onUpdate, job, this.#raysTotal(job), { done, cancelled, error });
+    deliverUpdate(this.#onUpdate, job, { done, cancelled, error });
   }
 
 }

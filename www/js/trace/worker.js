@@ -20,11 +20,11 @@
 //   { type: 'report', job, count, report, ms } | { type: 'merge-error', job, message }
 //   { type: 'worker-error', message }                        a message could not be handled
 
-import init, { Tracer } from '../../pkg/tirtrace.js';
-import { wasmSource } from '../wasm-source.js';
+import { loadCore } from '../core.js';
+import { messageOf } from '../errors.js';
 
-const messageOf = (e) => (e instanceof Error ? e.message : String(e ?? 'unknown problem'));
-
+/** The core's Tracer class, once the core has loaded. */
+let Tracer = null;
 /** The job loaded: its id, its scenario text and Tracer. */
 const loaded = { job: null, scenario: null, tracer: null };
 /** Tracing role: the channel to the merging worker. */
@@ -163,8 +163,11 @@ function handle(msg) {
 
 // Messages that arrive while the core is loading wait for it; all run in arrival order.
 let failed = false;
-let queue = init(wasmSource()).then(
-  () => postMessage({ type: 'ready' }),
+let queue = loadCore().then(
+  (core) => {
+    Tracer = core.Tracer;
+    postMessage({ type: 'ready' });
+  },
   (e) => {
     failed = true;
     postMessage({ type: 'init-error', message: messageOf(e) });

@@ -1,0 +1,4 @@
+// Error text for people, shared by both pages and the trace workers.
+
+/** The readable message of anything thrown or rejected: an Error's message, else its text. */
+export const messageOf = (e) => (e instanceof Error ? e.message : String(e ?? 'unknown problem'));

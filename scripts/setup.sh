@@ -1,6 +1,7 @@
 #!/usr/bin/env bash
 # Install whatever is missing to build tirtrace (and, with --browser, to test it in a browser):
 #   - the wasm32-unknown-unknown Rust target
+#   - node and npm (Debian's), and the build tools from npm in tools/ (wasm-opt, esbuild)
 #   - wasm-bindgen-cli at exactly the version in Cargo.lock, into .tools/ (git-ignored)
 #   - with --browser: Debian's chromium + chromium-driver, and the npm packages of tests/e2e
 # Every step is skipped when its result is already there, so running it again is cheap.
@@ -41,9 +42,13 @@ fi
 
 command -v python3 >/dev/null || apt_install python3
 
-# wasm-opt (binaryen from npm) shrinks the wasm; optional, so only when node and npm are here.
+# Build tools from npm: wasm-opt (binaryen) shrinks the wasm, esbuild bundles dist/tirtrace.html.
+if ! command -v node >/dev/null || ! command -v npm >/dev/null; then
+  say "installing node and npm"
+  apt_install nodejs npm
+fi
 if command -v npm >/dev/null && { [[ ! -f tools/node_modules/.package-lock.json ]] || [[ tools/package-lock.json -nt tools/node_modules/.package-lock.json ]]; }; then
-  say "installing the build tools from npm (wasm-opt)"
+  say "installing the build tools from npm (wasm-opt, and esbuild for the single-file page)"
   npm ci --prefix tools --no-audit --no-fund >/dev/null
 fi
 
@@ -51,10 +56,6 @@ if [[ $want_browser -eq 1 ]]; then
   if [[ ! -x /usr/bin/chromium ]]; then
     say "installing Debian's chromium and chromium-driver"
     apt_install chromium chromium-driver
-  fi
-  if ! command -v node >/dev/null || ! command -v npm >/dev/null; then
-    say "installing node and npm"
-    apt_install nodejs npm
   fi
   if [[ ! -f tests/e2e/node_modules/.package-lock.json ]] || [[ tests/e2e/package-lock.json -nt tests/e2e/node_modules/.package-lock.json ]]; then
     say "installing the browser-test npm packages"

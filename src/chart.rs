@@ -166,7 +166,7 @@ const PALETTE: [(f64, [u8; 3]); 6] = [
 ];
 
 /// The palette colour of a value between 0 (no light) and 1 (the peak), linearly interpolated
-/// between [`PALETTE`]'s control points in sRGB. Values outside 0…1 are clamped; NaN gives the
+/// between `PALETTE`'s control points in sRGB. Values outside 0…1 are clamped; NaN gives the
 /// colour of 0.
 pub fn sequential_colour(value: f64) -> RGBColor {
     let t = if value.is_nan() {

@@ -8,7 +8,7 @@
 //! and end planes — a straight or taper ([`axial`]: cone or cylinder when round, four planes when
 //! rectangular), a bend ([`bend`]: its end planes and position along it), whose walls are a torus
 //! when round ([`torus`]) or two cylinders and two planes when rectangular ([`rect_bend`]); the
-//! shared ray–quadric helpers ([`quadric`]) and polynomial roots ([`roots`]). [`Placed`]
+//! shared ray–quadric helpers (`quadric`) and polynomial roots ([`roots`]). [`Placed`]
 //! dispatches to them.
 
 pub mod axial;

@@ -873,15 +873,27 @@ fn cases() -> Vec<Case> {
     ]
 }
 
-/// A random point strictly inside the segment, often very near the wall.
-fn inside_point(rng: &mut Rng, p: &Placed) -> DVec3 {
-    let frac = |rng: &mut Rng| {
-        if rng.chance(0.3) {
-            1.0 - rng.log_range(1e-9, 1e-2)
-        } else {
-            rng.next()
-        }
-    };
+/// A cross-section of a segment at a random place strictly between its end planes.
+enum Slice {
+    /// A straight or taper at `z`: half-sizes there and their slopes along z.
+    Run {
+        z: f64,
+        hw: f64,
+        hh: f64,
+        kw: f64,
+        kh: f64,
+    },
+    /// A bend at angle `th` about its axis.
+    Bend {
+        th: f64,
+        rc: f64,
+        radial_half: f64,
+        axial_half: f64,
+    },
+}
+
+/// Where [`inside_point`] and [`wall_point`] sample: one draw along the segment.
+fn random_slice(rng: &mut Rng, p: &Placed) -> Slice {
     match p.shape {
         Shape::Axial(Axial {
             length,
@@ -892,6 +904,34 @@ fn inside_point(rng: &mut Rng, p: &Placed) -> DVec3 {
         }) => {
             let z = length * rng.range(1e-6, 1.0 - 1e-6);
             let (hw, hh) = (hw0 + kw * z, hh0 + kh * z);
+            Slice::Run { z, hw, hh, kw, kh }
+        }
+        Shape::Bend(Bend {
+            rc,
+            phi,
+            radial_half,
+            axial_half,
+            ..
+        }) => Slice::Bend {
+            th: phi * rng.range(1e-6, 1.0 - 1e-6),
+            rc,
+            radial_half,
+            axial_half,
+        },
+    }
+}
+
+/// A random point strictly inside the segment, often very near the wall.
+fn inside_point(rng: &mut Rng, p: &Placed) -> DVec3 {
+    let frac = |rng: &mut Rng| {
+        if rng.chance(0.3) {
+            1.0 - rng.log_range(1e-9, 1e-2)
+        } else {
+            rng.next()
+        }
+    };
+    match random_slice(rng, p) {
+        Slice::Run { z, hw, hh, .. } => {
             if p.round {
                 let r = hw * frac(rng);
                 let al = TAU * rng.next();
@@ -900,14 +940,12 @@ fn inside_point(rng: &mut Rng, p: &Placed) -> DVec3 {
                 DVec3::new(hw * frac(rng) * rng.sign(), hh * frac(rng) * rng.sign(), z)
             }
         }
-        Shape::Bend(Bend {
+        Slice::Bend {
+            th,
             rc,
-            phi,
             radial_half,
             axial_half,
-            ..
-        }) => {
-            let th = phi * rng.range(1e-6, 1.0 - 1e-6);
+        } => {
             let (u, v) = if p.round {
                 let r = radial_half * frac(rng);
                 let al = TAU * rng.next();
@@ -926,16 +964,8 @@ fn inside_point(rng: &mut Rng, p: &Placed) -> DVec3 {
 /// A random point on the side wall and the outward unit normal there, from the shape's own
 /// parameters (not from `next`).
 fn wall_point(rng: &mut Rng, p: &Placed) -> (DVec3, DVec3) {
-    match p.shape {
-        Shape::Axial(Axial {
-            length,
-            hw0,
-            hh0,
-            kw,
-            kh,
-        }) => {
-            let z = length * rng.range(1e-6, 1.0 - 1e-6);
-            let (hw, hh) = (hw0 + kw * z, hh0 + kh * z);
+    match random_slice(rng, p) {
+        Slice::Run { z, hw, hh, kw, kh } => {
             if p.round {
                 let al = TAU * rng.next();
                 let w = DVec3::new(hw * al.cos(), hw * al.sin(), z);
@@ -951,14 +981,12 @@ fn wall_point(rng: &mut Rng, p: &Placed) -> (DVec3, DVec3) {
                 }
             }
         }
-        Shape::Bend(Bend {
+        Slice::Bend {
+            th,
             rc,
-            phi,
             radial_half,
             axial_half,
-            ..
-        }) => {
-            let th = phi * rng.range(1e-6, 1.0 - 1e-6);
+        } => {
             let radial = DVec3::new(th.cos(), th.sin(), 0.0);
             if p.round {
                 torus_wall(rc, radial_half, th, TAU * rng.next())

@@ -6,23 +6,15 @@
 //! This is what `tirtrace check` prints. Everything here is a pure function of the scenario;
 //! angles are radians inside and degrees in the serialised figures, indices are relative to air.
 //!
-//! Formulas (sources in `docs/REFERENCES.md`):
-//! - critical angle θc = asin(n_out/n_core) at the side wall (W. J. Smith, *Modern Optical
-//!   Engineering*, 4th ed., eq. 11.1–11.2; §2);
-//! - NA = √(n_core² − n_out²), acceptance n_gap sin θa = NA, saturating at 90° when NA ≥ n_gap
-//!   (G. Keiser, *Optical Fiber Communications*; §3);
-//! - entry Fresnel loss at normal incidence R = ((n_core − n_gap)/(n_core + n_gap))² (Born & Wolf,
-//!   *Principles of Optics* §1.5; §2);
-//! - largest internal angle n_gap sin θlaunch = n_core sin θmax, capped at the guiding limit
-//!   90° − θc ([`guide::max_internal_angle_rad`]);
-//! - leak-free bend R_in/d ≥ n_out / (n_core cos θmax − n_out), none when the denominator is
-//!   ≤ 0 ([`guide::leak_free_bend_ratio`]; derived, §4).
+//! Formulas: the critical angle, NA, acceptance, entry Fresnel loss, largest internal angle and
+//! leak-free ratio are [`guide::launch_chain`]'s (formulas and `docs/REFERENCES.md` sections on
+//! [`guide::LaunchChain`]), with the gap medium in front of the entry face; each bend's R_in/d
+//! is set against that ratio, R_in/d ≥ n_out / (n_core cos θmax − n_out) (§4).
 
 use serde::Serialize;
 
 use crate::error::FieldError;
-use crate::guide;
-use crate::interface;
+use crate::guide::{self, LaunchChain};
 use crate::scenario::{
     bend_half_size_mm, Emitter, Scenario, ScenarioIndices, Section, Segment, Source,
 };
@@ -121,20 +113,15 @@ pub fn launch_half_angle_rad(source: &Source) -> f64 {
 }
 
 /// The figures of every bend of `route`, starting from the entry section `start` and following
-/// the section through tapers, for rays up to `theta_max_rad` to the axis inside the guide.
+/// the section through tapers, for the launch `launch` (its largest internal angle θmax and its
+/// leak-free ratio).
 ///
 /// Inner radius R_in = R_centre − d/2 with d the section's size across the bend there
 /// ([`bend_half_size_mm`]); the leak-free ratio is R_in/d ≥ n_out / (n_core cos θmax − n_out)
 /// ([`guide::leak_free_bend_ratio`], `docs/REFERENCES.md` §4).
-pub fn bend_figures(
-    start: Section,
-    route: &[Segment],
-    n_core: f64,
-    n_out: f64,
-    theta_max_rad: f64,
-) -> Vec<BendFigures> {
-    let leak_free = guide::leak_free_bend_ratio(n_core, n_out, theta_max_rad);
-    let theta_max_deg = theta_max_rad.to_degrees();
+pub fn bend_figures(start: Section, route: &[Segment], launch: &LaunchChain) -> Vec<BendFigures> {
+    let leak_free = launch.leak_free_ratio;
+    let theta_max_deg = launch.max_internal_angle_rad.to_degrees();
     let mut section = start;
     let mut out = Vec::new();
     for (i, seg) in route.iter().enumerate() {
@@ -152,11 +139,7 @@ pub fn bend_figures(
                 let ratio = inner / size;
                 let ok = leak_free.is_some_and(|r| ratio >= r);
                 let note = match leak_free {
-                    None => format!(
-                        "no leak-free radius exists: the launch fills the guide up to its \
-                         guiding limit ({theta_max_deg:.1}° to the axis), so some light leaks \
-                         at any bend radius"
-                    ),
+                    None => guide::no_leak_free_radius_note(theta_max_deg),
                     Some(r) if ok => format!(
                         "leak-free: R_in/d = {ratio:.3} ≥ {r:.3}, every ray up to \
                          {theta_max_deg:.1}° to the axis stays totally reflected"
@@ -194,11 +177,8 @@ pub fn bend_figures(
 /// Requires `n_surroundings < n_core`, which [`Scenario::check`] guarantees.
 pub fn figures_with_indices(scenario: &Scenario, ix: &ScenarioIndices) -> ScenarioFigures {
     let (n_core, n_out, n_gap) = (ix.n_core, ix.n_out, ix.n_gap);
-    let theta_c = interface::critical_angle_rad(n_core, n_out).unwrap_or(f64::NAN);
-    let na = guide::numerical_aperture(n_core, n_out);
-    let accept = guide::acceptance_half_angle_rad(na, n_gap);
     let launch = launch_half_angle_rad(&scenario.source);
-    let theta_max = guide::max_internal_angle_rad(n_core, n_out, n_gap, launch);
+    let chain = guide::launch_chain(n_core, n_out, n_gap, launch);
     ScenarioFigures {
         name: scenario.name.clone(),
         wavelength_nm: scenario.source.wavelength_nm,
@@ -206,20 +186,14 @@ pub fn figures_with_indices(scenario: &Scenario, ix: &ScenarioIndices) -> Scenar
         n_surroundings: n_out,
         n_exit: ix.n_exit,
         n_gap,
-        critical_angle_deg: theta_c.to_degrees(),
-        numerical_aperture: na,
-        acceptance_half_angle_in_gap_deg: accept.to_degrees(),
-        acceptance_saturated: na >= n_gap,
-        entry_fresnel_loss: interface::fresnel_reflectance(1.0, n_gap, n_core),
+        critical_angle_deg: chain.critical_angle_rad.to_degrees(),
+        numerical_aperture: chain.numerical_aperture,
+        acceptance_half_angle_in_gap_deg: chain.acceptance_half_angle_rad.to_degrees(),
+        acceptance_saturated: chain.acceptance_saturated,
+        entry_fresnel_loss: chain.entry_fresnel_loss,
         launch_half_angle_in_gap_deg: launch.to_degrees(),
-        max_internal_angle_deg: theta_max.to_degrees(),
-        bends: bend_figures(
-            scenario.guide.section,
-            &scenario.route,
-            n_core,
-            n_out,
-            theta_max,
-        ),
+        max_internal_angle_deg: chain.max_internal_angle_rad.to_degrees(),
+        bends: bend_figures(scenario.guide.section, &scenario.route, &chain),
         bend_note: "bend figures use the largest internal angle of the launch at the entry \
                     face; a narrowing taper or an earlier bend raises ray angles, so a later \
                     bend may leak although marked ok, and some light may be lost at the exit \

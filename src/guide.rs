@@ -1,8 +1,11 @@
 //! Closed-form results for a step-index light guide: numerical aperture, acceptance, relative
-//! index difference, the meridional leak-free bend criterion, coupling fractions and étendue.
-//! Angles in radians; indices relative to air.
+//! index difference, the meridional leak-free bend criterion, coupling fractions and étendue, and
+//! the launch chain that strings them together for the quick look and the scenario check
+//! ([`launch_chain`]). Angles in radians; indices relative to air.
 
 use std::f64::consts::{FRAC_PI_2, PI};
+
+use crate::interface;
 
 /// Numerical aperture NA = √(n_core² − n_out²) (G. Keiser, *Optical Fiber Communications*).
 /// Returns 0 when n_out ≥ n_core (nothing is guided); NaN in gives NaN out.
@@ -107,4 +110,59 @@ pub fn cos_power_fraction_within(m: f64, half_angle_rad: f64) -> f64 {
 pub fn etendue_mm2_sr(area_mm2: f64, n: f64, half_angle_rad: f64) -> f64 {
     let s = libm::sin(half_angle_rad);
     PI * area_mm2 * n * n * s * s
+}
+
+/// The closed-form chain from a launch to its bend figure, for a step-index guide fed through a
+/// flat entry face normal to its axis (angles in radians, indices relative to air; see
+/// [`launch_chain`]).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct LaunchChain {
+    /// Critical angle at the side wall, from the wall normal: θc = asin(n_out/n_core)
+    /// (`docs/REFERENCES.md` §2). NaN when n_out ≥ n_core.
+    pub critical_angle_rad: f64,
+    /// NA = √(n_core² − n_out²) ([`numerical_aperture`], §3).
+    pub numerical_aperture: f64,
+    /// Acceptance half-angle in the front medium, n_front sin θa = NA, π/2 when saturated
+    /// ([`acceptance_half_angle_rad`], §3).
+    pub acceptance_half_angle_rad: f64,
+    /// True when every ray from the front medium is accepted: NA ≥ n_front.
+    pub acceptance_saturated: bool,
+    /// Largest guided ray angle to the axis inside the core: n_front sin θlaunch = n_core sin θmax,
+    /// capped at the guiding limit π/2 − θc ([`max_internal_angle_rad`], §4).
+    pub max_internal_angle_rad: f64,
+    /// Smallest leak-free R_in/d for that angle, n_out / (n_core cos θmax − n_out); `None` when no
+    /// radius is leak-free ([`leak_free_bend_ratio`], §4).
+    pub leak_free_ratio: Option<f64>,
+    /// Fresnel reflection loss at the entry face at normal incidence,
+    /// R = ((n_core − n_front)/(n_core + n_front))² (§2).
+    pub entry_fresnel_loss: f64,
+}
+
+/// The launch chain of a guide of index `n_core` in surroundings `n_out`, fed from a front medium
+/// of index `n_front` by a cone of half-angle `launch_rad` (radians, in the front medium, about
+/// the axis): critical angle, NA, acceptance, largest internal angle, leak-free bend ratio and
+/// entry Fresnel loss, each as documented on [`LaunchChain`] (sources: `docs/REFERENCES.md` §2
+/// for the critical angle and Fresnel, §3 for NA and acceptance, §4 for the bend). The quick look
+/// ([`crate::quick`]) and the scenario check ([`crate::check`]) both report it.
+pub fn launch_chain(n_core: f64, n_out: f64, n_front: f64, launch_rad: f64) -> LaunchChain {
+    let na = numerical_aperture(n_core, n_out);
+    let theta_max = max_internal_angle_rad(n_core, n_out, n_front, launch_rad);
+    LaunchChain {
+        critical_angle_rad: interface::critical_angle_rad(n_core, n_out).unwrap_or(f64::NAN),
+        numerical_aperture: na,
+        acceptance_half_angle_rad: acceptance_half_angle_rad(na, n_front),
+        acceptance_saturated: na >= n_front,
+        max_internal_angle_rad: theta_max,
+        leak_free_ratio: leak_free_bend_ratio(n_core, n_out, theta_max),
+        entry_fresnel_loss: interface::fresnel_reflectance(1.0, n_front, n_core),
+    }
+}
+
+/// What a bend figure says when no leak-free radius exists ([`leak_free_bend_ratio`] is `None`)
+/// for a launch whose largest internal angle is `max_internal_angle_deg` (degrees, to the axis).
+pub fn no_leak_free_radius_note(max_internal_angle_deg: f64) -> String {
+    format!(
+        "no leak-free radius exists: the launch fills the guide up to its guiding limit \
+         ({max_internal_angle_deg:.1}° to the axis), so some light leaks at any bend radius"
+    )
 }

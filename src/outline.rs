@@ -17,7 +17,8 @@ use glam::DVec3;
 use serde::Serialize;
 
 use crate::error::FieldError;
-use crate::geometry::{Frame, PlacedRoute, Shape};
+use crate::geometry::bend::rot_z;
+use crate::geometry::{Bend, Frame, Placed, PlacedRoute, Shape};
 use crate::scenario::{Emitter, EmitterArea, Scenario, Segment};
 
 /// Largest turn between two samples of a bend, degrees.
@@ -157,35 +158,27 @@ pub fn route_outline(scenario: &Scenario) -> Result<RouteOutline, Vec<FieldError
     Ok(outline_of(scenario, &placed))
 }
 
-/// Rotate a local vector about local z by the angle whose sine and cosine are `s`, `c`.
-fn rot_z(v: DVec3, s: f64, c: f64) -> DVec3 {
-    DVec3::new(c * v.x - s * v.y, s * v.x + c * v.y, v.z)
-}
-
 /// The samples of one placed segment.
-fn sample(placed: &crate::geometry::Placed) -> Vec<OutlinePoint> {
+fn sample(placed: &Placed) -> Vec<OutlinePoint> {
     let f = &placed.frame;
     let s0 = placed.s_start_mm;
     match placed.shape {
-        Shape::Axial {
-            length,
-            hw0,
-            hh0,
-            kw,
-            kh,
-        } => [0.0, length]
+        Shape::Axial(axial) => [0.0, axial.length]
             .iter()
-            .map(|&z| OutlinePoint {
-                // The end is s₀ + length, the same sum the placement accumulates.
-                s_mm: s0 + z,
-                centre: (f.origin + z * f.z).to_array(),
-                width_axis: f.x.to_array(),
-                height_axis: f.y.to_array(),
-                half_width_mm: hw0 + kw * z,
-                half_height_mm: hh0 + kh * z,
+            .map(|&z| {
+                let (half_width_mm, half_height_mm) = axial.half_sizes_mm(z);
+                OutlinePoint {
+                    // The end is s₀ + length, the same sum the placement accumulates.
+                    s_mm: s0 + z,
+                    centre: (f.origin + z * f.z).to_array(),
+                    width_axis: f.x.to_array(),
+                    height_axis: f.y.to_array(),
+                    half_width_mm,
+                    half_height_mm,
+                }
             })
             .collect(),
-        Shape::Bend {
+        Shape::Bend(Bend {
             rc,
             phi,
             radial_half,
@@ -194,7 +187,7 @@ fn sample(placed: &crate::geometry::Placed) -> Vec<OutlinePoint> {
             height_axis,
             sin_phi,
             cos_phi,
-        } => {
+        }) => {
             // The width axis lies in the bend plane (turn across the width) or along the bend
             // axis (across the height); a round section has one radius.
             let (half_w, half_h) = if width_axis.z.abs() < 0.5 {

@@ -9,7 +9,6 @@ use serde::{Deserialize, Serialize};
 use crate::error::{check_range, size_mm, FieldError, TirError};
 use crate::guide;
 use crate::index::library::MaterialChoice;
-use crate::interface;
 
 /// Current version of the quick-look document.
 pub const QUICK_VERSION: u32 = 1;
@@ -207,42 +206,39 @@ impl QuickDesign {
             n_out,
             n_launch,
         } = ix;
-        let theta_c = interface::critical_angle_rad(n_core, n_out)
-            .expect("check() guarantees n_out < n_core");
-        let na = guide::numerical_aperture(n_core, n_out);
-        let accept = guide::acceptance_half_angle_rad(na, n_launch);
-        let launch_rad = self.launch_half_angle_deg.to_radians();
-        let theta_max = guide::max_internal_angle_rad(n_core, n_out, n_launch, launch_rad);
-        let ratio = guide::leak_free_bend_ratio(n_core, n_out, theta_max);
+        let chain = guide::launch_chain(
+            n_core,
+            n_out,
+            n_launch,
+            self.launch_half_angle_deg.to_radians(),
+        );
+        let ratio = chain.leak_free_ratio;
         let bend_ratio = self.bend_inner_radius_mm / self.diameter_mm;
-        let theta_max_deg = theta_max.to_degrees();
+        let theta_max_deg = chain.max_internal_angle_rad.to_degrees();
         let leak_free_note = match ratio {
             Some(_) => format!(
                 "every meridional and skew ray up to {theta_max_deg:.1}° to the axis stays \
                  totally reflected through the bend"
             ),
-            None => format!(
-                "no leak-free radius exists: the launch fills the guide up to its guiding \
-                 limit ({theta_max_deg:.1}° to the axis), so some light leaks at any bend radius"
-            ),
+            None => guide::no_leak_free_radius_note(theta_max_deg),
         };
         Ok(QuickFigures {
             n_core,
             n_surroundings: n_out,
             n_launch,
-            critical_angle_deg: theta_c.to_degrees(),
-            numerical_aperture: na,
-            acceptance_half_angle_deg: accept.to_degrees(),
-            acceptance_saturated: na >= n_launch,
+            critical_angle_deg: chain.critical_angle_rad.to_degrees(),
+            numerical_aperture: chain.numerical_aperture,
+            acceptance_half_angle_deg: chain.acceptance_half_angle_rad.to_degrees(),
+            acceptance_saturated: chain.acceptance_saturated,
             relative_index_difference: guide::relative_index_difference(n_core, n_out),
-            entry_fresnel_loss: interface::fresnel_reflectance(1.0, n_launch, n_core),
+            entry_fresnel_loss: chain.entry_fresnel_loss,
             max_internal_angle_deg: theta_max_deg,
             leak_free_ratio: ratio,
             leak_free_inner_radius_mm: ratio.map(|r| r * self.diameter_mm),
             leak_free_note,
             bend_ratio,
             bend_leaks: ratio.is_none_or(|r| bend_ratio < r),
-            lambertian_coupling: guide::lambertian_fraction_within(accept),
+            lambertian_coupling: guide::lambertian_fraction_within(chain.acceptance_half_angle_rad),
         })
     }
 }

@@ -17,7 +17,7 @@ use std::f64::consts::{PI, TAU};
 
 use glam::DVec3;
 use tirtrace::geometry::roots::{first_upcrossing_quartic, roots_in};
-use tirtrace::geometry::{torus_exit, Frame, Next, Placed, PlacedRoute, Shape};
+use tirtrace::geometry::{torus_exit, Axial, Bend, Frame, Next, Placed, PlacedRoute, Shape};
 use tirtrace::interface::reflect;
 use tirtrace::scenario::{Section, Segment};
 
@@ -873,6 +873,54 @@ fn cases() -> Vec<Case> {
     ]
 }
 
+/// A cross-section of a segment at a random place strictly between its end planes.
+enum Slice {
+    /// A straight or taper at `z`: half-sizes there and their slopes along z.
+    Run {
+        z: f64,
+        hw: f64,
+        hh: f64,
+        kw: f64,
+        kh: f64,
+    },
+    /// A bend at angle `th` about its axis.
+    Bend {
+        th: f64,
+        rc: f64,
+        radial_half: f64,
+        axial_half: f64,
+    },
+}
+
+/// Where [`inside_point`] and [`wall_point`] sample: one draw along the segment.
+fn random_slice(rng: &mut Rng, p: &Placed) -> Slice {
+    match p.shape {
+        Shape::Axial(Axial {
+            length,
+            hw0,
+            hh0,
+            kw,
+            kh,
+        }) => {
+            let z = length * rng.range(1e-6, 1.0 - 1e-6);
+            let (hw, hh) = (hw0 + kw * z, hh0 + kh * z);
+            Slice::Run { z, hw, hh, kw, kh }
+        }
+        Shape::Bend(Bend {
+            rc,
+            phi,
+            radial_half,
+            axial_half,
+            ..
+        }) => Slice::Bend {
+            th: phi * rng.range(1e-6, 1.0 - 1e-6),
+            rc,
+            radial_half,
+            axial_half,
+        },
+    }
+}
+
 /// A random point strictly inside the segment, often very near the wall.
 fn inside_point(rng: &mut Rng, p: &Placed) -> DVec3 {
     let frac = |rng: &mut Rng| {
@@ -882,16 +930,8 @@ fn inside_point(rng: &mut Rng, p: &Placed) -> DVec3 {
             rng.next()
         }
     };
-    match p.shape {
-        Shape::Axial {
-            length,
-            hw0,
-            hh0,
-            kw,
-            kh,
-        } => {
-            let z = length * rng.range(1e-6, 1.0 - 1e-6);
-            let (hw, hh) = (hw0 + kw * z, hh0 + kh * z);
+    match random_slice(rng, p) {
+        Slice::Run { z, hw, hh, .. } => {
             if p.round {
                 let r = hw * frac(rng);
                 let al = TAU * rng.next();
@@ -900,14 +940,12 @@ fn inside_point(rng: &mut Rng, p: &Placed) -> DVec3 {
                 DVec3::new(hw * frac(rng) * rng.sign(), hh * frac(rng) * rng.sign(), z)
             }
         }
-        Shape::Bend {
+        Slice::Bend {
+            th,
             rc,
-            phi,
             radial_half,
             axial_half,
-            ..
         } => {
-            let th = phi * rng.range(1e-6, 1.0 - 1e-6);
             let (u, v) = if p.round {
                 let r = radial_half * frac(rng);
                 let al = TAU * rng.next();
@@ -926,16 +964,8 @@ fn inside_point(rng: &mut Rng, p: &Placed) -> DVec3 {
 /// A random point on the side wall and the outward unit normal there, from the shape's own
 /// parameters (not from `next`).
 fn wall_point(rng: &mut Rng, p: &Placed) -> (DVec3, DVec3) {
-    match p.shape {
-        Shape::Axial {
-            length,
-            hw0,
-            hh0,
-            kw,
-            kh,
-        } => {
-            let z = length * rng.range(1e-6, 1.0 - 1e-6);
-            let (hw, hh) = (hw0 + kw * z, hh0 + kh * z);
+    match random_slice(rng, p) {
+        Slice::Run { z, hw, hh, kw, kh } => {
             if p.round {
                 let al = TAU * rng.next();
                 let w = DVec3::new(hw * al.cos(), hw * al.sin(), z);
@@ -951,14 +981,12 @@ fn wall_point(rng: &mut Rng, p: &Placed) -> (DVec3, DVec3) {
                 }
             }
         }
-        Shape::Bend {
+        Slice::Bend {
+            th,
             rc,
-            phi,
             radial_half,
             axial_half,
-            ..
         } => {
-            let th = phi * rng.range(1e-6, 1.0 - 1e-6);
             let radial = DVec3::new(th.cos(), th.sin(), 0.0);
             if p.round {
                 torus_wall(rc, radial_half, th, TAU * rng.next())
@@ -987,8 +1015,8 @@ fn inside_ray(rng: &mut Rng, p: &Placed) -> (DVec3, DVec3) {
             // Along the guide, as guided light travels (these reach the end planes).
             let o = inside_point(rng, p);
             let along = match p.shape {
-                Shape::Axial { .. } => DVec3::Z,
-                Shape::Bend { .. } => DVec3::new(-o.y, o.x, 0.0).normalize(),
+                Shape::Axial(Axial { .. }) => DVec3::Z,
+                Shape::Bend(Bend { .. }) => DVec3::new(-o.y, o.x, 0.0).normalize(),
             };
             let d = rng.sign() * along + rng.log_range(1e-6, 0.5) * random_unit(rng);
             (o, d.normalize())
@@ -1008,8 +1036,8 @@ fn inside_ray(rng: &mut Rng, p: &Placed) -> (DVec3, DVec3) {
 /// Between the segment's start and end planes (within `tol`).
 fn in_extent(p: &Placed, q: DVec3, tol: f64) -> bool {
     match p.shape {
-        Shape::Axial { length, .. } => q.z >= -tol && q.z <= length + tol,
-        Shape::Bend { phi, .. } => {
+        Shape::Axial(Axial { length, .. }) => q.z >= -tol && q.z <= length + tol,
+        Shape::Bend(Bend { phi, .. }) => {
             // phi ≤ 180°: above the start plane and before the end plane.
             let e = DVec3::new(-phi.sin(), phi.cos(), 0.0);
             q.y >= -tol && q.dot(e) <= tol
@@ -1020,8 +1048,8 @@ fn in_extent(p: &Placed, q: DVec3, tol: f64) -> bool {
 /// Outward unit normals of the start and end planes, local.
 fn end_normals(p: &Placed) -> (DVec3, DVec3) {
     match p.shape {
-        Shape::Axial { .. } => (-DVec3::Z, DVec3::Z),
-        Shape::Bend { phi, .. } => (-DVec3::Y, DVec3::new(-phi.sin(), phi.cos(), 0.0)),
+        Shape::Axial(Axial { .. }) => (-DVec3::Z, DVec3::Z),
+        Shape::Bend(Bend { phi, .. }) => (-DVec3::Y, DVec3::new(-phi.sin(), phi.cos(), 0.0)),
     }
 }
 
@@ -1047,15 +1075,15 @@ fn on_edge(p: &Placed, q: DVec3, tol: f64) -> bool {
         return false;
     }
     let (a, b) = match p.shape {
-        Shape::Axial {
+        Shape::Axial(Axial {
             hw0, hh0, kw, kh, ..
-        } => (q.x.abs() - (hw0 + kw * q.z), q.y.abs() - (hh0 + kh * q.z)),
-        Shape::Bend {
+        }) => (q.x.abs() - (hw0 + kw * q.z), q.y.abs() - (hh0 + kh * q.z)),
+        Shape::Bend(Bend {
             rc,
             radial_half,
             axial_half,
             ..
-        } => (
+        }) => (
             ((q.x * q.x + q.y * q.y).sqrt() - rc).abs() - radial_half,
             q.z.abs() - axial_half,
         ),
@@ -1131,16 +1159,16 @@ fn hit_points_lie_on_their_surface() {
                     }
                     // On the plane, on the right side of the axis (bends), inside the section.
                     let on_plane = match (p.shape, is_end) {
-                        (Shape::Axial { length, .. }, true) => q.z - length,
-                        (Shape::Axial { .. }, false) => q.z,
-                        (Shape::Bend { .. }, _) => q.dot(n),
+                        (Shape::Axial(Axial { length, .. }), true) => q.z - length,
+                        (Shape::Axial(Axial { .. }), false) => q.z,
+                        (Shape::Bend(Bend { .. }), _) => q.dot(n),
                     };
                     assert!(
                         on_plane.abs() < tol,
                         "off the end plane by {on_plane:e}: {}",
                         ctx()
                     );
-                    if let Shape::Bend { phi, .. } = p.shape {
+                    if let Shape::Bend(Bend { phi, .. }) = p.shape {
                         let along = if is_end {
                             DVec3::new(phi.cos(), phi.sin(), 0.0)
                         } else {
@@ -1321,7 +1349,7 @@ fn rot_z(v: DVec3, angle: f64) -> DVec3 {
 fn stations(p: &Placed) -> (Station, Station) {
     let f = &p.frame;
     match p.shape {
-        Shape::Axial { length, .. } => {
+        Shape::Axial(Axial { length, .. }) => {
             let s = Station {
                 pos: f.origin,
                 tan: f.z,
@@ -1334,13 +1362,13 @@ fn stations(p: &Placed) -> (Station, Station) {
             };
             (s, e)
         }
-        Shape::Bend {
+        Shape::Bend(Bend {
             rc,
             phi,
             width_axis,
             height_axis,
             ..
-        } => {
+        }) => {
             let s = Station {
                 pos: f.point_to_global(DVec3::new(rc, 0.0, 0.0)),
                 tan: f.dir_to_global(DVec3::Y),

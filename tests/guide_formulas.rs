@@ -188,3 +188,51 @@ fn guide_function_edge_cases() {
     let theta = (1.0f64 / 1.49 + 1e-12).acos();
     assert!(leak_free_bend_ratio(1.49, 1.0, theta).is_none_or(|r| r > 1e9));
 }
+
+#[test]
+fn launch_chain_strings_the_closed_forms_together() {
+    // docs/REFERENCES.md §2 (critical angle and normal-incidence Fresnel loss of 1.49 against
+    // air: 42.1552°, 0.038725; W. J. Smith, Modern Optical Engineering; Born & Wolf §1.5) and §4
+    // (R_in/d of a 1.49 guide launched from air at 30°: 2.478, derived).
+    let c = launch_chain(1.49, 1.0, 1.0, 30f64.to_radians());
+    assert!(
+        (c.critical_angle_rad.to_degrees() - 42.1552).abs() < 1e-4,
+        "{c:?}"
+    );
+    assert!((c.entry_fresnel_loss - 0.038725).abs() < 1e-6, "{c:?}");
+    assert!((c.leak_free_ratio.unwrap() - 2.478).abs() < 5e-4, "{c:?}");
+    // sin θmax = sin 30° / 1.49 (§4), below the guiding limit 90° − θc.
+    assert!(
+        (c.max_internal_angle_rad.sin() - 0.5 / 1.49).abs() < 1e-12,
+        "{c:?}"
+    );
+    // Unclad in air: NA > 1, every ray from air accepted (§3).
+    assert!(
+        c.acceptance_saturated && c.acceptance_half_angle_rad == FRAC_PI_2,
+        "{c:?}"
+    );
+    assert_eq!(c.numerical_aperture, numerical_aperture(1.49, 1.0));
+
+    // §3: PMMA fibre 1.492 in cladding 1.402 fed from air: NA 0.5104, θa 30.69°, not saturated.
+    // Filled from air at 90°, the launch reaches the guiding limit: no leak-free radius (§4).
+    let c = launch_chain(1.492, 1.402, 1.0, FRAC_PI_2);
+    assert!((c.numerical_aperture - 0.5104).abs() < 5e-5, "{c:?}");
+    assert!(
+        (c.acceptance_half_angle_rad.to_degrees() - 30.69).abs() < 5e-3,
+        "{c:?}"
+    );
+    assert!(!c.acceptance_saturated);
+    let guiding_limit = FRAC_PI_2 - (1.402f64 / 1.492).asin();
+    assert!(
+        (c.max_internal_angle_rad - guiding_limit).abs() < 1e-12,
+        "{c:?}"
+    );
+    assert_eq!(c.leak_free_ratio, None);
+    assert!(
+        no_leak_free_radius_note(c.max_internal_angle_rad.to_degrees())
+            .starts_with("no leak-free radius exists")
+    );
+
+    // No guiding at all: the critical angle is NaN, never a panic.
+    assert!(launch_chain(1.4, 1.5, 1.0, 0.1).critical_angle_rad.is_nan());
+}

@@ -11,7 +11,7 @@ use wasm_bindgen_test::wasm_bindgen_test as test;
 wasm_bindgen_test::wasm_bindgen_test_configure!(run_in_browser);
 
 mod common;
-use common::Rng;
+use common::{random_route, RandomRoute, Rng, RouteDraws};
 
 use glam::DVec3;
 use serde_json::json;
@@ -316,58 +316,32 @@ fn the_example_list_is_complete() {
     assert_eq!(files, listed, "add new example scenarios to EXAMPLES");
 }
 
-/// A random valid scenario: round or rectangular, 1–8 segments of every kind, bends of 1° to
-/// 180° turned any way a section allows, an offset source and sometimes a receiver.
-fn random_scenario(rng: &mut Rng) -> Scenario {
-    let round = rng.chance(0.5);
-    let (w, h) = (rng.range(0.3, 6.0), rng.range(0.3, 6.0));
-    let section = if round {
-        json!({"round": {"diameter_mm": w}})
-    } else {
-        json!({"rectangular": {"width_mm": w, "height_mm": h}})
-    };
-    let mut half = if round {
-        (w / 2.0, w / 2.0)
-    } else {
-        (w / 2.0, h / 2.0)
-    };
-    let mut route = Vec::new();
-    for _ in 0..1 + rng.below(8) {
-        let kind = rng.next();
-        if kind < 0.3 {
-            route.push(json!({"straight": {"length_mm": rng.log_range(0.05, 200.0)}}));
-        } else if kind < 0.8 {
-            let turn = if round {
-                rng.range(-360.0, 360.0)
-            } else {
-                90.0 * (rng.below(8) as f64 - 4.0)
-            };
-            let across = if turn.to_radians().cos().abs() > 0.5 {
-                half.0
-            } else {
-                half.1
-            };
-            let angle = if rng.chance(0.1) {
-                180.0
-            } else {
-                rng.range(1.0, 180.0)
-            };
-            route.push(
-                json!({"bend": {"radius_mm": across * rng.log_range(1.01, 200.0),
-                                        "angle_deg": angle, "turn_deg": turn}}),
-            );
+/// The routes of [`random_scenario`]: 1–8 segments of every kind, bends of 1° to 180° (often
+/// exactly 180°) from 1.01 to 200 half-sizes across, turned any way a section allows.
+const ROUTES: RouteDraws = RouteDraws {
+    size_mm: (0.3, 6.0),
+    max_segments: 8,
+    straight_below: 0.3,
+    bend_below: 0.8,
+    straight_mm: |rng| rng.log_range(0.05, 200.0),
+    round_turn_deg: (-360.0, 360.0),
+    rect_turns: (8, 4.0),
+    bend: |rng, across| {
+        let angle = if rng.chance(0.1) {
+            180.0
         } else {
-            let f = rng.range(0.5, 1.6);
-            let end = if round {
-                half = (half.0 * f, half.0 * f);
-                json!({"round": {"diameter_mm": 2.0 * half.0}})
-            } else {
-                half = (half.0 * f, half.1 * rng.range(0.5, 1.6));
-                json!({"rectangular": {"width_mm": 2.0 * half.0, "height_mm": 2.0 * half.1}})
-            };
-            route.push(json!({"taper": {"length_mm": rng.range(0.5, 30.0), "end_section": end}}));
-        }
-    }
+            rng.range(1.0, 180.0)
+        };
+        (across * rng.log_range(1.01, 200.0), angle)
+    },
+    taper_factor: (0.5, 1.6),
+    taper_mm: (0.5, 30.0),
+};
+
+/// A random valid scenario: round or rectangular, 1–8 segments of every kind ([`ROUTES`]), an
+/// offset source and sometimes a receiver.
+fn random_scenario(rng: &mut Rng) -> Scenario {
+    let RandomRoute { section, route } = random_route(rng, &ROUTES);
     let mut doc = json!({
         "version": 1,
         "guide": {"section": section, "material": {"library": "pmma"},

@@ -8,59 +8,32 @@ use wasm_bindgen_test::wasm_bindgen_test as test;
 wasm_bindgen_test::wasm_bindgen_test_configure!(run_in_browser);
 
 mod common;
-use common::Rng;
+use common::{random_route, RandomRoute, Rng, RouteDraws};
 
 use serde_json::{json, Value};
 use tirtrace::scenario::Scenario;
 use tirtrace::trace::{PrefixMerger, Prepared};
 
-/// A random valid scenario: round or rectangular, 1–5 segments of every kind, any library
-/// material that has data at the wavelength, contacts, every source kind.
+/// The routes of [`random_scenario`]: 1–5 segments of every kind, bends of 5° to 180° from 1.05
+/// to 12 half-sizes across.
+const ROUTES: RouteDraws = RouteDraws {
+    size_mm: (0.5, 5.0),
+    max_segments: 5,
+    straight_below: 0.4,
+    bend_below: 0.75,
+    straight_mm: |rng| rng.range(0.5, 30.0),
+    round_turn_deg: (0.0, 360.0),
+    rect_turns: (4, 0.0),
+    bend: |rng, across| (across * rng.range(1.05, 12.0), rng.range(5.0, 180.0)),
+    taper_factor: (0.6, 1.5),
+    taper_mm: (1.0, 20.0),
+};
+
+/// A random valid scenario: round or rectangular, 1–5 segments of every kind ([`ROUTES`]), any
+/// library material that has data at the wavelength, contacts, every source kind.
 fn random_scenario(rng: &mut Rng, rays: u64) -> Scenario {
-    let round = rng.next() < 0.5;
-    let (w, h) = (rng.range(0.5, 5.0), rng.range(0.5, 5.0));
-    let section = if round {
-        json!({"round": {"diameter_mm": w}})
-    } else {
-        json!({"rectangular": {"width_mm": w, "height_mm": h}})
-    };
-    let mut half = if round {
-        (w / 2.0, w / 2.0)
-    } else {
-        (w / 2.0, h / 2.0)
-    };
-    let n_seg = 1 + (rng.next() * 5.0) as usize;
-    let mut route = Vec::new();
-    for _ in 0..n_seg {
-        let kind = rng.next();
-        if kind < 0.4 {
-            route.push(json!({"straight": {"length_mm": rng.range(0.5, 30.0)}}));
-        } else if kind < 0.75 {
-            let turn = if round {
-                rng.range(0.0, 360.0)
-            } else {
-                90.0 * (rng.next() * 4.0).floor()
-            };
-            let across = if turn.to_radians().cos().abs() > 0.5 {
-                half.0
-            } else {
-                half.1
-            };
-            route.push(json!({"bend": {"radius_mm": across * rng.range(1.05, 12.0),
-                                        "angle_deg": rng.range(5.0, 180.0), "turn_deg": turn}}));
-        } else {
-            let f = rng.range(0.6, 1.5);
-            let end = if round {
-                half = (half.0 * f, half.0 * f);
-                json!({"round": {"diameter_mm": 2.0 * half.0}})
-            } else {
-                let g = rng.range(0.6, 1.5);
-                half = (half.0 * f, half.1 * g);
-                json!({"rectangular": {"width_mm": 2.0 * half.0, "height_mm": 2.0 * half.1}})
-            };
-            route.push(json!({"taper": {"length_mm": rng.range(1.0, 20.0), "end_section": end}}));
-        }
-    }
+    let RandomRoute { section, route } = random_route(rng, &ROUTES);
+    let n_seg = route.len();
     let material = *rng.pick(&[
         "pmma",
         "polycarbonate",

@@ -156,7 +156,7 @@ pub enum Upcrossing {
     },
 }
 
-/// The first t in (lo, hi] where the quartic `c` (c[4] > 0) goes from ≤ 0 to > 0: where a ray
+/// The first t in (lo, hi] where the quartic `c` (`c[4] > 0`) goes from ≤ 0 to > 0: where a ray
 /// inside the region p < 0 leaves it. `None` when it stays inside (or only touches the boundary)
 /// up to `hi`.
 pub fn first_upcrossing_quartic(c: &[f64; 5], lo: f64, hi: f64) -> Option<f64> {
@@ -171,7 +171,7 @@ pub fn polish_quartic(c: &[f64; 5], a: f64, b: f64, pa: f64, convex: bool) -> f6
     polish_from(c, a, b, pa, if convex { b } else { a })
 }
 
-/// Bracket the first t in (lo, hi] where the quartic `c` (c[4] > 0) goes from ≤ 0 to > 0.
+/// Bracket the first t in (lo, hi] where the quartic `c` (`c[4] > 0`) goes from ≤ 0 to > 0.
 ///
 /// The roots of p'' (a quadratic, in closed form) split [lo, hi] into at most three pieces on
 /// which p is convex or concave. On such a piece an up-crossing is unique, and it exists iff

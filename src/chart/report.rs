@@ -1,155 +1,14 @@
-//! Charts, generic over the plotters drawing backend: the page draws them on a canvas, the tests
-//! draw them to SVG.
+//! A trace report's charts: the exit-face irradiance map (with its sequential palette) and the
+//! intensity beyond the exit face against the angle from its axis.
 
 use plotters::coord::Shift;
 use plotters::prelude::*;
 use plotters::style::text_anchor::{HPos, Pos, VPos};
 
+use super::{
+    cartesian, clamp_scale, draw_axes, draw_err, draw_legend, draw_line, ink_font, pixels,
+};
 use crate::error::TirError;
-use crate::guide;
-use crate::quick::QuickDesign;
-
-/// The leak-free R_in/d versus launch half-angle (degrees, in the launch medium) for the design's
-/// materials; angles where no leak-free radius exists are left out.
-pub fn bend_curve(design: &QuickDesign) -> Result<Vec<(f64, f64)>, TirError> {
-    let ix = design
-        .check()
-        .map_err(|mut v| TirError::Field(v.remove(0)))?;
-    Ok((0..=180)
-        .filter_map(|i| {
-            let launch_deg = i as f64 * 0.5;
-            let theta = guide::max_internal_angle_rad(
-                ix.n_core,
-                ix.n_out,
-                ix.n_launch,
-                launch_deg.to_radians(),
-            );
-            guide::leak_free_bend_ratio(ix.n_core, ix.n_out, theta).map(|r| (launch_deg, r))
-        })
-        .collect())
-}
-
-fn draw_err<E: std::fmt::Debug>(e: E) -> TirError {
-    TirError::Draw(format!("{e:?}"))
-}
-
-/// Draw the leak-free bend chart: the curve, the drawn bend's R_in/d as a level line and the
-/// current launch half-angle as the design point.
-///
-/// `scale` multiplies fonts, line widths and margins (the device pixel ratio on the page, so the
-/// chart stays sharp on dense screens); values outside 0.5…4 are clamped.
-pub fn draw_bend_chart<DB: DrawingBackend>(
-    area: &DrawingArea<DB, Shift>,
-    design: &QuickDesign,
-    scale: f64,
-) -> Result<(), TirError> {
-    let scale = if scale.is_finite() {
-        scale.clamp(0.5, 4.0)
-    } else {
-        1.0
-    };
-    let px = |x: f64| (x * scale).round() as u32;
-    let curve = bend_curve(design)?;
-    let figures = design.figures()?;
-    area.fill(&WHITE).map_err(draw_err)?;
-    let curve_max = curve.iter().map(|p| p.1).fold(0.0_f64, f64::max);
-    let y_max = (curve_max.min(25.0).max(figures.bend_ratio) * 1.15).max(1.0);
-    let ink = RGBColor(0x1f, 0x2a, 0x37);
-    let curve_colour = RGBColor(0x00, 0x6d, 0x77);
-    let bend_colour = RGBColor(0xb3, 0x41, 0x2a);
-    let mut chart = ChartBuilder::on(area)
-        .margin(px(12.0))
-        .x_label_area_size(px(40.0))
-        .y_label_area_size(px(52.0))
-        .build_cartesian_2d(0.0..90.0, 0.0..y_max)
-        .map_err(draw_err)?;
-    chart
-        .configure_mesh()
-        .x_desc("launch half-angle in front of the entry face (°)")
-        .y_desc("leak-free inner radius / diameter")
-        .axis_desc_style(("sans-serif", px(14.0)).into_font().color(&ink))
-        .label_style(("sans-serif", px(12.0)).into_font().color(&ink))
-        .x_label_formatter(&|x| format!("{x:.0}"))
-        .y_label_formatter(&|y| {
-            if y_max > 8.0 {
-                format!("{y:.0}")
-            } else {
-                format!("{y:.1}")
-            }
-        })
-        .light_line_style(RGBColor(0xee, 0xee, 0xee))
-        .draw()
-        .map_err(draw_err)?;
-    chart
-        .draw_series(LineSeries::new(
-            curve.iter().copied().filter(|p| p.1 <= y_max),
-            curve_colour.stroke_width(px(3.0)),
-        ))
-        .map_err(draw_err)?
-        .label("leak-free R/d")
-        .legend(move |(x, y)| {
-            PathElement::new(vec![(x, y), (x + 18, y)], curve_colour.stroke_width(3))
-        });
-    chart
-        .draw_series(LineSeries::new(
-            [(0.0, figures.bend_ratio), (90.0, figures.bend_ratio)],
-            bend_colour.stroke_width(px(2.0)),
-        ))
-        .map_err(draw_err)?
-        .label("your bend's R/d")
-        .legend(move |(x, y)| {
-            PathElement::new(vec![(x, y), (x + 18, y)], bend_colour.stroke_width(2))
-        });
-    match figures.leak_free_ratio {
-        Some(r) if r <= y_max => {
-            chart
-                .draw_series(std::iter::once(Circle::new(
-                    (design.launch_half_angle_deg, r),
-                    px(6.0),
-                    curve_colour.filled(),
-                )))
-                .map_err(draw_err)?;
-        }
-        _ => {
-            // Off the chart or no leak-free radius at all: mark the launch angle at the top.
-            let note = if figures.leak_free_ratio.is_none() {
-                "your launch: no leak-free radius"
-            } else {
-                "your launch: off the chart"
-            };
-            let x = design.launch_half_angle_deg;
-            chart
-                .draw_series(std::iter::once(PathElement::new(
-                    vec![(x, 0.0), (x, y_max)],
-                    curve_colour.stroke_width(px(2.0)),
-                )))
-                .map_err(draw_err)?;
-            let anchor_x = if x > 45.0 { x - 1.0 } else { x + 1.0 };
-            let pos = if x > 45.0 {
-                Pos::new(HPos::Right, VPos::Top)
-            } else {
-                Pos::new(HPos::Left, VPos::Top)
-            };
-            chart
-                .draw_series(std::iter::once(Text::new(
-                    note,
-                    (anchor_x, y_max * 0.97),
-                    ("sans-serif", px(12.0)).into_font().color(&ink).pos(pos),
-                )))
-                .map_err(draw_err)?;
-        }
-    }
-    chart
-        .configure_series_labels()
-        .position(SeriesLabelPosition::LowerRight)
-        .background_style(WHITE.mix(0.9))
-        .border_style(RGBColor(0xcc, 0xcc, 0xcc))
-        .label_font(("sans-serif", px(12.0)).into_font().color(&ink))
-        .draw()
-        .map_err(draw_err)?;
-    area.present().map_err(draw_err)?;
-    Ok(())
-}
 
 /// Control points of the maps' sequential palette, from no light (0, a warm near-white that
 /// blends with the page) to the peak (1, a deep indigo), through pale green, teal and blue. Our
@@ -166,7 +25,7 @@ const PALETTE: [(f64, [u8; 3]); 6] = [
 ];
 
 /// The palette colour of a value between 0 (no light) and 1 (the peak), linearly interpolated
-/// between [`PALETTE`]'s control points in sRGB. Values outside 0…1 are clamped; NaN gives the
+/// between `PALETTE`'s control points in sRGB. Values outside 0…1 are clamped; NaN gives the
 /// colour of 0.
 pub fn sequential_colour(value: f64) -> RGBColor {
     let t = if value.is_nan() {
@@ -212,17 +71,7 @@ fn label_decimals(span: f64) -> usize {
     }
 }
 
-/// The drawing scale from a pixel ratio: values outside 0.5…4 are clamped, non-finite ones give 1.
-fn clamp_scale(scale: f64) -> f64 {
-    if scale.is_finite() {
-        scale.clamp(0.5, 4.0)
-    } else {
-        1.0
-    }
-}
-
-/// Colours and fonts shared by the report charts.
-const INK: RGBColor = RGBColor(0x1f, 0x2a, 0x37);
+/// The frame drawn round the exit map and the colour scale.
 const FRAME: RGBColor = RGBColor(0x99, 0x99, 0x99);
 
 /// Write `message` in the middle of `area` (under a caption): for a chart with nothing to show.
@@ -232,16 +81,28 @@ fn draw_message<DB: DrawingBackend>(
     scale: f64,
 ) -> Result<(), TirError> {
     let (w, h) = area.dim_in_pixel();
-    let px = |x: f64| (x * scale).round() as u32;
+    let px = pixels(scale);
     area.draw(&Text::new(
         message.to_string(),
         (w as i32 / 2, h as i32 / 2),
-        ("sans-serif", px(14.0))
-            .into_font()
-            .color(&INK)
-            .pos(Pos::new(HPos::Center, VPos::Center)),
+        ink_font(px(14.0)).pos(Pos::new(HPos::Center, VPos::Center)),
     ))
     .map_err(draw_err)
+}
+
+/// A report chart with nothing to show: `title` on top of the (already filled) `area`,
+/// `message` in the middle, and the drawing presented.
+fn draw_nothing_to_show<DB: DrawingBackend>(
+    area: &DrawingArea<DB, Shift>,
+    title: &str,
+    message: &str,
+    scale: f64,
+) -> Result<(), TirError> {
+    let body = area
+        .titled(title, ink_font(pixels(scale)(14.0)))
+        .map_err(draw_err)?;
+    draw_message(&body, message, scale)?;
+    area.present().map_err(draw_err)
 }
 
 /// Check that a report's exit-face map has its declared shape and a usable extent.
@@ -289,7 +150,7 @@ pub fn draw_exit_map<DB: DrawingBackend>(
     scale: f64,
 ) -> Result<(), TirError> {
     let scale = clamp_scale(scale);
-    let px = |x: f64| (x * scale).round() as u32;
+    let px = pixels(scale);
     let map = &report.exit_map;
     check_map(map)?;
     area.fill(&WHITE).map_err(draw_err)?;
@@ -299,37 +160,28 @@ pub fn draw_exit_map<DB: DrawingBackend>(
         .copied()
         .filter(|v| v.is_finite())
         .fold(0.0_f64, f64::max);
-    let title_font = ("sans-serif", px(14.0)).into_font().color(&INK);
     if peak <= 0.0 {
-        let body = area
-            .titled("Exit-face irradiance", title_font)
-            .map_err(draw_err)?;
-        draw_message(
-            &body,
+        return draw_nothing_to_show(
+            area,
+            "Exit-face irradiance",
             "No light reached the exit face: nothing to map.",
             scale,
-        )?;
-        return area.present().map_err(draw_err);
+        );
     }
     let caption = format!(
         "Exit-face irradiance (peak {} % of the emitted power per mm²)",
         sig3(100.0 * peak)
     );
-    let body = area.titled(&caption, title_font).map_err(draw_err)?;
+    let body = area
+        .titled(&caption, ink_font(px(14.0)))
+        .map_err(draw_err)?;
     let (map_area, bar_area) =
         body.split_horizontally(body.dim_in_pixel().0.saturating_sub(px(96.0)));
-    let label_font = ("sans-serif", px(12.0)).into_font().color(&INK);
+    let label_font = ink_font(px(12.0));
 
     // Equal mm per pixel across and down: widen the shorter range to the plotting area's shape.
     let (hw, hh) = (0.5 * map.width_mm, 0.5 * map.height_mm);
-    let build = |x: f64, y: f64| {
-        ChartBuilder::on(&map_area)
-            .margin(px(8.0))
-            .x_label_area_size(px(40.0))
-            .y_label_area_size(px(52.0))
-            .build_cartesian_2d(-x..x, -y..y)
-            .map_err(draw_err)
-    };
+    let build = |x: f64, y: f64| cartesian(&map_area, 8.0, scale, -x..x, -y..y);
     let (pw, ph) = build(hw, hh)?.plotting_area().dim_in_pixel();
     let (pw, ph) = (pw.max(1) as f64, ph.max(1) as f64);
     let (x_half, y_half) = if hw / hh > pw / ph {
@@ -421,7 +273,7 @@ pub fn draw_intensity<DB: DrawingBackend>(
     scale: f64,
 ) -> Result<(), TirError> {
     let scale = clamp_scale(scale);
-    let px = |x: f64| (x * scale).round() as u32;
+    let px = pixels(scale);
     let it = &report.intensity;
     if it.angle_deg.len() != it.share_per_sr.len() {
         return Err(TirError::Field(crate::FieldError::new(
@@ -434,7 +286,6 @@ pub fn draw_intensity<DB: DrawingBackend>(
         )));
     }
     area.fill(&WHITE).map_err(draw_err)?;
-    let title_font = ("sans-serif", px(14.0)).into_font().color(&INK);
     let points: Vec<(f64, f64, f64)> = it
         .angle_deg
         .iter()
@@ -448,15 +299,12 @@ pub fn draw_intensity<DB: DrawingBackend>(
         .collect();
     let peak = points.iter().map(|p| p.1).fold(0.0_f64, f64::max);
     if peak <= 0.0 {
-        let body = area
-            .titled("Intensity beyond the exit face", title_font)
-            .map_err(draw_err)?;
-        draw_message(
-            &body,
+        return draw_nothing_to_show(
+            area,
+            "Intensity beyond the exit face",
             "No light left the exit face: no intensity to show.",
             scale,
-        )?;
-        return area.present().map_err(draw_err);
+        );
     }
     let band =
         it.ci95_per_sr.len() == it.share_per_sr.len() && points.iter().all(|p| p.2.is_finite());
@@ -469,8 +317,10 @@ pub fn draw_intensity<DB: DrawingBackend>(
         ),
         None => "Intensity beyond the exit face, relative to its peak".to_string(),
     };
-    let body = area.titled(&caption, title_font).map_err(draw_err)?;
-    let label_font = ("sans-serif", px(12.0)).into_font().color(&INK);
+    let body = area
+        .titled(&caption, ink_font(px(14.0)))
+        .map_err(draw_err)?;
+    let label_font = ink_font(px(12.0));
     let hi_max = if band {
         points
             .iter()
@@ -481,23 +331,14 @@ pub fn draw_intensity<DB: DrawingBackend>(
     };
     let y_max = hi_max.clamp(1.05, 1.5);
     let x_max = libm::ceil(points.iter().map(|p| p.0).fold(90.0, f64::max));
-    let mut chart = ChartBuilder::on(&body)
-        .margin(px(10.0))
-        .x_label_area_size(px(40.0))
-        .y_label_area_size(px(52.0))
-        .build_cartesian_2d(0.0..x_max, 0.0..y_max)
-        .map_err(draw_err)?;
-    chart
-        .configure_mesh()
-        .x_desc("angle from the exit axis (°)")
-        .y_desc("relative intensity")
-        .axis_desc_style(label_font.clone())
-        .label_style(label_font.clone())
-        .x_label_formatter(&|x| format!("{x:.0}"))
-        .y_label_formatter(&|y| format!("{y:.1}"))
-        .light_line_style(RGBColor(0xee, 0xee, 0xee))
-        .draw()
-        .map_err(draw_err)?;
+    let mut chart = cartesian(&body, 10.0, scale, 0.0..x_max, 0.0..y_max)?;
+    draw_axes(
+        &mut chart,
+        ("angle from the exit axis (°)", "relative intensity"),
+        label_font.clone(),
+        label_font.clone(),
+        (&|x| format!("{x:.0}"), &|y| format!("{y:.1}")),
+    )?;
     let line_colour = RGBColor(0x28, 0x5f, 0x96);
     let band_colour = RGBColor(0xb8, 0xd4, 0xe8);
     if band {
@@ -520,23 +361,14 @@ pub fn draw_intensity<DB: DrawingBackend>(
                 Rectangle::new([(x, y - 5), (x + 18, y + 5)], band_colour.filled())
             });
     }
-    chart
-        .draw_series(LineSeries::new(
-            points.iter().map(|p| (p.0, p.1 / peak)),
-            line_colour.stroke_width(px(2.0)),
-        ))
-        .map_err(draw_err)?
-        .label("intensity (peak = 1)")
-        .legend(move |(x, y)| {
-            PathElement::new(vec![(x, y), (x + 18, y)], line_colour.stroke_width(2))
-        });
-    chart
-        .configure_series_labels()
-        .position(SeriesLabelPosition::UpperRight)
-        .background_style(WHITE.mix(0.9))
-        .border_style(RGBColor(0xcc, 0xcc, 0xcc))
-        .label_font(label_font)
-        .draw()
-        .map_err(draw_err)?;
+    draw_line(
+        &mut chart,
+        points.iter().map(|p| (p.0, p.1 / peak)),
+        line_colour,
+        2,
+        scale,
+        "intensity (peak = 1)",
+    )?;
+    draw_legend(&mut chart, SeriesLabelPosition::UpperRight, label_font)?;
     area.present().map_err(draw_err)
 }

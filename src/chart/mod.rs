@@ -1,0 +1,130 @@
+//! Charts, generic over the plotters drawing backend: the page draws them on a canvas, the tests
+//! draw them to SVG. The quick look's leak-free bend chart is in `bend.rs`, a trace report's
+//! exit-face map and intensity chart in `report.rs`; this file holds what they share (scale,
+//! fonts, axes, labelled lines, the legend box).
+
+mod bend;
+mod report;
+
+use std::ops::Range;
+
+use plotters::coord::types::RangedCoordf64;
+use plotters::coord::Shift;
+use plotters::prelude::*;
+
+use crate::error::TirError;
+
+pub use bend::{bend_curve, draw_bend_chart};
+pub use report::{draw_exit_map, draw_intensity, sequential_colour};
+
+fn draw_err<E: std::fmt::Debug>(e: E) -> TirError {
+    TirError::Draw(format!("{e:?}"))
+}
+
+/// The drawing scale from a pixel ratio: values outside 0.5…4 are clamped, non-finite ones give 1.
+fn clamp_scale(scale: f64) -> f64 {
+    if scale.is_finite() {
+        scale.clamp(0.5, 4.0)
+    } else {
+        1.0
+    }
+}
+
+/// Font sizes, line widths and margins in pixels at drawing scale `scale` (from
+/// [`clamp_scale`]): `px(x)` is x·scale rounded.
+fn pixels(scale: f64) -> impl Fn(f64) -> u32 {
+    move |x: f64| (x * scale).round() as u32
+}
+
+/// The charts' text and axis colour.
+const INK: RGBColor = RGBColor(0x1f, 0x2a, 0x37);
+
+/// The charts' text: sans-serif of `size` pixels in [`INK`].
+fn ink_font(size: u32) -> TextStyle<'static> {
+    ("sans-serif", size).into_font().color(&INK)
+}
+
+/// A chart with linear axes `x` and `y` on `area`: a margin of `margin` pixels (at scale 1) and
+/// room for the axis labels.
+fn cartesian<'a, DB: DrawingBackend>(
+    area: &'a DrawingArea<DB, Shift>,
+    margin: f64,
+    scale: f64,
+    x: Range<f64>,
+    y: Range<f64>,
+) -> Result<Chart<'a, DB>, TirError> {
+    let px = pixels(scale);
+    ChartBuilder::on(area)
+        .margin(px(margin))
+        .x_label_area_size(px(40.0))
+        .y_label_area_size(px(52.0))
+        .build_cartesian_2d(x, y)
+        .map_err(draw_err)
+}
+
+/// A chart on linear f64 axes.
+type Chart<'a, DB> = ChartContext<'a, DB, Cartesian2d<RangedCoordf64, RangedCoordf64>>;
+
+/// A label formatter for an axis.
+type Formatter<'f> = &'f dyn Fn(&f64) -> String;
+
+/// The axes of a line chart with a light grid: their descriptions `(x, y)` in `desc_font`, tick
+/// labels in `label_font`, written by `(x, y)` formatters.
+fn draw_axes<DB: DrawingBackend>(
+    chart: &mut Chart<'_, DB>,
+    (x_desc, y_desc): (&str, &str),
+    desc_font: TextStyle<'_>,
+    label_font: TextStyle<'_>,
+    (x_format, y_format): (Formatter<'_>, Formatter<'_>),
+) -> Result<(), TirError> {
+    chart
+        .configure_mesh()
+        .x_desc(x_desc)
+        .y_desc(y_desc)
+        .axis_desc_style(desc_font)
+        .label_style(label_font)
+        .x_label_formatter(x_format)
+        .y_label_formatter(y_format)
+        .light_line_style(RGBColor(0xee, 0xee, 0xee))
+        .draw()
+        .map_err(draw_err)
+}
+
+/// A line through `points`, `width` pixels wide at scale 1 (the legend's sample is always
+/// `width` pixels), listed in the legend as `label`.
+fn draw_line<DB: DrawingBackend>(
+    chart: &mut Chart<'_, DB>,
+    points: impl IntoIterator<Item = (f64, f64)>,
+    colour: RGBColor,
+    width: u32,
+    scale: f64,
+    label: &str,
+) -> Result<(), TirError> {
+    chart
+        .draw_series(LineSeries::new(
+            points,
+            colour.stroke_width(pixels(scale)(width as f64)),
+        ))
+        .map_err(draw_err)?
+        .label(label)
+        .legend(move |(x, y)| {
+            PathElement::new(vec![(x, y), (x + 18, y)], colour.stroke_width(width))
+        });
+    Ok(())
+}
+
+/// The legend of the labelled series, at `position`, on a white box.
+fn draw_legend<'a, DB: DrawingBackend + 'a>(
+    chart: &mut Chart<'a, DB>,
+    position: SeriesLabelPosition,
+    font: TextStyle<'_>,
+) -> Result<(), TirError> {
+    chart
+        .configure_series_labels()
+        .position(position)
+        .background_style(WHITE.mix(0.9))
+        .border_style(RGBColor(0xcc, 0xcc, 0xcc))
+        .label_font(font)
+        .draw()
+        .map_err(draw_err)
+}

@@ -11,6 +11,8 @@ use serde::{Deserialize, Serialize};
 use crate::error::{check_range, show, size_mm, FieldError, TirError};
 use crate::index::library::MaterialChoice;
 
+pub mod table;
+
 /// Current version of the scenario document.
 pub const SCENARIO_VERSION: u32 = 1;
 
@@ -900,7 +902,7 @@ fn check_table(points: &[[f64; 2]]) -> Result<(), FieldError> {
     if points.iter().all(|q| q[1] == 0.0) {
         return Err(FieldError::new(p, "must have some non-zero intensity"));
     }
-    if !crate::source::table_has_power(points) {
+    if !table::table_has_power(points) {
         return Err(FieldError::new(
             p,
             "holds no power at the sampling resolution (about 0.044°): widen the pattern",

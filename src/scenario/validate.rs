@@ -79,7 +79,8 @@ impl Scenario {
             out.push(
                 "guide.surroundings",
                 format!(
-                    "must have a lower index than the guide for light to be guided: surroundings n = {n_out:.4}, guide n = {n_core:.4}"
+                    "must have a lower index than the guide for light to be guided: \
+                     surroundings n = {n_out:.4}, guide n = {n_core:.4}"
                 ),
             );
             return None;
@@ -179,7 +180,8 @@ fn check_bend(
         out.push(
             format!("{path}.radius_mm"),
             format!(
-                "must be > {half} mm (half the guide's size across the bend, so the inner wall keeps a radius) and ≤ {BEND_RADIUS_MAX_MM} mm, got {}",
+                "must be > {half} mm (half the guide's size across the bend, so the inner wall \
+                 keeps a radius) and ≤ {BEND_RADIUS_MAX_MM} mm, got {}",
                 show(radius_mm)
             ),
         );
@@ -189,7 +191,11 @@ fn check_bend(
         if r > 1e-9 && 90.0 - r > 1e-9 {
             out.push(
                 format!("{path}.turn_deg"),
-                format!("must be 0, 90, 180 or 270 for a rectangular guide (turn across the width or the height), got {}", show(turn_deg)),
+                format!(
+                    "must be 0, 90, 180 or 270 for a rectangular guide (turn across the width or \
+                     the height), got {}",
+                    show(turn_deg)
+                ),
             );
         }
     }
@@ -367,7 +373,8 @@ fn check_receiver(r: &Receiver, out: &mut FieldErrors) {
         }
         _ => out.push(
             "receiver",
-            "needs either diameter_mm (a round detector) or width_mm and height_mm (a window), not both",
+            "needs either diameter_mm (a round detector) or width_mm and height_mm (a window), \
+             not both",
         ),
     }
     out.range("receiver.distance_mm", r.distance_mm, RECEIVER_DISTANCE_MM);
@@ -386,4 +393,92 @@ fn check_trace(t: &TraceSettings, out: &mut FieldErrors) {
         t.max_interactions.into(),
         MAX_INTERACTIONS,
     );
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// Every kind of problem at once: all are listed, with their messages, in document order
+    /// (the messages and order of the base version, which the page and the command line show).
+    #[test]
+    fn problems_are_listed_in_document_order() {
+        let text = r#"{
+            "version": 2,
+            "guide": {
+                "section": { "rectangular": { "width_mm": 4, "height_mm": -2 } },
+                "material": { "library": "pmma" }, "surroundings": { "library": "air" },
+                "attenuation_db_per_m": -1,
+                "contacts": [
+                    { "segment": 5, "from_mm": 0, "to_mm": 1, "sector_from_deg": 400,
+                      "sector_to_deg": 10, "medium": { "library": "pdms" } },
+                    { "segment": 0, "from_mm": 2, "to_mm": 1, "medium": { "library": "pdms" } }
+                ]
+            },
+            "route": [
+                { "straight": { "length_mm": 3 } },
+                { "bend": { "radius_mm": 1, "angle_deg": 200, "turn_deg": 45 } },
+                { "taper": { "length_mm": 0, "end_section": { "round": { "diameter_mm": 2 } } } }
+            ],
+            "source": {
+                "emitter": { "led": { "area": { "square": { "side_mm": 0 } },
+                    "pattern": { "table": { "points": [[0, 1], [50, 1], [40, 1]] } } } },
+                "wavelength_nm": 100, "gap_mm": -1, "tilt_deg": 90, "flux": { "lm": 0 }
+            },
+            "receiver": { "diameter_mm": 1, "width_mm": 2, "distance_mm": -1 },
+            "trace": { "rays": 0, "max_interactions": 0 }
+        }"#;
+        let scenario = Scenario::from_json(text).unwrap();
+        let messages: Vec<String> = scenario
+            .check()
+            .unwrap_err()
+            .iter()
+            .map(ToString::to_string)
+            .collect();
+        let expected = [
+            "version must be 1 (this version of tirtrace), got 2",
+            "guide.section.rectangular.height_mm must be > 0 mm and ≤ 1000 mm, got -2",
+            "guide.attenuation_db_per_m must be ≥ 0 dB/m and ≤ 100000 dB/m, got -1",
+            "route[1].bend.angle_deg must be > 0° and ≤ 180°, got 200",
+            "route[1].bend.radius_mm must be > 2 mm (half the guide's size across the bend, so the inner wall keeps a radius) and ≤ 1000000 mm, got 1",
+            "route[1].bend.turn_deg must be 0, 90, 180 or 270 for a rectangular guide (turn across the width or the height), got 45",
+            "route[2].taper.length_mm must be > 0 mm and ≤ 100000 mm, got 0",
+            "route[2].taper.end_section must be rectangular like the guide at this point, got round",
+            "guide.contacts[0].segment must name a route segment, 0 to 2, got 5",
+            "guide.contacts[0].sector_from_deg must be ≥ 0° and < 360°, got 400",
+            "guide.contacts[0].sector_to_deg must be > 400° and ≤ 360° (after sector_from_deg), got 10",
+            "guide.contacts[1].to_mm must be > 2 mm and ≤ 3 mm (after from_mm, within the segment's length), got 1",
+            "source.wavelength_nm must be ≥ 200 nm and ≤ 2500 nm, got 100",
+            "source.gap_mm must be ≥ 0 mm and ≤ 1000 mm, got -1",
+            "source.tilt_deg must be ≥ 0° and < 90°, got 90",
+            "source.emitter.led.area.square.side_mm must be > 0 mm and ≤ 1000 mm, got 0",
+            "source.emitter.led.pattern.table.points[2][0] must be > 50° and ≤ 90° (angles ascending), got 40",
+            "source.flux.lm must be > 0 lm and ≤ 1e9 lm, got 0",
+            "receiver needs either diameter_mm (a round detector) or width_mm and height_mm (a window), not both",
+            "receiver.distance_mm must be ≥ 0 mm and ≤ 100000 mm, got -1",
+            "trace.rays must be ≥ 1 and ≤ 1000000000, got 0",
+            "trace.max_interactions must be ≥ 1 and ≤ 10000000, got 0",
+        ];
+        assert_eq!(messages, expected);
+    }
+
+    /// The surroundings must have the lower index, or nothing is guided.
+    #[test]
+    fn surroundings_of_higher_index_are_refused() {
+        let text = r#"{
+            "version": 1,
+            "guide": { "section": { "round": { "diameter_mm": 3 } },
+                       "material": { "library": "pdms" },
+                       "surroundings": { "custom": { "model": "constant", "n": 1.6 } } },
+            "route": [{ "straight": { "length_mm": 6 } }],
+            "source": { "emitter": { "beam": { "diameter_mm": 2.5, "divergence_half_angle_deg": 8 } },
+                        "wavelength_nm": 550 }
+        }"#;
+        let errors = Scenario::from_json(text).unwrap().check().unwrap_err();
+        assert_eq!(
+            errors.iter().map(ToString::to_string).collect::<Vec<_>>(),
+            ["guide.surroundings must have a lower index than the guide for light to be guided: \
+              surroundings n = 1.6000, guide n = 1.4336"]
+        );
+    }
 }

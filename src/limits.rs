@@ -2,11 +2,11 @@
 //! place with the reason for it, and the [`Range`] and [`Count`] types that check a value
 //! against one and word the problem for people.
 //!
-//! Three kinds of reason recur: *physics* (a bend turns through at most 180°, a cone opens into
-//! the half-space in front of a face), *memory or time* (what one run may cost), and *data
-//! range* (where the material data hold, what a browser's doubles keep exactly). The others are
-//! *sanity* bounds far beyond any light guide, there to catch a slip of unit (metres or µm typed
-//! as mm) rather than to restrict a design.
+//! Three kinds of reason recur: *physics and geometry* (a cone opens into the half-space in front
+//! of a face, a bend turns at most half a turn), *memory or time* (what one run may cost), and
+//! *data range* (where the material data hold, what a browser's doubles keep exactly). The others
+//! are *sanity* bounds far beyond any light guide, there to catch a slip of unit (µm typed as mm,
+//! say) rather than to restrict a design.
 
 use crate::error::{show, FieldError};
 
@@ -209,20 +209,21 @@ pub const WAVELENGTH_NM: Range = Range::closed(200.0, 2500.0).unit(" nm");
 /// beam's divergence. Physics: a cone into the half-space ahead opens at most 90°.
 pub const CONE_HALF_ANGLE_DEG: Range = Range::closed(0.0, 90.0).unit("°");
 
-/// Half-intensity half-angle of a cos^m pattern, degrees. Physics: m = ln ½ / ln cos θ½ is
-/// infinite at 0° and zero at 90°; inside these bounds it stays finite and positive.
+/// Half-intensity half-angle of a cos^m pattern, degrees. Physics: m = −ln 2 / ln cos θ½
+/// ([`crate::guide::cos_power_exponent`]) is infinite at 0° and zero at 90°; inside these bounds
+/// it stays finite and positive (about 1.8·10⁴ down to 0.15).
 pub const HALF_INTENSITY_ANGLE_DEG: Range = Range::closed(0.5, 89.5).unit("°");
 
-/// Tilt of the emitter's axis from the guide axis, degrees. Physics: at 90° the emitter faces
-/// along the entry face and sends nothing into it.
+/// Tilt of the emitter's axis from the guide axis, degrees. Geometry: from 90° on, the emitter's
+/// axis no longer points at the entry face.
 pub const TILT_DEG: Range = Range::closed_open(0.0, 90.0).unit("°");
 
 /// A direction about an axis (a bend's turn, the emitter's tilt direction), degrees: one turn
 /// either way, so a value is never more than one turn off its meaning.
 pub const AZIMUTH_DEG: Range = Range::closed(-360.0, 360.0).unit("°");
 
-/// Emitted flux, in the flux's own unit (mW or lm, given with [`Range::unit`]). Sanity: a
-/// gigawatt (or 10⁹ lm) is no LED; the upper bound catches a slip of unit.
+/// Emitted flux, in the flux's own unit (mW or lm, given with [`Range::unit`]). Sanity: 10⁹ mW
+/// (a megawatt) or 10⁹ lm is no LED; the upper bound catches a slip of unit.
 pub const FLUX: Range = Range::open_closed(0.0, 1e9);
 
 /// Angle of an intensity table's row, degrees, each after the previous row (see
@@ -236,8 +237,8 @@ pub const TABLE_ANGLE_DEG: Range = Range::closed(0.0, 90.0)
 pub const TABLE_INTENSITY: Range = Range::closed(0.0, 1e12);
 
 /// Rows of an intensity table. Two make a line. Time: the table is looked up at every step of the
-/// sampler's integration grid (2048 steps over 90°), and a thousand rows is as fine as that grid
-/// can show.
+/// sampler's integration grid (2048 steps over 90°), and a thousand rows is about as fine as that
+/// grid can show.
 pub const TABLE_ROWS: Count = Count::new(2, 1000);
 
 // --- Guide and route -----------------------------------------------------------------------
@@ -257,8 +258,9 @@ pub const BEND_RADIUS_MAX_MM: f64 = 1_000_000.0;
 /// Inner radius of the quick look's bend, mm. Sanity: a hundred metres.
 pub const BEND_INNER_RADIUS_MM: Range = size_mm(100_000.0);
 
-/// Angle a bend turns through, degrees (both documents). Physics: past 180° the guide would
-/// cross itself; a turn back needs two bends.
+/// Angle a bend turns through, degrees (both documents). Geometry: a point's place along a bend
+/// is read from its angle about the bend's axis, which tells places apart within half a turn
+/// only; a longer turn is written as several bends.
 pub const BEND_ANGLE_DEG: Range = Range::open_closed(0.0, 180.0).unit("°");
 
 /// Most segments a route may have (at least one). Memory and time: the route is placed, checked
@@ -269,7 +271,7 @@ pub const MAX_SEGMENTS: usize = 64;
 pub const ATTENUATION_DB_PER_M: Range = Range::closed(0.0, 100_000.0).unit(" dB/m");
 
 /// Start of a contact's sector of the perimeter, degrees (its end follows it, up to a full
-/// turn; see [`Range::above`]). Physics: one turn round the axis.
+/// turn; see [`Range::above`]). Geometry: one turn round the axis.
 pub const SECTOR_DEG: Range = Range::closed_open(0.0, 360.0).unit("°");
 
 /// End of a contact's sector, degrees: after its start, up to a full turn.
@@ -297,15 +299,17 @@ pub const RECEIVER_DISTANCE_MM: Range = Range::closed(0.0, 100_000.0).unit(" mm"
 // --- Tracing -------------------------------------------------------------------------------
 
 /// Largest whole number a JSON reader using doubles (a browser) keeps exactly: 2⁵³ − 1. Data
-/// range: the largest seed, so that the page and the command line read the same one.
+/// range: the largest seed (and whole number read), so that the page and the command line read
+/// the same one.
 pub const MAX_WHOLE: u64 = (1 << 53) - 1;
 
 /// Rays of one trace (the scenario's `trace.rays` and `--rays`). Time: a billion rays already
 /// take hours; more is a slip of the keyboard.
 pub const RAYS: Count = Count::new(1, 1_000_000_000);
 
-/// Interactions after which a ray is stopped. Time: one ray may not hold a trace up for good
-/// (a ray trapped in a ring would never end).
+/// The setting `trace.max_interactions`: interactions after which a ray is stopped (and counted
+/// as stopped). Time: a ray trapped in the guide (a ring of total reflections) would never end;
+/// at most 10⁷ interactions, one ray cannot hold a trace up for long.
 pub const MAX_INTERACTIONS: Count = Count::new(1, 10_000_000);
 
 /// Threads of `tirtrace trace --threads` (0: all cores). Memory: each thread holds its own stack

@@ -93,8 +93,3 @@ pub(crate) fn check_range(
     };
     Err(FieldError::new(field, format!("{rule}, got {}", show(x))))
 }
-
-/// A size in mm: `0 < x ≤ max_mm`, the commonest range check.
-pub(crate) fn size_mm(field: &str, x: f64, max_mm: f64) -> Result<f64, FieldError> {
-    check_range(field, x, 0.0, false, max_mm, true, " mm")
-}

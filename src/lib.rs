@@ -18,6 +18,7 @@ pub mod geometry;
 pub mod guide;
 pub mod index;
 pub mod interface;
+pub mod limits;
 pub mod outline;
 pub mod problems;
 pub mod quick;

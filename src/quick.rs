@@ -6,15 +6,13 @@
 
 use serde::{Deserialize, Serialize};
 
-use crate::error::{check_range, size_mm, FieldError, TirError};
+use crate::error::{FieldError, TirError};
 use crate::guide;
 use crate::index::library::MaterialChoice;
+use crate::limits::{self, FieldErrors};
 
 /// Current version of the quick-look document.
 pub const QUICK_VERSION: u32 = 1;
-
-/// Allowed wavelength range of a design, nm (near UV to short-wave infrared).
-pub const WAVELENGTH_RANGE_NM: (f64, f64) = (200.0, 2500.0);
 
 /// The quick-look design document (JSON field names are part of the file format).
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
@@ -122,80 +120,61 @@ impl QuickDesign {
         }
     }
 
-    /// Validate and resolve the indices; on failure, every field error found.
+    /// Validate and resolve the indices; on failure, every field error found, in document order.
     pub fn check(&self) -> Result<Indices, Vec<FieldError>> {
-        let mut errs = Vec::new();
-        let mut keep = |r: Result<f64, FieldError>| r.map_err(|e| errs.push(e)).ok();
+        let mut out = FieldErrors::default();
         if self.version != QUICK_VERSION {
-            keep(Err(FieldError::new(
+            out.push(
                 "version",
                 format!(
                     "must be {QUICK_VERSION} (this version of tirtrace), got {}",
                     self.version
                 ),
-            )));
+            );
         }
-        let (wl_lo, wl_hi) = WAVELENGTH_RANGE_NM;
-        let wl = keep(check_range(
-            "wavelength_nm",
-            self.wavelength_nm,
-            wl_lo,
-            true,
-            wl_hi,
-            true,
-            " nm",
-        ));
-        keep(size_mm("diameter_mm", self.diameter_mm, 1000.0));
-        keep(check_range(
+        let wl = out.range("wavelength_nm", self.wavelength_nm, limits::WAVELENGTH_NM);
+        out.range("diameter_mm", self.diameter_mm, limits::SECTION_MM);
+        out.range(
             "launch_half_angle_deg",
             self.launch_half_angle_deg,
-            0.0,
-            true,
-            90.0,
-            true,
-            "°",
-        ));
-        keep(size_mm(
+            limits::CONE_HALF_ANGLE_DEG,
+        );
+        out.range(
             "bend_inner_radius_mm",
             self.bend_inner_radius_mm,
-            100_000.0,
-        ));
-        keep(check_range(
+            limits::BEND_INNER_RADIUS_MM,
+        );
+        out.range(
             "bend_angle_deg",
             self.bend_angle_deg,
-            0.0,
-            false,
-            180.0,
-            true,
-            "°",
-        ));
-        let mut indices = None;
-        if let Some(wl) = wl {
-            let n_core = keep(self.material.n_rel_air(wl, "material"));
-            let n_out = keep(self.surroundings.n_rel_air(wl, "surroundings"));
-            let n_launch = keep(self.launch_medium.n_rel_air(wl, "launch_medium"));
-            if let (Some(n_core), Some(n_out), Some(n_launch)) = (n_core, n_out, n_launch) {
-                if n_out >= n_core {
-                    keep(Err(FieldError::new(
-                        "surroundings",
-                        format!(
-                            "must have a lower index than the guide for light to be guided: \
-                             surroundings n = {n_out:.4}, guide n = {n_core:.4}"
-                        ),
-                    )));
-                } else {
-                    indices = Some(Indices {
-                        n_core,
-                        n_out,
-                        n_launch,
-                    });
-                }
-            }
+            limits::BEND_ANGLE_DEG,
+        );
+        let indices = wl.and_then(|wl| self.indices_at(wl, &mut out));
+        out.verdict(indices)
+    }
+
+    /// Every medium's index at the wavelength, and whether the surroundings let the guide guide.
+    fn indices_at(&self, wavelength_nm: f64, out: &mut FieldErrors) -> Option<Indices> {
+        let wl = wavelength_nm;
+        let n_core = out.keep(self.material.n_rel_air(wl, "material"));
+        let n_out = out.keep(self.surroundings.n_rel_air(wl, "surroundings"));
+        let n_launch = out.keep(self.launch_medium.n_rel_air(wl, "launch_medium"));
+        let (n_core, n_out, n_launch) = (n_core?, n_out?, n_launch?);
+        if n_out >= n_core {
+            out.push(
+                "surroundings",
+                format!(
+                    "must have a lower index than the guide for light to be guided: \
+                     surroundings n = {n_out:.4}, guide n = {n_core:.4}"
+                ),
+            );
+            return None;
         }
-        match indices {
-            Some(ix) if errs.is_empty() => Ok(ix),
-            _ => Err(errs),
-        }
+        Some(Indices {
+            n_core,
+            n_out,
+            n_launch,
+        })
     }
 
     /// The closed-form figures, or the first problem found.

@@ -6,13 +6,14 @@ use std::process::ExitCode;
 
 use clap::error::ErrorKind;
 use clap::{Args, Parser, Subcommand};
+use tirtrace::limits::{PATHS, RAYS, THREADS};
 use tirtrace::quick::QuickDesign;
 use tirtrace::scenario::Scenario;
 use tirtrace::trace::{Batch, Prepared, TraceReport, BATCH_RAYS};
 use tirtrace::FieldError;
 
-/// Most threads `--threads` accepts.
-const MAX_THREADS: usize = 1024;
+// Paths are kept from the first batch only.
+const _: () = assert!(PATHS.max == BATCH_RAYS);
 
 #[derive(Parser)]
 #[command(
@@ -52,8 +53,13 @@ enum Command {
 struct TraceArgs {
     /// The scenario document (JSON); `-` reads standard input.
     file: String,
-    /// Number of rays (overrides the scenario's trace.rays; 1 to 1000000000).
-    #[arg(long, value_name = "N", allow_negative_numbers = true)]
+    // Number of rays; the help names the range of limits::RAYS.
+    #[arg(
+        long,
+        value_name = "N",
+        allow_negative_numbers = true,
+        help = format!("Number of rays (overrides the scenario's trace.rays; {} to {})", RAYS.min, RAYS.max)
+    )]
     rays: Option<i64>,
     /// Seed of the random sequence (overrides the scenario's trace.seed).
     #[arg(long, value_name = "N", allow_negative_numbers = true)]
@@ -66,8 +72,13 @@ struct TraceArgs {
         allow_negative_numbers = true
     )]
     threads: usize,
-    /// Include N sampled ray paths in the JSON report (0 to 4096).
-    #[arg(long, value_name = "N", allow_negative_numbers = true)]
+    // Sampled ray paths; the help names the range of limits::PATHS.
+    #[arg(
+        long,
+        value_name = "N",
+        allow_negative_numbers = true,
+        help = format!("Include N sampled ray paths in the JSON report ({} to {})", PATHS.min, PATHS.max)
+    )]
     paths: Option<usize>,
     /// Print CSV instead: the budget (mechanism, share, ci95), then the per-segment table, then
     /// the contacts.
@@ -137,8 +148,8 @@ fn trace(args: TraceArgs) -> Result<String, String> {
     let mut scenario = read_scenario(&args.file)?;
     if let Some(rays) = args.rays {
         // Parsed signed so that a negative count gets the range message, not a parse error.
-        if rays < 1 {
-            return Err(format!("--rays must be ≥ 1 and ≤ 1000000000, got {rays}"));
+        if rays < RAYS.min as i64 {
+            return Err(format!("--rays {}, got {rays}", RAYS.rule()));
         }
         scenario.trace.rays = rays as u64;
     }
@@ -159,16 +170,17 @@ fn trace(args: TraceArgs) -> Result<String, String> {
     if !problems.is_empty() {
         return Err(first_problem(&problems));
     }
-    if args.threads > MAX_THREADS {
+    if !THREADS.contains(args.threads as u64) {
         return Err(format!(
-            "--threads must be ≥ 0 and ≤ {MAX_THREADS} (0 = all cores), got {}",
+            "--threads {} (0 = all cores), got {}",
+            THREADS.rule(),
             args.threads
         ));
     }
-    let max_paths = BATCH_RAYS as usize;
-    if let Some(n) = args.paths.filter(|&n| n > max_paths) {
+    if let Some(n) = args.paths.filter(|&n| !PATHS.contains(n as u64)) {
         return Err(format!(
-            "--paths must be ≥ 0 and ≤ {max_paths} (paths come from the first batch of rays), got {n}"
+            "--paths {} (paths come from the first batch of rays), got {n}",
+            PATHS.rule()
         ));
     }
     let prepared = Prepared::new(&scenario).map_err(|e| e.to_string())?;

@@ -1,0 +1,422 @@
+//! The allowed range of every number in the documents and on the command line, each in one
+//! place with the reason for it, and the [`Range`] and [`Count`] types that check a value
+//! against one and word the problem for people.
+//!
+//! Three kinds of reason recur: *physics and geometry* (a cone opens into the half-space in front
+//! of a face, a bend turns at most half a turn), *memory or time* (what one run may cost), and
+//! *data range* (where the material data hold, what a browser's doubles keep exactly). The others
+//! are *sanity* bounds far beyond any light guide, there to catch a slip of unit (µm typed as mm,
+//! say) rather than to restrict a design.
+
+use crate::error::{show, FieldError};
+
+/// An allowed interval of a real number: each end open or closed, with the unit shown after
+/// each bound and an optional note after the rule. NaN and ±∞ are always refused.
+///
+/// [`Range::check`] words a refusal as `must be ≥ 0 mm and < 12 mm (the segment's length), got
+/// 13`; an infinite upper end leaves the upper bound out of the rule.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Range {
+    /// Lower bound.
+    pub lo: f64,
+    /// Whether `lo` itself is allowed.
+    pub lo_closed: bool,
+    /// Upper bound (may be +∞: no upper bound).
+    pub hi: f64,
+    /// Whether `hi` itself is allowed.
+    pub hi_closed: bool,
+    /// Unit shown after each bound, with its leading space where one is wanted: `" mm"`, `"°"`.
+    pub unit: &'static str,
+    /// Note shown once after the rule, with its leading space: `" (angles ascending)"`.
+    pub note: &'static str,
+}
+
+impl Range {
+    /// [lo, hi], no unit.
+    pub const fn closed(lo: f64, hi: f64) -> Range {
+        Range {
+            lo,
+            lo_closed: true,
+            hi,
+            hi_closed: true,
+            unit: "",
+            note: "",
+        }
+    }
+
+    /// (lo, hi], no unit.
+    pub const fn open_closed(lo: f64, hi: f64) -> Range {
+        Range {
+            lo_closed: false,
+            ..Range::closed(lo, hi)
+        }
+    }
+
+    /// [lo, hi), no unit.
+    pub const fn closed_open(lo: f64, hi: f64) -> Range {
+        Range {
+            hi_closed: false,
+            ..Range::closed(lo, hi)
+        }
+    }
+
+    /// The same range with a unit shown after each bound (`" mm"`, `"°"`).
+    pub const fn unit(self, unit: &'static str) -> Range {
+        Range { unit, ..self }
+    }
+
+    /// The same range with a note shown after the rule (`" (after from_mm)"`).
+    pub const fn note(self, note: &'static str) -> Range {
+        Range { note, ..self }
+    }
+
+    /// The same range starting just above `lo` (open lower end): for a value that must follow
+    /// another one.
+    pub const fn above(self, lo: f64) -> Range {
+        Range {
+            lo,
+            lo_closed: false,
+            ..self
+        }
+    }
+
+    /// Whether `x` lies in the range (never for NaN or ±∞).
+    pub fn contains(&self, x: f64) -> bool {
+        let ok_lo = if self.lo_closed {
+            x >= self.lo
+        } else {
+            x > self.lo
+        };
+        let ok_hi = if self.hi_closed {
+            x <= self.hi
+        } else {
+            x < self.hi
+        };
+        x.is_finite() && ok_lo && ok_hi
+    }
+
+    /// The rule for people: `must be > 0 mm and ≤ 1000 mm`, then the note.
+    pub fn rule(&self) -> String {
+        let lo_s = if self.lo_closed { "≥" } else { ">" };
+        let hi_s = if self.hi_closed { "≤" } else { "<" };
+        let (unit, note) = (self.unit, self.note);
+        if self.hi.is_infinite() {
+            format!("must be {lo_s} {}{unit}{note}", show(self.lo))
+        } else {
+            format!(
+                "must be {lo_s} {}{unit} and {hi_s} {}{unit}{note}",
+                show(self.lo),
+                show(self.hi)
+            )
+        }
+    }
+
+    /// `x` when it lies in the range, else a problem of `field` naming the rule and the value.
+    pub fn check(&self, field: &str, x: f64) -> Result<f64, FieldError> {
+        if self.contains(x) {
+            Ok(x)
+        } else {
+            Err(FieldError::new(
+                field,
+                format!("{}, got {}", self.rule(), show(x)),
+            ))
+        }
+    }
+}
+
+/// An allowed range of a whole number (a count), both ends included.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct Count {
+    /// Smallest allowed.
+    pub min: u64,
+    /// Largest allowed.
+    pub max: u64,
+}
+
+impl Count {
+    /// min..=max.
+    pub const fn new(min: u64, max: u64) -> Count {
+        Count { min, max }
+    }
+
+    /// Whether `n` lies in the range.
+    pub fn contains(&self, n: u64) -> bool {
+        (self.min..=self.max).contains(&n)
+    }
+
+    /// The rule for people: `must be ≥ 1 and ≤ 1000000000`.
+    pub fn rule(&self) -> String {
+        format!("must be ≥ {} and ≤ {}", self.min, self.max)
+    }
+
+    /// `n` when it lies in the range, else a problem of `field` naming the rule and the value.
+    pub fn check(&self, field: &str, n: u64) -> Result<u64, FieldError> {
+        if self.contains(n) {
+            Ok(n)
+        } else {
+            Err(FieldError::new(field, format!("{}, got {n}", self.rule())))
+        }
+    }
+}
+
+/// The problems a document's checks find, in the order the checks run (which is the order they
+/// are listed in: document order).
+#[derive(Debug, Default)]
+pub(crate) struct FieldErrors(pub(crate) Vec<FieldError>);
+
+impl FieldErrors {
+    /// The value of a passed check; the problem of a failed one is kept.
+    pub(crate) fn keep<T>(&mut self, checked: Result<T, FieldError>) -> Option<T> {
+        checked.map_err(|e| self.0.push(e)).ok()
+    }
+
+    /// Check a number against a range.
+    pub(crate) fn range(&mut self, field: &str, x: f64, range: Range) -> Option<f64> {
+        self.keep(range.check(field, x))
+    }
+
+    /// Check a whole number against a count.
+    pub(crate) fn count(&mut self, field: &str, n: u64, count: Count) -> Option<u64> {
+        self.keep(count.check(field, n))
+    }
+
+    /// A problem found by a check of its own.
+    pub(crate) fn push(&mut self, field: impl Into<String>, message: impl Into<String>) {
+        self.0.push(FieldError::new(field, message));
+    }
+
+    /// `found` when no problem was kept, else every problem.
+    pub(crate) fn verdict<T>(self, found: Option<T>) -> Result<T, Vec<FieldError>> {
+        match found {
+            Some(found) if self.0.is_empty() => Ok(found),
+            _ => Err(self.0),
+        }
+    }
+}
+
+/// A size `0 < x ≤ max_mm`, mm: the commonest range.
+const fn size_mm(max_mm: f64) -> Range {
+    Range::open_closed(0.0, max_mm).unit(" mm")
+}
+
+// --- Light ---------------------------------------------------------------------------------
+
+/// Vacuum wavelength, nm (both documents). Data range: near UV to short-wave infrared, where the
+/// built-in index models hold (each material narrows it further with its own validity range).
+pub const WAVELENGTH_NM: Range = Range::closed(200.0, 2500.0).unit(" nm");
+
+/// Half-angle of a cone of light in front of a face, degrees: the quick look's launch cone and a
+/// beam's divergence. Physics: a cone into the half-space ahead opens at most 90°.
+pub const CONE_HALF_ANGLE_DEG: Range = Range::closed(0.0, 90.0).unit("°");
+
+/// Half-intensity half-angle of a cos^m pattern, degrees. Physics: m = −ln 2 / ln cos θ½
+/// ([`crate::guide::cos_power_exponent`]) is infinite at 0° and zero at 90°; inside these bounds
+/// it stays finite and positive (about 1.8·10⁴ down to 0.15).
+pub const HALF_INTENSITY_ANGLE_DEG: Range = Range::closed(0.5, 89.5).unit("°");
+
+/// Tilt of the emitter's axis from the guide axis, degrees. Geometry: from 90° on, the emitter's
+/// axis no longer points at the entry face.
+pub const TILT_DEG: Range = Range::closed_open(0.0, 90.0).unit("°");
+
+/// A direction about an axis (a bend's turn, the emitter's tilt direction), degrees: one turn
+/// either way, so a value is never more than one turn off its meaning.
+pub const AZIMUTH_DEG: Range = Range::closed(-360.0, 360.0).unit("°");
+
+/// Emitted flux, in the flux's own unit (mW or lm, given with [`Range::unit`]). Sanity: 10⁹ mW
+/// (a megawatt) or 10⁹ lm is no LED; the upper bound catches a slip of unit.
+pub const FLUX: Range = Range::open_closed(0.0, 1e9);
+
+/// Angle of an intensity table's row, degrees, each after the previous row (see
+/// [`Range::above`]). Physics: an LED emits into the half-space ahead, up to 90°.
+pub const TABLE_ANGLE_DEG: Range = Range::closed(0.0, 90.0)
+    .unit("°")
+    .note(" (angles ascending)");
+
+/// Relative intensity of an intensity table's row. Sanity: relative values need no more than
+/// twelve decades.
+pub const TABLE_INTENSITY: Range = Range::closed(0.0, 1e12);
+
+/// Rows of an intensity table. Two make a line. Time: the table is looked up at every step of the
+/// sampler's integration grid (2048 steps over 90°), and a thousand rows is about as fine as that
+/// grid can show.
+pub const TABLE_ROWS: Count = Count::new(2, 1000);
+
+// --- Guide and route -----------------------------------------------------------------------
+
+/// A guide's cross-section size (diameter, width, height), mm, in both documents and at the end
+/// of a taper. Sanity: a metre is no light guide.
+pub const SECTION_MM: Range = size_mm(1000.0);
+
+/// Length of a straight or a taper, mm. Sanity: a hundred metres.
+pub const SEGMENT_LENGTH_MM: Range = size_mm(100_000.0);
+
+/// Largest centre-line radius of a scenario's bend, mm (its smallest is half the guide's size
+/// across the bend, so that the inner wall keeps a radius). Sanity: a kilometre bend is a
+/// straight run.
+pub const BEND_RADIUS_MAX_MM: f64 = 1_000_000.0;
+
+/// Inner radius of the quick look's bend, mm. Sanity: a hundred metres.
+pub const BEND_INNER_RADIUS_MM: Range = size_mm(100_000.0);
+
+/// Angle a bend turns through, degrees (both documents). Geometry: a point's place along a bend
+/// is read from its angle about the bend's axis, which tells places apart within half a turn
+/// only; a longer turn is written as several bends.
+pub const BEND_ANGLE_DEG: Range = Range::open_closed(0.0, 180.0).unit("°");
+
+/// Most segments a route may have (at least one). Memory and time: the route is placed, checked
+/// and drawn segment by segment; 64 is far more than any light pipe needs.
+pub const MAX_SEGMENTS: usize = 64;
+
+/// Bulk attenuation, dB/m. Sanity: 10⁵ dB/m loses everything within a millimetre.
+pub const ATTENUATION_DB_PER_M: Range = Range::closed(0.0, 100_000.0).unit(" dB/m");
+
+/// Start of a contact's sector of the perimeter, degrees (its end follows it, up to a full
+/// turn; see [`Range::above`]). Geometry: one turn round the axis.
+pub const SECTOR_DEG: Range = Range::closed_open(0.0, 360.0).unit("°");
+
+/// End of a contact's sector, degrees: after its start, up to a full turn.
+pub const SECTOR_END_DEG: Range = Range::closed(0.0, 360.0)
+    .unit("°")
+    .note(" (after sector_from_deg)");
+
+// --- Source and receiver -------------------------------------------------------------------
+
+/// Size of an emitter (LED disk diameter or square side, beam diameter), mm. Sanity: a metre.
+pub const EMITTER_MM: Range = size_mm(1000.0);
+
+/// Gap between the emitter and the entry face, mm. Sanity: a metre.
+pub const GAP_MM: Range = Range::closed(0.0, 1000.0).unit(" mm");
+
+/// Lateral offset of the emitter from the guide axis, mm, each way. Sanity: a metre.
+pub const OFFSET_MM: Range = Range::closed(-1000.0, 1000.0).unit(" mm");
+
+/// Size of a receiver (diameter, width, height), mm. Sanity: ten metres.
+pub const RECEIVER_MM: Range = size_mm(10_000.0);
+
+/// Distance of a receiver beyond the exit face, mm. Sanity: a hundred metres.
+pub const RECEIVER_DISTANCE_MM: Range = Range::closed(0.0, 100_000.0).unit(" mm");
+
+// --- Tracing -------------------------------------------------------------------------------
+
+/// Largest whole number a JSON reader using doubles (a browser) keeps exactly: 2⁵³ − 1. Data
+/// range: the largest seed (and whole number read), so that the page and the command line read
+/// the same one.
+pub const MAX_WHOLE: u64 = (1 << 53) - 1;
+
+/// Rays of one trace (the scenario's `trace.rays` and `--rays`). Time: a billion rays already
+/// take hours; more is a slip of the keyboard.
+pub const RAYS: Count = Count::new(1, 1_000_000_000);
+
+/// The setting `trace.max_interactions`: interactions after which a ray is stopped (and counted
+/// as stopped). Time: a ray trapped in the guide (a ring of total reflections) would never end;
+/// at most 10⁷ interactions, one ray cannot hold a trace up for long.
+pub const MAX_INTERACTIONS: Count = Count::new(1, 10_000_000);
+
+/// Threads of `tirtrace trace --threads` (0: all cores). Memory: each thread holds its own stack
+/// and tallies; more threads than cores only cost memory.
+pub const THREADS: Count = Count::new(0, 1024);
+
+/// Ray paths `tirtrace trace --paths` keeps. Memory: paths are recorded in the first batch only,
+/// so at most one batch's rays ([`crate::trace::BATCH_RAYS`]).
+pub const PATHS: Count = Count::new(0, 4096);
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn range_ends_open_and_closed() {
+        let r = Range::open_closed(0.0, 10.0).unit(" mm");
+        assert!(!r.contains(0.0));
+        assert!(r.contains(1e-300));
+        assert!(r.contains(10.0));
+        assert!(!r.contains(10.0 + 1e-12));
+        let r = Range::closed_open(0.0, 360.0).unit("°");
+        assert!(r.contains(0.0));
+        assert!(!r.contains(360.0));
+        let r = Range::closed(-1.0, 1.0);
+        assert!(r.contains(-1.0) && r.contains(1.0) && !r.contains(-1.5));
+        assert_eq!(
+            Range::open_closed(0.0, 1000.0)
+                .unit(" mm")
+                .check("diameter_mm", 0.0),
+            Err(FieldError::new(
+                "diameter_mm",
+                "must be > 0 mm and ≤ 1000 mm, got 0"
+            ))
+        );
+        assert_eq!(
+            Range::closed_open(0.0, 90.0)
+                .unit("°")
+                .check("tilt_deg", 90.0),
+            Err(FieldError::new(
+                "tilt_deg",
+                "must be ≥ 0° and < 90°, got 90"
+            ))
+        );
+        assert_eq!(WAVELENGTH_NM.check("wavelength_nm", 2500.0), Ok(2500.0));
+        assert_eq!(WAVELENGTH_NM.check("wavelength_nm", 200.0), Ok(200.0));
+    }
+
+    #[test]
+    fn range_refuses_nan_and_infinities_with_the_rule() {
+        let r = Range::closed(0.0, 100_000.0).unit(" mm");
+        for (x, got) in [
+            (f64::NAN, "not a number"),
+            (f64::INFINITY, "infinite"),
+            (f64::NEG_INFINITY, "infinite"),
+        ] {
+            assert!(!r.contains(x));
+            assert_eq!(
+                r.check("receiver.distance_mm", x).unwrap_err().to_string(),
+                format!("receiver.distance_mm must be ≥ 0 mm and ≤ 100000 mm, got {got}")
+            );
+        }
+        // An unbounded range still refuses +∞, and leaves its upper bound out of the rule.
+        let r = Range::closed(1.0, f64::INFINITY);
+        assert!(r.contains(1e300) && !r.contains(f64::INFINITY));
+        assert_eq!(
+            r.check("n", f64::INFINITY).unwrap_err().message,
+            "must be ≥ 1, got infinite"
+        );
+    }
+
+    #[test]
+    fn range_notes_follow_the_rule_and_bounds_follow_show() {
+        let r = Range::closed(0.0, 12.5)
+            .unit(" mm")
+            .note(" (the segment's length)")
+            .above(3.0);
+        assert_eq!(
+            r.check("to_mm", 3.0).unwrap_err().message,
+            "must be > 3 mm and ≤ 12.5 mm (the segment's length), got 3"
+        );
+        assert_eq!(
+            TABLE_INTENSITY.check("v", -1e-9).unwrap_err().message,
+            "must be ≥ 0 and ≤ 1e12, got -1e-9"
+        );
+        assert_eq!(
+            FLUX.unit(" lm")
+                .check("source.flux.lm", 2e9)
+                .unwrap_err()
+                .message,
+            "must be > 0 lm and ≤ 1e9 lm, got 2e9"
+        );
+    }
+
+    #[test]
+    fn count_ends_are_included() {
+        assert!(RAYS.contains(1) && RAYS.contains(1_000_000_000));
+        assert!(!RAYS.contains(0) && !RAYS.contains(1_000_000_001));
+        assert_eq!(
+            RAYS.check("trace.rays", 0).unwrap_err().message,
+            "must be ≥ 1 and ≤ 1000000000, got 0"
+        );
+        assert_eq!(THREADS.check("--threads", 1024), Ok(1024));
+    }
+
+    #[test]
+    fn paths_are_one_batch() {
+        assert_eq!(PATHS.max, crate::trace::BATCH_RAYS);
+    }
+}

@@ -1,0 +1,435 @@
+//! The scenario document: one versioned JSON document describing a whole routed light guide, its
+//! source, an optional receiver and the trace settings. The command line reads it, the page's
+//! state is it, saved files and share links carry it, and tests are written in it.
+//!
+//! Field names carry units (`_mm`, `_deg`, `_nm`, `_db_per_m`). Unknown fields are refused, and
+//! every bad value is reported with its field path and allowed range, e.g.
+//! `route[2].bend.radius_mm must be > 1.5 mm, got -3`.
+//!
+//! The document types are here; `validate.rs` checks a scenario field by field against the
+//! ranges of [`crate::limits`], and [`table`] holds the arithmetic of an LED's intensity table
+//! that both the check and the source sampler use.
+
+use serde::{Deserialize, Serialize};
+
+use crate::error::{FieldError, TirError};
+use crate::index::library::MaterialChoice;
+
+pub mod table;
+mod validate;
+
+pub use crate::limits::{MAX_SEGMENTS, MAX_WHOLE};
+
+/// Current version of the scenario document.
+pub const SCENARIO_VERSION: u32 = 1;
+
+/// A whole design: guide, route, source, receiver and trace settings.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct Scenario {
+    /// Document version, currently 1.
+    pub version: u32,
+    /// A label for people; not used by the physics.
+    #[serde(default)]
+    pub name: String,
+    /// The guide: section, material, surroundings, attenuation, contact zones.
+    pub guide: Guide,
+    /// The route: tangent-continuous segments from the entry face to the exit face.
+    pub route: Vec<Segment>,
+    /// The light source in front of the entry face.
+    pub source: Source,
+    /// An optional detector or window beyond the exit face.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub receiver: Option<Receiver>,
+    /// Ray count, seed and the interaction cap.
+    #[serde(default)]
+    pub trace: TraceSettings,
+}
+
+/// The guide's material and cross-section.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct Guide {
+    /// Cross-section at the entry face.
+    pub section: Section,
+    /// Guide material.
+    pub material: MaterialChoice,
+    /// Medium around the guide.
+    pub surroundings: MaterialChoice,
+    /// Bulk attenuation, dB/m (Beer–Lambert).
+    #[serde(default)]
+    pub attenuation_db_per_m: f64,
+    /// Mounts, clips or glue spots touching the guide.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub contacts: Vec<Contact>,
+    /// Medium beyond the exit face (a window or lens bonded to it, say); the surroundings when
+    /// absent.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub exit_medium: Option<MaterialChoice>,
+}
+
+/// A guide cross-section.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case", deny_unknown_fields)]
+pub enum Section {
+    /// Round rod or fibre.
+    Round {
+        /// Diameter, mm.
+        diameter_mm: f64,
+    },
+    /// Rectangular bar; width along the route's first side axis, height along the second.
+    Rectangular {
+        /// Width, mm.
+        width_mm: f64,
+        /// Height, mm.
+        height_mm: f64,
+    },
+}
+
+impl Section {
+    /// Half-sizes (along the width axis, along the height axis), mm. A round section gives its
+    /// radius twice.
+    pub fn half_sizes_mm(&self) -> (f64, f64) {
+        match *self {
+            Section::Round { diameter_mm } => (0.5 * diameter_mm, 0.5 * diameter_mm),
+            Section::Rectangular {
+                width_mm,
+                height_mm,
+            } => (0.5 * width_mm, 0.5 * height_mm),
+        }
+    }
+
+    /// Area of the section, mm².
+    pub fn area_mm2(&self) -> f64 {
+        match *self {
+            Section::Round { diameter_mm } => {
+                std::f64::consts::PI * 0.25 * diameter_mm * diameter_mm
+            }
+            Section::Rectangular {
+                width_mm,
+                height_mm,
+            } => width_mm * height_mm,
+        }
+    }
+
+    fn kind(&self) -> &'static str {
+        match self {
+            Section::Round { .. } => "round",
+            Section::Rectangular { .. } => "rectangular",
+        }
+    }
+}
+
+/// One segment of the route.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case", deny_unknown_fields)]
+pub enum Segment {
+    /// A straight run.
+    Straight {
+        /// Length along the axis, mm.
+        length_mm: f64,
+    },
+    /// A circular bend.
+    Bend {
+        /// Radius of the guide's centre line, mm.
+        radius_mm: f64,
+        /// Angle turned through, degrees.
+        angle_deg: f64,
+        /// Direction of the turn, as an angle about the current axis from the section's width
+        /// axis towards its height axis, degrees. The section's axes travel with the guide, so a
+        /// bend cut into pieces repeats the same `turn_deg`. Rectangular guides turn across the
+        /// width (0, 180) or the height (90, 270) only.
+        #[serde(default)]
+        turn_deg: f64,
+    },
+    /// A straight taper from the current section to `end_section`.
+    Taper {
+        /// Length along the axis, mm.
+        length_mm: f64,
+        /// Section at the end of the taper (same shape as the current one).
+        end_section: Section,
+    },
+}
+
+impl Segment {
+    /// Length of the segment along its centre line, mm.
+    pub fn length_mm(&self) -> f64 {
+        match *self {
+            Segment::Straight { length_mm } | Segment::Taper { length_mm, .. } => length_mm,
+            Segment::Bend {
+                radius_mm,
+                angle_deg,
+                ..
+            } => radius_mm * angle_deg.to_radians(),
+        }
+    }
+}
+
+/// A mount, clip or glue spot touching the guide: light refracted into it is lost there.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct Contact {
+    /// A label for people.
+    #[serde(default)]
+    pub name: String,
+    /// Index of the route segment it touches (0 is the first).
+    pub segment: usize,
+    /// Start along the segment's centre line, mm from the segment's start.
+    pub from_mm: f64,
+    /// End along the segment's centre line, mm from the segment's start.
+    pub to_mm: f64,
+    /// Start of the touched sector of the perimeter, degrees about the axis from the width axis
+    /// towards the height axis.
+    #[serde(default)]
+    pub sector_from_deg: f64,
+    /// End of the touched sector, degrees (360 with 0 touches all round).
+    #[serde(default = "full_turn")]
+    pub sector_to_deg: f64,
+    /// The contacting medium.
+    pub medium: MaterialChoice,
+}
+
+fn full_turn() -> f64 {
+    360.0
+}
+
+/// The light source.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct Source {
+    /// What emits: an LED or a beam.
+    pub emitter: Emitter,
+    /// Vacuum wavelength, nm.
+    pub wavelength_nm: f64,
+    /// Distance from the emitter to the entry face, mm.
+    #[serde(default)]
+    pub gap_mm: f64,
+    /// Medium filling the gap (air, an index-matching gel…).
+    #[serde(default = "air")]
+    pub gap_medium: MaterialChoice,
+    /// Lateral offset of the emitter's centre from the guide axis along (width, height), mm.
+    #[serde(default)]
+    pub offset_mm: [f64; 2],
+    /// Tilt of the emitter's axis from the guide axis, degrees.
+    #[serde(default)]
+    pub tilt_deg: f64,
+    /// Direction the emitter is tilted towards, degrees about the axis from the width axis.
+    #[serde(default)]
+    pub tilt_toward_deg: f64,
+    /// Optional emitted flux, for absolute figures.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub flux: Option<Flux>,
+}
+
+fn air() -> MaterialChoice {
+    MaterialChoice::library("air")
+}
+
+/// An emitter.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case", deny_unknown_fields)]
+pub enum Emitter {
+    /// An LED die or package window.
+    Led {
+        /// Shape and size of the emitting area.
+        area: EmitterArea,
+        /// Angular pattern.
+        pattern: Pattern,
+    },
+    /// A collimated or slightly diverging beam (a laser, a lensed LED).
+    Beam {
+        /// Beam diameter at the emitter, mm (uniform).
+        diameter_mm: f64,
+        /// Half-angle of the divergence cone, degrees (uniform over the cone's solid angle).
+        divergence_half_angle_deg: f64,
+    },
+}
+
+/// Shape of an LED's emitting area.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case", deny_unknown_fields)]
+pub enum EmitterArea {
+    /// A disk.
+    Disk {
+        /// Diameter, mm.
+        diameter_mm: f64,
+    },
+    /// A square.
+    Square {
+        /// Side, mm.
+        side_mm: f64,
+    },
+}
+
+/// Angular intensity pattern of an LED.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case", deny_unknown_fields)]
+pub enum Pattern {
+    /// I(θ) ∝ cos θ.
+    Lambertian,
+    /// I(θ) ∝ cos^m θ with m from the half-intensity half-angle.
+    HalfIntensity {
+        /// Angle from the axis where the intensity falls to half, degrees.
+        half_angle_deg: f64,
+    },
+    /// A table of relative intensity against angle from the axis, linearly interpolated;
+    /// zero beyond the last angle.
+    Table {
+        /// `[angle_deg, relative_intensity]` pairs, angles ascending from 0 to at most 90.
+        points: Vec<[f64; 2]>,
+    },
+}
+
+/// Emitted flux.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case", deny_unknown_fields)]
+pub enum Flux {
+    /// Radiant flux, mW.
+    Mw(f64),
+    /// Luminous flux, lm.
+    Lm(f64),
+}
+
+/// A detector disk or a rectangular window beyond the exit face, parallel to it and centred on
+/// its axis: give `diameter_mm`, or `width_mm` and `height_mm` (along the exit face's width and
+/// height axes).
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct Receiver {
+    /// Diameter of a round detector, mm.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub diameter_mm: Option<f64>,
+    /// Width of a rectangular window, mm.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub width_mm: Option<f64>,
+    /// Height of a rectangular window, mm.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub height_mm: Option<f64>,
+    /// Distance beyond the exit face, mm.
+    pub distance_mm: f64,
+}
+
+impl Receiver {
+    /// Whether a point (x, y) in the receiver's plane, mm from its centre, lies on it.
+    pub fn contains(&self, x: f64, y: f64) -> bool {
+        match (self.diameter_mm, self.width_mm, self.height_mm) {
+            (Some(d), _, _) => x * x + y * y <= 0.25 * d * d,
+            (None, Some(w), Some(h)) => x.abs() <= 0.5 * w && y.abs() <= 0.5 * h,
+            _ => false,
+        }
+    }
+}
+
+/// Trace settings.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct TraceSettings {
+    /// Number of rays.
+    #[serde(default = "default_rays", deserialize_with = "whole_u64")]
+    pub rays: u64,
+    /// Seed of the random sequence; the same seed gives the same result. At most 2⁵³ − 1, so a
+    /// browser (whose numbers are doubles) reads the same seed as the command line.
+    #[serde(default = "default_seed", deserialize_with = "whole_u64")]
+    pub seed: u64,
+    /// Interactions after which a ray is stopped and counted as such.
+    #[serde(default = "default_max_interactions", deserialize_with = "whole_u32")]
+    pub max_interactions: u32,
+}
+
+/// A whole number 0 ≤ x ≤ 2⁵³ − 1 given as any JSON number, with a plain message otherwise
+/// (serde's own for `1.5` or `-5` is "invalid type: floating point, expected u64").
+fn whole_number<'de, D: serde::Deserializer<'de>>(d: D, max: u64) -> Result<u64, D::Error> {
+    let x = f64::deserialize(d)?;
+    if x.is_finite() && x >= 0.0 && x <= max as f64 && x.fract() == 0.0 {
+        Ok(x as u64)
+    } else {
+        Err(serde::de::Error::custom(format!(
+            "must be a whole number ≥ 0 and ≤ {max}, got {x}"
+        )))
+    }
+}
+
+fn whole_u64<'de, D: serde::Deserializer<'de>>(d: D) -> Result<u64, D::Error> {
+    whole_number(d, MAX_WHOLE)
+}
+
+fn whole_u32<'de, D: serde::Deserializer<'de>>(d: D) -> Result<u32, D::Error> {
+    whole_number(d, u32::MAX as u64).map(|x| x as u32)
+}
+
+fn default_rays() -> u64 {
+    100_000
+}
+fn default_seed() -> u64 {
+    1
+}
+fn default_max_interactions() -> u32 {
+    10_000
+}
+
+impl Default for TraceSettings {
+    fn default() -> Self {
+        TraceSettings {
+            rays: default_rays(),
+            seed: default_seed(),
+            max_interactions: default_max_interactions(),
+        }
+    }
+}
+
+/// Indices of a validated scenario at its wavelength, relative to air.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ScenarioIndices {
+    /// Guide.
+    pub n_core: f64,
+    /// Surroundings.
+    pub n_out: f64,
+    /// Medium beyond the exit face.
+    pub n_exit: f64,
+    /// Gap between source and entry face.
+    pub n_gap: f64,
+    /// Each contact zone's medium, in document order.
+    pub n_contacts: Vec<f64>,
+}
+
+impl Scenario {
+    /// Read a scenario from JSON. Syntax errors, unknown fields and wrong types are reported
+    /// with the path of the offending field.
+    pub fn from_json(text: &str) -> Result<Self, TirError> {
+        let de = &mut serde_json::Deserializer::from_str(text);
+        serde_path_to_error::deserialize(de).map_err(|e| {
+            let path = e.path().to_string();
+            let inner = e.into_inner();
+            if path.is_empty() || path == "." || path == "?" {
+                TirError::ParseScenario(inner.to_string())
+            } else {
+                TirError::ParseScenario(format!("{path}: {inner}"))
+            }
+        })
+    }
+
+    /// Write the scenario as pretty JSON.
+    pub fn to_json(&self) -> String {
+        serde_json::to_string_pretty(self).expect("a scenario always serialises")
+    }
+
+    /// Every problem with the scenario, each naming its field path and the allowed range.
+    pub fn problems(&self) -> Vec<FieldError> {
+        match self.check() {
+            Ok(_) => Vec::new(),
+            Err(v) => v,
+        }
+    }
+}
+
+/// Half the section's size across the bend plane for a turn direction, or `None` when the turn
+/// direction is not finite.
+pub fn bend_half_size_mm(section: Section, turn_deg: f64) -> Option<f64> {
+    if !turn_deg.is_finite() {
+        return None;
+    }
+    let (hw, hh) = section.half_sizes_mm();
+    // Turning towards the width axis (0°, 180°) puts the width across the bend.
+    let c = libm::cos(turn_deg.to_radians()).abs();
+    Some(if c > 0.5 { hw } else { hh })
+}

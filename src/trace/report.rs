@@ -1,0 +1,345 @@
+//! The reported result of a trace: energy budget, per-segment and contact figures, maps.
+
+use serde::{Deserialize, Serialize};
+
+use super::{
+    Batch, Hist, Path, Prepared, ANGULAR_CELLS, DELIVERED, FIXED, MAP_CELLS, MISSED,
+    REFLECTED_ENTRY, RETURNED, ROUTE_BINS, STOPPED, TOTAL_ABSORBED, TOTAL_CONTACT, TOTAL_LEAKED,
+};
+use crate::scenario::Flux;
+use crate::stats::Share;
+
+impl Prepared {
+    /// Turn merged batches into the reported result.
+    pub fn report(&self, batch: &Batch) -> TraceReport {
+        let nseg = self.route.segments.len();
+        let share = |j: usize| batch.tallies[j].share();
+        let budget = Budget {
+            delivered: share(DELIVERED),
+            missed_entry: share(MISSED),
+            reflected_entry: share(REFLECTED_ENTRY),
+            leaked: share(TOTAL_LEAKED),
+            contact: share(TOTAL_CONTACT),
+            absorbed: share(TOTAL_ABSORBED),
+            returned: share(RETURNED),
+            stopped: share(STOPPED),
+        };
+        // The partition: every fate, and absorption by segment (the totals duplicate it).
+        let budget_sum = batch
+            .tallies
+            .iter()
+            .enumerate()
+            .filter(|(j, _)| !(TOTAL_LEAKED..FIXED).contains(j))
+            .map(|(_, e)| e.mean)
+            .fold(0.0, |a, b| a + b);
+        let segments = self
+            .route
+            .segments
+            .iter()
+            .zip(&self.scenario.route)
+            .enumerate()
+            .map(|(i, (p, seg))| SegmentReport {
+                index: i,
+                kind: match seg {
+                    crate::scenario::Segment::Straight { .. } => "straight",
+                    crate::scenario::Segment::Bend { .. } => "bend",
+                    crate::scenario::Segment::Taper { .. } => "taper",
+                },
+                start_mm: p.s_start_mm,
+                length_mm: p.length_mm,
+                leaked: share(FIXED + i),
+                absorbed: share(FIXED + nseg + i),
+                wall_hits: batch.wall_hits[i],
+            })
+            .collect();
+        let contacts = self
+            .scenario
+            .guide
+            .contacts
+            .iter()
+            .enumerate()
+            .map(|(k, c)| ContactReport {
+                name: c.name.clone(),
+                segment: c.segment,
+                lost: share(FIXED + 2 * nseg + k),
+            })
+            .collect();
+        TraceReport {
+            rays: batch.rays,
+            seed: self.scenario.trace.seed,
+            n_core: self.indices.n_core,
+            n_surroundings: self.indices.n_out,
+            n_gap: self.indices.n_gap,
+            n_exit: self.indices.n_exit,
+            delivered: share(DELIVERED),
+            budget,
+            budget_sum,
+            segments,
+            contacts,
+            receiver: self.scenario.receiver.map(|_| batch.receiver.share()),
+            absolute: self.absolute(batch),
+            wall_interactions: batch.wall_interactions,
+            exit_map: Map::new(
+                &batch.exit_map,
+                batch.rays,
+                MAP_CELLS,
+                2.0 * self.exit_half.0,
+                2.0 * self.exit_half.1,
+            ),
+            intensity: Intensity::from_hist(&batch.angle_hist, batch.rays),
+            angular_map: Map::new(&batch.angular_map, batch.rays, ANGULAR_CELLS, 2.0, 2.0),
+            leak_along_route: {
+                let (share, ci95) = batch.route_leak.shares(batch.rays);
+                RouteProfile {
+                    bin_mm: self.route.length_mm / ROUTE_BINS as f64,
+                    share,
+                    ci95,
+                }
+            },
+            paths: batch.paths.clone(),
+        }
+    }
+
+    fn absolute(&self, batch: &Batch) -> Option<Absolute> {
+        let flux = self.scenario.source.flux?;
+        let (value, unit, intensity_unit) = match flux {
+            Flux::Mw(x) => (x, "mW", "mW/sr"),
+            Flux::Lm(x) => (x, "lm", "cd"),
+        };
+        let delivered = batch.tallies[DELIVERED].share();
+        let intensity = Intensity::from_hist(&batch.angle_hist, batch.rays);
+        // Share per steradian × flux; the peak is the brightest 1° ring.
+        let peak_ring = (0..intensity.share_per_sr.len())
+            .max_by(|&a, &b| intensity.share_per_sr[a].total_cmp(&intensity.share_per_sr[b]))
+            .unwrap_or(0);
+        let area_m2 = self.route.exit_section.area_mm2() * 1e-6;
+        let with_ci = |share: f64, ci: f64| Value {
+            value: share * value,
+            ci95: ci * value,
+        };
+        let on_axis = with_ci(intensity.share_per_sr[0], intensity.ci95_per_sr[0]);
+        Some(Absolute {
+            unit,
+            intensity_unit,
+            delivered: with_ci(delivered.share, delivered.ci95),
+            peak_intensity: with_ci(
+                intensity.share_per_sr[peak_ring],
+                intensity.ci95_per_sr[peak_ring],
+            ),
+            peak_angle_deg: intensity.angle_deg[peak_ring],
+            on_axis_intensity: on_axis,
+            mean_exit_luminance: (unit == "lm").then(|| Value {
+                value: on_axis.value / area_m2,
+                ci95: on_axis.ci95 / area_m2,
+            }),
+            receiver: self.scenario.receiver.map(|_| {
+                let r = batch.receiver.share();
+                with_ci(r.share, r.ci95)
+            }),
+        })
+    }
+}
+
+/// The energy budget: shares of the emitted power, each with its 95 % half-width.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Budget {
+    /// Left through the exit face.
+    pub delivered: Share,
+    /// Missed the entry face.
+    pub missed_entry: Share,
+    /// Fresnel-reflected at the entry face.
+    pub reflected_entry: Share,
+    /// Left through the side walls (all segments).
+    pub leaked: Share,
+    /// Lost into contact zones.
+    pub contact: Share,
+    /// Absorbed in the material.
+    pub absorbed: Share,
+    /// Left back through the entry face.
+    pub returned: Share,
+    /// Stopped by the interaction cap.
+    pub stopped: Share,
+}
+
+/// Per-segment figures.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct SegmentReport {
+    /// Index in the route.
+    pub index: usize,
+    /// straight, bend or taper.
+    pub kind: &'static str,
+    /// Start along the route, mm.
+    pub start_mm: f64,
+    /// Centre-line length, mm.
+    pub length_mm: f64,
+    /// Share leaked through this segment's walls.
+    pub leaked: Share,
+    /// Share absorbed in this segment.
+    pub absorbed: Share,
+    /// Wall hits counted in this segment.
+    pub wall_hits: u64,
+}
+
+/// Per-contact figures.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct ContactReport {
+    /// The contact's label.
+    pub name: String,
+    /// Segment it touches.
+    pub segment: usize,
+    /// Share lost into it.
+    pub lost: Share,
+}
+
+/// A square map of delivered shares.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Map {
+    /// Cells across and down.
+    pub cells: usize,
+    /// Width covered (mm for the exit face; direction-cosine span for the angular map).
+    pub width_mm: f64,
+    /// Height covered.
+    pub height_mm: f64,
+    /// Share of the emitted power per cell, row-major from −y to +y.
+    pub share: Vec<f64>,
+    /// 95 % half-width of each cell's share.
+    pub ci95: Vec<f64>,
+    /// Share per unit area of a cell (per mm² on the exit face: relative irradiance).
+    pub share_per_area: Vec<f64>,
+}
+
+impl Map {
+    fn new(h: &Hist, rays: u64, cells: usize, width_mm: f64, height_mm: f64) -> Map {
+        let (share, ci95) = h.shares(rays);
+        let cell_area = width_mm * height_mm / (cells * cells) as f64;
+        let share_per_area = share.iter().map(|v| v / cell_area).collect();
+        Map {
+            cells,
+            width_mm,
+            height_mm,
+            share,
+            ci95,
+            share_per_area,
+        }
+    }
+}
+
+/// Intensity against polar angle beyond the exit face.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Intensity {
+    /// Bin centres, degrees.
+    pub angle_deg: Vec<f64>,
+    /// Share of the emitted power per steradian in each 1° ring.
+    pub share_per_sr: Vec<f64>,
+    /// 95 % half-width of each ring's value.
+    pub ci95_per_sr: Vec<f64>,
+}
+
+impl Intensity {
+    fn from_hist(hist: &Hist, rays: u64) -> Intensity {
+        let (share, ci) = hist.shares(rays);
+        let n = share.len();
+        let mut angle_deg = Vec::with_capacity(n);
+        let mut share_per_sr = Vec::with_capacity(n);
+        let mut ci95_per_sr = Vec::with_capacity(n);
+        for i in 0..n {
+            let (a0, a1) = ((i as f64).to_radians(), ((i + 1) as f64).to_radians());
+            let omega = std::f64::consts::TAU * (libm::cos(a0) - libm::cos(a1));
+            angle_deg.push(i as f64 + 0.5);
+            share_per_sr.push(share[i] / omega);
+            ci95_per_sr.push(ci[i] / omega);
+        }
+        Intensity {
+            angle_deg,
+            share_per_sr,
+            ci95_per_sr,
+        }
+    }
+}
+
+/// Leakage along the route.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct RouteProfile {
+    /// Bin width along the centre line, mm.
+    pub bin_mm: f64,
+    /// Share of the emitted power leaving the walls (or lost to contacts) in each bin.
+    pub share: Vec<f64>,
+    /// 95 % half-width of each bin's share.
+    pub ci95: Vec<f64>,
+}
+
+/// An absolute figure with its 95 % half-width, in the unit its field names.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+pub struct Value {
+    /// The figure.
+    pub value: f64,
+    /// 95 % half-width.
+    #[serde(deserialize_with = "crate::export::ci95_or_infinite")]
+    pub ci95: f64,
+}
+
+/// Absolute figures when the source flux is given.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Absolute {
+    /// Unit of flux: mW or lm.
+    pub unit: &'static str,
+    /// Unit of intensity: mW/sr or cd.
+    pub intensity_unit: &'static str,
+    /// Delivered flux.
+    pub delivered: Value,
+    /// Peak intensity beyond the exit face (brightest 1° ring).
+    pub peak_intensity: Value,
+    /// Angle from the exit axis of the brightest ring, degrees (its centre).
+    pub peak_angle_deg: f64,
+    /// Intensity along the exit axis (first 1° ring).
+    pub on_axis_intensity: Value,
+    /// Mean luminance of the exit face seen along its axis: on-axis intensity over the
+    /// exit-face area, cd/m² (luminous input only).
+    pub mean_exit_luminance: Option<Value>,
+    /// Flux on the receiver.
+    pub receiver: Option<Value>,
+}
+
+/// Everything a trace reports.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct TraceReport {
+    /// Rays traced.
+    pub rays: u64,
+    /// Seed used.
+    pub seed: u64,
+    /// Guide index at the wavelength (relative to air).
+    pub n_core: f64,
+    /// Surroundings' index.
+    pub n_surroundings: f64,
+    /// Index of the gap between source and entry face.
+    pub n_gap: f64,
+    /// Index beyond the exit face.
+    pub n_exit: f64,
+    /// Delivered share with its 95 % half-width.
+    pub delivered: Share,
+    /// The energy budget.
+    pub budget: Budget,
+    /// Sum of every tally's share (1 to rounding).
+    pub budget_sum: f64,
+    /// Per-segment figures.
+    pub segments: Vec<SegmentReport>,
+    /// Per-contact figures.
+    pub contacts: Vec<ContactReport>,
+    /// Share landing on the receiver.
+    pub receiver: Option<Share>,
+    /// Absolute figures.
+    pub absolute: Option<Absolute>,
+    /// Wall interactions traced.
+    pub wall_interactions: u64,
+    /// Exit-face irradiance map (share per cell).
+    pub exit_map: Map,
+    /// Intensity against angle.
+    pub intensity: Intensity,
+    /// 2D angular map over direction cosines.
+    pub angular_map: Map,
+    /// Leakage along the route.
+    pub leak_along_route: RouteProfile,
+    /// Sampled ray paths (left out of the JSON when none were asked for).
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub paths: Vec<Path>,
+}

@@ -2,7 +2,7 @@
 
 use serde::{Deserialize, Serialize};
 
-use super::{Path, Prepared, ANGLE_BINS, ANGULAR_CELLS, FIXED, MAP_CELLS, ROUTE_BINS};
+use super::{Path, Prepared, ANGLE_BINS, ANGULAR_CELLS, MAP_CELLS, ROUTE_BINS};
 use crate::stats::Estimate;
 
 /// A histogram of per-ray weights in which each ray lands in at most one bin: sums and sums of
@@ -92,7 +92,7 @@ impl Batch {
     pub(super) fn empty(p: &Prepared) -> Batch {
         let nseg = p.route.segments.len();
         Batch {
-            tallies: vec![Estimate::default(); FIXED + 2 * nseg + p.contacts.len()],
+            tallies: vec![Estimate::default(); p.ledger.len()],
             exit_map: Hist::new(MAP_CELLS * MAP_CELLS),
             angle_hist: Hist::new(ANGLE_BINS),
             angular_map: Hist::new(ANGULAR_CELLS * ANGULAR_CELLS),

@@ -15,11 +15,13 @@
 //! give bit-identical results.
 
 mod batch;
+mod ledger;
 mod report;
 mod walk;
 
 use batch::same_bins;
 pub use batch::{Batch, Hist, PrefixMerger};
+use ledger::Ledger;
 pub use report::{
     Absolute, Budget, ContactReport, Intensity, Map, RouteProfile, SegmentReport, TraceReport,
     Value,
@@ -45,21 +47,6 @@ pub const ANGLE_BINS: usize = 90;
 pub const ANGULAR_CELLS: usize = 41;
 /// Bins along the route for the leakage profile.
 pub const ROUTE_BINS: usize = 200;
-
-/// Fixed tallies, in this order, followed by leaked per segment, absorbed per segment and lost
-/// per contact zone.
-pub(super) const DELIVERED: usize = 0;
-pub(super) const MISSED: usize = 1;
-pub(super) const REFLECTED_ENTRY: usize = 2;
-pub(super) const RETURNED: usize = 3;
-pub(super) const STOPPED: usize = 4;
-/// Totals over segments / zones, tallied per ray so that their confidence intervals are real
-/// ones (not sums of half-widths). They duplicate the per-segment tallies: left out of the sum
-/// that checks the budget.
-pub(super) const TOTAL_LEAKED: usize = 5;
-pub(super) const TOTAL_ABSORBED: usize = 6;
-pub(super) const TOTAL_CONTACT: usize = 7;
-pub(super) const FIXED: usize = 8;
 
 /// What became of a sampled path (for drawing).
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
@@ -108,6 +95,8 @@ pub struct Prepared {
     entry_half: (f64, f64),
     entry_round: bool,
     exit_half: (f64, f64),
+    /// The tally columns.
+    ledger: Ledger,
 }
 
 #[derive(Debug, Clone, Copy)]
@@ -169,6 +158,7 @@ impl Prepared {
         // α in mm⁻¹ from dB/m: dB = 10 log10(e) αL ⇒ α = dB/m / (10 log10 e) / 1000.
         let alpha_per_mm =
             scenario.guide.attenuation_db_per_m / (10.0 * core::f64::consts::LOG10_E) / 1000.0;
+        let ledger = Ledger::new(route.segments.len(), contacts.len());
         Prepared {
             source: SourceSampler::new(&scenario.source),
             alpha_per_mm,
@@ -177,6 +167,7 @@ impl Prepared {
             entry_half: scenario.guide.section.half_sizes_mm(),
             entry_round: matches!(scenario.guide.section, Section::Round { .. }),
             exit_half: route.exit_section.half_sizes_mm(),
+            ledger,
             route,
             indices,
             scenario: scenario.clone(),
@@ -214,10 +205,7 @@ impl Prepared {
             };
             let (fate, on_receiver) =
                 self.trace_ray(&mut rng, &mut contrib, &mut out, path.as_mut());
-            let nseg = self.route.segments.len();
-            contrib[TOTAL_LEAKED] = contrib[FIXED..FIXED + nseg].iter().sum();
-            contrib[TOTAL_ABSORBED] = contrib[FIXED + nseg..FIXED + 2 * nseg].iter().sum();
-            contrib[TOTAL_CONTACT] = contrib[FIXED + 2 * nseg..].iter().sum();
+            self.ledger.fill_totals(&mut contrib);
             if i == 0 {
                 shift.copy_from_slice(&contrib);
                 rshift = on_receiver;

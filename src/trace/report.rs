@@ -2,34 +2,31 @@
 
 use serde::{Deserialize, Serialize};
 
-use super::{
-    Batch, Hist, Path, Prepared, ANGULAR_CELLS, DELIVERED, FIXED, MAP_CELLS, MISSED,
-    REFLECTED_ENTRY, RETURNED, ROUTE_BINS, STOPPED, TOTAL_ABSORBED, TOTAL_CONTACT, TOTAL_LEAKED,
-};
+use super::{Batch, Hist, Path, Prepared, ANGULAR_CELLS, MAP_CELLS, ROUTE_BINS};
 use crate::scenario::Flux;
 use crate::stats::Share;
 
 impl Prepared {
     /// Turn merged batches into the reported result.
     pub fn report(&self, batch: &Batch) -> TraceReport {
-        let nseg = self.route.segments.len();
+        let ledger = self.ledger;
         let share = |j: usize| batch.tallies[j].share();
         let budget = Budget {
-            delivered: share(DELIVERED),
-            missed_entry: share(MISSED),
-            reflected_entry: share(REFLECTED_ENTRY),
-            leaked: share(TOTAL_LEAKED),
-            contact: share(TOTAL_CONTACT),
-            absorbed: share(TOTAL_ABSORBED),
-            returned: share(RETURNED),
-            stopped: share(STOPPED),
+            delivered: share(ledger.delivered()),
+            missed_entry: share(ledger.missed_entry()),
+            reflected_entry: share(ledger.reflected_entry()),
+            leaked: share(ledger.total_leaked()),
+            contact: share(ledger.total_contact()),
+            absorbed: share(ledger.total_absorbed()),
+            returned: share(ledger.returned()),
+            stopped: share(ledger.stopped()),
         };
         // The partition: every fate, and absorption by segment (the totals duplicate it).
         let budget_sum = batch
             .tallies
             .iter()
             .enumerate()
-            .filter(|(j, _)| !(TOTAL_LEAKED..FIXED).contains(j))
+            .filter(|&(j, _)| ledger.in_partition(j))
             .map(|(_, e)| e.mean)
             .fold(0.0, |a, b| a + b);
         let segments = self
@@ -47,8 +44,8 @@ impl Prepared {
                 },
                 start_mm: p.s_start_mm,
                 length_mm: p.length_mm,
-                leaked: share(FIXED + i),
-                absorbed: share(FIXED + nseg + i),
+                leaked: share(ledger.leaked(i)),
+                absorbed: share(ledger.absorbed(i)),
                 wall_hits: batch.wall_hits[i],
             })
             .collect();
@@ -61,7 +58,7 @@ impl Prepared {
             .map(|(k, c)| ContactReport {
                 name: c.name.clone(),
                 segment: c.segment,
-                lost: share(FIXED + 2 * nseg + k),
+                lost: share(ledger.contact(k)),
             })
             .collect();
         TraceReport {
@@ -71,7 +68,7 @@ impl Prepared {
             n_surroundings: self.indices.n_out,
             n_gap: self.indices.n_gap,
             n_exit: self.indices.n_exit,
-            delivered: share(DELIVERED),
+            delivered: share(ledger.delivered()),
             budget,
             budget_sum,
             segments,
@@ -106,7 +103,7 @@ impl Prepared {
             Flux::Mw(x) => (x, "mW", "mW/sr"),
             Flux::Lm(x) => (x, "lm", "cd"),
         };
-        let delivered = batch.tallies[DELIVERED].share();
+        let delivered = batch.tallies[self.ledger.delivered()].share();
         let intensity = Intensity::from_hist(&batch.angle_hist, batch.rays);
         // Share per steradian × flux; the peak is the brightest 1° ring.
         let peak_ring = (0..intensity.share_per_sr.len())

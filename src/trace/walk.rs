@@ -4,10 +4,7 @@ use glam::DVec3;
 use rand_core::Rng;
 use rand_pcg::Pcg64Mcg;
 
-use super::{
-    Batch, Fate, Prepared, ANGLE_BINS, ANGULAR_CELLS, DELIVERED, FIXED, MAP_CELLS, MISSED,
-    REFLECTED_ENTRY, RETURNED, ROUTE_BINS, STOPPED,
-};
+use super::{Batch, Fate, Prepared, ANGLE_BINS, ANGULAR_CELLS, MAP_CELLS, ROUTE_BINS};
 use crate::geometry::Next;
 use crate::interface::{fresnel_reflectance, reflect, refract};
 
@@ -43,7 +40,7 @@ impl Prepared {
         // To the entry plane z = 0 through the gap.
         if dir.z <= 0.0 {
             rec!(start + 2.0 * dir);
-            contrib[MISSED] = 1.0;
+            contrib[self.ledger.missed_entry()] = 1.0;
             return (Fate::Missed, 0.0);
         }
         let t = -start.z / dir.z;
@@ -56,20 +53,20 @@ impl Prepared {
         };
         if !inside {
             rec!(hit);
-            contrib[MISSED] = 1.0;
+            contrib[self.ledger.missed_entry()] = 1.0;
             return (Fate::Missed, 0.0);
         }
         rec!(hit);
         let cos_i = dir.z;
         if uniform(rng) < fresnel_reflectance(cos_i, ix.n_gap, ix.n_core) {
             rec!(hit + reflect(dir, DVec3::Z));
-            contrib[REFLECTED_ENTRY] = 1.0;
+            contrib[self.ledger.reflected_entry()] = 1.0;
             return (Fate::ReflectedEntry, 0.0);
         }
         // A gap medium denser than the guide (a high-index gel) can reflect totally.
         let Some(inward) = refract(dir, -DVec3::Z, ix.n_gap, ix.n_core) else {
             rec!(hit + reflect(dir, DVec3::Z));
-            contrib[REFLECTED_ENTRY] = 1.0;
+            contrib[self.ledger.reflected_entry()] = 1.0;
             return (Fate::ReflectedEntry, 0.0);
         };
         let mut seg = 0usize;
@@ -97,7 +94,7 @@ impl Prepared {
                 () => {
                     if self.alpha_per_mm > 0.0 && seg_path > 0.0 {
                         let f = libm::exp(-self.alpha_per_mm * seg_path);
-                        contrib[FIXED + nseg + seg] += w * (1.0 - f);
+                        contrib[self.ledger.absorbed(seg)] += w * (1.0 - f);
                         w *= f;
                     }
                 };
@@ -111,7 +108,7 @@ impl Prepared {
             if interactions > cap {
                 absorb_last!();
                 rec!(placed.frame.point_to_global(o));
-                contrib[STOPPED] = w;
+                contrib[self.ledger.stopped()] = w;
                 return (Fate::Stopped, 0.0);
             }
             match next {
@@ -152,11 +149,11 @@ impl Prepared {
                     rec!(placed.frame.point_to_global(o + 0.5 * outside));
                     return match zone {
                         Some(z) => {
-                            contrib[FIXED + 2 * nseg + z] = w;
+                            contrib[self.ledger.contact(z)] = w;
                             (Fate::Contact, 0.0)
                         }
                         None => {
-                            contrib[FIXED + seg] = w;
+                            contrib[self.ledger.leaked(seg)] = w;
                             (Fate::Leaked, 0.0)
                         }
                     };
@@ -195,7 +192,7 @@ impl Prepared {
                     let od = refract(ld, -DVec3::Z, ix.n_core, ix.n_exit).unwrap_or(ld);
                     rec!(g + ef.dir_to_global(od) * self.exit_half.0.max(self.exit_half.1));
                     absorb_last!();
-                    contrib[DELIVERED] = w;
+                    contrib[self.ledger.delivered()] = w;
                     self.record_delivery(q, od, w, out);
                     let on_receiver = match self.scenario.receiver {
                         Some(r) if od.z > 0.0 => {
@@ -223,7 +220,7 @@ impl Prepared {
                     let od = refract(gd, DVec3::Z, ix.n_core, ix.n_gap).unwrap_or(gd);
                     rec!(g + od);
                     absorb_last!();
-                    contrib[RETURNED] = w;
+                    contrib[self.ledger.returned()] = w;
                     return (Fate::Returned, 0.0);
                 }
             }

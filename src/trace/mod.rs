@@ -89,6 +89,8 @@ pub struct Prepared {
     pub route: PlacedRoute,
     source: SourceSampler,
     alpha_per_mm: f64,
+    /// sin² of the critical angle against the surroundings, (n_out/n_core)².
+    sin2_critical_out: f64,
     contacts: Vec<ContactZone>,
     /// Whether any contact zone touches each segment (most wall hits need no zone look-up).
     segment_has_contact: Vec<bool>,
@@ -158,10 +160,12 @@ impl Prepared {
         // α in mm⁻¹ from dB/m: dB = 10 log10(e) αL ⇒ α = dB/m / (10 log10 e) / 1000.
         let alpha_per_mm =
             scenario.guide.attenuation_db_per_m / (10.0 * core::f64::consts::LOG10_E) / 1000.0;
+        let sin_c_out = indices.n_out / indices.n_core;
         let ledger = Ledger::new(route.segments.len(), contacts.len());
         Prepared {
             source: SourceSampler::new(&scenario.source),
             alpha_per_mm,
+            sin2_critical_out: sin_c_out * sin_c_out,
             contacts,
             segment_has_contact,
             entry_half: scenario.guide.section.half_sizes_mm(),

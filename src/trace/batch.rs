@@ -5,8 +5,9 @@ use serde::{Deserialize, Serialize};
 use super::{Path, Prepared, ANGLE_BINS, ANGULAR_CELLS, MAP_CELLS, ROUTE_BINS};
 use crate::stats::Estimate;
 
-/// A histogram of per-ray weights in which each ray lands in at most one bin: sums and sums of
-/// squares, so that every bin has its own confidence interval.
+/// A histogram of per-ray weights in which each ray lands in at most one bin: plain sums and sums
+/// of squares (merged by addition), so that every bin has its own confidence interval
+/// ([`Hist::estimates`]).
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct Hist {
     /// Σ w per bin.
@@ -40,25 +41,12 @@ impl Hist {
             .for_each(|(a, b)| *a += b);
     }
 
-    /// Share of the emitted power per bin and its 95 % half-width over `rays` rays:
-    /// mean S/N, variance (Q − S²/N)/(N − 1), half-width 1.96 √(variance/N).
-    pub fn shares(&self, rays: u64) -> (Vec<f64>, Vec<f64>) {
-        let n = rays.max(1) as f64;
-        let share = self.sum.iter().map(|s| s / n).collect();
-        let ci = self
-            .sum
+    /// The estimate of each bin over `rays` rays ([`Estimate::from_raw_sums`]).
+    pub fn estimates(&self, rays: u64) -> impl Iterator<Item = Estimate> + '_ {
+        self.sum
             .iter()
             .zip(&self.sumsq)
-            .map(|(s, q)| {
-                if rays < 2 {
-                    0.0
-                } else {
-                    let var = ((q - s * s / n) / (n - 1.0)).max(0.0);
-                    1.96 * (var / n).sqrt()
-                }
-            })
-            .collect();
-        (share, ci)
+            .map(move |(&s, &q)| Estimate::from_raw_sums(rays, s, q))
     }
 }
 

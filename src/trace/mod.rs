@@ -23,8 +23,8 @@ use batch::same_bins;
 pub use batch::{Batch, Hist, PrefixMerger};
 use ledger::Ledger;
 pub use report::{
-    Absolute, Budget, ContactReport, Intensity, Map, RouteProfile, SegmentReport, TraceReport,
-    Value,
+    Absolute, AngularMap, Budget, ContactReport, ExitMap, Intensity, RouteProfile, SegmentReport,
+    TraceReport, Value,
 };
 
 use rand_core::SeedableRng;
@@ -35,7 +35,7 @@ use crate::error::TirError;
 use crate::geometry::PlacedRoute;
 use crate::scenario::{Scenario, ScenarioIndices, Section};
 use crate::source::SourceSampler;
-use crate::stats::Estimate;
+use crate::stats::ShiftedSums;
 
 /// Rays per batch.
 pub const BATCH_RAYS: u64 = 4096;
@@ -191,14 +191,10 @@ impl Prepared {
         let count = rays.saturating_sub(first).min(BATCH_RAYS);
         let mut rng = Pcg64Mcg::seed_from_u64(batch_seed(self.scenario.trace.seed, index));
         let mut out = Batch::empty(self);
-        let k = out.tallies.len();
-        // Sums of (x − shift) and (x − shift)², shifted by the first ray's contribution, so a
-        // tally on which every ray agrees has exactly zero variance.
-        let mut sum = vec![0.0; k];
-        let mut sumsq = vec![0.0; k];
-        let mut shift = vec![0.0; k];
-        let mut contrib = vec![0.0; k];
-        let (mut rsum, mut rsumsq, mut rshift) = (0.0, 0.0, 0.0);
+        // Each tally's per-ray contributions, summed shifted by the first ray's (see stats).
+        let mut tallies = ShiftedSums::new(self.ledger.len());
+        let mut receiver = ShiftedSums::new(1);
+        let mut contrib = vec![0.0; self.ledger.len()];
         for i in 0..count {
             contrib.iter_mut().for_each(|c| *c = 0.0);
             let record = index == 0 && (i as usize) < keep_paths;
@@ -210,26 +206,14 @@ impl Prepared {
             let (fate, on_receiver) =
                 self.trace_ray(&mut rng, &mut contrib, &mut out, path.as_mut());
             self.ledger.fill_totals(&mut contrib);
-            if i == 0 {
-                shift.copy_from_slice(&contrib);
-                rshift = on_receiver;
-            }
-            for j in 0..k {
-                let x = contrib[j] - shift[j];
-                sum[j] += x;
-                sumsq[j] += x * x;
-            }
-            let x = on_receiver - rshift;
-            rsum += x;
-            rsumsq += x * x;
+            tallies.add(&contrib);
+            receiver.add(&[on_receiver]);
             if let Some(points) = path {
                 out.paths.push(Path { fate, points });
             }
         }
-        for j in 0..k {
-            out.tallies[j] = Estimate::from_shifted_sums(count, shift[j], sum[j], sumsq[j]);
-        }
-        out.receiver = Estimate::from_shifted_sums(count, rshift, rsum, rsumsq);
+        out.tallies = tallies.estimates().collect();
+        out.receiver = receiver.estimates().next().unwrap_or_default();
         out.rays = count;
         out
     }

@@ -76,7 +76,7 @@ impl Prepared {
             receiver: self.scenario.receiver.map(|_| batch.receiver.share()),
             absolute: self.absolute(batch),
             wall_interactions: batch.wall_interactions,
-            exit_map: Map::new(
+            exit_map: ExitMap::new(
                 &batch.exit_map,
                 batch.rays,
                 MAP_CELLS,
@@ -84,9 +84,9 @@ impl Prepared {
                 2.0 * self.exit_half.1,
             ),
             intensity: Intensity::from_hist(&batch.angle_hist, batch.rays),
-            angular_map: Map::new(&batch.angular_map, batch.rays, ANGULAR_CELLS, 2.0, 2.0),
+            angular_map: AngularMap::new(&batch.angular_map, batch.rays, ANGULAR_CELLS),
             leak_along_route: {
-                let (share, ci95) = batch.route_leak.shares(batch.rays);
+                let (share, ci95) = bin_shares(&batch.route_leak, batch.rays);
                 RouteProfile {
                     bin_mm: self.route.length_mm / ROUTE_BINS as f64,
                     share,
@@ -158,6 +158,15 @@ pub struct Budget {
     pub stopped: Share,
 }
 
+/// Shares and 95 % half-widths of a histogram's bins over `rays` rays. Where there is no
+/// interval (fewer than two rays, see [`crate::stats`]) the half-width is written as 0, as the
+/// report always has: these lists are plain numbers in the report format.
+fn bin_shares(h: &Hist, rays: u64) -> (Vec<f64>, Vec<f64>) {
+    h.estimates(rays)
+        .map(|e| (e.mean, e.half_width95().unwrap_or(0.0)))
+        .unzip()
+}
+
 /// Per-segment figures.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct SegmentReport {
@@ -188,29 +197,27 @@ pub struct ContactReport {
     pub lost: Share,
 }
 
-/// A square map of delivered shares.
+/// The exit-face irradiance map: delivered shares on a square grid over the exit face.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
-pub struct Map {
+pub struct ExitMap {
     /// Cells across and down.
     pub cells: usize,
-    /// Width covered (mm for the exit face; direction-cosine span for the angular map).
+    /// Width of the exit face covered, mm.
     pub width_mm: f64,
-    /// Height covered.
+    /// Height of the exit face covered, mm.
     pub height_mm: f64,
     /// Share of the emitted power per cell, row-major from −y to +y.
     pub share: Vec<f64>,
     /// 95 % half-width of each cell's share.
     pub ci95: Vec<f64>,
-    /// Share per unit area of a cell (per mm² on the exit face: relative irradiance).
+    /// Share per mm² of each cell (relative irradiance).
     pub share_per_area: Vec<f64>,
 }
 
-impl Map {
-    fn new(h: &Hist, rays: u64, cells: usize, width_mm: f64, height_mm: f64) -> Map {
-        let (share, ci95) = h.shares(rays);
-        let cell_area = width_mm * height_mm / (cells * cells) as f64;
-        let share_per_area = share.iter().map(|v| v / cell_area).collect();
-        Map {
+impl ExitMap {
+    fn new(h: &Hist, rays: u64, cells: usize, width_mm: f64, height_mm: f64) -> ExitMap {
+        let (share, ci95, share_per_area) = grid(h, rays, cells, width_mm, height_mm);
+        ExitMap {
             cells,
             width_mm,
             height_mm,
@@ -220,6 +227,55 @@ impl Map {
         }
     }
 }
+
+/// The angular map: delivered shares on a square grid over the direction cosines (x, y) beyond
+/// the exit face, each from −1 to 1.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct AngularMap {
+    /// Cells across and down.
+    pub cells: usize,
+    /// Span of the x direction cosine covered (2: from −1 to 1). The JSON key stays `width_mm`
+    /// for compatibility of the report format.
+    #[serde(rename = "width_mm")]
+    pub cosine_span_x: f64,
+    /// Span of the y direction cosine covered (2). The JSON key stays `height_mm` for
+    /// compatibility of the report format.
+    #[serde(rename = "height_mm")]
+    pub cosine_span_y: f64,
+    /// Share of the emitted power per cell, row-major from −y to +y.
+    pub share: Vec<f64>,
+    /// 95 % half-width of each cell's share.
+    pub ci95: Vec<f64>,
+    /// Share per unit of direction-cosine area of each cell.
+    pub share_per_area: Vec<f64>,
+}
+
+impl AngularMap {
+    fn new(h: &Hist, rays: u64, cells: usize) -> AngularMap {
+        let (cosine_span_x, cosine_span_y) = (2.0, 2.0);
+        let (share, ci95, share_per_area) = grid(h, rays, cells, cosine_span_x, cosine_span_y);
+        AngularMap {
+            cells,
+            cosine_span_x,
+            cosine_span_y,
+            share,
+            ci95,
+            share_per_area,
+        }
+    }
+}
+
+/// Shares, half-widths and shares per unit area of the cells of a square grid `cells` across,
+/// spanning `span_x` by `span_y`.
+fn grid(h: &Hist, rays: u64, cells: usize, span_x: f64, span_y: f64) -> Grid {
+    let (share, ci95) = bin_shares(h, rays);
+    let cell_area = span_x * span_y / (cells * cells) as f64;
+    let share_per_area = share.iter().map(|v| v / cell_area).collect();
+    (share, ci95, share_per_area)
+}
+
+/// Shares, half-widths and shares per unit area of a grid's cells.
+type Grid = (Vec<f64>, Vec<f64>, Vec<f64>);
 
 /// Intensity against polar angle beyond the exit face.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
@@ -234,7 +290,7 @@ pub struct Intensity {
 
 impl Intensity {
     fn from_hist(hist: &Hist, rays: u64) -> Intensity {
-        let (share, ci) = hist.shares(rays);
+        let (share, ci) = bin_shares(hist, rays);
         let n = share.len();
         let mut angle_deg = Vec::with_capacity(n);
         let mut share_per_sr = Vec::with_capacity(n);
@@ -329,11 +385,11 @@ pub struct TraceReport {
     /// Wall interactions traced.
     pub wall_interactions: u64,
     /// Exit-face irradiance map (share per cell).
-    pub exit_map: Map,
+    pub exit_map: ExitMap,
     /// Intensity against angle.
     pub intensity: Intensity,
     /// 2D angular map over direction cosines.
-    pub angular_map: Map,
+    pub angular_map: AngularMap,
     /// Leakage along the route.
     pub leak_along_route: RouteProfile,
     /// Sampled ray paths (left out of the JSON when none were asked for).

@@ -22,9 +22,10 @@ mod walk;
 use batch::same_bins;
 pub use batch::{Batch, Hist, PrefixMerger};
 use ledger::Ledger;
+pub(crate) use report::Named;
 pub use report::{
-    Absolute, AngularMap, Budget, ContactReport, ExitMap, Intensity, RouteProfile, SegmentReport,
-    TraceReport, Value,
+    Absolute, AngularMap, Budget, ContactReport, ExitMap, FluxUnit, Intensity, IntensityUnit,
+    RouteProfile, SegmentKind, SegmentReport, TraceReport, Value,
 };
 
 use rand_core::SeedableRng;

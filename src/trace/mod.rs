@@ -32,6 +32,8 @@ use rand_core::SeedableRng;
 use rand_pcg::Pcg64Mcg;
 use serde::{Deserialize, Serialize};
 
+#[cfg(not(target_arch = "wasm32"))]
+use crate::error::RunError;
 use crate::error::TirError;
 use crate::geometry::PlacedRoute;
 use crate::scenario::{Scenario, ScenarioIndices, Section};
@@ -231,25 +233,24 @@ impl Prepared {
     /// Trace every batch on `threads` threads (0: all cores) and merge them in batch order: the
     /// result is identical to [`Prepared::trace_all_serial`].
     #[cfg(not(target_arch = "wasm32"))]
-    pub fn trace_all_parallel(&self, threads: usize, keep_paths: usize) -> Result<Batch, TirError> {
+    pub fn trace_all_parallel(&self, threads: usize, keep_paths: usize) -> Result<Batch, RunError> {
         self.trace_all_parallel_with_progress(threads, keep_paths, |_| {})
     }
 
     /// [`Prepared::trace_all_parallel`], calling `progress` with the rays done after each chunk.
+    /// Fails with [`RunError::ThreadPool`] when the threads cannot be started.
     #[cfg(not(target_arch = "wasm32"))]
     pub fn trace_all_parallel_with_progress(
         &self,
         threads: usize,
         keep_paths: usize,
         mut progress: impl FnMut(u64),
-    ) -> Result<Batch, TirError> {
+    ) -> Result<Batch, RunError> {
         use rayon::prelude::*;
         let pool = rayon::ThreadPoolBuilder::new()
             .num_threads(threads)
             .build()
-            .map_err(|e| {
-                TirError::Field(crate::error::FieldError::new("threads", e.to_string()))
-            })?;
+            .map_err(|e| RunError::ThreadPool(e.to_string()))?;
         // Chunks of a few batches per thread, merged in order as they come, so memory stays
         // bounded however many rays are asked for.
         let chunk = 4 * pool.current_num_threads() as u64;

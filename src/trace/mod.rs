@@ -13,19 +13,27 @@
 //! (seed, batch index); batches merge in index order, so a result does not depend on how many
 //! threads or workers ran it. Transcendental functions come from `libm`, so native and wasm
 //! give bit-identical results.
+//!
+//! Layout: this file prepares a scenario and traces and merges batches; `walk` follows one ray,
+//! one function per event; `ledger` names the tally columns (the only place that knows their
+//! order); `batch` holds a batch's tallies and histograms and merges batches in order; `report`
+//! turns merged batches into the [`TraceReport`]; `names` holds the report's enums (segment
+//! kind, units). The statistics themselves are in [`crate::stats`].
 
 mod batch;
 mod ledger;
+mod names;
 mod report;
 mod walk;
 
 use batch::same_bins;
 pub use batch::{Batch, Hist, PrefixMerger};
 use ledger::Ledger;
-pub(crate) use report::Named;
+pub(crate) use names::Named;
+pub use names::{FluxUnit, IntensityUnit, SegmentKind};
 pub use report::{
-    Absolute, AngularMap, Budget, ContactReport, ExitMap, FluxUnit, Intensity, IntensityUnit,
-    RouteProfile, SegmentKind, SegmentReport, TraceReport, Value,
+    Absolute, AngularMap, Budget, ContactReport, ExitMap, Intensity, RouteProfile, SegmentReport,
+    TraceReport, Value,
 };
 
 use rand_core::SeedableRng;

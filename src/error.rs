@@ -40,6 +40,17 @@ pub enum TirError {
     Draw(String),
 }
 
+/// Errors of running a trace on this machine, not of the document: kept apart from
+/// [`TirError`], whose variants are about what the user wrote or asked for.
+#[derive(Debug, Clone, PartialEq, Error)]
+pub enum RunError {
+    /// The worker threads could not be started (an operating-system limit). Written
+    /// `threads <reason>`, the text it had when it was passed off as a field error, so the
+    /// command line's message is unchanged.
+    #[error("threads {0}")]
+    ThreadPool(String),
+}
+
 impl From<FieldError> for TirError {
     fn from(e: FieldError) -> Self {
         TirError::Field(e)

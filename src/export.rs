@@ -7,8 +7,7 @@
 use serde::de::{Deserializer, Error};
 use serde::Deserialize;
 
-use crate::stats::Share;
-use crate::trace::{Absolute, SegmentReport, TraceReport, Value};
+use crate::trace::{Named, TraceReport};
 
 /// A number for the CSV: shortest form that reads back exactly, with −0 written as 0.
 fn csv_num(x: f64) -> f64 {
@@ -92,75 +91,12 @@ pub fn report_from_json(text: &str) -> Result<TraceReport, crate::TirError> {
     })
 }
 
-/// The `'static` name in `allowed` equal to `s`, or serde's "unknown variant" error.
-fn one_of<E: Error>(s: &str, allowed: &'static [&'static str]) -> Result<&'static str, E> {
-    allowed
-        .iter()
-        .copied()
-        .find(|a| *a == s)
-        .ok_or_else(|| E::unknown_variant(s, allowed))
-}
-
-// `SegmentReport` and `Absolute` hold `&'static str` names, for which serde's derive would only
-// read from `'static` input (it borrows every `&str`). They are read through these mirrors with
-// owned names instead, and each name is mapped back to the report's own `'static` one. The
-// conversions name every field, so a field added to the report without its mirror fails to
-// compile.
-
-/// [`SegmentReport`] as read, with an owned kind.
-#[derive(Deserialize)]
-struct SegmentReportRead {
-    index: usize,
-    kind: String,
-    start_mm: f64,
-    length_mm: f64,
-    leaked: Share,
-    absorbed: Share,
-    wall_hits: u64,
-}
-
-impl<'de> Deserialize<'de> for SegmentReport {
-    fn deserialize<D: Deserializer<'de>>(d: D) -> Result<SegmentReport, D::Error> {
-        let r = SegmentReportRead::deserialize(d)?;
-        Ok(SegmentReport {
-            index: r.index,
-            kind: one_of(&r.kind, &["straight", "bend", "taper"])?,
-            start_mm: r.start_mm,
-            length_mm: r.length_mm,
-            leaked: r.leaked,
-            absorbed: r.absorbed,
-            wall_hits: r.wall_hits,
-        })
-    }
-}
-
-/// [`Absolute`] as read, with owned units.
-#[derive(Deserialize)]
-struct AbsoluteRead {
-    unit: String,
-    intensity_unit: String,
-    delivered: Value,
-    peak_intensity: Value,
-    peak_angle_deg: f64,
-    on_axis_intensity: Value,
-    mean_exit_luminance: Option<Value>,
-    receiver: Option<Value>,
-}
-
-impl<'de> Deserialize<'de> for Absolute {
-    fn deserialize<D: Deserializer<'de>>(d: D) -> Result<Absolute, D::Error> {
-        let r = AbsoluteRead::deserialize(d)?;
-        Ok(Absolute {
-            unit: one_of(&r.unit, &["mW", "lm"])?,
-            intensity_unit: one_of(&r.intensity_unit, &["mW/sr", "cd"])?,
-            delivered: r.delivered,
-            peak_intensity: r.peak_intensity,
-            peak_angle_deg: r.peak_angle_deg,
-            on_axis_intensity: r.on_axis_intensity,
-            mean_exit_luminance: r.mean_exit_luminance,
-            receiver: r.receiver,
-        })
-    }
+/// Read a value written by name (a segment kind, a unit): a string, else serde's "invalid type
+/// … expected a string"; a name not in the set gets serde's "unknown variant" error listing the
+/// names allowed.
+pub(crate) fn read_name<'de, D: Deserializer<'de>, T: Named>(d: D) -> Result<T, D::Error> {
+    let name = String::deserialize(d)?;
+    T::from_name(&name).ok_or_else(|| D::Error::unknown_variant(&name, T::NAMES))
 }
 
 /// Read a 95 % half-width back: JSON has no infinity, and serde_json writes the infinite

@@ -30,4 +30,4 @@ pub mod trace;
 #[cfg(target_arch = "wasm32")]
 mod web;
 
-pub use error::{FieldError, TirError};
+pub use error::{FieldError, RunError, TirError};

@@ -1,7 +1,24 @@
-//! Mergeable Monte Carlo statistics. Each batch keeps, per tally, the count, the sum and the sum
-//! of squares of the per-ray contributions; batches merge by Chan et al.'s pairwise update
-//! (T. F. Chan, G. H. Golub, R. J. LeVeque, "Algorithms for computing the sample variance",
-//! Am. Stat. 37, 242 (1983)), always in batch order, so results do not depend on thread count.
+//! Mergeable Monte Carlo statistics: the one estimator behind every share a trace reports and
+//! its 95 % confidence half-width.
+//!
+//! Every reported share is the mean of per-ray contributions x (a ray's weight in a tally or a
+//! histogram bin). An [`Estimate`] holds the count n, the mean x̄ and the sum of squared
+//! deviations M₂ = Σ(x − x̄)², and gives the share x̄ with the half-width 1.96 √(M₂/(n − 1)/n)
+//! (normal approximation). Two accumulations feed it, both exact in real arithmetic:
+//! - a tally every ray contributes to (the budget's columns, the receiver) keeps, per batch,
+//!   the sums of x − shift and (x − shift)² with the first ray's value as the shift
+//!   ([`ShiftedSums`]), so that a tally on which every ray agrees has exactly zero spread;
+//!   batches merge by Chan et al.'s pairwise update (T. F. Chan, G. H. Golub, R. J. LeVeque,
+//!   "Algorithms for computing the sample variance", Am. Stat. 37, 242 (1983)), always in batch
+//!   order, so results do not depend on thread count;
+//! - a histogram in which each ray lands in at most one bin keeps Σx and Σx² per bin, merged by
+//!   addition (no per-ray work for the bins a ray misses), and becomes an estimate at the end
+//!   ([`Estimate::from_raw_sums`]).
+//!
+//! Fewer than two rays: no spread can be estimated, and [`Estimate::half_width95`] says so
+//! (`None`). A [`Share`] writes that as an infinite half-width (JSON `null`, read back as ∞); the
+//! trace report's per-bin lists (maps, intensity curve, route profile) write 0 there, as the
+//! report always has.
 
 use serde::{Deserialize, Serialize};
 
@@ -21,7 +38,8 @@ pub struct Estimate {
 pub struct Share {
     /// The estimated share (0…1).
     pub share: f64,
-    /// 95 % confidence half-width (normal approximation, 1.96 standard errors).
+    /// 95 % confidence half-width (normal approximation, 1.96 standard errors); infinite when
+    /// fewer than two rays were traced.
     #[serde(deserialize_with = "crate::export::ci95_or_infinite")]
     pub ci95: f64,
 }
@@ -43,6 +61,20 @@ impl Estimate {
         }
     }
 
+    /// From the count and the plain sums Σx and Σx² (a histogram bin, where most rays add 0):
+    /// mean Σx/n, M₂ = Σx² − (Σx)²/n (never below 0).
+    pub fn from_raw_sums(n: u64, sum: f64, sumsq: f64) -> Estimate {
+        if n == 0 {
+            return Estimate::default();
+        }
+        let nf = n as f64;
+        Estimate {
+            n,
+            mean: sum / nf,
+            m2: (sumsq - sum * sum / nf).max(0.0),
+        }
+    }
+
     /// Merge another estimate into this one (Chan et al. 1983).
     pub fn merge(&mut self, other: &Estimate) {
         if other.n == 0 {
@@ -59,16 +91,134 @@ impl Estimate {
         *self = Estimate { n, mean, m2 };
     }
 
-    /// The share with its 95 % confidence half-width, 1.96 √(s²/n).
+    /// The 95 % confidence half-width of the mean, 1.96 √(s²/n) with s² = M₂/(n − 1); `None`
+    /// below two rays, where no spread can be estimated.
+    pub fn half_width95(&self) -> Option<f64> {
+        (self.n > 1).then(|| 1.96 * (self.m2 / (self.n - 1) as f64 / self.n as f64).sqrt())
+    }
+
+    /// The share with its 95 % confidence half-width ([`Estimate::half_width95`]; infinite below
+    /// two rays).
     pub fn share(&self) -> Share {
-        let ci95 = if self.n > 1 {
-            1.96 * (self.m2 / (self.n - 1) as f64 / self.n as f64).sqrt()
-        } else {
-            f64::INFINITY
-        };
         Share {
             share: self.mean,
-            ci95,
+            ci95: self.half_width95().unwrap_or(f64::INFINITY),
+        }
+    }
+}
+
+/// One batch's running sums for several tallies at once: per column, the sums of (x − shift)
+/// and (x − shift)², where the shift is the first ray's contribution.
+#[derive(Debug, Clone)]
+pub struct ShiftedSums {
+    n: u64,
+    shift: Vec<f64>,
+    sum: Vec<f64>,
+    sumsq: Vec<f64>,
+}
+
+impl ShiftedSums {
+    /// Empty sums for `columns` tallies.
+    pub fn new(columns: usize) -> ShiftedSums {
+        ShiftedSums {
+            n: 0,
+            shift: vec![0.0; columns],
+            sum: vec![0.0; columns],
+            sumsq: vec![0.0; columns],
+        }
+    }
+
+    /// Add one ray's contributions, one per column (the first ray's become the shifts).
+    #[inline]
+    pub fn add(&mut self, x: &[f64]) {
+        debug_assert_eq!(x.len(), self.shift.len());
+        if self.n == 0 {
+            self.shift.copy_from_slice(x);
+        }
+        for (((x, shift), sum), sumsq) in x
+            .iter()
+            .zip(&self.shift)
+            .zip(&mut self.sum)
+            .zip(&mut self.sumsq)
+        {
+            let d = x - shift;
+            *sum += d;
+            *sumsq += d * d;
+        }
+        self.n += 1;
+    }
+
+    /// The estimate of each column over the rays added.
+    pub fn estimates(&self) -> impl Iterator<Item = Estimate> + '_ {
+        (0..self.shift.len())
+            .map(|j| Estimate::from_shifted_sums(self.n, self.shift[j], self.sum[j], self.sumsq[j]))
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn below_two_rays_there_is_no_interval() {
+        let none = Estimate::from_raw_sums(0, 0.0, 0.0);
+        assert_eq!(none.half_width95(), None);
+        assert_eq!(none.share().share, 0.0);
+        let one = Estimate::from_raw_sums(1, 0.5, 0.25);
+        assert_eq!(one.half_width95(), None);
+        assert_eq!(
+            one.share(),
+            Share {
+                share: 0.5,
+                ci95: f64::INFINITY
+            }
+        );
+        let two = Estimate::from_raw_sums(2, 1.0, 1.0);
+        // x = {0, 1}: mean ½, s² = ½, half-width 1.96 √(½/2) = 0.98.
+        assert_eq!(two.share().share, 0.5);
+        assert!((two.half_width95().unwrap() - 0.98).abs() < 1e-15);
+    }
+
+    #[test]
+    fn shifted_and_raw_sums_agree_with_a_direct_computation() {
+        let xs = [0.25, 0.0, 1.0, 0.5, 0.0, 0.75, 0.0];
+        let n = xs.len() as f64;
+        let mean = xs.iter().sum::<f64>() / n;
+        let m2: f64 = xs.iter().map(|x| (x - mean) * (x - mean)).sum();
+        let mut shifted = ShiftedSums::new(1);
+        let (mut s, mut q) = (0.0, 0.0);
+        for x in xs {
+            shifted.add(&[x]);
+            s += x;
+            q += x * x;
+        }
+        let a = shifted.estimates().next().unwrap();
+        let b = Estimate::from_raw_sums(xs.len() as u64, s, q);
+        for e in [a, b] {
+            assert_eq!(e.n, 7);
+            assert!(
+                (e.mean - mean).abs() < 1e-15 && (e.m2 - m2).abs() < 1e-14,
+                "{e:?}"
+            );
+        }
+        // Split in two batches and merged (Chan et al.): the same estimate.
+        let (mut first, mut second) = (ShiftedSums::new(1), ShiftedSums::new(1));
+        xs[..3].iter().for_each(|&x| first.add(&[x]));
+        xs[3..].iter().for_each(|&x| second.add(&[x]));
+        let mut merged = first.estimates().next().unwrap();
+        merged.merge(&second.estimates().next().unwrap());
+        assert!((merged.mean - mean).abs() < 1e-15 && (merged.m2 - m2).abs() < 1e-14);
+    }
+
+    #[test]
+    fn a_tally_every_ray_agrees_on_has_no_spread() {
+        let mut sums = ShiftedSums::new(2);
+        for _ in 0..5 {
+            sums.add(&[0.1, 0.0]);
+        }
+        for e in sums.estimates() {
+            assert_eq!(e.m2, 0.0);
+            assert_eq!(e.half_width95(), Some(0.0));
         }
     }
 }

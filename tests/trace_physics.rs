@@ -12,7 +12,7 @@ use common::Rng;
 use serde_json::{json, Value};
 use tirtrace::guide;
 use tirtrace::scenario::Scenario;
-use tirtrace::trace::{Prepared, TraceReport};
+use tirtrace::trace::{FluxUnit, Prepared, SegmentKind, TraceReport};
 
 fn scenario(v: Value) -> Scenario {
     Scenario::from_json(&v.to_string()).unwrap_or_else(|e| panic!("{e}"))
@@ -209,7 +209,11 @@ fn bend_case(
 }
 
 fn bend_leak(r: &TraceReport) -> tirtrace::stats::Share {
-    let i = r.segments.iter().position(|s| s.kind == "bend").unwrap();
+    let i = r
+        .segments
+        .iter()
+        .position(|s| s.kind == SegmentKind::Bend)
+        .unwrap();
     r.segments[i].leaked
 }
 
@@ -356,7 +360,7 @@ fn outputs_add_up_to_the_delivered_share() {
     let abs = r.absolute.unwrap();
     assert!((abs.delivered.value - 1.2 * d).abs() < 1e-12);
     assert!((abs.delivered.ci95 - 1.2 * r.delivered.ci95).abs() < 1e-12);
-    assert_eq!(abs.unit, "lm");
+    assert_eq!(abs.unit, FluxUnit::Lumen);
     assert!(abs.mean_exit_luminance.unwrap().value > 0.0);
 }
 

@@ -106,7 +106,7 @@ fn draw_nothing_to_show<DB: DrawingBackend>(
 }
 
 /// Check that a report's exit-face map has its declared shape and a usable extent.
-fn check_map(map: &crate::trace::Map) -> Result<(), TirError> {
+fn check_map(map: &crate::trace::ExitMap) -> Result<(), TirError> {
     let n = map.cells;
     let field = |f: &str, m: String| TirError::Field(crate::FieldError::new(f, m));
     if n == 0 || n > 10_000 {

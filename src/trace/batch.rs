@@ -1,0 +1,164 @@
+//! Batch results: per-tally estimates and histograms, merged in batch order.
+
+use serde::{Deserialize, Serialize};
+
+use super::{Path, Prepared, ANGLE_BINS, ANGULAR_CELLS, MAP_CELLS, ROUTE_BINS};
+use crate::stats::Estimate;
+
+/// A histogram of per-ray weights in which each ray lands in at most one bin: plain sums and sums
+/// of squares (merged by addition), so that every bin has its own confidence interval
+/// ([`Hist::estimates`]).
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Hist {
+    /// Σ w per bin.
+    pub sum: Vec<f64>,
+    /// Σ w² per bin.
+    pub sumsq: Vec<f64>,
+}
+
+impl Hist {
+    fn new(bins: usize) -> Hist {
+        Hist {
+            sum: vec![0.0; bins],
+            sumsq: vec![0.0; bins],
+        }
+    }
+
+    #[inline]
+    pub(super) fn add(&mut self, bin: usize, w: f64) {
+        self.sum[bin] += w;
+        self.sumsq[bin] += w * w;
+    }
+
+    fn merge(&mut self, other: &Hist) {
+        self.sum
+            .iter_mut()
+            .zip(&other.sum)
+            .for_each(|(a, b)| *a += b);
+        self.sumsq
+            .iter_mut()
+            .zip(&other.sumsq)
+            .for_each(|(a, b)| *a += b);
+    }
+
+    /// The estimate of each bin over `rays` rays ([`Estimate::from_raw_sums`]).
+    pub fn estimates(&self, rays: u64) -> impl Iterator<Item = Estimate> + '_ {
+        self.sum
+            .iter()
+            .zip(&self.sumsq)
+            .map(move |(&s, &q)| Estimate::from_raw_sums(rays, s, q))
+    }
+}
+
+/// The raw result of one or more merged batches. Serialisable, so that batches traced in
+/// separate workers can be sent back and merged in batch order.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Batch {
+    /// Per-tally estimates (fixed tallies, leaked by segment, absorbed by segment, contacts).
+    pub tallies: Vec<Estimate>,
+    /// Delivered weight on the exit face, MAP_CELLS² (row-major, y rows, x columns).
+    pub exit_map: Hist,
+    /// Delivered weight by polar angle beyond the exit face, 1° bins.
+    pub angle_hist: Hist,
+    /// Delivered weight by direction cosines, ANGULAR_CELLS².
+    pub angular_map: Hist,
+    /// Leaked (and contact-lost) weight along the route, ROUTE_BINS bins.
+    pub route_leak: Hist,
+    /// Delivered weight that lands on the receiver.
+    pub receiver: Estimate,
+    /// Wall interactions (reflections, refractions out) counted.
+    pub wall_interactions: u64,
+    /// Wall hits by segment.
+    pub wall_hits: Vec<u64>,
+    /// Rays traced.
+    pub rays: u64,
+    /// Sampled paths (batch 0 only).
+    pub paths: Vec<Path>,
+}
+
+impl Batch {
+    pub(super) fn empty(p: &Prepared) -> Batch {
+        let nseg = p.route.segments.len();
+        Batch {
+            tallies: vec![Estimate::default(); p.ledger.len()],
+            exit_map: Hist::new(MAP_CELLS * MAP_CELLS),
+            angle_hist: Hist::new(ANGLE_BINS),
+            angular_map: Hist::new(ANGULAR_CELLS * ANGULAR_CELLS),
+            route_leak: Hist::new(ROUTE_BINS),
+            receiver: Estimate::default(),
+            wall_interactions: 0,
+            wall_hits: vec![0; nseg],
+            rays: 0,
+            paths: Vec::new(),
+        }
+    }
+
+    /// Merge the next batch (in batch order) into this one.
+    pub fn merge(&mut self, other: &Batch) {
+        for (a, b) in self.tallies.iter_mut().zip(&other.tallies) {
+            a.merge(b);
+        }
+        self.exit_map.merge(&other.exit_map);
+        self.angle_hist.merge(&other.angle_hist);
+        self.angular_map.merge(&other.angular_map);
+        self.route_leak.merge(&other.route_leak);
+        self.receiver.merge(&other.receiver);
+        self.wall_interactions += other.wall_interactions;
+        self.wall_hits
+            .iter_mut()
+            .zip(&other.wall_hits)
+            .for_each(|(a, b)| *a += b);
+        self.rays += other.rays;
+        if self.paths.is_empty() {
+            self.paths = other.paths.clone();
+        }
+    }
+}
+
+pub(super) fn same_bins(a: &Hist, b: &Hist) -> bool {
+    a.sum.len() == b.sum.len() && a.sumsq.len() == b.sumsq.len()
+}
+
+/// Folds batch results into one running total in batch order — the only order that reproduces
+/// a single run bit for bit — holding only the batches that arrive ahead of their turn (from
+/// several workers). Memory stays at one batch plus the early ones, however many rays.
+#[derive(Debug, Clone, Default)]
+pub struct PrefixMerger {
+    total: Option<Batch>,
+    next: u64,
+    early: std::collections::BTreeMap<u64, Batch>,
+}
+
+impl PrefixMerger {
+    /// An empty merger (nothing folded yet).
+    pub fn new() -> PrefixMerger {
+        PrefixMerger::default()
+    }
+
+    /// Keep batch `index` until its turn. A batch already folded is ignored.
+    pub fn add(&mut self, index: u64, batch: Batch) {
+        if index >= self.next {
+            self.early.insert(index, batch);
+        }
+    }
+
+    /// Fold batches up to `count` (exclusive) into the total; `None` while one of them is still
+    /// missing, else the total of batches `0..folded()` (at least `count`, never more than
+    /// asked for: batches beyond `count` wait).
+    pub fn fold_to(&mut self, count: u64) -> Option<&Batch> {
+        while self.next < count {
+            let b = self.early.remove(&self.next)?;
+            match &mut self.total {
+                None => self.total = Some(b),
+                Some(t) => t.merge(&b),
+            }
+            self.next += 1;
+        }
+        self.total.as_ref()
+    }
+
+    /// Batches folded so far.
+    pub fn folded(&self) -> u64 {
+        self.next
+    }
+}

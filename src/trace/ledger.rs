@@ -1,0 +1,176 @@
+//! The tally columns: which entry of [`Batch::tallies`](super::Batch::tallies) holds what. This
+//! is the one place that knows the layout; the walk, the batch sums and the report ask for a
+//! column by name, so no energy can slip into a neighbouring column through an offset.
+//!
+//! The layout (kept as it is: batches sent between workers carry the columns in this order):
+//! the fixed fates (delivered, missed entry, reflected at the entry, returned, stopped), the
+//! three totals (leaked, absorbed, lost to contacts), then leaked per segment, absorbed per
+//! segment and lost per contact zone.
+
+use std::ops::Range;
+
+const DELIVERED: usize = 0;
+const MISSED_ENTRY: usize = 1;
+const REFLECTED_ENTRY: usize = 2;
+const RETURNED: usize = 3;
+const STOPPED: usize = 4;
+/// Totals over segments / zones, tallied per ray so that their confidence intervals are real
+/// ones (not sums of half-widths). They repeat the per-segment and per-zone columns, so they
+/// are left out of the partition that checks the budget.
+const TOTAL_LEAKED: usize = 5;
+const TOTAL_ABSORBED: usize = 6;
+const TOTAL_CONTACT: usize = 7;
+/// Columns before the per-segment ones.
+const FIXED: usize = 8;
+
+/// The tally columns of one scenario (its segment and contact-zone counts fix the layout).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub(crate) struct Ledger {
+    segments: usize,
+    zones: usize,
+}
+
+impl Ledger {
+    /// The layout for `segments` route segments and `zones` contact zones.
+    pub(crate) fn new(segments: usize, zones: usize) -> Ledger {
+        Ledger { segments, zones }
+    }
+
+    /// Number of columns.
+    pub(crate) fn len(self) -> usize {
+        FIXED + 2 * self.segments + self.zones
+    }
+
+    /// Left through the exit face.
+    pub(crate) fn delivered(self) -> usize {
+        DELIVERED
+    }
+
+    /// Missed the entry face.
+    pub(crate) fn missed_entry(self) -> usize {
+        MISSED_ENTRY
+    }
+
+    /// Reflected at the entry face.
+    pub(crate) fn reflected_entry(self) -> usize {
+        REFLECTED_ENTRY
+    }
+
+    /// Left back through the entry face.
+    pub(crate) fn returned(self) -> usize {
+        RETURNED
+    }
+
+    /// Stopped by the interaction cap.
+    pub(crate) fn stopped(self) -> usize {
+        STOPPED
+    }
+
+    /// Leaked through any side wall (per ray: the sum of its per-segment leaked columns).
+    pub(crate) fn total_leaked(self) -> usize {
+        TOTAL_LEAKED
+    }
+
+    /// Absorbed in any segment (per ray: the sum of its per-segment absorbed columns).
+    pub(crate) fn total_absorbed(self) -> usize {
+        TOTAL_ABSORBED
+    }
+
+    /// Lost into any contact zone (per ray: the sum of its per-zone columns).
+    pub(crate) fn total_contact(self) -> usize {
+        TOTAL_CONTACT
+    }
+
+    /// Leaked through the side walls of `segment`.
+    #[inline]
+    pub(crate) fn leaked(self, segment: usize) -> usize {
+        debug_assert!(segment < self.segments);
+        FIXED + segment
+    }
+
+    /// Absorbed in `segment`.
+    #[inline]
+    pub(crate) fn absorbed(self, segment: usize) -> usize {
+        debug_assert!(segment < self.segments);
+        FIXED + self.segments + segment
+    }
+
+    /// Lost into contact zone `zone`.
+    #[inline]
+    pub(crate) fn contact(self, zone: usize) -> usize {
+        debug_assert!(zone < self.zones);
+        FIXED + 2 * self.segments + zone
+    }
+
+    fn leaked_columns(self) -> Range<usize> {
+        FIXED..FIXED + self.segments
+    }
+
+    fn absorbed_columns(self) -> Range<usize> {
+        FIXED + self.segments..FIXED + 2 * self.segments
+    }
+
+    fn contact_columns(self) -> Range<usize> {
+        FIXED + 2 * self.segments..self.len()
+    }
+
+    /// Fill the three totals of one ray's contributions (one value per column) from its
+    /// per-segment and per-zone columns.
+    #[inline]
+    pub(crate) fn fill_totals(self, ray: &mut [f64]) {
+        ray[TOTAL_LEAKED] = ray[self.leaked_columns()].iter().sum();
+        ray[TOTAL_ABSORBED] = ray[self.absorbed_columns()].iter().sum();
+        ray[TOTAL_CONTACT] = ray[self.contact_columns()].iter().sum();
+    }
+
+    /// Whether `column` belongs to the partition of the emitted power (every fate and absorption
+    /// by segment, so that the partition sums to one), rather than being a total that repeats
+    /// other columns.
+    pub(crate) fn in_partition(self, column: usize) -> bool {
+        !(TOTAL_LEAKED..FIXED).contains(&column)
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::Ledger;
+
+    #[test]
+    fn every_column_has_one_name() {
+        // Two segments, three zones: each named column appears once and they cover 0..len.
+        let l = Ledger::new(2, 3);
+        let mut named = vec![
+            l.delivered(),
+            l.missed_entry(),
+            l.reflected_entry(),
+            l.returned(),
+            l.stopped(),
+            l.total_leaked(),
+            l.total_absorbed(),
+            l.total_contact(),
+        ];
+        named.extend((0..2).map(|s| l.leaked(s)));
+        named.extend((0..2).map(|s| l.absorbed(s)));
+        named.extend((0..3).map(|z| l.contact(z)));
+        named.sort_unstable();
+        assert_eq!(named, (0..l.len()).collect::<Vec<_>>());
+        let totals = [l.total_leaked(), l.total_absorbed(), l.total_contact()];
+        for c in 0..l.len() {
+            assert_eq!(l.in_partition(c), !totals.contains(&c), "column {c}");
+        }
+    }
+
+    #[test]
+    fn totals_sum_their_own_columns() {
+        let l = Ledger::new(2, 1);
+        let mut ray = vec![0.0; l.len()];
+        ray[l.leaked(1)] = 0.25;
+        ray[l.absorbed(0)] = 0.125;
+        ray[l.absorbed(1)] = 0.5;
+        ray[l.contact(0)] = 2.0;
+        l.fill_totals(&mut ray);
+        assert_eq!(ray[l.total_leaked()], 0.25);
+        assert_eq!(ray[l.total_absorbed()], 0.625);
+        assert_eq!(ray[l.total_contact()], 2.0);
+    }
+}

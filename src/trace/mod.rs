@@ -1,0 +1,295 @@
+//! The 3D Monte Carlo tracer.
+//!
+//! Each ray starts on the emitter with unit weight. At the entry face it is Fresnel-reflected
+//! (with probability R, unpolarised) or refracted in; inside, it is followed segment by segment
+//! with exact wall intersections. At a side wall above the critical angle it is totally
+//! reflected; below it, it is reflected with the Fresnel probability R or else leaves (leaked, or
+//! lost into a contact zone). Bulk absorption (Beer–Lambert, P = P₀ e^(−αL)) lowers the weight
+//! continuously and is tallied by segment. At the exit face the ray is Fresnel-reflected back or
+//! delivered; rays reaching the entry face from inside may leave it (returned). Polarisation is
+//! not carried: every Fresnel decision uses the unpolarised reflectance.
+//!
+//! Work is split into fixed batches of [`BATCH_RAYS`] rays whose generator seeds derive from
+//! (seed, batch index); batches merge in index order, so a result does not depend on how many
+//! threads or workers ran it. Transcendental functions come from `libm`, so native and wasm
+//! give bit-identical results.
+//!
+//! Layout: this file prepares a scenario and traces and merges batches; `walk` follows one ray,
+//! one function per event; `ledger` names the tally columns (the only place that knows their
+//! order); `batch` holds a batch's tallies and histograms and merges batches in order; `report`
+//! turns merged batches into the [`TraceReport`]; `names` holds the report's enums (segment
+//! kind, units). The statistics themselves are in [`crate::stats`].
+
+mod batch;
+mod ledger;
+mod names;
+mod report;
+mod walk;
+
+use batch::same_bins;
+pub use batch::{Batch, Hist, PrefixMerger};
+use ledger::Ledger;
+pub(crate) use names::Named;
+pub use names::{FluxUnit, IntensityUnit, SegmentKind};
+pub use report::{
+    Absolute, AngularMap, Budget, ContactReport, ExitMap, Intensity, RouteProfile, SegmentReport,
+    TraceReport, Value,
+};
+
+use rand_core::SeedableRng;
+use rand_pcg::Pcg64Mcg;
+use serde::{Deserialize, Serialize};
+
+#[cfg(not(target_arch = "wasm32"))]
+use crate::error::RunError;
+use crate::error::TirError;
+use crate::geometry::PlacedRoute;
+use crate::scenario::{Scenario, ScenarioIndices, Section};
+use crate::source::SourceSampler;
+use crate::stats::ShiftedSums;
+
+/// Rays per batch.
+pub const BATCH_RAYS: u64 = 4096;
+/// Cells across the exit-face irradiance map.
+pub const MAP_CELLS: usize = 41;
+/// Polar-angle bins (1° each) of the intensity curve.
+pub const ANGLE_BINS: usize = 90;
+/// Cells across the 2D angular map (direction cosines −1…1).
+pub const ANGULAR_CELLS: usize = 41;
+/// Bins along the route for the leakage profile.
+pub const ROUTE_BINS: usize = 200;
+
+/// What became of a sampled path (for drawing).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Fate {
+    /// Left through the exit face.
+    Delivered,
+    /// Missed the entry face.
+    Missed,
+    /// Reflected at the entry face.
+    ReflectedEntry,
+    /// Left through a side wall.
+    Leaked,
+    /// Lost into a contact zone.
+    Contact,
+    /// Left back through the entry face.
+    Returned,
+    /// Stopped by the interaction cap.
+    Stopped,
+}
+
+/// A sampled ray path for drawing: global points, mm.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Path {
+    /// Fate.
+    pub fate: Fate,
+    /// Vertices: emitter, entry, every wall hit, and the last point (a short stub outside when
+    /// it left the guide).
+    pub points: Vec<[f64; 3]>,
+}
+
+/// A scenario prepared for tracing: validated, placed, indices resolved.
+#[derive(Debug, Clone)]
+pub struct Prepared {
+    /// The scenario.
+    pub scenario: Scenario,
+    /// Its indices.
+    pub indices: ScenarioIndices,
+    /// The placed route.
+    pub route: PlacedRoute,
+    source: SourceSampler,
+    alpha_per_mm: f64,
+    /// sin² of the critical angle against the surroundings, (n_out/n_core)².
+    sin2_critical_out: f64,
+    contacts: Vec<ContactZone>,
+    /// Whether any contact zone touches each segment (most wall hits need no zone look-up).
+    segment_has_contact: Vec<bool>,
+    entry_half: (f64, f64),
+    entry_round: bool,
+    exit_half: (f64, f64),
+    /// The tally columns.
+    ledger: Ledger,
+}
+
+#[derive(Debug, Clone, Copy)]
+pub(super) struct ContactZone {
+    segment: usize,
+    from_mm: f64,
+    to_mm: f64,
+    from_deg: f64,
+    to_deg: f64,
+    n: f64,
+    /// sin² of the critical angle against the contact, (n/n_core)²; ∞ when the contact is as
+    /// dense as the guide or denser (no total internal reflection there).
+    sin2_critical: f64,
+}
+
+/// Mix a seed and a batch index into a generator seed (SplitMix64 finaliser).
+fn batch_seed(seed: u64, batch: u64) -> u64 {
+    let mut z = seed ^ batch.wrapping_mul(0x9E37_79B9_7F4A_7C15);
+    z = z.wrapping_add(0x9E37_79B9_7F4A_7C15);
+    z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
+    z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
+    z ^ (z >> 31)
+}
+
+impl Prepared {
+    /// Validate and prepare a scenario; the error lists the first problem.
+    pub fn new(scenario: &Scenario) -> Result<Prepared, TirError> {
+        let indices = scenario
+            .check()
+            .map_err(|mut v| TirError::Field(v.remove(0)))?;
+        Ok(Self::from_checked(scenario, indices))
+    }
+
+    fn from_checked(scenario: &Scenario, indices: ScenarioIndices) -> Prepared {
+        let route = PlacedRoute::new(scenario.guide.section, &scenario.route);
+        let contacts = scenario
+            .guide
+            .contacts
+            .iter()
+            .zip(&indices.n_contacts)
+            .map(|(c, &n)| ContactZone {
+                segment: c.segment,
+                from_mm: c.from_mm,
+                to_mm: c.to_mm,
+                from_deg: c.sector_from_deg,
+                to_deg: c.sector_to_deg,
+                n,
+                sin2_critical: if n < indices.n_core {
+                    (n / indices.n_core) * (n / indices.n_core)
+                } else {
+                    f64::INFINITY
+                },
+            })
+            .collect::<Vec<_>>();
+        let mut segment_has_contact = vec![false; scenario.route.len()];
+        for c in &contacts {
+            segment_has_contact[c.segment] = true;
+        }
+        // α in mm⁻¹ from dB/m: dB = 10 log10(e) αL ⇒ α = dB/m / (10 log10 e) / 1000.
+        let alpha_per_mm =
+            scenario.guide.attenuation_db_per_m / (10.0 * core::f64::consts::LOG10_E) / 1000.0;
+        let sin_c_out = indices.n_out / indices.n_core;
+        let ledger = Ledger::new(route.segments.len(), contacts.len());
+        Prepared {
+            source: SourceSampler::new(&scenario.source),
+            alpha_per_mm,
+            sin2_critical_out: sin_c_out * sin_c_out,
+            contacts,
+            segment_has_contact,
+            entry_half: scenario.guide.section.half_sizes_mm(),
+            entry_round: matches!(scenario.guide.section, Section::Round { .. }),
+            exit_half: route.exit_section.half_sizes_mm(),
+            ledger,
+            route,
+            indices,
+            scenario: scenario.clone(),
+        }
+    }
+
+    /// Number of batches for the scenario's ray count.
+    pub fn batch_count(&self) -> u64 {
+        self.scenario.trace.rays.div_ceil(BATCH_RAYS)
+    }
+
+    /// Trace batch `index` (0-based). Paths are recorded for the first `keep_paths` rays of
+    /// batch 0.
+    pub fn trace_batch(&self, index: u64, keep_paths: usize) -> Batch {
+        let rays = self.scenario.trace.rays;
+        let first = index * BATCH_RAYS;
+        let count = rays.saturating_sub(first).min(BATCH_RAYS);
+        let mut rng = Pcg64Mcg::seed_from_u64(batch_seed(self.scenario.trace.seed, index));
+        let mut out = Batch::empty(self);
+        // Each tally's per-ray contributions, summed shifted by the first ray's (see stats).
+        let mut tallies = ShiftedSums::new(self.ledger.len());
+        let mut receiver = ShiftedSums::new(1);
+        let mut contrib = vec![0.0; self.ledger.len()];
+        for i in 0..count {
+            contrib.iter_mut().for_each(|c| *c = 0.0);
+            let record = index == 0 && (i as usize) < keep_paths;
+            let mut path = if record {
+                Some(Vec::with_capacity(16))
+            } else {
+                None
+            };
+            let (fate, on_receiver) =
+                self.trace_ray(&mut rng, &mut contrib, &mut out, path.as_mut());
+            self.ledger.fill_totals(&mut contrib);
+            tallies.add(&contrib);
+            receiver.add(&[on_receiver]);
+            if let Some(points) = path {
+                out.paths.push(Path { fate, points });
+            }
+        }
+        out.tallies = tallies.estimates().collect();
+        out.receiver = receiver.estimates().next().unwrap_or_default();
+        out.rays = count;
+        out
+    }
+
+    /// Trace every batch on the calling thread and merge them in order.
+    pub fn trace_all_serial(&self, keep_paths: usize) -> Batch {
+        let mut total = Batch::empty(self);
+        for b in 0..self.batch_count() {
+            total.merge(&self.trace_batch(b, keep_paths));
+        }
+        total
+    }
+
+    /// Trace every batch on `threads` threads (0: all cores) and merge them in batch order: the
+    /// result is identical to [`Prepared::trace_all_serial`].
+    #[cfg(not(target_arch = "wasm32"))]
+    pub fn trace_all_parallel(&self, threads: usize, keep_paths: usize) -> Result<Batch, RunError> {
+        self.trace_all_parallel_with_progress(threads, keep_paths, |_| {})
+    }
+
+    /// [`Prepared::trace_all_parallel`], calling `progress` with the rays done after each chunk.
+    /// Fails with [`RunError::ThreadPool`] when the threads cannot be started.
+    #[cfg(not(target_arch = "wasm32"))]
+    pub fn trace_all_parallel_with_progress(
+        &self,
+        threads: usize,
+        keep_paths: usize,
+        mut progress: impl FnMut(u64),
+    ) -> Result<Batch, RunError> {
+        use rayon::prelude::*;
+        let pool = rayon::ThreadPoolBuilder::new()
+            .num_threads(threads)
+            .build()
+            .map_err(|e| RunError::ThreadPool(e.to_string()))?;
+        // Chunks of a few batches per thread, merged in order as they come, so memory stays
+        // bounded however many rays are asked for.
+        let chunk = 4 * pool.current_num_threads() as u64;
+        let mut total = Batch::empty(self);
+        let mut first = 0;
+        while first < self.batch_count() {
+            let end = (first + chunk).min(self.batch_count());
+            let batches: Vec<Batch> = pool.install(|| {
+                (first..end)
+                    .into_par_iter()
+                    .map(|b| self.trace_batch(b, keep_paths))
+                    .collect()
+            });
+            for b in &batches {
+                total.merge(b);
+            }
+            progress(total.rays);
+            first = end;
+        }
+        Ok(total)
+    }
+
+    /// Whether a batch result has this scenario's shape (tallies, histograms, segments), so it
+    /// can be merged and reported; batches read from outside (a worker) are checked with this.
+    pub fn fits(&self, batch: &Batch) -> bool {
+        let e = Batch::empty(self);
+        batch.tallies.len() == e.tallies.len()
+            && batch.wall_hits.len() == e.wall_hits.len()
+            && same_bins(&batch.exit_map, &e.exit_map)
+            && same_bins(&batch.angle_hist, &e.angle_hist)
+            && same_bins(&batch.angular_map, &e.angular_map)
+            && same_bins(&batch.route_leak, &e.route_leak)
+    }
+}

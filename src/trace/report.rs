@@ -1,0 +1,401 @@
+//! The reported result of a trace: energy budget, per-segment and contact figures, maps.
+
+use serde::{Deserialize, Serialize};
+
+use super::{
+    Batch, FluxUnit, Hist, IntensityUnit, Path, Prepared, SegmentKind, ANGULAR_CELLS, MAP_CELLS,
+    ROUTE_BINS,
+};
+use crate::scenario::{Flux, Segment};
+use crate::stats::Share;
+
+impl Prepared {
+    /// Turn merged batches into the reported result.
+    pub fn report(&self, batch: &Batch) -> TraceReport {
+        let ledger = self.ledger;
+        let share = |j: usize| batch.tallies[j].share();
+        let budget = Budget {
+            delivered: share(ledger.delivered()),
+            missed_entry: share(ledger.missed_entry()),
+            reflected_entry: share(ledger.reflected_entry()),
+            leaked: share(ledger.total_leaked()),
+            contact: share(ledger.total_contact()),
+            absorbed: share(ledger.total_absorbed()),
+            returned: share(ledger.returned()),
+            stopped: share(ledger.stopped()),
+        };
+        // The partition: every fate, and absorption by segment (the totals duplicate it).
+        let budget_sum = batch
+            .tallies
+            .iter()
+            .enumerate()
+            .filter(|&(j, _)| ledger.in_partition(j))
+            .map(|(_, e)| e.mean)
+            .fold(0.0, |a, b| a + b);
+        let segments = self
+            .route
+            .segments
+            .iter()
+            .zip(&self.scenario.route)
+            .enumerate()
+            .map(|(i, (p, seg))| SegmentReport {
+                index: i,
+                kind: match seg {
+                    Segment::Straight { .. } => SegmentKind::Straight,
+                    Segment::Bend { .. } => SegmentKind::Bend,
+                    Segment::Taper { .. } => SegmentKind::Taper,
+                },
+                start_mm: p.s_start_mm,
+                length_mm: p.length_mm,
+                leaked: share(ledger.leaked(i)),
+                absorbed: share(ledger.absorbed(i)),
+                wall_hits: batch.wall_hits[i],
+            })
+            .collect();
+        let contacts = self
+            .scenario
+            .guide
+            .contacts
+            .iter()
+            .enumerate()
+            .map(|(k, c)| ContactReport {
+                name: c.name.clone(),
+                segment: c.segment,
+                lost: share(ledger.contact(k)),
+            })
+            .collect();
+        TraceReport {
+            rays: batch.rays,
+            seed: self.scenario.trace.seed,
+            n_core: self.indices.n_core,
+            n_surroundings: self.indices.n_out,
+            n_gap: self.indices.n_gap,
+            n_exit: self.indices.n_exit,
+            delivered: share(ledger.delivered()),
+            budget,
+            budget_sum,
+            segments,
+            contacts,
+            receiver: self.scenario.receiver.map(|_| batch.receiver.share()),
+            absolute: self.absolute(batch),
+            wall_interactions: batch.wall_interactions,
+            exit_map: ExitMap::new(
+                &batch.exit_map,
+                batch.rays,
+                MAP_CELLS,
+                2.0 * self.exit_half.0,
+                2.0 * self.exit_half.1,
+            ),
+            intensity: Intensity::from_hist(&batch.angle_hist, batch.rays),
+            angular_map: AngularMap::new(&batch.angular_map, batch.rays, ANGULAR_CELLS),
+            leak_along_route: {
+                let (share, ci95) = bin_shares(&batch.route_leak, batch.rays);
+                RouteProfile {
+                    bin_mm: self.route.length_mm / ROUTE_BINS as f64,
+                    share,
+                    ci95,
+                }
+            },
+            paths: batch.paths.clone(),
+        }
+    }
+
+    fn absolute(&self, batch: &Batch) -> Option<Absolute> {
+        let flux = self.scenario.source.flux?;
+        let (value, unit, intensity_unit) = match flux {
+            Flux::Mw(x) => (x, FluxUnit::Milliwatt, IntensityUnit::MilliwattPerSteradian),
+            Flux::Lm(x) => (x, FluxUnit::Lumen, IntensityUnit::Candela),
+        };
+        let delivered = batch.tallies[self.ledger.delivered()].share();
+        let intensity = Intensity::from_hist(&batch.angle_hist, batch.rays);
+        // Share per steradian × flux; the peak is the brightest 1° ring.
+        let peak_ring = (0..intensity.share_per_sr.len())
+            .max_by(|&a, &b| intensity.share_per_sr[a].total_cmp(&intensity.share_per_sr[b]))
+            .unwrap_or(0);
+        let area_m2 = self.route.exit_section.area_mm2() * 1e-6;
+        let with_ci = |share: f64, ci: f64| Value {
+            value: share * value,
+            ci95: ci * value,
+        };
+        let on_axis = with_ci(intensity.share_per_sr[0], intensity.ci95_per_sr[0]);
+        Some(Absolute {
+            unit,
+            intensity_unit,
+            delivered: with_ci(delivered.share, delivered.ci95),
+            peak_intensity: with_ci(
+                intensity.share_per_sr[peak_ring],
+                intensity.ci95_per_sr[peak_ring],
+            ),
+            peak_angle_deg: intensity.angle_deg[peak_ring],
+            on_axis_intensity: on_axis,
+            mean_exit_luminance: (unit == FluxUnit::Lumen).then(|| Value {
+                value: on_axis.value / area_m2,
+                ci95: on_axis.ci95 / area_m2,
+            }),
+            receiver: self.scenario.receiver.map(|_| {
+                let r = batch.receiver.share();
+                with_ci(r.share, r.ci95)
+            }),
+        })
+    }
+}
+
+/// The energy budget: shares of the emitted power, each with its 95 % half-width.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Budget {
+    /// Left through the exit face.
+    pub delivered: Share,
+    /// Missed the entry face.
+    pub missed_entry: Share,
+    /// Fresnel-reflected at the entry face.
+    pub reflected_entry: Share,
+    /// Left through the side walls (all segments).
+    pub leaked: Share,
+    /// Lost into contact zones.
+    pub contact: Share,
+    /// Absorbed in the material.
+    pub absorbed: Share,
+    /// Left back through the entry face.
+    pub returned: Share,
+    /// Stopped by the interaction cap.
+    pub stopped: Share,
+}
+
+/// Shares and 95 % half-widths of a histogram's bins over `rays` rays. Where there is no
+/// interval (fewer than two rays, see [`crate::stats`]) the half-width is written as 0, as the
+/// report always has: these lists are plain numbers in the report format.
+fn bin_shares(h: &Hist, rays: u64) -> (Vec<f64>, Vec<f64>) {
+    h.estimates(rays)
+        .map(|e| (e.mean, e.half_width95().unwrap_or(0.0)))
+        .unzip()
+}
+
+/// Per-segment figures.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct SegmentReport {
+    /// Index in the route.
+    pub index: usize,
+    /// Straight, bend or taper.
+    pub kind: SegmentKind,
+    /// Start along the route, mm.
+    pub start_mm: f64,
+    /// Centre-line length, mm.
+    pub length_mm: f64,
+    /// Share leaked through this segment's walls.
+    pub leaked: Share,
+    /// Share absorbed in this segment.
+    pub absorbed: Share,
+    /// Wall hits counted in this segment.
+    pub wall_hits: u64,
+}
+
+/// Per-contact figures.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct ContactReport {
+    /// The contact's label.
+    pub name: String,
+    /// Segment it touches.
+    pub segment: usize,
+    /// Share lost into it.
+    pub lost: Share,
+}
+
+/// The exit-face irradiance map: delivered shares on a square grid over the exit face.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct ExitMap {
+    /// Cells across and down.
+    pub cells: usize,
+    /// Width of the exit face covered, mm.
+    pub width_mm: f64,
+    /// Height of the exit face covered, mm.
+    pub height_mm: f64,
+    /// Share of the emitted power per cell, row-major from −y to +y.
+    pub share: Vec<f64>,
+    /// 95 % half-width of each cell's share.
+    pub ci95: Vec<f64>,
+    /// Share per mm² of each cell (relative irradiance).
+    pub share_per_area: Vec<f64>,
+}
+
+impl ExitMap {
+    fn new(h: &Hist, rays: u64, cells: usize, width_mm: f64, height_mm: f64) -> ExitMap {
+        let (share, ci95, share_per_area) = grid(h, rays, cells, width_mm, height_mm);
+        ExitMap {
+            cells,
+            width_mm,
+            height_mm,
+            share,
+            ci95,
+            share_per_area,
+        }
+    }
+}
+
+/// The angular map: delivered shares on a square grid over the direction cosines (x, y) beyond
+/// the exit face, each from −1 to 1.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct AngularMap {
+    /// Cells across and down.
+    pub cells: usize,
+    /// Span of the x direction cosine covered (2: from −1 to 1). The JSON key stays `width_mm`
+    /// for compatibility of the report format.
+    #[serde(rename = "width_mm")]
+    pub cosine_span_x: f64,
+    /// Span of the y direction cosine covered (2). The JSON key stays `height_mm` for
+    /// compatibility of the report format.
+    #[serde(rename = "height_mm")]
+    pub cosine_span_y: f64,
+    /// Share of the emitted power per cell, row-major from −y to +y.
+    pub share: Vec<f64>,
+    /// 95 % half-width of each cell's share.
+    pub ci95: Vec<f64>,
+    /// Share per unit of direction-cosine area of each cell.
+    pub share_per_area: Vec<f64>,
+}
+
+impl AngularMap {
+    fn new(h: &Hist, rays: u64, cells: usize) -> AngularMap {
+        let (cosine_span_x, cosine_span_y) = (2.0, 2.0);
+        let (share, ci95, share_per_area) = grid(h, rays, cells, cosine_span_x, cosine_span_y);
+        AngularMap {
+            cells,
+            cosine_span_x,
+            cosine_span_y,
+            share,
+            ci95,
+            share_per_area,
+        }
+    }
+}
+
+/// Shares, half-widths and shares per unit area of the cells of a square grid `cells` across,
+/// spanning `span_x` by `span_y`.
+fn grid(h: &Hist, rays: u64, cells: usize, span_x: f64, span_y: f64) -> Grid {
+    let (share, ci95) = bin_shares(h, rays);
+    let cell_area = span_x * span_y / (cells * cells) as f64;
+    let share_per_area = share.iter().map(|v| v / cell_area).collect();
+    (share, ci95, share_per_area)
+}
+
+/// Shares, half-widths and shares per unit area of a grid's cells.
+type Grid = (Vec<f64>, Vec<f64>, Vec<f64>);
+
+/// Intensity against polar angle beyond the exit face.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Intensity {
+    /// Bin centres, degrees.
+    pub angle_deg: Vec<f64>,
+    /// Share of the emitted power per steradian in each 1° ring.
+    pub share_per_sr: Vec<f64>,
+    /// 95 % half-width of each ring's value.
+    pub ci95_per_sr: Vec<f64>,
+}
+
+impl Intensity {
+    fn from_hist(hist: &Hist, rays: u64) -> Intensity {
+        let (share, ci) = bin_shares(hist, rays);
+        let n = share.len();
+        let mut angle_deg = Vec::with_capacity(n);
+        let mut share_per_sr = Vec::with_capacity(n);
+        let mut ci95_per_sr = Vec::with_capacity(n);
+        for i in 0..n {
+            let (a0, a1) = ((i as f64).to_radians(), ((i + 1) as f64).to_radians());
+            let omega = std::f64::consts::TAU * (libm::cos(a0) - libm::cos(a1));
+            angle_deg.push(i as f64 + 0.5);
+            share_per_sr.push(share[i] / omega);
+            ci95_per_sr.push(ci[i] / omega);
+        }
+        Intensity {
+            angle_deg,
+            share_per_sr,
+            ci95_per_sr,
+        }
+    }
+}
+
+/// Leakage along the route.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct RouteProfile {
+    /// Bin width along the centre line, mm.
+    pub bin_mm: f64,
+    /// Share of the emitted power leaving the walls (or lost to contacts) in each bin.
+    pub share: Vec<f64>,
+    /// 95 % half-width of each bin's share.
+    pub ci95: Vec<f64>,
+}
+
+/// An absolute figure with its 95 % half-width, in the unit its field names.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+pub struct Value {
+    /// The figure.
+    pub value: f64,
+    /// 95 % half-width.
+    #[serde(deserialize_with = "crate::export::ci95_or_infinite")]
+    pub ci95: f64,
+}
+
+/// Absolute figures when the source flux is given.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Absolute {
+    /// Unit of flux: mW or lm.
+    pub unit: FluxUnit,
+    /// Unit of intensity: mW/sr or cd.
+    pub intensity_unit: IntensityUnit,
+    /// Delivered flux.
+    pub delivered: Value,
+    /// Peak intensity beyond the exit face (brightest 1° ring).
+    pub peak_intensity: Value,
+    /// Angle from the exit axis of the brightest ring, degrees (its centre).
+    pub peak_angle_deg: f64,
+    /// Intensity along the exit axis (first 1° ring).
+    pub on_axis_intensity: Value,
+    /// Mean luminance of the exit face seen along its axis: on-axis intensity over the
+    /// exit-face area, cd/m² (luminous input only).
+    pub mean_exit_luminance: Option<Value>,
+    /// Flux on the receiver.
+    pub receiver: Option<Value>,
+}
+
+/// Everything a trace reports.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct TraceReport {
+    /// Rays traced.
+    pub rays: u64,
+    /// Seed used.
+    pub seed: u64,
+    /// Guide index at the wavelength (relative to air).
+    pub n_core: f64,
+    /// Surroundings' index.
+    pub n_surroundings: f64,
+    /// Index of the gap between source and entry face.
+    pub n_gap: f64,
+    /// Index beyond the exit face.
+    pub n_exit: f64,
+    /// Delivered share with its 95 % half-width.
+    pub delivered: Share,
+    /// The energy budget.
+    pub budget: Budget,
+    /// Sum of every tally's share (1 to rounding).
+    pub budget_sum: f64,
+    /// Per-segment figures.
+    pub segments: Vec<SegmentReport>,
+    /// Per-contact figures.
+    pub contacts: Vec<ContactReport>,
+    /// Share landing on the receiver.
+    pub receiver: Option<Share>,
+    /// Absolute figures.
+    pub absolute: Option<Absolute>,
+    /// Wall interactions traced.
+    pub wall_interactions: u64,
+    /// Exit-face irradiance map (share per cell).
+    pub exit_map: ExitMap,
+    /// Intensity against angle.
+    pub intensity: Intensity,
+    /// 2D angular map over direction cosines.
+    pub angular_map: AngularMap,
+    /// Leakage along the route.
+    pub leak_along_route: RouteProfile,
+    /// Sampled ray paths (left out of the JSON when none were asked for).
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub paths: Vec<Path>,
+}

@@ -1,0 +1,382 @@
+//! The walk of one ray through the guide, one function per event: the launch across the gap,
+//! the entry face, a side wall, an end plane into the neighbouring segment, the exit face, the
+//! entry face met from inside, and the interaction cap.
+//!
+//! The cut into functions keeps every floating-point operation, its order and the order of the
+//! random draws of the single loop it replaces: results are bit-identical.
+
+use glam::DVec3;
+use rand_core::Rng;
+use rand_pcg::Pcg64Mcg;
+
+use super::{Batch, Fate, Prepared, ANGLE_BINS, ANGULAR_CELLS, MAP_CELLS, ROUTE_BINS};
+use crate::geometry::{Next, Placed};
+use crate::interface::{fresnel_reflectance, reflect, refract};
+
+/// A uniform number in [0, 1) from the top 53 bits of the generator.
+#[inline]
+fn uniform(rng: &mut Pcg64Mcg) -> f64 {
+    (rng.next_u64() >> 11) as f64 * (1.0 / (1u64 << 53) as f64)
+}
+
+/// The vertices of a kept path (global, mm); for a ray whose path is not kept nothing is
+/// recorded and the point is never computed.
+struct Trail<'a>(Option<&'a mut Vec<[f64; 3]>>);
+
+impl Trail<'_> {
+    #[inline]
+    fn push(&mut self, point: impl FnOnce() -> DVec3) {
+        if let Some(v) = self.0.as_deref_mut() {
+            v.push(point().to_array());
+        }
+    }
+}
+
+/// A ray inside the guide.
+struct Ray {
+    /// The segment it is in.
+    seg: usize,
+    /// Position in the segment's frame, mm.
+    o: DVec3,
+    /// Unit direction in the segment's frame.
+    d: DVec3,
+    /// Weight (1 at launch, lowered by absorption).
+    w: f64,
+    /// Path length in this segment whose attenuation is not applied yet, mm.
+    unabsorbed_mm: f64,
+}
+
+/// What follows an event.
+enum Step {
+    /// The ray goes on.
+    Continue,
+    /// The ray ends with this fate and this weight landing on the receiver.
+    End(Fate, f64),
+}
+
+/// One ray's walk: the prepared scenario, the batch's random sequence, where the ray's
+/// contributions (one per ledger column) and histogram entries go, and its kept path.
+struct Walk<'a> {
+    p: &'a Prepared,
+    rng: &'a mut Pcg64Mcg,
+    contrib: &'a mut [f64],
+    out: &'a mut Batch,
+    trail: Trail<'a>,
+}
+
+impl Prepared {
+    /// Trace one ray; per-tally contributions go to `contrib` (one per ledger column),
+    /// histograms to `out`. Returns the fate and the weight landing on the receiver.
+    pub(super) fn trace_ray(
+        &self,
+        rng: &mut Pcg64Mcg,
+        contrib: &mut [f64],
+        out: &mut Batch,
+        path: Option<&mut Vec<[f64; 3]>>,
+    ) -> (Fate, f64) {
+        let mut walk = Walk {
+            p: self,
+            rng,
+            contrib,
+            out,
+            trail: Trail(path),
+        };
+        let mut ray = match walk.launch() {
+            Ok(ray) => ray,
+            Err(fate) => return (fate, 0.0),
+        };
+        let segs = &self.route.segments;
+        let cap = self.scenario.trace.max_interactions;
+        let mut interactions = 0u32;
+        loop {
+            let placed = &segs[ray.seg];
+            let next = placed.next(ray.o, ray.d);
+            let t = match next {
+                Next::Wall { t, .. } | Next::Start { t } | Next::End { t } => t,
+            };
+            // Beer–Lambert: the path in this segment is summed and its attenuation applied once,
+            // when the ray leaves the segment or ends (e^(−αL₁)·e^(−αL₂) = e^(−α(L₁+L₂))).
+            ray.unabsorbed_mm += t;
+            ray.o += t * ray.d;
+            interactions += 1;
+            let seg = ray.seg;
+            let step = if interactions > cap {
+                walk.stop(&mut ray, placed)
+            } else {
+                match next {
+                    Next::Wall { normal, .. } => walk.wall(&mut ray, placed, normal),
+                    Next::End { .. } if seg + 1 < segs.len() => {
+                        walk.cross(&mut ray, placed, seg + 1)
+                    }
+                    Next::Start { .. } if seg > 0 => walk.cross(&mut ray, placed, seg - 1),
+                    Next::End { .. } => walk.exit_face(&mut ray, placed),
+                    Next::Start { .. } => walk.entry_face_from_inside(&mut ray, placed),
+                }
+            };
+            if let Step::End(fate, on_receiver) = step {
+                return (fate, on_receiver);
+            }
+        }
+    }
+
+    /// The contact zone at local point `o` on the wall of segment `seg`, if any (only looked up
+    /// on segments that have one).
+    #[inline]
+    fn contact_zone(&self, seg: usize, placed: &Placed, o: DVec3) -> Option<usize> {
+        if !self.segment_has_contact[seg] {
+            return None;
+        }
+        let along = placed.along_mm(o);
+        let az = placed.azimuth_deg(o);
+        self.contacts.iter().position(|c| {
+            c.segment == seg
+                && along >= c.from_mm
+                && along <= c.to_mm
+                && az >= c.from_deg
+                && az <= c.to_deg
+        })
+    }
+
+    /// The weight `w` of a ray delivered at exit-frame point `q` with direction `od` that lands
+    /// on the receiver (0 without one, or when it misses).
+    fn on_receiver(&self, q: DVec3, od: DVec3, w: f64) -> f64 {
+        match self.scenario.receiver {
+            Some(r) if od.z > 0.0 => {
+                let t = r.distance_mm / od.z;
+                if r.contains(q.x + t * od.x, q.y + t * od.y) {
+                    w
+                } else {
+                    0.0
+                }
+            }
+            _ => 0.0,
+        }
+    }
+}
+
+impl Walk<'_> {
+    /// Sample a start and direction on the emitter and cross the gap to the entry plane z = 0;
+    /// the ray enters the guide or ends outside it (missed or reflected at the entry face).
+    fn launch(&mut self) -> Result<Ray, Fate> {
+        let p = self.p;
+        let u = [
+            uniform(self.rng),
+            uniform(self.rng),
+            uniform(self.rng),
+            uniform(self.rng),
+        ];
+        let (start, dir) = p.source.sample(u);
+        self.trail.push(|| start);
+        if dir.z <= 0.0 {
+            self.trail.push(|| start + 2.0 * dir);
+            return Err(self.end_outside(p.ledger.missed_entry(), Fate::Missed));
+        }
+        let t = -start.z / dir.z;
+        let hit = start + t * dir;
+        let (hw, hh) = p.entry_half;
+        let inside = if p.entry_round {
+            hit.x * hit.x + hit.y * hit.y <= hw * hw
+        } else {
+            hit.x.abs() <= hw && hit.y.abs() <= hh
+        };
+        self.trail.push(|| hit);
+        if !inside {
+            return Err(self.end_outside(p.ledger.missed_entry(), Fate::Missed));
+        }
+        self.entry_face(hit, dir)
+    }
+
+    /// The entry face at global point `hit`, met from the gap with direction `dir`: Fresnel
+    /// reflection (unpolarised) or refraction into the first segment.
+    fn entry_face(&mut self, hit: DVec3, dir: DVec3) -> Result<Ray, Fate> {
+        let p = self.p;
+        let ix = &p.indices;
+        let cos_i = dir.z;
+        if uniform(self.rng) < fresnel_reflectance(cos_i, ix.n_gap, ix.n_core) {
+            self.trail.push(|| hit + reflect(dir, DVec3::Z));
+            return Err(self.end_outside(p.ledger.reflected_entry(), Fate::ReflectedEntry));
+        }
+        // A gap medium denser than the guide (a high-index gel) can reflect totally.
+        let Some(inward) = refract(dir, -DVec3::Z, ix.n_gap, ix.n_core) else {
+            self.trail.push(|| hit + reflect(dir, DVec3::Z));
+            return Err(self.end_outside(p.ledger.reflected_entry(), Fate::ReflectedEntry));
+        };
+        let first = &p.route.segments[0].frame;
+        Ok(Ray {
+            seg: 0,
+            o: first.point_to_local(hit),
+            d: first.dir_to_local(inward),
+            w: 1.0,
+            unabsorbed_mm: 0.0,
+        })
+    }
+
+    /// A ray that never entered the guide: its whole weight goes to `column`.
+    fn end_outside(&mut self, column: usize, fate: Fate) -> Fate {
+        self.contrib[column] = 1.0;
+        fate
+    }
+
+    /// Apply the attenuation of the path in the current segment (Beer–Lambert, e^(−αL)) and
+    /// tally what it takes as absorbed in that segment.
+    #[inline]
+    fn absorb(&mut self, ray: &mut Ray) {
+        let alpha_per_mm = self.p.alpha_per_mm;
+        if alpha_per_mm > 0.0 && ray.unabsorbed_mm > 0.0 {
+            let f = libm::exp(-alpha_per_mm * ray.unabsorbed_mm);
+            self.contrib[self.p.ledger.absorbed(ray.seg)] += ray.w * (1.0 - f);
+            ray.w *= f;
+        }
+        ray.unabsorbed_mm = 0.0;
+    }
+
+    /// The interaction cap is reached: the ray stops where it is.
+    fn stop(&mut self, ray: &mut Ray, placed: &Placed) -> Step {
+        self.absorb(ray);
+        let o = ray.o;
+        self.trail.push(|| placed.frame.point_to_global(o));
+        self.contrib[self.p.ledger.stopped()] = ray.w;
+        Step::End(Fate::Stopped, 0.0)
+    }
+
+    /// A side wall with outward unit normal `normal` (local): total internal reflection above
+    /// the critical angle (against the surroundings or a contact zone), else Fresnel reflection
+    /// with probability R or the ray leaves.
+    #[inline]
+    fn wall(&mut self, ray: &mut Ray, placed: &Placed, normal: DVec3) -> Step {
+        let p = self.p;
+        let ix = &p.indices;
+        self.out.wall_interactions += 1;
+        self.out.wall_hits[ray.seg] += 1;
+        let o = ray.o;
+        self.trail.push(|| placed.frame.point_to_global(o));
+        let cos_i = ray.d.dot(normal).clamp(0.0, 1.0);
+        let sin2_i = 1.0 - cos_i * cos_i;
+        let zone = p.contact_zone(ray.seg, placed, ray.o);
+        let (n_out, sin2_critical) = match zone {
+            Some(z) => (p.contacts[z].n, p.contacts[z].sin2_critical),
+            None => (ix.n_out, p.sin2_critical_out),
+        };
+        let tir = sin2_i > sin2_critical;
+        if tir || uniform(self.rng) < fresnel_reflectance(cos_i, ix.n_core, n_out) {
+            ray.d = reflect(ray.d, normal);
+            return Step::Continue;
+        }
+        self.leave_through_wall(ray, placed, normal, n_out, zone)
+    }
+
+    /// The ray leaves through the side wall into a medium of index `n_out`: leaked, or lost
+    /// into contact zone `zone`; its weight is tallied along the route.
+    fn leave_through_wall(
+        &mut self,
+        ray: &mut Ray,
+        placed: &Placed,
+        normal: DVec3,
+        n_out: f64,
+        zone: Option<usize>,
+    ) -> Step {
+        let p = self.p;
+        self.absorb(ray);
+        let s = placed.s_start_mm + placed.along_mm(ray.o);
+        let bin = ((s / p.route.length_mm) * ROUTE_BINS as f64) as usize;
+        self.out.route_leak.add(bin.min(ROUTE_BINS - 1), ray.w);
+        let (o, d) = (ray.o, ray.d);
+        self.trail.push(|| {
+            let outside = refract(d, -normal, p.indices.n_core, n_out).unwrap_or(d);
+            placed.frame.point_to_global(o + 0.5 * outside)
+        });
+        match zone {
+            Some(z) => {
+                self.contrib[p.ledger.contact(z)] = ray.w;
+                Step::End(Fate::Contact, 0.0)
+            }
+            None => {
+                self.contrib[p.ledger.leaked(ray.seg)] = ray.w;
+                Step::End(Fate::Leaked, 0.0)
+            }
+        }
+    }
+
+    /// An end plane shared with segment `into`: the path so far is attenuated and the ray is
+    /// handed over in that segment's frame.
+    #[inline]
+    fn cross(&mut self, ray: &mut Ray, placed: &Placed, into: usize) -> Step {
+        self.absorb(ray);
+        let g = placed.frame.point_to_global(ray.o);
+        let gd = placed.frame.dir_to_global(ray.d);
+        let to = &self.p.route.segments[into].frame;
+        ray.seg = into;
+        ray.o = to.point_to_local(g);
+        ray.d = to.dir_to_local(gd);
+        Step::Continue
+    }
+
+    /// The exit face, in the exit frame: Fresnel reflection back into the guide, or delivered
+    /// (refracted into the exit medium, tallied on the maps and the receiver).
+    fn exit_face(&mut self, ray: &mut Ray, placed: &Placed) -> Step {
+        let p = self.p;
+        let ix = &p.indices;
+        let ef = &p.route.exit_frame;
+        let g = placed.frame.point_to_global(ray.o);
+        let gd = placed.frame.dir_to_global(ray.d);
+        self.trail.push(|| g);
+        let q = ef.point_to_local(g);
+        let ld = ef.dir_to_local(gd);
+        let cos_i = ld.z.clamp(0.0, 1.0);
+        if uniform(self.rng) < fresnel_reflectance(cos_i, ix.n_core, ix.n_exit) {
+            ray.d = placed
+                .frame
+                .dir_to_local(ef.dir_to_global(reflect(ld, DVec3::Z)));
+            return Step::Continue;
+        }
+        let od = refract(ld, -DVec3::Z, ix.n_core, ix.n_exit).unwrap_or(ld);
+        self.trail
+            .push(|| g + ef.dir_to_global(od) * p.exit_half.0.max(p.exit_half.1));
+        self.absorb(ray);
+        self.contrib[p.ledger.delivered()] = ray.w;
+        self.record_delivery(q, od, ray.w);
+        Step::End(Fate::Delivered, p.on_receiver(q, od, ray.w))
+    }
+
+    /// The entry face met from inside: Fresnel reflection back into the guide, or the ray
+    /// leaves into the gap (returned).
+    fn entry_face_from_inside(&mut self, ray: &mut Ray, placed: &Placed) -> Step {
+        let ix = &self.p.indices;
+        let g = placed.frame.point_to_global(ray.o);
+        let gd = placed.frame.dir_to_global(ray.d);
+        self.trail.push(|| g);
+        let cos_i = (-gd.z).clamp(0.0, 1.0);
+        if uniform(self.rng) < fresnel_reflectance(cos_i, ix.n_core, ix.n_gap) {
+            ray.d = placed.frame.dir_to_local(reflect(gd, DVec3::Z));
+            return Step::Continue;
+        }
+        self.trail.push(|| {
+            let od = refract(gd, DVec3::Z, ix.n_core, ix.n_gap).unwrap_or(gd);
+            g + od
+        });
+        self.absorb(ray);
+        self.contrib[self.p.ledger.returned()] = ray.w;
+        Step::End(Fate::Returned, 0.0)
+    }
+
+    /// A delivered ray of weight `w` at exit-frame point `q` with direction `od` (beyond the
+    /// exit face) on the exit map, the intensity curve and the angular map.
+    fn record_delivery(&mut self, q: DVec3, od: DVec3, w: f64) {
+        let (hw, hh) = self.p.exit_half;
+        let cell = |v: f64, half: f64, n: usize| {
+            (((v + half) / (2.0 * half) * n as f64) as isize).clamp(0, n as isize - 1) as usize
+        };
+        let out = &mut *self.out;
+        out.exit_map.add(
+            cell(q.y, hh, MAP_CELLS) * MAP_CELLS + cell(q.x, hw, MAP_CELLS),
+            w,
+        );
+        let theta_deg = libm::acos(od.z.clamp(-1.0, 1.0)).to_degrees();
+        out.angle_hist
+            .add((theta_deg as usize).min(ANGLE_BINS - 1), w);
+        out.angular_map.add(
+            cell(od.y, 1.0, ANGULAR_CELLS) * ANGULAR_CELLS + cell(od.x, 1.0, ANGULAR_CELLS),
+            w,
+        );
+    }
+}

@@ -241,6 +241,12 @@ pub const TABLE_INTENSITY: Range = Range::closed(0.0, 1e12);
 /// grid can show.
 pub const TABLE_ROWS: Count = Count::new(2, 1000);
 
+/// A refractive index: a custom constant index, and the index any custom model gives at the
+/// wavelength. Physics: no medium's index is below vacuum's, 1; none that is clear anywhere in
+/// [`WAVELENGTH_NM`] reaches 5 there (the highest stay near 4), so beyond it a coefficient is
+/// mistyped.
+pub const REFRACTIVE_INDEX: Range = Range::closed(1.0, 5.0);
+
 // --- Guide and route -----------------------------------------------------------------------
 
 /// A guide's cross-section size (diameter, width, height), mm, in both documents and at the end

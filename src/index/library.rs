@@ -6,6 +6,7 @@ use serde::{Deserialize, Serialize};
 
 use super::{n_standard_air, IndexModel};
 use crate::error::{show, FieldError};
+use crate::limits::REFRACTIVE_INDEX;
 
 /// What a material's published index is measured against.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
@@ -230,15 +231,17 @@ impl MaterialChoice {
                 let custom = format!("{path}.custom");
                 model.validate(&custom)?;
                 let n = model.n(wavelength_nm * 1e-3);
-                if n.is_finite() && (1.0..=5.0).contains(&n) {
+                if REFRACTIVE_INDEX.contains(n) {
                     Ok(n)
                 } else {
                     Err(FieldError::new(
                         custom,
                         format!(
-                            "gives n = {} at {} nm; a usable index is ≥ 1 and ≤ 5",
+                            "gives n = {} at {} nm; a usable index is ≥ {} and ≤ {}",
                             show(n),
-                            show(wavelength_nm)
+                            show(wavelength_nm),
+                            show(REFRACTIVE_INDEX.lo),
+                            show(REFRACTIVE_INDEX.hi)
                         ),
                     ))
                 }

@@ -151,7 +151,28 @@ pub enum Segment {
     },
 }
 
+/// What a segment of the route is, without its sizes. Written `straight`, `bend` or `taper` in
+/// the trace report and the route's outline (by name: `crate::trace::names`).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum SegmentKind {
+    /// A straight run.
+    Straight,
+    /// A circular bend.
+    Bend,
+    /// A straight taper.
+    Taper,
+}
+
 impl Segment {
+    /// What the segment is.
+    pub fn kind(&self) -> SegmentKind {
+        match self {
+            Segment::Straight { .. } => SegmentKind::Straight,
+            Segment::Bend { .. } => SegmentKind::Bend,
+            Segment::Taper { .. } => SegmentKind::Taper,
+        }
+    }
+
     /// Length of the segment along its centre line, mm.
     pub fn length_mm(&self) -> f64 {
         match *self {

@@ -160,16 +160,7 @@ impl QuickDesign {
         let n_out = out.keep(self.surroundings.n_rel_air(wl, "surroundings"));
         let n_launch = out.keep(self.launch_medium.n_rel_air(wl, "launch_medium"));
         let (n_core, n_out, n_launch) = (n_core?, n_out?, n_launch?);
-        if n_out >= n_core {
-            out.push(
-                "surroundings",
-                format!(
-                    "must have a lower index than the guide for light to be guided: \
-                     surroundings n = {n_out:.4}, guide n = {n_core:.4}"
-                ),
-            );
-            return None;
-        }
+        out.keep(guide::check_guiding(n_core, n_out, "surroundings"))?;
         Some(Indices {
             n_core,
             n_out,

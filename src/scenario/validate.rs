@@ -9,6 +9,7 @@ use super::{
     ScenarioIndices, Section, Segment, Source, TraceSettings, SCENARIO_VERSION,
 };
 use crate::error::{show, FieldError};
+use crate::guide;
 use crate::limits::{
     FieldErrors, Range, ATTENUATION_DB_PER_M, AZIMUTH_DEG, BEND_ANGLE_DEG, BEND_RADIUS_MAX_MM,
     CONE_HALF_ANGLE_DEG, EMITTER_MM, FLUX, GAP_MM, HALF_INTENSITY_ANGLE_DEG, MAX_INTERACTIONS,
@@ -75,16 +76,7 @@ impl Scenario {
         else {
             return None;
         };
-        if n_out >= n_core {
-            out.push(
-                "guide.surroundings",
-                format!(
-                    "must have a lower index than the guide for light to be guided: \
-                     surroundings n = {n_out:.4}, guide n = {n_core:.4}"
-                ),
-            );
-            return None;
-        }
+        out.keep(guide::check_guiding(n_core, n_out, "guide.surroundings"))?;
         Some(ScenarioIndices {
             n_core,
             n_out,

@@ -180,6 +180,16 @@ impl FieldErrors {
         self.keep(count.check(field, n))
     }
 
+    /// Check a document's `version`: this version of tirtrace reads version `current` only.
+    pub(crate) fn version(&mut self, found: u32, current: u32) {
+        if found != current {
+            self.push(
+                "version",
+                format!("must be {current} (this version of tirtrace), got {found}"),
+            );
+        }
+    }
+
     /// A problem found by a check of its own.
     pub(crate) fn push(&mut self, field: impl Into<String>, message: impl Into<String>) {
         self.0.push(FieldError::new(field, message));

@@ -123,15 +123,7 @@ impl QuickDesign {
     /// Validate and resolve the indices; on failure, every field error found, in document order.
     pub fn check(&self) -> Result<Indices, Vec<FieldError>> {
         let mut out = FieldErrors::default();
-        if self.version != QUICK_VERSION {
-            out.push(
-                "version",
-                format!(
-                    "must be {QUICK_VERSION} (this version of tirtrace), got {}",
-                    self.version
-                ),
-            );
-        }
+        out.version(self.version, QUICK_VERSION);
         let wl = out.range("wavelength_nm", self.wavelength_nm, limits::WAVELENGTH_NM);
         out.range("diameter_mm", self.diameter_mm, limits::SECTION_MM);
         out.range(

@@ -23,15 +23,7 @@ impl Scenario {
     /// found, in document order.
     pub fn check(&self) -> Result<ScenarioIndices, Vec<FieldError>> {
         let mut out = FieldErrors::default();
-        if self.version != SCENARIO_VERSION {
-            out.push(
-                "version",
-                format!(
-                    "must be {SCENARIO_VERSION} (this version of tirtrace), got {}",
-                    self.version
-                ),
-            );
-        }
+        out.version(self.version, SCENARIO_VERSION);
         check_guide(&self.guide, &mut out);
         check_route(self.guide.section, &self.route, &mut out);
         for (k, contact) in self.guide.contacts.iter().enumerate() {

@@ -69,38 +69,3 @@ pub(crate) fn show(x: f64) -> String {
         format!("{x}")
     }
 }
-
-/// Check `lo < x <= hi` style ranges with one call. `lo_incl`/`hi_incl` choose the bound type.
-pub(crate) fn check_range(
-    field: &str,
-    x: f64,
-    lo: f64,
-    lo_incl: bool,
-    hi: f64,
-    hi_incl: bool,
-    unit: &str,
-) -> Result<f64, FieldError> {
-    let ok_lo = if lo_incl { x >= lo } else { x > lo };
-    let ok_hi = if hi_incl { x <= hi } else { x < hi };
-    if x.is_finite() && ok_lo && ok_hi {
-        return Ok(x);
-    }
-    let lo_s = if lo_incl { "≥" } else { ">" };
-    let hi_s = if hi_incl { "≤" } else { "<" };
-    // A unit may carry a note in brackets, e.g. " mm (the segment's length)": the unit goes on
-    // both bounds, the note once at the end.
-    let (unit, note) = match unit.find(" (") {
-        Some(i) => (&unit[..i], &unit[i..]),
-        None => (unit, ""),
-    };
-    let rule = if hi.is_infinite() {
-        format!("must be {lo_s} {}{unit}{note}", show(lo))
-    } else {
-        format!(
-            "must be {lo_s} {}{unit} and {hi_s} {}{unit}{note}",
-            show(lo),
-            show(hi)
-        )
-    };
-    Err(FieldError::new(field, format!("{rule}, got {}", show(x))))
-}

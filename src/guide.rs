@@ -5,6 +5,7 @@
 
 use std::f64::consts::{FRAC_PI_2, PI};
 
+use crate::error::FieldError;
 use crate::interface;
 
 /// Numerical aperture NA = √(n_core² − n_out²) (G. Keiser, *Optical Fiber Communications*).
@@ -156,6 +157,22 @@ pub fn launch_chain(n_core: f64, n_out: f64, n_front: f64, launch_rad: f64) -> L
         leak_free_ratio: leak_free_bend_ratio(n_core, n_out, theta_max),
         entry_fresnel_loss: interface::fresnel_reflectance(1.0, n_front, n_core),
     }
+}
+
+/// `Ok` when a guide of index `n_core` in surroundings of index `n_out` guides light at all:
+/// total internal reflection needs the lower index outside (`docs/REFERENCES.md` §2). Otherwise
+/// the problem of the surroundings' field `surroundings_field`, naming both indices.
+pub fn check_guiding(n_core: f64, n_out: f64, surroundings_field: &str) -> Result<(), FieldError> {
+    if n_out >= n_core {
+        return Err(FieldError::new(
+            surroundings_field,
+            format!(
+                "must have a lower index than the guide for light to be guided: \
+                 surroundings n = {n_out:.4}, guide n = {n_core:.4}"
+            ),
+        ));
+    }
+    Ok(())
 }
 
 /// What a bend figure says when no leak-free radius exists ([`leak_free_bend_ratio`] is `None`)

@@ -180,6 +180,16 @@ impl FieldErrors {
         self.keep(count.check(field, n))
     }
 
+    /// Check a document's `version`: this version of tirtrace reads version `current` only.
+    pub(crate) fn version(&mut self, found: u32, current: u32) {
+        if found != current {
+            self.push(
+                "version",
+                format!("must be {current} (this version of tirtrace), got {found}"),
+            );
+        }
+    }
+
     /// A problem found by a check of its own.
     pub(crate) fn push(&mut self, field: impl Into<String>, message: impl Into<String>) {
         self.0.push(FieldError::new(field, message));
@@ -240,6 +250,12 @@ pub const TABLE_INTENSITY: Range = Range::closed(0.0, 1e12);
 /// sampler's integration grid (2048 steps over 90°), and a thousand rows is about as fine as that
 /// grid can show.
 pub const TABLE_ROWS: Count = Count::new(2, 1000);
+
+/// A refractive index: a custom constant index, and the index any custom model gives at the
+/// wavelength. Physics: no medium's index is below vacuum's, 1; none that is clear anywhere in
+/// [`WAVELENGTH_NM`] reaches 5 there (the highest stay near 4), so beyond it a coefficient is
+/// mistyped.
+pub const REFRACTIVE_INDEX: Range = Range::closed(1.0, 5.0);
 
 // --- Guide and route -----------------------------------------------------------------------
 

@@ -19,7 +19,7 @@ use serde::Serialize;
 use crate::error::FieldError;
 use crate::geometry::bend::rot_z;
 use crate::geometry::{Bend, Frame, Placed, PlacedRoute, Shape};
-use crate::scenario::{Emitter, EmitterArea, Scenario, Segment};
+use crate::scenario::{Emitter, EmitterArea, Scenario, SegmentKind};
 
 /// Largest turn between two samples of a bend, degrees.
 pub const MAX_BEND_STEP_DEG: f64 = 3.0;
@@ -49,18 +49,6 @@ impl From<&Frame> for OutlineFrame {
             z: f.z.to_array(),
         }
     }
-}
-
-/// What a segment is.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
-#[serde(rename_all = "snake_case")]
-pub enum SegmentKind {
-    /// A straight run.
-    Straight,
-    /// A circular bend.
-    Bend,
-    /// A straight taper.
-    Taper,
 }
 
 /// One sample of the centre line with the section there.
@@ -253,11 +241,7 @@ pub fn outline_of(scenario: &Scenario, route: &PlacedRoute) -> RouteOutline {
         .enumerate()
         .map(|(index, (placed, seg))| OutlineSegment {
             index,
-            kind: match seg {
-                Segment::Straight { .. } => SegmentKind::Straight,
-                Segment::Bend { .. } => SegmentKind::Bend,
-                Segment::Taper { .. } => SegmentKind::Taper,
-            },
+            kind: seg.kind(),
             s_start_mm: placed.s_start_mm,
             length_mm: placed.length_mm,
             round: placed.round,

@@ -5,7 +5,7 @@
 
 use serde::Serialize;
 
-use crate::error::{FieldError, TirError};
+use crate::error::FieldError;
 use crate::scenario::Scenario;
 
 /// One problem: the field's path in the document (`route[2].bend.radius_mm`, `source.gap_mm`;
@@ -43,27 +43,15 @@ pub struct ScenarioCheck {
 /// syntax at the top, or an array given for the document) and its message is the same text as
 /// [`Scenario::from_json`]'s error.
 pub fn read_scenario(text: &str) -> Result<Scenario, Problem> {
-    let de = &mut serde_json::Deserializer::from_str(text);
-    serde_path_to_error::deserialize(de).map_err(|e| {
-        let path = e.path().to_string();
-        let inner = e.into_inner();
-        if path.is_empty() || path == "." || path == "?" {
-            Problem {
-                field: "scenario".to_string(),
-                message: TirError::ParseScenario(inner.to_string()).to_string(),
-            }
+    Scenario::read_json(text).map_err(|(path, error)| Problem {
+        message: error.to_string(),
+        // A document given as an array (serde reads a struct from one) has no field to mark:
+        // the document is at fault.
+        field: if path.is_empty() || path.starts_with('[') {
+            "scenario".to_string()
         } else {
-            Problem {
-                message: TirError::ParseScenario(format!("{path}: {inner}")).to_string(),
-                // A document given as an array (serde reads a struct from one) has no field to
-                // mark: the document is at fault.
-                field: if path.starts_with('[') {
-                    "scenario".to_string()
-                } else {
-                    path
-                },
-            }
-        }
+            path
+        },
     })
 }
 

@@ -123,15 +123,7 @@ impl QuickDesign {
     /// Validate and resolve the indices; on failure, every field error found, in document order.
     pub fn check(&self) -> Result<Indices, Vec<FieldError>> {
         let mut out = FieldErrors::default();
-        if self.version != QUICK_VERSION {
-            out.push(
-                "version",
-                format!(
-                    "must be {QUICK_VERSION} (this version of tirtrace), got {}",
-                    self.version
-                ),
-            );
-        }
+        out.version(self.version, QUICK_VERSION);
         let wl = out.range("wavelength_nm", self.wavelength_nm, limits::WAVELENGTH_NM);
         out.range("diameter_mm", self.diameter_mm, limits::SECTION_MM);
         out.range(
@@ -160,16 +152,7 @@ impl QuickDesign {
         let n_out = out.keep(self.surroundings.n_rel_air(wl, "surroundings"));
         let n_launch = out.keep(self.launch_medium.n_rel_air(wl, "launch_medium"));
         let (n_core, n_out, n_launch) = (n_core?, n_out?, n_launch?);
-        if n_out >= n_core {
-            out.push(
-                "surroundings",
-                format!(
-                    "must have a lower index than the guide for light to be guided: \
-                     surroundings n = {n_out:.4}, guide n = {n_core:.4}"
-                ),
-            );
-            return None;
-        }
+        out.keep(guide::check_guiding(n_core, n_out, "surroundings"))?;
         Some(Indices {
             n_core,
             n_out,

@@ -236,3 +236,16 @@ fn launch_chain_strings_the_closed_forms_together() {
     // No guiding at all: the critical angle is NaN, never a panic.
     assert!(launch_chain(1.4, 1.5, 1.0, 0.1).critical_angle_rad.is_nan());
 }
+
+#[test]
+fn guiding_needs_the_lower_index_outside() {
+    // Total internal reflection needs n_out < n_core (docs/REFERENCES.md §2): equal indices
+    // guide nothing.
+    assert_eq!(check_guiding(1.492, 1.402, "surroundings"), Ok(()));
+    let e = check_guiding(1.4, 1.4, "guide.surroundings").unwrap_err();
+    assert_eq!(
+        e.to_string(),
+        "guide.surroundings must have a lower index than the guide for light to be guided: \
+         surroundings n = 1.4000, guide n = 1.4000"
+    );
+}

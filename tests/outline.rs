@@ -16,9 +16,9 @@ use common::{random_route, RandomRoute, Rng, RouteDraws};
 use glam::DVec3;
 use serde_json::json;
 use tirtrace::outline::{
-    route_outline, OutlinePoint, RouteOutline, SegmentKind, MAX_BEND_STEP_DEG, MIN_BEND_POINTS,
+    route_outline, OutlinePoint, RouteOutline, MAX_BEND_STEP_DEG, MIN_BEND_POINTS,
 };
-use tirtrace::scenario::{Scenario, Section, Segment};
+use tirtrace::scenario::{Scenario, Section, Segment, SegmentKind};
 
 /// Every example scenario (compiled in, so the wasm run checks them too).
 const EXAMPLES: [(&str, &str); 5] = [

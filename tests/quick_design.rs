@@ -89,6 +89,17 @@ fn all_problems_are_reported_at_once() {
 }
 
 #[test]
+fn another_version_is_refused() {
+    let d = QuickDesign {
+        version: 2,
+        ..QuickDesign::default()
+    };
+    let (f, m) = only_problem(&d);
+    assert_eq!(f, "version");
+    assert_eq!(m, "must be 1 (this version of tirtrace), got 2");
+}
+
+#[test]
 fn surroundings_denser_than_the_guide_is_refused() {
     let d = QuickDesign {
         material: MaterialChoice::constant(1.40),

@@ -6,6 +6,7 @@ use serde::{Deserialize, Serialize};
 
 use super::{n_standard_air, IndexModel};
 use crate::error::{show, FieldError};
+use crate::limits::REFRACTIVE_INDEX;
 
 /// What a material's published index is measured against.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
@@ -39,8 +40,23 @@ pub struct Material {
     pub note: &'static str,
 }
 
-const SULTANOVA_2009: &str = "N. Sultanova, S. Kasarova, I. Nikolov, Acta Phys. Pol. A 116, 585 (2009); one-term Sellmeier fit to their table";
-const SULTANOVA_NOTE: &str = "fit good to about 1e-3 in n; not for dispersion (Abbe number) work";
+/// A polymer measured by N. Sultanova et al. (2009), whose table covers 437–1052 nm relative to
+/// air: the one Sellmeier term (`b`, and `c_um2` in µm²) fitted to it.
+fn fitted_polymer(id: &'static str, name: &'static str, b: f64, c_um2: f64) -> Material {
+    Material {
+        id,
+        name,
+        model: IndexModel::Sellmeier {
+            b: vec![b],
+            c_um2: vec![c_um2],
+        },
+        min_nm: 437.0,
+        max_nm: 1052.0,
+        basis: IndexBasis::Air,
+        source: "N. Sultanova, S. Kasarova, I. Nikolov, Acta Phys. Pol. A 116, 585 (2009); one-term Sellmeier fit to their table",
+        note: "fit good to about 1e-3 in n; not for dispersion (Abbe number) work",
+    }
+}
 
 /// The built-in materials, in the order the page lists them.
 pub fn materials() -> Vec<Material> {
@@ -105,32 +121,8 @@ pub fn materials() -> Vec<Material> {
             source: "G. Beadie et al., Appl. Opt. 54, F139 (2015)",
             note: "stated accuracy better than 2e-4; grades vary by about ±0.002",
         },
-        Material {
-            id: "polycarbonate",
-            name: "Polycarbonate (PC)",
-            model: IndexModel::Sellmeier {
-                b: vec![1.4182],
-                c_um2: vec![0.021304],
-            },
-            min_nm: 437.0,
-            max_nm: 1052.0,
-            basis: IndexBasis::Air,
-            source: SULTANOVA_2009,
-            note: SULTANOVA_NOTE,
-        },
-        Material {
-            id: "polystyrene",
-            name: "Polystyrene (PS)",
-            model: IndexModel::Sellmeier {
-                b: vec![1.4435],
-                c_um2: vec![0.020216],
-            },
-            min_nm: 437.0,
-            max_nm: 1052.0,
-            basis: IndexBasis::Air,
-            source: SULTANOVA_2009,
-            note: SULTANOVA_NOTE,
-        },
+        fitted_polymer("polycarbonate", "Polycarbonate (PC)", 1.4182, 0.021304),
+        fitted_polymer("polystyrene", "Polystyrene (PS)", 1.4435, 0.020216),
         Material {
             id: "pdms",
             name: "Silicone (PDMS)",
@@ -230,15 +222,17 @@ impl MaterialChoice {
                 let custom = format!("{path}.custom");
                 model.validate(&custom)?;
                 let n = model.n(wavelength_nm * 1e-3);
-                if n.is_finite() && (1.0..=5.0).contains(&n) {
+                if REFRACTIVE_INDEX.contains(n) {
                     Ok(n)
                 } else {
                     Err(FieldError::new(
                         custom,
                         format!(
-                            "gives n = {} at {} nm; a usable index is ≥ 1 and ≤ 5",
+                            "gives n = {} at {} nm; a usable index is ≥ {} and ≤ {}",
                             show(n),
-                            show(wavelength_nm)
+                            show(wavelength_nm),
+                            show(REFRACTIVE_INDEX.lo),
+                            show(REFRACTIVE_INDEX.hi)
                         ),
                     ))
                 }

@@ -6,6 +6,7 @@ pub mod library;
 use serde::{Deserialize, Serialize};
 
 use crate::error::{show, FieldError};
+use crate::limits::REFRACTIVE_INDEX;
 
 /// Index of standard air (15 °C, 101 325 Pa, 450 ppm CO₂) at a vacuum wavelength.
 ///
@@ -132,7 +133,7 @@ impl IndexModel {
         };
         match self {
             IndexModel::Constant { n } => {
-                crate::error::check_range(&format!("{path}.n"), *n, 1.0, true, 5.0, true, "")?;
+                REFRACTIVE_INDEX.check(&format!("{path}.n"), *n)?;
             }
             IndexModel::Sellmeier { b, c_um2 } => terms("c_um2", b, c_um2)?,
             IndexModel::SellmeierWavelengths { b, lambda_um } => terms("lambda_um", b, lambda_um)?,

@@ -151,7 +151,28 @@ pub enum Segment {
     },
 }
 
+/// What a segment of the route is, without its sizes. Written `straight`, `bend` or `taper` in
+/// the trace report and the route's outline (by name: `crate::trace::names`).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum SegmentKind {
+    /// A straight run.
+    Straight,
+    /// A circular bend.
+    Bend,
+    /// A straight taper.
+    Taper,
+}
+
 impl Segment {
+    /// What the segment is.
+    pub fn kind(&self) -> SegmentKind {
+        match self {
+            Segment::Straight { .. } => SegmentKind::Straight,
+            Segment::Bend { .. } => SegmentKind::Bend,
+            Segment::Taper { .. } => SegmentKind::Taper,
+        }
+    }
+
     /// Length of the segment along its centre line, mm.
     pub fn length_mm(&self) -> f64 {
         match *self {
@@ -396,14 +417,21 @@ impl Scenario {
     /// Read a scenario from JSON. Syntax errors, unknown fields and wrong types are reported
     /// with the path of the offending field.
     pub fn from_json(text: &str) -> Result<Self, TirError> {
+        Self::read_json(text).map_err(|(_, e)| e)
+    }
+
+    /// [`Scenario::from_json`], with the path serde reached where reading stopped (empty for
+    /// the document as a whole) beside the error, for a form that marks the field.
+    pub(crate) fn read_json(text: &str) -> Result<Self, (String, TirError)> {
         let de = &mut serde_json::Deserializer::from_str(text);
         serde_path_to_error::deserialize(de).map_err(|e| {
             let path = e.path().to_string();
             let inner = e.into_inner();
             if path.is_empty() || path == "." || path == "?" {
-                TirError::ParseScenario(inner.to_string())
+                (String::new(), TirError::ParseScenario(inner.to_string()))
             } else {
-                TirError::ParseScenario(format!("{path}: {inner}"))
+                let error = TirError::ParseScenario(format!("{path}: {inner}"));
+                (path, error)
             }
         })
     }

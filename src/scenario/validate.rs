@@ -9,6 +9,7 @@ use super::{
     ScenarioIndices, Section, Segment, Source, TraceSettings, SCENARIO_VERSION,
 };
 use crate::error::{show, FieldError};
+use crate::guide;
 use crate::limits::{
     FieldErrors, Range, ATTENUATION_DB_PER_M, AZIMUTH_DEG, BEND_ANGLE_DEG, BEND_RADIUS_MAX_MM,
     CONE_HALF_ANGLE_DEG, EMITTER_MM, FLUX, GAP_MM, HALF_INTENSITY_ANGLE_DEG, MAX_INTERACTIONS,
@@ -22,15 +23,7 @@ impl Scenario {
     /// found, in document order.
     pub fn check(&self) -> Result<ScenarioIndices, Vec<FieldError>> {
         let mut out = FieldErrors::default();
-        if self.version != SCENARIO_VERSION {
-            out.push(
-                "version",
-                format!(
-                    "must be {SCENARIO_VERSION} (this version of tirtrace), got {}",
-                    self.version
-                ),
-            );
-        }
+        out.version(self.version, SCENARIO_VERSION);
         check_guide(&self.guide, &mut out);
         check_route(self.guide.section, &self.route, &mut out);
         for (k, contact) in self.guide.contacts.iter().enumerate() {
@@ -75,16 +68,7 @@ impl Scenario {
         else {
             return None;
         };
-        if n_out >= n_core {
-            out.push(
-                "guide.surroundings",
-                format!(
-                    "must have a lower index than the guide for light to be guided: \
-                     surroundings n = {n_out:.4}, guide n = {n_core:.4}"
-                ),
-            );
-            return None;
-        }
+        out.keep(guide::check_guiding(n_core, n_out, "guide.surroundings"))?;
         Some(ScenarioIndices {
             n_core,
             n_out,

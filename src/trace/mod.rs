@@ -26,11 +26,12 @@ mod names;
 mod report;
 mod walk;
 
+pub use crate::scenario::SegmentKind;
 use batch::same_bins;
 pub use batch::{Batch, Hist, PrefixMerger};
 use ledger::Ledger;
 pub(crate) use names::Named;
-pub use names::{FluxUnit, IntensityUnit, SegmentKind};
+pub use names::{FluxUnit, IntensityUnit};
 pub use report::{
     Absolute, AngularMap, Budget, ContactReport, ExitMap, Intensity, RouteProfile, SegmentReport,
     TraceReport, Value,

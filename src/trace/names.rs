@@ -1,18 +1,10 @@
 //! The closed sets of names in a trace report (segment kinds, units): enums in the code,
-//! written as the same strings as ever in the report.
+//! written as the same strings as ever in the report. The segment kind is the route's
+//! ([`crate::scenario::SegmentKind`]); its names are given here with the others.
 
 use serde::{Deserialize, Serialize};
 
-/// What a segment of the route is; written `straight`, `bend` or `taper` in the report.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
-pub enum SegmentKind {
-    /// A straight run.
-    Straight,
-    /// A circular bend.
-    Bend,
-    /// A straight taper.
-    Taper,
-}
+use crate::scenario::SegmentKind;
 
 impl Named for SegmentKind {
     const ALL: &'static [Self] = &[Self::Straight, Self::Bend, Self::Taper];

@@ -6,7 +6,7 @@ use super::{
     Batch, FluxUnit, Hist, IntensityUnit, Path, Prepared, SegmentKind, ANGULAR_CELLS, MAP_CELLS,
     ROUTE_BINS,
 };
-use crate::scenario::{Flux, Segment};
+use crate::scenario::Flux;
 use crate::stats::Share;
 
 impl Prepared {
@@ -40,11 +40,7 @@ impl Prepared {
             .enumerate()
             .map(|(i, (p, seg))| SegmentReport {
                 index: i,
-                kind: match seg {
-                    Segment::Straight { .. } => SegmentKind::Straight,
-                    Segment::Bend { .. } => SegmentKind::Bend,
-                    Segment::Taper { .. } => SegmentKind::Taper,
-                },
+                kind: seg.kind(),
                 start_mm: p.s_start_mm,
                 length_mm: p.length_mm,
                 leaked: share(ledger.leaked(i)),

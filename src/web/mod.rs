@@ -327,15 +327,18 @@ fn valid_scenario(json: &str) -> Result<crate::scenario::Scenario, JsError> {
         .map_err(|problems| JsError::new(&crate::problems::joined(&problems)))
 }
 
+/// An error carrying every problem's message, joined by `; `.
+fn problems_error(errors: &[FieldError]) -> JsError {
+    let problems: Vec<_> = errors.iter().map(crate::problems::Problem::from).collect();
+    JsError::new(&crate::problems::joined(&problems))
+}
+
 /// The closed-form figures of a scenario given as JSON text (what `tirtrace check` prints);
 /// throws with every problem's message (joined by `; `) when it is invalid.
 #[wasm_bindgen]
 pub fn closed_form(json: &str) -> Result<JsValue, JsError> {
     let scenario = valid_scenario(json)?;
-    let figures = crate::check::figures(&scenario).map_err(|errors| {
-        let problems: Vec<_> = errors.iter().map(crate::problems::Problem::from).collect();
-        JsError::new(&crate::problems::joined(&problems))
-    })?;
+    let figures = crate::check::figures(&scenario).map_err(|errors| problems_error(&errors))?;
     to_js(&figures)
 }
 
@@ -344,10 +347,8 @@ pub fn closed_form(json: &str) -> Result<JsValue, JsError> {
 #[wasm_bindgen]
 pub fn route_outline(json: &str) -> Result<JsValue, JsError> {
     let scenario = valid_scenario(json)?;
-    let outline = crate::outline::route_outline(&scenario).map_err(|errors| {
-        let problems: Vec<_> = errors.iter().map(crate::problems::Problem::from).collect();
-        JsError::new(&crate::problems::joined(&problems))
-    })?;
+    let outline =
+        crate::outline::route_outline(&scenario).map_err(|errors| problems_error(&errors))?;
     to_js(&outline)
 }
 

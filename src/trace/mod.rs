@@ -9,8 +9,9 @@
 //! delivered; rays reaching the entry face from inside may leave it (returned). Polarisation is
 //! not carried: every Fresnel decision uses the unpolarised reflectance.
 //!
-//! Work is split into fixed batches of [`BATCH_RAYS`] rays whose generator seeds derive from
-//! (seed, batch index); batches merge in index order, so a result does not depend on how many
+//! Work is split into fixed batches of [`BATCH_RAYS`] rays; each ray draws from its own
+//! generator seeded from (seed, batch index, ray index), so that two scenarios traced with the
+//! same seed share their random numbers ray by ray (common random numbers); batches merge in index order, so a result does not depend on how many
 //! threads or workers ran it. Transcendental functions come from `libm`, so native and wasm
 //! give bit-identical results.
 //!
@@ -126,13 +127,23 @@ pub(super) struct ContactZone {
     sin2_critical: f64,
 }
 
-/// Mix a seed and a batch index into a generator seed (SplitMix64 finaliser).
-fn batch_seed(seed: u64, batch: u64) -> u64 {
-    let mut z = seed ^ batch.wrapping_mul(0x9E37_79B9_7F4A_7C15);
+/// Mix a seed and an index into a new seed (one SplitMix64 step: add the golden-ratio increment
+/// times the index, then the SplitMix64 finaliser), so that neighbouring indices give unrelated
+/// seeds.
+fn mix_seed(seed: u64, index: u64) -> u64 {
+    let mut z = seed ^ index.wrapping_mul(0x9E37_79B9_7F4A_7C15);
     z = z.wrapping_add(0x9E37_79B9_7F4A_7C15);
     z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
     z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
     z ^ (z >> 31)
+}
+
+/// The generator seed of ray `ray` (0-based within its batch) of batch `batch`: the seed mixed
+/// with the batch index, then with the ray index. Every ray has its own stream, so a ray draws
+/// the same numbers whatever the rays before it drew — two scenarios traced with the same seed
+/// use the same random numbers ray by ray (common random numbers).
+pub(crate) fn ray_seed(seed: u64, batch: u64, ray: u64) -> u64 {
+    mix_seed(mix_seed(seed, batch), ray)
 }
 
 impl Prepared {
@@ -201,7 +212,7 @@ impl Prepared {
         let rays = self.scenario.trace.rays;
         let first = index * BATCH_RAYS;
         let count = rays.saturating_sub(first).min(BATCH_RAYS);
-        let mut rng = Pcg64Mcg::seed_from_u64(batch_seed(self.scenario.trace.seed, index));
+        let seed = self.scenario.trace.seed;
         let mut out = Batch::empty(self);
         // Each tally's per-ray contributions, summed shifted by the first ray's (see stats).
         let mut tallies = ShiftedSums::new(self.ledger.len());
@@ -209,6 +220,7 @@ impl Prepared {
         let mut contrib = vec![0.0; self.ledger.len()];
         for i in 0..count {
             contrib.iter_mut().for_each(|c| *c = 0.0);
+            let mut rng = Pcg64Mcg::seed_from_u64(ray_seed(seed, index, i));
             let record = index == 0 && (i as usize) < keep_paths;
             let mut path = if record {
                 Some(Vec::with_capacity(16))

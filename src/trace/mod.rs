@@ -209,6 +209,25 @@ impl Prepared {
     /// Trace batch `index` (0-based). Paths are recorded for the first `keep_paths` rays of
     /// batch 0.
     pub fn trace_batch(&self, index: u64, keep_paths: usize) -> Batch {
+        self.trace_batch_inner(index, keep_paths, None)
+    }
+
+    /// [`Prepared::trace_batch`] (no paths kept), also writing each ray's delivered weight, in
+    /// ray order, into `delivered` (cleared first). Two scenarios traced with the same seed draw
+    /// the same random numbers ray by ray, so the differences of these per-ray weights estimate
+    /// the change of the delivered share with far less noise than two independent runs
+    /// ([`crate::stats::Estimate::of_differences`]).
+    pub fn trace_batch_per_ray(&self, index: u64, delivered: &mut Vec<f64>) -> Batch {
+        delivered.clear();
+        self.trace_batch_inner(index, 0, Some(delivered))
+    }
+
+    fn trace_batch_inner(
+        &self,
+        index: u64,
+        keep_paths: usize,
+        mut delivered: Option<&mut Vec<f64>>,
+    ) -> Batch {
         let rays = self.scenario.trace.rays;
         let first = index * BATCH_RAYS;
         let count = rays.saturating_sub(first).min(BATCH_RAYS);
@@ -231,6 +250,9 @@ impl Prepared {
                 self.trace_ray(&mut rng, &mut contrib, &mut out, path.as_mut());
             self.ledger.fill_totals(&mut contrib);
             tallies.add(&contrib);
+            if let Some(d) = delivered.as_deref_mut() {
+                d.push(contrib[self.ledger.delivered()]);
+            }
             receiver.add(&[on_receiver]);
             if let Some(points) = path {
                 out.paths.push(Path { fate, points });

@@ -17,7 +17,7 @@ fn csv_num(x: f64) -> f64 {
 /// A CSV field: quoted, inner quotes doubled; a name a spreadsheet would take for a formula
 /// (starting with `=`, `+`, `-`, `@`, tab or carriage return) gets a leading `'` so it stays
 /// text (names come from files and share links).
-fn csv_text(s: &str) -> String {
+pub(crate) fn csv_text(s: &str) -> String {
     let guard = if s.starts_with(['=', '+', '-', '@', '\t', '\r']) {
         "'"
     } else {

@@ -25,6 +25,7 @@ pub mod quick;
 pub mod scenario;
 pub mod source;
 pub mod stats;
+pub mod study;
 pub mod trace;
 
 #[cfg(target_arch = "wasm32")]

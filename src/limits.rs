@@ -336,6 +336,26 @@ pub const THREADS: Count = Count::new(0, 1024);
 /// so at most one batch's rays ([`crate::trace::BATCH_RAYS`]).
 pub const PATHS: Count = Count::new(0, 4096);
 
+// --- Studies --------------------------------------------------------------------------------
+
+/// Points of a sweep (`vary.values`, or `vary.steps` + 1). At least two: a sweep compares
+/// points. Time and memory: every point is traced with all the scenario's rays, and the points'
+/// batches are held together while they are merged; two hundred points draw any curve a
+/// designer reads.
+pub const SWEEP_POINTS: Count = Count::new(2, 200);
+
+/// Equal steps of a sweep from `vary.from` to `vary.to` (one fewer than its points,
+/// [`SWEEP_POINTS`]).
+pub const SWEEP_STEPS: Count = Count::new(SWEEP_POINTS.min - 1, SWEEP_POINTS.max - 1);
+
+/// Rays of a whole sweep, the rays of one point times the points. Time: no more than the
+/// longest single trace ([`RAYS`]).
+pub const SWEEP_RAYS: Count = Count::new(1, RAYS.max);
+
+/// Characters of a field path (`vary.field`). Sanity: the deepest path of a scenario is some
+/// fifty characters.
+pub const FIELD_PATH_CHARS: Count = Count::new(1, 200);
+
 #[cfg(test)]
 mod tests {
     use super::*;

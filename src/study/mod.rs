@@ -1,0 +1,239 @@
+//! Design studies: a scenario traced at several values of one of its numbers.
+//!
+//! The study document (version 1):
+//!
+//! ```json
+//! { "version": 1, "name": "Tighter first bend",
+//!   "scenario": { …a scenario document… },
+//!   "vary": { "field": "route[1].bend.radius_mm", "values": [6, 7, 8, 9] } }
+//! ```
+//!
+//! or `"vary": { "field": …, "from": 6, "to": 9, "steps": 6 }` (six equal steps, seven points).
+//! The field is a path in the syntax of the core's messages ([`path`]) naming a number of the
+//! scenario as read (defaults filled in). Every point is the scenario with that number set, read
+//! and checked by the scenario's own code: a point with problems is reported with them and
+//! skipped; the others are traced ([`sweep`]).
+//!
+//! All points are traced with the same rays and seed: ray k of batch b draws the same random
+//! numbers at every point (common random numbers, [`crate::trace::Prepared::trace_batch_per_ray`]),
+//! so neighbouring points differ by the design change rather than by noise, and each point's
+//! difference to the first traced point is estimated from the per-ray differences.
+
+pub mod path;
+pub mod sweep;
+
+use serde::Deserialize;
+use serde_json::Value;
+
+use crate::limits::{FieldErrors, FIELD_PATH_CHARS, SWEEP_POINTS, SWEEP_STEPS};
+use crate::problems::{read_scenario, Problem};
+use crate::scenario::Scenario;
+pub use path::FieldPath;
+pub use sweep::{PointReport, PointResult, Sweep, SweepBatch, SweepReport};
+
+/// The study document's version this build reads.
+pub const STUDY_VERSION: u32 = 1;
+
+/// The study document as written.
+#[derive(Debug, Clone, Deserialize)]
+#[serde(deny_unknown_fields)]
+struct StudyDocument {
+    version: u32,
+    #[serde(default)]
+    name: Option<String>,
+    scenario: Value,
+    vary: VaryDocument,
+}
+
+/// `vary` as written: a field and either `values` or `from`, `to`, `steps`.
+#[derive(Debug, Clone, Deserialize)]
+#[serde(deny_unknown_fields)]
+struct VaryDocument {
+    field: String,
+    #[serde(default)]
+    values: Option<Vec<f64>>,
+    #[serde(default)]
+    from: Option<f64>,
+    #[serde(default)]
+    to: Option<f64>,
+    #[serde(default)]
+    steps: Option<f64>,
+}
+
+/// A read and checked study: the scenario as read and the values of the varied field.
+#[derive(Debug, Clone)]
+pub struct Study {
+    /// A label for people.
+    pub name: Option<String>,
+    /// The scenario (its `trace` settings hold for every point; the command line may set
+    /// `trace.rays` and `trace.seed` here before [`Study::prepare`]).
+    pub scenario: Scenario,
+    /// The varied field.
+    pub field: FieldPath,
+    /// The values, in the document's order.
+    pub values: Vec<f64>,
+}
+
+/// A problem of the study document: its field path is in the study document
+/// (`vary.steps`, `scenario.route[1].bend.radius_mm`).
+fn problem(field: impl Into<String>, message: impl AsRef<str>) -> Problem {
+    let field = field.into();
+    Problem {
+        message: format!("{field} {}", message.as_ref()),
+        field,
+    }
+}
+
+/// A scenario's problem moved under the study's `scenario` field (the message keeps the
+/// scenario's own wording, which names the field inside the scenario).
+pub(crate) fn in_scenario(p: Problem) -> Problem {
+    Problem {
+        field: if p.field == "scenario" {
+            p.field
+        } else {
+            format!("scenario.{}", p.field)
+        },
+        message: p.message,
+    }
+}
+
+impl Study {
+    /// Read a study document; on failure every problem found, each naming its field path in the
+    /// study document and the allowed range.
+    pub fn from_json(text: &str) -> Result<Study, Vec<Problem>> {
+        let de = &mut serde_json::Deserializer::from_str(text);
+        let doc: StudyDocument = serde_path_to_error::deserialize(de).map_err(|e| {
+            let path = e.path().to_string();
+            let inner = e.into_inner();
+            if path.is_empty() || path == "." || path == "?" {
+                vec![problem("study", format!("could not be read: {inner}"))]
+            } else {
+                vec![problem(path, format!("could not be read: {inner}"))]
+            }
+        })?;
+        let mut errors = FieldErrors::default();
+        errors.version(doc.version, STUDY_VERSION);
+        let mut problems: Vec<Problem> = errors.0.iter().map(Problem::from).collect();
+        let scenario = match read_scenario(&doc.scenario.to_string()) {
+            Ok(s) => Some(s),
+            Err(p) => {
+                problems.push(in_scenario(p));
+                None
+            }
+        };
+        let field = vary_field(&doc.vary.field, scenario.as_ref())
+            .map_err(|m| problems.push(problem("vary.field", m)))
+            .ok();
+        let values = vary_values(&doc.vary).map_err(|mut p| problems.append(&mut p));
+        match (scenario, field, values) {
+            (Some(scenario), Some(field), Ok(values)) if problems.is_empty() => Ok(Study {
+                name: doc.name,
+                scenario,
+                field,
+                values,
+            }),
+            _ => Err(problems),
+        }
+    }
+}
+
+/// Read `vary.field` and check that it names a number of the scenario (when it could be read)
+/// that may change from point to point.
+fn vary_field(text: &str, scenario: Option<&Scenario>) -> Result<FieldPath, String> {
+    let chars = text.chars().count() as u64;
+    if !FIELD_PATH_CHARS.contains(chars) {
+        return Err(format!(
+            "must have {} characters, got {chars}",
+            FIELD_PATH_CHARS.rule().trim_start_matches("must be ")
+        ));
+    }
+    let field = FieldPath::parse(text)?;
+    match field.top() {
+        "trace" => {
+            return Err(
+                "cannot be a trace setting: every point is traced with the same rays \
+                        and seed (set them in scenario.trace, or with --rays and --seed)"
+                    .to_string(),
+            )
+        }
+        "version" => return Err("cannot be the scenario's version".to_string()),
+        _ => {}
+    }
+    if let Some(s) = scenario {
+        let doc = serde_json::to_value(s).map_err(|e| e.to_string())?;
+        field.number_in(&doc)?;
+    }
+    Ok(field)
+}
+
+/// The values of `vary`: the list, or `steps` + 1 equally spaced from `from` to `to`.
+fn vary_values(v: &VaryDocument) -> Result<Vec<f64>, Vec<Problem>> {
+    let range_given = [v.from.is_some(), v.to.is_some(), v.steps.is_some()];
+    match (&v.values, range_given) {
+        (Some(values), [false, false, false]) => {
+            let n = values.len() as u64;
+            if SWEEP_POINTS.contains(n) {
+                Ok(values.clone())
+            } else {
+                Err(vec![problem(
+                    "vary.values",
+                    format!("must list {} values, got {n}", count_rule()),
+                )])
+            }
+        }
+        (Some(_), _) => Err(vec![problem(
+            "vary",
+            "must give either values or from, to and steps, not both",
+        )]),
+        (None, [true, true, true]) => {
+            let (from, to, steps) = (v.from.unwrap_or(0.0), v.to.unwrap_or(0.0), v.steps);
+            let steps = steps.unwrap_or(0.0);
+            let whole = steps.fract() == 0.0 && steps >= 0.0 && steps <= SWEEP_STEPS.max as f64;
+            if !whole || !SWEEP_STEPS.contains(steps as u64) {
+                return Err(vec![problem(
+                    "vary.steps",
+                    format!(
+                        "must be a whole number ≥ {} and ≤ {} (equal steps from vary.from to \
+                         vary.to; the points are one more), got {steps}",
+                        SWEEP_STEPS.min, SWEEP_STEPS.max
+                    ),
+                )]);
+            }
+            let n = steps as u64;
+            // from·(1 − t) + to·t stays finite for any finite ends (to − from could overflow).
+            Ok((0..=n)
+                .map(|k| {
+                    let t = k as f64 / n as f64;
+                    if k == n {
+                        to
+                    } else {
+                        from * (1.0 - t) + to * t
+                    }
+                })
+                .collect())
+        }
+        (None, given) => {
+            let names = ["vary.from", "vary.to", "vary.steps"];
+            let missing: Vec<Problem> = names
+                .iter()
+                .zip(given)
+                .filter(|(_, g)| !g)
+                .map(|(name, _)| {
+                    problem(
+                        *name,
+                        "is missing: give vary.values, or vary.from, vary.to and vary.steps",
+                    )
+                })
+                .collect();
+            Err(missing)
+        }
+    }
+}
+
+/// `≥ 2 and ≤ 200`.
+fn count_rule() -> String {
+    SWEEP_POINTS
+        .rule()
+        .trim_start_matches("must be ")
+        .to_string()
+}

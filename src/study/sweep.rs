@@ -1,0 +1,441 @@
+//! Tracing a sweep: every point of a [`Study`] batch by batch with common random numbers, the
+//! batches merged in batch order (results do not depend on thread count), and the report.
+//!
+//! Per batch, the first traced point's rays are traced keeping each ray's delivered weight
+//! x₀,k; every other point's the same way (x_i,k), and the per-ray differences d_k = x_i,k − x₀,k
+//! feed [`Estimate::of_differences`]. Because ray k draws the same random numbers at every point,
+//! the rays the design change does not touch have d_k = 0 exactly, and the difference's
+//! interval is that of the change alone.
+
+use serde::Serialize;
+
+#[cfg(not(target_arch = "wasm32"))]
+use crate::error::RunError;
+use crate::export::csv_text;
+use crate::limits::SWEEP_RAYS;
+use crate::problems::{read_scenario, Problem};
+use crate::stats::{Estimate, Share};
+use crate::trace::{Batch, Budget, Prepared};
+
+use super::{in_scenario, Study};
+
+/// One point of a sweep: its value and either its prepared scenario or its problems.
+#[derive(Debug, Clone)]
+enum Point {
+    Ready(Box<Prepared>),
+    Refused(Vec<Problem>),
+}
+
+/// A study ready to trace: every point read and checked.
+#[derive(Debug, Clone)]
+pub struct Sweep {
+    name: Option<String>,
+    field: String,
+    values: Vec<f64>,
+    points: Vec<Point>,
+    /// The first point that can be traced (the reference of the differences).
+    reference: Option<usize>,
+    rays: u64,
+    seed: u64,
+}
+
+/// The merged result of some batches of every point, in point order (`None` for a refused
+/// point).
+#[derive(Debug, Clone)]
+pub struct SweepBatch {
+    /// Each point's merged batches.
+    pub batches: Vec<Option<Batch>>,
+    /// Each point's delivered share minus the reference point's, from per-ray differences.
+    pub differences: Vec<Option<Estimate>>,
+}
+
+impl SweepBatch {
+    /// Merge the next batch (in batch order) into this one.
+    pub fn merge(&mut self, other: &SweepBatch) {
+        for (a, b) in self.batches.iter_mut().zip(&other.batches) {
+            if let (Some(a), Some(b)) = (a.as_mut(), b) {
+                a.merge(b);
+            }
+        }
+        for (a, b) in self.differences.iter_mut().zip(&other.differences) {
+            if let (Some(a), Some(b)) = (a.as_mut(), b) {
+                a.merge(b);
+            }
+        }
+    }
+}
+
+/// What a traced point reports.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct PointResult {
+    /// Delivered share with its 95 % half-width.
+    pub delivered: Share,
+    /// Delivered share minus the reference point's, with the 95 % half-width of the paired
+    /// (common random numbers) estimate; exactly 0 at the reference point.
+    pub difference: Share,
+    /// The energy budget.
+    pub budget: Budget,
+    /// Share leaked through each segment's walls, in route order.
+    pub segments_leaked: Vec<Share>,
+    /// Share landing on the receiver, when the scenario has one.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub receiver: Option<Share>,
+}
+
+/// One point of the report: the value, and its result or its problems.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct PointReport {
+    /// The varied field's value at this point.
+    pub value: f64,
+    /// Its result (absent when the point has problems).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub result: Option<PointResult>,
+    /// Its problems, each with its field path in the study document (absent when none).
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub problems: Vec<Problem>,
+}
+
+/// Everything a sweep reports.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct SweepReport {
+    /// The study's label.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub name: Option<String>,
+    /// The varied field (path in the scenario).
+    pub field: String,
+    /// Rays per point.
+    pub rays: u64,
+    /// Seed shared by every point.
+    pub seed: u64,
+    /// Index of the point the differences are taken to (the first traced point), if any.
+    pub reference: Option<usize>,
+    /// The points, in the document's order.
+    pub points: Vec<PointReport>,
+}
+
+impl Study {
+    /// Read and check every point. Fails (with problems of the study document) only for what
+    /// concerns every point: the trace settings and the sweep's total rays.
+    pub fn prepare(&self) -> Result<Sweep, Vec<Problem>> {
+        let trace_problems: Vec<Problem> = self
+            .scenario
+            .problems()
+            .iter()
+            .filter(|e| e.field.starts_with("trace."))
+            .map(|e| in_scenario(Problem::from(e)))
+            .collect();
+        if !trace_problems.is_empty() {
+            return Err(trace_problems);
+        }
+        let rays = self.scenario.trace.rays;
+        let total = rays.saturating_mul(self.values.len() as u64);
+        if !SWEEP_RAYS.contains(total) {
+            return Err(vec![Problem {
+                field: "scenario.trace.rays".to_string(),
+                message: format!(
+                    "scenario.trace.rays times the points (the sweep's rays) {}, got {rays} × {} \
+                     = {total}",
+                    SWEEP_RAYS.rule(),
+                    self.values.len()
+                ),
+            }]);
+        }
+        let base = serde_json::to_value(&self.scenario).map_err(|e| {
+            vec![Problem {
+                field: "scenario".to_string(),
+                message: e.to_string(),
+            }]
+        })?;
+        let points: Vec<Point> = self
+            .values
+            .iter()
+            .map(|&x| {
+                let mut doc = base.clone();
+                if let Err(m) = self.field.set_number(&mut doc, x) {
+                    return Point::Refused(vec![Problem {
+                        message: format!("vary.field {m}"),
+                        field: "vary.field".to_string(),
+                    }]);
+                }
+                let scenario = match read_scenario(&doc.to_string()) {
+                    Ok(s) => s,
+                    Err(p) => return Point::Refused(vec![in_scenario(p)]),
+                };
+                match scenario.check() {
+                    Ok(_) => match Prepared::new(&scenario) {
+                        Ok(p) => Point::Ready(Box::new(p)),
+                        Err(e) => Point::Refused(vec![Problem {
+                            field: "scenario".to_string(),
+                            message: e.to_string(),
+                        }]),
+                    },
+                    Err(errors) => Point::Refused(
+                        errors
+                            .iter()
+                            .map(|e| in_scenario(Problem::from(e)))
+                            .collect(),
+                    ),
+                }
+            })
+            .collect();
+        let reference = points.iter().position(|p| matches!(p, Point::Ready(_)));
+        Ok(Sweep {
+            name: self.name.clone(),
+            field: self.field.text.clone(),
+            values: self.values.clone(),
+            points,
+            reference,
+            rays,
+            seed: self.scenario.trace.seed,
+        })
+    }
+}
+
+impl Sweep {
+    /// Number of batches of every point.
+    pub fn batch_count(&self) -> u64 {
+        self.rays.div_ceil(crate::trace::BATCH_RAYS)
+    }
+
+    /// Points that can be traced.
+    pub fn traced_points(&self) -> usize {
+        self.points
+            .iter()
+            .filter(|p| matches!(p, Point::Ready(_)))
+            .count()
+    }
+
+    /// Trace batch `index` of every point with common random numbers.
+    pub fn trace_batch(&self, index: u64) -> SweepBatch {
+        let mut x0 = Vec::new();
+        let mut x = Vec::new();
+        let reference = self.reference.and_then(|r| match &self.points[r] {
+            Point::Ready(p) => Some(p.trace_batch_per_ray(index, &mut x0)),
+            Point::Refused(_) => None,
+        });
+        let mut out = SweepBatch {
+            batches: Vec::with_capacity(self.points.len()),
+            differences: Vec::with_capacity(self.points.len()),
+        };
+        let mut reference = reference;
+        for (i, point) in self.points.iter().enumerate() {
+            match point {
+                Point::Refused(_) => {
+                    out.batches.push(None);
+                    out.differences.push(None);
+                }
+                Point::Ready(_) if Some(i) == self.reference => {
+                    out.batches.push(reference.take());
+                    out.differences
+                        .push(Some(Estimate::of_differences(&x0, &x0)));
+                }
+                Point::Ready(p) => {
+                    out.batches.push(Some(p.trace_batch_per_ray(index, &mut x)));
+                    out.differences
+                        .push(Some(Estimate::of_differences(&x, &x0)));
+                }
+            }
+        }
+        out
+    }
+
+    /// Trace every batch on the calling thread, merged in batch order.
+    pub fn trace_all_serial(&self) -> SweepBatch {
+        let mut total = self.trace_batch(0);
+        for b in 1..self.batch_count() {
+            total.merge(&self.trace_batch(b));
+        }
+        total
+    }
+
+    /// Trace every batch on `threads` threads (0: all cores), merged in batch order: identical
+    /// to [`Sweep::trace_all_serial`]. `progress` gets the batches done after each chunk.
+    /// Fails with [`RunError::ThreadPool`] when the threads cannot be started.
+    #[cfg(not(target_arch = "wasm32"))]
+    pub fn trace_all_parallel(
+        &self,
+        threads: usize,
+        mut progress: impl FnMut(u64),
+    ) -> Result<SweepBatch, RunError> {
+        use rayon::prelude::*;
+        let pool = rayon::ThreadPoolBuilder::new()
+            .num_threads(threads)
+            .build()
+            .map_err(|e| RunError::ThreadPool(e.to_string()))?;
+        // Batches of every point are held together until merged: at most about 800 point
+        // batches (some 50 MB) in flight, however many threads.
+        let per_chunk = (800 / self.points.len().max(1)).max(1) as u64;
+        let chunk = (pool.current_num_threads() as u64).clamp(1, per_chunk);
+        let mut total: Option<SweepBatch> = None;
+        let mut first = 0;
+        while first < self.batch_count() {
+            let end = (first + chunk).min(self.batch_count());
+            let batches: Vec<SweepBatch> = pool.install(|| {
+                (first..end)
+                    .into_par_iter()
+                    .map(|b| self.trace_batch(b))
+                    .collect()
+            });
+            for b in batches {
+                match &mut total {
+                    None => total = Some(b),
+                    Some(t) => t.merge(&b),
+                }
+            }
+            progress(end);
+            first = end;
+        }
+        // A study has at least one ray, so at least one batch.
+        Ok(total.unwrap_or_else(|| self.trace_batch(0)))
+    }
+
+    /// The report of merged batches.
+    pub fn report(&self, merged: &SweepBatch) -> SweepReport {
+        let points = self
+            .points
+            .iter()
+            .enumerate()
+            .map(|(i, point)| {
+                let value = self.values[i];
+                match (point, &merged.batches[i], &merged.differences[i]) {
+                    (Point::Ready(p), Some(batch), Some(d)) => {
+                        let r = p.report(batch);
+                        PointReport {
+                            value,
+                            result: Some(PointResult {
+                                delivered: r.delivered,
+                                difference: d.share(),
+                                budget: r.budget,
+                                segments_leaked: r.segments.iter().map(|s| s.leaked).collect(),
+                                receiver: r.receiver,
+                            }),
+                            problems: Vec::new(),
+                        }
+                    }
+                    (Point::Refused(problems), _, _) => PointReport {
+                        value,
+                        result: None,
+                        problems: problems.clone(),
+                    },
+                    // A batch from another sweep: nothing to report for this point.
+                    _ => PointReport {
+                        value,
+                        result: None,
+                        problems: Vec::new(),
+                    },
+                }
+            })
+            .collect();
+        SweepReport {
+            name: self.name.clone(),
+            field: self.field.clone(),
+            rays: self.rays,
+            seed: self.seed,
+            reference: self.reference,
+            points,
+        }
+    }
+}
+
+/// The sweep report as CSV, one row per point: the value (in the field's own unit, named by the
+/// field), delivered and its ci95, the difference to the reference point and its ci95, every
+/// budget mechanism with its ci95, each segment's leaked share with its ci95, the receiver's
+/// share and ci95 (empty when there is none), and the problems of a refused point (its other
+/// cells empty). Shares are fractions of the emitted power (0…1).
+pub fn report_csv(report: &SweepReport) -> String {
+    let segments = report
+        .points
+        .iter()
+        .filter_map(|p| p.result.as_ref())
+        .map(|r| r.segments_leaked.len())
+        .max()
+        .unwrap_or(0);
+    let mut header = vec![report.field.clone()];
+    let mut with_ci = |name: String| {
+        header.push(format!("{name} (share)"));
+        header.push(format!("{name} ci95 (share)"));
+    };
+    for name in [
+        "delivered",
+        "difference",
+        "missed_entry",
+        "reflected_entry",
+        "leaked",
+        "contact",
+        "absorbed",
+        "returned",
+        "stopped",
+    ] {
+        with_ci(name.to_string());
+    }
+    for s in 0..segments {
+        with_ci(format!("segment {s} leaked"));
+    }
+    with_ci("receiver".to_string());
+    header.push("problems".to_string());
+    let mut out = header
+        .iter()
+        .map(|h| csv_text(h))
+        .collect::<Vec<_>>()
+        .join(",");
+    out.push('\n');
+    for p in &report.points {
+        let mut cells = vec![num(p.value)];
+        let mut push = |s: Option<&Share>| match s {
+            Some(s) => {
+                cells.push(num(s.share));
+                cells.push(num(s.ci95));
+            }
+            None => {
+                cells.push(String::new());
+                cells.push(String::new());
+            }
+        };
+        match &p.result {
+            Some(r) => {
+                let b = &r.budget;
+                for s in [
+                    &r.delivered,
+                    &r.difference,
+                    &b.missed_entry,
+                    &b.reflected_entry,
+                    &b.leaked,
+                    &b.contact,
+                    &b.absorbed,
+                    &b.returned,
+                    &b.stopped,
+                ] {
+                    push(Some(s));
+                }
+                for s in 0..segments {
+                    push(r.segments_leaked.get(s));
+                }
+                push(r.receiver.as_ref());
+            }
+            None => {
+                for _ in 0..(9 + segments + 1) {
+                    push(None);
+                }
+            }
+        }
+        let problems: Vec<&str> = p.problems.iter().map(|q| q.message.as_str()).collect();
+        cells.push(if problems.is_empty() {
+            String::new()
+        } else {
+            csv_text(&problems.join("; "))
+        });
+        out.push_str(&cells.join(","));
+        out.push('\n');
+    }
+    out
+}
+
+/// A number for the CSV: shortest form that reads back exactly (−0 as 0, an infinite
+/// half-width as empty).
+fn num(x: f64) -> String {
+    if x.is_finite() {
+        (x + 0.0).to_string()
+    } else {
+        String::new()
+    }
+}

@@ -570,3 +570,64 @@ fn a_reader_that_stops_early_is_not_an_error() {
     assert!(!stderr.contains("panicked"), "{stderr}");
     assert!(out.status.success(), "{:?}: {stderr}", out.status);
 }
+
+/// A sweep study of the thermostat's first bend radius, given on standard input.
+fn radius_study(values: &str) -> String {
+    let scenario = std::fs::read_to_string(THERMOSTAT).unwrap();
+    format!(
+        r#"{{ "version": 1, "scenario": {scenario},
+             "vary": {{ "field": "route[1].bend.radius_mm", "values": {values} }} }}"#
+    )
+}
+
+#[test]
+fn sweep_prints_one_point_per_value_as_json_and_csv() {
+    let study = radius_study("[1, 7.5, 9]");
+    let json: Value = serde_json::from_str(&ok_stdout(
+        &[
+            "sweep",
+            "-",
+            "--rays",
+            "5000",
+            "--seed",
+            "3",
+            "--threads",
+            "2",
+        ],
+        &study,
+    ))
+    .unwrap();
+    assert_eq!(json["rays"], 5000);
+    assert_eq!(json["seed"], 3);
+    let points = json["points"].as_array().unwrap();
+    assert_eq!(points.len(), 3);
+    assert_eq!(
+        points[0]["problems"][0]["field"],
+        "scenario.route[1].bend.radius_mm"
+    );
+    assert_eq!(points[1]["result"]["difference"]["share"], 0.0);
+    assert!(f(&points[2]["result"]["delivered"]["share"]) > 0.0);
+    let csv = ok_stdout(&["sweep", "-", "--rays", "5000", "--csv"], &study);
+    let lines: Vec<&str> = csv.lines().collect();
+    assert_eq!(lines.len(), 4, "{csv}");
+    assert!(lines[0].starts_with("\"route[1].bend.radius_mm\",\"delivered (share)\""));
+    assert!(lines[1].starts_with("1,,") && lines[1].contains("must be > 1.5 mm"));
+    assert!(lines[2].starts_with("7.5,0."), "{}", lines[2]);
+    let cells = |l: &str| l.split(',').count();
+    assert_eq!(cells(lines[0]), cells(lines[2]));
+    // Threads do not change a byte.
+    let one = ok_stdout(&["sweep", "-", "--rays", "5000", "--threads", "1"], &study);
+    let two = ok_stdout(&["sweep", "-", "--rays", "5000", "--threads", "2"], &study);
+    assert_eq!(one, two);
+}
+
+#[test]
+fn sweep_errors_name_the_field() {
+    let e = one_line_error(&["sweep", "-", "--rays", "0"], &radius_study("[7, 9]"));
+    assert!(e.contains("--rays must be ≥ 1"), "{e}");
+    let e = one_line_error(&["sweep", "-"], &radius_study("[7]"));
+    assert!(
+        e.contains("vary.values must list ≥ 2 and ≤ 200 values, got 1"),
+        "{e}"
+    );
+}

@@ -7,8 +7,10 @@ use std::process::ExitCode;
 use clap::error::ErrorKind;
 use clap::{Args, Parser, Subcommand};
 use tirtrace::limits::{PATHS, RAYS, THREADS};
+use tirtrace::problems::Problem;
 use tirtrace::quick::QuickDesign;
 use tirtrace::scenario::Scenario;
+use tirtrace::study::Study;
 use tirtrace::trace::{Batch, Prepared, TraceReport, BATCH_RAYS};
 use tirtrace::FieldError;
 
@@ -47,6 +49,38 @@ enum Command {
     /// Trace a scenario and print the report (energy budget, per-segment losses, maps) as JSON,
     /// or the budget and loss tables as CSV.
     Trace(TraceArgs),
+    /// Trace a study: a scenario at several values of one of its numbers, with the same rays at
+    /// every point (common random numbers). Prints per point the delivered share, its difference
+    /// to the first traced point, the budget and each segment's leakage, as JSON or CSV.
+    Sweep(SweepArgs),
+}
+
+#[derive(Args)]
+struct SweepArgs {
+    /// The study document (JSON); `-` reads standard input.
+    file: String,
+    // Number of rays per point; the help names the range of limits::RAYS.
+    #[arg(
+        long,
+        value_name = "N",
+        allow_negative_numbers = true,
+        help = format!("Number of rays per point (overrides the scenario's trace.rays; {} to {})", RAYS.min, RAYS.max)
+    )]
+    rays: Option<i64>,
+    /// Seed of the random sequence shared by every point (overrides the scenario's trace.seed).
+    #[arg(long, value_name = "N", allow_negative_numbers = true)]
+    seed: Option<u64>,
+    /// Worker threads, 0 for all cores. Results are identical for any thread count.
+    #[arg(
+        long,
+        value_name = "N",
+        default_value_t = 0,
+        allow_negative_numbers = true
+    )]
+    threads: usize,
+    /// Print CSV instead: one row per point, units in the header.
+    #[arg(long)]
+    csv: bool,
 }
 
 #[derive(Args)]
@@ -206,6 +240,73 @@ fn trace(args: TraceArgs) -> Result<String, String> {
     }
 }
 
+/// The first problem of a study, with a count of the others.
+fn first_study_problem(problems: &[Problem]) -> String {
+    match problems {
+        [] => "invalid study".to_string(),
+        [first] => first.message.clone(),
+        [first, rest @ ..] => format!("{} (and {} more problem(s))", first.message, rest.len()),
+    }
+}
+
+fn sweep(args: SweepArgs) -> Result<String, String> {
+    let text = read_text(&args.file)?;
+    let mut study = Study::from_json(&text).map_err(|p| first_study_problem(&p))?;
+    if let Some(rays) = args.rays {
+        // Parsed signed so that a negative count gets the range message, not a parse error.
+        if !(RAYS.min as i64..=RAYS.max as i64).contains(&rays) {
+            return Err(format!("--rays {}, got {rays}", RAYS.rule()));
+        }
+        study.scenario.trace.rays = rays as u64;
+    }
+    if let Some(seed) = args.seed {
+        study.scenario.trace.seed = seed;
+    }
+    if !THREADS.contains(args.threads as u64) {
+        return Err(format!(
+            "--threads {} (0 = all cores), got {}",
+            THREADS.rule(),
+            args.threads
+        ));
+    }
+    let sweep = study.prepare().map_err(|problems| {
+        let problems: Vec<Problem> = problems
+            .into_iter()
+            .map(|mut p| {
+                if p.field == "scenario.trace.seed" && args.seed.is_some() {
+                    p.message = p.message.replacen("trace.seed", "--seed", 1);
+                }
+                p
+            })
+            .collect();
+        first_study_problem(&problems)
+    })?;
+    let batches = sweep.batch_count();
+    let show = std::io::stderr().is_terminal();
+    let merged = sweep
+        .trace_all_parallel(args.threads, |done| {
+            if show {
+                let mut e = std::io::stderr().lock();
+                let _ = write!(
+                    e,
+                    "\rtirtrace: traced {done} of {batches} batches of every point"
+                );
+                if done >= batches {
+                    let _ = writeln!(e);
+                }
+                let _ = e.flush();
+            }
+        })
+        .map_err(|e| format!("--threads: could not start {} threads: {e}", args.threads))?;
+    let report = sweep.report(&merged);
+    if args.csv {
+        let csv = tirtrace::study::sweep::report_csv(&report);
+        Ok(csv.strip_suffix('\n').unwrap_or(&csv).to_string())
+    } else {
+        serde_json::to_string_pretty(&report).map_err(|e| e.to_string())
+    }
+}
+
 fn run(cli: Cli) -> Result<String, String> {
     match cli.command {
         Command::Figures { file } => {
@@ -222,6 +323,7 @@ fn run(cli: Cli) -> Result<String, String> {
             .map_err(|e| e.to_string()),
         Command::Check { file } => check(&file),
         Command::Trace(args) => trace(args),
+        Command::Sweep(args) => sweep(args),
     }
 }
 

@@ -631,3 +631,24 @@ fn sweep_errors_name_the_field() {
         "{e}"
     );
 }
+
+#[test]
+fn the_example_study_sweeps_its_range() {
+    let csv = ok_stdout(
+        &[
+            "sweep",
+            "examples/studies/thermostat_first_bend.json",
+            "--rays",
+            "3000",
+            "--csv",
+        ],
+        "",
+    );
+    let values: Vec<&str> = csv
+        .lines()
+        .skip(1)
+        .map(|l| l.split(',').next().unwrap())
+        .collect();
+    // from 4.5 to 12 in 5 equal steps, both ends included.
+    assert_eq!(values, ["4.5", "6", "7.5", "9", "10.5", "12"]);
+}

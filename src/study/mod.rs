@@ -200,12 +200,16 @@ fn vary_values(v: &VaryDocument) -> Result<Vec<f64>, Vec<Problem>> {
                 )]);
             }
             let n = steps as u64;
-            // from·(1 − t) + to·t stays finite for any finite ends (to − from could overflow).
+            // from + (to − from)·k/n (exact at round steps such as 4.5 + 7.5·4/5); where
+            // to − from overflows, from·(1 − t) + to·t, which stays finite for finite ends.
+            let span = to - from;
             Ok((0..=n)
                 .map(|k| {
                     let t = k as f64 / n as f64;
                     if k == n {
                         to
+                    } else if span.is_finite() {
+                        from + span * k as f64 / n as f64
                     } else {
                         from * (1.0 - t) + to * t
                     }

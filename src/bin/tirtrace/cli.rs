@@ -47,6 +47,21 @@ enum Command {
     /// Trace a scenario and print the report (energy budget, per-segment losses, maps) as JSON,
     /// or the budget and loss tables as CSV.
     Trace(TraceArgs),
+    /// Print the JSON Schema of a document, for an editor to check and complete it with
+    /// (`docs/SCHEMA.md`).
+    Schema {
+        /// The document.
+        #[arg(value_parser = schema_names())]
+        document: String,
+    },
+}
+
+// --- tirtrace schema ---
+fn schema_names() -> clap::builder::PossibleValuesParser {
+    tirtrace::schema::DOCUMENTS
+        .iter()
+        .map(|(name, _)| *name)
+        .into()
 }
 
 #[derive(Args)]
@@ -222,6 +237,9 @@ fn run(cli: Cli) -> Result<String, String> {
             .map_err(|e| e.to_string()),
         Command::Check { file } => check(&file),
         Command::Trace(args) => trace(args),
+        Command::Schema { document } => tirtrace::schema::schema_json(&document)
+            .map(|s| s.trim_end().to_string())
+            .ok_or_else(|| format!("no schema named {document}")),
     }
 }
 

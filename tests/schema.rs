@@ -267,3 +267,25 @@ fn documents_the_core_takes_pass_the_schema() {
         assert!(errors.is_empty(), "{what}: {errors:?}");
     }
 }
+
+#[test]
+fn the_command_line_prints_the_committed_schemas() {
+    let run = |name: &str| {
+        std::process::Command::new(env!("CARGO_BIN_EXE_tirtrace"))
+            .args(["schema", name])
+            .output()
+            .unwrap()
+    };
+    for (name, _) in DOCUMENTS {
+        let out = run(name);
+        assert!(out.status.success(), "tirtrace schema {name}");
+        let committed =
+            std::fs::read_to_string(root().join(format!("docs/schema/{name}.schema.json")));
+        assert_eq!(String::from_utf8(out.stdout).unwrap(), committed.unwrap());
+    }
+    let out = run("study-plan");
+    assert_eq!(out.status.code(), Some(2));
+    let err = String::from_utf8(out.stderr).unwrap();
+    assert!(err.contains("possible values: scenario, design"), "{err}");
+    assert_eq!(err.trim_end().lines().count(), 1, "{err}");
+}

@@ -149,3 +149,42 @@ pub(crate) fn disk_or_window(schema: &mut Schema) {
 pub(crate) fn within<T: Transform>(limit: T) -> T {
     limit
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::limits::{Count, Range};
+
+    fn applied(mut t: impl Transform) -> Schema {
+        let mut schema = json_schema!({ "type": "number" });
+        t.transform(&mut schema);
+        schema
+    }
+
+    #[test]
+    fn open_ends_become_exclusive_bounds_and_infinite_ends_vanish() {
+        let s = applied(Range::open_closed(0.0, 10.0));
+        assert_eq!(s.get("exclusiveMinimum"), Some(&0.0.into()));
+        assert_eq!(s.get("maximum"), Some(&10.0.into()));
+        assert!(s.get("minimum").is_none() && s.get("exclusiveMaximum").is_none());
+        let s = applied(Range::closed_open(-1.0, f64::INFINITY));
+        assert_eq!(s.get("minimum"), Some(&(-1.0).into()));
+        assert!(s.get("maximum").is_none() && s.get("exclusiveMaximum").is_none());
+        let s = applied(Count::new(1, 7));
+        assert_eq!(
+            (s.get("minimum"), s.get("maximum")),
+            (Some(&1.into()), Some(&7.into()))
+        );
+    }
+
+    #[test]
+    fn wrapped_doc_lines_are_joined_and_paragraphs_kept() {
+        let mut s = json_schema!({
+            "description": "one\ntwo\n\nthree",
+            "properties": { "x": { "description": "a\nb" } }
+        });
+        JoinLines.transform(&mut s);
+        assert_eq!(s.get("description"), Some(&"one two\n\nthree".into()));
+        assert_eq!(s.pointer("/properties/x/description"), Some(&"a b".into()));
+    }
+}

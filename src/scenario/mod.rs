@@ -272,7 +272,7 @@ fn air() -> MaterialChoice {
     MaterialChoice::library("air")
 }
 
-/// An emitter.
+/// What emits the light: an LED (`led`) or a beam (`beam`).
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
 #[serde(rename_all = "snake_case", deny_unknown_fields)]
 pub enum Emitter {
@@ -334,7 +334,7 @@ pub enum Pattern {
     },
 }
 
-/// Emitted flux.
+/// Emitted flux, for absolute figures: radiant (`mw`) or luminous (`lm`).
 #[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize, JsonSchema)]
 #[serde(rename_all = "snake_case", deny_unknown_fields)]
 pub enum Flux {
@@ -379,11 +379,11 @@ impl Receiver {
     }
 }
 
-/// Trace settings.
+/// Trace settings: how many rays, from which seed, and when to give up on a trapped ray.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize, JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct TraceSettings {
-    /// Number of rays.
+    /// Number of rays to trace; the statistical uncertainty of each share falls as 1/√rays.
     #[serde(default = "default_rays", deserialize_with = "whole_u64")]
     #[schemars(transform = crate::schema::within(limits::RAYS))]
     pub rays: u64,

@@ -23,6 +23,7 @@ pub mod outline;
 pub mod problems;
 pub mod quick;
 pub mod scenario;
+pub mod schema;
 pub mod source;
 pub mod stats;
 pub mod study;

@@ -4,6 +4,7 @@
 //! or square section, its surroundings, the medium in front of its entry face, a launch cone and
 //! one circular bend.
 
+use schemars::JsonSchema;
 use serde::{Deserialize, Serialize};
 
 use crate::error::{FieldError, TirError};
@@ -15,26 +16,32 @@ use crate::limits::{self, FieldErrors};
 pub const QUICK_VERSION: u32 = 1;
 
 /// The quick-look design document (JSON field names are part of the file format).
-#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct QuickDesign {
     /// Document version, currently 1.
+    #[schemars(transform = crate::schema::version(QUICK_VERSION))]
     pub version: u32,
     /// Guide material.
     pub material: MaterialChoice,
     /// Vacuum wavelength of the light, nm.
+    #[schemars(transform = crate::schema::within(limits::WAVELENGTH_NM))]
     pub wavelength_nm: f64,
     /// Medium around the guide (air, water, a cladding…).
     pub surroundings: MaterialChoice,
     /// Medium between the source and the entry face.
     pub launch_medium: MaterialChoice,
     /// Guide diameter (or thickness across the bend), mm.
+    #[schemars(transform = crate::schema::within(limits::SECTION_MM))]
     pub diameter_mm: f64,
     /// Half-angle of the launch cone in the launch medium, degrees.
+    #[schemars(transform = crate::schema::within(limits::CONE_HALF_ANGLE_DEG))]
     pub launch_half_angle_deg: f64,
     /// Inner radius of the bend, mm.
+    #[schemars(transform = crate::schema::within(limits::BEND_INNER_RADIUS_MM))]
     pub bend_inner_radius_mm: f64,
     /// Angle the bend turns through, degrees.
+    #[schemars(transform = crate::schema::within(limits::BEND_ANGLE_DEG))]
     pub bend_angle_deg: f64,
 }
 

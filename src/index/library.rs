@@ -2,6 +2,7 @@
 //! cover and the basis (relative to air or to vacuum) of its coefficients. Outside the range a
 //! lookup is an error naming the range: no silent extrapolation.
 
+use schemars::JsonSchema;
 use serde::{Deserialize, Serialize};
 
 use super::{n_standard_air, IndexModel};
@@ -181,11 +182,11 @@ impl Material {
 }
 
 /// A material as chosen in a document: a library entry or a custom index model.
-#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
 #[serde(rename_all = "snake_case", deny_unknown_fields)]
 pub enum MaterialChoice {
-    /// A built-in material by identifier.
-    Library(String),
+    /// A built-in material by identifier (`tirtrace materials` lists them with their sources).
+    Library(#[schemars(transform = crate::schema::library_ids)] String),
     /// A user-given model (taken as relative to air).
     Custom(IndexModel),
 }

@@ -3,6 +3,7 @@
 
 pub mod library;
 
+use schemars::JsonSchema;
 use serde::{Deserialize, Serialize};
 
 use crate::error::{show, FieldError};
@@ -19,27 +20,32 @@ pub fn n_standard_air(wavelength_um: f64) -> f64 {
 }
 
 /// A dispersion model: n as a function of wavelength.
-#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
 #[serde(tag = "model", rename_all = "snake_case", deny_unknown_fields)]
 pub enum IndexModel {
     /// A wavelength-independent index.
     Constant {
-        /// The refractive index.
+        /// The refractive index, relative to air.
+        #[schemars(transform = crate::schema::within(REFRACTIVE_INDEX))]
         n: f64,
     },
     /// Sellmeier: n² − 1 = Σ Bᵢ λ² / (λ² − Cᵢ), λ in µm, Cᵢ in µm².
     Sellmeier {
-        /// Dimensionless oscillator strengths Bᵢ.
+        /// Dimensionless oscillator strengths Bᵢ, 1 to 6 terms.
+        #[schemars(length(min = 1, max = 6))]
         b: Vec<f64>,
-        /// Resonance terms Cᵢ in µm².
+        /// Resonance terms Cᵢ in µm², as many as `b`.
+        #[schemars(length(min = 1, max = 6))]
         c_um2: Vec<f64>,
     },
     /// Sellmeier with resonance wavelengths: n² − 1 = Σ Bᵢ λ² / (λ² − λᵢ²), λ and λᵢ in µm (the
     /// form Malitson published; Cᵢ = λᵢ² gives the form above).
     SellmeierWavelengths {
-        /// Dimensionless oscillator strengths Bᵢ.
+        /// Dimensionless oscillator strengths Bᵢ, 1 to 6 terms.
+        #[schemars(length(min = 1, max = 6))]
         b: Vec<f64>,
-        /// Resonance wavelengths λᵢ in µm.
+        /// Resonance wavelengths λᵢ in µm, as many as `b`.
+        #[schemars(length(min = 1, max = 6))]
         lambda_um: Vec<f64>,
     },
     /// Polynomial form of G. Beadie et al., Appl. Opt. 54, F139 (2015):

@@ -10,10 +10,13 @@
 //! ranges of [`crate::limits`], and [`table`] holds the arithmetic of an LED's intensity table
 //! that both the check and the source sampler use.
 
+use schemars::JsonSchema;
 use serde::{Deserialize, Serialize};
 
 use crate::error::{FieldError, TirError};
 use crate::index::library::MaterialChoice;
+use crate::limits;
+use crate::schema::Items;
 
 pub mod table;
 mod validate;
@@ -24,10 +27,11 @@ pub use crate::limits::{MAX_SEGMENTS, MAX_WHOLE};
 pub const SCENARIO_VERSION: u32 = 1;
 
 /// A whole design: guide, route, source, receiver and trace settings.
-#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct Scenario {
     /// Document version, currently 1.
+    #[schemars(transform = crate::schema::version(SCENARIO_VERSION))]
     pub version: u32,
     /// A label for people; not used by the physics.
     #[serde(default)]
@@ -35,6 +39,7 @@ pub struct Scenario {
     /// The guide: section, material, surroundings, attenuation, contact zones.
     pub guide: Guide,
     /// The route: tangent-continuous segments from the entry face to the exit face.
+    #[schemars(length(min = 1, max = MAX_SEGMENTS))]
     pub route: Vec<Segment>,
     /// The light source in front of the entry face.
     pub source: Source,
@@ -47,7 +52,7 @@ pub struct Scenario {
 }
 
 /// The guide's material and cross-section.
-#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct Guide {
     /// Cross-section at the entry face.
@@ -58,6 +63,7 @@ pub struct Guide {
     pub surroundings: MaterialChoice,
     /// Bulk attenuation, dB/m (Beer–Lambert).
     #[serde(default)]
+    #[schemars(transform = crate::schema::within(limits::ATTENUATION_DB_PER_M))]
     pub attenuation_db_per_m: f64,
     /// Mounts, clips or glue spots touching the guide.
     #[serde(default, skip_serializing_if = "Vec::is_empty")]
@@ -69,19 +75,22 @@ pub struct Guide {
 }
 
 /// A guide cross-section.
-#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize, JsonSchema)]
 #[serde(rename_all = "snake_case", deny_unknown_fields)]
 pub enum Section {
     /// Round rod or fibre.
     Round {
         /// Diameter, mm.
+        #[schemars(transform = crate::schema::within(limits::SECTION_MM))]
         diameter_mm: f64,
     },
     /// Rectangular bar; width along the route's first side axis, height along the second.
     Rectangular {
         /// Width, mm.
+        #[schemars(transform = crate::schema::within(limits::SECTION_MM))]
         width_mm: f64,
         /// Height, mm.
+        #[schemars(transform = crate::schema::within(limits::SECTION_MM))]
         height_mm: f64,
     },
 }
@@ -121,30 +130,36 @@ impl Section {
 }
 
 /// One segment of the route.
-#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize, JsonSchema)]
 #[serde(rename_all = "snake_case", deny_unknown_fields)]
 pub enum Segment {
     /// A straight run.
     Straight {
         /// Length along the axis, mm.
+        #[schemars(transform = crate::schema::within(limits::SEGMENT_LENGTH_MM))]
         length_mm: f64,
     },
     /// A circular bend.
     Bend {
-        /// Radius of the guide's centre line, mm.
+        /// Radius of the guide's centre line, mm: more than half the section's size across the
+        /// bend (so that the inner wall keeps a radius) and at most 10⁶ mm.
+        #[schemars(range(max = limits::BEND_RADIUS_MAX_MM), extend("exclusiveMinimum" = 0.0))]
         radius_mm: f64,
         /// Angle turned through, degrees.
+        #[schemars(transform = crate::schema::within(limits::BEND_ANGLE_DEG))]
         angle_deg: f64,
         /// Direction of the turn, as an angle about the current axis from the section's width
         /// axis towards its height axis, degrees. The section's axes travel with the guide, so a
         /// bend cut into pieces repeats the same `turn_deg`. Rectangular guides turn across the
         /// width (0, 180) or the height (90, 270) only.
         #[serde(default)]
+        #[schemars(transform = crate::schema::within(limits::AZIMUTH_DEG))]
         turn_deg: f64,
     },
     /// A straight taper from the current section to `end_section`.
     Taper {
         /// Length along the axis, mm.
+        #[schemars(transform = crate::schema::within(limits::SEGMENT_LENGTH_MM))]
         length_mm: f64,
         /// Section at the end of the taper (same shape as the current one).
         end_section: Section,
@@ -187,7 +202,7 @@ impl Segment {
 }
 
 /// A mount, clip or glue spot touching the guide: light refracted into it is lost there.
-#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct Contact {
     /// A label for people.
@@ -195,16 +210,22 @@ pub struct Contact {
     pub name: String,
     /// Index of the route segment it touches (0 is the first).
     pub segment: usize,
-    /// Start along the segment's centre line, mm from the segment's start.
+    /// Start along the segment's centre line, mm from the segment's start: at least 0 and less
+    /// than the segment's length.
+    #[schemars(range(min = 0.0))]
     pub from_mm: f64,
-    /// End along the segment's centre line, mm from the segment's start.
+    /// End along the segment's centre line, mm from the segment's start: after `from_mm` and at
+    /// most the segment's length.
+    #[schemars(extend("exclusiveMinimum" = 0.0))]
     pub to_mm: f64,
     /// Start of the touched sector of the perimeter, degrees about the axis from the width axis
     /// towards the height axis.
     #[serde(default)]
+    #[schemars(transform = crate::schema::within(limits::SECTOR_DEG))]
     pub sector_from_deg: f64,
     /// End of the touched sector, degrees (360 with 0 touches all round).
     #[serde(default = "full_turn")]
+    #[schemars(transform = crate::schema::within(limits::SECTOR_END_DEG))]
     pub sector_to_deg: f64,
     /// The contacting medium.
     pub medium: MaterialChoice,
@@ -215,27 +236,32 @@ fn full_turn() -> f64 {
 }
 
 /// The light source.
-#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct Source {
     /// What emits: an LED or a beam.
     pub emitter: Emitter,
     /// Vacuum wavelength, nm.
+    #[schemars(transform = crate::schema::within(limits::WAVELENGTH_NM))]
     pub wavelength_nm: f64,
     /// Distance from the emitter to the entry face, mm.
     #[serde(default)]
+    #[schemars(transform = crate::schema::within(limits::GAP_MM))]
     pub gap_mm: f64,
     /// Medium filling the gap (air, an index-matching gel…).
     #[serde(default = "air")]
     pub gap_medium: MaterialChoice,
     /// Lateral offset of the emitter's centre from the guide axis along (width, height), mm.
     #[serde(default)]
+    #[schemars(transform = Items(limits::OFFSET_MM))]
     pub offset_mm: [f64; 2],
     /// Tilt of the emitter's axis from the guide axis, degrees.
     #[serde(default)]
+    #[schemars(transform = crate::schema::within(limits::TILT_DEG))]
     pub tilt_deg: f64,
     /// Direction the emitter is tilted towards, degrees about the axis from the width axis.
     #[serde(default)]
+    #[schemars(transform = crate::schema::within(limits::AZIMUTH_DEG))]
     pub tilt_toward_deg: f64,
     /// Optional emitted flux, for absolute figures.
     #[serde(default, skip_serializing_if = "Option::is_none")]
@@ -246,8 +272,8 @@ fn air() -> MaterialChoice {
     MaterialChoice::library("air")
 }
 
-/// An emitter.
-#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+/// What emits the light: an LED (`led`) or a beam (`beam`).
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
 #[serde(rename_all = "snake_case", deny_unknown_fields)]
 pub enum Emitter {
     /// An LED die or package window.
@@ -260,30 +286,34 @@ pub enum Emitter {
     /// A collimated or slightly diverging beam (a laser, a lensed LED).
     Beam {
         /// Beam diameter at the emitter, mm (uniform).
+        #[schemars(transform = crate::schema::within(limits::EMITTER_MM))]
         diameter_mm: f64,
         /// Half-angle of the divergence cone, degrees (uniform over the cone's solid angle).
+        #[schemars(transform = crate::schema::within(limits::CONE_HALF_ANGLE_DEG))]
         divergence_half_angle_deg: f64,
     },
 }
 
 /// Shape of an LED's emitting area.
-#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize, JsonSchema)]
 #[serde(rename_all = "snake_case", deny_unknown_fields)]
 pub enum EmitterArea {
     /// A disk.
     Disk {
         /// Diameter, mm.
+        #[schemars(transform = crate::schema::within(limits::EMITTER_MM))]
         diameter_mm: f64,
     },
     /// A square.
     Square {
         /// Side, mm.
+        #[schemars(transform = crate::schema::within(limits::EMITTER_MM))]
         side_mm: f64,
     },
 }
 
 /// Angular intensity pattern of an LED.
-#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
 #[serde(rename_all = "snake_case", deny_unknown_fields)]
 pub enum Pattern {
     /// I(θ) ∝ cos θ.
@@ -291,42 +321,50 @@ pub enum Pattern {
     /// I(θ) ∝ cos^m θ with m from the half-intensity half-angle.
     HalfIntensity {
         /// Angle from the axis where the intensity falls to half, degrees.
+        #[schemars(transform = crate::schema::within(limits::HALF_INTENSITY_ANGLE_DEG))]
         half_angle_deg: f64,
     },
     /// A table of relative intensity against angle from the axis, linearly interpolated;
     /// zero beyond the last angle.
     Table {
-        /// `[angle_deg, relative_intensity]` pairs, angles ascending from 0 to at most 90.
+        /// `[angle_deg, relative_intensity]` pairs, 2 to 1000 of them: angles ascending from 0
+        /// to at most 90, relative intensities from 0 to 10¹².
+        #[schemars(length(min = limits::TABLE_ROWS.min, max = limits::TABLE_ROWS.max))]
         points: Vec<[f64; 2]>,
     },
 }
 
-/// Emitted flux.
-#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+/// Emitted flux, for absolute figures: radiant (`mw`) or luminous (`lm`).
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize, JsonSchema)]
 #[serde(rename_all = "snake_case", deny_unknown_fields)]
 pub enum Flux {
     /// Radiant flux, mW.
-    Mw(f64),
+    Mw(#[schemars(transform = crate::schema::within(limits::FLUX))] f64),
     /// Luminous flux, lm.
-    Lm(f64),
+    Lm(#[schemars(transform = crate::schema::within(limits::FLUX))] f64),
 }
 
 /// A detector disk or a rectangular window beyond the exit face, parallel to it and centred on
 /// its axis: give `diameter_mm`, or `width_mm` and `height_mm` (along the exit face's width and
 /// height axes).
-#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize, JsonSchema)]
 #[serde(deny_unknown_fields)]
+#[schemars(transform = crate::schema::disk_or_window)]
 pub struct Receiver {
     /// Diameter of a round detector, mm.
     #[serde(default, skip_serializing_if = "Option::is_none")]
+    #[schemars(transform = crate::schema::within(limits::RECEIVER_MM))]
     pub diameter_mm: Option<f64>,
     /// Width of a rectangular window, mm.
     #[serde(default, skip_serializing_if = "Option::is_none")]
+    #[schemars(transform = crate::schema::within(limits::RECEIVER_MM))]
     pub width_mm: Option<f64>,
     /// Height of a rectangular window, mm.
     #[serde(default, skip_serializing_if = "Option::is_none")]
+    #[schemars(transform = crate::schema::within(limits::RECEIVER_MM))]
     pub height_mm: Option<f64>,
     /// Distance beyond the exit face, mm.
+    #[schemars(transform = crate::schema::within(limits::RECEIVER_DISTANCE_MM))]
     pub distance_mm: f64,
 }
 
@@ -341,19 +379,22 @@ impl Receiver {
     }
 }
 
-/// Trace settings.
-#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+/// Trace settings: how many rays, from which seed, and when to give up on a trapped ray.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize, JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct TraceSettings {
-    /// Number of rays.
+    /// Number of rays to trace; the statistical uncertainty of each share falls as 1/√rays.
     #[serde(default = "default_rays", deserialize_with = "whole_u64")]
+    #[schemars(transform = crate::schema::within(limits::RAYS))]
     pub rays: u64,
     /// Seed of the random sequence; the same seed gives the same result. At most 2⁵³ − 1, so a
     /// browser (whose numbers are doubles) reads the same seed as the command line.
     #[serde(default = "default_seed", deserialize_with = "whole_u64")]
+    #[schemars(transform = limits::Count::new(0, MAX_WHOLE))]
     pub seed: u64,
     /// Interactions after which a ray is stopped and counted as such.
     #[serde(default = "default_max_interactions", deserialize_with = "whole_u32")]
+    #[schemars(transform = crate::schema::within(limits::MAX_INTERACTIONS))]
     pub max_interactions: u32,
 }
 

@@ -53,6 +53,13 @@ enum Command {
     /// every point (common random numbers). Prints per point the delivered share, its difference
     /// to the first traced point, the budget and each segment's leakage, as JSON or CSV.
     Sweep(SweepArgs),
+    /// Print the JSON Schema of a document, for an editor to check and complete it with
+    /// (`docs/SCHEMA.md`).
+    Schema {
+        /// The document.
+        #[arg(value_parser = schema_names())]
+        document: String,
+    },
 }
 
 #[derive(Args)]
@@ -81,6 +88,14 @@ struct SweepArgs {
     /// Print CSV instead: one row per point, units in the header.
     #[arg(long)]
     csv: bool,
+}
+
+/// The documents `tirtrace schema` can print.
+fn schema_names() -> clap::builder::PossibleValuesParser {
+    tirtrace::schema::DOCUMENTS
+        .iter()
+        .map(|(name, _)| *name)
+        .into()
 }
 
 #[derive(Args)]
@@ -324,6 +339,9 @@ fn run(cli: Cli) -> Result<String, String> {
         Command::Check { file } => check(&file),
         Command::Trace(args) => trace(args),
         Command::Sweep(args) => sweep(args),
+        Command::Schema { document } => tirtrace::schema::schema_json(&document)
+            .map(|s| s.trim_end().to_string())
+            .ok_or_else(|| format!("no schema named {document}")),
     }
 }
 

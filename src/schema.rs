@@ -21,6 +21,7 @@ pub type MakeSchema = fn() -> Schema;
 pub const DOCUMENTS: &[(&str, MakeSchema)] = &[
     ("scenario", schema_of::<crate::scenario::Scenario>),
     ("design", schema_of::<crate::quick::QuickDesign>),
+    ("study", schema_of::<crate::study::StudyDocument>),
 ];
 
 /// The schema of a document type (JSON Schema 2020-12, every definition inside it).

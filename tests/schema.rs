@@ -108,6 +108,45 @@ fn example_scenarios_and_designs_validate() {
     }
     let default = serde_json::to_value(QuickDesign::default()).unwrap();
     assert!(design.is_valid(&default));
+    let study = validator("study");
+    for path in examples("examples/studies") {
+        let doc = read_json(&path);
+        let errors: Vec<String> = study.iter_errors(&doc).map(|e| e.to_string()).collect();
+        assert!(errors.is_empty(), "{}: {errors:?}", path.display());
+        tirtrace::study::Study::from_json(&doc.to_string()).unwrap();
+    }
+}
+
+#[test]
+fn broken_studies_fail_the_schema_as_the_reader_refuses_them() {
+    let good = read_json(&root().join("examples/studies/thermostat_first_bend.json"));
+    let study = validator("study");
+    type Spoil = dyn Fn(&mut serde_json::Value);
+    let broken: [(&str, &Spoil); 5] = [
+        ("unknown field", &|d| d["vary"]["colour"] = 1.into()),
+        ("version 2", &|d| d["version"] = 2.into()),
+        ("no vary", &|d| {
+            _ = d.as_object_mut().unwrap().remove("vary")
+        }),
+        (
+            "steps 0",
+            &|d| {
+                d["vary"] = serde_json::json!({ "field": "source.gap_mm", "from": 0.1, "to": 0.5, "steps": 0 })
+            },
+        ),
+        ("scenario with an unknown field", &|d| {
+            d["scenario"]["guide"]["colour"] = 1.into()
+        }),
+    ];
+    for (what, spoil) in broken {
+        let mut doc = good.clone();
+        spoil(&mut doc);
+        assert!(!study.is_valid(&doc), "{what}: the schema takes it");
+        assert!(
+            tirtrace::study::Study::from_json(&doc.to_string()).is_err(),
+            "{what}: the reader takes it"
+        );
+    }
 }
 
 /// A valid scenario with one change made by `edit`.

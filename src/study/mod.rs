@@ -22,6 +22,7 @@
 pub mod path;
 pub mod sweep;
 
+use schemars::JsonSchema;
 use serde::Deserialize;
 use serde_json::Value;
 
@@ -34,29 +35,49 @@ pub use sweep::{PointReport, PointResult, Sweep, SweepBatch, SweepReport};
 /// The study document's version this build reads.
 pub const STUDY_VERSION: u32 = 1;
 
-/// The study document as written.
-#[derive(Debug, Clone, Deserialize)]
+/// A study: a scenario traced at several values of one of its numbers (`tirtrace sweep`).
+#[derive(Debug, Clone, Deserialize, JsonSchema)]
 #[serde(deny_unknown_fields)]
-struct StudyDocument {
+#[schemars(title = "tirtrace study")]
+pub(crate) struct StudyDocument {
+    /// The study document's version: 1.
+    #[schemars(transform = crate::schema::version(STUDY_VERSION))]
     version: u32,
+    /// A name for the study, shown with its results.
     #[serde(default)]
     name: Option<String>,
+    /// The scenario studied (a whole scenario document); every point is this scenario with the
+    /// varied number set.
+    #[schemars(with = "Scenario")]
     scenario: Value,
+    /// The number varied and its values.
     vary: VaryDocument,
 }
 
-/// `vary` as written: a field and either `values` or `from`, `to`, `steps`.
-#[derive(Debug, Clone, Deserialize)]
+/// The number varied: its field path and either `values` or `from`, `to` and `steps`.
+#[derive(Debug, Clone, Deserialize, JsonSchema)]
 #[serde(deny_unknown_fields)]
+#[schemars(rename = "Vary")]
 struct VaryDocument {
+    /// The path of a number of the scenario, as the core's messages write it:
+    /// `route[1].bend.radius_mm`, `source.gap_mm`, `source.offset_mm[0]`,
+    /// `guide.section.round.diameter_mm`.
+    #[schemars(length(min = FIELD_PATH_CHARS.min, max = FIELD_PATH_CHARS.max))]
     field: String,
+    /// The values, in the order they are traced; the first traced point is the reference of
+    /// every difference.
     #[serde(default)]
+    #[schemars(length(min = SWEEP_POINTS.min, max = SWEEP_POINTS.max))]
     values: Option<Vec<f64>>,
+    /// First value of an even range (with `to` and `steps`, instead of `values`).
     #[serde(default)]
     from: Option<f64>,
+    /// Last value of an even range.
     #[serde(default)]
     to: Option<f64>,
+    /// Number of equal steps from `from` to `to` (the points are one more).
     #[serde(default)]
+    #[schemars(with = "Option<u64>", transform = crate::schema::within(SWEEP_STEPS))]
     steps: Option<f64>,
 }
 

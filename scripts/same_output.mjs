@@ -16,6 +16,8 @@ import { mkdirSync, readdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { join, resolve } from 'node:path';
 import { pathToFileURL } from 'node:url';
 
+import { variantsOf } from '../tests/e2e/variants.mjs';
+
 const [outDir, cli, pkgDir] = process.argv.slice(2).map((p) => resolve(p));
 const ROOT = resolve(import.meta.dirname, '..');
 const wasm = await import(pathToFileURL(join(pkgDir, 'tirtrace.js')));
@@ -52,28 +54,7 @@ const designs = read('examples/designs');
 // Variants that reach what the examples do not (the same as the wasm-vs-native browser test).
 const base = Object.fromEntries(scenarios).thermostat_status_led;
 scenarios.push(
-  ['variant_table_led', {
-    ...base,
-    source: { ...base.source, tilt_deg: 12, tilt_toward_deg: 200, offset_mm: [0.3, -0.2],
-      emitter: { led: { area: { disk: { diameter_mm: 0.8 } },
-        pattern: { table: { points: [[0, 1], [20, 0.95], [45, 0.6], [70, 0.15], [85, 0]] } } } } },
-  }],
-  ['variant_rect_taper', {
-    ...base,
-    guide: { section: { rectangular: { width_mm: 4, height_mm: 2 } }, material: { library: 'polycarbonate' },
-      surroundings: { library: 'air' }, attenuation_db_per_m: 2,
-      contacts: [{ segment: 1, from_mm: 0, to_mm: 3, sector_from_deg: 80, sector_to_deg: 100,
-        medium: { library: 'pdms' } }] },
-    route: [{ straight: { length_mm: 4 } },
-      { taper: { length_mm: 8, end_section: { rectangular: { width_mm: 3, height_mm: 1.5 } } } },
-      { bend: { radius_mm: 6, angle_deg: 75, turn_deg: 90 } }, { straight: { length_mm: 5 } }],
-    receiver: { width_mm: 5, height_mm: 3, distance_mm: 2 },
-  }],
-  ['variant_gel_beam', {
-    ...base,
-    source: { ...base.source, gap_mm: 0.5, gap_medium: { custom: { model: 'constant', n: 1.7 } },
-      emitter: { beam: { diameter_mm: 2.5, divergence_half_angle_deg: 35 } } },
-  }],
+  ...variantsOf(base),
   ['variant_cos_m_mw', {
     ...base,
     source: { ...base.source, flux: { mw: 3 },

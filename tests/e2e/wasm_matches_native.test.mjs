@@ -12,6 +12,7 @@ import { test } from 'node:test';
 import { fileURLToPath } from 'node:url';
 
 import { initSync, Tracer } from '../../www/pkg/tirtrace.js';
+import { variantsOf } from './variants.mjs';
 
 const ROOT = join(dirname(fileURLToPath(import.meta.url)), '..', '..');
 const CLI = join(ROOT, 'target', 'debug', 'tirtrace');
@@ -23,34 +24,8 @@ const examples = readdirSync(SCENARIOS)
   .filter((f) => f.endsWith('.json'))
   .map((f) => [f, JSON.parse(readFileSync(join(SCENARIOS, f), 'utf8'))]);
 
-// Variants that reach the parts the examples do not: a tabulated, tilted, offset LED; a
-// rectangular bar with a taper, a bend across its height, a clip and a window receiver; a
-// beam through a high-index gel.
 const base = JSON.parse(readFileSync(join(SCENARIOS, 'thermostat_status_led.json'), 'utf8'));
-const variants = [
-  ['table LED, tilted and offset', {
-    ...base,
-    source: { ...base.source, tilt_deg: 12, tilt_toward_deg: 200, offset_mm: [0.3, -0.2],
-      emitter: { led: { area: { disk: { diameter_mm: 0.8 } },
-        pattern: { table: { points: [[0, 1], [20, 0.95], [45, 0.6], [70, 0.15], [85, 0]] } } } } },
-  }],
-  ['rectangular bar, taper, bend across the height, window receiver', {
-    ...base,
-    guide: { section: { rectangular: { width_mm: 4, height_mm: 2 } }, material: { library: 'polycarbonate' },
-      surroundings: { library: 'air' }, attenuation_db_per_m: 2,
-      contacts: [{ segment: 1, from_mm: 0, to_mm: 3, sector_from_deg: 80, sector_to_deg: 100,
-        medium: { library: 'pdms' } }] },
-    route: [{ straight: { length_mm: 4 } },
-      { taper: { length_mm: 8, end_section: { rectangular: { width_mm: 3, height_mm: 1.5 } } } },
-      { bend: { radius_mm: 6, angle_deg: 75, turn_deg: 90 } }, { straight: { length_mm: 5 } }],
-    receiver: { width_mm: 5, height_mm: 3, distance_mm: 2 },
-  }],
-  ['beam through a high-index gel', {
-    ...base,
-    source: { ...base.source, gap_mm: 0.5, gap_medium: { custom: { model: 'constant', n: 1.7 } },
-      emitter: { beam: { diameter_mm: 2.5, divergence_half_angle_deg: 35 } } },
-  }],
-];
+const variants = variantsOf(base);
 
 for (const [name, original] of [...examples, ...variants]) {
   test(`wasm and native agree bit for bit on ${name}`, () => {

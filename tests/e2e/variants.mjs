@@ -1,0 +1,32 @@
+// Variant scenarios that reach the parts the examples do not, built on an example scenario:
+// a tabulated, tilted, offset LED; a rectangular bar with a taper, a bend across its height, a
+// clip and a window receiver; a beam through a high-index gel. Used by the wasm-vs-native test
+// and by scripts/same_output.mjs.
+
+/** `[[name, scenario], …]` built on `base` (the thermostat example). */
+export function variantsOf(base) {
+  return [
+    ['variant_table_led', {
+      ...base,
+      source: { ...base.source, tilt_deg: 12, tilt_toward_deg: 200, offset_mm: [0.3, -0.2],
+        emitter: { led: { area: { disk: { diameter_mm: 0.8 } },
+          pattern: { table: { points: [[0, 1], [20, 0.95], [45, 0.6], [70, 0.15], [85, 0]] } } } } },
+    }],
+    ['variant_rect_taper', {
+      ...base,
+      guide: { section: { rectangular: { width_mm: 4, height_mm: 2 } }, material: { library: 'polycarbonate' },
+        surroundings: { library: 'air' }, attenuation_db_per_m: 2,
+        contacts: [{ segment: 1, from_mm: 0, to_mm: 3, sector_from_deg: 80, sector_to_deg: 100,
+          medium: { library: 'pdms' } }] },
+      route: [{ straight: { length_mm: 4 } },
+        { taper: { length_mm: 8, end_section: { rectangular: { width_mm: 3, height_mm: 1.5 } } } },
+        { bend: { radius_mm: 6, angle_deg: 75, turn_deg: 90 } }, { straight: { length_mm: 5 } }],
+      receiver: { width_mm: 5, height_mm: 3, distance_mm: 2 },
+    }],
+    ['variant_gel_beam', {
+      ...base,
+      source: { ...base.source, gap_mm: 0.5, gap_medium: { custom: { model: 'constant', n: 1.7 } },
+        emitter: { beam: { diameter_mm: 2.5, divergence_half_angle_deg: 35 } } },
+    }],
+  ];
+}

@@ -607,7 +607,7 @@ fn sweep_prints_one_point_per_value_as_json_and_csv() {
     );
     assert_eq!(points[1]["result"]["difference"]["share"], 0.0);
     assert!(f(&points[2]["result"]["delivered"]["share"]) > 0.0);
-    let csv = ok_stdout(&["sweep", "-", "--rays", "5000", "--csv"], &study);
+    let csv = ok_stdout(&["study", "-", "--rays", "5000", "--csv"], &study);
     let lines: Vec<&str> = csv.lines().collect();
     assert_eq!(lines.len(), 4, "{csv}");
     assert!(lines[0].starts_with("\"route[1].bend.radius_mm\",\"delivered (share)\""));
@@ -616,16 +616,16 @@ fn sweep_prints_one_point_per_value_as_json_and_csv() {
     let cells = |l: &str| l.split(',').count();
     assert_eq!(cells(lines[0]), cells(lines[2]));
     // Threads do not change a byte.
-    let one = ok_stdout(&["sweep", "-", "--rays", "5000", "--threads", "1"], &study);
-    let two = ok_stdout(&["sweep", "-", "--rays", "5000", "--threads", "2"], &study);
+    let one = ok_stdout(&["study", "-", "--rays", "5000", "--threads", "1"], &study);
+    let two = ok_stdout(&["study", "-", "--rays", "5000", "--threads", "2"], &study);
     assert_eq!(one, two);
 }
 
 #[test]
 fn sweep_errors_name_the_field() {
-    let e = one_line_error(&["sweep", "-", "--rays", "0"], &radius_study("[7, 9]"));
+    let e = one_line_error(&["study", "-", "--rays", "0"], &radius_study("[7, 9]"));
     assert!(e.contains("--rays must be ≥ 1"), "{e}");
-    let e = one_line_error(&["sweep", "-"], &radius_study("[7]"));
+    let e = one_line_error(&["study", "-"], &radius_study("[7]"));
     assert!(
         e.contains("vary.values must list ≥ 2 and ≤ 200 values, got 1"),
         "{e}"

@@ -26,7 +26,7 @@ fn study(scenario: Value, field: &str, values: &[f64], rays: u64, seed: u64) -> 
 }
 
 fn sweep(study: &Study) -> SweepReport {
-    let s = study.prepare().unwrap();
+    let s = study.prepare_sweep().unwrap();
     s.report(&s.trace_all_serial())
 }
 
@@ -176,7 +176,7 @@ fn a_sweep_is_reproducible_on_any_thread_count() {
         3 * 4096 + 100,
         11,
     );
-    let prepared = s.prepare().unwrap();
+    let prepared = s.prepare_sweep().unwrap();
     let serial = prepared.report(&prepared.trace_all_serial());
     let one = prepared.report(&prepared.trace_all_parallel(1, |_| {}).unwrap());
     let two = prepared.report(&prepared.trace_all_parallel(2, |_| {}).unwrap());
@@ -231,5 +231,6 @@ fn bad_documents_name_their_field() {
         .to_string(),
     )
     .unwrap();
-    assert_eq!(s.values, [-0.5, -0.25, 0.0, 0.25, 0.5]);
+    let tirtrace::study::Plan::Sweep(plan) = &s.plan;
+    assert_eq!(plan.values, [-0.5, -0.25, 0.0, 0.25, 0.5]);
 }

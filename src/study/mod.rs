@@ -35,10 +35,13 @@ pub use sweep::{PointReport, PointResult, Sweep, SweepBatch, SweepReport};
 /// The study document's version this build reads.
 pub const STUDY_VERSION: u32 = 1;
 
-/// A study: a scenario traced at several values of one of its numbers (`tirtrace sweep`).
+/// A study: a scenario and what to do with it (`tirtrace study`): today a sweep, the scenario
+/// traced at several values of one of its numbers.
 #[derive(Debug, Clone, Deserialize, JsonSchema)]
 #[serde(deny_unknown_fields)]
 #[schemars(title = "tirtrace study")]
+// Exactly one plan (the schema's counterpart of the reader's check).
+#[schemars(extend("oneOf" = [{ "required": ["vary"] }]))]
 pub(crate) struct StudyDocument {
     /// The study document's version: 1.
     #[schemars(transform = crate::schema::version(STUDY_VERSION))]
@@ -50,8 +53,11 @@ pub(crate) struct StudyDocument {
     /// varied number set.
     #[schemars(with = "Scenario")]
     scenario: Value,
-    /// The number varied and its values.
-    vary: VaryDocument,
+    /// A sweep: the number varied and its values. A study gives exactly one plan (today:
+    /// `vary`).
+    #[serde(default)]
+    #[schemars(with = "VaryDocument")]
+    vary: Option<VaryDocument>,
 }
 
 /// The number varied: its field path and either `values` or `from`, `to` and `steps`.
@@ -81,19 +87,36 @@ struct VaryDocument {
     steps: Option<f64>,
 }
 
-/// A read and checked study: the scenario as read and the values of the varied field.
+/// A read and checked study: the scenario as read and what is done with it.
 #[derive(Debug, Clone)]
 pub struct Study {
     /// A label for people.
     pub name: Option<String>,
     /// The scenario (its `trace` settings hold for every point; the command line may set
-    /// `trace.rays` and `trace.seed` here before [`Study::prepare`]).
+    /// `trace.rays` and `trace.seed` here before the study is prepared).
     pub scenario: Scenario,
+    /// What the study does with the scenario.
+    pub plan: Plan,
+}
+
+/// What a study does with its scenario: the document's one plan.
+#[derive(Debug, Clone)]
+pub enum Plan {
+    /// `vary`: trace the scenario at several values of one of its numbers ([`sweep`]).
+    Sweep(SweepPlan),
+}
+
+/// A sweep's varied field and values.
+#[derive(Debug, Clone)]
+pub struct SweepPlan {
     /// The varied field.
     pub field: FieldPath,
     /// The values, in the document's order.
     pub values: Vec<f64>,
 }
+
+/// The plans a study document may give, for messages.
+const PLANS: &str = "vary";
 
 /// A problem of the study document: its field path is in the study document
 /// (`vary.steps`, `scenario.route[1].bend.radius_mm`).
@@ -142,20 +165,43 @@ impl Study {
                 None
             }
         };
-        let field = vary_field(&doc.vary.field, scenario.as_ref())
-            .map_err(|m| problems.push(problem("vary.field", m)))
-            .ok();
-        let values = vary_values(&doc.vary).map_err(|mut p| problems.append(&mut p));
-        match (scenario, field, values) {
-            (Some(scenario), Some(field), Ok(values)) if problems.is_empty() => Ok(Study {
+        let plan = match doc.vary {
+            Some(vary) => read_sweep(&vary, scenario.as_ref(), &mut problems).map(Plan::Sweep),
+            None => {
+                problems.push(problem(
+                    "study",
+                    format!("must give a plan: {PLANS} (none is given)"),
+                ));
+                None
+            }
+        };
+        match (scenario, plan) {
+            (Some(scenario), Some(plan)) if problems.is_empty() => Ok(Study {
                 name: doc.name,
                 scenario,
-                field,
-                values,
+                plan,
             }),
             _ => Err(problems),
         }
     }
+}
+
+/// Read a sweep's `vary`, adding its problems to `problems`.
+fn read_sweep(
+    vary: &VaryDocument,
+    scenario: Option<&Scenario>,
+    problems: &mut Vec<Problem>,
+) -> Option<SweepPlan> {
+    let field = vary_field(&vary.field, scenario)
+        .map_err(|m| problems.push(problem("vary.field", m)))
+        .ok();
+    let values = vary_values(vary)
+        .map_err(|mut p| problems.append(&mut p))
+        .ok();
+    Some(SweepPlan {
+        field: field?,
+        values: values?,
+    })
 }
 
 /// Read `vary.field` and check that it names a number of the scenario (when it could be read)

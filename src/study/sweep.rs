@@ -17,7 +17,7 @@ use crate::problems::{read_scenario, Problem};
 use crate::stats::{Estimate, Share};
 use crate::trace::{Batch, Budget, Prepared};
 
-use super::{in_scenario, Study};
+use super::{in_scenario, Plan, Study};
 
 /// One point of a sweep: its value and either its prepared scenario or its problems.
 #[derive(Debug, Clone)]
@@ -114,9 +114,20 @@ pub struct SweepReport {
 }
 
 impl Study {
-    /// Read and check every point. Fails (with problems of the study document) only for what
-    /// concerns every point: the trace settings and the sweep's total rays.
-    pub fn prepare(&self) -> Result<Sweep, Vec<Problem>> {
+    /// Read and check every point of a sweep. Fails (with problems of the study document) only
+    /// for what concerns every point: the trace settings and the sweep's total rays, or when the
+    /// study is not a sweep.
+    pub fn prepare_sweep(&self) -> Result<Sweep, Vec<Problem>> {
+        #[allow(unreachable_patterns)] // other plans are prepared by their own modules
+        let plan = match &self.plan {
+            Plan::Sweep(plan) => plan,
+            _ => {
+                return Err(vec![Problem {
+                    field: "vary".to_string(),
+                    message: "vary is missing: this study is not a sweep".to_string(),
+                }])
+            }
+        };
         let trace_problems: Vec<Problem> = self
             .scenario
             .problems()
@@ -128,7 +139,7 @@ impl Study {
             return Err(trace_problems);
         }
         let rays = self.scenario.trace.rays;
-        let total = rays.saturating_mul(self.values.len() as u64);
+        let total = rays.saturating_mul(plan.values.len() as u64);
         if !SWEEP_RAYS.contains(total) {
             return Err(vec![Problem {
                 field: "scenario.trace.rays".to_string(),
@@ -136,7 +147,7 @@ impl Study {
                     "scenario.trace.rays times the points (the sweep's rays) {}, got {rays} × {} \
                      = {total}",
                     SWEEP_RAYS.rule(),
-                    self.values.len()
+                    plan.values.len()
                 ),
             }]);
         }
@@ -146,12 +157,12 @@ impl Study {
                 message: e.to_string(),
             }]
         })?;
-        let points: Vec<Point> = self
+        let points: Vec<Point> = plan
             .values
             .iter()
             .map(|&x| {
                 let mut doc = base.clone();
-                if let Err(m) = self.field.set_number(&mut doc, x) {
+                if let Err(m) = plan.field.set_number(&mut doc, x) {
                     return Point::Refused(vec![Problem {
                         message: format!("vary.field {m}"),
                         field: "vary.field".to_string(),
@@ -181,8 +192,8 @@ impl Study {
         let reference = points.iter().position(|p| matches!(p, Point::Ready(_)));
         Ok(Sweep {
             name: self.name.clone(),
-            field: self.field.text.clone(),
-            values: self.values.clone(),
+            field: plan.field.text.clone(),
+            values: plan.values.clone(),
             points,
             reference,
             rays,

@@ -10,7 +10,7 @@ use tirtrace::limits::{PATHS, RAYS, THREADS};
 use tirtrace::problems::Problem;
 use tirtrace::quick::QuickDesign;
 use tirtrace::scenario::Scenario;
-use tirtrace::study::Study;
+use tirtrace::study::{Plan, Study};
 use tirtrace::trace::{Batch, Prepared, TraceReport, BATCH_RAYS};
 use tirtrace::FieldError;
 
@@ -49,10 +49,12 @@ enum Command {
     /// Trace a scenario and print the report (energy budget, per-segment losses, maps) as JSON,
     /// or the budget and loss tables as CSV.
     Trace(TraceArgs),
-    /// Trace a study: a scenario at several values of one of its numbers, with the same rays at
-    /// every point (common random numbers). Prints per point the delivered share, its difference
-    /// to the first traced point, the budget and each segment's leakage, as JSON or CSV.
-    Sweep(SweepArgs),
+    /// Run a design study on the scenario it holds, with the same rays wherever the scenario
+    /// is traced (common random numbers). A sweep (`vary`) prints per point the delivered share,
+    /// its difference to the first traced point, the budget and each segment's leakage, as JSON
+    /// or CSV.
+    #[command(visible_alias = "sweep")]
+    Study(StudyArgs),
     /// Print the JSON Schema of a document, for an editor to check and complete it with
     /// (`docs/SCHEMA.md`).
     Schema {
@@ -63,7 +65,7 @@ enum Command {
 }
 
 #[derive(Args)]
-struct SweepArgs {
+struct StudyArgs {
     /// The study document (JSON); `-` reads standard input.
     file: String,
     // Number of rays per point; the help names the range of limits::RAYS.
@@ -85,7 +87,7 @@ struct SweepArgs {
         allow_negative_numbers = true
     )]
     threads: usize,
-    /// Print CSV instead: one row per point, units in the header.
+    /// Print CSV instead (for a sweep: one row per point, units in the header).
     #[arg(long)]
     csv: bool,
 }
@@ -264,7 +266,8 @@ fn first_study_problem(problems: &[Problem]) -> String {
     }
 }
 
-fn sweep(args: SweepArgs) -> Result<String, String> {
+/// `tirtrace study`: read the study, apply the command line's trace settings, run its plan.
+fn study(args: StudyArgs) -> Result<String, String> {
     let text = read_text(&args.file)?;
     let mut study = Study::from_json(&text).map_err(|p| first_study_problem(&p))?;
     if let Some(rays) = args.rays {
@@ -284,7 +287,8 @@ fn sweep(args: SweepArgs) -> Result<String, String> {
             args.threads
         ));
     }
-    let sweep = study.prepare().map_err(|problems| {
+    // The command line's seed is named as the user gave it.
+    let refused = |problems: Vec<Problem>| {
         let problems: Vec<Problem> = problems
             .into_iter()
             .map(|mut p| {
@@ -295,7 +299,19 @@ fn sweep(args: SweepArgs) -> Result<String, String> {
             })
             .collect();
         first_study_problem(&problems)
-    })?;
+    };
+    match &study.plan {
+        Plan::Sweep(_) => sweep(&study, &args, refused),
+    }
+}
+
+/// A sweep's report (`vary`).
+fn sweep(
+    study: &Study,
+    args: &StudyArgs,
+    refused: impl Fn(Vec<Problem>) -> String,
+) -> Result<String, String> {
+    let sweep = study.prepare_sweep().map_err(refused)?;
     let batches = sweep.batch_count();
     let show = std::io::stderr().is_terminal();
     let merged = sweep
@@ -338,7 +354,7 @@ fn run(cli: Cli) -> Result<String, String> {
             .map_err(|e| e.to_string()),
         Command::Check { file } => check(&file),
         Command::Trace(args) => trace(args),
-        Command::Sweep(args) => sweep(args),
+        Command::Study(args) => study(args),
         Command::Schema { document } => tirtrace::schema::schema_json(&document)
             .map(|s| s.trim_end().to_string())
             .ok_or_else(|| format!("no schema named {document}")),

@@ -5,7 +5,7 @@
 
 use serde_json::{json, Value};
 use tirtrace::problems::Problem;
-use tirtrace::study::{Study, SweepReport};
+use tirtrace::study::{Setting, Study, SweepReport};
 use tirtrace::trace::Prepared;
 
 fn example(name: &str) -> Value {
@@ -232,5 +232,186 @@ fn bad_documents_name_their_field() {
     )
     .unwrap();
     let tirtrace::study::Plan::Sweep(plan) = &s.plan;
-    assert_eq!(plan.values, [-0.5, -0.25, 0.0, 0.25, 0.5]);
+    let values: Vec<Setting> = [-0.5, -0.25, 0.0, 0.25, 0.5]
+        .into_iter()
+        .map(Setting::Number)
+        .collect();
+    assert_eq!(plan.axes[0].settings, values);
+}
+
+/// The delivered share of one plain trace of `scenario` (all batches, serial).
+fn traced(scenario: &Value, rays: u64, seed: u64) -> tirtrace::stats::Share {
+    let mut s = tirtrace::problems::read_scenario(&scenario.to_string()).unwrap();
+    s.trace.rays = rays;
+    s.trace.seed = seed;
+    let p = Prepared::new(&s).unwrap();
+    let mut total = p.trace_batch(0, 0);
+    for b in 1..rays.div_ceil(tirtrace::trace::BATCH_RAYS) {
+        total.merge(&p.trace_batch(b, 0));
+    }
+    p.report(&total).delivered
+}
+
+fn run(doc: Value, rays: u64, seed: u64) -> SweepReport {
+    let mut s = Study::from_json(&doc.to_string()).unwrap();
+    s.scenario.trace.rays = rays;
+    s.scenario.trace.seed = seed;
+    sweep(&s)
+}
+
+#[test]
+fn a_grid_traces_every_pair_and_each_point_is_its_own_design() {
+    // Two radii × two guide materials (a choice field, by the library's names): four points,
+    // the radius outer. Each point is exactly the plain trace of the scenario with both set
+    // (the same rays and seed), so a grid is no approximation of its points.
+    let sc = example("thermostat");
+    let report = run(
+        json!({ "version": 1, "scenario": sc,
+            "vary": { "field": "route[1].bend.radius_mm", "values": [5, 9] },
+            "and_vary": { "field": "guide.material.library",
+                          "values": ["pmma", "polycarbonate"] } }),
+        3 * 4096,
+        5,
+    );
+    assert_eq!(report.and_field.as_deref(), Some("guide.material.library"));
+    let at: Vec<(Value, Value)> = report
+        .points
+        .iter()
+        .map(|p| (p.value.clone(), p.and_value.clone().unwrap()))
+        .collect();
+    assert_eq!(
+        at,
+        [
+            (json!(5.0), json!("pmma")),
+            (json!(5.0), json!("polycarbonate")),
+            (json!(9.0), json!("pmma")),
+            (json!(9.0), json!("polycarbonate")),
+        ]
+    );
+    for (p, (r, m)) in report.points.iter().zip(&at) {
+        let mut one = sc.clone();
+        one["route"][1]["bend"]["radius_mm"] = r.clone();
+        one["guide"]["material"]["library"] = m.clone();
+        assert_eq!(
+            p.result.as_ref().unwrap().delivered,
+            traced(&one, 3 * 4096, 5),
+            "{r} {m}"
+        );
+    }
+    // The materials differ in index, so the delivered shares differ at each radius.
+    let d = |i: usize| report.points[i].result.as_ref().unwrap().delivered.share;
+    assert_ne!(d(0), d(1));
+    // The CSV has a column per varied field, the text quoted.
+    let csv = tirtrace::study::sweep::report_csv(&report);
+    let mut lines = csv.lines();
+    assert!(lines
+        .next()
+        .unwrap()
+        .starts_with("\"route[1].bend.radius_mm\",\"guide.material.library\","));
+    assert!(lines.next().unwrap().starts_with("5,\"pmma\","), "{csv}");
+}
+
+#[test]
+fn factors_on_every_bend_scale_all_radii_together() {
+    // The bike light has bends at route[2]; the thermostat at route[1] and route[3]. Every
+    // bend's radius times the factor, the straights untouched, each point its own design.
+    let sc = example("thermostat");
+    let bends: Vec<usize> = sc["route"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .enumerate()
+        .filter(|(_, s)| s.get("bend").is_some())
+        .map(|(i, _)| i)
+        .collect();
+    assert!(bends.len() >= 2, "the example has several bends");
+    let report = run(
+        json!({ "version": 1, "scenario": sc,
+            "vary": { "field": "route[*].bend.radius_mm", "factors": [1, 1.5] } }),
+        4096,
+        3,
+    );
+    assert!(report.factor);
+    let mut scaled = sc.clone();
+    for &i in &bends {
+        let r = scaled["route"][i]["bend"]["radius_mm"].as_f64().unwrap();
+        scaled["route"][i]["bend"]["radius_mm"] = json!(r * 1.5);
+    }
+    let result = |i: usize| report.points[i].result.as_ref().unwrap().delivered;
+    assert_eq!(result(0), traced(&sc, 4096, 3));
+    assert_eq!(result(1), traced(&scaled, 4096, 3));
+    let csv = tirtrace::study::sweep::report_csv(&report);
+    assert!(
+        csv.starts_with("\"route[*].bend.radius_mm (factor)\","),
+        "{csv}"
+    );
+}
+
+#[test]
+fn text_values_and_grids_name_their_problems() {
+    let sc = example("thermostat");
+    let first = |doc: Value| {
+        let p = problems(doc);
+        (p[0].field.clone(), p[0].message.clone())
+    };
+    let radius = json!({ "field": "route[1].bend.radius_mm", "values": [5, 9] });
+    // Numbers and texts mixed.
+    let (f, m) = first(json!({ "version": 1, "scenario": sc,
+        "vary": { "field": "guide.material.library", "values": ["pmma", 2] } }));
+    assert_eq!(f, "vary.values");
+    assert!(m.contains("all numbers or all texts"), "{m}");
+    // Texts for a number, numbers for a text.
+    let (f, m) = first(json!({ "version": 1, "scenario": sc,
+        "vary": { "field": "route[1].bend.radius_mm", "values": ["pmma", "pdms"] } }));
+    assert_eq!(f, "vary.field");
+    assert!(
+        m.contains("not a text") && m.contains("takes numbers"),
+        "{m}"
+    );
+    let (f, m) = first(json!({ "version": 1, "scenario": sc,
+        "vary": { "field": "guide.material.library", "values": [1, 2] } }));
+    assert_eq!(f, "vary.field");
+    assert!(m.contains("give texts in vary.values"), "{m}");
+    // A factor must be positive; values and factors not both.
+    let (f, m) = first(json!({ "version": 1, "scenario": sc,
+        "vary": { "field": "route[*].bend.radius_mm", "factors": [1, 0] } }));
+    assert_eq!(f, "vary.factors[1]");
+    assert!(m.contains("more than 0, got 0"), "{m}");
+    let (f, _) = first(json!({ "version": 1, "scenario": sc,
+        "vary": { "field": "source.gap_mm", "factors": [1, 2], "values": [1, 2] } }));
+    assert_eq!(f, "vary");
+    // A grid: too many points, the same field twice, a second field alone.
+    let many: Vec<f64> = (0..20).map(|k| 5.0 + k as f64).collect();
+    let (f, m) = first(json!({ "version": 1, "scenario": sc,
+        "vary": { "field": "route[1].bend.radius_mm", "values": many },
+        "and_vary": { "field": "source.gap_mm", "from": 0, "to": 1, "steps": 10 } }));
+    assert_eq!(f, "and_vary");
+    assert!(m.contains("20 × 11 = 220 points"), "{m}");
+    let (f, _) = first(json!({ "version": 1, "scenario": sc, "vary": radius, "and_vary": radius }));
+    assert_eq!(f, "and_vary.field");
+    let (f, _) = first(json!({ "version": 1, "scenario": sc, "and_vary": radius }));
+    assert_eq!(f, "and_vary");
+    let (f, m) = first(json!({ "version": 1, "scenario": sc,
+        "vary": radius, "and_vary": { "field": "source.gap_mm", "steps": 2 } }));
+    assert_eq!(f, "and_vary.from");
+    assert!(m.contains("and_vary.values"), "{m}");
+    // A [*] that names nothing.
+    let (f, m) = first(json!({ "version": 1, "scenario": sc,
+        "vary": { "field": "route[*].taper.length_mm", "factors": [1, 2] } }));
+    assert_eq!(f, "vary.field");
+    assert!(m.contains("no element of route has taper.length_mm"), "{m}");
+    // A material the library does not have is a problem of that point only.
+    let report = run(
+        json!({ "version": 1, "scenario": sc,
+            "vary": { "field": "guide.material.library", "values": ["pmma", "unobtainium"] } }),
+        1000,
+        1,
+    );
+    assert!(report.points[0].result.is_some());
+    let bad = &report.points[1];
+    assert!(bad.result.is_none());
+    assert_eq!(
+        bad.problems[0].field, "scenario.guide.material.library",
+        "{bad:?}"
+    );
 }

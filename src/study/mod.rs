@@ -1,4 +1,4 @@
-//! Design studies: a scenario traced at several values of one of its numbers.
+//! Design studies: a scenario traced at several values of one or two of its fields.
 //!
 //! The study document (version 1):
 //!
@@ -8,7 +8,11 @@
 //!   "vary": { "field": "route[1].bend.radius_mm", "values": [6, 7, 8, 9] } }
 //! ```
 //!
-//! or `"vary": { "field": …, "from": 6, "to": 9, "steps": 6 }` (six equal steps, seven points).
+//! or `"vary": { "field": …, "from": 6, "to": 9, "steps": 6 }` (six equal steps, seven points),
+//! or texts for a text field (`"field": "guide.material.library", "values": ["pmma",
+//! "polycarbonate"]`), or `"factors": [0.8, 1, 1.25]` that multiply the field's number — with
+//! `[*]` every number it names: `route[*].bend.radius_mm` scales every bend together. An
+//! `"and_vary"` of the same form makes a grid: every pair of values, `vary`'s outer.
 //! The field is a path in the syntax of the core's messages ([`path`]) naming a number of the
 //! scenario as read (defaults filled in). Every point is the scenario with that number set, read
 //! and checked by the scenario's own code: a point with problems is reported with them and
@@ -53,28 +57,41 @@ pub(crate) struct StudyDocument {
     /// varied number set.
     #[schemars(with = "Scenario")]
     scenario: Value,
-    /// A sweep: the number varied and its values. A study gives exactly one plan (today:
+    /// A sweep: the field varied and its values. A study gives exactly one plan (today:
     /// `vary`).
     #[serde(default)]
     #[schemars(with = "VaryDocument")]
     vary: Option<VaryDocument>,
+    /// A second field varied with `vary`: the sweep traces every pair of values (a grid,
+    /// `vary`'s values outer, these inner).
+    #[serde(default)]
+    #[schemars(with = "VaryDocument")]
+    and_vary: Option<VaryDocument>,
 }
 
-/// The number varied: its field path and either `values` or `from`, `to` and `steps`.
+/// The field varied: its path and either `values` (numbers, or texts such as material names),
+/// `factors`, or `from`, `to` and `steps`.
 #[derive(Debug, Clone, Deserialize, JsonSchema)]
 #[serde(deny_unknown_fields)]
 #[schemars(rename = "Vary")]
 struct VaryDocument {
-    /// The path of a number of the scenario, as the core's messages write it:
+    /// The path of a number or text of the scenario, as the core's messages write it:
     /// `route[1].bend.radius_mm`, `source.gap_mm`, `source.offset_mm[0]`,
-    /// `guide.section.round.diameter_mm`.
+    /// `guide.section.round.diameter_mm`, `guide.material.library`. `[*]` names every element of
+    /// a list that has the rest of the path: `route[*].bend.radius_mm` is every bend's radius.
     #[schemars(length(min = FIELD_PATH_CHARS.min, max = FIELD_PATH_CHARS.max))]
     field: String,
-    /// The values, in the order they are traced; the first traced point is the reference of
-    /// every difference.
+    /// The values, in the order they are traced (the first traced point is the reference of
+    /// every difference): numbers for a number, texts for a text (a material's name in the
+    /// library). With `[*]`, every named field takes the value.
     #[serde(default)]
     #[schemars(length(min = SWEEP_POINTS.min, max = SWEEP_POINTS.max))]
-    values: Option<Vec<f64>>,
+    values: Option<Vec<VaryValue>>,
+    /// Factors the field's number is multiplied by at each point (with `[*]`, every named
+    /// number: `[0.8, 1, 1.25]` scales every bend radius together), instead of `values`.
+    #[serde(default)]
+    #[schemars(length(min = SWEEP_POINTS.min, max = SWEEP_POINTS.max))]
+    factors: Option<Vec<f64>>,
     /// First value of an even range (with `to` and `steps`, instead of `values`).
     #[serde(default)]
     from: Option<f64>,
@@ -85,6 +102,16 @@ struct VaryDocument {
     #[serde(default)]
     #[schemars(with = "Option<u64>", transform = crate::schema::within(SWEEP_STEPS))]
     steps: Option<f64>,
+}
+
+/// One of `vary.values`: a number or a text.
+#[derive(Debug, Clone, Deserialize, JsonSchema)]
+#[serde(untagged)]
+enum VaryValue {
+    /// A number.
+    Number(f64),
+    /// A text (a material's name).
+    Text(String),
 }
 
 /// A read and checked study: the scenario as read and what is done with it.
@@ -106,13 +133,60 @@ pub enum Plan {
     Sweep(SweepPlan),
 }
 
-/// A sweep's varied field and values.
+/// A sweep's varied fields: one, or two for a grid (every pair, the first field's values
+/// outer).
 #[derive(Debug, Clone)]
 pub struct SweepPlan {
-    /// The varied field.
+    /// The varied fields (`vary`, then `and_vary` if given).
+    pub axes: Vec<Axis>,
+}
+
+/// A varied field and its settings, in the document's order.
+#[derive(Debug, Clone)]
+pub struct Axis {
+    /// The field (may hold `[*]`).
     pub field: FieldPath,
-    /// The values, in the document's order.
-    pub values: Vec<f64>,
+    /// Its setting at each of its points.
+    pub settings: Vec<Setting>,
+}
+
+/// What a varied field is set to at one point.
+#[derive(Debug, Clone, PartialEq)]
+pub enum Setting {
+    /// This number.
+    Number(f64),
+    /// This text.
+    Text(String),
+    /// Its own number times this factor.
+    Factor(f64),
+}
+
+impl Setting {
+    /// Set `field` (every field it names, with `[*]`) in a scenario held as JSON; the error
+    /// says, for people, why it cannot be.
+    pub fn apply(&self, field: &FieldPath, doc: &mut Value) -> Result<(), String> {
+        for one in field.expand(doc)? {
+            match self {
+                Setting::Number(x) => one.set_number(doc, *x)?,
+                Setting::Text(t) => one.set_text(doc, t)?,
+                Setting::Factor(f) => {
+                    let x = one.number_in(doc)? * f;
+                    one.set_number(doc, x)?
+                }
+            }
+        }
+        Ok(())
+    }
+
+    /// The setting as a report shows it: the number, the text or the factor.
+    pub fn as_json(&self) -> Value {
+        match self {
+            Setting::Number(x) | Setting::Factor(x) => serde_json::Number::from_f64(*x)
+                .map(Value::Number)
+                .unwrap_or(Value::Null),
+            Setting::Text(t) => Value::String(t.clone()),
+        }
+    }
 }
 
 /// The plans a study document may give, for messages.
@@ -166,7 +240,17 @@ impl Study {
             }
         };
         let plan = match doc.vary {
-            Some(vary) => read_sweep(&vary, scenario.as_ref(), &mut problems).map(Plan::Sweep),
+            Some(vary) => read_sweep(
+                &vary,
+                doc.and_vary.as_ref(),
+                scenario.as_ref(),
+                &mut problems,
+            )
+            .map(Plan::Sweep),
+            None if doc.and_vary.is_some() => {
+                problems.push(problem("and_vary", "needs vary: the first varied field"));
+                None
+            }
             None => {
                 problems.push(problem(
                     "study",
@@ -186,27 +270,90 @@ impl Study {
     }
 }
 
-/// Read a sweep's `vary`, adding its problems to `problems`.
+/// Read a sweep's `vary` and `and_vary`, adding their problems to `problems`.
 fn read_sweep(
     vary: &VaryDocument,
+    and_vary: Option<&VaryDocument>,
     scenario: Option<&Scenario>,
     problems: &mut Vec<Problem>,
 ) -> Option<SweepPlan> {
-    let field = vary_field(&vary.field, scenario)
-        .map_err(|m| problems.push(problem("vary.field", m)))
-        .ok();
-    let values = vary_values(vary)
-        .map_err(|mut p| problems.append(&mut p))
-        .ok();
+    let doc = scenario.and_then(|s| serde_json::to_value(s).ok());
+    let first = read_axis("vary", vary, doc.as_ref(), problems);
+    let Some(and_vary) = and_vary else {
+        return Some(SweepPlan { axes: vec![first?] });
+    };
+    let second = read_axis("and_vary", and_vary, doc.as_ref(), problems);
+    let (first, second) = (first?, second?);
+    let points = first.settings.len() as u64 * second.settings.len() as u64;
+    if !SWEEP_POINTS.contains(points) {
+        problems.push(problem(
+            "and_vary",
+            format!(
+                "makes a grid of {} × {} = {points} points; a sweep has {} points",
+                first.settings.len(),
+                second.settings.len(),
+                count_rule()
+            ),
+        ));
+        return None;
+    }
+    if first.field.text == second.field.text {
+        problems.push(problem(
+            "and_vary.field",
+            format!(
+                "must differ from vary.field, got {} twice",
+                first.field.text
+            ),
+        ));
+        return None;
+    }
     Some(SweepPlan {
-        field: field?,
-        values: values?,
+        axes: vec![first, second],
     })
 }
 
-/// Read `vary.field` and check that it names a number of the scenario (when it could be read)
-/// that may change from point to point.
-fn vary_field(text: &str, scenario: Option<&Scenario>) -> Result<FieldPath, String> {
+/// Read one varied field (`at` is `vary` or `and_vary`) against the scenario as read (when it
+/// could be), adding its problems to `problems`.
+fn read_axis(
+    at: &str,
+    vary: &VaryDocument,
+    doc: Option<&Value>,
+    problems: &mut Vec<Problem>,
+) -> Option<Axis> {
+    let field = vary_field(&vary.field)
+        .map_err(|m| problems.push(problem(format!("{at}.field"), m)))
+        .ok();
+    let settings = vary_settings(at, vary)
+        .map_err(|mut p| problems.append(&mut p))
+        .ok();
+    let (field, settings) = (field?, settings?);
+    // The field must name what the settings set: a number, or a text for texts.
+    if let Some(doc) = doc {
+        let found = field.expand(doc).and_then(|all| {
+            all.iter().try_for_each(|one| match settings.first() {
+                Some(Setting::Text(_)) => one
+                    .text_in(doc)
+                    .map(|_| ())
+                    .map_err(|e| format!("{e}: it takes numbers (give numbers in {at}.values)")),
+                _ => one.number_in(doc).map(|_| ()).map_err(|e| {
+                    if one.text_in(doc).is_ok() {
+                        format!("names a text in the scenario: give texts in {at}.values")
+                    } else {
+                        e
+                    }
+                }),
+            })
+        });
+        if let Err(m) = found {
+            problems.push(problem(format!("{at}.field"), m));
+            return None;
+        }
+    }
+    Some(Axis { field, settings })
+}
+
+/// Read a varied field's path and check that it may change from point to point.
+fn vary_field(text: &str) -> Result<FieldPath, String> {
     let chars = text.chars().count() as u64;
     if !FIELD_PATH_CHARS.contains(chars) {
         return Err(format!(
@@ -226,42 +373,81 @@ fn vary_field(text: &str, scenario: Option<&Scenario>) -> Result<FieldPath, Stri
         "version" => return Err("cannot be the scenario's version".to_string()),
         _ => {}
     }
-    if let Some(s) = scenario {
-        let doc = serde_json::to_value(s).map_err(|e| e.to_string())?;
-        field.number_in(&doc)?;
-    }
     Ok(field)
 }
 
-/// The values of `vary`: the list, or `steps` + 1 equally spaced from `from` to `to`.
-fn vary_values(v: &VaryDocument) -> Result<Vec<f64>, Vec<Problem>> {
+/// The settings of a varied field (`at` is `vary` or `and_vary`): its values (numbers or
+/// texts, not both), its factors, or `steps` + 1 numbers equally spaced from `from` to `to`.
+fn vary_settings(at: &str, v: &VaryDocument) -> Result<Vec<Setting>, Vec<Problem>> {
     let range_given = [v.from.is_some(), v.to.is_some(), v.steps.is_some()];
-    match (&v.values, range_given) {
-        (Some(values), [false, false, false]) => {
-            let n = values.len() as u64;
-            if SWEEP_POINTS.contains(n) {
-                Ok(values.clone())
-            } else {
-                Err(vec![problem(
-                    "vary.values",
-                    format!("must list {} values, got {n}", count_rule()),
-                )])
-            }
+    let lists = [v.values.is_some(), v.factors.is_some()];
+    let list_count = |field: &str, n: usize| -> Result<(), Vec<Problem>> {
+        if SWEEP_POINTS.contains(n as u64) {
+            Ok(())
+        } else {
+            Err(vec![problem(
+                format!("{at}.{field}"),
+                format!("must list {} {field}, got {n}", count_rule()),
+            )])
         }
-        (Some(_), _) => Err(vec![problem(
-            "vary",
+    };
+    match (lists, range_given) {
+        ([true, false], [false, false, false]) => {
+            let values = v.values.as_deref().unwrap_or_default();
+            list_count("values", values.len())?;
+            let numbers = values
+                .iter()
+                .filter(|x| matches!(x, VaryValue::Number(_)))
+                .count();
+            if numbers != 0 && numbers != values.len() {
+                return Err(vec![problem(
+                    format!("{at}.values"),
+                    "must be all numbers or all texts (material names), not a mix",
+                )]);
+            }
+            Ok(values
+                .iter()
+                .map(|x| match x {
+                    VaryValue::Number(x) => Setting::Number(*x),
+                    VaryValue::Text(t) => Setting::Text(t.clone()),
+                })
+                .collect())
+        }
+        ([false, true], [false, false, false]) => {
+            let factors = v.factors.as_deref().unwrap_or_default();
+            list_count("factors", factors.len())?;
+            if let Some((i, f)) = factors
+                .iter()
+                .enumerate()
+                .find(|(_, f)| !(**f > 0.0 && f.is_finite()))
+            {
+                return Err(vec![problem(
+                    format!("{at}.factors[{i}]"),
+                    format!("must be more than 0, got {f}"),
+                )]);
+            }
+            Ok(factors.iter().map(|&f| Setting::Factor(f)).collect())
+        }
+        ([true, true], _) | ([_, true], [true, _, _] | [_, true, _] | [_, _, true]) => {
+            Err(vec![problem(
+                at,
+                "must give one of values, factors, or from, to and steps, not several",
+            )])
+        }
+        ([true, _], _) => Err(vec![problem(
+            at,
             "must give either values or from, to and steps, not both",
         )]),
-        (None, [true, true, true]) => {
+        ([false, false], [true, true, true]) => {
             let (from, to, steps) = (v.from.unwrap_or(0.0), v.to.unwrap_or(0.0), v.steps);
             let steps = steps.unwrap_or(0.0);
             let whole = steps.fract() == 0.0 && steps >= 0.0 && steps <= SWEEP_STEPS.max as f64;
             if !whole || !SWEEP_STEPS.contains(steps as u64) {
                 return Err(vec![problem(
-                    "vary.steps",
+                    format!("{at}.steps"),
                     format!(
-                        "must be a whole number ≥ {} and ≤ {} (equal steps from vary.from to \
-                         vary.to; the points are one more), got {steps}",
+                        "must be a whole number ≥ {} and ≤ {} (equal steps from {at}.from to \
+                         {at}.to; the points are one more), got {steps}",
                         SWEEP_STEPS.min, SWEEP_STEPS.max
                     ),
                 )]);
@@ -273,26 +459,28 @@ fn vary_values(v: &VaryDocument) -> Result<Vec<f64>, Vec<Problem>> {
             Ok((0..=n)
                 .map(|k| {
                     let t = k as f64 / n as f64;
-                    if k == n {
+                    Setting::Number(if k == n {
                         to
                     } else if span.is_finite() {
                         from + span * k as f64 / n as f64
                     } else {
                         from * (1.0 - t) + to * t
-                    }
+                    })
                 })
                 .collect())
         }
-        (None, given) => {
-            let names = ["vary.from", "vary.to", "vary.steps"];
-            let missing: Vec<Problem> = names
+        ([false, false], given) => {
+            let missing: Vec<Problem> = ["from", "to", "steps"]
                 .iter()
                 .zip(given)
                 .filter(|(_, g)| !g)
                 .map(|(name, _)| {
                     problem(
-                        *name,
-                        "is missing: give vary.values, or vary.from, vary.to and vary.steps",
+                        format!("{at}.{name}"),
+                        format!(
+                            "is missing: give {at}.values, {at}.factors, or {at}.from, {at}.to \
+                             and {at}.steps"
+                        ),
                     )
                 })
                 .collect();

@@ -8,6 +8,7 @@
 //! interval is that of the change alone.
 
 use serde::Serialize;
+use serde_json::Value;
 
 #[cfg(not(target_arch = "wasm32"))]
 use crate::error::RunError;
@@ -17,7 +18,35 @@ use crate::problems::{read_scenario, Problem};
 use crate::stats::{Estimate, Share};
 use crate::trace::{Batch, Budget, Prepared};
 
-use super::{in_scenario, Plan, Study};
+use super::{in_scenario, Plan, Setting, Study, SweepPlan};
+
+/// The document fields of the varied fields, in order.
+const AXES: [&str; 2] = ["vary", "and_vary"];
+
+fn is_false(b: &bool) -> bool {
+    !b
+}
+
+impl SweepPlan {
+    /// Every point's settings, one per varied field: the first field's settings outer, the
+    /// second's inner.
+    pub fn points(&self) -> Vec<Vec<&Setting>> {
+        let mut out: Vec<Vec<&Setting>> = vec![Vec::new()];
+        for axis in &self.axes {
+            out = out
+                .into_iter()
+                .flat_map(|head| {
+                    axis.settings.iter().map(move |s| {
+                        let mut p = head.clone();
+                        p.push(s);
+                        p
+                    })
+                })
+                .collect();
+        }
+        out
+    }
+}
 
 /// One point of a sweep: its value and either its prepared scenario or its problems.
 #[derive(Debug, Clone)]
@@ -30,8 +59,10 @@ enum Point {
 #[derive(Debug, Clone)]
 pub struct Sweep {
     name: Option<String>,
-    field: String,
-    values: Vec<f64>,
+    /// Each varied field's path and whether its settings are factors.
+    axes: Vec<(String, bool)>,
+    /// Each point's settings, one per varied field, as the report shows them.
+    at: Vec<Vec<Value>>,
     points: Vec<Point>,
     /// The first point that can be traced (the reference of the differences).
     reference: Option<usize>,
@@ -85,8 +116,12 @@ pub struct PointResult {
 /// One point of the report: the value, and its result or its problems.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct PointReport {
-    /// The varied field's value at this point.
-    pub value: f64,
+    /// The varied field's value at this point: a number, a text (a material), or the factor
+    /// its number was multiplied by (when the report's `factor` is true).
+    pub value: Value,
+    /// The second varied field's value, in a grid.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub and_value: Option<Value>,
     /// Its result (absent when the point has problems).
     #[serde(skip_serializing_if = "Option::is_none")]
     pub result: Option<PointResult>,
@@ -103,6 +138,16 @@ pub struct SweepReport {
     pub name: Option<String>,
     /// The varied field (path in the scenario).
     pub field: String,
+    /// Whether the points' values are factors the field's number(s) were multiplied by.
+    #[serde(skip_serializing_if = "is_false")]
+    pub factor: bool,
+    /// The second varied field of a grid (the points run through its values for each value
+    /// of the first).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub and_field: Option<String>,
+    /// Whether the second field's values are factors.
+    #[serde(skip_serializing_if = "is_false")]
+    pub and_factor: bool,
     /// Rays per point.
     pub rays: u64,
     /// Seed shared by every point.
@@ -139,7 +184,8 @@ impl Study {
             return Err(trace_problems);
         }
         let rays = self.scenario.trace.rays;
-        let total = rays.saturating_mul(plan.values.len() as u64);
+        let grid = plan.points();
+        let total = rays.saturating_mul(grid.len() as u64);
         if !SWEEP_RAYS.contains(total) {
             return Err(vec![Problem {
                 field: "scenario.trace.rays".to_string(),
@@ -147,7 +193,7 @@ impl Study {
                     "scenario.trace.rays times the points (the sweep's rays) {}, got {rays} × {} \
                      = {total}",
                     SWEEP_RAYS.rule(),
-                    plan.values.len()
+                    grid.len()
                 ),
             }]);
         }
@@ -157,16 +203,17 @@ impl Study {
                 message: e.to_string(),
             }]
         })?;
-        let points: Vec<Point> = plan
-            .values
+        let points: Vec<Point> = grid
             .iter()
-            .map(|&x| {
+            .map(|settings| {
                 let mut doc = base.clone();
-                if let Err(m) = plan.field.set_number(&mut doc, x) {
-                    return Point::Refused(vec![Problem {
-                        message: format!("vary.field {m}"),
-                        field: "vary.field".to_string(),
-                    }]);
+                for ((axis, setting), at) in plan.axes.iter().zip(settings).zip(AXES) {
+                    if let Err(m) = setting.apply(&axis.field, &mut doc) {
+                        return Point::Refused(vec![Problem {
+                            message: format!("{at}.field {m}"),
+                            field: format!("{at}.field"),
+                        }]);
+                    }
                 }
                 let scenario = match read_scenario(&doc.to_string()) {
                     Ok(s) => s,
@@ -192,8 +239,18 @@ impl Study {
         let reference = points.iter().position(|p| matches!(p, Point::Ready(_)));
         Ok(Sweep {
             name: self.name.clone(),
-            field: plan.field.text.clone(),
-            values: plan.values.clone(),
+            axes: plan
+                .axes
+                .iter()
+                .map(|a| {
+                    let factor = matches!(a.settings.first(), Some(Setting::Factor(_)));
+                    (a.field.text.clone(), factor)
+                })
+                .collect(),
+            at: grid
+                .iter()
+                .map(|settings| settings.iter().map(|s| s.as_json()).collect())
+                .collect(),
             points,
             reference,
             rays,
@@ -307,12 +364,14 @@ impl Sweep {
             .iter()
             .enumerate()
             .map(|(i, point)| {
-                let value = self.values[i];
+                let value = self.at[i].first().cloned().unwrap_or(Value::Null);
+                let and_value = self.at[i].get(1).cloned();
                 match (point, &merged.batches[i], &merged.differences[i]) {
                     (Point::Ready(p), Some(batch), Some(d)) => {
                         let r = p.report(batch);
                         PointReport {
                             value,
+                            and_value,
                             result: Some(PointResult {
                                 delivered: r.delivered,
                                 difference: d.share(),
@@ -325,21 +384,27 @@ impl Sweep {
                     }
                     (Point::Refused(problems), _, _) => PointReport {
                         value,
+                        and_value,
                         result: None,
                         problems: problems.clone(),
                     },
                     // A batch from another sweep: nothing to report for this point.
                     _ => PointReport {
                         value,
+                        and_value,
                         result: None,
                         problems: Vec::new(),
                     },
                 }
             })
             .collect();
+        let axis = |k: usize| self.axes.get(k).cloned();
         SweepReport {
             name: self.name.clone(),
-            field: self.field.clone(),
+            field: axis(0).map(|a| a.0).unwrap_or_default(),
+            factor: axis(0).is_some_and(|a| a.1),
+            and_field: axis(1).map(|a| a.0),
+            and_factor: axis(1).is_some_and(|a| a.1),
             rays: self.rays,
             seed: self.seed,
             reference: self.reference,
@@ -361,7 +426,17 @@ pub fn report_csv(report: &SweepReport) -> String {
         .map(|r| r.segments_leaked.len())
         .max()
         .unwrap_or(0);
-    let mut header = vec![report.field.clone()];
+    let label = |field: &str, factor: bool| {
+        if factor {
+            format!("{field} (factor)")
+        } else {
+            field.to_string()
+        }
+    };
+    let mut header = vec![label(&report.field, report.factor)];
+    if let Some(f) = &report.and_field {
+        header.push(label(f, report.and_factor));
+    }
     let mut with_ci = |name: String| {
         header.push(format!("{name} (share)"));
         header.push(format!("{name} ci95 (share)"));
@@ -391,7 +466,10 @@ pub fn report_csv(report: &SweepReport) -> String {
         .join(",");
     out.push('\n');
     for p in &report.points {
-        let mut cells = vec![num(p.value)];
+        let mut cells = vec![cell(&p.value)];
+        if report.and_field.is_some() {
+            cells.push(p.and_value.as_ref().map(cell).unwrap_or_default());
+        }
         let mut push = |s: Option<&Share>| match s {
             Some(s) => {
                 cells.push(num(s.share));
@@ -439,6 +517,15 @@ pub fn report_csv(report: &SweepReport) -> String {
         out.push('\n');
     }
     out
+}
+
+/// A point's value for the CSV: a number as [`num`] writes it, a text quoted.
+fn cell(v: &Value) -> String {
+    match v {
+        Value::Number(n) => n.as_f64().map(num).unwrap_or_default(),
+        Value::String(t) => csv_text(t),
+        _ => String::new(),
+    }
 }
 
 /// A number for the CSV: shortest form that reads back exactly (−0 as 0, an infinite

@@ -415,3 +415,87 @@ fn text_values_and_grids_name_their_problems() {
         "{bad:?}"
     );
 }
+
+#[test]
+fn on_random_routes_a_bend_leaks_nothing_from_its_leak_free_radius_and_never_more_when_wider() {
+    // Random round guides with one bend after a lead-in, the exit face bonded to an
+    // index-matched window (so no light comes back from the exit face at steeper angles). The
+    // bend criterion R_in/d ≥ n_out/(n_core cos θmax − n_out) (docs/REFERENCES.md §4) keeps
+    // every ray of the launch totally reflected, skew rays included: a sweep of the bend's
+    // radius must show exactly zero leak from the closed-form leak-free radius of
+    // `tirtrace check` on, and (common random numbers) a leak that never rises with the radius
+    // beyond the two points' intervals.
+    use rand_core::Rng;
+    let mut rng = rand_pcg::Pcg64Mcg::new(0x5eed_0f_b3d5);
+    let mut uniform =
+        |lo: f64, hi: f64| lo + (hi - lo) * (rng.next_u64() >> 11) as f64 / 2f64.powi(53);
+    for case in 0..4 {
+        let d = uniform(1.5, 4.0);
+        let material = ["pmma", "polycarbonate", "polystyrene"][case % 3];
+        let emitter = if case % 2 == 0 {
+            json!({"led": {"area": {"disk": {"diameter_mm": uniform(0.2, 0.8) * d}},
+                           "pattern": "lambertian"}})
+        } else {
+            json!({"beam": {"diameter_mm": uniform(0.5, 0.95) * d,
+                            "divergence_half_angle_deg": uniform(5.0, 40.0)}})
+        };
+        let scenario = json!({
+            "version": 1,
+            "guide": { "section": { "round": { "diameter_mm": d } },
+                       "material": { "library": material }, "surroundings": { "library": "air" },
+                       "exit_medium": { "library": material } },
+            "route": [
+                { "straight": { "length_mm": uniform(1.0, 10.0) } },
+                { "bend": { "radius_mm": 3.0 * d, "angle_deg": uniform(30.0, 180.0),
+                            "turn_deg": uniform(0.0, 360.0) } },
+                { "straight": { "length_mm": 3.0 } }
+            ],
+            "source": { "emitter": emitter, "wavelength_nm": uniform(450.0, 650.0),
+                        "gap_mm": uniform(0.0, 0.5),
+                        "offset_mm": [uniform(-0.1, 0.1) * d, uniform(-0.1, 0.1) * d] }
+        });
+        let read = tirtrace::problems::read_scenario(&scenario.to_string()).unwrap();
+        let figures = tirtrace::check::figures(&read).unwrap();
+        let r_in = figures.bends[0]
+            .leak_free_inner_radius_mm
+            .expect("these launches have a leak-free radius");
+        let factors = [0.4, 0.6, 0.8, 0.95, 1.001, 1.2, 1.6];
+        let radii: Vec<f64> = factors.iter().map(|f| f * r_in + 0.5 * d).collect();
+        let report = sweep(&study(
+            scenario,
+            "route[1].bend.radius_mm",
+            &radii,
+            8192,
+            case as u64 + 1,
+        ));
+        let leak: Vec<_> = report
+            .points
+            .iter()
+            .map(|p| p.result.as_ref().unwrap().segments_leaked[1])
+            .collect();
+        for (f, l) in factors.iter().zip(&leak) {
+            if *f > 1.0 {
+                assert_eq!(
+                    l.share, 0.0,
+                    "case {case}: leak at {f}× the leak-free radius"
+                );
+            }
+        }
+        for (i, w) in leak.windows(2).enumerate() {
+            assert!(
+                w[1].share <= w[0].share + w[0].ci95 + w[1].ci95,
+                "case {case}: leak rises from {}× to {}×: {:?} -> {:?}",
+                factors[i],
+                factors[i + 1],
+                w[0],
+                w[1]
+            );
+        }
+        // The sweep is not vacuous: well inside the leak-free radius the bend leaks.
+        assert!(
+            leak[0].share > leak[0].ci95,
+            "case {case}: no leak at 0.4×: {:?}",
+            leak[0]
+        );
+    }
+}

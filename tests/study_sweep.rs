@@ -426,9 +426,9 @@ fn on_random_routes_a_bend_leaks_nothing_from_its_leak_free_radius_and_never_mor
     // `tirtrace check` on, and (common random numbers) a leak that never rises with the radius
     // beyond the two points' intervals.
     use rand_core::Rng;
-    let mut rng = rand_pcg::Pcg64Mcg::new(0x5eed_0f_b3d5);
+    let mut rng = rand_pcg::Pcg64Mcg::new(0x005e_ed0f_b3d5);
     let mut uniform =
-        |lo: f64, hi: f64| lo + (hi - lo) * (rng.next_u64() >> 11) as f64 / 2f64.powi(53);
+        |lo: f64, hi: f64| lo + (hi - lo) * (rng.next_u64() >> 11) as f64 / (1u64 << 53) as f64;
     for case in 0..4 {
         let d = uniform(1.5, 4.0);
         let material = ["pmma", "polycarbonate", "polystyrene"][case % 3];

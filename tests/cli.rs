@@ -652,3 +652,56 @@ fn the_example_study_sweeps_its_range() {
     // from 4.5 to 12 in 5 equal steps, both ends included.
     assert_eq!(values, ["4.5", "6", "7.5", "9", "10.5", "12"]);
 }
+
+#[test]
+fn a_sweep_in_pieces_merges_to_the_whole_run_byte_for_byte() {
+    // Three pieces traced separately (as three tasks of a job runner would), merged in another
+    // order: the report is the whole run's, byte for byte, JSON and CSV.
+    let dir = std::path::Path::new(env!("CARGO_TARGET_TMPDIR")).join("sweep-pieces");
+    std::fs::create_dir_all(&dir).unwrap();
+    let study = radius_study("[1, 6, 9]");
+    let args = ["study", "-", "--rays", "9000", "--seed", "4"];
+    let mut names = Vec::new();
+    for k in 1..=3 {
+        let piece = ok_stdout(
+            &[&args[..], &["--piece", &format!("{k}/3")]].concat(),
+            &study,
+        );
+        let name = dir.join(format!("piece-{k}.json"));
+        std::fs::write(&name, piece).unwrap();
+        names.push(name.to_str().unwrap().to_string());
+    }
+    fn merge<'a>(args: &[&'a str], names: &[&'a String], extra: &[&'a str]) -> Vec<&'a str> {
+        let mut a: Vec<&str> = args.to_vec();
+        a.extend_from_slice(extra);
+        a.push("--merge");
+        a.extend(names.iter().map(|n| n.as_str()));
+        a
+    }
+    let order = [&names[2], &names[0], &names[1]];
+    assert_eq!(
+        ok_stdout(&merge(&args, &order, &[]), &study),
+        ok_stdout(&args, &study)
+    );
+    assert_eq!(
+        ok_stdout(&merge(&args, &order, &["--csv"]), &study),
+        ok_stdout(&[&args[..], &["--csv"]].concat(), &study)
+    );
+    // A missing piece, a piece given twice, another seed: named, nothing printed.
+    let e = one_line_error(&merge(&args, &[&names[0], &names[2]], &[]), &study);
+    assert!(e.contains("are missing") || e.contains("is missing"), "{e}");
+    let e = one_line_error(
+        &merge(&args, &[&names[0], &names[1], &names[1], &names[2]], &[]),
+        &study,
+    );
+    assert!(e.contains("is in two pieces"), "{e}");
+    let mut other = merge(&args, &order, &[]);
+    other[5] = "5";
+    let e = one_line_error(&other, &study);
+    assert!(
+        e.contains("another study") && e.contains("study.scenario.trace.seed"),
+        "{e}"
+    );
+    let e = one_line_error(&[&args[..], &["--piece", "0/3"]].concat(), &study);
+    assert!(e.contains("--piece must be K/N with 1 ≤ K ≤ N"), "{e}");
+}

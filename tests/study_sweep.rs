@@ -5,6 +5,7 @@
 
 use serde_json::{json, Value};
 use tirtrace::problems::Problem;
+use tirtrace::study::pieces::Piece;
 use tirtrace::study::{Setting, Study, SweepReport};
 use tirtrace::trace::Prepared;
 
@@ -498,4 +499,48 @@ fn on_random_routes_a_bend_leaks_nothing_from_its_leak_free_radius_and_never_mor
             leak[0]
         );
     }
+}
+
+#[test]
+fn pieces_of_any_split_merge_to_the_single_run_bit_for_bit() {
+    // Splits finer than the batches (empty pieces), uneven ones, merged in reverse order after
+    // a trip through JSON (as files between machines): the single run's result, bit for bit.
+    let s = study(
+        example("bike"),
+        "route[2].bend.radius_mm",
+        &[4.0, 6.0],
+        5 * 4096 + 17,
+        9,
+    );
+    let sweep = s.prepare_sweep().unwrap();
+    let whole = sweep.trace_all_serial();
+    let doc = json!({ "any": "study" });
+    for n in [1u64, 2, 5, 8] {
+        let mut pieces: Vec<Piece> = (1..=n)
+            .map(|k| {
+                let p = sweep.piece(&doc, k, n).unwrap();
+                serde_json::from_str(&serde_json::to_string(&p).unwrap()).unwrap()
+            })
+            .collect();
+        pieces.reverse();
+        let names: Vec<String> = (1..=n).rev().map(|k| format!("piece {k}")).collect();
+        let merged = sweep.merge_pieces(&doc, &pieces, &names).unwrap();
+        assert_eq!(merged, whole, "{n} pieces");
+        assert_eq!(sweep.report(&merged), sweep.report(&whole));
+    }
+    // A piece of another sweep (other points) does not fit.
+    let other = study(
+        example("bike"),
+        "source.gap_mm",
+        &[0.1, 0.2, 0.3],
+        5 * 4096 + 17,
+        9,
+    )
+    .prepare_sweep()
+    .unwrap();
+    let foreign = other.piece(&doc, 1, 1).unwrap();
+    let e = sweep
+        .merge_pieces(&doc, &[foreign], &["theirs".to_string()])
+        .unwrap_err();
+    assert!(e.contains("does not fit"), "{e}");
 }

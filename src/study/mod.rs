@@ -24,6 +24,7 @@
 //! difference to the first traced point is estimated from the per-ray differences.
 
 pub mod path;
+pub mod pieces;
 pub mod sweep;
 
 use schemars::JsonSchema;

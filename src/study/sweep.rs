@@ -7,7 +7,7 @@
 //! the rays the design change does not touch have d_k = 0 exactly, and the difference's
 //! interval is that of the change alone.
 
-use serde::Serialize;
+use serde::{Deserialize, Serialize};
 use serde_json::Value;
 
 #[cfg(not(target_arch = "wasm32"))]
@@ -71,8 +71,9 @@ pub struct Sweep {
 }
 
 /// The merged result of some batches of every point, in point order (`None` for a refused
-/// point).
-#[derive(Debug, Clone)]
+/// point). Serialisable, so that batches traced elsewhere (another worker, another machine) can
+/// be merged in batch order.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct SweepBatch {
     /// Each point's merged batches.
     pub batches: Vec<Option<Batch>>,
@@ -305,6 +306,22 @@ impl Sweep {
             }
         }
         out
+    }
+
+    /// Whether `batch` can be a batch result of this sweep: a result exactly for the points that
+    /// can be traced, each fitting its point's scenario.
+    pub fn fits(&self, batch: &SweepBatch) -> bool {
+        batch.batches.len() == self.points.len()
+            && batch.differences.len() == self.points.len()
+            && self
+                .points
+                .iter()
+                .zip(batch.batches.iter().zip(&batch.differences))
+                .all(|(point, (b, d))| match (point, b, d) {
+                    (Point::Ready(p), Some(b), Some(_)) => p.fits(b),
+                    (Point::Refused(_), None, None) => true,
+                    _ => false,
+                })
     }
 
     /// Trace every batch on the calling thread, merged in batch order.

@@ -90,6 +90,14 @@ struct StudyArgs {
     /// Print CSV instead (for a sweep: one row per point, units in the header).
     #[arg(long)]
     csv: bool,
+    /// Trace only piece K of N of a sweep (an even share of its batches) and print the piece
+    /// (JSON) for --merge, e.g. one piece per task of a job runner.
+    #[arg(long, value_name = "K/N", conflicts_with_all = ["merge", "csv"])]
+    piece: Option<String>,
+    /// Merge the pieces traced with --piece (every piece, each once, in any order) and print
+    /// the report: the same, bit for bit, as tracing the whole study here.
+    #[arg(long, value_name = "PIECE.json", num_args = 1..)]
+    merge: Vec<String>,
 }
 
 /// The documents `tirtrace schema` can print.
@@ -301,17 +309,45 @@ fn study(args: StudyArgs) -> Result<String, String> {
         first_study_problem(&problems)
     };
     match &study.plan {
-        Plan::Sweep(_) => sweep(&study, &args, refused),
+        Plan::Sweep(_) => sweep(&study, &text, &args, refused),
     }
 }
 
 /// A sweep's report (`vary`).
 fn sweep(
     study: &Study,
+    text: &str,
     args: &StudyArgs,
     refused: impl Fn(Vec<Problem>) -> String,
 ) -> Result<String, String> {
     let sweep = study.prepare_sweep().map_err(refused)?;
+    if args.piece.is_some() || !args.merge.is_empty() {
+        // The study as traced: the document with the rays and seed used.
+        let mut doc: serde_json::Value = serde_json::from_str(text).map_err(|e| e.to_string())?;
+        doc["scenario"]["trace"]["rays"] = study.scenario.trace.rays.into();
+        doc["scenario"]["trace"]["seed"] = study.scenario.trace.seed.into();
+        if let Some(piece) = &args.piece {
+            let (k, n) = piece
+                .split_once('/')
+                .and_then(|(k, n)| Some((k.trim().parse().ok()?, n.trim().parse().ok()?)))
+                .ok_or_else(|| {
+                    format!("--piece must be K/N with 1 ≤ K ≤ N (piece K of N), got {piece}")
+                })?;
+            let piece = sweep
+                .piece(&doc, k, n)
+                .map_err(|m| format!("--piece {m}"))?;
+            return serde_json::to_string(&piece).map_err(|e| e.to_string());
+        }
+        let mut pieces = Vec::with_capacity(args.merge.len());
+        for name in &args.merge {
+            let text = read_text(name)?;
+            let piece: tirtrace::study::pieces::Piece = serde_json::from_str(&text)
+                .map_err(|e| format!("{name} could not be read as a piece of a study: {e}"))?;
+            pieces.push(piece);
+        }
+        let merged = sweep.merge_pieces(&doc, &pieces, &args.merge)?;
+        return sweep_output(&sweep, &merged, args.csv);
+    }
     let batches = sweep.batch_count();
     let show = std::io::stderr().is_terminal();
     let merged = sweep
@@ -329,8 +365,17 @@ fn sweep(
             }
         })
         .map_err(|e| format!("--threads: could not start {} threads: {e}", args.threads))?;
-    let report = sweep.report(&merged);
-    if args.csv {
+    sweep_output(&sweep, &merged, args.csv)
+}
+
+/// A sweep's report of merged batches, as JSON or CSV.
+fn sweep_output(
+    sweep: &tirtrace::study::Sweep,
+    merged: &tirtrace::study::SweepBatch,
+    csv: bool,
+) -> Result<String, String> {
+    let report = sweep.report(merged);
+    if csv {
         let csv = tirtrace::study::sweep::report_csv(&report);
         Ok(csv.strip_suffix('\n').unwrap_or(&csv).to_string())
     } else {

@@ -544,3 +544,57 @@ fn pieces_of_any_split_merge_to_the_single_run_bit_for_bit() {
         .unwrap_err();
     assert!(e.contains("does not fit"), "{e}");
 }
+
+/// Area shared by two disks of radii `r1`, `r2` whose centres are `c` apart (the lens area;
+/// plane geometry, e.g. Weisstein, "Circle-Circle Intersection", MathWorld — from memory).
+fn lens_area(r1: f64, r2: f64, c: f64) -> f64 {
+    use std::f64::consts::PI;
+    if c >= r1 + r2 {
+        return 0.0;
+    }
+    if c <= (r1 - r2).abs() {
+        return PI * r1.min(r2) * r1.min(r2);
+    }
+    let a1 = libm::acos((c * c + r1 * r1 - r2 * r2) / (2.0 * c * r1));
+    let a2 = libm::acos((c * c + r2 * r2 - r1 * r1) / (2.0 * c * r2));
+    r1 * r1 * (a1 - libm::sin(2.0 * a1) / 2.0) + r2 * r2 * (a2 - libm::sin(2.0 * a2) / 2.0)
+}
+
+#[test]
+fn a_small_led_keeps_its_coupling_until_its_edge_reaches_the_face_s_edge() {
+    // A 0.4 mm Lambertian LED touching (gap 0) the entry face of a 3 mm rod, moved across it.
+    // While the whole LED is on the face, every ray meets it at the same angle wherever the LED
+    // is: with common random numbers the light missing the face (none) and reflected at it
+    // (Fresnel) are the same, bit for bit. Past the edge, the share missing the face is the
+    // share of the LED's area off the face (uniform emission over the area): 1 − lens area /
+    // LED area (plane geometry).
+    let (d, led) = (3.0, 0.4);
+    let scenario = json!({
+        "version": 1,
+        "guide": { "section": { "round": { "diameter_mm": d } },
+                   "material": { "library": "pmma" }, "surroundings": { "library": "air" } },
+        "route": [ { "straight": { "length_mm": 5.0 } } ],
+        "source": { "emitter": { "led": { "area": { "disk": { "diameter_mm": led } },
+                                          "pattern": "lambertian" } },
+                    "wavelength_nm": 550, "gap_mm": 0.0 }
+    });
+    let offsets = [0.0, 0.6, 1.1, 1.29, 1.4, 1.5, 1.6, 1.75];
+    let report = sweep(&study(scenario, "source.offset_mm[0]", &offsets, 20_000, 2));
+    let budget = |i: usize| report.points[i].result.as_ref().unwrap().budget.clone();
+    for (i, &x) in offsets.iter().enumerate() {
+        let b = budget(i);
+        if x + led / 2.0 < d / 2.0 {
+            assert_eq!(b.missed_entry.share, 0.0, "offset {x}");
+            assert_eq!(b.reflected_entry, budget(0).reflected_entry, "offset {x}");
+        } else {
+            let off = 1.0 - lens_area(d / 2.0, led / 2.0, x) / (std::f64::consts::PI * 0.04);
+            let m = b.missed_entry;
+            assert!(
+                (m.share - off).abs() <= m.ci95.max(1e-12),
+                "offset {x}: missed {m:?}, area off the face {off}"
+            );
+        }
+    }
+    // The last LED is wholly off the face: everything misses it.
+    assert_eq!(budget(offsets.len() - 1).missed_entry.share, 1.0);
+}

@@ -19,6 +19,7 @@
 //! so neighbouring points differ by the design change rather than by noise, and each point's
 //! difference to the first traced point is estimated from the per-ray differences.
 
+pub mod find;
 pub mod path;
 pub mod sweep;
 
@@ -29,6 +30,7 @@ use serde_json::Value;
 use crate::limits::{FieldErrors, FIELD_PATH_CHARS, SWEEP_POINTS, SWEEP_STEPS};
 use crate::problems::{read_scenario, Problem};
 use crate::scenario::Scenario;
+pub use find::{Find, FindPlan, FindReport};
 pub use path::FieldPath;
 pub use sweep::{PointReport, PointResult, Sweep, SweepBatch, SweepReport};
 
@@ -41,7 +43,7 @@ pub const STUDY_VERSION: u32 = 1;
 #[serde(deny_unknown_fields)]
 #[schemars(title = "tirtrace study")]
 // Exactly one plan (the schema's counterpart of the reader's check).
-#[schemars(extend("oneOf" = [{ "required": ["vary"] }]))]
+#[schemars(extend("oneOf" = [{ "required": ["vary"] }, { "required": ["find"] }]))]
 pub(crate) struct StudyDocument {
     /// The study document's version: 1.
     #[schemars(transform = crate::schema::version(STUDY_VERSION))]
@@ -53,11 +55,16 @@ pub(crate) struct StudyDocument {
     /// varied number set.
     #[schemars(with = "Scenario")]
     scenario: Value,
-    /// A sweep: the number varied and its values. A study gives exactly one plan (today:
-    /// `vary`).
+    /// A sweep: the number varied and its values. A study gives exactly one plan (`vary` or
+    /// `find`).
     #[serde(default)]
     #[schemars(with = "VaryDocument")]
     vary: Option<VaryDocument>,
+    /// A search: the smallest or largest value of one number of the scenario that meets a
+    /// criterion ([`find`]).
+    #[serde(default)]
+    #[schemars(with = "find::FindDocument")]
+    find: Option<find::FindDocument>,
 }
 
 /// The number varied: its field path and either `values` or `from`, `to` and `steps`.
@@ -104,6 +111,8 @@ pub struct Study {
 pub enum Plan {
     /// `vary`: trace the scenario at several values of one of its numbers ([`sweep`]).
     Sweep(SweepPlan),
+    /// `find`: search one number for the limit of a criterion ([`find`]).
+    Find(FindPlan),
 }
 
 /// A sweep's varied field and values.
@@ -116,7 +125,7 @@ pub struct SweepPlan {
 }
 
 /// The plans a study document may give, for messages.
-const PLANS: &str = "vary";
+const PLANS: &str = "vary, find";
 
 /// A problem of the study document: its field path is in the study document
 /// (`vary.steps`, `scenario.route[1].bend.radius_mm`).
@@ -165,9 +174,21 @@ impl Study {
                 None
             }
         };
-        let plan = match doc.vary {
-            Some(vary) => read_sweep(&vary, scenario.as_ref(), &mut problems).map(Plan::Sweep),
-            None => {
+        let plan = match (doc.vary, doc.find) {
+            (Some(vary), None) => {
+                read_sweep(&vary, scenario.as_ref(), &mut problems).map(Plan::Sweep)
+            }
+            (None, Some(f)) => {
+                find::read_find(&f, scenario.as_ref(), &mut problems).map(Plan::Find)
+            }
+            (Some(_), Some(_)) => {
+                problems.push(problem(
+                    "study",
+                    format!("must give exactly one plan: {PLANS} (both vary and find are given)"),
+                ));
+                None
+            }
+            (None, None) => {
                 problems.push(problem(
                     "study",
                     format!("must give a plan: {PLANS} (none is given)"),

@@ -327,3 +327,91 @@ fn bad_documents_name_their_field() {
         r.summary
     );
 }
+
+/// Run the command line with `stdin`: success, stdout, stderr.
+fn cli(args: &[&str], stdin: &str) -> (bool, String, String) {
+    use std::io::Write;
+    use std::process::{Command, Stdio};
+    let mut child = Command::new(env!("CARGO_BIN_EXE_tirtrace"))
+        .args(args)
+        .stdin(Stdio::piped())
+        .stdout(Stdio::piped())
+        .stderr(Stdio::piped())
+        .spawn()
+        .unwrap();
+    child
+        .stdin
+        .take()
+        .unwrap()
+        .write_all(stdin.as_bytes())
+        .unwrap();
+    let out = child.wait_with_output().unwrap();
+    (
+        out.status.success(),
+        String::from_utf8(out.stdout).unwrap(),
+        String::from_utf8(out.stderr).unwrap(),
+    )
+}
+
+#[test]
+fn the_example_search_runs_from_the_command_line() {
+    let file = "examples/studies/thermostat_smallest_bend.json";
+    let (ok, out, err) = cli(&["study", file, "--rays", "4096", "--threads", "1"], "");
+    assert!(ok, "{err}");
+    let r: Value = serde_json::from_str(&out).unwrap();
+    assert_eq!(r["verdict"], "found", "{}", r["summary"]);
+    let answer = r["answer"].as_f64().unwrap();
+    // A Lambertian LED fills the guide's acceptance, so the closed form (every ray kept) asks
+    // for a far wider bend than one allowed to leak 1 %.
+    assert!(r["bend"]["leak_free_centre_radius_mm"].as_f64().unwrap() > answer);
+    assert!(r["summary"]
+        .as_str()
+        .unwrap()
+        .starts_with("the smallest route[1].bend.radius_mm at which bend route[1] leaks"));
+    let (ok, csv, _) = cli(&["study", file, "--rays", "4096", "--csv"], "");
+    assert!(ok);
+    let header = csv.lines().next().unwrap();
+    assert!(
+        header.starts_with("\"route[1].bend.radius_mm\",\"margin (share)\""),
+        "{header}"
+    );
+    assert_eq!(
+        csv.lines().count(),
+        r["evaluations"].as_array().unwrap().len() + 1
+    );
+    // A bad document: the field and its range, on stderr.
+    let doc = json!({ "version": 1, "scenario": rod(3.0, 0.0),
+                      "find": smallest_radius(3.0, 9.0, 0.0) });
+    let (ok, _, err) = cli(&["study", "-"], &doc.to_string());
+    assert!(!ok);
+    assert!(
+        err.contains("find.bend_leak_at_most_percent must be > 0 % and ≤ 100 %, got 0"),
+        "{err}"
+    );
+}
+
+#[test]
+fn watching_a_bend_leaves_the_trace_unchanged_and_adds_up() {
+    // The thermostat scenario (two bends, a clip, a receiver): the batch traced while watching
+    // bend route[1] is the ordinary batch, bit for bit, and the per-ray figures add up to its
+    // tallies: delivered and the bend's leaked share.
+    let text = include_str!("../examples/scenarios/thermostat_status_led.json");
+    let mut s = tirtrace::scenario::Scenario::from_json(text).unwrap();
+    s.trace.rays = 3000;
+    let p = tirtrace::trace::Prepared::new(&s).unwrap();
+    let plain = p.trace_batch(0, 0);
+    let mut rays = Vec::new();
+    let watched = p.trace_batch_watching(0, 1, &mut rays);
+    assert_eq!(plain, watched);
+    assert_eq!(rays.len(), 3000);
+    let report = p.report(&watched);
+    let mean = |f: fn(&tirtrace::trace::RayFigures) -> f64| {
+        rays.iter().map(f).sum::<f64>() / rays.len() as f64
+    };
+    assert!((mean(|r| r.delivered) - report.delivered.share).abs() < 1e-12);
+    assert!((mean(|r| r.leaked) - report.segments[1].leaked.share).abs() < 1e-12);
+    // Whatever leaks in the bend entered it first, with at least that weight.
+    assert!(rays.iter().all(|r| r.leaked <= r.entered));
+    let entered = mean(|r| r.entered);
+    assert!(entered > 0.5 && entered < 1.0, "{entered}");
+}

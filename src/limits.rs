@@ -356,6 +356,32 @@ pub const SWEEP_RAYS: Count = Count::new(1, RAYS.max);
 /// fifty characters.
 pub const FIELD_PATH_CHARS: Count = Count::new(1, 200);
 
+/// The allowed loss of a search (`find.bend_leak_at_most_percent`,
+/// `find.delivered_loss_at_most_percent`), % of the light entering the bend or of the
+/// scenario's own delivered share. Above 0: "no loss at all" cannot be told from noise by any
+/// number of rays (a search for it would never end); 100 % allows everything.
+pub const FIND_PERCENT: Range = Range::open_closed(0.0, 100.0).unit(" %");
+
+/// Values of a search's first, even scan from `find.from` to `find.to` (both ends included):
+/// enough to bracket the crossing in one eighth of the range and to see a criterion that does
+/// not change monotonically.
+pub const FIND_SCAN_POINTS: usize = 9;
+
+/// A search's resolution as a fraction of its range: bisection stops when the bracket is this
+/// narrow (one part in a thousand is finer than any part is made to).
+pub const FIND_RESOLUTION: f64 = 1e-3;
+
+/// Evaluations of a search at most (each traces the scenario with all its rays). Time: the scan
+/// ([`FIND_SCAN_POINTS`]) plus three bisections (the answer and both ends of its interval) of
+/// seven halvings each (an eighth of the range down to [`FIND_RESOLUTION`]) need 30; the rest
+/// is slack.
+pub const FIND_EVALUATIONS: usize = 40;
+
+/// Rays of a whole search: rays per trace times the traces of the most evaluations
+/// ([`FIND_EVALUATIONS`], two traces each when the delivered share is compared with the
+/// scenario's own). Time: no more than the longest single trace ([`RAYS`]).
+pub const FIND_RAYS: Count = Count::new(1, RAYS.max);
+
 #[cfg(test)]
 mod tests {
     use super::*;

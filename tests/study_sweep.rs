@@ -232,7 +232,9 @@ fn bad_documents_name_their_field() {
         .to_string(),
     )
     .unwrap();
-    let tirtrace::study::Plan::Sweep(plan) = &s.plan;
+    let tirtrace::study::Plan::Sweep(plan) = &s.plan else {
+        panic!("a sweep")
+    };
     let values: Vec<Setting> = [-0.5, -0.25, 0.0, 0.25, 0.5]
         .into_iter()
         .map(Setting::Number)

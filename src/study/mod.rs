@@ -23,6 +23,7 @@
 //! so neighbouring points differ by the design change rather than by noise, and each point's
 //! difference to the first traced point is estimated from the per-ray differences.
 
+pub mod find;
 pub mod path;
 pub mod pieces;
 pub mod sweep;
@@ -34,6 +35,7 @@ use serde_json::Value;
 use crate::limits::{FieldErrors, FIELD_PATH_CHARS, SWEEP_POINTS, SWEEP_STEPS};
 use crate::problems::{read_scenario, Problem};
 use crate::scenario::Scenario;
+pub use find::{Find, FindPlan, FindReport};
 pub use path::FieldPath;
 pub use sweep::{PointReport, PointResult, Sweep, SweepBatch, SweepReport};
 
@@ -46,7 +48,7 @@ pub const STUDY_VERSION: u32 = 1;
 #[serde(deny_unknown_fields)]
 #[schemars(title = "tirtrace study")]
 // Exactly one plan (the schema's counterpart of the reader's check).
-#[schemars(extend("oneOf" = [{ "required": ["vary"] }]))]
+#[schemars(extend("oneOf" = [{ "required": ["vary"] }, { "required": ["find"] }]))]
 pub(crate) struct StudyDocument {
     /// The study document's version: 1.
     #[schemars(transform = crate::schema::version(STUDY_VERSION))]
@@ -58,8 +60,8 @@ pub(crate) struct StudyDocument {
     /// varied number set.
     #[schemars(with = "Scenario")]
     scenario: Value,
-    /// A sweep: the field varied and its values. A study gives exactly one plan (today:
-    /// `vary`).
+    /// A sweep: the field varied and its values. A study gives exactly one plan (`vary` or
+    /// `find`).
     #[serde(default)]
     #[schemars(with = "VaryDocument")]
     vary: Option<VaryDocument>,
@@ -68,6 +70,11 @@ pub(crate) struct StudyDocument {
     #[serde(default)]
     #[schemars(with = "VaryDocument")]
     and_vary: Option<VaryDocument>,
+    /// A search: the smallest or largest value of one number of the scenario that meets a
+    /// criterion ([`find`]).
+    #[serde(default)]
+    #[schemars(with = "find::FindDocument")]
+    find: Option<find::FindDocument>,
 }
 
 /// The field varied: its path and either `values` (numbers, or texts such as material names),
@@ -132,6 +139,8 @@ pub struct Study {
 pub enum Plan {
     /// `vary`: trace the scenario at several values of one of its numbers ([`sweep`]).
     Sweep(SweepPlan),
+    /// `find`: search one number for the limit of a criterion ([`find`]).
+    Find(FindPlan),
 }
 
 /// A sweep's varied fields: one, or two for a grid (every pair, the first field's values
@@ -191,7 +200,7 @@ impl Setting {
 }
 
 /// The plans a study document may give, for messages.
-const PLANS: &str = "vary";
+const PLANS: &str = "vary, find";
 
 /// A problem of the study document: its field path is in the study document
 /// (`vary.steps`, `scenario.route[1].bend.radius_mm`).
@@ -240,19 +249,29 @@ impl Study {
                 None
             }
         };
-        let plan = match doc.vary {
-            Some(vary) => read_sweep(
+        if doc.and_vary.is_some() && doc.vary.is_none() {
+            problems.push(problem("and_vary", "needs vary: the first varied field"));
+        }
+        let plan = match (doc.vary, doc.find) {
+            (Some(vary), None) => read_sweep(
                 &vary,
                 doc.and_vary.as_ref(),
                 scenario.as_ref(),
                 &mut problems,
             )
             .map(Plan::Sweep),
-            None if doc.and_vary.is_some() => {
-                problems.push(problem("and_vary", "needs vary: the first varied field"));
+            (None, Some(f)) => {
+                find::read_find(&f, scenario.as_ref(), &mut problems).map(Plan::Find)
+            }
+            (Some(_), Some(_)) => {
+                problems.push(problem(
+                    "study",
+                    format!("must give exactly one plan: {PLANS} (both vary and find are given)"),
+                ));
                 None
             }
-            None => {
+            (None, None) if doc.and_vary.is_some() => None,
+            (None, None) => {
                 problems.push(problem(
                     "study",
                     format!("must give a plan: {PLANS} (none is given)"),

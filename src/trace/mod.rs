@@ -37,6 +37,7 @@ pub use report::{
     Absolute, AngularMap, Budget, ContactReport, ExitMap, Intensity, RouteProfile, SegmentReport,
     TraceReport, Value,
 };
+use walk::Watch;
 
 use rand_core::SeedableRng;
 use rand_pcg::Pcg64Mcg;
@@ -60,6 +61,18 @@ pub const ANGLE_BINS: usize = 90;
 pub const ANGULAR_CELLS: usize = 41;
 /// Bins along the route for the leakage profile.
 pub const ROUTE_BINS: usize = 200;
+
+/// One ray's figures for a watched route segment ([`Prepared::trace_batch_watching`]): weights,
+/// as fractions of the ray's launch weight 1.
+#[derive(Debug, Clone, Copy, Default, PartialEq)]
+pub struct RayFigures {
+    /// Weight delivered through the exit face.
+    pub delivered: f64,
+    /// Weight on first entering the segment going forward (0 if it never did).
+    pub entered: f64,
+    /// Weight leaked through the segment's side walls.
+    pub leaked: f64,
+}
 
 /// What became of a sampled path (for drawing).
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
@@ -209,7 +222,7 @@ impl Prepared {
     /// Trace batch `index` (0-based). Paths are recorded for the first `keep_paths` rays of
     /// batch 0.
     pub fn trace_batch(&self, index: u64, keep_paths: usize) -> Batch {
-        self.trace_batch_inner(index, keep_paths, None)
+        self.trace_batch_inner(index, keep_paths, None, None)
     }
 
     /// [`Prepared::trace_batch`] (no paths kept), also writing each ray's delivered weight, in
@@ -219,7 +232,7 @@ impl Prepared {
     /// ([`crate::stats::Estimate::of_differences`]).
     pub fn trace_batch_per_ray(&self, index: u64, delivered: &mut Vec<f64>) -> Batch {
         delivered.clear();
-        self.trace_batch_inner(index, 0, Some(delivered))
+        self.trace_batch_inner(index, 0, Some(delivered), None)
     }
 
     fn trace_batch_inner(
@@ -227,6 +240,7 @@ impl Prepared {
         index: u64,
         keep_paths: usize,
         mut delivered: Option<&mut Vec<f64>>,
+        mut watched: Option<(usize, &mut Vec<RayFigures>)>,
     ) -> Batch {
         let rays = self.scenario.trace.rays;
         let first = index * BATCH_RAYS;
@@ -246,12 +260,33 @@ impl Prepared {
             } else {
                 None
             };
-            let (fate, on_receiver) =
-                self.trace_ray(&mut rng, &mut contrib, &mut out, path.as_mut());
+            let mut watch = watched.as_ref().map(|&(segment, _)| Watch {
+                segment,
+                entered: None,
+            });
+            let (fate, on_receiver) = self.trace_ray(
+                &mut rng,
+                &mut contrib,
+                &mut out,
+                path.as_mut(),
+                watch.as_mut(),
+            );
             self.ledger.fill_totals(&mut contrib);
             tallies.add(&contrib);
             if let Some(d) = delivered.as_deref_mut() {
                 d.push(contrib[self.ledger.delivered()]);
+            }
+            if let (Some((segment, rays)), Some(watch)) = (watched.as_mut(), watch) {
+                let leaked = if *segment < self.route.segments.len() {
+                    contrib[self.ledger.leaked(*segment)]
+                } else {
+                    0.0
+                };
+                rays.push(RayFigures {
+                    delivered: contrib[self.ledger.delivered()],
+                    entered: watch.entered.unwrap_or(0.0),
+                    leaked,
+                });
             }
             receiver.add(&[on_receiver]);
             if let Some(points) = path {
@@ -262,6 +297,23 @@ impl Prepared {
         out.receiver = receiver.estimates().next().unwrap_or_default();
         out.rays = count;
         out
+    }
+
+    /// [`Prepared::trace_batch`] (no paths kept), also writing, in ray order, each ray's
+    /// delivered weight, its weight when it first entered route segment `segment` going forward
+    /// (0 if it never did; 1 for segment 0, just inside the entry face) and the weight it leaked
+    /// through that segment's side walls, into `rays` (cleared first). The batch and the random
+    /// numbers are those of [`Prepared::trace_batch`]; a `segment` beyond the route gives
+    /// zeros for the segment's figures. Used by the design studies' searches, which ask how
+    /// much of the light entering a bend it leaks.
+    pub fn trace_batch_watching(
+        &self,
+        index: u64,
+        segment: usize,
+        rays: &mut Vec<RayFigures>,
+    ) -> Batch {
+        rays.clear();
+        self.trace_batch_inner(index, 0, None, Some((segment, rays)))
     }
 
     /// Trace every batch on the calling thread and merge them in order.

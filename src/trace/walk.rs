@@ -62,6 +62,19 @@ struct Walk<'a> {
     contrib: &'a mut [f64],
     out: &'a mut Batch,
     trail: Trail<'a>,
+    /// The segment whose entering weight is asked for, if any (only the design studies ask).
+    watch: Option<&'a mut Watch>,
+}
+
+/// A segment watched during one ray's walk: the ray's weight when it first enters it going
+/// forward (at the first crossing of its start plane from the segment before; for segment 0,
+/// the weight just inside the entry face, 1).
+#[derive(Debug, Clone, Copy)]
+pub(super) struct Watch {
+    /// The watched segment (route index).
+    pub segment: usize,
+    /// The weight on first entering it, if the ray did.
+    pub entered: Option<f64>,
 }
 
 impl Prepared {
@@ -73,6 +86,7 @@ impl Prepared {
         contrib: &mut [f64],
         out: &mut Batch,
         path: Option<&mut Vec<[f64; 3]>>,
+        watch: Option<&mut Watch>,
     ) -> (Fate, f64) {
         let mut walk = Walk {
             p: self,
@@ -80,6 +94,7 @@ impl Prepared {
             contrib,
             out,
             trail: Trail(path),
+            watch,
         };
         let mut ray = match walk.launch() {
             Ok(ray) => ray,
@@ -202,6 +217,11 @@ impl Walk<'_> {
             return Err(self.end_outside(p.ledger.reflected_entry(), Fate::ReflectedEntry));
         };
         let first = &p.route.segments[0].frame;
+        if let Some(w) = self.watch.as_deref_mut() {
+            if w.segment == 0 && w.entered.is_none() {
+                w.entered = Some(1.0);
+            }
+        }
         Ok(Ray {
             seg: 0,
             o: first.point_to_local(hit),
@@ -304,6 +324,11 @@ impl Walk<'_> {
         self.absorb(ray);
         let g = placed.frame.point_to_global(ray.o);
         let gd = placed.frame.dir_to_global(ray.d);
+        if let Some(w) = self.watch.as_deref_mut() {
+            if w.segment == into && into > ray.seg && w.entered.is_none() {
+                w.entered = Some(ray.w);
+            }
+        }
         let to = &self.p.route.segments[into].frame;
         ray.seg = into;
         ray.o = to.point_to_local(g);

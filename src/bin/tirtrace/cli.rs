@@ -52,7 +52,8 @@ enum Command {
     /// Run a design study on the scenario it holds, with the same rays wherever the scenario
     /// is traced (common random numbers). A sweep (`vary`) prints per point the delivered share,
     /// its difference to the first traced point, the budget and each segment's leakage, as JSON
-    /// or CSV.
+    /// or CSV. A search (`find`) prints the smallest or largest value meeting a criterion with
+    /// its 95 % interval, and every evaluated value.
     #[command(visible_alias = "sweep")]
     Study(StudyArgs),
     /// Print the JSON Schema of a document, for an editor to check and complete it with
@@ -87,7 +88,8 @@ struct StudyArgs {
         allow_negative_numbers = true
     )]
     threads: usize,
-    /// Print CSV instead (for a sweep: one row per point, units in the header).
+    /// Print CSV instead (for a sweep: one row per point, units in the header; for a search: one
+    /// row per evaluated value).
     #[arg(long)]
     csv: bool,
     /// Trace only piece K of N of a sweep (an even share of its batches) and print the piece
@@ -310,6 +312,33 @@ fn study(args: StudyArgs) -> Result<String, String> {
     };
     match &study.plan {
         Plan::Sweep(_) => sweep(&study, &text, &args, refused),
+        Plan::Find(_) => find(&study, &args, refused),
+    }
+}
+
+/// A search's report (`find`).
+fn find(
+    study: &Study,
+    args: &StudyArgs,
+    refused: impl Fn(Vec<Problem>) -> String,
+) -> Result<String, String> {
+    if args.piece.is_some() || !args.merge.is_empty() {
+        return Err(
+            "--piece and --merge split sweeps only: a search chooses each value it \
+                    traces from the last ones, so it runs whole (spread it over cores with \
+                    --threads)"
+                .to_string(),
+        );
+    }
+    let find = study.prepare_find().map_err(refused)?;
+    let report = find
+        .run_parallel(args.threads)
+        .map_err(|e| format!("--threads: could not start {} threads: {e}", args.threads))?;
+    if args.csv {
+        let csv = tirtrace::study::find::report_csv(&report);
+        Ok(csv.strip_suffix('\n').unwrap_or(&csv).to_string())
+    } else {
+        serde_json::to_string_pretty(&report).map_err(|e| e.to_string())
     }
 }
 

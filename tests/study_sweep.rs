@@ -231,6 +231,8 @@ fn bad_documents_name_their_field() {
         .to_string(),
     )
     .unwrap();
-    let tirtrace::study::Plan::Sweep(plan) = &s.plan;
+    let tirtrace::study::Plan::Sweep(plan) = &s.plan else {
+        panic!("a study with vary is a sweep");
+    };
     assert_eq!(plan.values, [-0.5, -0.25, 0.0, 0.25, 0.5]);
 }

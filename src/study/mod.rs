@@ -21,6 +21,7 @@
 
 pub mod path;
 pub mod sweep;
+pub mod tolerance;
 
 use schemars::JsonSchema;
 use serde::Deserialize;
@@ -31,6 +32,8 @@ use crate::problems::{read_scenario, Problem};
 use crate::scenario::Scenario;
 pub use path::FieldPath;
 pub use sweep::{PointReport, PointResult, Sweep, SweepBatch, SweepReport};
+use tolerance::ToleranceDocument;
+pub use tolerance::{Tolerance, ToleranceBatch, TolerancePlan, ToleranceReport};
 
 /// The study document's version this build reads.
 pub const STUDY_VERSION: u32 = 1;
@@ -41,7 +44,7 @@ pub const STUDY_VERSION: u32 = 1;
 #[serde(deny_unknown_fields)]
 #[schemars(title = "tirtrace study")]
 // Exactly one plan (the schema's counterpart of the reader's check).
-#[schemars(extend("oneOf" = [{ "required": ["vary"] }]))]
+#[schemars(extend("oneOf" = [{ "required": ["vary"] }, { "required": ["tolerances"] }]))]
 pub(crate) struct StudyDocument {
     /// The study document's version: 1.
     #[schemars(transform = crate::schema::version(STUDY_VERSION))]
@@ -58,6 +61,11 @@ pub(crate) struct StudyDocument {
     #[serde(default)]
     #[schemars(with = "VaryDocument")]
     vary: Option<VaryDocument>,
+    /// A tolerance study: numbers of the scenario made within tolerances, many variants drawn
+    /// and traced ([`tolerance`]).
+    #[serde(default)]
+    #[schemars(with = "ToleranceDocument")]
+    tolerances: Option<ToleranceDocument>,
 }
 
 /// The number varied: its field path and either `values` or `from`, `to` and `steps`.
@@ -104,6 +112,8 @@ pub struct Study {
 pub enum Plan {
     /// `vary`: trace the scenario at several values of one of its numbers ([`sweep`]).
     Sweep(SweepPlan),
+    /// `tolerances`: trace variants of the scenario drawn within tolerances ([`tolerance`]).
+    Tolerance(TolerancePlan),
 }
 
 /// A sweep's varied field and values.
@@ -116,11 +126,11 @@ pub struct SweepPlan {
 }
 
 /// The plans a study document may give, for messages.
-const PLANS: &str = "vary";
+const PLANS: &str = "vary or tolerances";
 
 /// A problem of the study document: its field path is in the study document
 /// (`vary.steps`, `scenario.route[1].bend.radius_mm`).
-fn problem(field: impl Into<String>, message: impl AsRef<str>) -> Problem {
+pub(crate) fn problem(field: impl Into<String>, message: impl AsRef<str>) -> Problem {
     let field = field.into();
     Problem {
         message: format!("{field} {}", message.as_ref()),
@@ -165,9 +175,20 @@ impl Study {
                 None
             }
         };
-        let plan = match doc.vary {
-            Some(vary) => read_sweep(&vary, scenario.as_ref(), &mut problems).map(Plan::Sweep),
-            None => {
+        let plan = match (doc.vary, doc.tolerances) {
+            (Some(vary), None) => {
+                read_sweep(&vary, scenario.as_ref(), &mut problems).map(Plan::Sweep)
+            }
+            (None, Some(t)) => tolerance::read_tolerances(&t, scenario.as_ref(), &mut problems)
+                .map(Plan::Tolerance),
+            (Some(_), Some(_)) => {
+                problems.push(problem(
+                    "study",
+                    format!("must give exactly one plan: {PLANS} (both are given)"),
+                ));
+                None
+            }
+            (None, None) => {
                 problems.push(problem(
                     "study",
                     format!("must give a plan: {PLANS} (none is given)"),
@@ -206,7 +227,7 @@ fn read_sweep(
 
 /// Read `vary.field` and check that it names a number of the scenario (when it could be read)
 /// that may change from point to point.
-fn vary_field(text: &str, scenario: Option<&Scenario>) -> Result<FieldPath, String> {
+pub(crate) fn vary_field(text: &str, scenario: Option<&Scenario>) -> Result<FieldPath, String> {
     let chars = text.chars().count() as u64;
     if !FIELD_PATH_CHARS.contains(chars) {
         return Err(format!(

@@ -56,13 +56,13 @@ pub(crate) struct StudyDocument {
     /// varied number set.
     #[schemars(with = "Scenario")]
     scenario: Value,
-    /// A sweep: the number varied and its values. A study gives exactly one plan (today:
-    /// `vary`).
+    /// A sweep: the number varied and its values. A study gives exactly one plan:
+    /// `vary` or `tolerances`.
     #[serde(default)]
     #[schemars(with = "VaryDocument")]
     vary: Option<VaryDocument>,
     /// A tolerance study: numbers of the scenario made within tolerances, many variants drawn
-    /// and traced ([`tolerance`]).
+    /// and traced with the same rays, and the tolerances ranked by their effect.
     #[serde(default)]
     #[schemars(with = "ToleranceDocument")]
     tolerances: Option<ToleranceDocument>,

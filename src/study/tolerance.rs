@@ -76,6 +76,8 @@ pub(crate) struct ToleranceDocument {
 #[derive(Debug, Clone, Deserialize, JsonSchema)]
 #[serde(deny_unknown_fields)]
 #[schemars(rename = "Spread")]
+// Exactly one of sigma and half_width (the schema's counterpart of the reader's check).
+#[schemars(extend("oneOf" = [{ "required": ["sigma"] }, { "required": ["half_width"] }]))]
 struct SpreadDocument {
     /// The path of a number of the scenario, as in `vary.field`: `source.offset_mm[0]`,
     /// `source.gap_mm`, `guide.section.round.diameter_mm`, `route[1].bend.radius_mm`.

@@ -1013,3 +1013,41 @@ fn num(x: f64) -> String {
         String::new()
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn percentiles_interpolate_between_order_statistics() {
+        let x = [1.0, 2.0, 4.0, 8.0, 16.0];
+        // h = 4p: p = 0.5 → x₂; p = 0.05 → x₀ + 0.2 (x₁ − x₀); p = 0.95 → x₃ + 0.8 (x₄ − x₃).
+        assert_eq!(percentile(&x, 0.5), 4.0);
+        assert!((percentile(&x, 0.05) - 1.2).abs() < 1e-15);
+        assert!((percentile(&x, 0.95) - 14.4).abs() < 1e-14);
+        assert_eq!(percentile(&x, 1.0), 16.0);
+        assert_eq!(percentile(&[3.0], 0.05), 3.0);
+    }
+
+    #[test]
+    fn pearson_is_one_for_a_line_and_none_without_spread() {
+        let x = [1.0, 2.0, 3.0, 4.0];
+        let y: Vec<f64> = x.iter().map(|v| 5.0 - 2.0 * v).collect();
+        assert!((pearson(&x, &y).unwrap() + 1.0).abs() < 1e-15);
+        assert_eq!(pearson(&x, &[2.0; 4]), None);
+        // x and x² over symmetric values: uncorrelated.
+        let s = [-2.0, -1.0, 0.0, 1.0, 2.0];
+        let sq: Vec<f64> = s.iter().map(|v| v * v).collect();
+        assert_eq!(pearson(&s, &sq), Some(0.0));
+    }
+
+    #[test]
+    fn the_histogram_counts_every_value_once() {
+        let x: Vec<f64> = (0..10).map(f64::from).collect();
+        let h = histogram(&x);
+        // ⌈√10⌉ = 4 bins over 0…9; the greatest value falls in the last bin.
+        assert_eq!(h.edges.len(), 5);
+        assert_eq!(h.counts, [3, 2, 2, 3]);
+        assert_eq!(histogram(&[0.5; 3]).counts, [3]);
+    }
+}

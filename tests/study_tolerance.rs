@@ -157,10 +157,12 @@ fn same_seed_same_report_for_any_thread_count() {
 
 #[test]
 fn variants_that_break_a_rule_are_counted_and_named() {
-    // Gap 0.2 mm ± 0.2 mm (σ): some variants draw a negative gap and are not traced.
+    // Gap 0.2 mm ± 0.3 mm (σ): some variants draw a negative gap and are not traced; so is the
+    // one-at-a-time point at 0.2 − 0.3 mm, and the effect is not estimated.
     let s = study(
         example("bike"),
-        json!([{ "field": "source.gap_mm", "sigma": 0.2 }]),
+        json!([{ "field": "source.gap_mm", "sigma": 0.3 },
+               { "field": "source.offset_mm[0]", "sigma": 0.01 }]),
         40,
         1000,
     );
@@ -176,6 +178,11 @@ fn variants_that_break_a_rule_are_counted_and_named() {
         assert_eq!(example.problems[0].field, "scenario.source.gap_mm");
         assert!(example.problems[0].message.contains("gap_mm"));
     }
+    let oat = &r.sensitivity.one_at_a_time;
+    assert_eq!(oat[1].field, "source.gap_mm", "refused points rank last");
+    assert!(oat[1].minus.is_none() && oat[1].plus.is_some() && oat[1].effect.is_none());
+    assert_eq!(oat[1].problems[0].field, "scenario.source.gap_mm");
+    assert!(oat[0].effect.is_some());
     // Not clipped: every traced variant has its drawn gap.
     assert!(r
         .variants

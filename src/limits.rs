@@ -352,6 +352,29 @@ pub const SWEEP_STEPS: Count = Count::new(SWEEP_POINTS.min - 1, SWEEP_POINTS.max
 /// longest single trace ([`RAYS`]).
 pub const SWEEP_RAYS: Count = Count::new(1, RAYS.max);
 
+/// Variants of a tolerance study (`tolerances.variants`). At least two: a spread needs two
+/// values. Memory: every variant's prepared scenario is held while the study runs (a few KB
+/// each, some 100 KB with a 1000-row intensity table and 64 segments: at most some 200 MB);
+/// time: bounded with the rays by [`TOLERANCE_RAYS`]. Two thousand variants put the 5th and 95th
+/// percentiles within about a percent of the spread.
+pub const TOLERANCE_VARIANTS: Count = Count::new(2, 2000);
+
+/// Spreads of a tolerance study (`tolerances.spreads`). Time: each adds two one-at-a-time
+/// traces; a scenario has far fewer numbers worth a tolerance.
+pub const TOLERANCE_SPREADS: Count = Count::new(1, 32);
+
+/// A spread's `sigma` or `half_width` (the field's own unit). Above 0: a zero tolerance is no
+/// tolerance; at most 1000, the size of the largest section.
+pub const TOLERANCE_SPREAD: Range = Range::open_closed(0.0, 1000.0);
+
+/// Rays of a whole tolerance study: the scenario's rays times the traced scenarios (nominal,
+/// two per spread, every variant). Time: no more than the longest single trace ([`RAYS`]).
+pub const TOLERANCE_RAYS: Count = Count::new(1, RAYS.max);
+
+/// Refused variants named with their problems in a tolerance report (the others are counted,
+/// and each variant's own entry still lists its problems). Readability.
+pub const TOLERANCE_NAMED_REFUSALS: usize = 5;
+
 /// Characters of a field path (`vary.field`). Sanity: the deepest path of a scenario is some
 /// fifty characters.
 pub const FIELD_PATH_CHARS: Count = Count::new(1, 200);

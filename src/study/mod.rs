@@ -27,6 +27,7 @@ pub mod find;
 pub mod path;
 pub mod pieces;
 pub mod sweep;
+pub mod tolerance;
 
 use schemars::JsonSchema;
 use serde::Deserialize;
@@ -38,6 +39,8 @@ use crate::scenario::Scenario;
 pub use find::{Find, FindPlan, FindReport};
 pub use path::FieldPath;
 pub use sweep::{PointReport, PointResult, Sweep, SweepBatch, SweepReport};
+use tolerance::ToleranceDocument;
+pub use tolerance::{Tolerance, ToleranceBatch, TolerancePlan, ToleranceReport};
 
 /// The study document's version this build reads.
 pub const STUDY_VERSION: u32 = 1;
@@ -48,7 +51,7 @@ pub const STUDY_VERSION: u32 = 1;
 #[serde(deny_unknown_fields)]
 #[schemars(title = "tirtrace study")]
 // Exactly one plan (the schema's counterpart of the reader's check).
-#[schemars(extend("oneOf" = [{ "required": ["vary"] }, { "required": ["find"] }]))]
+#[schemars(extend("oneOf" = [{ "required": ["vary"] }, { "required": ["find"] }, { "required": ["tolerances"] }]))]
 pub(crate) struct StudyDocument {
     /// The study document's version: 1.
     #[schemars(transform = crate::schema::version(STUDY_VERSION))]
@@ -60,8 +63,8 @@ pub(crate) struct StudyDocument {
     /// varied number set.
     #[schemars(with = "Scenario")]
     scenario: Value,
-    /// A sweep: the field varied and its values. A study gives exactly one plan (`vary` or
-    /// `find`).
+    /// A sweep: the field varied and its values. A study gives exactly one plan (`vary`,
+    /// `find` or `tolerances`).
     #[serde(default)]
     #[schemars(with = "VaryDocument")]
     vary: Option<VaryDocument>,
@@ -75,6 +78,11 @@ pub(crate) struct StudyDocument {
     #[serde(default)]
     #[schemars(with = "find::FindDocument")]
     find: Option<find::FindDocument>,
+    /// A tolerance study: numbers of the scenario made within tolerances, many variants drawn
+    /// and traced with the same rays, and the tolerances ranked by their effect.
+    #[serde(default)]
+    #[schemars(with = "ToleranceDocument")]
+    tolerances: Option<ToleranceDocument>,
 }
 
 /// The field varied: its path and either `values` (numbers, or texts such as material names),
@@ -141,6 +149,8 @@ pub enum Plan {
     Sweep(SweepPlan),
     /// `find`: search one number for the limit of a criterion ([`find`]).
     Find(FindPlan),
+    /// `tolerances`: trace variants of the scenario drawn within tolerances ([`tolerance`]).
+    Tolerance(TolerancePlan),
 }
 
 /// A sweep's varied fields: one, or two for a grid (every pair, the first field's values
@@ -200,11 +210,11 @@ impl Setting {
 }
 
 /// The plans a study document may give, for messages.
-const PLANS: &str = "vary, find";
+const PLANS: &str = "vary, find or tolerances";
 
 /// A problem of the study document: its field path is in the study document
 /// (`vary.steps`, `scenario.route[1].bend.radius_mm`).
-fn problem(field: impl Into<String>, message: impl AsRef<str>) -> Problem {
+pub(crate) fn problem(field: impl Into<String>, message: impl AsRef<str>) -> Problem {
     let field = field.into();
     Problem {
         message: format!("{field} {}", message.as_ref()),
@@ -252,29 +262,46 @@ impl Study {
         if doc.and_vary.is_some() && doc.vary.is_none() {
             problems.push(problem("and_vary", "needs vary: the first varied field"));
         }
-        let plan = match (doc.vary, doc.find) {
-            (Some(vary), None) => read_sweep(
+        let given = [
+            doc.vary.is_some(),
+            doc.find.is_some(),
+            doc.tolerances.is_some(),
+        ];
+        let plan = match (doc.vary, doc.find, doc.tolerances) {
+            (Some(vary), None, None) => read_sweep(
                 &vary,
                 doc.and_vary.as_ref(),
                 scenario.as_ref(),
                 &mut problems,
             )
             .map(Plan::Sweep),
-            (None, Some(f)) => {
+            (None, Some(f), None) => {
                 find::read_find(&f, scenario.as_ref(), &mut problems).map(Plan::Find)
             }
-            (Some(_), Some(_)) => {
-                problems.push(problem(
-                    "study",
-                    format!("must give exactly one plan: {PLANS} (both vary and find are given)"),
-                ));
-                None
+            (None, None, Some(t)) => {
+                tolerance::read_tolerances(&t, scenario.as_ref(), &mut problems)
+                    .map(Plan::Tolerance)
             }
-            (None, None) if doc.and_vary.is_some() => None,
-            (None, None) => {
+            (None, None, None) if doc.and_vary.is_some() => None,
+            (None, None, None) => {
                 problems.push(problem(
                     "study",
                     format!("must give a plan: {PLANS} (none is given)"),
+                ));
+                None
+            }
+            _ => {
+                let names: Vec<&str> = ["vary", "find", "tolerances"]
+                    .into_iter()
+                    .zip(given)
+                    .filter_map(|(n, g)| g.then_some(n))
+                    .collect();
+                problems.push(problem(
+                    "study",
+                    format!(
+                        "must give exactly one plan: {PLANS} ({} are given)",
+                        names.join(" and ")
+                    ),
                 ));
                 None
             }

@@ -143,7 +143,7 @@ pub(super) struct ContactZone {
 /// Mix a seed and an index into a new seed (one SplitMix64 step: add the golden-ratio increment
 /// times the index, then the SplitMix64 finaliser), so that neighbouring indices give unrelated
 /// seeds.
-fn mix_seed(seed: u64, index: u64) -> u64 {
+pub(crate) fn mix_seed(seed: u64, index: u64) -> u64 {
     let mut z = seed ^ index.wrapping_mul(0x9E37_79B9_7F4A_7C15);
     z = z.wrapping_add(0x9E37_79B9_7F4A_7C15);
     z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);

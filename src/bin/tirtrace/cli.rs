@@ -313,6 +313,7 @@ fn study(args: StudyArgs) -> Result<String, String> {
     match &study.plan {
         Plan::Sweep(_) => sweep(&study, &text, &args, refused),
         Plan::Find(_) => find(&study, &args, refused),
+        Plan::Tolerance(_) => tolerance(&study, &args, refused),
     }
 }
 
@@ -336,6 +337,46 @@ fn find(
         .map_err(|e| format!("--threads: could not start {} threads: {e}", args.threads))?;
     if args.csv {
         let csv = tirtrace::study::find::report_csv(&report);
+        Ok(csv.strip_suffix('\n').unwrap_or(&csv).to_string())
+    } else {
+        serde_json::to_string_pretty(&report).map_err(|e| e.to_string())
+    }
+}
+
+/// A tolerance study's report (`tolerances`).
+fn tolerance(
+    study: &Study,
+    args: &StudyArgs,
+    refused: impl Fn(Vec<Problem>) -> String,
+) -> Result<String, String> {
+    if args.piece.is_some() || !args.merge.is_empty() {
+        return Err(
+            "--piece and --merge split sweeps only (not yet tolerance studies): run it whole, \
+             spread over cores with --threads"
+                .to_string(),
+        );
+    }
+    let tolerance = study.prepare_tolerance().map_err(refused)?;
+    let batches = tolerance.batch_count();
+    let show = std::io::stderr().is_terminal();
+    let merged = tolerance
+        .trace_all_parallel(args.threads, |done| {
+            if show {
+                let mut e = std::io::stderr().lock();
+                let _ = write!(
+                    e,
+                    "\rtirtrace: traced {done} of {batches} batches of every variant"
+                );
+                if done >= batches {
+                    let _ = writeln!(e);
+                }
+                let _ = e.flush();
+            }
+        })
+        .map_err(|e| format!("--threads: could not start {} threads: {e}", args.threads))?;
+    let report = tolerance.report(&merged);
+    if args.csv {
+        let csv = tirtrace::study::tolerance::report_csv(&report);
         Ok(csv.strip_suffix('\n').unwrap_or(&csv).to_string())
     } else {
         serde_json::to_string_pretty(&report).map_err(|e| e.to_string())

@@ -21,6 +21,7 @@
 
 pub mod path;
 pub mod sweep;
+pub mod varied_bend;
 
 use schemars::JsonSchema;
 use serde::Deserialize;
@@ -31,6 +32,7 @@ use crate::problems::{read_scenario, Problem};
 use crate::scenario::Scenario;
 pub use path::FieldPath;
 pub use sweep::{PointReport, PointResult, Sweep, SweepBatch, SweepReport};
+pub use varied_bend::VariedBend;
 
 /// The study document's version this build reads.
 pub const STUDY_VERSION: u32 = 1;

@@ -7,7 +7,7 @@
 //! the rays the design change does not touch have d_k = 0 exactly, and the difference's
 //! interval is that of the change alone.
 
-use serde::Serialize;
+use serde::{Deserialize, Serialize};
 
 #[cfg(not(target_arch = "wasm32"))]
 use crate::error::RunError;
@@ -40,8 +40,9 @@ pub struct Sweep {
 }
 
 /// The merged result of some batches of every point, in point order (`None` for a refused
-/// point).
-#[derive(Debug, Clone)]
+/// point). Serialisable, so that batches traced in separate workers can be sent back and merged
+/// in batch order ([`crate::trace::PrefixMerger`]).
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct SweepBatch {
     /// Each point's merged batches.
     pub batches: Vec<Option<Batch>>,
@@ -65,8 +66,14 @@ impl SweepBatch {
     }
 }
 
+impl crate::trace::MergeInOrder for SweepBatch {
+    fn merge_next(&mut self, next: &SweepBatch) {
+        self.merge(next);
+    }
+}
+
 /// What a traced point reports.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct PointResult {
     /// Delivered share with its 95 % half-width.
     pub delivered: Share,
@@ -78,28 +85,28 @@ pub struct PointResult {
     /// Share leaked through each segment's walls, in route order.
     pub segments_leaked: Vec<Share>,
     /// Share landing on the receiver, when the scenario has one.
-    #[serde(skip_serializing_if = "Option::is_none")]
+    #[serde(default, skip_serializing_if = "Option::is_none")]
     pub receiver: Option<Share>,
 }
 
 /// One point of the report: the value, and its result or its problems.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct PointReport {
     /// The varied field's value at this point.
     pub value: f64,
     /// Its result (absent when the point has problems).
-    #[serde(skip_serializing_if = "Option::is_none")]
+    #[serde(default, skip_serializing_if = "Option::is_none")]
     pub result: Option<PointResult>,
     /// Its problems, each with its field path in the study document (absent when none).
-    #[serde(skip_serializing_if = "Vec::is_empty")]
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
     pub problems: Vec<Problem>,
 }
 
 /// Everything a sweep reports.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct SweepReport {
     /// The study's label.
-    #[serde(skip_serializing_if = "Option::is_none")]
+    #[serde(default, skip_serializing_if = "Option::is_none")]
     pub name: Option<String>,
     /// The varied field (path in the scenario).
     pub field: String,
@@ -248,6 +255,22 @@ impl Sweep {
             }
         }
         out
+    }
+
+    /// Whether `batch` (sent back by a worker) comes from this sweep: a result for exactly the
+    /// points that can be traced, each shaped as that point's scenario traces.
+    pub fn fits(&self, batch: &SweepBatch) -> bool {
+        batch.batches.len() == self.points.len()
+            && batch.differences.len() == self.points.len()
+            && self
+                .points
+                .iter()
+                .zip(batch.batches.iter().zip(&batch.differences))
+                .all(|(point, pair)| match (point, pair) {
+                    (Point::Ready(p), (Some(b), Some(_))) => p.fits(b),
+                    (Point::Refused(_), (None, None)) => true,
+                    _ => false,
+                })
     }
 
     /// Trace every batch on the calling thread, merged in batch order.

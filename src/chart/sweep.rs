@@ -149,9 +149,15 @@ pub fn draw_sweep_chart<DB: DrawingBackend>(
     let x_format = move |x: &f64| format!("{x:.x_decimals$}");
     {
         let mut chart = cartesian(&top, 10.0, scale, x_range.clone(), y_range.clone())?;
+        // Far from the values, the leak-free radius is named under the axis instead of drawn.
+        let top_x_title = match off_chart {
+            Some(r) if r > x_hi => format!("{x_title} · leak-free from {r:.2} mm (closed form) →"),
+            Some(r) => format!("← leak-free from {r:.2} mm (closed form) · {x_title}"),
+            None => x_title.clone(),
+        };
         draw_axes(
             &mut chart,
-            (&x_title, "share of the emitted light (%)"),
+            (&top_x_title, "share of the emitted light (%)"),
             ink_font(px(13.0)),
             label_font.clone(),
             (&x_format, &|y| format!("{y:.1}")),
@@ -208,7 +214,7 @@ pub fn draw_sweep_chart<DB: DrawingBackend>(
                 leak_colour,
                 2,
                 scale,
-                &format!("leaked in this bend (route[{}])", b.segment),
+                &format!("leaked in this bend (segment {})", b.segment + 1),
             )?;
         }
         if let Some(r) = marker {
@@ -233,26 +239,9 @@ pub fn draw_sweep_chart<DB: DrawingBackend>(
                 )))
                 .map_err(draw_err)?;
         }
-        if let Some(r) = off_chart {
-            let (x, pos, text) = if r > x_hi {
-                let text = format!("leak-free from {r:.2} mm (closed form) →");
-                (x_range.end, Pos::new(HPos::Right, VPos::Top), text)
-            } else {
-                let text = format!("← leak-free from {r:.2} mm (closed form)");
-                (x_range.start, Pos::new(HPos::Left, VPos::Top), text)
-            };
-            let y_text = y_range.end - 0.04 * (y_range.end - y_range.start);
-            chart
-                .draw_series(std::iter::once(Text::new(
-                    text,
-                    (x, y_text),
-                    label_font.clone().pos(pos),
-                )))
-                .map_err(draw_err)?;
-        }
         draw_legend(
             &mut chart,
-            SeriesLabelPosition::LowerRight,
+            SeriesLabelPosition::UpperLeft,
             label_font.clone(),
         )?;
     }
@@ -361,7 +350,7 @@ mod tests {
         let svg = svg(&report, Some(&bend));
         assert!(svg.contains("leak-free from here (closed form)"));
         assert!(svg.contains("route[1].bend.radius (mm)"));
-        assert!(svg.contains("leaked in this bend (route[1])"));
+        assert!(svg.contains("leaked in this bend (segment 2)"));
         assert!(svg.contains("difference to 8.0 (% points)"), "reference");
         // Far beyond the values, it is named at the edge instead.
         let (near_report, _) = traced("[3, 4]");

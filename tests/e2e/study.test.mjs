@@ -8,7 +8,7 @@
 // Before: cargo build; bash scripts/build.sh; npm ci --prefix tests/e2e. Run: node --test tests/e2e/
 
 import assert from 'node:assert/strict';
-import { existsSync, mkdirSync, rmSync, writeFileSync } from 'node:fs';
+import { existsSync, mkdirSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { after, before, describe, test } from 'node:test';
@@ -71,7 +71,7 @@ describe('the study panel of the designer', { concurrency: false }, () => {
     mkdirSync(OUT, { recursive: true });
     server = await startServer();
     browser = await chromium.launch({ executablePath: CHROMIUM, args: CHROMIUM_ARGS });
-    context = await browser.newContext({ viewport: { width: 1280, height: 800 } });
+    context = await browser.newContext({ viewport: { width: 1280, height: 800 }, acceptDownloads: true });
     page = await context.newPage();
     collectErrors(page, consoleErrors);
     await page.goto(`${server.origin}/`);
@@ -165,6 +165,34 @@ describe('the study panel of the designer', { concurrency: false }, () => {
     await page.waitForFunction(() => document.getElementById('study-msg').dataset.kind === 'error');
     assert.match(await msg.innerText(), /^Steps must be a whole number/);
     assert.deepStrictEqual(consoleErrors, []);
+  });
+
+  test('a saved study file is the document tirtrace study reads, and opens again', async () => {
+    await page.fill('#study-from', '4');
+    await page.fill('#study-to', '10');
+    await page.fill('#study-steps', '3');
+    await page.click('#study-run');
+    await page.waitForSelector('#study[data-state="done"]', { timeout: 120_000 });
+    const [download] = await Promise.all([page.waitForEvent('download'), page.click('#study-save')]);
+    assert.match(download.suggestedFilename(), /\.study\.json$/);
+    const file = join(OUT, 'saved.study.json');
+    await download.saveAs(file);
+    const saved = JSON.parse(readFileSync(file, 'utf8'));
+    assert.deepStrictEqual(saved.vary, { field: BEND_RADIUS, from: 4, to: 10, steps: 3 });
+    // The command line reads it and gives the numbers the table shows.
+    const native = JSON.parse(cli(['study', file]));
+    const rows = await readTable(page);
+    assert.deepStrictEqual(rows.map((r) => r.delivered), native.points.map((p) => p.result.delivered));
+    // A study file with its own values opens into the panel and runs them.
+    saved.vary = { field: BEND_RADIUS, values: [5, 6.5] };
+    await page.setInputFiles('#study-file', { name: 'two.study.json', mimeType: 'application/json', buffer: Buffer.from(JSON.stringify(saved)) });
+    await page.waitForFunction(() => /opened/.test(document.getElementById('study-msg').textContent));
+    assert.equal(await page.inputValue('#study-from'), '5');
+    assert.equal(await page.inputValue('#study-to'), '6.5');
+    assert.equal(await page.locator('#study-values-note').isHidden(), false);
+    await page.click('#study-run');
+    await page.waitForSelector('#study[data-state="done"]', { timeout: 120_000 });
+    assert.deepStrictEqual((await readTable(page)).map((r) => r.value), [5, 6.5]);
   });
 
   test('the panel at tablet size (820×1180)', async () => {

@@ -195,6 +195,12 @@ describe('the study panel of the designer', { concurrency: false }, () => {
     assert.deepStrictEqual((await readTable(page)).map((r) => r.value), [5, 6.5]);
   });
 
+  test('editing the design after a study says the table is of the earlier design', async () => {
+    await tracedAfter(page, () => setField(page, '#f-trace-rays', 2 * 4096 + 11));
+    assert.match(await page.locator('#study-msg').innerText(), /design has changed since this study ran/);
+    assert.ok((await readTable(page)).length > 0, 'the table stays');
+  });
+
   test('the panel at tablet size (820×1180)', async () => {
     await page.setViewportSize({ width: 820, height: 1180 });
     await page.fill('#study-steps', '3');

@@ -84,6 +84,7 @@ function showLoose(problems) {
 function update() {
   const { state } = page;
   saveState(state);
+  page.study?.designChanged();
   $('design-name').textContent = state.scenario.name || 'Untitled design';
   let problems;
   try {

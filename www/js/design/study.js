@@ -52,6 +52,8 @@ export class StudyPanel {
     this.traceWorker = traceWorker;
     this.pool = null;
     this.job = null;
+    /** The design (JSON text) of the last study run. */
+    this.tracedScenario = null;
     this.report = null;
     this.variedBend = null;
     this.running = false;
@@ -184,6 +186,7 @@ export class StudyPanel {
     Object.assign(s, { from: read.from, to: read.to, steps: read.steps });
     this.onSaved();
     const text = JSON.stringify(this.document());
+    this.tracedScenario = JSON.stringify(this.state.scenario);
     // Checked here first so that every problem can be shown by the field it names.
     let tracer;
     try {
@@ -361,6 +364,14 @@ export class StudyPanel {
       if (file) await this.openFile(file);
     });
     window.addEventListener('resize', () => this.drawChart());
+  }
+
+  /** The design was edited: a table of an earlier design says so (the numbers stay readable). */
+  designChanged() {
+    if (!this.report || this.running) return;
+    const traced = this.tracedScenario;
+    if (traced === JSON.stringify(this.state.scenario)) return;
+    this.message('The design has changed since this study ran: Run again to see the study of the design as it is now.');
   }
 
   /** The state was replaced (a new design): follow it. */

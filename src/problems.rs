@@ -3,7 +3,7 @@
 //! problem at the field where reading stopped; a readable one gives every range problem
 //! [`Scenario::check`] finds, not only the first.
 
-use serde::Serialize;
+use serde::{Deserialize, Serialize};
 
 use crate::error::FieldError;
 use crate::scenario::Scenario;
@@ -11,7 +11,7 @@ use crate::scenario::Scenario;
 /// One problem: the field's path in the document (`route[2].bend.radius_mm`, `source.gap_mm`;
 /// `scenario` when the whole document is at fault) and a whole sentence for people that names
 /// the field and the allowed range.
-#[derive(Debug, Clone, PartialEq, Eq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Eq, Serialize, Deserialize)]
 pub struct Problem {
     /// Path of the offending field, in the syntax of the core's messages.
     pub field: String,

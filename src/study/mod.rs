@@ -28,6 +28,7 @@ pub mod path;
 pub mod pieces;
 pub mod sweep;
 pub mod tolerance;
+pub mod varied_bend;
 
 use schemars::JsonSchema;
 use serde::Deserialize;
@@ -41,6 +42,7 @@ pub use path::FieldPath;
 pub use sweep::{PointReport, PointResult, Sweep, SweepBatch, SweepReport};
 use tolerance::ToleranceDocument;
 pub use tolerance::{Tolerance, ToleranceBatch, TolerancePlan, ToleranceReport};
+pub use varied_bend::VariedBend;
 
 /// The study document's version this build reads.
 pub const STUDY_VERSION: u32 = 1;

@@ -71,8 +71,8 @@ pub struct Sweep {
 }
 
 /// The merged result of some batches of every point, in point order (`None` for a refused
-/// point). Serialisable, so that batches traced elsewhere (another worker, another machine) can
-/// be merged in batch order.
+/// point). Serialisable, so that batches traced in separate workers can be sent back and merged
+/// in batch order ([`crate::trace::PrefixMerger`]).
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct SweepBatch {
     /// Each point's merged batches.
@@ -97,8 +97,14 @@ impl SweepBatch {
     }
 }
 
+impl crate::trace::MergeInOrder for SweepBatch {
+    fn merge_next(&mut self, next: &SweepBatch) {
+        self.merge(next);
+    }
+}
+
 /// What a traced point reports.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct PointResult {
     /// Delivered share with its 95 % half-width.
     pub delivered: Share,
@@ -110,12 +116,12 @@ pub struct PointResult {
     /// Share leaked through each segment's walls, in route order.
     pub segments_leaked: Vec<Share>,
     /// Share landing on the receiver, when the scenario has one.
-    #[serde(skip_serializing_if = "Option::is_none")]
+    #[serde(default, skip_serializing_if = "Option::is_none")]
     pub receiver: Option<Share>,
 }
 
 /// One point of the report: the value, and its result or its problems.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct PointReport {
     /// The varied field's value at this point: a number, a text (a material), or the factor
     /// its number was multiplied by (when the report's `factor` is true).
@@ -124,18 +130,18 @@ pub struct PointReport {
     #[serde(skip_serializing_if = "Option::is_none")]
     pub and_value: Option<Value>,
     /// Its result (absent when the point has problems).
-    #[serde(skip_serializing_if = "Option::is_none")]
+    #[serde(default, skip_serializing_if = "Option::is_none")]
     pub result: Option<PointResult>,
     /// Its problems, each with its field path in the study document (absent when none).
-    #[serde(skip_serializing_if = "Vec::is_empty")]
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
     pub problems: Vec<Problem>,
 }
 
 /// Everything a sweep reports.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct SweepReport {
     /// The study's label.
-    #[serde(skip_serializing_if = "Option::is_none")]
+    #[serde(default, skip_serializing_if = "Option::is_none")]
     pub name: Option<String>,
     /// The varied field (path in the scenario).
     pub field: String,
@@ -308,8 +314,8 @@ impl Sweep {
         out
     }
 
-    /// Whether `batch` can be a batch result of this sweep: a result exactly for the points that
-    /// can be traced, each fitting its point's scenario.
+    /// Whether `batch` (sent back by a worker) comes from this sweep: a result for exactly the
+    /// points that can be traced, each shaped as that point's scenario traces.
     pub fn fits(&self, batch: &SweepBatch) -> bool {
         batch.batches.len() == self.points.len()
             && batch.differences.len() == self.points.len()
@@ -317,9 +323,9 @@ impl Sweep {
                 .points
                 .iter()
                 .zip(batch.batches.iter().zip(&batch.differences))
-                .all(|(point, (b, d))| match (point, b, d) {
-                    (Point::Ready(p), Some(b), Some(_)) => p.fits(b),
-                    (Point::Refused(_), None, None) => true,
+                .all(|(point, pair)| match (point, pair) {
+                    (Point::Ready(p), (Some(b), Some(_))) => p.fits(b),
+                    (Point::Refused(_), (None, None)) => true,
                     _ => false,
                 })
     }

@@ -122,21 +122,46 @@ pub(super) fn same_bins(a: &Hist, b: &Hist) -> bool {
 /// Folds batch results into one running total in batch order — the only order that reproduces
 /// a single run bit for bit — holding only the batches that arrive ahead of their turn (from
 /// several workers). Memory stays at one batch plus the early ones, however many rays.
-#[derive(Debug, Clone, Default)]
-pub struct PrefixMerger {
-    total: Option<Batch>,
+///
+/// Generic over what is merged ([`MergeInOrder`]): a scenario's [`Batch`] (the default) or a
+/// sweep's batch of every point.
+#[derive(Debug, Clone)]
+pub struct PrefixMerger<B = Batch> {
+    total: Option<B>,
     next: u64,
-    early: std::collections::BTreeMap<u64, Batch>,
+    early: std::collections::BTreeMap<u64, B>,
 }
 
-impl PrefixMerger {
+/// A batch result that folds the next batch (in batch order) into itself.
+pub trait MergeInOrder {
+    /// Merge the next batch (in batch order) into this one.
+    fn merge_next(&mut self, next: &Self);
+}
+
+impl MergeInOrder for Batch {
+    fn merge_next(&mut self, next: &Batch) {
+        self.merge(next);
+    }
+}
+
+impl<B> Default for PrefixMerger<B> {
+    fn default() -> Self {
+        PrefixMerger {
+            total: None,
+            next: 0,
+            early: std::collections::BTreeMap::new(),
+        }
+    }
+}
+
+impl<B: MergeInOrder> PrefixMerger<B> {
     /// An empty merger (nothing folded yet).
-    pub fn new() -> PrefixMerger {
+    pub fn new() -> PrefixMerger<B> {
         PrefixMerger::default()
     }
 
     /// Keep batch `index` until its turn. A batch already folded is ignored.
-    pub fn add(&mut self, index: u64, batch: Batch) {
+    pub fn add(&mut self, index: u64, batch: B) {
         if index >= self.next {
             self.early.insert(index, batch);
         }
@@ -145,12 +170,12 @@ impl PrefixMerger {
     /// Fold batches up to `count` (exclusive) into the total; `None` while one of them is still
     /// missing, else the total of batches `0..folded()` (at least `count`, never more than
     /// asked for: batches beyond `count` wait).
-    pub fn fold_to(&mut self, count: u64) -> Option<&Batch> {
+    pub fn fold_to(&mut self, count: u64) -> Option<&B> {
         while self.next < count {
             let b = self.early.remove(&self.next)?;
             match &mut self.total {
                 None => self.total = Some(b),
-                Some(t) => t.merge(&b),
+                Some(t) => t.merge_next(&b),
             }
             self.next += 1;
         }

@@ -284,20 +284,7 @@ impl Tracer {
 
     /// Check a batch range given from JS: whole numbers, inside the scenario's batches.
     fn range(&self, first: f64, count: f64) -> Result<(u64, u64), JsError> {
-        let total = self.prepared.batch_count();
-        let whole = |x: f64| x.is_finite() && x >= 0.0 && x.fract() == 0.0;
-        if !whole(first) || first >= total as f64 {
-            return Err(JsError::new(&format!(
-                "first must be a whole batch index ≥ 0 and < {total}, got {first}"
-            )));
-        }
-        let left = total - first as u64;
-        if !whole(count) || count < 1.0 || count > left as f64 {
-            return Err(JsError::new(&format!(
-                "count must be a whole number of batches ≥ 1 and ≤ {left}, got {count}"
-            )));
-        }
-        Ok((first as u64, first as u64 + count as u64))
+        batch_range(self.prepared.batch_count(), first, count)
     }
 }
 
@@ -402,4 +389,182 @@ pub fn draw_intensity(canvas_id: &str, report: JsValue, pixel_ratio: f64) -> Res
 #[wasm_bindgen]
 pub fn report_csv(report: JsValue) -> Result<String, JsError> {
     Ok(crate::export::report_csv(&read_report(report)?))
+}
+
+/// A JS `Error` whose message joins every problem's message (`; `) and whose `problems`
+/// property lists them as `[{ field, message }]`, for the page to show each by its field.
+fn problems_thrown(problems: &[crate::problems::Problem]) -> JsValue {
+    let error = js_sys::Error::new(&crate::problems::joined(problems));
+    let list = to_js(&problems).unwrap_or(JsValue::NULL);
+    // Setting a property on a fresh Error object cannot fail; were it to, the message remains.
+    let _ = Reflect::set(&error, &JsValue::from_str("problems"), &list);
+    error.into()
+}
+
+/// A study (a sweep) prepared for tracing, kept alive between calls (one per worker): the
+/// counterpart of [`Tracer`] for `tirtrace study`.
+#[wasm_bindgen]
+pub struct StudyTracer {
+    study: crate::study::Study,
+    sweep: crate::study::Sweep,
+    merger: crate::trace::PrefixMerger<crate::study::SweepBatch>,
+}
+
+#[wasm_bindgen]
+impl StudyTracer {
+    /// Read a study document given as JSON text (the file `tirtrace study` reads) and prepare
+    /// every point; throws an `Error` with a `problems` list (`[{ field, message }]`, fields
+    /// are paths in the study document) when the study cannot be traced.
+    #[wasm_bindgen(constructor)]
+    pub fn new(study_json: &str) -> Result<StudyTracer, JsValue> {
+        let study = crate::study::Study::from_json(study_json).map_err(|p| problems_thrown(&p))?;
+        let sweep = study.prepare_sweep().map_err(|p| problems_thrown(&p))?;
+        Ok(StudyTracer {
+            study,
+            sweep,
+            merger: crate::trace::PrefixMerger::new(),
+        })
+    }
+
+    /// Number of batches of every point.
+    pub fn batch_count(&self) -> f64 {
+        self.sweep.batch_count() as f64
+    }
+
+    /// Trace batches `first .. first + count` of every point and return them one by one (an
+    /// array of plain objects) to send from a worker. (Not merged here: floating-point sums
+    /// depend on grouping, and only merging every batch in order reproduces `tirtrace study`
+    /// bit for bit.)
+    pub fn batches(&self, first: f64, count: f64) -> Result<JsValue, JsError> {
+        let (first, end) = batch_range(self.sweep.batch_count(), first, count)?;
+        let list: Vec<crate::study::SweepBatch> =
+            (first..end).map(|b| self.sweep.trace_batch(b)).collect();
+        to_js(&list)
+    }
+
+    /// Trace batches `first .. first + count`, merged in order, and return the sweep report
+    /// (what `tirtrace study` prints when they are all the batches).
+    pub fn report(&self, first: f64, count: f64) -> Result<JsValue, JsError> {
+        let (first, end) = batch_range(self.sweep.batch_count(), first, count)?;
+        let mut merged = self.sweep.trace_batch(first);
+        for b in first + 1..end {
+            merged.merge(&self.sweep.trace_batch(b));
+        }
+        to_js(&self.sweep.report(&merged))
+    }
+
+    /// Keep batch `index` (a plain object from [`StudyTracer::batches`]) for the running merge.
+    pub fn merger_add(&mut self, index: f64, batch: JsValue) -> Result<(), JsError> {
+        if !(index.is_finite() && index >= 0.0 && index.fract() == 0.0) {
+            return Err(JsError::new(&format!(
+                "index must be a whole batch index ≥ 0, got {index}"
+            )));
+        }
+        let batch: crate::study::SweepBatch = serde_wasm_bindgen::from_value(batch)
+            .map_err(|e| JsError::new(&format!("the batch could not be read: {e}")))?;
+        if !self.sweep.fits(&batch) {
+            return Err(JsError::new("the batch comes from a different study"));
+        }
+        self.merger.add(index as u64, batch);
+        Ok(())
+    }
+
+    /// The sweep report of batches `0 .. count` folded in order, or `null` while one of them
+    /// has not been added yet. Counts must not decrease between calls (until `merger_reset`).
+    pub fn merger_report(&mut self, count: f64) -> Result<JsValue, JsError> {
+        if !(count.is_finite() && count >= 1.0 && count.fract() == 0.0) {
+            return Err(JsError::new(&format!(
+                "count must be a whole number of batches ≥ 1, got {count}"
+            )));
+        }
+        if (count as u64) < self.merger.folded() {
+            return Err(JsError::new(&format!(
+                "count must not go below the {} batches already merged, got {count}",
+                self.merger.folded()
+            )));
+        }
+        match self.merger.fold_to(count as u64) {
+            Some(total) => to_js(&self.sweep.report(total)),
+            None => Ok(JsValue::NULL),
+        }
+    }
+
+    /// Forget the running merge (a new job with the same study).
+    pub fn merger_reset(&mut self) {
+        self.merger = crate::trace::PrefixMerger::new();
+    }
+
+    /// The bend whose radius the sweep varies: `{ segment, leak_free_radius_mm }` (the
+    /// closed-form leak-free centre-line radius, `null` when none exists), or `null` when the
+    /// varied field is not a bend's radius.
+    pub fn varied_bend(&self) -> Result<JsValue, JsError> {
+        match self.study.varied_bend() {
+            Some(b) => to_js(&b),
+            None => Ok(JsValue::NULL),
+        }
+    }
+}
+
+/// Check a batch range given from JS: whole numbers, inside `total` batches.
+fn batch_range(total: u64, first: f64, count: f64) -> Result<(u64, u64), JsError> {
+    let whole = |x: f64| x.is_finite() && x >= 0.0 && x.fract() == 0.0;
+    if !whole(first) || first >= total as f64 {
+        return Err(JsError::new(&format!(
+            "first must be a whole batch index ≥ 0 and < {total}, got {first}"
+        )));
+    }
+    let left = total - first as u64;
+    if !whole(count) || count < 1.0 || count > left as f64 {
+        return Err(JsError::new(&format!(
+            "count must be a whole number of batches ≥ 1 and ≤ {left}, got {count}"
+        )));
+    }
+    Ok((first as u64, first as u64 + count as u64))
+}
+
+/// Read a sweep report object (as `StudyTracer.report` returns it) back into the core's type.
+fn read_sweep_report(report: JsValue) -> Result<crate::study::SweepReport, JsError> {
+    let de = serde_wasm_bindgen::Deserializer::from(report);
+    serde_path_to_error::deserialize(de).map_err(|e| {
+        let path = e.path().to_string();
+        let field = if path.is_empty() || path == "." || path == "?" {
+            "report".to_string()
+        } else {
+            format!("report.{path}")
+        };
+        let inner = e.into_inner().to_string();
+        let inner = inner.strip_prefix("Error: ").unwrap_or(&inner);
+        JsError::new(&format!("{field} could not be read: {inner}"))
+    })
+}
+
+/// A sweep report as CSV: the same text as `tirtrace study FILE --csv` prints for it.
+#[wasm_bindgen]
+pub fn sweep_report_csv(report: JsValue) -> Result<String, JsError> {
+    Ok(crate::study::sweep::report_csv(&read_sweep_report(report)?))
+}
+
+/// Draw a sweep report's chart on the canvas with id `canvas_id`: delivered and the difference
+/// to the first point with their 95 % bands; with `varied_bend` (from
+/// `StudyTracer.varied_bend()`, or `null`) that bend's leak and its leak-free radius.
+/// `pixel_ratio` as for [`draw_exit_map`].
+#[wasm_bindgen]
+pub fn draw_sweep_chart(
+    canvas_id: &str,
+    report: JsValue,
+    varied_bend: JsValue,
+    pixel_ratio: f64,
+) -> Result<(), JsError> {
+    let report = read_sweep_report(report)?;
+    let bend: Option<crate::study::VariedBend> =
+        if varied_bend.is_null() || varied_bend.is_undefined() {
+            None
+        } else {
+            Some(
+                serde_wasm_bindgen::from_value(varied_bend)
+                    .map_err(|e| JsError::new(&format!("varied_bend could not be read: {e}")))?,
+            )
+        };
+    let area = canvas_area(canvas_id)?;
+    crate::chart::draw_sweep_chart(&area, &report, bend.as_ref(), pixel_ratio).map_err(js_error)
 }

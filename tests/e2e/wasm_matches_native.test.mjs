@@ -11,12 +11,13 @@ import { dirname, join } from 'node:path';
 import { test } from 'node:test';
 import { fileURLToPath } from 'node:url';
 
-import { initSync, Tracer } from '../../www/pkg/tirtrace.js';
+import { initSync, StudyTracer, sweep_report_csv, Tracer } from '../../www/pkg/tirtrace.js';
 import { variantsOf } from './variants.mjs';
 
 const ROOT = join(dirname(fileURLToPath(import.meta.url)), '..', '..');
 const CLI = join(ROOT, 'target', 'debug', 'tirtrace');
 const SCENARIOS = join(ROOT, 'examples', 'scenarios');
+const STUDIES = join(ROOT, 'examples', 'studies');
 
 initSync({ module: readFileSync(join(ROOT, 'www', 'pkg', 'tirtrace_bg.wasm')) });
 
@@ -59,4 +60,61 @@ test('batches traced apart (as by several workers) and merged in order give the 
   assert.throws(() => tracer.report(5, 1, 0), /first must be a whole batch index/);
   assert.throws(() => tracer.report_merged([]), /at least one/);
   tracer.free();
+});
+
+// A sweep: the example study at few rays, with a refused first value (below the smallest bend a
+// 3 mm guide may have), so the reference is the second point.
+function smallStudy() {
+  const study = JSON.parse(readFileSync(join(STUDIES, 'thermostat_first_bend.json'), 'utf8'));
+  study.scenario.trace = { ...study.scenario.trace, rays: 2 * 4096 + 33, seed: 11 };
+  study.vary = { field: 'route[1].bend.radius_mm', values: [1, 4.5, 6, 9] };
+  return JSON.stringify(study);
+}
+
+test('a sweep traced in wasm gives tirtrace study\'s report and CSV bit for bit', () => {
+  const text = smallStudy();
+  const run = (extra) => spawnSync(CLI, ['study', '-', '--threads', '2', ...extra],
+    { input: text, encoding: 'utf8' });
+  const cli = run([]);
+  assert.equal(cli.status, 0, cli.stderr);
+  const native = JSON.parse(cli.stdout);
+  const tracer = new StudyTracer(text);
+  const count = tracer.batch_count();
+  assert.equal(count, 3);
+  const whole = tracer.report(0, count);
+  assert.deepStrictEqual(whole, native);
+  assert.ok(native.points[0].problems.length > 0 && native.reference === 1, 'first point refused');
+  // Batches traced apart (as by several workers), added out of order, merged in batch order.
+  const parts = [tracer.batches(2, 1), tracer.batches(0, 2)];
+  tracer.merger_add(2, parts[0][0]);
+  assert.equal(tracer.merger_report(3), null, 'batches 0 and 1 are still on their way');
+  tracer.merger_add(1, parts[1][1]);
+  tracer.merger_add(0, parts[1][0]);
+  const merged = tracer.merger_report(3);
+  assert.deepStrictEqual(merged, native);
+  const csv = run(['--csv']);
+  assert.equal(csv.status, 0, csv.stderr);
+  assert.equal(sweep_report_csv(merged), `${csv.stdout}\n`.replace(/\n\n$/, '\n'));
+  // A batch of another study is refused; so is a broken one.
+  const other = JSON.parse(text);
+  other.vary.values = [6, 9];
+  const otherTracer = new StudyTracer(JSON.stringify(other));
+  assert.throws(() => tracer.merger_add(0, otherTracer.batches(0, 1)[0]), /different study/);
+  assert.throws(() => tracer.merger_add(0, { batches: 3 }), /could not be read/);
+  assert.throws(() => tracer.batches(3, 1), /first must be a whole batch index/);
+  otherTracer.free();
+  tracer.free();
+});
+
+test('a study that cannot be traced is refused with its problems, each by field', () => {
+  const study = JSON.parse(smallStudy());
+  study.vary = { field: 'route[1].bend.radius_mm', from: 4, to: 9, steps: 0.5 };
+  try {
+    new StudyTracer(JSON.stringify(study));
+    assert.fail('the study was accepted');
+  } catch (e) {
+    assert.ok(e instanceof Error);
+    assert.deepStrictEqual(e.problems.map((p) => p.field), ['vary.steps']);
+    assert.match(e.message, /vary\.steps must be a whole number/);
+  }
 });

@@ -62,11 +62,24 @@ export class Editor {
     input.value = draft ?? showNumber(getAt(this.s, path), path, this.state.unit);
     input.addEventListener('input', () => this.typed(path, input.value));
     input.addEventListener('change', () => this.settle(path, input));
+    // Every number but the trace settings can be varied in a study (the study panel, study.js,
+    // listens for clicks on these buttons; the pressed one is the number the study varies).
+    const vary = path.startsWith('trace.')
+      ? null
+      : h('button', {
+        type: 'button',
+        class: 'vary-pick',
+        dataset: { varyPath: path, varyLabel: label },
+        'aria-pressed': String(this.state.study?.field === path),
+        'aria-label': `Vary “${label}” in a study`,
+        title: 'Vary this number in a study',
+        text: '⇆',
+      });
     return h(
       'div',
       { class: 'field' },
       h('label', { for: id }, label, shownUnit ? h('span', { class: 'unit-label', text: shownUnit }) : null),
-      input,
+      vary ? h('div', { class: 'with-vary' }, input, vary) : input,
       hint ? h('p', { class: 'hint', id: `${id}-hint`, text: hint }) : null,
       this.msgEl(path),
     );

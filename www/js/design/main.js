@@ -17,6 +17,7 @@ import {
   STARTER, clone, download, fileNameFor, freshState, loadState, saveState, scenarioFromFragment, shareLink,
 } from './scenario.js';
 import { demoList, demoText, traceWorker } from './sources.js';
+import { StudyPanel } from './study.js';
 
 const UNREADABLE_KEY = 'tirtrace.design.unreadable.v1';
 const KEEP_PATHS = 90;
@@ -83,6 +84,7 @@ function showLoose(problems) {
 function update() {
   const { state } = page;
   saveState(state);
+  page.study?.designChanged();
   $('design-name').textContent = state.scenario.name || 'Untitled design';
   let problems;
   try {
@@ -387,6 +389,14 @@ async function start() {
   $('f-name').value = page.state.scenario.name || '';
   page.view = new RouteView($('route-view'));
   page.pool = new TracePool({ onUpdate: onTraceUpdate, ...traceWorker() });
+  page.study = new StudyPanel({
+    core,
+    state: page.state,
+    editor: page.editor,
+    onSaved: () => saveState(page.state),
+    openDesign: (scenario, how) => replaceDesign(readScenario(JSON.stringify(scenario)), how),
+    traceWorker: traceWorker(),
+  });
   wireToolbar();
   loadDemos();
   try {

@@ -94,8 +94,9 @@ export const toStored = (x, path, unit) => (unit === 'in' && isLength(path) ? x 
 // ---------------------------------------------------------------- the page state
 
 /**
- * `{ scenario, drafts, unit }`: `drafts` maps a field path to the text typed there when it is
- * not (yet) a number, so it survives a reload; `unit` is 'mm' or 'in'.
+ * `{ scenario, drafts, unit, study? }`: `drafts` maps a field path to the text typed there when it
+ * is not (yet) a number, so it survives a reload; `unit` is 'mm' or 'in'; `study` the study panel's
+ * set-up (see study.js), absent until one is made.
  */
 export function freshState(scenario = STARTER) {
   return { scenario: clone(scenario), drafts: {}, unit: 'mm' };
@@ -109,6 +110,8 @@ export function loadState() {
       scenario: saved.scenario,
       drafts: saved.drafts && typeof saved.drafts === 'object' ? saved.drafts : {},
       unit: saved.unit === 'in' ? 'in' : 'mm',
+      // The study set up beside the design (study.js), when there is one.
+      ...(saved.study && typeof saved.study === 'object' ? { study: saved.study } : {}),
     };
   }
   return null;

@@ -15,6 +15,8 @@
 //   const pool = new TracePool({ onUpdate: (u) => show(u) });
 //   await pool.ready();
 //   const job = pool.start(scenarioJsonText);   // a new start() replaces the running job
+//   (new TracePool({ study: true, … }) traces study documents instead: the sweep's report of
+//   every point, as `tirtrace study` prints it, in place of a trace report)
 //   pool.cancel();                               // or wait for the update with done: true
 //
 // onUpdate(u) gets, on the main thread:
@@ -45,6 +47,7 @@ export class TracePool {
   #onUpdate;
   #workerUrl;
   #workerType;
+  #study;
   /** Tracing workers: { worker, alive, loaded, job (id whose scenario it holds), busy }. */
   #tracers = [];
   /** The merging worker, same shape. */
@@ -59,9 +62,10 @@ export class TracePool {
    * onUpdate: called with every update (see the top of this file);
    * workerUrl: the worker script (default: ./worker.js beside this module; tests replace it);
    * workerType: 'module' (default) or 'classic' (a script that imports the modules itself, as the
-   * single-file build's does: a file:// page may not start a module worker from a blob: URL).
+   * single-file build's does: a file:// page may not start a module worker from a blob: URL);
+   * study: true to trace study documents (sweeps) rather than scenarios.
    */
-  constructor({ size, onUpdate, workerUrl, workerType = 'module' } = {}) {
+  constructor({ size, onUpdate, workerUrl, workerType = 'module', study = false } = {}) {
     const n = size ?? defaultSize();
     if (!Number.isInteger(n) || n < 1 || n > MAX_WORKERS) {
       throw new RangeError(`TracePool size must be a whole number from 1 to ${MAX_WORKERS}, got ${size}`);
@@ -74,6 +78,7 @@ export class TracePool {
     // Resolved only when needed: a module loaded from a blob: URL has no folder to resolve it in.
     this.#workerUrl = workerUrl ?? new URL('./worker.js', import.meta.url);
     this.#workerType = workerType;
+    this.#study = study === true;
     for (let i = 0; i < n; i += 1) this.#tracers.push(this.#spawn());
     this.#merger = this.#spawn();
     for (const t of this.#tracers) this.#connect(t);
@@ -119,7 +124,7 @@ export class TracePool {
     });
     for (const w of [...this.#tracers, this.#merger]) {
       w.job = null;
-      w.worker.postMessage({ type: 'job', job: job.id, scenario });
+      w.worker.postMessage({ type: 'job', job: job.id, scenario, study: this.#study });
     }
     // A worker that could not even be created sends no events: say so (after start() returns).
     if (!this.#merger.alive || this.#tracers.every((t) => !t.alive)) {

@@ -7,7 +7,8 @@
 //
 // From the pool (all but `job` and `connect` are ignored unless they name the job loaded):
 //   { type: 'connect', role: 'to-merger' | 'from-tracer', port }   a channel between the roles
-//   { type: 'job', job, scenario }           load a scenario (JSON text) for job `job`
+//   { type: 'job', job, scenario, study }    load a scenario (JSON text) for job `job`; with
+//                                            study: true, a study document (a sweep: StudyTracer)
 //   { type: 'batch', job, index, keepPaths } trace batch `index`
 //   { type: 'merge', job, count }            report batches 0..count-1 merged in batch order
 //                                            (waits for batches still on their way)
@@ -23,10 +24,11 @@
 import { loadCore } from '../core.js';
 import { messageOf } from '../errors.js';
 
-/** The core's Tracer class, once the core has loaded. */
+/** The core's Tracer and StudyTracer classes, once the core has loaded. */
 let Tracer = null;
-/** The job loaded: its id, its scenario text and Tracer. */
-const loaded = { job: null, scenario: null, tracer: null };
+let StudyTracer = null;
+/** The job loaded: its id, its scenario (or study) text, whether it is a study, and its tracer. */
+const loaded = { job: null, scenario: null, study: false, tracer: null };
 /** Tracing role: the channel to the merging worker. */
 let mergerPort = null;
 /** Merging role: batches received, by job then batch index; jobs below `openFrom` are over. */
@@ -35,23 +37,24 @@ let openFrom = 0;
 /** Merging role: the merge asked for, run once its batches are all in. */
 let pending = null;
 
-function loadJob(job, scenario) {
+function loadJob(job, scenario, study) {
   openFrom = Math.max(openFrom, job);
   for (const j of kept.keys()) if (j < job) kept.delete(j);
   if (pending && pending.job < job) pending = null;
   loaded.job = null;
   // A Tracer holds no trace state, so the same scenario again (a restart) keeps it.
-  if (loaded.tracer === null || loaded.scenario !== scenario) {
+  if (loaded.tracer === null || loaded.scenario !== scenario || loaded.study !== study) {
     loaded.tracer?.free();
     loaded.tracer = null;
     loaded.scenario = null;
     try {
-      loaded.tracer = new Tracer(scenario);
+      loaded.tracer = study ? new StudyTracer(scenario) : new Tracer(scenario);
     } catch (e) {
       postMessage({ type: 'job-error', job, message: messageOf(e) });
       return;
     }
     loaded.scenario = scenario;
+    loaded.study = study;
   }
   loaded.job = job;
   loaded.tracer.merger_reset();
@@ -82,7 +85,13 @@ function traceBatch(job, index, keepPaths) {
     return;
   }
   mergerPort.postMessage({ type: 'add', job, index, batch });
-  postMessage({ type: 'batch', job, index, rays: batch.rays });
+  postMessage({ type: 'batch', job, index, rays: raysOf(batch) });
+}
+
+/** The rays of a traced batch: a scenario's, or a sweep's (those of each traced point). */
+function raysOf(batch) {
+  if (batch.rays !== undefined) return batch.rays;
+  return batch.batches?.find((b) => b !== null)?.rays ?? 0;
 }
 
 function keep(job, index, batch) {
@@ -131,7 +140,7 @@ function handle(msg) {
       }
       return;
     case 'job':
-      loadJob(msg.job, msg.scenario);
+      loadJob(msg.job, msg.scenario, msg.study === true);
       return;
     case 'add':
       keep(msg.job, msg.index, msg.batch);
@@ -166,6 +175,7 @@ let failed = false;
 let queue = loadCore().then(
   (core) => {
     Tracer = core.Tracer;
+    StudyTracer = core.StudyTracer;
     postMessage({ type: 'ready' });
   },
   (e) => {

@@ -1,0 +1,418 @@
+//! A sweep's chart: delivered (%) against the varied value with its 95 % band, the difference
+//! to the reference point (the first traced point) with its band in a second panel, and, when
+//! the varied field is a bend's radius, that bend's leak and the closed-form leak-free radius.
+
+use plotters::coord::Shift;
+use plotters::prelude::*;
+use plotters::style::text_anchor::{HPos, Pos, VPos};
+
+use super::{
+    cartesian, clamp_scale, draw_axes, draw_err, draw_legend, draw_line, ink_font, pixels,
+};
+use crate::error::TirError;
+use crate::study::{SweepReport, VariedBend};
+
+/// The axis title of a field path: the path without its unit suffix, then the unit in
+/// brackets (`route[1].bend.radius_mm` → `route[1].bend.radius (mm)`).
+pub fn field_axis_title(field: &str) -> String {
+    const UNITS: [(&str, &str); 6] = [
+        ("_db_per_m", "dB/m"),
+        ("_mm", "mm"),
+        ("_deg", "°"),
+        ("_nm", "nm"),
+        ("_lm", "lm"),
+        ("_mw", "mW"),
+    ];
+    // An element of a list (`offset_mm[0]`) keeps its index after the unit-less name.
+    let (name, index) = match field.rfind('[') {
+        Some(i) if field.ends_with(']') && !field[i..].contains('.') => field.split_at(i),
+        _ => (field, ""),
+    };
+    for (suffix, unit) in UNITS {
+        if let Some(stem) = name.strip_suffix(suffix) {
+            return format!("{stem}{index} ({unit})");
+        }
+    }
+    field.to_string()
+}
+
+/// One traced point for drawing: value, and (share, ci95) of delivered, difference and the
+/// varied bend's leak, all in per cent.
+struct Drawn {
+    x: f64,
+    delivered: (f64, f64),
+    difference: (f64, f64),
+    bend_leak: Option<(f64, f64)>,
+}
+
+/// A band's outline (upper edge out, lower edge back) of `(x, value, half-width)`; infinite
+/// half-widths (fewer than two rays) are left out of the band.
+fn band(points: &[(f64, f64, f64)]) -> Vec<(f64, f64)> {
+    let finite: Vec<_> = points.iter().filter(|p| p.2.is_finite()).collect();
+    let mut outline: Vec<(f64, f64)> = finite.iter().map(|p| (p.0, p.1 + p.2)).collect();
+    outline.extend(finite.iter().rev().map(|p| (p.0, p.1 - p.2)));
+    outline
+}
+
+/// Range `lo..hi` padded by 8 % (and at least `min_pad`) on both sides.
+fn padded(lo: f64, hi: f64, min_pad: f64) -> std::ops::Range<f64> {
+    let pad = ((hi - lo) * 0.08).max(min_pad);
+    (lo - pad)..(hi + pad)
+}
+
+/// Draw the sweep chart of `report` on `area`: on top delivered (%) with its 95 % band (and the
+/// varied bend's leak with its band, when `bend` is given), below the difference to the
+/// reference point with its band; a vertical marker at the bend's closed-form leak-free radius
+/// when it lies near the swept values. Refused points are not drawn (the page's table lists
+/// them with their problems). `scale` as for [`super::draw_bend_chart`].
+pub fn draw_sweep_chart<DB: DrawingBackend>(
+    area: &DrawingArea<DB, Shift>,
+    report: &SweepReport,
+    bend: Option<&VariedBend>,
+    scale: f64,
+) -> Result<(), TirError> {
+    let scale = clamp_scale(scale);
+    let px = pixels(scale);
+    area.fill(&WHITE).map_err(draw_err)?;
+    let pct = |s: &crate::stats::Share| (100.0 * s.share, 100.0 * s.ci95);
+    let drawn: Vec<Drawn> = report
+        .points
+        .iter()
+        .filter(|_| report.and_field.is_none())
+        .filter_map(|p| {
+            let r = p.result.as_ref()?;
+            Some(Drawn {
+                x: p.value.as_f64().filter(|x| x.is_finite())?,
+                delivered: pct(&r.delivered),
+                difference: pct(&r.difference),
+                bend_leak: bend.and_then(|b| r.segments_leaked.get(b.segment)).map(pct),
+            })
+        })
+        .collect();
+    if drawn.is_empty() {
+        let (w, h) = area.dim_in_pixel();
+        let traced = report.points.iter().any(|p| p.result.is_some());
+        let message = if traced {
+            "the chart draws one varied number; the table lists every point"
+        } else {
+            "no point traced yet"
+        };
+        area.draw(&Text::new(
+            message,
+            (w as i32 / 2, h as i32 / 2),
+            ink_font(px(14.0)).pos(Pos::new(HPos::Center, VPos::Center)),
+        ))
+        .map_err(draw_err)?;
+        return area.present().map_err(draw_err);
+    }
+    let x_title = if report.factor {
+        format!("factor on every {}", report.field)
+    } else {
+        field_axis_title(&report.field)
+    };
+    let (x_lo, x_hi) = drawn
+        .iter()
+        .fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), d| {
+            (lo.min(d.x), hi.max(d.x))
+        });
+    let span = (x_hi - x_lo).max(1e-9);
+    // The leak-free radius is drawn as a line when it lies within two sweep spans of the
+    // values (the axis grows to hold it), else named in words at the chart's edge.
+    let leak_free = bend
+        .and_then(|b| b.leak_free_radius_mm)
+        .filter(|r| r.is_finite());
+    let near = |r: &f64| *r >= x_lo - 2.0 * span && *r <= x_hi + 2.0 * span;
+    let marker = leak_free.filter(near);
+    let off_chart = leak_free.filter(|r| !near(r));
+    let (x_lo, x_hi) = match marker {
+        Some(r) => (x_lo.min(r), x_hi.max(r)),
+        None => (x_lo, x_hi),
+    };
+    let x_range = padded(x_lo, x_hi, 1e-6 * x_hi.abs().max(1.0));
+    let x_decimals = if x_hi - x_lo < 1.0 {
+        3
+    } else if x_hi - x_lo < 10.0 {
+        2
+    } else {
+        1
+    };
+    let (top, bottom) = area.split_vertically(area.dim_in_pixel().1 * 3 / 5);
+
+    // Top panel: delivered and the bend's leak, per cent of the emitted power.
+    let mut lo = f64::INFINITY;
+    let mut hi = f64::NEG_INFINITY;
+    for d in &drawn {
+        for (v, c) in std::iter::once(d.delivered).chain(d.bend_leak) {
+            let c = if c.is_finite() { c } else { 0.0 };
+            lo = lo.min(v - c);
+            hi = hi.max(v + c);
+        }
+    }
+    let y_range = padded(lo.max(0.0), hi.min(100.0), 0.5);
+    let y_range = y_range.start.max(0.0)..y_range.end.min(100.0);
+    let delivered_colour = RGBColor(0x28, 0x5f, 0x96);
+    let delivered_band = RGBColor(0xb8, 0xd4, 0xe8);
+    let leak_colour = RGBColor(0xb3, 0x41, 0x2a);
+    let leak_band = RGBColor(0xf0, 0xcf, 0xc4);
+    let marker_colour = RGBColor(0x00, 0x6d, 0x77);
+    let label_font = ink_font(px(12.0));
+    let x_format = move |x: &f64| format!("{x:.x_decimals$}");
+    {
+        let mut chart = cartesian(&top, 10.0, scale, x_range.clone(), y_range.clone())?;
+        // Far from the values, the leak-free radius is named under the axis instead of drawn.
+        let top_x_title = match off_chart {
+            Some(r) if r > x_hi => format!("{x_title} · leak-free from {r:.2} mm (closed form) →"),
+            Some(r) => format!("← leak-free from {r:.2} mm (closed form) · {x_title}"),
+            None => x_title.clone(),
+        };
+        draw_axes(
+            &mut chart,
+            (&top_x_title, "share of the emitted light (%)"),
+            ink_font(px(13.0)),
+            label_font.clone(),
+            (&x_format, &|y| format!("{y:.1}")),
+        )?;
+        let mut bands = vec![(
+            drawn
+                .iter()
+                .map(|d| (d.x, d.delivered.0, d.delivered.1))
+                .collect::<Vec<_>>(),
+            delivered_band,
+        )];
+        if bend.is_some() {
+            bands.push((
+                drawn
+                    .iter()
+                    .filter_map(|d| d.bend_leak.map(|l| (d.x, l.0, l.1)))
+                    .collect(),
+                leak_band,
+            ));
+        }
+        for (points, colour) in &bands {
+            let outline: Vec<(f64, f64)> = band(points)
+                .into_iter()
+                .map(|(x, y)| (x, y.clamp(y_range.start, y_range.end)))
+                .collect();
+            if outline.len() >= 4 {
+                chart
+                    .draw_series(std::iter::once(Polygon::new(
+                        outline,
+                        colour.mix(0.8).filled(),
+                    )))
+                    .map_err(draw_err)?;
+            }
+        }
+        draw_line(
+            &mut chart,
+            drawn.iter().map(|d| (d.x, d.delivered.0)),
+            delivered_colour,
+            2,
+            scale,
+            "delivered (band: 95 %)",
+        )?;
+        chart
+            .draw_series(
+                drawn
+                    .iter()
+                    .map(|d| Circle::new((d.x, d.delivered.0), px(3.5), delivered_colour.filled())),
+            )
+            .map_err(draw_err)?;
+        if let Some(b) = bend {
+            draw_line(
+                &mut chart,
+                drawn.iter().filter_map(|d| d.bend_leak.map(|l| (d.x, l.0))),
+                leak_colour,
+                2,
+                scale,
+                &format!("leaked in this bend (segment {})", b.segment + 1),
+            )?;
+        }
+        if let Some(r) = marker {
+            chart
+                .draw_series(std::iter::once(PathElement::new(
+                    vec![(r, y_range.start), (r, y_range.end)],
+                    marker_colour.stroke_width(px(2.0)),
+                )))
+                .map_err(draw_err)?;
+            let right_half = r > (x_range.start + x_range.end) / 2.0;
+            let (anchor, pos) = if right_half {
+                (r - span * 0.01, Pos::new(HPos::Right, VPos::Top))
+            } else {
+                (r + span * 0.01, Pos::new(HPos::Left, VPos::Top))
+            };
+            let y_text = y_range.end - 0.04 * (y_range.end - y_range.start);
+            chart
+                .draw_series(std::iter::once(Text::new(
+                    format!("leak-free from here (closed form): {r:.2} mm"),
+                    (anchor, y_text),
+                    label_font.clone().pos(pos),
+                )))
+                .map_err(draw_err)?;
+        }
+        draw_legend(
+            &mut chart,
+            SeriesLabelPosition::UpperLeft,
+            label_font.clone(),
+        )?;
+    }
+
+    // Bottom panel: the difference to the reference point, percentage points.
+    let mut lo = f64::INFINITY;
+    let mut hi = f64::NEG_INFINITY;
+    for d in &drawn {
+        let c = if d.difference.1.is_finite() {
+            d.difference.1
+        } else {
+            0.0
+        };
+        lo = lo.min(d.difference.0 - c);
+        hi = hi.max(d.difference.0 + c);
+    }
+    let y_range = padded(lo.min(0.0), hi.max(0.0), 0.05);
+    let mut chart = cartesian(&bottom, 10.0, scale, x_range, y_range.clone())?;
+    let reference = report
+        .reference
+        .and_then(|i| report.points.get(i))
+        .and_then(|p| p.value.as_f64())
+        .map(|x| format!("{x:.x_decimals$}"))
+        .unwrap_or_default();
+    draw_axes(
+        &mut chart,
+        (&x_title, &format!("difference to {reference} (% points)")),
+        ink_font(px(13.0)),
+        label_font.clone(),
+        (&x_format, &|y| format!("{y:.2}")),
+    )?;
+    let points: Vec<_> = drawn
+        .iter()
+        .map(|d| (d.x, d.difference.0, d.difference.1))
+        .collect();
+    let outline = band(&points);
+    if outline.len() >= 4 {
+        chart
+            .draw_series(std::iter::once(Polygon::new(
+                outline,
+                delivered_band.mix(0.8).filled(),
+            )))
+            .map_err(draw_err)?;
+    }
+    chart
+        .draw_series(std::iter::once(PathElement::new(
+            vec![(x_lo, 0.0), (x_hi, 0.0)],
+            RGBColor(0x99, 0x99, 0x99).stroke_width(1),
+        )))
+        .map_err(draw_err)?;
+    draw_line(
+        &mut chart,
+        drawn.iter().map(|d| (d.x, d.difference.0)),
+        delivered_colour,
+        2,
+        scale,
+        "delivered minus the first point (band: 95 %, same rays)",
+    )?;
+    if let Some(r) = marker {
+        chart
+            .draw_series(std::iter::once(PathElement::new(
+                vec![(r, y_range.start), (r, y_range.end)],
+                marker_colour.stroke_width(px(2.0)),
+            )))
+            .map_err(draw_err)?;
+    }
+    draw_legend(&mut chart, SeriesLabelPosition::LowerRight, label_font)?;
+    area.present().map_err(draw_err)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::study::Study;
+
+    /// The example study at few rays, with `values` for the first bend's radius.
+    fn traced(values: &str) -> (SweepReport, Option<VariedBend>) {
+        let text = std::fs::read_to_string("examples/studies/thermostat_first_bend.json").unwrap();
+        let mut doc: serde_json::Value = serde_json::from_str(&text).unwrap();
+        doc["scenario"]["trace"]["rays"] = 3000.into();
+        doc["vary"] = serde_json::from_str(&format!(
+            r#"{{"field": "route[1].bend.radius_mm", "values": {values}}}"#
+        ))
+        .unwrap();
+        let study = Study::from_json(&doc.to_string()).unwrap();
+        let sweep = study.prepare_sweep().unwrap();
+        (sweep.report(&sweep.trace_all_serial()), study.varied_bend())
+    }
+
+    fn svg(report: &SweepReport, bend: Option<&VariedBend>) -> String {
+        let mut svg = String::new();
+        {
+            let area = SVGBackend::with_string(&mut svg, (800, 600)).into_drawing_area();
+            draw_sweep_chart(&area, report, bend, 1.0).unwrap();
+        }
+        svg
+    }
+
+    #[test]
+    fn a_bend_sweep_shows_its_leak_and_the_leak_free_radius() {
+        let (report, bend) = traced("[8, 16, 24, 32]");
+        let bend = bend.expect("the first bend's radius is varied");
+        let r = bend
+            .leak_free_radius_mm
+            .expect("PMMA in air: a leak-free radius");
+        assert!((8.0..=32.0).contains(&r), "marker among the values: {r}");
+        let svg = svg(&report, Some(&bend));
+        assert!(svg.contains("leak-free from here (closed form)"));
+        assert!(svg.contains("route[1].bend.radius (mm)"));
+        assert!(svg.contains("leaked in this bend (segment 2)"));
+        assert!(svg.contains("difference to 8.0 (% points)"), "reference");
+        // Far beyond the values, it is named at the edge instead.
+        let (near_report, _) = traced("[3, 4]");
+        let edge = svg_with(&near_report, &bend);
+        assert!(edge.contains("(closed form) →") && !edge.contains("from here"));
+        assert!(!svg.contains("NaN"));
+    }
+
+    #[test]
+    fn refused_points_are_left_out_and_nothing_drawn_is_nan() {
+        // 1 mm is below the smallest radius a 3 mm guide's bend may have: refused.
+        let (report, bend) = traced("[1, 6, 9]");
+        assert!(report.points[0].result.is_none() && !report.points[0].problems.is_empty());
+        let svg = svg(&report, bend.as_ref());
+        assert!(!svg.contains("NaN"));
+        assert!(
+            svg.contains("difference to 6.00 (% points)"),
+            "the first traced point"
+        );
+        // Without a bend: no leak line, no marker.
+        let plain = svg_without_bend(&report);
+        assert!(!plain.contains("leak-free from here"));
+        assert!(!plain.contains("leaked in this bend"));
+    }
+
+    fn svg_with(report: &SweepReport, bend: &VariedBend) -> String {
+        svg(report, Some(bend))
+    }
+
+    fn svg_without_bend(report: &SweepReport) -> String {
+        svg(report, None)
+    }
+
+    #[test]
+    fn axis_titles_carry_the_unit() {
+        assert_eq!(
+            field_axis_title("route[1].bend.radius_mm"),
+            "route[1].bend.radius (mm)"
+        );
+        assert_eq!(
+            field_axis_title("source.offset_mm[0]"),
+            "source.offset[0] (mm)"
+        );
+        assert_eq!(field_axis_title("source.tilt_deg"), "source.tilt (°)");
+        assert_eq!(
+            field_axis_title("guide.attenuation_db_per_m"),
+            "guide.attenuation (dB/m)"
+        );
+        assert_eq!(
+            field_axis_title("route[0].straight.length"),
+            "route[0].straight.length"
+        );
+    }
+}

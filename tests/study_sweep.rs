@@ -277,6 +277,8 @@ fn a_grid_traces_every_pair_and_each_point_is_its_own_design() {
         5,
     );
     assert_eq!(report.and_field.as_deref(), Some("guide.material.library"));
+    let back: SweepReport = serde_json::from_str(&serde_json::to_string(&report).unwrap()).unwrap();
+    assert_eq!(back, report);
     let at: Vec<(Value, Value)> = report
         .points
         .iter()
@@ -335,6 +337,9 @@ fn factors_on_every_bend_scale_all_radii_together() {
         3,
     );
     assert!(report.factor);
+    // The report reads back as written (the page sends it to the core's CSV and chart).
+    let back: SweepReport = serde_json::from_str(&serde_json::to_string(&report).unwrap()).unwrap();
+    assert_eq!(back, report);
     let mut scaled = sc.clone();
     for &i in &bends {
         let r = scaled["route"][i]["bend"]["radius_mm"].as_f64().unwrap();

@@ -127,7 +127,7 @@ pub struct PointReport {
     /// its number was multiplied by (when the report's `factor` is true).
     pub value: Value,
     /// The second varied field's value, in a grid.
-    #[serde(skip_serializing_if = "Option::is_none")]
+    #[serde(default, skip_serializing_if = "Option::is_none")]
     pub and_value: Option<Value>,
     /// Its result (absent when the point has problems).
     #[serde(default, skip_serializing_if = "Option::is_none")]
@@ -146,14 +146,14 @@ pub struct SweepReport {
     /// The varied field (path in the scenario).
     pub field: String,
     /// Whether the points' values are factors the field's number(s) were multiplied by.
-    #[serde(skip_serializing_if = "is_false")]
+    #[serde(default, skip_serializing_if = "is_false")]
     pub factor: bool,
     /// The second varied field of a grid (the points run through its values for each value
     /// of the first).
-    #[serde(skip_serializing_if = "Option::is_none")]
+    #[serde(default, skip_serializing_if = "Option::is_none")]
     pub and_field: Option<String>,
     /// Whether the second field's values are factors.
-    #[serde(skip_serializing_if = "is_false")]
+    #[serde(default, skip_serializing_if = "is_false")]
     pub and_factor: bool,
     /// Rays per point.
     pub rays: u64,

@@ -363,9 +363,10 @@ pub const TOLERANCE_VARIANTS: Count = Count::new(2, 2000);
 /// traces; a scenario has far fewer numbers worth a tolerance.
 pub const TOLERANCE_SPREADS: Count = Count::new(1, 32);
 
-/// A spread's `sigma` or `half_width` (the field's own unit). Above 0: a zero tolerance is no
-/// tolerance; at most 1000, the size of the largest section.
-pub const TOLERANCE_SPREAD: Range = Range::open_closed(0.0, 1000.0);
+/// A spread's `sigma` or `half_width` (the field's own unit). At least 0: a zero tolerance keeps
+/// the number at its nominal (a tolerance switched off without removing it); at most 1000, the
+/// size of the largest section.
+pub const TOLERANCE_SPREAD: Range = Range::closed(0.0, 1000.0);
 
 /// Rays of a whole tolerance study: the scenario's rays times the traced scenarios (nominal,
 /// two per spread, every variant). Time: no more than the longest single trace ([`RAYS`]).

@@ -215,7 +215,7 @@ fn bad_documents_get_named_problems() {
         ]
     );
     assert!(p[0].message.contains("≥ 2 and ≤ 2000") && p[0].message.contains("1.5"));
-    assert!(p[1].message.contains("> 0") && p[1].message.contains("-1"));
+    assert!(p[1].message.contains("≥ 0") && p[1].message.contains("-1"));
     let p = problems(doc(json!({ "spreads": [], "variants": 10 })));
     assert_eq!(fields(p), ["tolerances.spreads"]);
     // Both plans, and an unknown member.
@@ -319,4 +319,42 @@ fn a_field_with_every_element_spreads_each_number_on_its_own() {
         "{}",
         p[0].message
     );
+}
+
+#[test]
+fn every_spread_zero_gives_the_nominal_answer_exactly() {
+    // Zero tolerances (switched off without removing them): every variant is the nominal
+    // design, traced with the nominal's rays, so each delivers the nominal share bit for bit;
+    // the spread is exactly zero, every percentile is the nominal, every one-at-a-time effect
+    // is exactly zero and no correlation exists (nothing varies).
+    let s = study(
+        example("bike"),
+        json!([ { "field": "source.offset_mm[0]", "sigma": 0.0 },
+                { "field": "source.gap_mm", "half_width": 0.0 } ]),
+        6,
+        3000,
+    );
+    let r = run(&s);
+    assert_eq!(r.variants_traced, 6);
+    for v in &r.variants {
+        assert_eq!(v.delivered, Some(r.nominal), "{v:?}");
+        assert_eq!(v.difference.map(|d| d.share), Some(0.0));
+    }
+    let d = r.delivered.as_ref().unwrap();
+    assert_eq!(d.standard_deviation, Some(0.0));
+    for p in [d.mean, d.p05, d.p50, d.p95] {
+        assert_eq!(p, r.nominal.share);
+    }
+    for o in &r.sensitivity.one_at_a_time {
+        assert_eq!(o.effect.map(|e| e.share), Some(0.0), "{o:?}");
+    }
+    for c in &r.sensitivity.correlation {
+        assert_eq!(c.r, None, "{c:?}");
+    }
+    // Below zero is still refused, by field.
+    let p = problems(json!({ "version": 1, "scenario": example("bike"),
+        "tolerances": { "spreads": [ { "field": "source.gap_mm", "sigma": -0.1 } ],
+                        "variants": 4 } }));
+    assert_eq!(p[0].field, "tolerances.spreads[0].sigma");
+    assert!(p[0].message.contains("≥ 0"), "{}", p[0].message);
 }

@@ -85,3 +85,45 @@ fn the_report_reads_back_as_written() {
         tirtrace::study::tolerance::report_csv(&report)
     );
 }
+
+/// The tolerance chart of `report` drawn to an SVG of 900 × 620 pixels.
+fn chart_svg(report: &ToleranceReport) -> String {
+    use plotters::prelude::*;
+    let mut svg = String::new();
+    {
+        let area = SVGBackend::with_string(&mut svg, (900, 620)).into_drawing_area();
+        tirtrace::chart::draw_tolerance_chart(&area, report, 1.0).unwrap();
+    }
+    svg
+}
+
+#[test]
+fn the_chart_marks_the_nominal_and_percentiles_and_ranks_the_tolerances() {
+    let t = small(0.3, 12).prepare_tolerance().unwrap();
+    let report = t.report(&t.trace_all_serial());
+    let svg = chart_svg(&report);
+    let d = report.delivered.as_ref().unwrap();
+    // Each mark labelled with its value in per cent as the chart writes it.
+    for (name, x) in [
+        ("nominal", report.nominal.share),
+        ("5 %", d.p05),
+        ("median", d.p50),
+        ("95 %", d.p95),
+    ] {
+        let decimals = 1 + usize::from(svg.contains(&format!("{name} {:.2}", 100.0 * x)));
+        assert!(
+            svg.contains(&format!("{name} {:.*}", decimals, 100.0 * x)),
+            "{name} not labelled"
+        );
+    }
+    assert!(svg.contains("delivered over the variants (% of the emitted light)"));
+    assert!(svg.contains("(% points, ± 95 %)"));
+    // The gap's minus point is refused (negative gap): only the offset gets a bar.
+    assert!(svg.contains("source.offset[0] (mm)"));
+    assert!(!svg.contains("source.gap (mm)"));
+    assert!(!svg.contains("NaN") && !svg.contains("inf"));
+    // Nothing traced yet: a message instead of axes.
+    let mut empty = report.clone();
+    empty.delivered = None;
+    assert!(chart_svg(&empty).contains("no variant traced yet"));
+}

@@ -688,3 +688,18 @@ pub fn tolerance_report_csv(report: JsValue) -> Result<String, JsError> {
         report,
     )?))
 }
+
+/// Draw a tolerance report's chart on the canvas with id `canvas_id`: the histogram of
+/// delivered over the variants with the nominal and the 5/50/95 % percentiles, and the
+/// one-at-a-time effects as bars with their 95 % intervals. `pixel_ratio` as for
+/// [`draw_exit_map`].
+#[wasm_bindgen]
+pub fn draw_tolerance_chart(
+    canvas_id: &str,
+    report: JsValue,
+    pixel_ratio: f64,
+) -> Result<(), JsError> {
+    let report = read_tolerance_report(report)?;
+    let area = canvas_area(canvas_id)?;
+    crate::chart::draw_tolerance_chart(&area, &report, pixel_ratio).map_err(js_error)
+}

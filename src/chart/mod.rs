@@ -1,11 +1,12 @@
 //! Charts, generic over the plotters drawing backend: the page draws them on a canvas, the tests
 //! draw them to SVG. The quick look's leak-free bend chart is in `bend.rs`, a trace report's
-//! exit-face map and intensity chart in `report.rs`, a sweep's chart in `sweep.rs`; this file
+//! exit-face map and intensity chart in `report.rs`, a sweep's chart in `sweep.rs`, a tolerance study's in `tolerance.rs`; this file
 //! holds what they share (scale, fonts, axes, labelled lines, the legend box).
 
 mod bend;
 mod report;
 mod sweep;
+mod tolerance;
 
 use std::ops::Range;
 
@@ -18,6 +19,7 @@ use crate::error::TirError;
 pub use bend::{bend_curve, draw_bend_chart};
 pub use report::{draw_exit_map, draw_intensity, sequential_colour};
 pub use sweep::{draw_sweep_chart, field_axis_title};
+pub use tolerance::draw_tolerance_chart;
 
 fn draw_err<E: std::fmt::Debug>(e: E) -> TirError {
     TirError::Draw(format!("{e:?}"))

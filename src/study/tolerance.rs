@@ -92,7 +92,7 @@ struct SpreadDocument {
 }
 
 /// How a field is spread around its nominal value.
-#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
 #[serde(rename_all = "snake_case")]
 pub enum Distribution {
     /// Normal with standard deviation `sigma`.
@@ -300,7 +300,7 @@ pub struct Tolerance {
 }
 
 /// One unit's merged statistics.
-#[derive(Debug, Clone, Copy, Default, PartialEq)]
+#[derive(Debug, Clone, Copy, Default, PartialEq, Serialize, Deserialize)]
 pub struct UnitStats {
     /// Delivered share.
     pub delivered: Estimate,
@@ -311,8 +311,9 @@ pub struct UnitStats {
 }
 
 /// The merged results of some batches: the nominal, each one-at-a-time pair (minus, plus) and
-/// each variant (`None` when refused).
-#[derive(Debug, Clone, PartialEq)]
+/// each variant (`None` when refused). Serialised both ways so that a batch traced by one
+/// worker can be merged by another ([`Tolerance::fits`] checks it belongs to the study).
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct ToleranceBatch {
     /// The nominal scenario's delivered share.
     pub nominal: Estimate,
@@ -336,6 +337,12 @@ impl ToleranceBatch {
                 a.effect.merge(&b.effect);
             }
         }
+    }
+}
+
+impl crate::trace::MergeInOrder for ToleranceBatch {
+    fn merge_next(&mut self, next: &ToleranceBatch) {
+        self.merge(next);
     }
 }
 
@@ -491,6 +498,32 @@ impl Tolerance {
     /// Number of batches of every traced scenario.
     pub fn batch_count(&self) -> u64 {
         self.rays.div_ceil(BATCH_RAYS)
+    }
+
+    /// Whether `batch` (sent back by a worker) comes from this study: a result for every
+    /// one-at-a-time point and variant that can be traced and none for a refused one, each
+    /// over as many rays as the nominal's (the same batch's rays).
+    pub fn fits(&self, batch: &ToleranceBatch) -> bool {
+        let rays = batch.nominal.n;
+        let ready = |u: &Unit, s: &Option<UnitStats>| match (u, s) {
+            (Unit::Ready(_), Some(s)) => s.delivered.n == rays && s.difference.n == rays,
+            (Unit::Refused(_), None) => true,
+            _ => false,
+        };
+        rays > 0
+            && rays <= BATCH_RAYS
+            && batch.one_at_a_time.len() == self.one_at_a_time.len()
+            && batch.variants.len() == self.variants.len()
+            && self
+                .one_at_a_time
+                .iter()
+                .zip(&batch.one_at_a_time)
+                .all(|((m, p), [sm, sp])| ready(m, sm) && ready(p, sp))
+            && self
+                .variants
+                .iter()
+                .zip(&batch.variants)
+                .all(|((_, u), s)| ready(u, s))
     }
 
     /// The units of a batch besides the nominal: each spread's one-at-a-time pair, then every
@@ -649,8 +682,20 @@ pub const ONE_AT_A_TIME_METHOD: &str = "one at a time: each field at nominal −
 pub const CORRELATION_METHOD: &str = "correlation: Pearson's r between each field's drawn value \
     and delivered over the traced variants (null when either does not vary); ranked by |r|";
 
+fn percentile_method() -> &'static str {
+    PERCENTILE_METHOD
+}
+
+fn one_at_a_time_method() -> &'static str {
+    ONE_AT_A_TIME_METHOD
+}
+
+fn correlation_method() -> &'static str {
+    CORRELATION_METHOD
+}
+
 /// A spread as reported.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct SpreadReport {
     /// The field (path in the scenario).
     pub field: String,
@@ -663,23 +708,23 @@ pub struct SpreadReport {
 }
 
 /// A variant as reported.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct VariantReport {
     /// The drawn values, one per spread in the document's order.
     pub values: Vec<f64>,
     /// Delivered share ± 95 % (absent when refused).
-    #[serde(skip_serializing_if = "Option::is_none")]
+    #[serde(default, skip_serializing_if = "Option::is_none")]
     pub delivered: Option<Share>,
     /// Delivered minus nominal, paired per ray, ± 95 % (absent when refused).
-    #[serde(skip_serializing_if = "Option::is_none")]
+    #[serde(default, skip_serializing_if = "Option::is_none")]
     pub difference: Option<Share>,
     /// Why the variant was not traced (absent when traced).
-    #[serde(skip_serializing_if = "Vec::is_empty")]
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
     pub problems: Vec<Problem>,
 }
 
 /// A histogram of the variants' delivered shares.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct Histogram {
     /// Bin edges (one more than the counts); the last bin includes its upper edge.
     pub edges: Vec<f64>,
@@ -688,7 +733,7 @@ pub struct Histogram {
 }
 
 /// The spread of delivered over the traced variants.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct DeliveredSpread {
     /// Mean of the variants' delivered shares.
     pub mean: f64,
@@ -700,17 +745,19 @@ pub struct DeliveredSpread {
     pub p50: f64,
     /// 95th percentile.
     pub p95: f64,
-    /// How the percentiles are computed.
+    /// How the percentiles are computed (a report read back gets this version's text).
+    #[serde(skip_deserializing, default = "percentile_method")]
     pub percentile_method: &'static str,
     /// The median of the variants' own 95 % half-widths: the ray noise on each variant's
     /// delivered (compare with the standard deviation above).
+    #[serde(deserialize_with = "crate::export::ci95_or_infinite")]
     pub typical_variant_ci95: f64,
     /// Histogram of delivered (square-root choice of bin count, at most 40 bins).
     pub histogram: Histogram,
 }
 
 /// One field in the one-at-a-time ranking.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct OneAtATime {
     /// The field.
     pub field: String,
@@ -723,12 +770,12 @@ pub struct OneAtATime {
     /// (plus − minus)/2 ± 95 % (null when either point is refused).
     pub effect: Option<Share>,
     /// Problems of a refused point.
-    #[serde(skip_serializing_if = "Vec::is_empty")]
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
     pub problems: Vec<Problem>,
 }
 
 /// One field in the correlation ranking.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct Correlation {
     /// The field.
     pub field: String,
@@ -737,23 +784,25 @@ pub struct Correlation {
 }
 
 /// The sensitivity rankings.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct Sensitivity {
-    /// How the one-at-a-time ranking is made.
+    /// How the one-at-a-time ranking is made (read back: this version's text).
+    #[serde(skip_deserializing, default = "one_at_a_time_method")]
     pub one_at_a_time_method: &'static str,
     /// Most influential first.
     pub one_at_a_time: Vec<OneAtATime>,
-    /// How the correlation ranking is made.
+    /// How the correlation ranking is made (read back: this version's text).
+    #[serde(skip_deserializing, default = "correlation_method")]
     pub correlation_method: &'static str,
     /// Most correlated first.
     pub correlation: Vec<Correlation>,
 }
 
 /// Everything a tolerance study reports.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct ToleranceReport {
     /// The study's label.
-    #[serde(skip_serializing_if = "Option::is_none")]
+    #[serde(default, skip_serializing_if = "Option::is_none")]
     pub name: Option<String>,
     /// Rays per traced scenario (the same rays at every one).
     pub rays: u64,
@@ -772,7 +821,7 @@ pub struct ToleranceReport {
     /// The first few refused variants: their index and problems.
     pub refused_examples: Vec<RefusedVariant>,
     /// Delivered over the traced variants (absent when none was traced).
-    #[serde(skip_serializing_if = "Option::is_none")]
+    #[serde(default, skip_serializing_if = "Option::is_none")]
     pub delivered: Option<DeliveredSpread>,
     /// Which tolerance matters most.
     pub sensitivity: Sensitivity,
@@ -781,7 +830,7 @@ pub struct ToleranceReport {
 }
 
 /// A refused variant, named.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct RefusedVariant {
     /// Its index (0-based) in `variants`.
     pub variant: usize,

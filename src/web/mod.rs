@@ -568,3 +568,138 @@ pub fn draw_sweep_chart(
     let area = canvas_area(canvas_id)?;
     crate::chart::draw_sweep_chart(&area, &report, bend.as_ref(), pixel_ratio).map_err(js_error)
 }
+
+/// A tolerance study prepared for tracing, kept alive between calls (one per worker): the
+/// counterpart of [`StudyTracer`] for a study with `tolerances`.
+#[wasm_bindgen]
+pub struct ToleranceTracer {
+    tolerance: crate::study::Tolerance,
+    merger: crate::trace::PrefixMerger<crate::study::ToleranceBatch>,
+}
+
+#[wasm_bindgen]
+impl ToleranceTracer {
+    /// Read a tolerance study given as JSON text (the file `tirtrace study` reads) and prepare
+    /// the nominal, the one-at-a-time points and every variant; throws an `Error` with a
+    /// `problems` list (`[{ field, message }]`, paths in the study document) when it cannot be
+    /// traced.
+    #[wasm_bindgen(constructor)]
+    pub fn new(study_json: &str) -> Result<ToleranceTracer, JsValue> {
+        let study = crate::study::Study::from_json(study_json).map_err(|p| problems_thrown(&p))?;
+        let tolerance = study.prepare_tolerance().map_err(|p| problems_thrown(&p))?;
+        Ok(ToleranceTracer {
+            tolerance,
+            merger: crate::trace::PrefixMerger::new(),
+        })
+    }
+
+    /// Number of batches of every traced scenario.
+    pub fn batch_count(&self) -> f64 {
+        self.tolerance.batch_count() as f64
+    }
+
+    /// Trace batches `first .. first + count` of the nominal, the one-at-a-time points and
+    /// every variant, and return them one by one (plain objects a worker can post back).
+    pub fn batches(&self, first: f64, count: f64) -> Result<JsValue, JsError> {
+        let (first, end) = batch_range(self.tolerance.batch_count(), first, count)?;
+        let list: Vec<crate::study::ToleranceBatch> = (first..end)
+            .map(|b| self.tolerance.trace_batch(b))
+            .collect();
+        to_js(&list)
+    }
+
+    /// Trace batches `first .. first + count`, merged in order, and return the tolerance
+    /// report (what `tirtrace study` prints when they are all the batches).
+    pub fn report(&self, first: f64, count: f64) -> Result<JsValue, JsError> {
+        let (first, end) = batch_range(self.tolerance.batch_count(), first, count)?;
+        let mut merged = self.tolerance.trace_batch(first);
+        for b in first + 1..end {
+            merged.merge(&self.tolerance.trace_batch(b));
+        }
+        to_js(&self.tolerance.report(&merged))
+    }
+
+    /// Keep batch `index` (a plain object from [`ToleranceTracer::batches`]) for the running
+    /// merge; refuses a batch of another study.
+    pub fn merger_add(&mut self, index: f64, batch: JsValue) -> Result<(), JsError> {
+        if !(index.is_finite() && index >= 0.0 && index.fract() == 0.0) {
+            return Err(JsError::new(&format!(
+                "index must be a whole batch index ≥ 0, got {index}"
+            )));
+        }
+        let batch: crate::study::ToleranceBatch = serde_wasm_bindgen::from_value(batch)
+            .map_err(|e| JsError::new(&format!("the batch could not be read: {e}")))?;
+        if !self.tolerance.fits(&batch) {
+            return Err(JsError::new("the batch comes from a different study"));
+        }
+        self.merger.add(index as u64, batch);
+        Ok(())
+    }
+
+    /// The tolerance report of batches `0 .. count` folded in order, or `null` while one of
+    /// them has not been added yet. Counts must not decrease between calls (until
+    /// `merger_reset`).
+    pub fn merger_report(&mut self, count: f64) -> Result<JsValue, JsError> {
+        if !(count.is_finite() && count >= 1.0 && count.fract() == 0.0) {
+            return Err(JsError::new(&format!(
+                "count must be a whole number of batches ≥ 1, got {count}"
+            )));
+        }
+        if (count as u64) < self.merger.folded() {
+            return Err(JsError::new(&format!(
+                "count must not go below the {} batches already merged, got {count}",
+                self.merger.folded()
+            )));
+        }
+        match self.merger.fold_to(count as u64) {
+            Some(total) => to_js(&self.tolerance.report(total)),
+            None => Ok(JsValue::NULL),
+        }
+    }
+
+    /// Forget the running merge (a new job with the same study).
+    pub fn merger_reset(&mut self) {
+        self.merger = crate::trace::PrefixMerger::new();
+    }
+}
+
+/// Read a tolerance report object (as `ToleranceTracer.report` returns it) back into the
+/// core's type.
+fn read_tolerance_report(report: JsValue) -> Result<crate::study::ToleranceReport, JsError> {
+    let de = serde_wasm_bindgen::Deserializer::from(report);
+    serde_path_to_error::deserialize(de).map_err(|e| {
+        let path = e.path().to_string();
+        let field = if path.is_empty() || path == "." || path == "?" {
+            "report".to_string()
+        } else {
+            format!("report.{path}")
+        };
+        let inner = e.into_inner().to_string();
+        let inner = inner.strip_prefix("Error: ").unwrap_or(&inner);
+        JsError::new(&format!("{field} could not be read: {inner}"))
+    })
+}
+
+/// A tolerance report as CSV, one row per variant: the same text as `tirtrace study FILE
+/// --csv` prints for it.
+#[wasm_bindgen]
+pub fn tolerance_report_csv(report: JsValue) -> Result<String, JsError> {
+    Ok(crate::study::tolerance::report_csv(&read_tolerance_report(
+        report,
+    )?))
+}
+
+/// Draw a tolerance report's chart on the canvas with id `canvas_id`: the histogram of
+/// delivered over the variants with the nominal and the 5/50/95 % percentiles, and the
+/// one-at-a-time effects as bars with their 95 % intervals. `pixel_ratio` as for
+/// [`draw_exit_map`].
+#[wasm_bindgen]
+pub fn draw_tolerance_chart(
+    canvas_id: &str,
+    report: JsValue,
+    pixel_ratio: f64,
+) -> Result<(), JsError> {
+    let report = read_tolerance_report(report)?;
+    let area = canvas_area(canvas_id)?;
+    crate::chart::draw_tolerance_chart(&area, &report, pixel_ratio).map_err(js_error)
+}

@@ -11,7 +11,9 @@ import { dirname, join } from 'node:path';
 import { test } from 'node:test';
 import { fileURLToPath } from 'node:url';
 
-import { initSync, StudyTracer, sweep_report_csv, Tracer } from '../../www/pkg/tirtrace.js';
+import {
+  initSync, StudyTracer, sweep_report_csv, ToleranceTracer, tolerance_report_csv, Tracer,
+} from '../../www/pkg/tirtrace.js';
 import { variantsOf } from './variants.mjs';
 
 const ROOT = join(dirname(fileURLToPath(import.meta.url)), '..', '..');
@@ -116,5 +118,63 @@ test('a study that cannot be traced is refused with its problems, each by field'
     assert.ok(e instanceof Error);
     assert.deepStrictEqual(e.problems.map((p) => p.field), ['vary.steps']);
     assert.match(e.message, /vary\.steps must be a whole number/);
+  }
+});
+
+// A tolerance study: the example at few rays and variants, with a gap spread wide enough that
+// some variants (and the one-at-a-time minus point) are refused.
+function smallTolerances(variants = 8) {
+  const study = JSON.parse(readFileSync(join(STUDIES, 'bike_light_tolerances.json'), 'utf8'));
+  study.scenario.trace = { ...study.scenario.trace, rays: 2 * 4096 + 21, seed: 3 };
+  study.tolerances = {
+    spreads: [{ field: 'source.gap_mm', sigma: 0.3 },
+      { field: 'route[2].bend.radius_mm', half_width: 0.2 }],
+    variants,
+  };
+  return JSON.stringify(study);
+}
+
+test('a tolerance study traced in wasm gives tirtrace study\'s report and CSV bit for bit', () => {
+  const text = smallTolerances();
+  const run = (extra) => spawnSync(CLI, ['study', '-', '--threads', '2', ...extra],
+    { input: text, encoding: 'utf8' });
+  const cli = run([]);
+  assert.equal(cli.status, 0, cli.stderr);
+  const native = JSON.parse(cli.stdout);
+  const tracer = new ToleranceTracer(text);
+  const count = tracer.batch_count();
+  assert.equal(count, 3);
+  assert.deepStrictEqual(tracer.report(0, count), native);
+  assert.ok(native.variants_refused > 0 && native.variants_traced > 0, 'some refused, some traced');
+  // Batches traced apart (as by several workers), added out of order, merged in batch order.
+  const parts = [tracer.batches(2, 1), tracer.batches(0, 2)];
+  tracer.merger_add(2, parts[0][0]);
+  assert.equal(tracer.merger_report(3), null, 'batches 0 and 1 are still on their way');
+  tracer.merger_add(1, parts[1][1]);
+  tracer.merger_add(0, parts[1][0]);
+  const merged = tracer.merger_report(3);
+  assert.deepStrictEqual(merged, native);
+  const csv = run(['--csv']);
+  assert.equal(csv.status, 0, csv.stderr);
+  assert.equal(tolerance_report_csv(merged), `${csv.stdout}\n`.replace(/\n\n$/, '\n'));
+  // A batch of another study is refused; so is a broken one.
+  const other = new ToleranceTracer(smallTolerances(7));
+  assert.throws(() => tracer.merger_add(0, other.batches(0, 1)[0]), /different study/);
+  assert.throws(() => tracer.merger_add(0, { nominal: 3 }), /could not be read/);
+  assert.throws(() => tracer.batches(3, 1), /first must be a whole batch index/);
+  other.free();
+  tracer.free();
+});
+
+test('a tolerance study that cannot be traced is refused with its problems, each by field', () => {
+  const study = JSON.parse(smallTolerances());
+  study.tolerances.spreads[1].half_width = -1;
+  try {
+    new ToleranceTracer(JSON.stringify(study));
+    assert.fail('the study was accepted');
+  } catch (e) {
+    assert.ok(e instanceof Error);
+    assert.deepStrictEqual(e.problems.map((p) => p.field), ['tolerances.spreads[1].half_width']);
+    assert.match(e.message, /tolerances\.spreads\[1\]\.half_width must be/);
   }
 });

@@ -16,7 +16,7 @@ use crate::export::csv_text;
 use crate::limits::SWEEP_RAYS;
 use crate::problems::{read_scenario, Problem};
 use crate::stats::{Estimate, Share};
-use crate::trace::{Batch, Budget, Prepared};
+use crate::trace::{BatchTallies, Budget, Prepared};
 
 use super::{in_scenario, Plan, Setting, Study, SweepPlan};
 
@@ -72,11 +72,13 @@ pub struct Sweep {
 
 /// The merged result of some batches of every point, in point order (`None` for a refused
 /// point). Serialisable, so that batches traced in separate workers can be sent back and merged
-/// in batch order ([`crate::trace::PrefixMerger`]).
+/// in batch order ([`crate::trace::PrefixMerger`]). Each point keeps only what the sweep
+/// reports (its tallies, [`BatchTallies`]), not the trace's histograms: a few hundred numbers
+/// per point and batch instead of some 7,000.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct SweepBatch {
-    /// Each point's merged batches.
-    pub batches: Vec<Option<Batch>>,
+    /// Each point's merged batches' tallies.
+    pub batches: Vec<Option<BatchTallies>>,
     /// Each point's delivered share minus the reference point's, from per-ray differences.
     pub differences: Vec<Option<Estimate>>,
 }
@@ -285,7 +287,7 @@ impl Sweep {
         let mut x0 = Vec::new();
         let mut x = Vec::new();
         let reference = self.reference.and_then(|r| match &self.points[r] {
-            Point::Ready(p) => Some(p.trace_batch_per_ray(index, &mut x0)),
+            Point::Ready(p) => Some(BatchTallies::from(p.trace_batch_per_ray(index, &mut x0))),
             Point::Refused(_) => None,
         });
         let mut out = SweepBatch {
@@ -305,7 +307,8 @@ impl Sweep {
                         .push(Some(Estimate::of_differences(&x0, &x0)));
                 }
                 Point::Ready(p) => {
-                    out.batches.push(Some(p.trace_batch_per_ray(index, &mut x)));
+                    out.batches
+                        .push(Some(p.trace_batch_per_ray(index, &mut x).into()));
                     out.differences
                         .push(Some(Estimate::of_differences(&x, &x0)));
                 }
@@ -324,7 +327,7 @@ impl Sweep {
                 .iter()
                 .zip(batch.batches.iter().zip(&batch.differences))
                 .all(|(point, pair)| match (point, pair) {
-                    (Point::Ready(p), (Some(b), Some(_))) => p.fits(b),
+                    (Point::Ready(p), (Some(b), Some(_))) => p.fits_tallies(b),
                     (Point::Refused(_), (None, None)) => true,
                     _ => false,
                 })
@@ -391,7 +394,7 @@ impl Sweep {
                 let and_value = self.at[i].get(1).cloned();
                 match (point, &merged.batches[i], &merged.differences[i]) {
                     (Point::Ready(p), Some(batch), Some(d)) => {
-                        let r = p.report(batch);
+                        let r = p.report_tallies(batch);
                         PointReport {
                             value,
                             and_value,

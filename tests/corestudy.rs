@@ -76,3 +76,67 @@ fn a_sweep_point_reports_exactly_the_plain_trace_of_its_design() {
         "three points' batch {light} B, one plain batch {full} B"
     );
 }
+
+/// A tolerance study of the bike light: the LED's offset and gap, and a gap spread wide enough
+/// that some variants draw a negative gap (refused: pieces must carry the refusals too).
+fn bike_tolerances(rays: u64, seed: u64) -> Study {
+    study(
+        json!({ "version": 1, "scenario": example("bike"),
+            "tolerances": { "spreads": [
+                { "field": "source.offset_mm[0]", "sigma": 0.1 },
+                { "field": "source.gap_mm", "sigma": 0.3 } ],
+                "variants": 12 } }),
+        rays,
+        seed,
+    )
+}
+
+#[test]
+fn tolerance_pieces_of_any_split_merge_to_the_single_run_bit_for_bit() {
+    use tirtrace::study::pieces::TolerancePiece;
+    let s = bike_tolerances(4 * BATCH_RAYS + 17, 9);
+    let tol = s.prepare_tolerance().unwrap();
+    let whole = tol.trace_all_parallel(2, |_| {}).unwrap();
+    assert_eq!(whole, tol.trace_all_serial());
+    let report = tol.report(&whole);
+    assert!(report.variants_refused > 0, "some variants are refused");
+    let doc = json!({ "any": "study" });
+    for n in [1u64, 2, 3, 7] {
+        // Finer than the batches (empty pieces) and uneven splits, merged in reverse order
+        // after a trip through JSON (as files between machines).
+        let mut pieces: Vec<TolerancePiece> = (1..=n)
+            .map(|k| {
+                let p = tol.piece(&doc, k, n).unwrap();
+                serde_json::from_str(&serde_json::to_string(&p).unwrap()).unwrap()
+            })
+            .collect();
+        pieces.reverse();
+        let names: Vec<String> = (1..=n).rev().map(|k| format!("piece {k}")).collect();
+        let merged = tol.merge_pieces(&doc, &pieces, &names).unwrap();
+        assert_eq!(merged, whole, "{n} pieces");
+        assert_eq!(tol.report(&merged), report);
+    }
+    // Missing, doubled, another study's (other variants), another seed: each named.
+    let p = |k: u64| tol.piece(&doc, k, 3).unwrap();
+    let names = |n: usize| (1..=n).map(|k| format!("p{k}")).collect::<Vec<_>>();
+    let e = tol
+        .merge_pieces(&doc, &[p(1), p(3)], &names(2))
+        .unwrap_err();
+    assert!(e.contains("batches 1 to 2 are missing"), "{e}");
+    let e = tol
+        .merge_pieces(&doc, &[p(1), p(2), p(2), p(3)], &names(4))
+        .unwrap_err();
+    assert!(e.contains("is in two pieces (p2 and p3)"), "{e}");
+    let other = bike_tolerances(4 * BATCH_RAYS + 17, 10)
+        .prepare_tolerance()
+        .unwrap();
+    let foreign = other.piece(&doc, 1, 1).unwrap();
+    // Another seed draws other variants: some refused where ours are traced, so it does not fit.
+    let e = tol.merge_pieces(&doc, &[foreign], &names(1)).unwrap_err();
+    assert!(e.contains("does not fit"), "{e}");
+    let e = tol
+        .merge_pieces(&json!({ "other": 1 }), &[p(1), p(2), p(3)], &names(3))
+        .unwrap_err();
+    assert!(e.contains("p1 was traced for another study"), "{e}");
+    assert!(tol.piece(&doc, 4, 3).is_err());
+}

@@ -300,7 +300,7 @@ pub struct Tolerance {
 }
 
 /// One unit's merged statistics.
-#[derive(Debug, Clone, Copy, Default, PartialEq)]
+#[derive(Debug, Clone, Copy, Default, PartialEq, Serialize, Deserialize)]
 pub struct UnitStats {
     /// Delivered share.
     pub delivered: Estimate,
@@ -311,8 +311,9 @@ pub struct UnitStats {
 }
 
 /// The merged results of some batches: the nominal, each one-at-a-time pair (minus, plus) and
-/// each variant (`None` when refused).
-#[derive(Debug, Clone, PartialEq)]
+/// each variant (`None` when refused). Serialisable, so that batches traced elsewhere (pieces)
+/// can be merged in batch order.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct ToleranceBatch {
     /// The nominal scenario's delivered share.
     pub nominal: Estimate,
@@ -336,6 +337,32 @@ impl ToleranceBatch {
                 a.effect.merge(&b.effect);
             }
         }
+    }
+}
+
+impl crate::trace::MergeInOrder for ToleranceBatch {
+    fn merge_next(&mut self, next: &ToleranceBatch) {
+        self.merge(next);
+    }
+}
+
+impl Tolerance {
+    /// Whether `batch` (read from a piece) comes from this study: a result for exactly the
+    /// one-at-a-time points and variants that can be traced.
+    pub fn fits(&self, batch: &ToleranceBatch) -> bool {
+        let ready = |u: &Unit| matches!(u, Unit::Ready(_));
+        batch.one_at_a_time.len() == self.one_at_a_time.len()
+            && batch.variants.len() == self.variants.len()
+            && self
+                .one_at_a_time
+                .iter()
+                .zip(&batch.one_at_a_time)
+                .all(|((m, p), [bm, bp])| ready(m) == bm.is_some() && ready(p) == bp.is_some())
+            && self
+                .variants
+                .iter()
+                .zip(&batch.variants)
+                .all(|((_, u), b)| ready(u) == b.is_some())
     }
 }
 

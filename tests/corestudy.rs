@@ -140,3 +140,82 @@ fn tolerance_pieces_of_any_split_merge_to_the_single_run_bit_for_bit() {
     assert!(e.contains("p1 was traced for another study"), "{e}");
     assert!(tol.piece(&doc, 4, 3).is_err());
 }
+
+/// Sweep `field` of `scenario` over `values` with `rays` rays and `seed`.
+fn sweep_of(scenario: &Value, field: &str, values: &[f64], rays: u64, seed: u64) -> SweepReport {
+    let s = study(
+        json!({ "version": 1, "scenario": scenario,
+            "vary": { "field": field, "values": values } }),
+        rays,
+        seed,
+    );
+    let sweep = s.prepare_sweep().unwrap();
+    sweep.report(&sweep.trace_all_parallel(2, |_| {}).unwrap())
+}
+
+#[test]
+fn common_random_numbers_narrow_the_intervals_of_leak_and_receiver_differences() {
+    // The thermostat's first bend (route[1]) at 5 mm, where it leaks, and 1 % wider. With
+    // common random numbers the rays the change does not touch give d_k = 0 exactly for the
+    // bend's leak and for the receiver, so both paired intervals are far narrower than two
+    // independent runs' √(a² + b²) (as for delivered).
+    let sc = example("thermostat");
+    let field = "route[1].bend.radius_mm";
+    let (r0, r1) = (5.0, 5.05);
+    let rays = 10 * BATCH_RAYS;
+    let paired = sweep_of(&sc, field, &[r0, r1], rays, 7);
+    let at = |report: &SweepReport, i: usize| report.points[i].result.clone().unwrap();
+    let (p0, p1) = (at(&paired, 0), at(&paired, 1));
+    // The reference point's differences are exactly 0, every segment's and the receiver's.
+    assert_eq!(
+        p0.segments_leaked_difference.len(),
+        p0.segments_leaked.len()
+    );
+    assert!(p0
+        .segments_leaked_difference
+        .iter()
+        .chain(p0.receiver_difference.iter())
+        .all(|d| d.share == 0.0 && d.ci95 == 0.0));
+    // Independent runs: each radius with its own seed.
+    let a = at(&sweep_of(&sc, field, &[r0, r1], rays, 7), 0);
+    let b = at(&sweep_of(&sc, field, &[r1, r0], rays, 8), 0);
+    let independent = |x: tirtrace::stats::Share, y: tirtrace::stats::Share| {
+        (x.ci95 * x.ci95 + y.ci95 * y.ci95).sqrt()
+    };
+    let leak = p1.segments_leaked_difference[1];
+    let leak_independent = independent(a.segments_leaked[1], b.segments_leaked[1]);
+    let receiver = p1.receiver_difference.unwrap();
+    let receiver_independent = independent(a.receiver.unwrap(), b.receiver.unwrap());
+    println!(
+        "bend leak difference {:.5} ± {:.5} paired vs ± {leak_independent:.5} independent; \
+         receiver {:.5} ± {:.5} vs ± {receiver_independent:.5}",
+        leak.share, leak.ci95, receiver.share, receiver.ci95
+    );
+    assert!(
+        a.segments_leaked[1].share > 0.01,
+        "the bend leaks at {r0} mm"
+    );
+    assert!(leak.ci95 > 0.0 && leak.ci95 < 0.5 * leak_independent);
+    assert!(receiver.ci95 > 0.0 && receiver.ci95 < 0.5 * receiver_independent);
+    // The paired mean is the difference of the two points' means (the same rays), and it
+    // agrees with the independent runs' difference within their interval.
+    let mean_diff = p1.segments_leaked[1].share - p0.segments_leaked[1].share;
+    assert!(
+        (leak.share - mean_diff).abs() < 1e-12,
+        "{} {mean_diff}",
+        leak.share
+    );
+    let r_diff = p1.receiver.unwrap().share - p0.receiver.unwrap().share;
+    assert!((receiver.share - r_diff).abs() < 1e-12);
+    let ind = b.segments_leaked[1].share - a.segments_leaked[1].share;
+    assert!((leak.share - ind).abs() < leak_independent + leak.ci95);
+    // The CSV carries them after the existing columns, units in the header.
+    let csv = tirtrace::study::sweep::report_csv(&paired);
+    let header: Vec<&str> = csv.lines().next().unwrap().split(',').collect();
+    let col = |name: &str| header.iter().position(|h| *h == name).unwrap();
+    let problems = col("\"problems\"");
+    assert_eq!(col("\"segment 1 leaked difference (share)\""), problems + 3);
+    assert_eq!(header.last(), Some(&"\"receiver difference ci95 (share)\""));
+    let row: Vec<&str> = csv.lines().nth(2).unwrap().split(',').collect();
+    assert_eq!(row[problems + 3], leak.share.to_string());
+}

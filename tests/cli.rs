@@ -705,3 +705,64 @@ fn a_sweep_in_pieces_merges_to_the_whole_run_byte_for_byte() {
     let e = one_line_error(&[&args[..], &["--piece", "0/3"]].concat(), &study);
     assert!(e.contains("--piece must be K/N with 1 ≤ K ≤ N"), "{e}");
 }
+
+#[test]
+fn a_tolerance_study_in_pieces_merges_to_the_whole_run_byte_for_byte() {
+    // Three pieces of a study of two batches (one piece empty), merged in another order: the
+    // whole run's report, byte for byte, JSON and CSV; a missing piece and another seed named.
+    let dir = std::path::Path::new(env!("CARGO_TARGET_TMPDIR")).join("tolerance-pieces");
+    std::fs::create_dir_all(&dir).unwrap();
+    let file = "examples/studies/bike_light_tolerances.json";
+    let args = ["study", file, "--rays", "5000", "--seed", "4"];
+    let mut names = Vec::new();
+    for k in 1..=3 {
+        let piece = ok_stdout(&[&args[..], &["--piece", &format!("{k}/3")]].concat(), "");
+        let name = dir.join(format!("piece-{k}.json"));
+        std::fs::write(&name, piece).unwrap();
+        names.push(name.to_str().unwrap().to_string());
+    }
+    let merge = |order: &[&String], extra: &[&str]| -> Vec<String> {
+        let mut a: Vec<String> = args.iter().map(|s| s.to_string()).collect();
+        a.extend(extra.iter().map(|s| s.to_string()));
+        a.push("--merge".to_string());
+        a.extend(order.iter().map(|n| n.to_string()));
+        a
+    };
+    let order = [&names[2], &names[0], &names[1]];
+    let run = |a: Vec<String>| ok_stdout(&a.iter().map(|s| s.as_str()).collect::<Vec<_>>(), "");
+    assert_eq!(run(merge(&order, &[])), ok_stdout(&args, ""));
+    assert_eq!(
+        run(merge(&order, &["--csv"])),
+        ok_stdout(&[&args[..], &["--csv"]].concat(), "")
+    );
+    let fail =
+        |a: Vec<String>| one_line_error(&a.iter().map(|s| s.as_str()).collect::<Vec<_>>(), "");
+    let e = fail(merge(&[&names[0], &names[1]], &[]));
+    assert!(e.contains("batch 1 is missing"), "{e}");
+    let mut other = merge(&order, &[]);
+    other[5] = "5".to_string();
+    let e = fail(other);
+    assert!(
+        e.contains("another study") && e.contains("study.scenario.trace.seed"),
+        "{e}"
+    );
+    // A sweep's piece is not a tolerance study's.
+    let sweep_piece = ok_stdout(
+        &[
+            "study",
+            "examples/studies/thermostat_first_bend.json",
+            "--rays",
+            "5000",
+            "--piece",
+            "1/1",
+        ],
+        "",
+    );
+    let name = dir.join("sweep-piece.json");
+    std::fs::write(&name, sweep_piece).unwrap();
+    let e = fail(merge(&[&name.to_str().unwrap().to_string()], &[]));
+    assert!(
+        e.contains("could not be read as a piece of this study"),
+        "{e}"
+    );
+}

@@ -16,7 +16,7 @@ use crate::export::csv_text;
 use crate::limits::SWEEP_RAYS;
 use crate::problems::{read_scenario, Problem};
 use crate::stats::{Estimate, Share};
-use crate::trace::{Batch, Budget, Prepared};
+use crate::trace::{BatchTallies, Budget, Prepared, RayTallies};
 
 use super::{in_scenario, Plan, Setting, Study, SweepPlan};
 
@@ -72,13 +72,54 @@ pub struct Sweep {
 
 /// The merged result of some batches of every point, in point order (`None` for a refused
 /// point). Serialisable, so that batches traced in separate workers can be sent back and merged
-/// in batch order ([`crate::trace::PrefixMerger`]).
+/// in batch order ([`crate::trace::PrefixMerger`]). Each point keeps only what the sweep
+/// reports (its tallies, [`BatchTallies`]), not the trace's histograms: a few hundred numbers
+/// per point and batch instead of some 7,000.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct SweepBatch {
-    /// Each point's merged batches.
-    pub batches: Vec<Option<Batch>>,
+    /// Each point's merged batches' tallies.
+    pub batches: Vec<Option<BatchTallies>>,
     /// Each point's delivered share minus the reference point's, from per-ray differences.
     pub differences: Vec<Option<Estimate>>,
+    /// Each point's segment leaks and receiver share minus the reference point's, from per-ray
+    /// differences.
+    #[serde(default)]
+    pub paired: Vec<Option<PairedDifferences>>,
+}
+
+/// A point's paired differences (common random numbers) to the reference point beyond
+/// delivered: d_k = x_k − x₀,k per ray, estimated by [`Estimate::of_differences`].
+#[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize)]
+pub struct PairedDifferences {
+    /// Per route segment (those both points have): leaked share minus the reference's.
+    pub segments_leaked: Vec<Estimate>,
+    /// Share on the receiver minus the reference's, when both have a receiver.
+    pub receiver: Option<Estimate>,
+}
+
+impl PairedDifferences {
+    /// The paired differences of one batch's rays `x` to the reference's `x0`.
+    fn of(x: &RayTallies, x0: &RayTallies, receivers: bool) -> PairedDifferences {
+        PairedDifferences {
+            segments_leaked: x
+                .leaked
+                .iter()
+                .zip(&x0.leaked)
+                .map(|(a, b)| Estimate::of_differences(a, b))
+                .collect(),
+            receiver: receivers.then(|| Estimate::of_differences(&x.receiver, &x0.receiver)),
+        }
+    }
+
+    /// Merge the next batch (in batch order).
+    fn merge(&mut self, other: &PairedDifferences) {
+        for (a, b) in self.segments_leaked.iter_mut().zip(&other.segments_leaked) {
+            a.merge(b);
+        }
+        if let (Some(a), Some(b)) = (self.receiver.as_mut(), &other.receiver) {
+            a.merge(b);
+        }
+    }
 }
 
 impl SweepBatch {
@@ -90,6 +131,11 @@ impl SweepBatch {
             }
         }
         for (a, b) in self.differences.iter_mut().zip(&other.differences) {
+            if let (Some(a), Some(b)) = (a.as_mut(), b) {
+                a.merge(b);
+            }
+        }
+        for (a, b) in self.paired.iter_mut().zip(&other.paired) {
             if let (Some(a), Some(b)) = (a.as_mut(), b) {
                 a.merge(b);
             }
@@ -118,6 +164,13 @@ pub struct PointResult {
     /// Share landing on the receiver, when the scenario has one.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub receiver: Option<Share>,
+    /// Each segment's leaked share minus the reference point's, with the 95 % half-width of
+    /// the paired (common random numbers) estimate; exactly 0 at the reference point.
+    #[serde(default)]
+    pub segments_leaked_difference: Vec<Share>,
+    /// The receiver's share minus the reference point's, paired as the others.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub receiver_difference: Option<Share>,
 }
 
 /// One point of the report: the value, and its result or its problems.
@@ -282,32 +335,45 @@ impl Sweep {
 
     /// Trace batch `index` of every point with common random numbers.
     pub fn trace_batch(&self, index: u64) -> SweepBatch {
-        let mut x0 = Vec::new();
-        let mut x = Vec::new();
+        let mut x0 = RayTallies::default();
+        let mut x = RayTallies::default();
         let reference = self.reference.and_then(|r| match &self.points[r] {
-            Point::Ready(p) => Some(p.trace_batch_per_ray(index, &mut x0)),
+            Point::Ready(p) => Some((
+                BatchTallies::from(p.trace_batch_per_ray_all(index, &mut x0)),
+                p.scenario.receiver.is_some(),
+            )),
             Point::Refused(_) => None,
         });
+        let has_receiver = reference.as_ref().is_some_and(|r| r.1);
+        let mut reference = reference.map(|r| r.0);
+        let n = self.points.len();
         let mut out = SweepBatch {
-            batches: Vec::with_capacity(self.points.len()),
-            differences: Vec::with_capacity(self.points.len()),
+            batches: Vec::with_capacity(n),
+            differences: Vec::with_capacity(n),
+            paired: Vec::with_capacity(n),
         };
-        let mut reference = reference;
         for (i, point) in self.points.iter().enumerate() {
             match point {
                 Point::Refused(_) => {
                     out.batches.push(None);
                     out.differences.push(None);
+                    out.paired.push(None);
                 }
                 Point::Ready(_) if Some(i) == self.reference => {
                     out.batches.push(reference.take());
                     out.differences
-                        .push(Some(Estimate::of_differences(&x0, &x0)));
+                        .push(Some(Estimate::of_differences(&x0.delivered, &x0.delivered)));
+                    out.paired
+                        .push(Some(PairedDifferences::of(&x0, &x0, has_receiver)));
                 }
                 Point::Ready(p) => {
-                    out.batches.push(Some(p.trace_batch_per_ray(index, &mut x)));
+                    out.batches
+                        .push(Some(p.trace_batch_per_ray_all(index, &mut x).into()));
                     out.differences
-                        .push(Some(Estimate::of_differences(&x, &x0)));
+                        .push(Some(Estimate::of_differences(&x.delivered, &x0.delivered)));
+                    let receivers = has_receiver && p.scenario.receiver.is_some();
+                    out.paired
+                        .push(Some(PairedDifferences::of(&x, &x0, receivers)));
                 }
             }
         }
@@ -319,12 +385,18 @@ impl Sweep {
     pub fn fits(&self, batch: &SweepBatch) -> bool {
         batch.batches.len() == self.points.len()
             && batch.differences.len() == self.points.len()
+            && batch.paired.len() == self.points.len()
+            && self
+                .points
+                .iter()
+                .zip(&batch.paired)
+                .all(|(point, d)| matches!(point, Point::Ready(_)) == d.is_some())
             && self
                 .points
                 .iter()
                 .zip(batch.batches.iter().zip(&batch.differences))
                 .all(|(point, pair)| match (point, pair) {
-                    (Point::Ready(p), (Some(b), Some(_))) => p.fits(b),
+                    (Point::Ready(p), (Some(b), Some(_))) => p.fits_tallies(b),
                     (Point::Refused(_), (None, None)) => true,
                     _ => false,
                 })
@@ -389,9 +461,10 @@ impl Sweep {
             .map(|(i, point)| {
                 let value = self.at[i].first().cloned().unwrap_or(Value::Null);
                 let and_value = self.at[i].get(1).cloned();
+                let paired = merged.paired.get(i).cloned().flatten().unwrap_or_default();
                 match (point, &merged.batches[i], &merged.differences[i]) {
                     (Point::Ready(p), Some(batch), Some(d)) => {
-                        let r = p.report(batch);
+                        let r = p.report_tallies(batch);
                         PointReport {
                             value,
                             and_value,
@@ -401,6 +474,12 @@ impl Sweep {
                                 budget: r.budget,
                                 segments_leaked: r.segments.iter().map(|s| s.leaked).collect(),
                                 receiver: r.receiver,
+                                segments_leaked_difference: paired
+                                    .segments_leaked
+                                    .iter()
+                                    .map(|e| e.share())
+                                    .collect(),
+                                receiver_difference: paired.receiver.map(|e| e.share()),
                             }),
                             problems: Vec::new(),
                         }
@@ -439,8 +518,10 @@ impl Sweep {
 /// The sweep report as CSV, one row per point: the value (in the field's own unit, named by the
 /// field), delivered and its ci95, the difference to the reference point and its ci95, every
 /// budget mechanism with its ci95, each segment's leaked share with its ci95, the receiver's
-/// share and ci95 (empty when there is none), and the problems of a refused point (its other
-/// cells empty). Shares are fractions of the emitted power (0…1).
+/// share and ci95 (empty when there is none), the problems of a refused point (its other
+/// cells empty), then each segment's leaked share minus the reference point's and the
+/// receiver's share minus the reference's, each with its ci95 (paired, per ray). Shares are
+/// fractions of the emitted power (0…1).
 pub fn report_csv(report: &SweepReport) -> String {
     let segments = report
         .points
@@ -482,6 +563,12 @@ pub fn report_csv(report: &SweepReport) -> String {
     }
     with_ci("receiver".to_string());
     header.push("problems".to_string());
+    for s in 0..segments {
+        header.push(format!("segment {s} leaked difference (share)"));
+        header.push(format!("segment {s} leaked difference ci95 (share)"));
+    }
+    header.push("receiver difference (share)".to_string());
+    header.push("receiver difference ci95 (share)".to_string());
     let mut out = header
         .iter()
         .map(|h| csv_text(h))
@@ -536,6 +623,21 @@ pub fn report_csv(report: &SweepReport) -> String {
         } else {
             csv_text(&problems.join("; "))
         });
+        let mut push = |s: Option<&Share>| match s {
+            Some(s) => {
+                cells.push(num(s.share));
+                cells.push(num(s.ci95));
+            }
+            None => {
+                cells.push(String::new());
+                cells.push(String::new());
+            }
+        };
+        let r = p.result.as_ref();
+        for s in 0..segments {
+            push(r.and_then(|r| r.segments_leaked_difference.get(s)));
+        }
+        push(r.and_then(|r| r.receiver_difference.as_ref()));
         out.push_str(&cells.join(","));
         out.push('\n');
     }

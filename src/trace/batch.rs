@@ -115,6 +115,74 @@ impl Batch {
     }
 }
 
+/// A batch's figures without its histograms and paths: the tallies, the receiver, the wall
+/// counts and the rays — what a design study reports of each of its scenarios. About 50 times
+/// smaller than a [`Batch`] (no exit map, angular map, intensity or route profile), so a
+/// study's batches of every point travel light between workers and in pieces. Merged exactly as
+/// [`Batch::merge`] merges these fields, so a study's figures are a plain trace's bit for bit.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct BatchTallies {
+    /// Per-tally estimates (as [`Batch::tallies`]).
+    pub tallies: Vec<Estimate>,
+    /// Delivered weight that lands on the receiver.
+    pub receiver: Estimate,
+    /// Wall interactions counted.
+    pub wall_interactions: u64,
+    /// Wall hits by segment.
+    pub wall_hits: Vec<u64>,
+    /// Rays traced.
+    pub rays: u64,
+}
+
+impl From<Batch> for BatchTallies {
+    fn from(b: Batch) -> BatchTallies {
+        BatchTallies {
+            tallies: b.tallies,
+            receiver: b.receiver,
+            wall_interactions: b.wall_interactions,
+            wall_hits: b.wall_hits,
+            rays: b.rays,
+        }
+    }
+}
+
+impl BatchTallies {
+    /// Merge the next batch (in batch order) into this one.
+    pub fn merge(&mut self, other: &BatchTallies) {
+        for (a, b) in self.tallies.iter_mut().zip(&other.tallies) {
+            a.merge(b);
+        }
+        self.receiver.merge(&other.receiver);
+        self.wall_interactions += other.wall_interactions;
+        self.wall_hits
+            .iter_mut()
+            .zip(&other.wall_hits)
+            .for_each(|(a, b)| *a += b);
+        self.rays += other.rays;
+    }
+}
+
+impl Prepared {
+    /// Whether batch tallies have this scenario's shape (tallies, segments).
+    pub fn fits_tallies(&self, t: &BatchTallies) -> bool {
+        t.tallies.len() == self.ledger.len() && t.wall_hits.len() == self.route.segments.len()
+    }
+
+    /// The report of merged batch tallies: every figure that comes from the tallies (delivered,
+    /// budget, segments, contacts, receiver) exactly as [`Prepared::report`] gives it for the
+    /// full batches; the maps, intensity and route profile are all zero (not traced) and the
+    /// absolute figures that need them are not meaningful.
+    pub fn report_tallies(&self, t: &BatchTallies) -> super::TraceReport {
+        let mut b = Batch::empty(self);
+        b.tallies.clone_from(&t.tallies);
+        b.receiver = t.receiver;
+        b.wall_interactions = t.wall_interactions;
+        b.wall_hits.clone_from(&t.wall_hits);
+        b.rays = t.rays;
+        self.report(&b)
+    }
+}
+
 pub(super) fn same_bins(a: &Hist, b: &Hist) -> bool {
     a.sum.len() == b.sum.len() && a.sumsq.len() == b.sumsq.len()
 }

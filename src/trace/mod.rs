@@ -29,7 +29,7 @@ mod walk;
 
 pub use crate::scenario::SegmentKind;
 use batch::same_bins;
-pub use batch::{Batch, Hist, MergeInOrder, PrefixMerger};
+pub use batch::{Batch, BatchTallies, Hist, MergeInOrder, PrefixMerger};
 use ledger::Ledger;
 pub(crate) use names::Named;
 pub use names::{FluxUnit, IntensityUnit};
@@ -72,6 +72,18 @@ pub struct RayFigures {
     pub entered: f64,
     /// Weight leaked through the segment's side walls.
     pub leaked: f64,
+}
+
+/// Every ray's figures of a batch, in ray order ([`Prepared::trace_batch_per_ray_all`]):
+/// weights, as fractions of the ray's launch weight 1.
+#[derive(Debug, Clone, Default, PartialEq)]
+pub struct RayTallies {
+    /// Weight delivered through the exit face.
+    pub delivered: Vec<f64>,
+    /// Per route segment: weight leaked through its side walls.
+    pub leaked: Vec<Vec<f64>>,
+    /// Weight landing on the receiver (0 without one).
+    pub receiver: Vec<f64>,
 }
 
 /// What became of a sampled path (for drawing).
@@ -235,12 +247,35 @@ impl Prepared {
         self.trace_batch_inner(index, 0, Some(delivered), None)
     }
 
+    /// [`Prepared::trace_batch`] (no paths kept), also writing each ray's delivered weight,
+    /// leaked weight per segment and weight on the receiver, in ray order, into `rays` (cleared
+    /// first). The batch and the random numbers are those of [`Prepared::trace_batch`]; the
+    /// sweeps take paired differences of these (common random numbers).
+    pub fn trace_batch_per_ray_all(&self, index: u64, rays: &mut RayTallies) -> Batch {
+        rays.delivered.clear();
+        rays.receiver.clear();
+        rays.leaked.resize_with(self.route.segments.len(), Vec::new);
+        rays.leaked.iter_mut().for_each(Vec::clear);
+        self.trace_batch_inner_all(index, 0, None, None, Some(rays))
+    }
+
     fn trace_batch_inner(
+        &self,
+        index: u64,
+        keep_paths: usize,
+        delivered: Option<&mut Vec<f64>>,
+        watched: Option<(usize, &mut Vec<RayFigures>)>,
+    ) -> Batch {
+        self.trace_batch_inner_all(index, keep_paths, delivered, watched, None)
+    }
+
+    fn trace_batch_inner_all(
         &self,
         index: u64,
         keep_paths: usize,
         mut delivered: Option<&mut Vec<f64>>,
         mut watched: Option<(usize, &mut Vec<RayFigures>)>,
+        mut all: Option<&mut RayTallies>,
     ) -> Batch {
         let rays = self.scenario.trace.rays;
         let first = index * BATCH_RAYS;
@@ -289,6 +324,13 @@ impl Prepared {
                 });
             }
             receiver.add(&[on_receiver]);
+            if let Some(all) = all.as_deref_mut() {
+                all.delivered.push(contrib[self.ledger.delivered()]);
+                for (s, leaked) in all.leaked.iter_mut().enumerate() {
+                    leaked.push(contrib[self.ledger.leaked(s)]);
+                }
+                all.receiver.push(on_receiver);
+            }
             if let Some(points) = path {
                 out.paths.push(Path { fate, points });
             }

@@ -92,8 +92,8 @@ struct StudyArgs {
     /// row per evaluated value).
     #[arg(long)]
     csv: bool,
-    /// Trace only piece K of N of a sweep (an even share of its batches) and print the piece
-    /// (JSON) for --merge, e.g. one piece per task of a job runner.
+    /// Trace only piece K of N of a sweep or a tolerance study (an even share of its batches)
+    /// and print the piece (JSON) for --merge, e.g. one piece per task of a job runner.
     #[arg(long, value_name = "K/N", conflicts_with_all = ["merge", "csv"])]
     piece: Option<String>,
     /// Merge the pieces traced with --piece (every piece, each once, in any order) and print
@@ -313,7 +313,7 @@ fn study(args: StudyArgs) -> Result<String, String> {
     match &study.plan {
         Plan::Sweep(_) => sweep(&study, &text, &args, refused),
         Plan::Find(_) => find(&study, &args, refused),
-        Plan::Tolerance(_) => tolerance(&study, &args, refused),
+        Plan::Tolerance(_) => tolerance(&study, &text, &args, refused),
     }
 }
 
@@ -325,7 +325,7 @@ fn find(
 ) -> Result<String, String> {
     if args.piece.is_some() || !args.merge.is_empty() {
         return Err(
-            "--piece and --merge split sweeps only: a search chooses each value it \
+            "--piece and --merge split sweeps and tolerance studies only: a search chooses each value it \
                     traces from the last ones, so it runs whole (spread it over cores with \
                     --threads)"
                 .to_string(),
@@ -346,17 +346,24 @@ fn find(
 /// A tolerance study's report (`tolerances`).
 fn tolerance(
     study: &Study,
+    text: &str,
     args: &StudyArgs,
     refused: impl Fn(Vec<Problem>) -> String,
 ) -> Result<String, String> {
-    if args.piece.is_some() || !args.merge.is_empty() {
-        return Err(
-            "--piece and --merge split sweeps only (not yet tolerance studies): run it whole, \
-             spread over cores with --threads"
-                .to_string(),
-        );
-    }
     let tolerance = study.prepare_tolerance().map_err(refused)?;
+    if args.piece.is_some() || !args.merge.is_empty() {
+        let doc = traced_study(study, text)?;
+        if let Some(piece) = &args.piece {
+            let (k, n) = piece_k_of_n(piece)?;
+            let piece = tolerance
+                .piece(&doc, k, n)
+                .map_err(|m| format!("--piece {m}"))?;
+            return serde_json::to_string(&piece).map_err(|e| e.to_string());
+        }
+        let pieces = read_pieces(&args.merge)?;
+        let merged = tolerance.merge_pieces(&doc, &pieces, &args.merge)?;
+        return tolerance_output(&tolerance, &merged, args.csv);
+    }
     let batches = tolerance.batch_count();
     let show = std::io::stderr().is_terminal();
     let merged = tolerance
@@ -374,13 +381,52 @@ fn tolerance(
             }
         })
         .map_err(|e| format!("--threads: could not start {} threads: {e}", args.threads))?;
-    let report = tolerance.report(&merged);
-    if args.csv {
+    tolerance_output(&tolerance, &merged, args.csv)
+}
+
+/// A tolerance study's report of merged batches, as JSON or CSV.
+fn tolerance_output(
+    tolerance: &tirtrace::study::Tolerance,
+    merged: &tirtrace::study::ToleranceBatch,
+    csv: bool,
+) -> Result<String, String> {
+    let report = tolerance.report(merged);
+    if csv {
         let csv = tirtrace::study::tolerance::report_csv(&report);
         Ok(csv.strip_suffix('\n').unwrap_or(&csv).to_string())
     } else {
         serde_json::to_string_pretty(&report).map_err(|e| e.to_string())
     }
+}
+
+/// The study as traced (kept in its pieces): the document with the rays and seed used.
+fn traced_study(study: &Study, text: &str) -> Result<serde_json::Value, String> {
+    let mut doc: serde_json::Value = serde_json::from_str(text).map_err(|e| e.to_string())?;
+    doc["scenario"]["trace"]["rays"] = study.scenario.trace.rays.into();
+    doc["scenario"]["trace"]["seed"] = study.scenario.trace.seed.into();
+    Ok(doc)
+}
+
+/// `--piece K/N` read.
+fn piece_k_of_n(piece: &str) -> Result<(u64, u64), String> {
+    piece
+        .split_once('/')
+        .and_then(|(k, n)| Some((k.trim().parse().ok()?, n.trim().parse().ok()?)))
+        .ok_or_else(|| format!("--piece must be K/N with 1 ≤ K ≤ N (piece K of N), got {piece}"))
+}
+
+/// The pieces named by `--merge`, read.
+fn read_pieces<B: serde::de::DeserializeOwned>(
+    names: &[String],
+) -> Result<Vec<tirtrace::study::pieces::Piece<B>>, String> {
+    let mut pieces = Vec::with_capacity(names.len());
+    for name in names {
+        let text = read_text(name)?;
+        let piece = serde_json::from_str(&text)
+            .map_err(|e| format!("{name} could not be read as a piece of this study: {e}"))?;
+        pieces.push(piece);
+    }
+    Ok(pieces)
 }
 
 /// A sweep's report (`vary`).
@@ -392,29 +438,15 @@ fn sweep(
 ) -> Result<String, String> {
     let sweep = study.prepare_sweep().map_err(refused)?;
     if args.piece.is_some() || !args.merge.is_empty() {
-        // The study as traced: the document with the rays and seed used.
-        let mut doc: serde_json::Value = serde_json::from_str(text).map_err(|e| e.to_string())?;
-        doc["scenario"]["trace"]["rays"] = study.scenario.trace.rays.into();
-        doc["scenario"]["trace"]["seed"] = study.scenario.trace.seed.into();
+        let doc = traced_study(study, text)?;
         if let Some(piece) = &args.piece {
-            let (k, n) = piece
-                .split_once('/')
-                .and_then(|(k, n)| Some((k.trim().parse().ok()?, n.trim().parse().ok()?)))
-                .ok_or_else(|| {
-                    format!("--piece must be K/N with 1 ≤ K ≤ N (piece K of N), got {piece}")
-                })?;
+            let (k, n) = piece_k_of_n(piece)?;
             let piece = sweep
                 .piece(&doc, k, n)
                 .map_err(|m| format!("--piece {m}"))?;
             return serde_json::to_string(&piece).map_err(|e| e.to_string());
         }
-        let mut pieces = Vec::with_capacity(args.merge.len());
-        for name in &args.merge {
-            let text = read_text(name)?;
-            let piece: tirtrace::study::pieces::Piece = serde_json::from_str(&text)
-                .map_err(|e| format!("{name} could not be read as a piece of a study: {e}"))?;
-            pieces.push(piece);
-        }
+        let pieces: Vec<tirtrace::study::pieces::Piece> = read_pieces(&args.merge)?;
         let merged = sweep.merge_pieces(&doc, &pieces, &args.merge)?;
         return sweep_output(&sweep, &merged, args.csv);
     }

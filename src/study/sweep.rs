@@ -425,10 +425,12 @@ impl Sweep {
             .num_threads(threads)
             .build()
             .map_err(|e| RunError::ThreadPool(e.to_string()))?;
-        // Batches of every point are held together until merged: at most about 800 point
-        // batches (some 50 MB) in flight, however many threads.
-        let per_chunk = (800 / self.points.len().max(1)).max(1) as u64;
-        let chunk = (pool.current_num_threads() as u64).clamp(1, per_chunk);
+        // Batches of every point are held together until merged, each point's a few hundred
+        // numbers (tallies only): at most 8,000 point batches (a few MB) in flight, however
+        // many threads. Eight batches a thread per chunk, so that threads rarely wait for the
+        // slowest batch of a chunk before the in-order merge.
+        let per_chunk = (8000 / self.points.len().max(1)).max(1) as u64;
+        let chunk = (8 * pool.current_num_threads() as u64).clamp(1, per_chunk);
         let mut total: Option<SweepBatch> = None;
         let mut first = 0;
         while first < self.batch_count() {

@@ -123,4 +123,25 @@ describe('find the limit in the study panel', { concurrency: false }, () => {
     assert.equal(await page.locator('#find-run').isDisabled(), false);
     assert.deepStrictEqual(consoleErrors, []);
   });
+
+  test('the bend table\'s Find runs the search for that bend and shows the answer', async () => {
+    const row = page.locator('#bend-rows tr[data-segment="1"]');
+    assert.match(await page.locator('#bend-find-head').innerText(), /Radius for ≤ 1 % leak/);
+    await row.locator('button.bend-find-run').click();
+    await page.waitForSelector('#study[data-find-state="done"]', { timeout: 300_000 });
+    await page.waitForFunction(() => !/searching/.test(document.querySelector('#bend-rows tr[data-segment="1"] .bend-find-answer').textContent));
+    const cell = await row.locator('.bend-find-answer').innerText();
+    const state = await keptState(page);
+    assert.equal(state.find.field, BEND_RADIUS);
+    const native = cliStudy({
+      version: 1,
+      scenario: state.scenario,
+      find: { smallest: BEND_RADIUS, from: state.find.from, to: state.find.to, bend_leak_at_most_percent: 1 },
+    });
+    assert.equal(await page.locator('#find-answer').getAttribute('data-answer'), String(native.answer ?? ''));
+    if (native.verdict === 'found') assert.match(cell, /^\d+(\.\d+)? mm centre line \(95 %: /);
+    else assert.ok(cell.length > 0, 'a verdict in words');
+    await page.locator('.bends-card').screenshot({ path: join(OUT, 'find-bends-1280.png') });
+    assert.deepStrictEqual(consoleErrors, []);
+  });
 });

@@ -35,8 +35,73 @@ export class FindPanel {
     this.running = false;
     this.stopped = false;
     this.report = null;
+    /** Answers of the bend table's Find buttons: segment → { design, text, report }. */
+    this.bendAnswers = new Map();
     this.build();
     this.setMode(this.state.findMode ?? 'sweep');
+    this.watchBendTable();
+  }
+
+  // ------------------------------------------------------------ the bend table
+
+  /**
+   * The designer's table of bends (report-view.js) gets, per bend, a "Radius for ≤ X % leak"
+   * cell with a Find button that runs this search for that bend; added here whenever the table
+   * is redrawn, so the table's own code stays as it is.
+   */
+  watchBendTable() {
+    const body = $('bend-rows');
+    if (!body) return;
+    const decorate = () => {
+      const design = JSON.stringify(this.state.scenario);
+      $('bend-find-head').textContent = `Radius for ≤ ${this.state.find?.percent ?? DEFAULT_PERCENT} % leak`;
+      for (const tr of body.querySelectorAll('tr[data-segment]')) {
+        if (tr.querySelector('td.bend-find')) continue;
+        const segment = Number(tr.dataset.segment);
+        const kept = this.bendAnswers.get(segment);
+        const answer = kept?.design === design ? kept.text : '';
+        const button = h('button', { type: 'button', class: 'bend-find-run', dataset: { segment: String(segment) } }, 'Find');
+        button.addEventListener('click', () => this.findForBend(segment));
+        tr.append(h('td', { class: 'bend-find' }, button, h('span', { class: 'bend-find-answer', text: answer })));
+      }
+    };
+    new MutationObserver(decorate).observe(body, { childList: true });
+    decorate();
+  }
+
+  /** Run the search for the bend at route index `segment` (the allowed loss as set, else 1 %). */
+  async findForBend(segment) {
+    if (this.running) return;
+    const path = `route[${segment}].bend.radius_mm`;
+    const button = this.study.editor.root.querySelector(`[data-vary-path="${CSS.escape(path)}"]`);
+    const label = button?.dataset.varyLabel ?? path;
+    const percent = this.state.find?.percent ?? DEFAULT_PERCENT;
+    this.state.study = { ...(this.state.study ?? { steps: 4 }), field: path, label };
+    delete this.state.study.values;
+    this.state.find = null;
+    this.setup();
+    this.state.find.percent = percent;
+    this.onSaved();
+    this.study.showSetup();
+    this.setMode('find');
+    const cell = () => $('bend-rows').querySelector(`tr[data-segment="${segment}"] .bend-find-answer`);
+    if (cell()) cell().textContent = 'searching…';
+    const design = JSON.stringify(this.state.scenario);
+    this.onDone = (r) => {
+      this.onDone = null;
+      let text = '';
+      if (r?.verdict === 'found') {
+        const n = (x) => showNumber(Number(x.toPrecision(3)), path, this.state.unit);
+        const low = r.interval?.low == null ? `≤ ${n(r.from)}` : n(r.interval.low);
+        const high = r.interval?.high == null ? `≥ ${n(r.to)}` : n(r.interval.high);
+        text = `${n(r.answer)} ${this.state.unit} centre line (95 %: ${low} to ${high})`;
+      } else if (r) {
+        text = `${{ holds_everywhere: 'holds over the whole range', holds_nowhere: 'nowhere in the range', not_monotone: 'not monotone: narrow the range' }[r.verdict] ?? 'see the study panel'}`;
+      }
+      if (r) this.bendAnswers.set(segment, { design, text });
+      if (cell()) cell().textContent = text;
+    };
+    await this.run(true);
   }
 
   // ------------------------------------------------------------ set-up
@@ -118,7 +183,7 @@ export class FindPanel {
       const x = Number.isFinite(value) ? value : 1;
       const bend = bendOf(path);
       f = bend !== null
-        ? { field: path, smallest: true, from: round(x * 0.4), to: round(Math.max(x * 3, 30)), percent: f?.percent ?? DEFAULT_PERCENT }
+        ? { field: path, smallest: true, from: round(Math.max(x * 0.4, 0.55 * sizeAcross(this.state.scenario))), to: round(Math.max(x * 3, 30)), percent: f?.percent ?? DEFAULT_PERCENT }
         : { field: path, smallest: false, from: round(x), to: round(x === 0 ? 1 : Math.abs(x) * 4), percent: f?.percent ?? 5 };
       this.state.find = f;
     }
@@ -374,6 +439,13 @@ export class FindPanel {
     this.setMode('find');
     this.message(`Search “${doc.name || file.name}” opened: press Run.`);
   }
+}
+
+/** The guide's largest section size, mm (a bend's centre-line radius must exceed half of it). */
+function sizeAcross(scenario) {
+  const s = scenario?.guide?.section ?? {};
+  const size = s.round ? s.round.diameter_mm : Math.max(s.rectangular?.width_mm ?? 0, s.rectangular?.height_mm ?? 0);
+  return Number.isFinite(size) ? size : 0;
 }
 
 /** A prefilled bound: 3 significant figures. */

@@ -105,3 +105,35 @@ fn recording_out_of_turn_is_refused() {
     );
     steps.record(x, &batches).unwrap();
 }
+
+#[test]
+fn the_search_chart_shows_the_answer_the_allowed_line_and_the_closed_form_radius() {
+    use plotters::prelude::*;
+    let study = Study::from_json(&doc(
+        json!({ "smallest": "route[1].bend.radius_mm", "from": 3, "to": 30,
+                "bend_leak_at_most_percent": 1 }),
+        8192,
+    ))
+    .unwrap();
+    let report = study.prepare_find().unwrap().run_serial();
+    let mut svg = String::new();
+    {
+        let area = SVGBackend::with_string(&mut svg, (800, 500)).into_drawing_area();
+        tirtrace::chart::draw_find_chart(&area, &report, 1.0).unwrap();
+    }
+    assert!(svg.contains("allowed: 1.00 %"), "the allowed-loss line");
+    assert!(
+        svg.contains("leak of the light entering the bend"),
+        "the axis"
+    );
+    if let Some(a) = report.answer {
+        assert!(svg.contains(&format!("answer {a:.2}")), "the answer");
+    }
+    let free = report.bend.as_ref().unwrap().leak_free_centre_radius_mm;
+    if let Some(r) = free.filter(|r| *r <= 57.0) {
+        assert!(
+            svg.contains(&format!("closed form): {r:.2} mm")),
+            "the leak-free radius"
+        );
+    }
+}

@@ -634,6 +634,18 @@ impl StudyFinder {
         }
     }
 
+    /// Draw the finished search's chart (each value's leak or delivered with its 95 % band, the
+    /// allowed line, the answer and its interval, the closed-form leak-free radius) on the
+    /// canvas with id `canvas_id`; `pixel_ratio` as for [`draw_exit_map`]. Nothing before the
+    /// search is done.
+    pub fn draw_chart(&self, canvas_id: &str, pixel_ratio: f64) -> Result<(), JsError> {
+        let Some(report) = self.steps.report() else {
+            return Ok(());
+        };
+        let area = canvas_area(canvas_id)?;
+        crate::chart::draw_find_chart(&area, &report, pixel_ratio).map_err(js_error)
+    }
+
     /// The report's evaluations as the CSV `tirtrace study --csv` prints, or `null` until the
     /// search is done.
     pub fn csv(&self) -> Option<String> {

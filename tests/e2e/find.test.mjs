@@ -14,7 +14,7 @@ import { after, before, describe, test } from 'node:test';
 
 import { chromium } from 'playwright-core';
 
-import { STATE_KEY, tracedAfter } from './design-helpers.mjs';
+import { STATE_KEY, inkShare, tracedAfter } from './design-helpers.mjs';
 import { CHROMIUM, CHROMIUM_ARGS, CLI, OUT, WWW, cli, collectErrors, startServer, stopServer } from './harness.mjs';
 
 const BEND_RADIUS = 'route[1].bend.radius_mm';
@@ -91,6 +91,7 @@ describe('find the limit in the study panel', { concurrency: false }, () => {
       assert.match(text, /^Smallest centre-line radius for ≤ 1 % leak in bend 2: /);
       assert.match(text, /closed form/);
     }
+    assert.ok(await inkShare(page, 'find-chart') > 0.02, 'the chart is drawn');
     await page.locator('#study').screenshot({ path: join(OUT, 'find-1280.png') });
     await page.setViewportSize({ width: 820, height: 1180 });
     await page.locator('#study').screenshot({ path: join(OUT, 'find-820.png') });

@@ -7,6 +7,7 @@
 // module only wires events and writes words; every number comes from the core.
 
 import { $, h } from '../dom.js';
+import { sizeCanvasForCore } from '../drawing.js';
 import { messageOf } from '../errors.js';
 import { formatShare } from '../format.js';
 import { parseNumber } from '../numbers.js';
@@ -125,6 +126,7 @@ export class FindPanel {
       h('p', { id: 'find-msg', class: 'study-msg', role: 'status', 'aria-live': 'polite', hidden: true }),
       h('p', { id: 'find-progress', class: 'progress-text' }),
       h('p', { id: 'find-answer', class: 'find-answer', hidden: true }),
+      h('canvas', { id: 'find-chart', hidden: true, role: 'img', 'aria-label': 'Chart of the traced leak (or delivered light) at each value searched, with the allowed loss, the answer and its 95 % interval' }),
       h('div', { class: 'table-wrap', id: 'find-results', hidden: true },
         h('table', { class: 'study-table' }, h('thead', { id: 'find-head' }), h('tbody', { id: 'find-rows' }))),
       h('div', { class: 'study-files' },
@@ -275,6 +277,7 @@ export class FindPanel {
     this.csv = null;
     $('find-answer').hidden = true;
     $('find-results').hidden = true;
+    $('find-chart').hidden = true;
     $('study').dataset.findState = 'running';
     this.showSetup(false);
     this.message('Searching: every value is traced with the same rays…');
@@ -296,6 +299,9 @@ export class FindPanel {
       this.csv = finder.csv();
       $('find-progress').textContent = '';
       this.showReport();
+      $('find-chart').hidden = false;
+      const { ratio } = sizeCanvasForCore($('find-chart'));
+      finder.draw_chart('find-chart', ratio);
       this.finish(`Done: ${asked} values traced, ${this.report.rays.toLocaleString('en')} rays each, the same rays at every value.`);
       this.onDone?.(this.report);
     } catch (e) {

@@ -98,6 +98,19 @@ describe('find the limit in the study panel', { concurrency: false }, () => {
     await page.setViewportSize({ width: 1280, height: 800 });
   });
 
+  test('the search set-up is kept with the design over a reload', async () => {
+    await page.fill('#find-percent', '2');
+    await page.fill('#find-from', '5');
+    await page.click('#find-run');
+    await page.waitForSelector('#study[data-find-state="done"]', { timeout: 300_000 });
+    await page.reload();
+    await page.waitForSelector('body[data-ready="true"]', { timeout: 30_000 });
+    assert.equal(await page.locator('#find-setup').isVisible(), true, 'the panel opens on Find the limit');
+    assert.equal(await page.inputValue('#find-percent'), '2');
+    assert.equal(await page.inputValue('#find-from'), '5');
+    await page.fill('#find-percent', '1');
+  });
+
   test('a bad range is named in the form\'s words', async () => {
     await page.fill('#find-from', '20');
     await page.fill('#find-to', '10');

@@ -4,6 +4,7 @@
 //! holds what they share (scale, fonts, axes, labelled lines, the legend box).
 
 mod bend;
+mod find;
 mod report;
 mod sweep;
 mod tolerance;
@@ -17,6 +18,7 @@ use plotters::prelude::*;
 use crate::error::TirError;
 
 pub use bend::{bend_curve, draw_bend_chart};
+pub use find::draw_find_chart;
 pub use report::{draw_exit_map, draw_intensity, sequential_colour};
 pub use sweep::{draw_sweep_chart, field_axis_title};
 pub use tolerance::draw_tolerance_chart;

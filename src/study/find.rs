@@ -440,17 +440,33 @@ pub struct FindReport {
     pub evaluations: Vec<Evaluation>,
 }
 
-/// One batch's sums at one value.
-#[derive(Debug, Clone, Copy, Default)]
-struct Sums {
+/// One batch's sums at one value: what a thread or a page's worker traces and sends back;
+/// an evaluation merges every batch in batch order ([`FindSteps::record`]), so the result is the
+/// same for any split of the work.
+#[derive(Debug, Clone, Copy, Default, PartialEq, Serialize, Deserialize)]
+pub struct FindBatch {
+    /// The per-ray margin z (share of the emitted power).
     margin: Estimate,
+    /// Delivered weight per ray.
     delivered: Estimate,
+    /// Weight entering the watched bend per ray.
     entered: Estimate,
+    /// Weight leaked in the watched bend per ray.
     leaked: Estimate,
 }
 
-impl Sums {
-    fn merge(&mut self, o: &Sums) {
+/// Where a search stands once every value it needs is evaluated.
+#[derive(Debug, Clone)]
+struct Outcome {
+    verdict: Verdict,
+    answer: Option<f64>,
+    interval: Option<Interval>,
+    bracket: Option<f64>,
+    evaluations: Vec<Evaluation>,
+}
+
+impl FindBatch {
+    fn merge(&mut self, o: &FindBatch) {
         self.margin.merge(&o.margin);
         self.delivered.merge(&o.delivered);
         self.entered.merge(&o.entered);
@@ -571,7 +587,7 @@ impl Find {
     }
 
     /// Trace batch `index` at the prepared value `at`.
-    fn trace_batch(&self, at: &Prepared, index: u64) -> Sums {
+    fn trace_batch(&self, at: &Prepared, index: u64) -> FindBatch {
         let mut rays: Vec<RayFigures> = Vec::new();
         at.trace_batch_watching(index, self.segment, &mut rays);
         let mut figures = ShiftedSums::new(3);
@@ -597,7 +613,7 @@ impl Find {
             }
             (Criterion::DeliveredLossAtMost { .. }, None) => Estimate::default(),
         };
-        Sums {
+        FindBatch {
             margin,
             delivered,
             entered,
@@ -605,24 +621,8 @@ impl Find {
         }
     }
 
-    /// Evaluate at `x`, tracing every batch with `trace_all` (which merges in batch order).
-    fn evaluate(&self, x: f64, trace_all: &mut dyn FnMut(&Find, &Prepared) -> Sums) -> Evaluation {
-        let at = match prepare_at(&self.base, &self.plan.field, x) {
-            Ok(p) => p,
-            Err(problems) => {
-                return Evaluation {
-                    value: x,
-                    margin: None,
-                    holds: None,
-                    delivered: None,
-                    bend_entered: None,
-                    bend_leaked: None,
-                    bend_leak_fraction: None,
-                    problems,
-                }
-            }
-        };
-        let s = trace_all(self, &at);
+    /// The evaluation at `x` from its batches merged in batch order.
+    fn evaluation(&self, x: f64, s: &FindBatch) -> Evaluation {
         let bend = matches!(self.plan.criterion, Criterion::BendLeakAtMost { .. });
         Evaluation {
             value: x,
@@ -637,15 +637,44 @@ impl Find {
         }
     }
 
+    /// The next value the search needs, prepared (values whose scenario has problems are
+    /// recorded in `known` with those problems on the way), or the finished search.
+    fn next_in(&self, known: &mut Vec<Evaluation>) -> Result<Outcome, (f64, Box<Prepared>)> {
+        loop {
+            match self.replay(known) {
+                Ok(outcome) => return Ok(outcome),
+                Err(x) => match prepare_at(&self.base, &self.plan.field, x) {
+                    Ok(at) => return Err((x, Box::new(at))),
+                    Err(problems) => known.push(Evaluation {
+                        value: x,
+                        margin: None,
+                        holds: None,
+                        delivered: None,
+                        bend_entered: None,
+                        bend_leaked: None,
+                        bend_leak_fraction: None,
+                        problems,
+                    }),
+                },
+            }
+        }
+    }
+
     /// Run the search on the calling thread.
     pub fn run_serial(&self) -> FindReport {
-        self.search(&mut |find: &Find, at: &Prepared| {
-            let mut total = Sums::default();
-            for b in 0..find.batch_count() {
-                total.merge(&find.trace_batch(at, b));
+        let mut known = Vec::new();
+        loop {
+            match self.next_in(&mut known) {
+                Ok(outcome) => return self.report(outcome),
+                Err((x, at)) => {
+                    let mut total = FindBatch::default();
+                    for b in 0..self.batch_count() {
+                        total.merge(&self.trace_batch(&at, b));
+                    }
+                    known.push(self.evaluation(x, &total));
+                }
             }
-            total
-        })
+        }
     }
 
     /// Run the search with every evaluation's batches on `threads` threads (0: all cores),
@@ -657,43 +686,51 @@ impl Find {
             .num_threads(threads)
             .build()
             .map_err(|e| RunError::ThreadPool(e.to_string()))?;
-        Ok(self.search(&mut |find: &Find, at: &Prepared| {
-            let sums: Vec<Sums> = pool.install(|| {
-                (0..find.batch_count())
-                    .into_par_iter()
-                    .map(|b| find.trace_batch(at, b))
-                    .collect()
-            });
-            let mut total = Sums::default();
-            for s in &sums {
-                total.merge(s);
+        let mut known = Vec::new();
+        loop {
+            match self.next_in(&mut known) {
+                Ok(outcome) => return Ok(self.report(outcome)),
+                Err((x, at)) => {
+                    let sums: Vec<FindBatch> = pool.install(|| {
+                        (0..self.batch_count())
+                            .into_par_iter()
+                            .map(|b| self.trace_batch(&at, b))
+                            .collect()
+                    });
+                    let mut total = FindBatch::default();
+                    for s in &sums {
+                        total.merge(s);
+                    }
+                    known.push(self.evaluation(x, &total));
+                }
             }
-            total
-        }))
+        }
     }
 
-    /// The scan, the bisections and the report.
-    fn search(&self, trace_all: &mut dyn FnMut(&Find, &Prepared) -> Sums) -> FindReport {
+    /// The scan and the bisections replayed over the evaluations `known` so far: the outcome,
+    /// or the first value not yet evaluated. The search is deterministic, so replaying it over
+    /// what was recorded retraces the same path (each value is looked up by equality).
+    fn replay(&self, known: &[Evaluation]) -> Result<Outcome, f64> {
         let (from, to) = (self.plan.from, self.plan.to);
         let mut evals: Vec<Evaluation> = Vec::new();
-        let mut eval_at = |x: f64, evals: &mut Vec<Evaluation>| -> usize {
+        let eval_at = |x: f64, evals: &mut Vec<Evaluation>| -> Result<usize, f64> {
             if let Some(i) = evals.iter().position(|e| e.value == x) {
-                return i;
+                return Ok(i);
             }
-            evals.push(self.evaluate(x, trace_all));
-            evals.len() - 1
+            let e = known.iter().find(|e| e.value == x).ok_or(x)?;
+            evals.push(e.clone());
+            Ok(evals.len() - 1)
         };
         let n = FIND_SCAN_POINTS - 1;
-        let scan: Vec<usize> = (0..=n)
-            .map(|k| {
-                let x = if k == n {
-                    to
-                } else {
-                    from + (to - from) * k as f64 / n as f64
-                };
-                eval_at(x, &mut evals)
-            })
-            .collect();
+        let mut scan: Vec<usize> = Vec::with_capacity(FIND_SCAN_POINTS);
+        for k in 0..=n {
+            let x = if k == n {
+                to
+            } else {
+                from + (to - from) * k as f64 / n as f64
+            };
+            scan.push(eval_at(x, &mut evals)?);
+        }
         let smallest = self.plan.direction == Direction::Smallest;
         let mut verdict;
         let mut answer = None;
@@ -729,7 +766,7 @@ impl Find {
                     let a_holds = value(&evals[scan[k]]) <= 0.0;
                     while b - a > resolution && evals.len() < FIND_EVALUATIONS {
                         let m = 0.5 * (a + b);
-                        let i = eval_at(m, &mut evals);
+                        let i = eval_at(m, &mut evals)?;
                         if evals[i].margin.is_none() {
                             break;
                         }
@@ -757,6 +794,24 @@ impl Find {
                 }
             }
         }
+        Ok(Outcome {
+            verdict,
+            answer,
+            interval,
+            bracket,
+            evaluations: evals,
+        })
+    }
+
+    /// The report of a finished search.
+    fn report(&self, outcome: Outcome) -> FindReport {
+        let Outcome {
+            verdict,
+            answer,
+            interval,
+            bracket,
+            evaluations: mut evals,
+        } = outcome;
         evals.sort_by(|a, b| a.value.total_cmp(&b.value));
         let bend = self.bend_radii(answer);
         let summary = self.summary(verdict, answer, interval, &evals);
@@ -765,8 +820,8 @@ impl Find {
             field: self.plan.field.text.clone(),
             direction: self.plan.direction,
             criterion: self.plan.criterion,
-            from,
-            to,
+            from: self.plan.from,
+            to: self.plan.to,
             scenario_value: self.scenario_value,
             rays: self.rays,
             seed: self.seed,
@@ -904,6 +959,118 @@ impl Find {
                 )
             }
         }
+    }
+}
+
+/// A search run one step at a time, for a caller that traces the batches itself (the page's
+/// worker pool): ask [`FindSteps::next_value`] for the value to trace, trace its batches
+/// anywhere ([`FindSteps::trace_batches`]), hand them back in batch order
+/// ([`FindSteps::record`]); when no value is left, [`FindSteps::report`] is the report, bit for
+/// bit that of [`Find::run_serial`].
+#[derive(Debug, Clone)]
+pub struct FindSteps {
+    find: Find,
+    known: Vec<Evaluation>,
+    /// The value [`FindSteps::next_value`] last asked for (`None`: not asked yet, or done).
+    pending: Option<f64>,
+    done: Option<Outcome>,
+}
+
+impl FindSteps {
+    /// A search at its start.
+    pub fn new(find: Find) -> FindSteps {
+        FindSteps {
+            find,
+            known: Vec::new(),
+            pending: None,
+            done: None,
+        }
+    }
+
+    /// The search being run.
+    pub fn find(&self) -> &Find {
+        &self.find
+    }
+
+    /// Batches per evaluation.
+    pub fn batch_count(&self) -> u64 {
+        self.find.batch_count()
+    }
+
+    /// The next value to trace, or `None` when the search is done. Values at which the
+    /// scenario has problems are recorded with those problems without tracing.
+    pub fn next_value(&mut self) -> Option<f64> {
+        if self.done.is_some() {
+            return None;
+        }
+        match self.find.next_in(&mut self.known) {
+            Ok(outcome) => {
+                self.done = Some(outcome);
+                self.pending = None;
+                None
+            }
+            Err((x, _)) => {
+                self.pending = Some(x);
+                Some(x)
+            }
+        }
+    }
+
+    /// Trace batches `first .. first + count` at value `x`, one result per batch. Fails with
+    /// the scenario's problems at `x`.
+    pub fn trace_batches(
+        &self,
+        x: f64,
+        first: u64,
+        count: u64,
+    ) -> Result<Vec<FindBatch>, Vec<Problem>> {
+        let at = prepare_at(&self.find.base, &self.find.plan.field, x)?;
+        let end = first.saturating_add(count).min(self.batch_count());
+        Ok((first..end)
+            .map(|b| self.find.trace_batch(&at, b))
+            .collect())
+    }
+
+    /// Record the value `x` [`FindSteps::next_value`] asked for from all its batches, given in
+    /// batch order (merged in that order).
+    pub fn record(&mut self, x: f64, batches: &[FindBatch]) -> Result<(), String> {
+        match self.pending {
+            Some(p) if p == x => {}
+            Some(p) => {
+                return Err(format!(
+                    "value must be the one the search asked for ({p}), got {x}"
+                ))
+            }
+            None => {
+                return Err(format!(
+                    "value {x} was not asked for: call next_value first (or the search is done)"
+                ))
+            }
+        }
+        let count = self.batch_count();
+        if batches.len() as u64 != count {
+            return Err(format!(
+                "results must be all {count} batches of the value in batch order, got {}",
+                batches.len()
+            ));
+        }
+        let mut total = FindBatch::default();
+        for b in batches {
+            total.merge(b);
+        }
+        self.known.push(self.find.evaluation(x, &total));
+        self.pending = None;
+        Ok(())
+    }
+
+    /// Values evaluated so far (traced or refused), in the order the search asked for them.
+    pub fn evaluations(&self) -> &[Evaluation] {
+        &self.known
+    }
+
+    /// The report, once [`FindSteps::next_value`] has said the search is done.
+    pub fn report(&self) -> Option<FindReport> {
+        self.done.clone().map(|o| self.find.report(o))
     }
 }
 

@@ -703,3 +703,89 @@ pub fn draw_tolerance_chart(
     let area = canvas_area(canvas_id)?;
     crate::chart::draw_tolerance_chart(&area, &report, pixel_ratio).map_err(js_error)
 }
+
+/// A search (`find`) run step by step on the page: the page asks for the next value, has its
+/// batches traced by the worker pool ([`StudyFinder::trace_batches`] in each worker) and records
+/// them in batch order; the report is then bit for bit that of `tirtrace study`.
+#[wasm_bindgen]
+pub struct StudyFinder {
+    steps: crate::study::FindSteps,
+}
+
+#[wasm_bindgen]
+impl StudyFinder {
+    /// Read a study document with a `find` plan given as JSON text (the file `tirtrace study`
+    /// reads); throws an `Error` with a `problems` list (`[{ field, message }]`, paths in the
+    /// study document) when the search cannot run.
+    #[wasm_bindgen(constructor)]
+    pub fn new(study_json: &str) -> Result<StudyFinder, JsValue> {
+        let study = crate::study::Study::from_json(study_json).map_err(|p| problems_thrown(&p))?;
+        let find = study.prepare_find().map_err(|p| problems_thrown(&p))?;
+        Ok(StudyFinder {
+            steps: crate::study::FindSteps::new(find),
+        })
+    }
+
+    /// Batches per evaluated value.
+    pub fn batch_count(&self) -> f64 {
+        self.steps.batch_count() as f64
+    }
+
+    /// The next value to trace, or `null` when the search is done.
+    pub fn next_value(&mut self) -> Option<f64> {
+        self.steps.next_value()
+    }
+
+    /// Trace batches `first .. first + count` at value `x`: an array of plain objects, one per
+    /// batch, to send from a worker. Throws with the scenario's problems at `x`.
+    pub fn trace_batches(&self, x: f64, first: f64, count: f64) -> Result<JsValue, JsValue> {
+        let (first, end) =
+            batch_range(self.steps.batch_count(), first, count).map_err(JsValue::from)?;
+        let list = self
+            .steps
+            .trace_batches(x, first, end - first)
+            .map_err(|p| problems_thrown(&p))?;
+        to_js(&list).map_err(JsValue::from)
+    }
+
+    /// Record value `x` (the one `next_value` gave) from all its batches, an array in batch
+    /// order of the objects `trace_batches` returned.
+    pub fn record(&mut self, x: f64, results: JsValue) -> Result<(), JsError> {
+        let list: Vec<crate::study::FindBatch> = serde_wasm_bindgen::from_value(results)
+            .map_err(|e| JsError::new(&format!("the batches could not be read: {e}")))?;
+        self.steps.record(x, &list).map_err(|m| JsError::new(&m))
+    }
+
+    /// Values evaluated so far, in the order the search asked for them (for progress).
+    pub fn evaluations(&self) -> Result<JsValue, JsError> {
+        to_js(&self.steps.evaluations())
+    }
+
+    /// The search report (what `tirtrace study` prints), or `null` until the search is done.
+    pub fn report(&self) -> Result<JsValue, JsError> {
+        match self.steps.report() {
+            Some(r) => to_js(&r),
+            None => Ok(JsValue::NULL),
+        }
+    }
+
+    /// Draw the finished search's chart (each value's leak or delivered with its 95 % band, the
+    /// allowed line, the answer and its interval, the closed-form leak-free radius) on the
+    /// canvas with id `canvas_id`; `pixel_ratio` as for [`draw_exit_map`]. Nothing before the
+    /// search is done.
+    pub fn draw_chart(&self, canvas_id: &str, pixel_ratio: f64) -> Result<(), JsError> {
+        let Some(report) = self.steps.report() else {
+            return Ok(());
+        };
+        let area = canvas_area(canvas_id)?;
+        crate::chart::draw_find_chart(&area, &report, pixel_ratio).map_err(js_error)
+    }
+
+    /// The report's evaluations as the CSV `tirtrace study --csv` prints, or `null` until the
+    /// search is done.
+    pub fn csv(&self) -> Option<String> {
+        self.steps
+            .report()
+            .map(|r| crate::study::find::report_csv(&r))
+    }
+}

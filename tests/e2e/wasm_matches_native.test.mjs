@@ -12,7 +12,8 @@ import { test } from 'node:test';
 import { fileURLToPath } from 'node:url';
 
 import {
-  initSync, StudyTracer, sweep_report_csv, ToleranceTracer, tolerance_report_csv, Tracer,
+  initSync, StudyFinder, StudyTracer, sweep_report_csv, ToleranceTracer, tolerance_report_csv,
+  Tracer,
 } from '../../www/pkg/tirtrace.js';
 import { variantsOf } from './variants.mjs';
 
@@ -176,5 +177,60 @@ test('a tolerance study that cannot be traced is refused with its problems, each
     assert.ok(e instanceof Error);
     assert.deepStrictEqual(e.problems.map((p) => p.field), ['tolerances.spreads[1].half_width']);
     assert.match(e.message, /tolerances\.spreads\[1\]\.half_width must be/);
+  }
+});
+
+// A search step by step, as the page runs it: each value's batches traced in two pieces (as by
+// two workers), recorded in batch order; a range starting below the smallest bend a 3 mm guide
+// may have, so some values are refused.
+test('a search run step by step in wasm gives tirtrace study\'s report and CSV bit for bit', () => {
+  const study = JSON.parse(readFileSync(join(STUDIES, 'thermostat_smallest_bend.json'), 'utf8'));
+  study.scenario.trace = { ...study.scenario.trace, rays: 2 * 4096 + 33, seed: 11 };
+  study.find = { ...study.find, from: 1, to: 30 };
+  const text = JSON.stringify(study);
+  const run = (extra) => spawnSync(CLI, ['study', '-', '--threads', '2', ...extra],
+    { input: text, encoding: 'utf8' });
+  const cli = run([]);
+  assert.equal(cli.status, 0, cli.stderr);
+  const native = JSON.parse(cli.stdout);
+  const finder = new StudyFinder(text);
+  const count = finder.batch_count();
+  assert.equal(count, 3);
+  assert.equal(finder.report(), null, 'not done before it starts');
+  let asked = 0;
+  for (let x = finder.next_value(); x !== undefined && x !== null; x = finder.next_value()) {
+    asked += 1;
+    const results = [...finder.trace_batches(x, 0, 2), ...finder.trace_batches(x, 2, 1)];
+    assert.throws(() => finder.record(x + 1, results), /asked for/);
+    finder.record(x, results);
+  }
+  const report = finder.report();
+  assert.deepStrictEqual(report, native);
+  assert.ok(native.evaluations.some((e) => e.problems), 'some values refused');
+  assert.equal(asked, native.evaluations.filter((e) => !e.problems).length, 'each traced once');
+  const csv = run(['--csv']);
+  assert.equal(csv.status, 0, csv.stderr);
+  assert.equal(finder.csv(), `${csv.stdout}\n`.replace(/\n\n$/, '\n'));
+  assert.throws(() => finder.trace_batches(1, 0, 1), /route\[1\]\.bend\.radius_mm/);
+  assert.throws(() => finder.trace_batches(9, 3, 1), /first must be a whole batch index/);
+  finder.free();
+  // A range inside the allowed radii: the scan and the bisections, the same way.
+  study.find.from = 3;
+  const text2 = JSON.stringify(study);
+  const native2 = JSON.parse(spawnSync(CLI, ['study', '-'], { input: text2, encoding: 'utf8' }).stdout);
+  const finder2 = new StudyFinder(text2);
+  for (let x = finder2.next_value(); x !== undefined && x !== null; x = finder2.next_value()) {
+    finder2.record(x, finder2.trace_batches(x, 0, finder2.batch_count()));
+  }
+  assert.deepStrictEqual(finder2.report(), native2);
+  assert.equal(native2.verdict, 'found');
+  assert.ok(native2.evaluations.length > 9, 'the scan and the bisections');
+  finder2.free();
+  study.find.to = 0.5;
+  try {
+    new StudyFinder(JSON.stringify(study));
+    assert.fail('the search was accepted');
+  } catch (e) {
+    assert.deepStrictEqual(e.problems.map((p) => p.field), ['find.to']);
   }
 });

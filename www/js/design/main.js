@@ -17,6 +17,7 @@ import {
   STARTER, clone, download, fileNameFor, freshState, loadState, saveState, scenarioFromFragment, shareLink,
 } from './scenario.js';
 import { demoList, demoText, traceWorker } from './sources.js';
+import { FindPanel } from './find.js';
 import { StudyPanel } from './study.js';
 
 const UNREADABLE_KEY = 'tirtrace.design.unreadable.v1';
@@ -85,6 +86,7 @@ function update() {
   const { state } = page;
   saveState(state);
   page.study?.designChanged();
+  page.find?.designChanged();
   $('design-name').textContent = state.scenario.name || 'Untitled design';
   let problems;
   try {
@@ -397,6 +399,7 @@ async function start() {
     openDesign: (scenario, how) => replaceDesign(readScenario(JSON.stringify(scenario)), how),
     traceWorker: traceWorker(),
   });
+  page.find = new FindPanel({ core, state: page.state, study: page.study, onSaved: () => saveState(page.state) });
   wireToolbar();
   loadDemos();
   try {

@@ -112,6 +112,9 @@ export function loadState() {
       unit: saved.unit === 'in' ? 'in' : 'mm',
       // The study set up beside the design (study.js), when there is one.
       ...(saved.study && typeof saved.study === 'object' ? { study: saved.study } : {}),
+      // The search set up beside it and the panel's mode (find.js), when there are.
+      ...(saved.find && typeof saved.find === 'object' ? { find: saved.find } : {}),
+      ...(saved.findMode === 'find' ? { findMode: 'find' } : {}),
     };
   }
   return null;

@@ -1,0 +1,204 @@
+//! A search's chart: at each evaluated value, the bend's leak (% of the light entering it) or
+//! the delivered share (%) with a 95 % band, the allowed-loss line, the answer with its 95 %
+//! interval shaded, and the bend's closed-form leak-free radius marked.
+//!
+//! The leak's band: the fraction leaked/entered is X + m/e (X the allowed fraction, m the mean
+//! per-ray margin, e the mean weight entering the bend), so its band is X + (m ± h)/e with h the
+//! margin's 95 % half-width — the margin's interval, the one the search inverts, shown on the
+//! fraction's scale (e is taken as known).
+
+use plotters::coord::Shift;
+use plotters::prelude::*;
+use plotters::style::text_anchor::{HPos, Pos, VPos};
+
+use super::sweep::field_axis_title;
+use super::{
+    cartesian, clamp_scale, draw_axes, draw_err, draw_legend, draw_line, ink_font, pixels,
+};
+use crate::error::TirError;
+use crate::study::find::{Criterion, FindReport};
+
+/// Draw the chart of a search `report` on `area`; `scale` as for [`super::draw_bend_chart`].
+/// Values refused by the scenario's check are not drawn.
+pub fn draw_find_chart<DB: DrawingBackend>(
+    area: &DrawingArea<DB, Shift>,
+    report: &FindReport,
+    scale: f64,
+) -> Result<(), TirError> {
+    let scale = clamp_scale(scale);
+    let px = pixels(scale);
+    area.fill(&WHITE).map_err(draw_err)?;
+    let (allowed, leak) = match report.criterion {
+        Criterion::BendLeakAtMost { fraction, .. } => (100.0 * fraction, true),
+        Criterion::DeliveredLossAtMost { .. } => (f64::NAN, false),
+    };
+    // (value, y, half-width), per cent.
+    let mut points: Vec<(f64, f64, f64)> = Vec::new();
+    let mut threshold = allowed;
+    for e in &report.evaluations {
+        let (Some(m), Some(d)) = (e.margin, e.delivered) else {
+            continue;
+        };
+        if leak {
+            let Some(entered) = e.bend_entered.filter(|s| s.share > 0.0) else {
+                continue;
+            };
+            let y = allowed + 100.0 * m.share / entered.share;
+            points.push((e.value, y, 100.0 * m.ci95 / entered.share));
+        } else {
+            // E[margin] = (1 − X)·delivered₀ − delivered: the allowed delivered share.
+            if threshold.is_nan() {
+                threshold = 100.0 * (d.share + m.share);
+            }
+            points.push((e.value, 100.0 * d.share, 100.0 * d.ci95));
+        }
+    }
+    if points.is_empty() {
+        let (w, h) = area.dim_in_pixel();
+        area.draw(&Text::new(
+            "no value traced",
+            (w as i32 / 2, h as i32 / 2),
+            ink_font(px(14.0)).pos(Pos::new(HPos::Center, VPos::Center)),
+        ))
+        .map_err(draw_err)?;
+        return area.present().map_err(draw_err);
+    }
+    let leak_free = report
+        .bend
+        .as_ref()
+        .and_then(|b| b.leak_free_centre_radius_mm)
+        .filter(|r| r.is_finite());
+    let mut x_lo = report.from;
+    let mut x_hi = report.to;
+    if let Some(r) = leak_free.filter(|r| *r <= x_hi + (x_hi - x_lo)) {
+        x_lo = x_lo.min(r);
+        x_hi = x_hi.max(r);
+    }
+    let pad = 0.04 * (x_hi - x_lo).max(1e-9);
+    let x_range = (x_lo - pad)..(x_hi + pad);
+    let finite = |c: f64| if c.is_finite() { c } else { 0.0 };
+    let y_lo = points
+        .iter()
+        .map(|p| p.1 - finite(p.2))
+        .fold(threshold, f64::min)
+        .max(if leak { 0.0 } else { f64::NEG_INFINITY });
+    let y_hi = points
+        .iter()
+        .map(|p| p.1 + finite(p.2))
+        .fold(threshold, f64::max);
+    // A leak axis up to 3× the allowed loss (large leaks at tight radii would flatten the rest).
+    let y_hi = if leak {
+        y_hi.min(3.0 * allowed).max(1.5 * allowed)
+    } else {
+        y_hi
+    };
+    let y_pad = 0.06 * (y_hi - y_lo).max(1e-6);
+    let y_range = (y_lo - y_pad).max(if leak { 0.0 } else { y_lo - y_pad })..(y_hi + y_pad);
+    let clamp = |y: f64| y.clamp(y_range.start, y_range.end);
+    let label_font = ink_font(px(12.0));
+    let x_title = if report.field.contains("[*]") {
+        format!("factor on every {}", report.field)
+    } else {
+        field_axis_title(&report.field)
+    };
+    let y_title = if leak {
+        "leak of the light entering the bend (%)"
+    } else {
+        "delivered, share of the emitted light (%)"
+    };
+    let line_colour = RGBColor(0xb3, 0x41, 0x2a);
+    let band_colour = RGBColor(0xf0, 0xcf, 0xc4);
+    let answer_colour = RGBColor(0x28, 0x5f, 0x96);
+    let marker_colour = RGBColor(0x2e, 0x7d, 0x32);
+    let mut chart = cartesian(area, 10.0, scale, x_range.clone(), y_range.clone())?;
+    draw_axes(
+        &mut chart,
+        (&x_title, y_title),
+        ink_font(px(13.0)),
+        label_font.clone(),
+        (&|x| format!("{x:.1}"), &|y| format!("{y:.1}")),
+    )?;
+    // The answer's interval (ends beyond the range reach the range's ends).
+    if let (Some(a), Some(i)) = (report.answer, report.interval) {
+        let low = i.low.unwrap_or(report.from);
+        let high = i.high.unwrap_or(report.to);
+        chart
+            .draw_series(std::iter::once(Rectangle::new(
+                [(low, y_range.start), (high, y_range.end)],
+                RGBColor(0xb8, 0xd4, 0xe8).mix(0.5).filled(),
+            )))
+            .map_err(draw_err)?;
+        draw_line(
+            &mut chart,
+            [(a, y_range.start), (a, y_range.end)],
+            answer_colour,
+            2,
+            scale,
+            &format!("answer {a:.2} (shaded: its 95 % interval)"),
+        )?;
+    }
+    // The band of every evaluated value, then the line through them.
+    let mut outline: Vec<(f64, f64)> = points
+        .iter()
+        .filter(|p| p.2.is_finite())
+        .map(|p| (p.0, clamp(p.1 + p.2)))
+        .collect();
+    outline.extend(
+        points
+            .iter()
+            .rev()
+            .filter(|p| p.2.is_finite())
+            .map(|p| (p.0, clamp(p.1 - p.2))),
+    );
+    if outline.len() >= 4 {
+        chart
+            .draw_series(std::iter::once(Polygon::new(
+                outline,
+                band_colour.mix(0.8).filled(),
+            )))
+            .map_err(draw_err)?;
+    }
+    let what = if leak {
+        "traced leak (band: 95 %)"
+    } else {
+        "delivered (band: 95 %)"
+    };
+    draw_line(
+        &mut chart,
+        points.iter().map(|p| (p.0, clamp(p.1))),
+        line_colour,
+        2,
+        scale,
+        what,
+    )?;
+    chart
+        .draw_series(
+            points
+                .iter()
+                .map(|p| Circle::new((p.0, clamp(p.1)), px(3.0), line_colour.filled())),
+        )
+        .map_err(draw_err)?;
+    draw_line(
+        &mut chart,
+        [(x_range.start, threshold), (x_range.end, threshold)],
+        INK_LINE,
+        1,
+        scale,
+        &format!("allowed: {threshold:.2} %"),
+    )?;
+    if let Some(r) = leak_free.filter(|r| x_range.contains(r)) {
+        draw_line(
+            &mut chart,
+            [(r, y_range.start), (r, y_range.end)],
+            marker_colour,
+            2,
+            scale,
+            &format!("leak-free for every ray (closed form): {r:.2} mm"),
+        )?;
+    }
+    draw_legend(&mut chart, SeriesLabelPosition::UpperRight, label_font)?;
+    area.present().map_err(draw_err)
+}
+
+/// The allowed-loss line's colour.
+const INK_LINE: RGBColor = RGBColor(0x1f, 0x2a, 0x37);

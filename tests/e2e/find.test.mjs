@@ -1,0 +1,161 @@
+// End-to-end test of the study panel's "Find the limit" in Debian's Chromium (playwright-core):
+// pick the first bend's radius, search for the smallest radius leaking at most 1 % at few rays,
+// compare the answer and its interval with `tirtrace study` on the same document (identical),
+// stop a longer search, name a bad range in the form's words, and stop a search when the design is
+// edited. Screenshots at 1280×800 and 820×1180 go to tests/e2e/out/ (git-ignored).
+//
+// Before: cargo build; bash scripts/build.sh; npm ci --prefix tests/e2e. Run: node --test tests/e2e/
+
+import assert from 'node:assert/strict';
+import { existsSync, mkdirSync, rmSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { after, before, describe, test } from 'node:test';
+
+import { chromium } from 'playwright-core';
+
+import { STATE_KEY, inkShare, tracedAfter } from './design-helpers.mjs';
+import { CHROMIUM, CHROMIUM_ARGS, CLI, OUT, WWW, cli, collectErrors, startServer, stopServer } from './harness.mjs';
+
+const BEND_RADIUS = 'route[1].bend.radius_mm';
+
+function cliStudy(study) {
+  const file = join(tmpdir(), `tirtrace-e2e-find-${process.pid}-${Date.now()}.json`);
+  writeFileSync(file, JSON.stringify(study));
+  try {
+    return JSON.parse(cli(['study', file, '--threads', '2']));
+  } finally {
+    rmSync(file, { force: true });
+  }
+}
+
+const keptState = (page) => page.evaluate((k) => JSON.parse(localStorage.getItem(k)), STATE_KEY);
+
+async function setField(page, selector, value) {
+  await page.fill(selector, String(value));
+  await page.locator(selector).dispatchEvent('change');
+}
+
+describe('find the limit in the study panel', { concurrency: false }, () => {
+  let server;
+  let browser;
+  let page;
+  const consoleErrors = [];
+
+  before(async () => {
+    assert.ok(existsSync(join(WWW, 'pkg', 'tirtrace.js')), 'www/pkg is missing: run `bash scripts/build.sh` first');
+    assert.ok(existsSync(CLI), 'target/debug/tirtrace is missing: run `cargo build` first');
+    mkdirSync(OUT, { recursive: true });
+    server = await startServer();
+    browser = await chromium.launch({ executablePath: CHROMIUM, args: CHROMIUM_ARGS });
+    const context = await browser.newContext({ viewport: { width: 1280, height: 800 } });
+    page = await context.newPage();
+    collectErrors(page, consoleErrors);
+    await page.goto(`${server.origin}/`);
+    await page.waitForSelector('body[data-ready="true"]', { timeout: 30_000 });
+    await page.waitForFunction(() => Number(document.body.dataset.traced || 0) > 0, null, { timeout: 60_000 });
+    await tracedAfter(page, () => setField(page, '#f-trace-rays', 4096 + 10));
+  });
+
+  after(async () => {
+    await browser?.close();
+    await stopServer(server?.child);
+  });
+
+  test('the smallest radius for 1 % leak equals tirtrace study on the same document', async () => {
+    await page.locator(`button.vary-pick[data-vary-path="${BEND_RADIUS}"]`).click();
+    await page.check('input[name="study-mode"][value="find"]');
+    assert.equal(await page.locator('#find-setup').isVisible(), true);
+    assert.equal(await page.locator('#study-run').isVisible(), false, 'the sweep controls are hidden');
+    assert.equal(await page.inputValue('#find-percent'), '1');
+    await page.fill('#find-from', '3');
+    await page.fill('#find-to', '30');
+    await page.click('#find-run');
+    await page.waitForSelector('#study[data-find-state="done"]', { timeout: 300_000 });
+    assert.match(await page.locator('#find-msg').innerText(), /^Done/);
+    const answer = page.locator('#find-answer');
+    const text = await answer.innerText();
+    const state = await keptState(page);
+    const native = cliStudy({
+      version: 1,
+      scenario: state.scenario,
+      find: { smallest: BEND_RADIUS, from: 3, to: 30, bend_leak_at_most_percent: 1 },
+    });
+    assert.equal(await answer.getAttribute('data-verdict'), native.verdict);
+    assert.equal(await answer.getAttribute('data-answer'), String(native.answer ?? ''));
+    assert.equal(await answer.getAttribute('data-low'), String(native.interval?.low ?? ''));
+    assert.equal(await answer.getAttribute('data-high'), String(native.interval?.high ?? ''));
+    const values = await page.$$eval('#find-rows tr', (rows) => rows.map((r) => Number(r.dataset.value)));
+    assert.deepStrictEqual(values, native.evaluations.map((e) => e.value));
+    if (native.verdict === 'found') {
+      assert.match(text, /^Smallest centre-line radius for ≤ 1 % leak in bend 2: /);
+      assert.match(text, /closed form/);
+    }
+    assert.ok(await inkShare(page, 'find-chart') > 0.02, 'the chart is drawn');
+    await page.locator('#study').screenshot({ path: join(OUT, 'find-1280.png') });
+    await page.setViewportSize({ width: 820, height: 1180 });
+    await page.locator('#study').screenshot({ path: join(OUT, 'find-820.png') });
+    await page.setViewportSize({ width: 1280, height: 800 });
+  });
+
+  test('the search set-up is kept with the design over a reload', async () => {
+    await page.fill('#find-percent', '2');
+    await page.fill('#find-from', '5');
+    await page.click('#find-run');
+    await page.waitForSelector('#study[data-find-state="done"]', { timeout: 300_000 });
+    await page.reload();
+    await page.waitForSelector('body[data-ready="true"]', { timeout: 30_000 });
+    assert.equal(await page.locator('#find-setup').isVisible(), true, 'the panel opens on Find the limit');
+    assert.equal(await page.inputValue('#find-percent'), '2');
+    assert.equal(await page.inputValue('#find-from'), '5');
+    await page.fill('#find-percent', '1');
+  });
+
+  test('a bad range is named in the form\'s words', async () => {
+    await page.fill('#find-from', '20');
+    await page.fill('#find-to', '10');
+    await page.click('#find-run');
+    await page.waitForFunction(() => document.getElementById('find-msg').dataset.kind === 'error');
+    const msg = await page.locator('#find-msg').innerText();
+    assert.match(msg, /^To must be > From \(20\)/);
+    assert.ok(!msg.includes('find.'), msg);
+  });
+
+  test('Stop, and editing the design stops a running search', async () => {
+    await page.fill('#find-from', '3');
+    await page.fill('#find-to', '30');
+    await page.click('#find-run');
+    await page.waitForSelector('#study[data-find-state="running"]');
+    await page.click('#find-stop');
+    await page.waitForSelector('#study[data-find-state="done"]');
+    assert.match(await page.locator('#find-msg').innerText(), /^Stopped/);
+    await page.click('#find-run');
+    await page.waitForSelector('#study[data-find-state="running"]');
+    await setField(page, '#f-trace-rays', 4096 + 11);
+    await page.waitForSelector('#study[data-find-state="done"]');
+    assert.match(await page.locator('#find-msg').innerText(), /design changed, so the search was stopped/);
+    assert.equal(await page.locator('#find-run').isDisabled(), false);
+    assert.deepStrictEqual(consoleErrors, []);
+  });
+
+  test('the bend table\'s Find runs the search for that bend and shows the answer', async () => {
+    const row = page.locator('#bend-rows tr[data-segment="1"]');
+    assert.match(await page.locator('#bend-find-head').innerText(), /Radius for ≤ 1 % leak/);
+    await row.locator('button.bend-find-run').click();
+    await page.waitForSelector('#study[data-find-state="done"]', { timeout: 300_000 });
+    await page.waitForFunction(() => !/searching/.test(document.querySelector('#bend-rows tr[data-segment="1"] .bend-find-answer').textContent));
+    const cell = await row.locator('.bend-find-answer').innerText();
+    const state = await keptState(page);
+    assert.equal(state.find.field, BEND_RADIUS);
+    const native = cliStudy({
+      version: 1,
+      scenario: state.scenario,
+      find: { smallest: BEND_RADIUS, from: state.find.from, to: state.find.to, bend_leak_at_most_percent: 1 },
+    });
+    assert.equal(await page.locator('#find-answer').getAttribute('data-answer'), String(native.answer ?? ''));
+    if (native.verdict === 'found') assert.match(cell, /^\d+(\.\d+)? mm centre line \(95 %: /);
+    else assert.ok(cell.length > 0, 'a verdict in words');
+    await page.locator('.bends-card').screenshot({ path: join(OUT, 'find-bends-1280.png') });
+    assert.deepStrictEqual(consoleErrors, []);
+  });
+});

@@ -1,0 +1,139 @@
+//! The search run step by step (as the page runs it: the next value, its batches traced in
+//! pieces anywhere, recorded in batch order) gives the report of the one-call search bit for bit,
+//! for a leak criterion, a delivered criterion and a range with problems; recording out of turn
+//! is refused. Fixed seeds throughout.
+#![cfg(not(target_arch = "wasm32"))]
+
+use serde_json::{json, Value};
+use tirtrace::study::{FindReport, FindSteps, Study};
+
+fn doc(find: Value, rays: u64) -> String {
+    let mut d: Value = serde_json::from_str(
+        &std::fs::read_to_string("examples/studies/thermostat_smallest_bend.json").unwrap(),
+    )
+    .unwrap();
+    d["scenario"]["trace"]["rays"] = json!(rays);
+    d["find"] = find;
+    d.to_string()
+}
+
+/// Run the search step by step, tracing each value's batches `piece` at a time.
+fn stepwise(study: &Study, piece: u64) -> (FindReport, usize) {
+    let mut steps = FindSteps::new(study.prepare_find().unwrap());
+    let count = steps.batch_count();
+    let mut asked = 0;
+    while let Some(x) = steps.next_value() {
+        asked += 1;
+        let mut batches = Vec::new();
+        let mut first = 0;
+        while first < count {
+            batches.extend(steps.trace_batches(x, first, piece).unwrap());
+            first += piece;
+        }
+        steps.record(x, &batches).unwrap();
+    }
+    (steps.report().unwrap(), asked)
+}
+
+fn same_as_one_call(find: Value, rays: u64) -> FindReport {
+    let study = Study::from_json(&doc(find, rays)).unwrap();
+    let whole = study.prepare_find().unwrap().run_serial();
+    for piece in [1, 2] {
+        let (report, asked) = stepwise(&study, piece);
+        assert_eq!(report, whole, "piece {piece}");
+        let traced = whole
+            .evaluations
+            .iter()
+            .filter(|e| e.problems.is_empty())
+            .count();
+        assert_eq!(asked, traced, "every traced value asked for once");
+    }
+    whole
+}
+
+#[test]
+fn leak_search_step_by_step_is_the_one_call_search() {
+    let r = same_as_one_call(
+        json!({ "smallest": "route[1].bend.radius_mm", "from": 3, "to": 30,
+                "bend_leak_at_most_percent": 1 }),
+        8192 + 100,
+    );
+    assert!(r.answer.is_some(), "{}", r.summary);
+    assert!(r.evaluations.len() > 9);
+}
+
+#[test]
+fn delivered_search_step_by_step_is_the_one_call_search() {
+    same_as_one_call(
+        json!({ "largest": "source.offset_mm[0]", "from": 0, "to": 1.2,
+                "delivered_loss_at_most_percent": 5 }),
+        4096,
+    );
+}
+
+#[test]
+fn range_with_problems_step_by_step_is_the_one_call_search() {
+    // Radii below 1.5 mm (half the 3 mm diameter) are refused by the scenario's check.
+    let r = same_as_one_call(
+        json!({ "smallest": "route[1].bend.radius_mm", "from": 0.5, "to": 30,
+                "bend_leak_at_most_percent": 1 }),
+        1000,
+    );
+    assert!(r.evaluations.iter().any(|e| !e.problems.is_empty()));
+}
+
+#[test]
+fn recording_out_of_turn_is_refused() {
+    let study = Study::from_json(&doc(
+        json!({ "smallest": "route[1].bend.radius_mm", "from": 3, "to": 30,
+                "bend_leak_at_most_percent": 1 }),
+        1000,
+    ))
+    .unwrap();
+    let mut steps = FindSteps::new(study.prepare_find().unwrap());
+    let message = steps.record(3.0, &[]).unwrap_err();
+    assert!(message.contains("next_value"), "{message}");
+    let x = steps.next_value().unwrap();
+    let batches = steps.trace_batches(x, 0, 1).unwrap();
+    let message = steps.record(x + 1.0, &batches).unwrap_err();
+    assert!(message.contains("asked for"), "{message}");
+    let count = steps.batch_count();
+    let message = steps.record(x, &[]).unwrap_err();
+    assert!(
+        message.contains(&format!("all {count} batches")),
+        "{message}"
+    );
+    steps.record(x, &batches).unwrap();
+}
+
+#[test]
+fn the_search_chart_shows_the_answer_the_allowed_line_and_the_closed_form_radius() {
+    use plotters::prelude::*;
+    let study = Study::from_json(&doc(
+        json!({ "smallest": "route[1].bend.radius_mm", "from": 3, "to": 30,
+                "bend_leak_at_most_percent": 1 }),
+        8192,
+    ))
+    .unwrap();
+    let report = study.prepare_find().unwrap().run_serial();
+    let mut svg = String::new();
+    {
+        let area = SVGBackend::with_string(&mut svg, (800, 500)).into_drawing_area();
+        tirtrace::chart::draw_find_chart(&area, &report, 1.0).unwrap();
+    }
+    assert!(svg.contains("allowed: 1.00 %"), "the allowed-loss line");
+    assert!(
+        svg.contains("leak of the light entering the bend"),
+        "the axis"
+    );
+    if let Some(a) = report.answer {
+        assert!(svg.contains(&format!("answer {a:.2}")), "the answer");
+    }
+    let free = report.bend.as_ref().unwrap().leak_free_centre_radius_mm;
+    if let Some(r) = free.filter(|r| *r <= 57.0) {
+        assert!(
+            svg.contains(&format!("closed form): {r:.2} mm")),
+            "the leak-free radius"
+        );
+    }
+}

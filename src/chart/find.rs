@@ -163,21 +163,52 @@ pub fn draw_find_chart<DB: DrawingBackend>(
     } else {
         "delivered (band: 95 %)"
     };
-    draw_line(
-        &mut chart,
-        points.iter().map(|p| (p.0, clamp(p.1))),
-        line_colour,
-        2,
-        scale,
-        what,
-    )?;
+    // The line through the values on the axis; a value above the axis (a large leak at a tight
+    // radius, left off so the rest is not flattened) breaks the line and is marked by a
+    // triangle on the top edge, named in the legend (its value is in the table).
+    let on_axis = |p: &&(f64, f64, f64)| p.1 <= y_range.end;
+    let mut runs: Vec<Vec<(f64, f64)>> = vec![Vec::new()];
+    for p in &points {
+        if on_axis(&p) {
+            if let Some(run) = runs.last_mut() {
+                run.push((p.0, p.1));
+            }
+        } else if runs.last().is_some_and(|r| !r.is_empty()) {
+            runs.push(Vec::new());
+        }
+    }
+    for (k, run) in runs.into_iter().filter(|r| !r.is_empty()).enumerate() {
+        if k == 0 {
+            draw_line(&mut chart, run, line_colour, 2, scale, what)?;
+        } else {
+            chart
+                .draw_series(LineSeries::new(run, line_colour.stroke_width(px(2.0))))
+                .map_err(draw_err)?;
+        }
+    }
     chart
         .draw_series(
             points
                 .iter()
-                .map(|p| Circle::new((p.0, clamp(p.1)), px(3.0), line_colour.filled())),
+                .filter(on_axis)
+                .map(|p| Circle::new((p.0, p.1), px(3.0), line_colour.filled())),
         )
         .map_err(draw_err)?;
+    let above = points.iter().filter(|p| !on_axis(p)).count();
+    if above > 0 {
+        let top = y_range.end;
+        let size = px(5.0);
+        chart
+            .draw_series(
+                points
+                    .iter()
+                    .filter(|p| !on_axis(p))
+                    .map(|p| TriangleMarker::new((p.0, top), size, line_colour.filled())),
+            )
+            .map_err(draw_err)?
+            .label(format!("{above} value(s) above {top:.1} %: see the table"))
+            .legend(move |(x, y)| TriangleMarker::new((x + 9, y), size, line_colour.filled()));
+    }
     draw_line(
         &mut chart,
         [(x_range.start, threshold), (x_range.end, threshold)],

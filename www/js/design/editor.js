@@ -107,11 +107,23 @@ export class Editor {
       }
       this.changed(true, id);
     });
+    // The pipe's material can be compared in a study (a list of library materials).
+    const vary = key === 'guide.material'
+      ? h('button', {
+        type: 'button',
+        class: 'vary-pick',
+        dataset: { varyPath: 'guide.material.library', varyLabel: label },
+        'aria-pressed': String(this.state.study?.field === 'guide.material.library'),
+        'aria-label': `Compare “${label}” in a study`,
+        title: 'Compare materials in a study',
+        text: '⇆',
+      })
+      : null;
     return h(
       'div',
       { class: 'field' },
       h('label', { for: id, text: label }),
-      sel,
+      vary ? h('div', { class: 'with-vary' }, sel, vary) : sel,
       hint != null ? h('p', { class: 'hint', id: `${id}-hint`, text: hint }) : null,
       this.msgEl(key),
     );

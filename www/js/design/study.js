@@ -18,6 +18,13 @@ import { clone, download, fileNameFor, isLength, showNumber, toStored } from './
 
 const CHART_ID = 'study-chart';
 
+/** A bend's centre-line radius: "every bend together" can scale them all. */
+const BEND_RADIUS = /^route\[(\d+)\]\.bend\.radius_mm$/;
+/** Fields whose values are texts (library names), compared as a list rather than a range. */
+const TEXT_FIELDS = new Set(['guide.material.library']);
+/** Library materials a pipe is not made of (the editor's own filter for the pipe). */
+const NOT_A_PIPE = new Set(['air', 'water']);
+
 /** Points the panel suggests around the current value: ±40 % in 4 steps (5 points). */
 const SPREAD = 0.4;
 const DEFAULT_STEPS = 4;
@@ -82,11 +89,33 @@ export class StudyPanel {
     return m ? { deg: '°', nm: 'nm', mw: 'mW', lm: 'lm' }[m[1]] : '';
   }
 
-  /** Vary the field at `path` (labelled `label` in the form): from / to prefilled around it. */
-  pick(path, label) {
+  /** The value at `path` in the design (undefined when it has none). */
+  valueAt(path) {
     const keys = path.replace(/\[(\d+)\]/g, '.$1').split('.');
     let value = this.state.scenario;
     for (const k of keys) value = value?.[k];
+    return value;
+  }
+
+  /** The materials a pipe can be compared in: [id, name] of the core's library. */
+  pipeMaterials() {
+    return (this.editor.materials ?? []).filter((m) => !NOT_A_PIPE.has(m.id)).map((m) => [m.id, m.name]);
+  }
+
+  /** Vary the field at `path` (labelled `label` in the form): from / to prefilled around it. */
+  pick(path, label) {
+    if (TEXT_FIELDS.has(path)) {
+      // A choice: the current material and one other to compare it with.
+      const current = this.valueAt(path);
+      const other = this.pipeMaterials().map(([id]) => id).find((id) => id !== current);
+      const values = [current, other].filter((v) => typeof v === 'string');
+      this.state.study = { field: path, label, values };
+      this.onSaved();
+      this.showSetup();
+      this.message('');
+      return;
+    }
+    const value = this.valueAt(path);
     const x = typeof value === 'number' && Number.isFinite(value) ? value : 1;
     const from = x === 0 ? -1 : x * (1 - SPREAD);
     const to = x === 0 ? 1 : x * (1 + SPREAD);
@@ -111,7 +140,21 @@ export class StudyPanel {
       $('study-to').value = s.values ? showNumber(s.values[s.values.length - 1], s.field, this.state.unit) : showNumber(s.to, s.field, this.state.unit);
       $('study-steps').value = String(s.values ? s.values.length - 1 : s.steps);
     }
-    $('study-values-note').hidden = !s?.values;
+    const text = !!s && TEXT_FIELDS.has(s.field);
+    for (const id of ['study-from', 'study-to', 'study-steps']) $(id).closest('.field').hidden = text;
+    $('study-choices').hidden = !text;
+    if (text) {
+      const chosen = new Set(s.values ?? []);
+      $('study-choice-list').replaceChildren(...this.pipeMaterials().map(([id, name]) => h(
+        'label',
+        { class: 'check-line' },
+        h('input', { type: 'checkbox', value: id, checked: chosen.has(id) }),
+        ` ${name}`,
+      )));
+    }
+    $('study-every-line').hidden = !(s && BEND_RADIUS.test(s.field));
+    $('study-every').checked = !!s?.every;
+    $('study-values-note').hidden = !s?.values || text;
     $('study-run').disabled = !s || this.running;
     $('study-stop').disabled = !this.running;
   }
@@ -120,6 +163,11 @@ export class StudyPanel {
   readInputs() {
     const s = this.setup;
     const out = { from: null, to: null, steps: null, problems: [] };
+    if (TEXT_FIELDS.has(s.field)) {
+      out.values = [...$('study-choice-list').querySelectorAll('input:checked')].map((b) => b.value);
+      if (out.values.length < 2) out.problems.push(`Choose at least two materials to compare (${out.values.length} chosen)`);
+      return out;
+    }
     for (const [key, id, label] of [['from', 'study-from', 'From'], ['to', 'study-to', 'To'], ['steps', 'study-steps', 'Steps']]) {
       const x = parseNumber($(id).value);
       if (Number.isNaN(x)) out.problems.push(`${label} must be a number, got “${$(id).value}”`);
@@ -128,10 +176,22 @@ export class StudyPanel {
     return out;
   }
 
+  /** This bend's radius points of the set-up (its values, or from/to/steps). */
+  points() {
+    const s = this.setup;
+    if (s.values) return s.values;
+    return Array.from({ length: s.steps + 1 }, (_, k) => (k === s.steps ? s.to : s.from + ((s.to - s.from) * k) / s.steps));
+  }
+
   /** The study document (the JSON `tirtrace study` reads) of the design and this set-up. */
   document() {
     const s = this.setup;
-    const vary = s.values ? { field: s.field, values: s.values } : { field: s.field, from: s.from, to: s.to, steps: s.steps };
+    let vary = s.values ? { field: s.field, values: s.values } : { field: s.field, from: s.from, to: s.to, steps: s.steps };
+    if (s.every && BEND_RADIUS.test(s.field)) {
+      // Every bend together: each radius times the factor that takes this bend to each point.
+      const r0 = this.valueAt(s.field);
+      vary = { field: 'route[*].bend.radius_mm', factors: this.points().map((r) => r / r0) };
+    }
     const name = `${this.state.scenario.name || 'Untitled design'}: ${this.labelOf(s.field)}`;
     return { version: 1, name, scenario: clone(this.state.scenario), vary };
   }
@@ -143,6 +203,7 @@ export class StudyPanel {
       'vary.to': 'To',
       'vary.steps': 'Steps',
       'vary.values': 'the values',
+      'vary.factors': 'the factors (every bend)',
       'vary.field': `the varied number (${this.labelOf(this.setup?.field ?? '')})`,
     };
     // Whole words only: `vary.to` must not eat the start of `vary.total`.
@@ -181,9 +242,14 @@ export class StudyPanel {
       this.message(read.problems.join('; '), 'error');
       return;
     }
-    const changed = read.from !== s.from || read.to !== s.to || read.steps !== s.steps;
-    if (s.values && changed) delete s.values; // a list from a study file, now edited
-    Object.assign(s, { from: read.from, to: read.to, steps: read.steps });
+    if (TEXT_FIELDS.has(s.field)) {
+      s.values = read.values;
+    } else {
+      const changed = read.from !== s.from || read.to !== s.to || read.steps !== s.steps;
+      if (s.values && changed) delete s.values; // a list from a study file, now edited
+      Object.assign(s, { from: read.from, to: read.to, steps: read.steps });
+    }
+    s.every = BEND_RADIUS.test(s.field) && $('study-every').checked;
     this.onSaved();
     const text = JSON.stringify(this.document());
     this.tracedScenario = JSON.stringify(this.state.scenario);
@@ -198,6 +264,12 @@ export class StudyPanel {
     }
     this.variedBend = tracer.varied_bend();
     tracer.free();
+    if (s.every) {
+      // Every bend scaled: the table and chart follow the picked bend's leak.
+      const [, segment] = s.field.match(BEND_RADIUS);
+      this.variedBend = { segment: Number(segment), leak_free_radius_mm: null };
+      this.everyRadius = this.valueAt(s.field);
+    }
     this.running = true;
     this.report = null;
     $('study-rows').replaceChildren();
@@ -234,7 +306,10 @@ export class StudyPanel {
     const progress = `${u.batchesDone} of ${u.batchCount} batches of every point`;
     $('study-progress').textContent = u.batchCount ? progress : '';
     if (u.error) this.finish(`The study stopped: ${u.error}`, 'error');
-    else if (u.cancelled) this.finish(`Stopped: the table shows ${progress}.`);
+    else if (u.cancelled && this.editedWhileRunning) {
+      this.editedWhileRunning = false;
+      this.finish(`Stopped: the design was edited while the study ran (the table shows ${progress} of the design as it was). Run again to study the design as it is now.`);
+    } else if (u.cancelled) this.finish(`Stopped: the table shows ${progress}.`);
     else if (u.done) this.finish(`Done: ${u.raysTotal.toLocaleString('en')} rays per point, the same rays at every point.`);
   }
 
@@ -244,9 +319,12 @@ export class StudyPanel {
     const r = this.report;
     const bend = this.variedBend;
     const hasReceiver = r.points.some((p) => p.result?.receiver);
-    const unit = this.unitOf(r.field);
+    const s = this.setup;
+    const every = r.factor && s?.every;
+    const shownField = every ? s.field : r.field;
+    const unit = this.unitOf(shownField);
     const head = [
-      `${this.labelOf(r.field)}${unit ? ` (${unit})` : ''}`,
+      `${this.labelOf(shownField)}${unit ? ` (${unit})` : ''}${every ? ', every bend scaled alike' : ''}`,
       'Delivered (%)',
       'Change from the first (% points)',
       bend ? `Leaked in bend ${bend.segment + 1} (%)` : null,
@@ -265,9 +343,16 @@ export class StudyPanel {
       return h(
         'tr',
         { dataset: { index: String(i), value: String(p.value), refused: String(!res) } },
-        h('th', { scope: 'row', class: 'num', text: shownValue(p, r.field, this.state.unit) }),
+        h('th', {
+          scope: 'row',
+          class: 'num',
+          text: every
+            ? `${showNumber(p.value * this.everyRadius, s.field, this.state.unit)} (× ${round(p.value)})`
+            : this.materialName(shownValue(p, r.field, this.state.unit)),
+        }),
         cell(res?.delivered, 'delivered'),
-        cell(res?.difference, 'difference'),
+        // The reference point's change is zero by definition: say which point it is.
+        i === r.reference && res ? Object.assign(cell(res.difference, 'difference'), { textContent: 'reference' }) : cell(res?.difference, 'difference'),
         bend ? cell(res?.segments_leaked[bend.segment], 'bend') : null,
         hasReceiver ? cell(res?.receiver, 'receiver') : null,
         h('td', { class: 'problem', text: problems || (res ? '' : 'waiting…') }),
@@ -278,8 +363,17 @@ export class StudyPanel {
     this.drawChart();
   }
 
+  /** A library material's name for its id (other values as they are). */
+  materialName(value) {
+    return (this.editor.materials ?? []).find((m) => m.id === value)?.name ?? value;
+  }
+
   drawChart() {
     if (!this.report || $('study-results').hidden) return;
+    // Materials compared: the table says it all (a line through names would mean nothing).
+    const text = typeof this.report.points[0]?.value === 'string';
+    $(CHART_ID).hidden = text;
+    if (text) return;
     const { ratio } = sizeCanvasForCore($(CHART_ID));
     try {
       this.core.draw_sweep_chart(CHART_ID, this.report, this.variedBend, ratio);
@@ -348,6 +442,11 @@ export class StudyPanel {
     });
     $('study-run').addEventListener('click', () => this.run());
     $('study-stop').addEventListener('click', () => this.stop());
+    $('study-every').addEventListener('change', () => {
+      if (!this.setup) return;
+      this.setup.every = $('study-every').checked;
+      this.onSaved();
+    });
     $('study-csv').addEventListener('click', () => {
       if (!this.report) return;
       const csv = this.core.sweep_report_csv(this.report);
@@ -368,7 +467,13 @@ export class StudyPanel {
 
   /** The design was edited: a table of an earlier design says so (the numbers stay readable). */
   designChanged() {
-    if (!this.report || this.running) return;
+    if (this.running) {
+      // A study belongs to the design it started from: an edit stops it.
+      this.editedWhileRunning = true;
+      this.stop();
+      return;
+    }
+    if (!this.report) return;
     const traced = this.tracedScenario;
     if (traced === JSON.stringify(this.state.scenario)) return;
     this.message('The design has changed since this study ran: Run again to see the study of the design as it is now.');

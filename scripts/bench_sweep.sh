@@ -1,7 +1,8 @@
 #!/usr/bin/env bash
 # The time of a 12-point bend-radius sweep of the benchmark route (examples/studies/
 # bench_bend_sweep.json) at ±0.5 % (95 %) or better per point — 40,960 rays a point — against one
-# trace of the same total rays (12 × 40,960), both on the command line with all cores, end to end.
+# trace of the same total rays (12 × 40,960), both on the command line with all cores, end to end,
+# then the same in the page (workers, headless Chromium: benches/page_sweep_speed.mjs).
 # Runs alternate (sweep, trace, sweep, …) and the ratio of the medians is printed: a ratio
 # measured in one run, since these machines are noisy. RUNS sets the repetitions (default 3).
 set -euo pipefail
@@ -33,3 +34,7 @@ print(f"sweep {statistics.median(sweep_s):.2f} s, one trace of {points*rays} ray
       f"{statistics.median(trace_s):.2f} s (medians of {runs}, all cores): "
       f"ratio {statistics.median(sweep_s)/statistics.median(trace_s):.2f}")
 PY
+# The page: the same sweep with one worker per core in headless Chromium, against one trace of the
+# same total rays in the same page (both warmed, end to end).
+bash scripts/build.sh > /dev/null
+node benches/page_sweep_speed.mjs examples/studies/bench_bend_sweep.json "$rays"

@@ -33,9 +33,9 @@ function runJob(pool, listen, scenarioJson) {
  * A fresh pool of `size` workers (null: one per core): a warm-up trace (`warmJson(poolSize)`),
  * then the timed one.
  */
-async function timedRuns(size, warmJson, json) {
+async function timedRuns(size, warmJson, json, { study = false } = {}) {
   let listener = () => {};
-  const pool = new TracePool({ size: size ?? undefined, onUpdate: (u) => listener(u) });
+  const pool = new TracePool({ size: size ?? undefined, study, onUpdate: (u) => listener(u) });
   const listen = (f) => {
     listener = f;
   };
@@ -86,6 +86,35 @@ export async function measure({ scenario = 'demos/bench_three_bends.json', rays 
   };
 }
 
+/**
+ * Measure a sweep against one trace of the same total rays, both with one worker per core on
+ * warmed pools: `study` is a study document (an object with `vary`), `rays` the rays per point.
+ * Resolves with the figures as a plain object (times in ms, end to end: document in, report out).
+ */
+export async function measureSweep({ study, rays }) {
+  if (!Number.isSafeInteger(rays) || rays < 1) throw new RangeError(`rays must be a whole number ≥ 1, got ${rays}`);
+  const vary = study.vary;
+  const points = Array.isArray(vary.values) ? vary.values.length : Array.isArray(vary.factors) ? vary.factors.length : vary.steps + 1;
+  const withRays = (n) => ({ ...study, scenario: { ...study.scenario, trace: { ...study.scenario.trace, rays: n } } });
+  const studyJson = JSON.stringify(withRays(rays));
+  const warmStudy = (size) => JSON.stringify(withRays(WARM_BATCHES_PER_WORKER * size * BATCH_RAYS));
+  const scenario = study.scenario;
+  const traceJson = JSON.stringify({ ...scenario, trace: { ...scenario.trace, rays: points * rays } });
+  const warmTrace = (size) => JSON.stringify({ ...scenario, trace: { ...scenario.trace, rays: WARM_BATCHES_PER_WORKER * size * BATCH_RAYS } });
+  const sweep = await timedRuns(null, warmStudy, studyJson, { study: true });
+  const trace = await timedRuns(null, warmTrace, traceJson);
+  const ci = sweep.timed.report.points.filter((p) => p.result).map((p) => p.result.delivered.ci95);
+  return {
+    points,
+    rays_per_point: rays,
+    workers: sweep.size,
+    sweep_ms: Math.round(sweep.timed.elapsedMs),
+    one_trace_ms: Math.round(trace.timed.elapsedMs),
+    sweep_vs_one_trace: Number((sweep.timed.elapsedMs / trace.timed.elapsedMs).toFixed(2)),
+    delivered_ci95_max: Math.max(...ci),
+  };
+}
+
 // ------------------------------------------------------------------ the page
 
 function show(r) {
@@ -124,7 +153,7 @@ async function runFromForm() {
   }
 }
 
-window.tirtraceBench = { measure, TracePool };
+window.tirtraceBench = { measure, measureSweep, TracePool };
 
 const params = new URLSearchParams(location.search);
 if (params.has('scenario')) $('scenario').value = params.get('scenario');

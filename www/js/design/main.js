@@ -18,6 +18,7 @@ import {
 } from './scenario.js';
 import { demoList, demoText, traceWorker } from './sources.js';
 import { StudyPanel } from './study.js';
+import { TolerancePanel } from './tolerance.js';
 
 const UNREADABLE_KEY = 'tirtrace.design.unreadable.v1';
 const KEEP_PATHS = 90;
@@ -85,6 +86,7 @@ function update() {
   const { state } = page;
   saveState(state);
   page.study?.designChanged();
+  page.tolerances?.designChanged();
   $('design-name').textContent = state.scenario.name || 'Untitled design';
   let problems;
   try {
@@ -390,6 +392,14 @@ async function start() {
   page.view = new RouteView($('route-view'));
   page.pool = new TracePool({ onUpdate: onTraceUpdate, ...traceWorker() });
   page.study = new StudyPanel({
+    core,
+    state: page.state,
+    editor: page.editor,
+    onSaved: () => saveState(page.state),
+    openDesign: (scenario, how) => replaceDesign(readScenario(JSON.stringify(scenario)), how),
+    traceWorker: traceWorker(),
+  });
+  page.tolerances = new TolerancePanel({
     core,
     state: page.state,
     editor: page.editor,

@@ -335,9 +335,11 @@ export class TolerancePanel {
     }
     refused.hidden = r.variants_refused === 0;
     const corr = new Map(r.sensitivity.correlation.map((c) => [c.field, c.r]));
+    const anyProblem = r.sensitivity.one_at_a_time.some((o) => o.problems?.length);
     const rows = r.sensitivity.one_at_a_time.map((o, i) => {
       const unit = this.unitOf(o.field);
-      const step = `${showNumber(o.step, o.field, this.state.unit)}${unit ? ` ${unit}` : ''}`;
+      const shownStep = Number(Number(showNumber(o.step, o.field, this.state.unit)).toPrecision(3));
+      const step = `${shownStep}${unit ? ` ${unit}` : ''}`;
       const problems = (o.problems ?? []).map((p) => this.inWords(p)).join(' · ');
       const rr = corr.get(o.field);
       return h(
@@ -355,9 +357,11 @@ export class TolerancePanel {
           dataset: rr == null ? { key: 'r' } : { key: 'r', r: String(rr) },
           text: rr == null ? '—' : rr.toFixed(2).replace('-', '−'),
         }),
-        h('td', { class: 'problem', text: problems }),
+        anyProblem ? h('td', { class: 'problem', text: problems }) : null,
       );
     });
+    const head = ['Number', 'Step (1 σ)', 'Effect of a step, % points ± 95 %', 'Correlation r', anyProblem ? 'Problems' : null];
+    $('tol-ranking-head').replaceChildren(h('tr', {}, head.filter((t) => t !== null).map((t, i) => h('th', { scope: 'col', class: i > 0 && i < 4 ? 'num' : null, text: t }))));
     $('tol-ranking').replaceChildren(...rows);
     $('tol-results').hidden = false;
     this.drawChart();
@@ -366,8 +370,14 @@ export class TolerancePanel {
   drawChart() {
     if (!this.report || $('tol-results').hidden) return;
     const { ratio } = sizeCanvasForCore($(CHART_ID));
+    // The chart names each bar by its field: give it the form's labels (with the field's unit).
+    const labelled = clone(this.report);
+    for (const o of labelled.sensitivity.one_at_a_time) {
+      const unit = this.unitOf(o.field);
+      o.field = `${this.labelOf(o.field)}${unit ? ` (${unit})` : ''}`;
+    }
     try {
-      this.core.draw_tolerance_chart(CHART_ID, this.report, ratio);
+      this.core.draw_tolerance_chart(CHART_ID, labelled, ratio);
     } catch (e) {
       this.message(`The chart could not be drawn: ${messageOf(e)}`, 'error');
     }

@@ -185,6 +185,28 @@ describe('the tolerances panel of the designer', { concurrency: false }, () => {
     assert.match(await page.locator('#tol-msg').innerText(), /^Stopped because the design was edited while it ran/);
   });
 
+  test('variants that cannot be made are counted and named in the form\'s words', async () => {
+    await tracedAfter(page, () => setField(page, '#f-trace-rays', 4096 + 10));
+    const gapLabel = await page.getAttribute(`button.tol-pick[data-tol-path="${GAP}"]`, 'data-tol-label');
+    // The gap (0.3 mm) spread with σ = 0.3 mm: some variants draw a negative gap.
+    await page.selectOption(`#tol-rows select[data-tol-kind="${GAP}"]`, 'normal');
+    await setField(page, widthInput(GAP), '0.3');
+    await setField(page, '#tol-variants', '12');
+    await page.click('#tol-run');
+    await page.waitForSelector('#tolerances[data-state="done"]', { timeout: 120_000 });
+    const native = cliStudy(documentOf(await keptState(page)));
+    assert.ok(native.variants_refused > 0, 'the document refuses some variants');
+    const shown = await readResult(page);
+    assert.equal(shown.refused, native.variants_refused);
+    const text = await page.locator('#tol-refused').innerText();
+    assert.ok(text.startsWith(`${native.variants_refused} of 12 variants could not be made`), text);
+    assert.ok(text.includes(`variant ${native.refused_examples[0].variant + 1}: `), text);
+    assert.ok(text.includes(`“${gapLabel}”`) && !text.includes(GAP), text);
+    await page.selectOption(`#tol-rows select[data-tol-kind="${GAP}"]`, 'uniform');
+    await setField(page, widthInput(GAP), '0.08');
+    await setField(page, '#tol-variants', '40');
+  });
+
   test('a bad σ is named in the form\'s words', async () => {
     await tracedAfter(page, () => setField(page, '#f-trace-rays', 4096 + 10));
     const radiusLabel = await page.getAttribute(`button.tol-pick[data-tol-path="${BEND_RADIUS}"]`, 'data-tol-label');

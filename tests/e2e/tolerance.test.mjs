@@ -145,7 +145,7 @@ describe('the tolerances panel of the designer', { concurrency: false }, () => {
     });
     // In the designer's words: the form's labels, never the paths.
     const top = native.sensitivity.one_at_a_time[0].field === GAP ? gapLabel : radiusLabel;
-    assert.match(shown.text, /^Delivered: nominal [\d.]+ %; 90 % of parts between [\d.]+ % and [\d.]+ % \(5th to 95th percentile over 12 variants\); most influential: /);
+    assert.match(shown.text, /^Delivered: nominal [\d.]+ % ± [\d.]+; 90 % of parts between [\d.]+ % and [\d.]+ % \(5th to 95th percentile over 12 variants, each ± [\d.]+ from ray noise\); most influential: /);
     assert.ok(shown.text.includes(`most influential: ${top} — `), shown.text);
     assert.ok(!shown.text.includes('_mm'), shown.text);
     assert.deepStrictEqual(shown.rows.map((r) => r.label).sort(), [gapLabel, radiusLabel].sort());
@@ -258,6 +258,12 @@ describe('the tolerances panel of the designer', { concurrency: false }, () => {
     await page.setViewportSize({ width: 820, height: 1180 });
     await page.click(`button.tol-pick[data-tol-path="${BEND_RADIUS}"]`);
     await page.click(`button.tol-pick[data-tol-path="${GAP}"]`);
+    // Widths follow the unit shown: 0.05 mm shows as 0.0019685 in.
+    const shows = (v) => page.waitForFunction(([sel, want]) => document.querySelector(sel)?.value === want, [widthInput(GAP), v], { timeout: 5000 });
+    await page.check('input[name="unit"][value="in"]');
+    await shows(String(Number((0.05 / 25.4).toPrecision(5))));
+    await page.check('input[name="unit"][value="mm"]');
+    await shows('0.05');
     await setField(page, '#tol-variants', '20');
     await tracedAfter(page, () => setField(page, '#f-trace-rays', 4096 + 10));
     await page.click('#tol-run');

@@ -301,9 +301,10 @@ export class TolerancePanel {
   /** The result in the designer's words: nominal, the 5–95 % range and the most influential. */
   summary(r) {
     const d = r.delivered;
-    const nominal = `nominal ${formatShare(r.nominal.share, r.nominal.ci95)} %`;
+    const nominal = `nominal ${formatShare(r.nominal.share, r.nominal.ci95)} % ± ${formatShare(r.nominal.ci95, r.nominal.ci95)}`;
+    const noise = Number.isFinite(d?.typical_variant_ci95) ? `, each ± ${formatShare(d.typical_variant_ci95, d.typical_variant_ci95)} from ray noise` : '';
     const range = d
-      ? `90 % of parts between ${formatShare(d.p05, d.typical_variant_ci95)} % and ${formatShare(d.p95, d.typical_variant_ci95)} % (5th to 95th percentile over ${r.variants_traced} variants)`
+      ? `90 % of parts between ${formatShare(d.p05, d.typical_variant_ci95)} % and ${formatShare(d.p95, d.typical_variant_ci95)} % (5th to 95th percentile over ${r.variants_traced} variants${noise})`
       : 'no variant could be traced';
     const top = r.sensitivity.one_at_a_time.find((o) => o.effect);
     const spread = r.spreads.find((s) => s.field === top?.field);
@@ -475,6 +476,14 @@ export class TolerancePanel {
       if (file) await this.openFile(file);
     });
     window.addEventListener('resize', () => this.drawChart());
+    // The length unit shown changed (main.js keeps it in the state): show the widths in it.
+    for (const r of document.querySelectorAll('input[name="unit"]')) {
+      // After main.js's own listener has stored the unit (it listens after this one).
+      r.addEventListener('change', () => setTimeout(() => {
+        this.showSetup();
+        if (this.report) this.showReport();
+      }));
+    }
   }
 
   /**

@@ -122,6 +122,24 @@ fn the_chart_marks_the_nominal_and_percentiles_and_ranks_the_tolerances() {
     assert!(svg.contains("source.offset[0] (mm)"));
     assert!(!svg.contains("source.gap (mm)"));
     assert!(!svg.contains("NaN") && !svg.contains("inf"));
+    // The count axis labels whole numbers only, each once (12 variants: ticks fall between them).
+    let whole: Vec<&str> = svg
+        .split("</text>")
+        .filter_map(|t| t.rsplit('>').next().map(str::trim))
+        .filter(|t| !t.is_empty() && t.chars().all(|c| c.is_ascii_digit()))
+        .collect();
+    assert!(
+        whole.contains(&"0"),
+        "the count axis is labelled: {whole:?}"
+    );
+    let mut unique = whole.clone();
+    unique.sort_unstable();
+    unique.dedup();
+    assert_eq!(
+        unique.len(),
+        whole.len(),
+        "a count labelled twice: {whole:?}"
+    );
     // Nothing traced yet: a message instead of axes.
     let mut empty = report.clone();
     empty.delivered = None;

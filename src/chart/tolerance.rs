@@ -84,7 +84,15 @@ pub fn draw_tolerance_chart<DB: DrawingBackend>(
             ),
             desc_font.clone(),
             label_font.clone(),
-            (&|x| format!("{x:.decimals$}"), &|y| format!("{y:.0}")),
+            // Counts of variants are whole: a tick between two whole numbers gets no label (else
+            // small counts read "0 0 1 1 2 2").
+            (&|x| format!("{x:.decimals$}"), &|y| {
+                if (y - y.round()).abs() < 1e-9 {
+                    format!("{y:.0}")
+                } else {
+                    String::new()
+                }
+            }),
         )?;
         let fill = RGBColor(0xb8, 0xd4, 0xe8);
         // One equal-width bin when every variant delivered the same: a thin bar of its own.

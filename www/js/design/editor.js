@@ -75,11 +75,23 @@ export class Editor {
         title: 'Vary this number in a study',
         text: '⇆',
       });
+    // … and made within a tolerance (the tolerances panel, tolerance.js, listens for these).
+    const tol = vary
+      ? h('button', {
+        type: 'button',
+        class: 'tol-pick',
+        dataset: { tolPath: path, tolLabel: label },
+        'aria-pressed': String(Boolean(this.state.tolerances?.spreads?.some((t) => t.field === path))),
+        'aria-label': `Add a tolerance on “${label}”`,
+        title: 'Add a tolerance on this number',
+        text: '±',
+      })
+      : null;
     return h(
       'div',
       { class: 'field' },
       h('label', { for: id }, label, shownUnit ? h('span', { class: 'unit-label', text: shownUnit }) : null),
-      vary ? h('div', { class: 'with-vary' }, input, vary) : input,
+      vary ? h('div', { class: 'with-vary' }, input, vary, tol) : input,
       hint ? h('p', { class: 'hint', id: `${id}-hint`, text: hint }) : null,
       this.msgEl(path),
     );

@@ -19,6 +19,7 @@ import {
 import { demoList, demoText, traceWorker } from './sources.js';
 import { FindPanel } from './find.js';
 import { StudyPanel } from './study.js';
+import { TolerancePanel } from './tolerance.js';
 
 const UNREADABLE_KEY = 'tirtrace.design.unreadable.v1';
 const KEEP_PATHS = 90;
@@ -87,6 +88,7 @@ function update() {
   saveState(state);
   page.study?.designChanged();
   page.find?.designChanged();
+  page.tolerances?.designChanged();
   $('design-name').textContent = state.scenario.name || 'Untitled design';
   let problems;
   try {
@@ -400,6 +402,14 @@ async function start() {
     traceWorker: traceWorker(),
   });
   page.find = new FindPanel({ core, state: page.state, study: page.study, onSaved: () => saveState(page.state) });
+  page.tolerances = new TolerancePanel({
+    core,
+    state: page.state,
+    editor: page.editor,
+    onSaved: () => saveState(page.state),
+    openDesign: (scenario, how) => replaceDesign(readScenario(JSON.stringify(scenario)), how),
+    traceWorker: traceWorker(),
+  });
   wireToolbar();
   loadDemos();
   try {

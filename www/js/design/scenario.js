@@ -94,9 +94,9 @@ export const toStored = (x, path, unit) => (unit === 'in' && isLength(path) ? x 
 // ---------------------------------------------------------------- the page state
 
 /**
- * `{ scenario, drafts, unit, study? }`: `drafts` maps a field path to the text typed there when it
+ * `{ scenario, drafts, unit, study?, tolerances? }`: `drafts` maps a field path to the text typed there when it
  * is not (yet) a number, so it survives a reload; `unit` is 'mm' or 'in'; `study` the study panel's
- * set-up (see study.js), absent until one is made.
+ * set-up (see study.js), absent until one is made; `tolerances` the tolerances panel's (tolerance.js).
  */
 export function freshState(scenario = STARTER) {
   return { scenario: clone(scenario), drafts: {}, unit: 'mm' };
@@ -115,6 +115,8 @@ export function loadState() {
       // The search set up beside it and the panel's mode (find.js), when there are.
       ...(saved.find && typeof saved.find === 'object' ? { find: saved.find } : {}),
       ...(saved.findMode === 'find' ? { findMode: 'find' } : {}),
+      // The tolerances set up beside the design (tolerance.js), when there are some.
+      ...(saved.tolerances && Array.isArray(saved.tolerances.spreads) ? { tolerances: saved.tolerances } : {}),
     };
   }
   return null;

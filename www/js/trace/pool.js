@@ -16,7 +16,8 @@
 //   await pool.ready();
 //   const job = pool.start(scenarioJsonText);   // a new start() replaces the running job
 //   (new TracePool({ study: true, … }) traces study documents instead: the sweep's report of
-//   every point, as `tirtrace study` prints it, in place of a trace report)
+//   every point, as `tirtrace study` prints it, in place of a trace report; with tolerance: true,
+//   tolerance studies: the tolerance report in its place)
 //   pool.cancel();                               // or wait for the update with done: true
 //
 // onUpdate(u) gets, on the main thread:
@@ -48,6 +49,7 @@ export class TracePool {
   #workerUrl;
   #workerType;
   #study;
+  #tolerance;
   /** Tracing workers: { worker, alive, loaded, job (id whose scenario it holds), busy }. */
   #tracers = [];
   /** The merging worker, same shape. */
@@ -63,9 +65,10 @@ export class TracePool {
    * workerUrl: the worker script (default: ./worker.js beside this module; tests replace it);
    * workerType: 'module' (default) or 'classic' (a script that imports the modules itself, as the
    * single-file build's does: a file:// page may not start a module worker from a blob: URL);
-   * study: true to trace study documents (sweeps) rather than scenarios.
+   * study: true to trace study documents (sweeps) rather than scenarios;
+   * tolerance: true to trace tolerance studies (study documents with `tolerances`).
    */
-  constructor({ size, onUpdate, workerUrl, workerType = 'module', study = false } = {}) {
+  constructor({ size, onUpdate, workerUrl, workerType = 'module', study = false, tolerance = false } = {}) {
     const n = size ?? defaultSize();
     if (!Number.isInteger(n) || n < 1 || n > MAX_WORKERS) {
       throw new RangeError(`TracePool size must be a whole number from 1 to ${MAX_WORKERS}, got ${size}`);
@@ -79,6 +82,7 @@ export class TracePool {
     this.#workerUrl = workerUrl ?? new URL('./worker.js', import.meta.url);
     this.#workerType = workerType;
     this.#study = study === true;
+    this.#tolerance = tolerance === true;
     for (let i = 0; i < n; i += 1) this.#tracers.push(this.#spawn());
     this.#merger = this.#spawn();
     for (const t of this.#tracers) this.#connect(t);
@@ -124,7 +128,7 @@ export class TracePool {
     });
     for (const w of [...this.#tracers, this.#merger]) {
       w.job = null;
-      w.worker.postMessage({ type: 'job', job: job.id, scenario, study: this.#study });
+      w.worker.postMessage({ type: 'job', job: job.id, scenario, study: this.#study, tolerance: this.#tolerance });
     }
     // A worker that could not even be created sends no events: say so (after start() returns).
     if (!this.#merger.alive || this.#tracers.every((t) => !t.alive)) {

@@ -7,8 +7,10 @@
 //
 // From the pool (all but `job` and `connect` are ignored unless they name the job loaded):
 //   { type: 'connect', role: 'to-merger' | 'from-tracer', port }   a channel between the roles
-//   { type: 'job', job, scenario, study }    load a scenario (JSON text) for job `job`; with
-//                                            study: true, a study document (a sweep: StudyTracer)
+//   { type: 'job', job, scenario, study, tolerance }   load a scenario (JSON text) for job `job`;
+//                                            with study: true, a study document (a sweep:
+//                                            StudyTracer); with tolerance: true, a tolerance
+//                                            study (ToleranceTracer)
 //   { type: 'batch', job, index, keepPaths } trace batch `index`
 //   { type: 'merge', job, count }            report batches 0..count-1 merged in batch order
 //                                            (waits for batches still on their way)
@@ -24,11 +26,18 @@
 import { loadCore } from '../core.js';
 import { messageOf } from '../errors.js';
 
-/** The core's Tracer and StudyTracer classes, once the core has loaded. */
+/** The core's Tracer, StudyTracer and ToleranceTracer classes, once the core has loaded. */
 let Tracer = null;
 let StudyTracer = null;
-/** The job loaded: its id, its scenario (or study) text, whether it is a study, and its tracer. */
-const loaded = { job: null, scenario: null, study: false, tracer: null };
+let ToleranceTracer = null;
+/**
+ * The job loaded: its id, its scenario (or study) text, its kind ('scenario', 'study' or
+ * 'tolerance') and its tracer.
+ */
+const loaded = { job: null, scenario: null, kind: 'scenario', tracer: null };
+
+/** The tracer class of a job's kind. */
+const tracerOf = (kind) => ({ study: StudyTracer, tolerance: ToleranceTracer })[kind] ?? Tracer;
 /** Tracing role: the channel to the merging worker. */
 let mergerPort = null;
 /** Merging role: batches received, by job then batch index; jobs below `openFrom` are over. */
@@ -37,24 +46,24 @@ let openFrom = 0;
 /** Merging role: the merge asked for, run once its batches are all in. */
 let pending = null;
 
-function loadJob(job, scenario, study) {
+function loadJob(job, scenario, kind) {
   openFrom = Math.max(openFrom, job);
   for (const j of kept.keys()) if (j < job) kept.delete(j);
   if (pending && pending.job < job) pending = null;
   loaded.job = null;
   // A Tracer holds no trace state, so the same scenario again (a restart) keeps it.
-  if (loaded.tracer === null || loaded.scenario !== scenario || loaded.study !== study) {
+  if (loaded.tracer === null || loaded.scenario !== scenario || loaded.kind !== kind) {
     loaded.tracer?.free();
     loaded.tracer = null;
     loaded.scenario = null;
     try {
-      loaded.tracer = study ? new StudyTracer(scenario) : new Tracer(scenario);
+      loaded.tracer = new (tracerOf(kind))(scenario);
     } catch (e) {
       postMessage({ type: 'job-error', job, message: messageOf(e) });
       return;
     }
     loaded.scenario = scenario;
-    loaded.study = study;
+    loaded.kind = kind;
   }
   loaded.job = job;
   loaded.tracer.merger_reset();
@@ -88,9 +97,13 @@ function traceBatch(job, index, keepPaths) {
   postMessage({ type: 'batch', job, index, rays: raysOf(batch) });
 }
 
-/** The rays of a traced batch: a scenario's, or a sweep's (those of each traced point). */
+/**
+ * The rays of a traced batch: a scenario's, a sweep's (those of each traced point) or a tolerance
+ * study's (those of the nominal, the same at every variant).
+ */
 function raysOf(batch) {
   if (batch.rays !== undefined) return batch.rays;
+  if (batch.nominal?.n !== undefined) return batch.nominal.n;
   return batch.batches?.find((b) => b !== null)?.rays ?? 0;
 }
 
@@ -140,7 +153,7 @@ function handle(msg) {
       }
       return;
     case 'job':
-      loadJob(msg.job, msg.scenario, msg.study === true);
+      loadJob(msg.job, msg.scenario, msg.tolerance === true ? 'tolerance' : msg.study === true ? 'study' : 'scenario');
       return;
     case 'add':
       keep(msg.job, msg.index, msg.batch);
@@ -176,6 +189,7 @@ let queue = loadCore().then(
   (core) => {
     Tracer = core.Tracer;
     StudyTracer = core.StudyTracer;
+    ToleranceTracer = core.ToleranceTracer;
     postMessage({ type: 'ready' });
   },
   (e) => {

@@ -418,7 +418,7 @@ impl Sweep {
     pub fn trace_all_parallel(
         &self,
         threads: usize,
-        mut progress: impl FnMut(u64),
+        progress: impl FnMut(u64),
     ) -> Result<SweepBatch, RunError> {
         use rayon::prelude::*;
         let pool = rayon::ThreadPoolBuilder::new()
@@ -431,25 +431,12 @@ impl Sweep {
         // slowest batch of a chunk before the in-order merge.
         let per_chunk = (8000 / self.points.len().max(1)).max(1) as u64;
         let chunk = (8 * pool.current_num_threads() as u64).clamp(1, per_chunk);
-        let mut total: Option<SweepBatch> = None;
-        let mut first = 0;
-        while first < self.batch_count() {
-            let end = (first + chunk).min(self.batch_count());
-            let batches: Vec<SweepBatch> = pool.install(|| {
-                (first..end)
-                    .into_par_iter()
-                    .map(|b| self.trace_batch(b))
-                    .collect()
-            });
-            for b in batches {
-                match &mut total {
-                    None => total = Some(b),
-                    Some(t) => t.merge(&b),
-                }
-            }
-            progress(end);
-            first = end;
-        }
+        let total = crate::trace::fold_in_order(
+            self.batch_count(),
+            chunk,
+            |range| pool.install(|| range.into_par_iter().map(|b| self.trace_batch(b)).collect()),
+            progress,
+        );
         // A study has at least one ray, so at least one batch.
         Ok(total.unwrap_or_else(|| self.trace_batch(0)))
     }

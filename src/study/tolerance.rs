@@ -622,7 +622,7 @@ impl Tolerance {
     pub fn trace_all_parallel(
         &self,
         threads: usize,
-        mut progress: impl FnMut(u64),
+        progress: impl FnMut(u64),
     ) -> Result<ToleranceBatch, RunError> {
         use rayon::prelude::*;
         let pool = rayon::ThreadPoolBuilder::new()
@@ -631,37 +631,32 @@ impl Tolerance {
             .map_err(|e| RunError::ThreadPool(e.to_string()))?;
         let chunk = (pool.current_num_threads() as u64).clamp(1, 64);
         let units = self.unit_count();
-        let mut total: Option<ToleranceBatch> = None;
-        let mut first = 0;
-        while first < self.batch_count() {
-            let end = (first + chunk).min(self.batch_count());
-            let batches: Vec<ToleranceBatch> = pool.install(|| {
-                let nominals: Vec<(Vec<f64>, Estimate)> = (first..end)
-                    .into_par_iter()
-                    .map(|b| self.nominal_batch(b))
-                    .collect();
-                let results: Vec<[Option<UnitStats>; 2]> = (0..(end - first) as usize * units)
-                    .into_par_iter()
-                    .map(|i| {
-                        let (b, u) = (i / units, i % units);
-                        self.trace_unit(first + b as u64, u, &nominals[b].0)
-                    })
-                    .collect();
-                let mut results = results.into_iter();
-                nominals
-                    .iter()
-                    .map(|(_, e)| self.batch_of(*e, results.by_ref().take(units).collect()))
-                    .collect()
-            });
-            for b in batches {
-                match &mut total {
-                    None => total = Some(b),
-                    Some(t) => t.merge(&b),
-                }
-            }
-            progress(end);
-            first = end;
-        }
+        let total = crate::trace::fold_in_order(
+            self.batch_count(),
+            chunk,
+            |range| {
+                let (first, end) = (range.start, range.end);
+                pool.install(|| {
+                    let nominals: Vec<(Vec<f64>, Estimate)> = (first..end)
+                        .into_par_iter()
+                        .map(|b| self.nominal_batch(b))
+                        .collect();
+                    let results: Vec<[Option<UnitStats>; 2]> = (0..(end - first) as usize * units)
+                        .into_par_iter()
+                        .map(|i| {
+                            let (b, u) = (i / units, i % units);
+                            self.trace_unit(first + b as u64, u, &nominals[b].0)
+                        })
+                        .collect();
+                    let mut results = results.into_iter();
+                    nominals
+                        .iter()
+                        .map(|(_, e)| self.batch_of(*e, results.by_ref().take(units).collect()))
+                        .collect()
+                })
+            },
+            progress,
+        );
         Ok(total.unwrap_or_else(|| self.trace_batch(0)))
     }
 }

@@ -206,6 +206,33 @@ pub trait MergeInOrder {
     fn merge_next(&mut self, next: &Self);
 }
 
+/// Fold batches `0 .. count` in batch order, chunk by chunk: `trace_chunk(first..end)` returns
+/// the chunk's batches in batch order (traced however it likes, e.g. in parallel), each folded
+/// into the total as it comes, then `progress(end)`. The result is the serial fold's bit for bit,
+/// whatever the chunk size; `None` when `count` is 0.
+pub fn fold_in_order<B: MergeInOrder>(
+    count: u64,
+    chunk: u64,
+    mut trace_chunk: impl FnMut(std::ops::Range<u64>) -> Vec<B>,
+    mut progress: impl FnMut(u64),
+) -> Option<B> {
+    let chunk = chunk.max(1);
+    let mut total: Option<B> = None;
+    let mut first = 0;
+    while first < count {
+        let end = (first + chunk).min(count);
+        for b in trace_chunk(first..end) {
+            match &mut total {
+                None => total = Some(b),
+                Some(t) => t.merge_next(&b),
+            }
+        }
+        progress(end);
+        first = end;
+    }
+    total
+}
+
 impl MergeInOrder for Batch {
     fn merge_next(&mut self, next: &Batch) {
         self.merge(next);

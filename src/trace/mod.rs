@@ -29,7 +29,7 @@ mod walk;
 
 pub use crate::scenario::SegmentKind;
 use batch::same_bins;
-pub use batch::{Batch, BatchTallies, Hist, MergeInOrder, PrefixMerger};
+pub use batch::{fold_in_order, Batch, BatchTallies, Hist, MergeInOrder, PrefixMerger};
 use ledger::Ledger;
 pub(crate) use names::Named;
 pub use names::{FluxUnit, IntensityUnit};

@@ -57,16 +57,7 @@ impl Sweep {
     /// rays and seed used; it is kept in the piece). Fails, for people, when k is not
     /// 1 … n.
     pub fn piece(&self, study: &Value, k: u64, n: u64) -> Result<Piece, String> {
-        check_k_of_n(k, n)?;
-        let range = piece_range(k, n, self.batch_count());
-        Ok(Piece {
-            piece_version: PIECE_VERSION,
-            study: study.clone(),
-            piece: k,
-            pieces: n,
-            first_batch: range.start,
-            batches: each_batch(range, |b| self.trace_batch(b)),
-        })
+        trace_piece(study, k, n, self.batch_count(), |b| self.trace_batch(b))
     }
 
     /// Merge pieces (`names` label them in messages, one per piece) of this sweep, traced for
@@ -89,16 +80,7 @@ impl Tolerance {
     /// with the rays and seed used; it is kept in the piece). Fails, for people, when k is not
     /// 1 … n.
     pub fn piece(&self, study: &Value, k: u64, n: u64) -> Result<TolerancePiece, String> {
-        check_k_of_n(k, n)?;
-        let range = piece_range(k, n, self.batch_count());
-        Ok(Piece {
-            piece_version: PIECE_VERSION,
-            study: study.clone(),
-            piece: k,
-            pieces: n,
-            first_batch: range.start,
-            batches: each_batch(range, |b| self.trace_batch(b)),
-        })
+        trace_piece(study, k, n, self.batch_count(), |b| self.trace_batch(b))
     }
 
     /// Merge pieces of this tolerance study in batch order: the single run's result bit for
@@ -111,6 +93,26 @@ impl Tolerance {
     ) -> Result<ToleranceBatch, String> {
         merge(study, pieces, names, self.batch_count(), |b| self.fits(b))
     }
+}
+
+/// Piece `k` of `n` of a study of `batches` batches, each traced by `trace`.
+fn trace_piece<B: Send>(
+    study: &Value,
+    k: u64,
+    n: u64,
+    batches: u64,
+    trace: impl Fn(u64) -> B + Sync + Send,
+) -> Result<Piece<B>, String> {
+    check_k_of_n(k, n)?;
+    let range = piece_range(k, n, batches);
+    Ok(Piece {
+        piece_version: PIECE_VERSION,
+        study: study.clone(),
+        piece: k,
+        pieces: n,
+        first_batch: range.start,
+        batches: each_batch(range, trace),
+    })
 }
 
 /// Whether `k/n` names a piece: 1 ≤ k ≤ n.

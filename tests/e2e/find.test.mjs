@@ -7,60 +7,26 @@
 // Before: cargo build; bash scripts/build.sh; npm ci --prefix tests/e2e. Run: node --test tests/e2e/
 
 import assert from 'node:assert/strict';
-import { existsSync, mkdirSync, rmSync, writeFileSync } from 'node:fs';
-import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { after, before, describe, test } from 'node:test';
 
-import { chromium } from 'playwright-core';
-
-import { STATE_KEY, inkShare, tracedAfter } from './design-helpers.mjs';
-import { CHROMIUM, CHROMIUM_ARGS, CLI, OUT, WWW, cli, collectErrors, startServer, stopServer } from './harness.mjs';
+import { inkShare, tracedAfter } from './design-helpers.mjs';
+import { OUT } from './harness.mjs';
+import { cliStudy, closeDesigner, keptState, openDesigner, setField } from './study-helpers.mjs';
 
 const BEND_RADIUS = 'route[1].bend.radius_mm';
 
-function cliStudy(study) {
-  const file = join(tmpdir(), `tirtrace-e2e-find-${process.pid}-${Date.now()}.json`);
-  writeFileSync(file, JSON.stringify(study));
-  try {
-    return JSON.parse(cli(['study', file, '--threads', '2']));
-  } finally {
-    rmSync(file, { force: true });
-  }
-}
-
-const keptState = (page) => page.evaluate((k) => JSON.parse(localStorage.getItem(k)), STATE_KEY);
-
-async function setField(page, selector, value) {
-  await page.fill(selector, String(value));
-  await page.locator(selector).dispatchEvent('change');
-}
-
 describe('find the limit in the study panel', { concurrency: false }, () => {
-  let server;
-  let browser;
+  let designer;
   let page;
-  const consoleErrors = [];
+  let consoleErrors = [];
 
   before(async () => {
-    assert.ok(existsSync(join(WWW, 'pkg', 'tirtrace.js')), 'www/pkg is missing: run `bash scripts/build.sh` first');
-    assert.ok(existsSync(CLI), 'target/debug/tirtrace is missing: run `cargo build` first');
-    mkdirSync(OUT, { recursive: true });
-    server = await startServer();
-    browser = await chromium.launch({ executablePath: CHROMIUM, args: CHROMIUM_ARGS });
-    const context = await browser.newContext({ viewport: { width: 1280, height: 800 } });
-    page = await context.newPage();
-    collectErrors(page, consoleErrors);
-    await page.goto(`${server.origin}/`);
-    await page.waitForSelector('body[data-ready="true"]', { timeout: 30_000 });
-    await page.waitForFunction(() => Number(document.body.dataset.traced || 0) > 0, null, { timeout: 60_000 });
-    await tracedAfter(page, () => setField(page, '#f-trace-rays', 4096 + 10));
+    designer = await openDesigner({ rays: 4106 });
+    ({ page, errors: consoleErrors } = designer);
   });
 
-  after(async () => {
-    await browser?.close();
-    await stopServer(server?.child);
-  });
+  after(() => closeDesigner(designer));
 
   test('the smallest radius for 1 % leak equals tirtrace study on the same document', async () => {
     await page.locator(`button.vary-pick[data-vary-path="${BEND_RADIUS}"]`).click();

@@ -8,28 +8,12 @@
 // Before: cargo build; bash scripts/build.sh; npm ci --prefix tests/e2e. Run: node --test tests/e2e/
 
 import assert from 'node:assert/strict';
-import { existsSync, mkdirSync, rmSync, writeFileSync } from 'node:fs';
-import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { after, before, describe, test } from 'node:test';
 
-import { chromium } from 'playwright-core';
-
-import { STATE_KEY, assertNoJunk, tracedAfter } from './design-helpers.mjs';
-import { CHROMIUM, CHROMIUM_ARGS, CLI, OUT, WWW, cli, collectErrors, startServer, stopServer } from './harness.mjs';
-
-/** `tirtrace study` on a study document (an object). */
-function cliStudy(study) {
-  const file = join(tmpdir(), `tirtrace-e2e-choices-${process.pid}-${Date.now()}.json`);
-  writeFileSync(file, JSON.stringify(study));
-  try {
-    return JSON.parse(cli(['study', file, '--threads', '2']));
-  } finally {
-    rmSync(file, { force: true });
-  }
-}
-
-const keptState = (page) => page.evaluate((k) => JSON.parse(localStorage.getItem(k)), STATE_KEY);
+import { assertNoJunk, tracedAfter } from './design-helpers.mjs';
+import { OUT } from './harness.mjs';
+import { cliStudy, closeDesigner, keptState, openDesigner, setField } from './study-helpers.mjs';
 
 /** Each row's delivered share and ci95 (null when refused) and its shown value. */
 function readRows(page) {
@@ -44,37 +28,17 @@ function readRows(page) {
   }));
 }
 
-async function setField(page, selector, value) {
-  await page.fill(selector, String(value));
-  await page.locator(selector).dispatchEvent('change');
-}
-
 describe('the study panel: materials, every bend, edits', { concurrency: false }, () => {
-  let server;
-  let browser;
-  let context;
+  let designer;
   let page;
-  const consoleErrors = [];
+  let consoleErrors = [];
 
   before(async () => {
-    assert.ok(existsSync(join(WWW, 'pkg', 'tirtrace.js')), 'www/pkg is missing: run `bash scripts/build.sh` first');
-    assert.ok(existsSync(CLI), 'target/debug/tirtrace is missing: run `cargo build` first');
-    mkdirSync(OUT, { recursive: true });
-    server = await startServer();
-    browser = await chromium.launch({ executablePath: CHROMIUM, args: CHROMIUM_ARGS });
-    context = await browser.newContext({ viewport: { width: 1280, height: 800 } });
-    page = await context.newPage();
-    collectErrors(page, consoleErrors);
-    await page.goto(`${server.origin}/`);
-    await page.waitForSelector('body[data-ready="true"]', { timeout: 30_000 });
-    await page.waitForFunction(() => Number(document.body.dataset.traced || 0) > 0, null, { timeout: 60_000 });
-    await tracedAfter(page, () => setField(page, '#f-trace-rays', 2 * 4096 + 10));
+    designer = await openDesigner({ rays: 8202 });
+    ({ page, errors: consoleErrors } = designer);
   });
 
-  after(async () => {
-    await browser?.close();
-    await stopServer(server?.child);
-  });
+  after(() => closeDesigner(designer));
 
   test('the pipe material compared from ⇆ beside its list equals tirtrace study', async () => {
     await page.click('button.vary-pick[data-vary-path="guide.material.library"]');

@@ -9,32 +9,16 @@
 // Before: cargo build; bash scripts/build.sh; npm ci --prefix tests/e2e. Run: node --test tests/e2e/
 
 import assert from 'node:assert/strict';
-import { existsSync, mkdirSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
-import { tmpdir } from 'node:os';
+import { readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { after, before, describe, test } from 'node:test';
 
-import { chromium } from 'playwright-core';
-
-import { STATE_KEY, assertNoJunk, inkShare, tracedAfter } from './design-helpers.mjs';
-import { CHROMIUM, CHROMIUM_ARGS, CLI, OUT, WWW, cli, collectErrors, startServer, stopServer } from './harness.mjs';
+import { assertNoJunk, inkShare, tracedAfter } from './design-helpers.mjs';
+import { OUT, cli } from './harness.mjs';
+import { cliStudy, closeDesigner, keptState, openDesigner, setField } from './study-helpers.mjs';
 
 const BEND_RADIUS = 'route[1].bend.radius_mm';
 const GAP = 'source.gap_mm';
-
-/** `tirtrace study` on a study document (an object). */
-function cliStudy(study) {
-  const file = join(tmpdir(), `tirtrace-e2e-tol-${process.pid}-${Date.now()}.json`);
-  writeFileSync(file, JSON.stringify(study));
-  try {
-    return JSON.parse(cli(['study', file, '--threads', '2']));
-  } finally {
-    rmSync(file, { force: true });
-  }
-}
-
-/** The page's kept state (design and set-ups). */
-const keptState = (page) => page.evaluate((k) => JSON.parse(localStorage.getItem(k)), STATE_KEY);
 
 /** The result as the panel shows it: the summary's numbers and the ranking table's. */
 function readResult(page) {
@@ -63,11 +47,6 @@ function readResult(page) {
   });
 }
 
-async function setField(page, selector, value) {
-  await page.fill(selector, String(value));
-  await page.locator(selector).dispatchEvent('change');
-}
-
 const widthInput = (path) => `#tol-rows input[data-tol-path="${path}"]`;
 
 /** The study document of the page's kept state, as the panel builds it. */
@@ -77,32 +56,16 @@ function documentOf(state) {
 }
 
 describe('the tolerances panel of the designer', { concurrency: false }, () => {
-  let server;
-  let browser;
-  let context;
+  let designer;
   let page;
-  const consoleErrors = [];
+  let consoleErrors = [];
 
   before(async () => {
-    assert.ok(existsSync(join(WWW, 'pkg', 'tirtrace.js')), 'www/pkg is missing: run `bash scripts/build.sh` first');
-    assert.ok(existsSync(CLI), 'target/debug/tirtrace is missing: run `cargo build` first');
-    mkdirSync(OUT, { recursive: true });
-    server = await startServer();
-    browser = await chromium.launch({ executablePath: CHROMIUM, args: CHROMIUM_ARGS });
-    context = await browser.newContext({ viewport: { width: 1280, height: 800 }, acceptDownloads: true });
-    page = await context.newPage();
-    collectErrors(page, consoleErrors);
-    await page.goto(`${server.origin}/`);
-    await page.waitForSelector('body[data-ready="true"]', { timeout: 30_000 });
-    await page.waitForFunction(() => Number(document.body.dataset.traced || 0) > 0, null, { timeout: 60_000 });
-    // Few rays: two batches per variant (the last one short).
-    await tracedAfter(page, () => setField(page, '#f-trace-rays', 4096 + 10));
+    designer = await openDesigner({ rays: 4106, acceptDownloads: true });
+    ({ page, errors: consoleErrors } = designer);
   });
 
-  after(async () => {
-    await browser?.close();
-    await stopServer(server?.child);
-  });
+  after(() => closeDesigner(designer));
 
   test('two tolerances from the form give the same numbers as tirtrace study', async () => {
     await page.click(`button.tol-pick[data-tol-path="${BEND_RADIUS}"]`);

@@ -331,10 +331,12 @@ export class FindPanel {
     try {
       this.pool = new TracePool({ find: true, onUpdate, ...this.study.traceWorker });
       await this.pool.ready();
+      $('study').dataset.findTracer = 'workers';
     } catch {
       // No workers here (e.g. a file:// page): trace on the page, more slowly.
       this.pool?.dispose();
       this.pool = new MainThreadPool({ Tracer: this.core.FindValueTracer, find: true, onUpdate });
+      $('study').dataset.findTracer = 'page';
     }
   }
 

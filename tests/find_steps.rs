@@ -5,7 +5,8 @@
 #![cfg(not(target_arch = "wasm32"))]
 
 use serde_json::{json, Value};
-use tirtrace::study::{FindReport, FindSteps, Study};
+use tirtrace::study::{FindBatch, FindReport, FindSteps, Study};
+use tirtrace::trace::PrefixMerger;
 
 fn doc(find: Value, rays: u64) -> String {
     let mut d: Value = serde_json::from_str(
@@ -80,6 +81,105 @@ fn range_with_problems_step_by_step_is_the_one_call_search() {
         1000,
     );
     assert!(r.evaluations.iter().any(|e| !e.problems.is_empty()));
+}
+
+/// Run the search as the page's worker pool does: each value a job of its own ([`Find::at_value`]),
+/// its batches traced in `order` and folded by a [`PrefixMerger`], recorded merged.
+fn merged_per_value(study: &Study, order: fn(u64) -> Vec<u64>) -> FindReport {
+    let find = study.prepare_find().unwrap();
+    let mut steps = FindSteps::new(find.clone());
+    while let Some(x) = steps.next_value() {
+        let value = find.at_value(x).unwrap();
+        assert_eq!(value.value(), x);
+        let count = value.batch_count();
+        let mut merger: PrefixMerger<FindBatch> = PrefixMerger::new();
+        for b in order(count) {
+            let batch = value.trace_batch(b);
+            assert!(value.fits(&batch));
+            merger.add(b, batch.sums);
+        }
+        let merged = *merger.fold_to(count).expect("every batch is in");
+        steps.record_merged(x, &merged).unwrap();
+    }
+    steps.report().unwrap()
+}
+
+#[test]
+fn a_search_recorded_merged_is_the_search_recorded_batch_by_batch() {
+    let cases = [
+        (
+            json!({ "smallest": "route[1].bend.radius_mm", "from": 3, "to": 30,
+                    "bend_leak_at_most_percent": 1 }),
+            3 * 4096 + 100,
+        ),
+        (
+            json!({ "largest": "source.offset_mm[0]", "from": 0, "to": 1.2,
+                    "delivered_loss_at_most_percent": 5 }),
+            2 * 4096 + 7,
+        ),
+        (
+            json!({ "smallest": "route[1].bend.radius_mm", "from": 0.5, "to": 30,
+                    "bend_leak_at_most_percent": 1 }),
+            1000,
+        ),
+    ];
+    for (find, rays) in cases {
+        let study = Study::from_json(&doc(find, rays)).unwrap();
+        let (batch_by_batch, _) = stepwise(&study, 1);
+        let in_order = merged_per_value(&study, |n| (0..n).collect());
+        assert_eq!(in_order, batch_by_batch, "{}", batch_by_batch.summary);
+        // Batches arriving last first (as from several workers) fold to the same sums.
+        let reversed = merged_per_value(&study, |n| (0..n).rev().collect());
+        assert_eq!(reversed, batch_by_batch, "{}", batch_by_batch.summary);
+        // Bit for bit: the serialised reports are the same text.
+        assert_eq!(
+            serde_json::to_string(&reversed).unwrap(),
+            serde_json::to_string(&batch_by_batch).unwrap()
+        );
+    }
+}
+
+#[test]
+fn a_batch_of_another_value_or_study_does_not_fit_and_a_part_merge_is_refused() {
+    let leak = |rays: u64| {
+        Study::from_json(&doc(
+            json!({ "smallest": "route[1].bend.radius_mm", "from": 3, "to": 30,
+                    "bend_leak_at_most_percent": 1 }),
+            rays,
+        ))
+        .unwrap()
+        .prepare_find()
+        .unwrap()
+    };
+    let find = leak(2 * 4096);
+    let at_5 = find.at_value(5.0).unwrap();
+    let at_6 = find.at_value(6.0).unwrap();
+    assert!(!at_5.fits(&at_6.trace_batch(0)), "another value");
+    let other = leak(2 * 4096 + 1).at_value(5.0).unwrap();
+    assert!(!at_5.fits(&other.trace_batch(0)), "another study");
+    assert!(
+        leak(2 * 4096)
+            .at_value(5.0)
+            .unwrap()
+            .fits(&at_5.trace_batch(1)),
+        "the same study"
+    );
+    // The scenario's problems at a value: a radius below half the diameter.
+    let problems = find.at_value(1.0).unwrap_err();
+    assert!(
+        problems
+            .iter()
+            .any(|p| p.field.starts_with("scenario.route[1]")),
+        "{problems:?}"
+    );
+
+    let mut steps = FindSteps::new(find.clone());
+    let x = steps.next_value().unwrap();
+    let first = find.at_value(x).unwrap().trace_batch(0).sums;
+    let message = steps.record_merged(x, &first).unwrap_err();
+    assert!(message.contains("all 8192 rays"), "{message}");
+    let message = steps.record_merged(x + 1.0, &first).unwrap_err();
+    assert!(message.contains("asked for"), "{message}");
 }
 
 #[test]

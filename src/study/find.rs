@@ -472,6 +472,100 @@ impl FindBatch {
         self.entered.merge(&o.entered);
         self.leaked.merge(&o.leaked);
     }
+
+    /// Rays in these sums (every batch counts each of its rays once in `delivered`).
+    pub fn rays(&self) -> u64 {
+        self.delivered.n
+    }
+}
+
+/// Batches of one value folded in batch order by the page's merging worker
+/// ([`crate::trace::PrefixMerger`]): the same sums, bit for bit, as [`FindSteps::record`] forms.
+impl crate::trace::MergeInOrder for FindBatch {
+    fn merge_next(&mut self, next: &FindBatch) {
+        self.merge(next);
+    }
+}
+
+/// One value of a search prepared for tracing on its own (a job of the page's worker pool):
+/// its batches are those [`FindSteps::trace_batches`] gives at that value, tagged with the value
+/// and the study so a merge can refuse a batch of another value or study ([`FindValue::fits`]).
+#[derive(Debug, Clone)]
+pub struct FindValue {
+    find: Find,
+    x: f64,
+    at: Prepared,
+    study: u32,
+}
+
+/// A batch traced at one value of a search ([`FindValue::trace_batch`]): the value, a tag of the
+/// study (FNV-1a, 32 bits, of the scenario as read and the search plan) and the batch's sums.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct FindValueBatch {
+    /// The field's value the batch was traced at.
+    pub value: f64,
+    /// Tag of the study the batch belongs to.
+    pub study: u32,
+    /// The batch's sums.
+    pub sums: FindBatch,
+}
+
+impl Find {
+    /// Prepare the value `x` for tracing on its own; fails with the scenario's problems at `x`
+    /// (fields are paths in the study document).
+    pub fn at_value(&self, x: f64) -> Result<FindValue, Vec<Problem>> {
+        let at = prepare_at(&self.base, &self.plan.field, x)?;
+        Ok(FindValue {
+            find: self.clone(),
+            x,
+            at,
+            study: self.tag(),
+        })
+    }
+
+    /// FNV-1a (32 bits) of the scenario as read, the searched field, the range and the
+    /// criterion: equal for two preparations of the same study document.
+    fn tag(&self) -> u32 {
+        let text = format!(
+            "{}|{}|{:?}|{}|{}|{:?}",
+            self.base,
+            self.plan.field.text,
+            self.plan.direction,
+            self.plan.from.to_bits(),
+            self.plan.to.to_bits(),
+            self.plan.criterion
+        );
+        text.bytes().fold(0x811c_9dc5_u32, |h, b| {
+            (h ^ u32::from(b)).wrapping_mul(0x0100_0193)
+        })
+    }
+}
+
+impl FindValue {
+    /// The value traced.
+    pub fn value(&self) -> f64 {
+        self.x
+    }
+
+    /// Batches of the value.
+    pub fn batch_count(&self) -> u64 {
+        self.find.batch_count()
+    }
+
+    /// Trace batch `index` at the value (the same sums as [`FindSteps::trace_batches`]).
+    pub fn trace_batch(&self, index: u64) -> FindValueBatch {
+        FindValueBatch {
+            value: self.x,
+            study: self.study,
+            sums: self.find.trace_batch(&self.at, index),
+        }
+    }
+
+    /// Whether `batch` was traced at this value of this study (compared bit for bit).
+    pub fn fits(&self, batch: &FindValueBatch) -> bool {
+        batch.value.to_bits() == self.x.to_bits() && batch.study == self.study
+    }
 }
 
 /// Read a scenario document with the field set to `x` (with `[*]`, every number it names
@@ -1034,19 +1128,7 @@ impl FindSteps {
     /// Record the value `x` [`FindSteps::next_value`] asked for from all its batches, given in
     /// batch order (merged in that order).
     pub fn record(&mut self, x: f64, batches: &[FindBatch]) -> Result<(), String> {
-        match self.pending {
-            Some(p) if p == x => {}
-            Some(p) => {
-                return Err(format!(
-                    "value must be the one the search asked for ({p}), got {x}"
-                ))
-            }
-            None => {
-                return Err(format!(
-                    "value {x} was not asked for: call next_value first (or the search is done)"
-                ))
-            }
-        }
+        self.check_pending(x)?;
         let count = self.batch_count();
         if batches.len() as u64 != count {
             return Err(format!(
@@ -1061,6 +1143,37 @@ impl FindSteps {
         self.known.push(self.find.evaluation(x, &total));
         self.pending = None;
         Ok(())
+    }
+
+    /// Record the value `x` [`FindSteps::next_value`] asked for from all its batches already
+    /// merged in batch order (a [`crate::trace::PrefixMerger`] of batches `0..batch_count`, as
+    /// the page's merging worker forms them): the same evaluation, bit for bit, as
+    /// [`FindSteps::record`] with the batches themselves.
+    pub fn record_merged(&mut self, x: f64, merged: &FindBatch) -> Result<(), String> {
+        self.check_pending(x)?;
+        let rays = self.find.rays;
+        if merged.rays() != rays {
+            return Err(format!(
+                "the merged batches must hold all {rays} rays of the value, got {}",
+                merged.rays()
+            ));
+        }
+        self.known.push(self.find.evaluation(x, merged));
+        self.pending = None;
+        Ok(())
+    }
+
+    /// `x` must be the value [`FindSteps::next_value`] asked for.
+    fn check_pending(&self, x: f64) -> Result<(), String> {
+        match self.pending {
+            Some(p) if p == x => Ok(()),
+            Some(p) => Err(format!(
+                "value must be the one the search asked for ({p}), got {x}"
+            )),
+            None => Err(format!(
+                "value {x} was not asked for: call next_value first (or the search is done)"
+            )),
+        }
     }
 
     /// Values evaluated so far (traced or refused), in the order the search asked for them.

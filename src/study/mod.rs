@@ -37,7 +37,7 @@ use serde_json::Value;
 use crate::limits::{FieldErrors, FIELD_PATH_CHARS, SWEEP_POINTS, SWEEP_STEPS};
 use crate::problems::{read_scenario, Problem};
 use crate::scenario::Scenario;
-pub use find::{Find, FindBatch, FindPlan, FindReport, FindSteps};
+pub use find::{Find, FindBatch, FindPlan, FindReport, FindSteps, FindValue, FindValueBatch};
 pub use path::FieldPath;
 pub use sweep::{PointReport, PointResult, Sweep, SweepBatch, SweepReport};
 use tolerance::ToleranceDocument;

@@ -756,6 +756,16 @@ impl StudyFinder {
         self.steps.record(x, &list).map_err(|m| JsError::new(&m))
     }
 
+    /// Record value `x` (the one `next_value` gave) from all its batches merged in batch order:
+    /// the `report` of a `find: true` pool job (`FindValueTracer.merger_report`).
+    pub fn record_merged(&mut self, x: f64, merged: JsValue) -> Result<(), JsError> {
+        let merged: crate::study::FindBatch = serde_wasm_bindgen::from_value(merged)
+            .map_err(|e| JsError::new(&format!("the merged batches could not be read: {e}")))?;
+        self.steps
+            .record_merged(x, &merged)
+            .map_err(|m| JsError::new(&m))
+    }
+
     /// Values evaluated so far, in the order the search asked for them (for progress).
     pub fn evaluations(&self) -> Result<JsValue, JsError> {
         to_js(&self.steps.evaluations())
@@ -787,5 +797,92 @@ impl StudyFinder {
         self.steps
             .report()
             .map(|r| crate::study::find::report_csv(&r))
+    }
+}
+
+/// One value of a search (`find`) prepared for tracing, kept alive between calls (one per
+/// worker): a job of the page's worker pool (`find: true`), the counterpart of
+/// [`StudyTracer`] for one value of [`StudyFinder`]'s search.
+#[wasm_bindgen]
+pub struct FindValueTracer {
+    value: crate::study::FindValue,
+    merger: crate::trace::PrefixMerger<crate::study::FindBatch>,
+}
+
+#[wasm_bindgen]
+impl FindValueTracer {
+    /// Read a study document with a `find` plan given as JSON text and prepare the searched
+    /// field set to `x`; throws an `Error` with a `problems` list (`[{ field, message }]`, paths
+    /// in the study document) when the search cannot run or the scenario has problems at `x`.
+    #[wasm_bindgen(constructor)]
+    pub fn new(study_json: &str, x: f64) -> Result<FindValueTracer, JsValue> {
+        let study = crate::study::Study::from_json(study_json).map_err(|p| problems_thrown(&p))?;
+        let find = study.prepare_find().map_err(|p| problems_thrown(&p))?;
+        let value = find.at_value(x).map_err(|p| problems_thrown(&p))?;
+        Ok(FindValueTracer {
+            value,
+            merger: crate::trace::PrefixMerger::new(),
+        })
+    }
+
+    /// Batches of the value.
+    pub fn batch_count(&self) -> f64 {
+        self.value.batch_count() as f64
+    }
+
+    /// Trace batches `first .. first + count` at the value and return them one by one (plain
+    /// objects `{ value, study, sums }` a worker can post back).
+    pub fn batches(&self, first: f64, count: f64) -> Result<JsValue, JsError> {
+        let (first, end) = batch_range(self.value.batch_count(), first, count)?;
+        let list: Vec<crate::study::FindValueBatch> =
+            (first..end).map(|b| self.value.trace_batch(b)).collect();
+        to_js(&list)
+    }
+
+    /// Keep batch `index` (a plain object from [`FindValueTracer::batches`]) for the running
+    /// merge; refuses a batch of another study or value.
+    pub fn merger_add(&mut self, index: f64, batch: JsValue) -> Result<(), JsError> {
+        if !(index.is_finite() && index >= 0.0 && index.fract() == 0.0) {
+            return Err(JsError::new(&format!(
+                "index must be a whole batch index ≥ 0, got {index}"
+            )));
+        }
+        let batch: crate::study::FindValueBatch = serde_wasm_bindgen::from_value(batch)
+            .map_err(|e| JsError::new(&format!("the batch could not be read: {e}")))?;
+        if !self.value.fits(&batch) {
+            return Err(JsError::new(&format!(
+                "the batch comes from a different study or value (traced at {}, this is {})",
+                batch.value,
+                self.value.value()
+            )));
+        }
+        self.merger.add(index as u64, batch.sums);
+        Ok(())
+    }
+
+    /// The batches `0 .. count` folded in order (a plain object for
+    /// `StudyFinder.record_merged`), or `null` while one of them has not been added yet. Counts
+    /// must not decrease between calls (until `merger_reset`).
+    pub fn merger_report(&mut self, count: f64) -> Result<JsValue, JsError> {
+        if !(count.is_finite() && count >= 1.0 && count.fract() == 0.0) {
+            return Err(JsError::new(&format!(
+                "count must be a whole number of batches ≥ 1, got {count}"
+            )));
+        }
+        if (count as u64) < self.merger.folded() {
+            return Err(JsError::new(&format!(
+                "count must not go below the {} batches already merged, got {count}",
+                self.merger.folded()
+            )));
+        }
+        match self.merger.fold_to(count as u64) {
+            Some(total) => to_js(total),
+            None => Ok(JsValue::NULL),
+        }
+    }
+
+    /// Forget the running merge (a new job with the same value).
+    pub fn merger_reset(&mut self) {
+        self.merger = crate::trace::PrefixMerger::new();
     }
 }

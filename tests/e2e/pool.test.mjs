@@ -11,7 +11,8 @@
 // come progressively (and an intermediate report equals a native run of that many rays); cancel
 // stops a job; a new start() replaces the running job; a bad scenario gives the core's message
 // naming the field; a worker that crashes or cannot start gives an error, not a hang; no request
-// leaves the origin and nothing is logged as an error.
+// leaves the origin and nothing is logged as an error; a search's values traced as jobs of a
+// find: true pool (and on the page) give `tirtrace study`'s report.
 
 import assert from 'node:assert/strict';
 import { spawnSync } from 'node:child_process';
@@ -223,6 +224,66 @@ describe('tracing in Web Workers (www/js/trace/pool.js) in Chromium', { concurre
       return { early, type: last.type, rays: last.report?.rays ?? null, message: last.message ?? null };
     });
     assert.deepEqual(got, { early: [], type: 'report', rays: 2 * 4096, message: null });
+  });
+
+  test('a search traced value by value in a find: true pool (and on the page) gives tirtrace study\'s report', async () => {
+    const study = JSON.parse(readFileSync(join(ROOT, 'examples', 'studies', 'thermostat_smallest_bend.json'), 'utf8'));
+    const rays = 2 * BATCH_RAYS + 50;
+    study.scenario.trace = { ...study.scenario.trace, rays, seed: 3 };
+    const text = JSON.stringify(study);
+    const native = JSON.parse(cli(['study', '-', '--threads', '2'], text));
+    const r = await page.evaluate(async ({ text }) => {
+      const core = await import(new URL('js/core.js', location.href).href).then((m) => m.loadCore());
+      const { MainThreadPool } = await import(new URL('js/trace/main-thread-pool.js', location.href).href);
+      const { TracePool } = window.tirtraceBench;
+      const search = async (pool, listen) => {
+        const finder = new core.StudyFinder(text);
+        const finals = [];
+        for (let x = finder.next_value(); x !== undefined && x !== null; x = finder.next_value()) {
+          const final = await new Promise((resolve) => {
+            let id = null;
+            listen((u) => u.job === id && u.done && resolve(u));
+            id = pool.start(text, { x, keepPaths: 0 });
+          });
+          const { report, ...rest } = final;
+          finals.push(rest);
+          finder.record_merged(x, report);
+        }
+        const out = { report: finder.report(), finals };
+        finder.free();
+        return out;
+      };
+      let listener = () => {};
+      const listen = (f) => {
+        listener = f;
+      };
+      const pool = new TracePool({ size: 2, find: true, onUpdate: (u) => listener(u) });
+      await pool.ready();
+      const workers = await search(pool, listen);
+      let noX = null;
+      try {
+        pool.start(text);
+      } catch (e) {
+        noX = e.message;
+      }
+      pool.dispose();
+      const onPage = new MainThreadPool({ Tracer: core.FindValueTracer, find: true, onUpdate: (u) => listener(u) });
+      const page = await search(onPage, listen);
+      onPage.dispose();
+      return { workers, page, noX };
+    }, { text });
+    for (const [what, run] of [['workers', r.workers], ['on the page', r.page]]) {
+      assert.deepStrictEqual(run.report, native, `${what}: the search report`);
+      assert.ok(run.finals.length > 9, `${what}: the scan and the bisections`);
+      for (const u of run.finals) {
+        assert.equal(u.error, null, what);
+        assert.equal(u.cancelled, false, what);
+        assert.equal(u.batchCount, 3, what);
+        assert.equal(u.raysDone, rays, `${what}: the rays of the value counted`);
+        assert.equal(u.raysTotal, rays, `${what}: every ray of the value`);
+      }
+    }
+    assert.match(r.noX ?? '', /needs start\(study, \{ x \}\)/);
   });
 
   test('cancel() stops a job: one last update, cancelled, and nothing after it', async () => {

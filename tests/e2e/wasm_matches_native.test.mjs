@@ -12,7 +12,7 @@ import { test } from 'node:test';
 import { fileURLToPath } from 'node:url';
 
 import {
-  initSync, StudyFinder, StudyTracer, sweep_report_csv, ToleranceTracer, tolerance_report_csv,
+  FindValueTracer, initSync, StudyFinder, StudyTracer, sweep_report_csv, ToleranceTracer, tolerance_report_csv,
   Tracer,
 } from '../../www/pkg/tirtrace.js';
 import { variantsOf } from './variants.mjs';
@@ -232,5 +232,68 @@ test('a search run step by step in wasm gives tirtrace study\'s report and CSV b
     assert.fail('the search was accepted');
   } catch (e) {
     assert.deepStrictEqual(e.problems.map((p) => p.field), ['find.to']);
+  }
+});
+
+// A search as the page's worker pool runs it: each value one job (FindValueTracer, as in every
+// worker), its batches handed to the merger out of order (as from several workers), the merged
+// batches recorded with StudyFinder.record_merged: tirtrace study's report bit for bit.
+test('a search traced value by value in FindValueTracer and merged out of order gives tirtrace study\'s report', () => {
+  const study = JSON.parse(readFileSync(join(STUDIES, 'thermostat_smallest_bend.json'), 'utf8'));
+  study.scenario.trace = { ...study.scenario.trace, rays: 3 * 4096 + 21, seed: 5 };
+  study.find = { ...study.find, from: 1, to: 30 };
+  const text = JSON.stringify(study);
+  const cli = spawnSync(CLI, ['study', '-', '--threads', '2'], { input: text, encoding: 'utf8' });
+  assert.equal(cli.status, 0, cli.stderr);
+  const native = JSON.parse(cli.stdout);
+  const finder = new StudyFinder(text);
+  let asked = 0;
+  for (let x = finder.next_value(); x !== undefined && x !== null; x = finder.next_value()) {
+    asked += 1;
+    const tracer = new FindValueTracer(text, x);
+    const merger = new FindValueTracer(text, x);
+    const count = tracer.batch_count();
+    assert.equal(count, 4);
+    const batches = [...tracer.batches(0, 2), ...tracer.batches(2, 2)];
+    assert.equal(batches.length, 4, 'one result per batch');
+    merger.merger_add(3, batches[3]);
+    merger.merger_add(1, batches[1]);
+    assert.equal(merger.merger_report(count), null, 'batches 0 and 2 are still on their way');
+    merger.merger_add(2, batches[2]);
+    merger.merger_add(0, batches[0]);
+    const merged = merger.merger_report(count);
+    assert.equal(merged.delivered.n, 3 * 4096 + 21, 'every ray of the value');
+    assert.throws(() => finder.record_merged(x + 1, merged), /asked for/);
+    finder.record_merged(x, merged);
+    tracer.free();
+    merger.free();
+  }
+  assert.deepStrictEqual(finder.report(), native);
+  assert.ok(native.evaluations.some((e) => e.problems), 'some values refused');
+  assert.equal(asked, native.evaluations.filter((e) => !e.problems).length, 'each traced once');
+  finder.free();
+
+  // A batch of another value or another study is refused; a partial merge is not recorded.
+  const at5 = new FindValueTracer(text, 5);
+  const at6 = new FindValueTracer(text, 6);
+  assert.throws(() => at5.merger_add(0, at6.batches(0, 1)[0]), /different study or value/);
+  const other = JSON.parse(text);
+  other.scenario.trace.seed = 6;
+  const otherAt5 = new FindValueTracer(JSON.stringify(other), 5);
+  assert.throws(() => at5.merger_add(0, otherAt5.batches(0, 1)[0]), /different study or value/);
+  assert.throws(() => at5.merger_add(0, { value: 5 }), /could not be read/);
+  at5.merger_add(0, at5.batches(0, 1)[0]);
+  const part = at5.merger_report(1);
+  const finder2 = new StudyFinder(text);
+  const x = finder2.next_value();
+  assert.throws(() => finder2.record_merged(x, part), /all 12309 rays/);
+  for (const t of [at5, at6, otherAt5, finder2]) t.free();
+
+  // The scenario's problems at a value, by field, as the other tracers throw them.
+  try {
+    new FindValueTracer(text, 1);
+    assert.fail('a radius below half the diameter was accepted');
+  } catch (e) {
+    assert.ok(e.problems.some((p) => p.field === 'scenario.route[1].bend.radius_mm'), JSON.stringify(e.problems));
   }
 });

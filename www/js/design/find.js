@@ -1,16 +1,20 @@
 // The study panel's second mode, "Find the limit": the smallest bend radius at which that bend
 // leaks at most X % of the light entering it, or the largest LED offset, gap or tilt keeping the
 // delivered light within X % of the design's own. The number is the one picked with ⇆ (as for a
-// sweep). The core runs the search step by step (StudyFinder): it names the next value, its
-// batches are traced here in short slices so the page stays responsive, and recorded in batch
-// order, so the answer is bit for bit that of `tirtrace study` on the same study file. This
-// module only wires events and writes words; every number comes from the core.
+// sweep). The core runs the search step by step (StudyFinder): it names the next value, each
+// value is one job of a worker pool (js/trace/pool.js with find: true: FindValueTracer in the
+// workers, its batches merged in batch order by the merging worker; on the page itself where no
+// worker can start), and the merged batches are recorded, so the answer is bit for bit that of
+// `tirtrace study` on the same study file. This module only wires events and writes words; every
+// number comes from the core.
 
 import { $, h } from '../dom.js';
 import { sizeCanvasForCore } from '../drawing.js';
 import { messageOf } from '../errors.js';
 import { formatShare } from '../format.js';
 import { parseNumber } from '../numbers.js';
+import { MainThreadPool } from '../trace/main-thread-pool.js';
+import { TracePool } from '../trace/pool.js';
 import { clone, download, fileNameFor, showNumber, toStored } from './scenario.js';
 
 /** Evaluations a search makes at most (the core's limit, for the progress line). */
@@ -36,6 +40,9 @@ export class FindPanel {
     this.running = false;
     this.stopped = false;
     this.report = null;
+    /** The pool tracing the values (made at the first run) and its job: { id, resolve }. */
+    this.pool = null;
+    this.job = null;
     /** Answers of the bend table's Find buttons: segment → { design, text, report }. */
     this.bendAnswers = new Map();
     this.build();
@@ -281,19 +288,17 @@ export class FindPanel {
     $('study').dataset.findState = 'running';
     this.showSetup(false);
     this.message('Searching: every value is traced with the same rays…');
-    const count = finder.batch_count();
     let asked = 0;
     try {
+      await this.ensurePool();
+      if (this.stopped) return; // stopped while the workers were starting
       for (let x = finder.next_value(); x !== undefined && x !== null; x = finder.next_value()) {
         asked += 1;
         $('find-progress').textContent = `Evaluation ${asked} (at most ${MOST_EVALUATIONS}): ${this.study.labelOf(f.field)} = ${showNumber(x, f.field, this.state.unit)} ${this.study.unitOf(f.field)}`;
-        const results = [];
-        for (let b = 0; b < count; b += 1) {
-          results.push(...finder.trace_batches(x, b, 1));
-          await new Promise((r) => setTimeout(r, 0)); // let the page breathe between batches
-          if (this.stopped) return;
-        }
-        finder.record(x, results);
+        const u = await this.traceValue(text, x);
+        if (this.stopped || u.cancelled) return;
+        if (u.error) throw new Error(u.error);
+        finder.record_merged(x, u.report);
       }
       this.report = finder.report();
       this.csv = finder.csv();
@@ -316,6 +321,38 @@ export class FindPanel {
     if (!this.running) return;
     this.stopped = true;
     this.finish(text);
+    if (this.job) this.pool.cancel();
+  }
+
+  /** The pool that traces the values: workers, or the page itself where none can start. */
+  async ensurePool() {
+    if (this.pool) return;
+    const onUpdate = (u) => this.onUpdate(u);
+    try {
+      this.pool = new TracePool({ find: true, onUpdate, ...this.study.traceWorker });
+      await this.pool.ready();
+      $('study').dataset.findTracer = 'workers';
+    } catch {
+      // No workers here (e.g. a file:// page): trace on the page, more slowly.
+      this.pool?.dispose();
+      this.pool = new MainThreadPool({ Tracer: this.core.FindValueTracer, find: true, onUpdate });
+      $('study').dataset.findTracer = 'page';
+    }
+  }
+
+  /** Trace the search's value x as one pool job: resolves with the job's last update. */
+  traceValue(text, x) {
+    return new Promise((resolve) => {
+      this.job = { id: this.pool.start(text, { x, keepPaths: 0 }), resolve };
+    });
+  }
+
+  /** A pool update: the job's last one (done, cancelled or failed) ends the value's wait. */
+  onUpdate(u) {
+    if (!this.job || u.job !== this.job.id || !u.done) return;
+    const { resolve } = this.job;
+    this.job = null;
+    resolve(u);
   }
 
   finish(text, kind = 'ok') {

@@ -17,6 +17,21 @@ export function declaredRays(scenarioJson) {
   }
 }
 
+/**
+ * The rays of a traced batch: a scenario's, a sweep's (those of each traced point), a tolerance
+ * study's (those of the nominal, the same at every variant) or a search value's (`{ value, study,
+ * sums }`: the rays its sums count).
+ */
+export function batchRays(batch) {
+  if (batch.rays !== undefined) return batch.rays;
+  if (batch.nominal?.n !== undefined) return batch.nominal.n;
+  if (batch.sums?.delivered?.n !== undefined) return batch.sums.delivered.n;
+  return batch.batches?.find((b) => b !== null)?.rays ?? 0;
+}
+
+/** The rays in a merged report: its `rays`, or for a search value's merged sums, theirs. */
+const reportRays = (report) => report?.rays ?? report?.delivered?.n ?? 0;
+
 /** The `onUpdate` option of a tracer (`owner` names it in the error): a function, or none. */
 export function updateHandler(onUpdate, owner) {
   if (onUpdate !== undefined && typeof onUpdate !== 'function') {
@@ -30,14 +45,18 @@ export function updateHandler(onUpdate, owner) {
  * records them); throws a RangeError for a `keepPaths` that is not a whole number ≥ 0. Holds
  * what both tracers track; each adds its own fields.
  */
-export function newJob(id, scenarioJson, keepPaths) {
+export function newJob(id, scenarioJson, keepPaths, x) {
   if (!Number.isInteger(keepPaths) || keepPaths < 0 || keepPaths > 0xffffffff) {
     throw new RangeError(`keepPaths must be a whole number ≥ 0, got ${keepPaths}`);
+  }
+  if (x !== undefined && !Number.isFinite(x)) {
+    throw new RangeError(`x must be a finite number (the searched value), got ${x}`);
   }
   const scenario = String(scenarioJson);
   return {
     id,
     scenario,
+    x, // the searched value of a search's job (find: true), else undefined
     keepPaths,
     startedAt: performance.now(),
     declaredRays: declaredRays(scenario),
@@ -73,7 +92,7 @@ function raysTotal(job) {
  */
 export function deliverUpdate(onUpdate, job, { done, cancelled, error = null }) {
   const elapsedMs = performance.now() - job.startedAt;
-  const raysDone = job.report?.rays ?? 0;
+  const raysDone = reportRays(job.report);
   const update = {
     job: job.id,
     report: job.report,

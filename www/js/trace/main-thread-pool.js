@@ -10,9 +10,11 @@
 // Usage (the core already initialised on this thread):
 //   import * as core from '../../pkg/tirtrace.js';
 //   const pool = new MainThreadPool({ Tracer: core.Tracer, onUpdate: (u) => show(u) });
+//   (Tracer: core.StudyTracer, core.ToleranceTracer as well; core.FindValueTracer with find: true,
+//   for a search's values: pool.start(studyJsonText, { x }), as TracePool's find pools)
 
 import { messageOf } from '../errors.js';
-import { deliverUpdate, mergeInterval, newJob, updateHandler } from './job.js';
+import { batchRays, deliverUpdate, mergeInterval, newJob, updateHandler } from './job.js';
 
 /** Longest stretch of tracing before the page gets its thread back (ms); one batch may exceed it. */
 const SLICE_MS = 40;
@@ -33,6 +35,7 @@ function nextTask() {
 
 export class MainThreadPool {
   #Tracer;
+  #find;
   #onUpdate;
   #job = null;
   #nextJob = 1;
@@ -40,11 +43,13 @@ export class MainThreadPool {
 
   /**
    * Tracer: the core's Tracer class (the core initialised on this thread);
-   * onUpdate: called with every update, as TracePool's.
+   * onUpdate: called with every update, as TracePool's;
+   * find: true when Tracer is the core's FindValueTracer (each job one value x of a search).
    */
-  constructor({ Tracer, onUpdate } = {}) {
+  constructor({ Tracer, onUpdate, find = false } = {}) {
     if (typeof Tracer !== 'function') throw new TypeError('MainThreadPool needs the core\'s Tracer class');
     this.#Tracer = Tracer;
+    this.#find = find === true;
     this.#onUpdate = updateHandler(onUpdate, 'MainThreadPool');
   }
 
@@ -59,9 +64,10 @@ export class MainThreadPool {
   }
 
   /** As TracePool.start: replaces any running job; updates come after it returns. */
-  start(scenarioJson, { keepPaths = 200 } = {}) {
+  start(scenarioJson, { keepPaths = 200, x } = {}) {
     if (this.#disposed) throw new Error('this MainThreadPool has been disposed');
-    const job = newJob(this.#nextJob, scenarioJson, keepPaths);
+    if (this.#find && x === undefined) throw new RangeError('a search pool (find: true) needs start(study, { x })');
+    const job = newJob(this.#nextJob, scenarioJson, keepPaths, this.#find ? x : undefined);
     this.#nextJob += 1;
     this.#stop();
     this.#job = job;
@@ -92,7 +98,7 @@ export class MainThreadPool {
     if (job.finished) return;
     let tracer;
     try {
-      tracer = new this.#Tracer(job.scenario);
+      tracer = job.x === undefined ? new this.#Tracer(job.scenario) : new this.#Tracer(job.scenario, job.x);
     } catch (e) {
       this.#fail(job, messageOf(e));
       return;
@@ -106,7 +112,7 @@ export class MainThreadPool {
           try {
             const [batch] = tracer.batches(index, 1, job.keepPaths);
             tracer.merger_add(index, batch);
-            job.rays.push(batch.rays);
+            job.rays.push(batchRays(batch));
             job.prefix += 1;
           } catch (e) {
             this.#fail(job, `Tracing batch ${index} failed: ${messageOf(e)}`);

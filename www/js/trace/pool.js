@@ -17,7 +17,9 @@
 //   const job = pool.start(scenarioJsonText);   // a new start() replaces the running job
 //   (new TracePool({ study: true, … }) traces study documents instead: the sweep's report of
 //   every point, as `tirtrace study` prints it, in place of a trace report; with tolerance: true,
-//   tolerance studies: the tolerance report in its place)
+//   tolerance studies: the tolerance report in its place; with find: true, one value of a search:
+//   pool.start(studyJsonText, { x }) traces the search's study document at the value x, and the
+//   report is that value's batches merged in batch order, for StudyFinder.record_merged)
 //   pool.cancel();                               // or wait for the update with done: true
 //
 // onUpdate(u) gets, on the main thread:
@@ -50,6 +52,7 @@ export class TracePool {
   #workerType;
   #study;
   #tolerance;
+  #find;
   /** Tracing workers: { worker, alive, loaded, job (id whose scenario it holds), busy }. */
   #tracers = [];
   /** The merging worker, same shape. */
@@ -66,9 +69,10 @@ export class TracePool {
    * workerType: 'module' (default) or 'classic' (a script that imports the modules itself, as the
    * single-file build's does: a file:// page may not start a module worker from a blob: URL);
    * study: true to trace study documents (sweeps) rather than scenarios;
-   * tolerance: true to trace tolerance studies (study documents with `tolerances`).
+   * tolerance: true to trace tolerance studies (study documents with `tolerances`);
+   * find: true to trace one value of a search per job (study documents with `find`, start's x).
    */
-  constructor({ size, onUpdate, workerUrl, workerType = 'module', study = false, tolerance = false } = {}) {
+  constructor({ size, onUpdate, workerUrl, workerType = 'module', study = false, tolerance = false, find = false } = {}) {
     const n = size ?? defaultSize();
     if (!Number.isInteger(n) || n < 1 || n > MAX_WORKERS) {
       throw new RangeError(`TracePool size must be a whole number from 1 to ${MAX_WORKERS}, got ${size}`);
@@ -83,6 +87,7 @@ export class TracePool {
     this.#workerType = workerType;
     this.#study = study === true;
     this.#tolerance = tolerance === true;
+    this.#find = find === true;
     for (let i = 0; i < n; i += 1) this.#tracers.push(this.#spawn());
     this.#merger = this.#spawn();
     for (const t of this.#tracers) this.#connect(t);
@@ -103,11 +108,13 @@ export class TracePool {
   /**
    * Start tracing a scenario (JSON text); any job still running is replaced and its late
    * results are ignored (it gets no further update). keepPaths: ray paths to keep (only batch 0
-   * records paths). Returns the job id that every update of this job carries.
+   * records paths). Returns the job id that every update of this job carries. For a pool made
+   * with find: true, x is the searched value to trace (a finite number; required).
    */
-  start(scenarioJson, { keepPaths = 200 } = {}) {
+  start(scenarioJson, { keepPaths = 200, x } = {}) {
     if (this.#disposed) throw new Error('this TracePool has been disposed');
-    const job = Object.assign(newJob(this.#nextJob, scenarioJson, keepPaths), {
+    if (this.#find && x === undefined) throw new RangeError('a search pool (find: true) needs start(study, { x })');
+    const job = Object.assign(newJob(this.#nextJob, scenarioJson, keepPaths, this.#find ? x : undefined), {
       next: 0, // next batch index to hand out
       requested: 0, // prefix length of the last merge asked for
       merging: false,
@@ -128,7 +135,9 @@ export class TracePool {
     });
     for (const w of [...this.#tracers, this.#merger]) {
       w.job = null;
-      w.worker.postMessage({ type: 'job', job: job.id, scenario, study: this.#study, tolerance: this.#tolerance });
+      w.worker.postMessage({
+        type: 'job', job: job.id, scenario, study: this.#study, tolerance: this.#tolerance, find: this.#find, x: job.x,
+      });
     }
     // A worker that could not even be created sends no events: say so (after start() returns).
     if (!this.#merger.alive || this.#tracers.every((t) => !t.alive)) {

@@ -7,10 +7,12 @@
 //
 // From the pool (all but `job` and `connect` are ignored unless they name the job loaded):
 //   { type: 'connect', role: 'to-merger' | 'from-tracer', port }   a channel between the roles
-//   { type: 'job', job, scenario, study, tolerance }   load a scenario (JSON text) for job `job`;
-//                                            with study: true, a study document (a sweep:
-//                                            StudyTracer); with tolerance: true, a tolerance
-//                                            study (ToleranceTracer)
+//   { type: 'job', job, scenario, study, tolerance, find, x }   load a scenario (JSON text) for
+//                                            job `job`; with study: true, a study document (a
+//                                            sweep: StudyTracer); with tolerance: true, a
+//                                            tolerance study (ToleranceTracer); with find: true, a
+//                                            search's study document traced at its value x
+//                                            (FindValueTracer)
 //   { type: 'batch', job, index, keepPaths } trace batch `index`
 //   { type: 'merge', job, count }            report batches 0..count-1 merged in batch order
 //                                            (waits for batches still on their way)
@@ -25,19 +27,24 @@
 
 import { loadCore } from '../core.js';
 import { messageOf } from '../errors.js';
+import { batchRays } from './job.js';
 
-/** The core's Tracer, StudyTracer and ToleranceTracer classes, once the core has loaded. */
+/** The core's Tracer, StudyTracer, ToleranceTracer and FindValueTracer classes, once loaded. */
 let Tracer = null;
 let StudyTracer = null;
 let ToleranceTracer = null;
+let FindValueTracer = null;
 /**
- * The job loaded: its id, its scenario (or study) text, its kind ('scenario', 'study' or
- * 'tolerance') and its tracer.
+ * The job loaded: its id, its scenario (or study) text, its kind ('scenario', 'study',
+ * 'tolerance' or 'find'), a search's value x (else undefined) and its tracer.
  */
-const loaded = { job: null, scenario: null, kind: 'scenario', tracer: null };
+const loaded = { job: null, scenario: null, kind: 'scenario', x: undefined, tracer: null };
 
-/** The tracer class of a job's kind. */
-const tracerOf = (kind) => ({ study: StudyTracer, tolerance: ToleranceTracer })[kind] ?? Tracer;
+/** A new tracer of a job's kind (a search's value tracer also takes the value x). */
+function newTracer(kind, scenario, x) {
+  if (kind === 'find') return new FindValueTracer(scenario, x);
+  return new (({ study: StudyTracer, tolerance: ToleranceTracer })[kind] ?? Tracer)(scenario);
+}
 /** Tracing role: the channel to the merging worker. */
 let mergerPort = null;
 /** Merging role: batches received, by job then batch index; jobs below `openFrom` are over. */
@@ -46,24 +53,25 @@ let openFrom = 0;
 /** Merging role: the merge asked for, run once its batches are all in. */
 let pending = null;
 
-function loadJob(job, scenario, kind) {
+function loadJob(job, scenario, kind, x) {
   openFrom = Math.max(openFrom, job);
   for (const j of kept.keys()) if (j < job) kept.delete(j);
   if (pending && pending.job < job) pending = null;
   loaded.job = null;
   // A Tracer holds no trace state, so the same scenario again (a restart) keeps it.
-  if (loaded.tracer === null || loaded.scenario !== scenario || loaded.kind !== kind) {
+  if (loaded.tracer === null || loaded.scenario !== scenario || loaded.kind !== kind || !Object.is(loaded.x, x)) {
     loaded.tracer?.free();
     loaded.tracer = null;
     loaded.scenario = null;
     try {
-      loaded.tracer = new (tracerOf(kind))(scenario);
+      loaded.tracer = newTracer(kind, scenario, x);
     } catch (e) {
       postMessage({ type: 'job-error', job, message: messageOf(e) });
       return;
     }
     loaded.scenario = scenario;
     loaded.kind = kind;
+    loaded.x = x;
   }
   loaded.job = job;
   loaded.tracer.merger_reset();
@@ -94,17 +102,7 @@ function traceBatch(job, index, keepPaths) {
     return;
   }
   mergerPort.postMessage({ type: 'add', job, index, batch });
-  postMessage({ type: 'batch', job, index, rays: raysOf(batch) });
-}
-
-/**
- * The rays of a traced batch: a scenario's, a sweep's (those of each traced point) or a tolerance
- * study's (those of the nominal, the same at every variant).
- */
-function raysOf(batch) {
-  if (batch.rays !== undefined) return batch.rays;
-  if (batch.nominal?.n !== undefined) return batch.nominal.n;
-  return batch.batches?.find((b) => b !== null)?.rays ?? 0;
+  postMessage({ type: 'batch', job, index, rays: batchRays(batch) });
 }
 
 function keep(job, index, batch) {
@@ -142,6 +140,13 @@ function mergeIfComplete() {
   }
 }
 
+/** The kind of a job message: 'find', 'tolerance', 'study' or 'scenario'. */
+function kindOf(msg) {
+  if (msg.find === true) return 'find';
+  if (msg.tolerance === true) return 'tolerance';
+  return msg.study === true ? 'study' : 'scenario';
+}
+
 function handle(msg) {
   switch (msg.type) {
     case 'connect':
@@ -153,7 +158,7 @@ function handle(msg) {
       }
       return;
     case 'job':
-      loadJob(msg.job, msg.scenario, msg.tolerance === true ? 'tolerance' : msg.study === true ? 'study' : 'scenario');
+      loadJob(msg.job, msg.scenario, kindOf(msg), msg.find === true ? msg.x : undefined);
       return;
     case 'add':
       keep(msg.job, msg.index, msg.batch);
@@ -190,6 +195,7 @@ let queue = loadCore().then(
     Tracer = core.Tracer;
     StudyTracer = core.StudyTracer;
     ToleranceTracer = core.ToleranceTracer;
+    FindValueTracer = core.FindValueTracer;
     postMessage({ type: 'ready' });
   },
   (e) => {

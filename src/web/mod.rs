@@ -221,35 +221,18 @@ impl Tracer {
     /// Keep batch `index` (a plain object from [`Tracer::batches`]) for the running merge.
     /// Reading it into the core happens here, once per batch.
     pub fn merger_add(&mut self, index: f64, batch: JsValue) -> Result<(), JsError> {
-        if !(index.is_finite() && index >= 0.0 && index.fract() == 0.0) {
-            return Err(JsError::new(&format!(
-                "index must be a whole batch index ≥ 0, got {index}"
-            )));
-        }
-        let batch: crate::trace::Batch = serde_wasm_bindgen::from_value(batch)
-            .map_err(|e| JsError::new(&format!("the batch could not be read: {e}")))?;
+        let (index, batch): (u64, crate::trace::Batch) = read_batch(index, batch)?;
         if !self.prepared.fits(&batch) {
             return Err(JsError::new("the batch comes from a different scenario"));
         }
-        self.merger.add(index as u64, batch);
+        self.merger.add(index, batch);
         Ok(())
     }
 
     /// The report of batches `0 .. count` folded in order, or `null` while one of them has not
     /// been added yet. Counts must not decrease between calls (until `merger_reset`).
     pub fn merger_report(&mut self, count: f64) -> Result<JsValue, JsError> {
-        if !(count.is_finite() && count >= 1.0 && count.fract() == 0.0) {
-            return Err(JsError::new(&format!(
-                "count must be a whole number of batches ≥ 1, got {count}"
-            )));
-        }
-        if (count as u64) < self.merger.folded() {
-            return Err(JsError::new(&format!(
-                "count must not go below the {} batches already merged, got {count}",
-                self.merger.folded()
-            )));
-        }
-        match self.merger.fold_to(count as u64) {
+        match fold_checked(&mut self.merger, count)? {
             Some(total) => to_js(&self.prepared.report(total)),
             None => Ok(JsValue::NULL),
         }
@@ -455,35 +438,18 @@ impl StudyTracer {
 
     /// Keep batch `index` (a plain object from [`StudyTracer::batches`]) for the running merge.
     pub fn merger_add(&mut self, index: f64, batch: JsValue) -> Result<(), JsError> {
-        if !(index.is_finite() && index >= 0.0 && index.fract() == 0.0) {
-            return Err(JsError::new(&format!(
-                "index must be a whole batch index ≥ 0, got {index}"
-            )));
-        }
-        let batch: crate::study::SweepBatch = serde_wasm_bindgen::from_value(batch)
-            .map_err(|e| JsError::new(&format!("the batch could not be read: {e}")))?;
+        let (index, batch): (u64, crate::study::SweepBatch) = read_batch(index, batch)?;
         if !self.sweep.fits(&batch) {
             return Err(JsError::new("the batch comes from a different study"));
         }
-        self.merger.add(index as u64, batch);
+        self.merger.add(index, batch);
         Ok(())
     }
 
     /// The sweep report of batches `0 .. count` folded in order, or `null` while one of them
     /// has not been added yet. Counts must not decrease between calls (until `merger_reset`).
     pub fn merger_report(&mut self, count: f64) -> Result<JsValue, JsError> {
-        if !(count.is_finite() && count >= 1.0 && count.fract() == 0.0) {
-            return Err(JsError::new(&format!(
-                "count must be a whole number of batches ≥ 1, got {count}"
-            )));
-        }
-        if (count as u64) < self.merger.folded() {
-            return Err(JsError::new(&format!(
-                "count must not go below the {} batches already merged, got {count}",
-                self.merger.folded()
-            )));
-        }
-        match self.merger.fold_to(count as u64) {
+        match fold_checked(&mut self.merger, count)? {
             Some(total) => to_js(&self.sweep.report(total)),
             None => Ok(JsValue::NULL),
         }
@@ -506,6 +472,42 @@ impl StudyTracer {
 }
 
 /// Check a batch range given from JS: whole numbers, inside `total` batches.
+/// Batch `index` (a plain object sent by a worker) read for a running merge: the index must be
+/// a whole number ≥ 0 and the object must read as a batch.
+fn read_batch<B: serde::de::DeserializeOwned>(
+    index: f64,
+    batch: JsValue,
+) -> Result<(u64, B), JsError> {
+    if !(index.is_finite() && index >= 0.0 && index.fract() == 0.0) {
+        return Err(JsError::new(&format!(
+            "index must be a whole batch index ≥ 0, got {index}"
+        )));
+    }
+    let batch = serde_wasm_bindgen::from_value(batch)
+        .map_err(|e| JsError::new(&format!("the batch could not be read: {e}")))?;
+    Ok((index as u64, batch))
+}
+
+/// A running merge folded to batches `0 .. count` (`None` while one of them has not been added
+/// yet); `count` must be a whole number ≥ 1 and not below what is already merged.
+fn fold_checked<B: crate::trace::MergeInOrder>(
+    merger: &mut crate::trace::PrefixMerger<B>,
+    count: f64,
+) -> Result<Option<&B>, JsError> {
+    if !(count.is_finite() && count >= 1.0 && count.fract() == 0.0) {
+        return Err(JsError::new(&format!(
+            "count must be a whole number of batches ≥ 1, got {count}"
+        )));
+    }
+    if (count as u64) < merger.folded() {
+        return Err(JsError::new(&format!(
+            "count must not go below the {} batches already merged, got {count}",
+            merger.folded()
+        )));
+    }
+    Ok(merger.fold_to(count as u64))
+}
+
 fn batch_range(total: u64, first: f64, count: f64) -> Result<(u64, u64), JsError> {
     let whole = |x: f64| x.is_finite() && x >= 0.0 && x.fract() == 0.0;
     if !whole(first) || first >= total as f64 {
@@ -622,17 +624,11 @@ impl ToleranceTracer {
     /// Keep batch `index` (a plain object from [`ToleranceTracer::batches`]) for the running
     /// merge; refuses a batch of another study.
     pub fn merger_add(&mut self, index: f64, batch: JsValue) -> Result<(), JsError> {
-        if !(index.is_finite() && index >= 0.0 && index.fract() == 0.0) {
-            return Err(JsError::new(&format!(
-                "index must be a whole batch index ≥ 0, got {index}"
-            )));
-        }
-        let batch: crate::study::ToleranceBatch = serde_wasm_bindgen::from_value(batch)
-            .map_err(|e| JsError::new(&format!("the batch could not be read: {e}")))?;
+        let (index, batch): (u64, crate::study::ToleranceBatch) = read_batch(index, batch)?;
         if !self.tolerance.fits(&batch) {
             return Err(JsError::new("the batch comes from a different study"));
         }
-        self.merger.add(index as u64, batch);
+        self.merger.add(index, batch);
         Ok(())
     }
 
@@ -640,18 +636,7 @@ impl ToleranceTracer {
     /// them has not been added yet. Counts must not decrease between calls (until
     /// `merger_reset`).
     pub fn merger_report(&mut self, count: f64) -> Result<JsValue, JsError> {
-        if !(count.is_finite() && count >= 1.0 && count.fract() == 0.0) {
-            return Err(JsError::new(&format!(
-                "count must be a whole number of batches ≥ 1, got {count}"
-            )));
-        }
-        if (count as u64) < self.merger.folded() {
-            return Err(JsError::new(&format!(
-                "count must not go below the {} batches already merged, got {count}",
-                self.merger.folded()
-            )));
-        }
-        match self.merger.fold_to(count as u64) {
+        match fold_checked(&mut self.merger, count)? {
             Some(total) => to_js(&self.tolerance.report(total)),
             None => Ok(JsValue::NULL),
         }
@@ -842,13 +827,7 @@ impl FindValueTracer {
     /// Keep batch `index` (a plain object from [`FindValueTracer::batches`]) for the running
     /// merge; refuses a batch of another study or value.
     pub fn merger_add(&mut self, index: f64, batch: JsValue) -> Result<(), JsError> {
-        if !(index.is_finite() && index >= 0.0 && index.fract() == 0.0) {
-            return Err(JsError::new(&format!(
-                "index must be a whole batch index ≥ 0, got {index}"
-            )));
-        }
-        let batch: crate::study::FindValueBatch = serde_wasm_bindgen::from_value(batch)
-            .map_err(|e| JsError::new(&format!("the batch could not be read: {e}")))?;
+        let (index, batch): (u64, crate::study::FindValueBatch) = read_batch(index, batch)?;
         if !self.value.fits(&batch) {
             return Err(JsError::new(&format!(
                 "the batch comes from a different study or value (traced at {}, this is {})",
@@ -856,7 +835,7 @@ impl FindValueTracer {
                 self.value.value()
             )));
         }
-        self.merger.add(index as u64, batch.sums);
+        self.merger.add(index, batch.sums);
         Ok(())
     }
 
@@ -864,18 +843,7 @@ impl FindValueTracer {
     /// `StudyFinder.record_merged`), or `null` while one of them has not been added yet. Counts
     /// must not decrease between calls (until `merger_reset`).
     pub fn merger_report(&mut self, count: f64) -> Result<JsValue, JsError> {
-        if !(count.is_finite() && count >= 1.0 && count.fract() == 0.0) {
-            return Err(JsError::new(&format!(
-                "count must be a whole number of batches ≥ 1, got {count}"
-            )));
-        }
-        if (count as u64) < self.merger.folded() {
-            return Err(JsError::new(&format!(
-                "count must not go below the {} batches already merged, got {count}",
-                self.merger.folded()
-            )));
-        }
-        match self.merger.fold_to(count as u64) {
+        match fold_checked(&mut self.merger, count)? {
             Some(total) => to_js(total),
             None => Ok(JsValue::NULL),
         }

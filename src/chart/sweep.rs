@@ -60,6 +60,137 @@ fn padded(lo: f64, hi: f64, min_pad: f64) -> std::ops::Range<f64> {
     (lo - pad)..(hi + pad)
 }
 
+/// Colours of a grid's curves, one per value of its second field (cycled beyond six).
+const GRID_COLOURS: [RGBColor; 6] = [
+    RGBColor(0x28, 0x5f, 0x96),
+    RGBColor(0xb3, 0x41, 0x2a),
+    RGBColor(0x2e, 0x7d, 0x32),
+    RGBColor(0x7b, 0x3f, 0x98),
+    RGBColor(0xa0, 0x6a, 0x00),
+    RGBColor(0x00, 0x6d, 0x77),
+];
+
+/// One curve of a grid: its legend and its points (x, delivered %, its 95 % half-width).
+type GridCurve = (String, Vec<(f64, f64, f64)>);
+
+/// A grid's value of its second field as a legend shows it.
+fn grid_label(v: &serde_json::Value) -> String {
+    match v {
+        serde_json::Value::String(t) => t.clone(),
+        serde_json::Value::Number(n) => n.as_f64().map(|x| format!("{x}")).unwrap_or_default(),
+        _ => String::new(),
+    }
+}
+
+/// A grid (`and_field`): delivered (%) against the first field, one curve with its 95 % band
+/// per value of the second field, in the order the report lists them. Refused points are left
+/// out. Every point was traced with the same rays, so the curves differ by the design.
+fn draw_grid_chart<DB: DrawingBackend>(
+    area: &DrawingArea<DB, Shift>,
+    report: &SweepReport,
+    scale: f64,
+) -> Result<(), TirError> {
+    let scale = clamp_scale(scale);
+    let px = pixels(scale);
+    area.fill(&WHITE).map_err(draw_err)?;
+    // The second field's values in first-seen order, each with its traced points.
+    let mut curves: Vec<GridCurve> = Vec::new();
+    for p in &report.points {
+        let label = grid_label(p.and_value.as_ref().unwrap_or(&serde_json::Value::Null));
+        let k = match curves.iter().position(|(l, _)| *l == label) {
+            Some(k) => k,
+            None => {
+                curves.push((label, Vec::new()));
+                curves.len() - 1
+            }
+        };
+        if let (Some(x), Some(r)) = (p.value.as_f64().filter(|x| x.is_finite()), &p.result) {
+            let ci = if r.delivered.ci95.is_finite() {
+                r.delivered.ci95
+            } else {
+                0.0
+            };
+            curves[k].1.push((x, 100.0 * r.delivered.share, 100.0 * ci));
+        }
+    }
+    let all: Vec<&(f64, f64, f64)> = curves.iter().flat_map(|(_, c)| c).collect();
+    if all.is_empty() {
+        let (w, h) = area.dim_in_pixel();
+        area.draw(&Text::new(
+            "no point traced yet",
+            (w as i32 / 2, h as i32 / 2),
+            ink_font(px(14.0)).pos(Pos::new(HPos::Center, VPos::Center)),
+        ))
+        .map_err(draw_err)?;
+        return area.present().map_err(draw_err);
+    }
+    let (x_lo, x_hi) = all
+        .iter()
+        .fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), p| {
+            (lo.min(p.0), hi.max(p.0))
+        });
+    let (y_lo, y_hi) = all
+        .iter()
+        .fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), p| {
+            (lo.min(p.1 - p.2), hi.max(p.1 + p.2))
+        });
+    let x_range = padded(x_lo, x_hi, 1e-6 * x_hi.abs().max(1.0));
+    let y_range = padded(y_lo.max(0.0), y_hi.min(100.0), 0.5);
+    let y_range = y_range.start.max(0.0)..y_range.end.min(100.0);
+    let x_title = if report.factor {
+        format!("factor on every {}", report.field)
+    } else {
+        field_axis_title(&report.field)
+    };
+    let and_field = report.and_field.clone().unwrap_or_default();
+    let and_title = if report.and_factor {
+        format!("factor on every {and_field}")
+    } else {
+        field_axis_title(&and_field)
+    };
+    let label_font = ink_font(px(12.0));
+    let mut chart = cartesian(area, 10.0, scale, x_range, y_range.clone())?;
+    draw_axes(
+        &mut chart,
+        (&x_title, "delivered, share of the emitted light (%)"),
+        ink_font(px(13.0)),
+        label_font.clone(),
+        (&|x| format!("{x:.2}"), &|y| format!("{y:.1}")),
+    )?;
+    for (k, (label, points)) in curves.iter().enumerate() {
+        let colour = GRID_COLOURS[k % GRID_COLOURS.len()];
+        let outline: Vec<(f64, f64)> = band(points)
+            .into_iter()
+            .map(|(x, y)| (x, y.clamp(y_range.start, y_range.end)))
+            .collect();
+        if outline.len() >= 4 {
+            chart
+                .draw_series(std::iter::once(Polygon::new(
+                    outline,
+                    colour.mix(0.15).filled(),
+                )))
+                .map_err(draw_err)?;
+        }
+        draw_line(
+            &mut chart,
+            points.iter().map(|p| (p.0, p.1)),
+            colour,
+            2,
+            scale,
+            &format!("{and_title} = {label}"),
+        )?;
+        chart
+            .draw_series(
+                points
+                    .iter()
+                    .map(|p| Circle::new((p.0, p.1), px(3.5), colour.filled())),
+            )
+            .map_err(draw_err)?;
+    }
+    draw_legend(&mut chart, SeriesLabelPosition::LowerRight, label_font)?;
+    area.present().map_err(draw_err)
+}
+
 /// Draw the sweep chart of `report` on `area`: on top delivered (%) with its 95 % band (and the
 /// varied bend's leak with its band, when `bend` is given), below the difference to the
 /// reference point with its band; a vertical marker at the bend's closed-form leak-free radius
@@ -71,6 +202,9 @@ pub fn draw_sweep_chart<DB: DrawingBackend>(
     bend: Option<&VariedBend>,
     scale: f64,
 ) -> Result<(), TirError> {
+    if report.and_field.is_some() && report.points.iter().any(|p| p.value.is_number()) {
+        return draw_grid_chart(area, report, scale);
+    }
     let scale = clamp_scale(scale);
     let px = pixels(scale);
     area.fill(&WHITE).map_err(draw_err)?;
@@ -414,5 +548,31 @@ mod tests {
             field_axis_title("route[0].straight.length"),
             "route[0].straight.length"
         );
+    }
+
+    #[test]
+    fn a_grid_draws_one_curve_per_value_of_its_second_field() {
+        let text =
+            std::fs::read_to_string("examples/studies/thermostat_bends_and_material.json").unwrap();
+        let mut doc: serde_json::Value = serde_json::from_str(&text).unwrap();
+        doc["scenario"]["trace"]["rays"] = 2000.into();
+        let study = Study::from_json(&doc.to_string()).unwrap();
+        let sweep = study.prepare_sweep().unwrap();
+        let report = sweep.report(&sweep.trace_all_serial());
+        let mut svg = String::new();
+        {
+            let area = SVGBackend::with_string(&mut svg, (800, 600)).into_drawing_area();
+            draw_sweep_chart(&area, &report, None, 1.0).unwrap();
+        }
+        assert!(
+            svg.contains("guide.material.library = pmma"),
+            "a curve per material"
+        );
+        assert!(svg.contains("guide.material.library = polycarbonate"));
+        assert!(
+            svg.contains("factor on every route[*].bend.radius_mm"),
+            "the x axis"
+        );
+        assert!(!svg.contains("NaN") && !svg.contains("no point traced"));
     }
 }

@@ -11,7 +11,7 @@ import assert from 'node:assert/strict';
 import { join } from 'node:path';
 import { after, before, describe, test } from 'node:test';
 
-import { assertNoJunk, tracedAfter } from './design-helpers.mjs';
+import { assertNoJunk, inkShare, tracedAfter } from './design-helpers.mjs';
 import { OUT } from './harness.mjs';
 import { cliStudy, closeDesigner, keptState, openDesigner, setField } from './study-helpers.mjs';
 
@@ -91,6 +91,44 @@ describe('the study panel: materials, every bend, edits', { concurrency: false }
     });
     assert.match(await page.locator('#study-head').innerText(), /every bend scaled alike/);
     await page.locator('#study').screenshot({ path: join(OUT, 'study-every-bend-1280.png') });
+  });
+
+  test('a grid from the form: a bend radius × the materials, as tirtrace study, drawn as one curve per material', async () => {
+    const path = 'route[1].bend.radius_mm';
+    await page.click(`button.vary-pick[data-vary-path="${path}"]`);
+    await page.uncheck('#study-every');
+    await page.check('#study-grid');
+    await page.click('button.vary-pick[data-vary-path="guide.material.library"]');
+    assert.ok(await page.locator('#study-and').isVisible(), 'the second field is shown');
+    assert.equal(await page.locator('#study-and-field').innerText(), 'Material');
+    const boxes = page.locator('#study-choice-list input[type="checkbox"]');
+    for (let i = 0; i < await boxes.count(); i += 1) await boxes.nth(i).setChecked(false);
+    await page.check('#study-choice-list input[value="pmma"]');
+    await page.check('#study-choice-list input[value="polycarbonate"]');
+    await page.fill('#study-from', '6');
+    await page.fill('#study-to', '12');
+    await page.fill('#study-steps', '2');
+    await page.click('#study-run');
+    await page.waitForSelector('#study[data-state="done"]', { timeout: 120_000 });
+    const state = await keptState(page);
+    assert.deepStrictEqual(state.study.and.values, ['pmma', 'polycarbonate']);
+    const native = cliStudy({
+      version: 1,
+      scenario: state.scenario,
+      vary: { field: path, from: 6, to: 12, steps: 2 },
+      and_vary: { field: 'guide.material.library', values: ['pmma', 'polycarbonate'] },
+    });
+    const rows = await readRows(page);
+    assert.equal(rows.length, 6);
+    native.points.forEach((p, i) => assert.deepStrictEqual(rows[i].delivered, p.result.delivered, `${p.value} × ${p.and_value}`));
+    const materials = await page.$$eval('#study-rows td[data-key="and"]', (tds) => tds.map((td) => td.textContent));
+    assert.deepStrictEqual(materials, ['Acrylic (PMMA)', 'Polycarbonate (PC)', 'Acrylic (PMMA)', 'Polycarbonate (PC)', 'Acrylic (PMMA)', 'Polycarbonate (PC)']);
+    assert.ok(await inkShare(page, 'study-chart') > 0.02, 'the grid is drawn');
+    await page.locator('#study').screenshot({ path: join(OUT, 'study-grid-1280.png') });
+    // Back to one number.
+    await page.uncheck('#study-grid');
+    assert.ok(!(await page.locator('#study-and').isVisible()));
+    assert.equal((await keptState(page)).study.and, undefined);
   });
 
   test('an edit of the design stops a running study and says so', async () => {

@@ -102,34 +102,45 @@ export class StudyPanel {
     return (this.editor.materials ?? []).filter((m) => !NOT_A_PIPE.has(m.id)).map((m) => [m.id, m.name]);
   }
 
-  /** Vary the field at `path` (labelled `label` in the form): from / to prefilled around it. */
-  pick(path, label) {
+  /** A varied field's set-up at `path` (labelled `label`): a range around its value, or for a
+   * choice the current material and one other to compare it with. */
+  axisFor(path, label) {
     if (TEXT_FIELDS.has(path)) {
-      // A choice: the current material and one other to compare it with.
       const current = this.valueAt(path);
       const other = this.pipeMaterials().map(([id]) => id).find((id) => id !== current);
-      const values = [current, other].filter((v) => typeof v === 'string');
-      this.state.study = { field: path, label, values };
-      this.onSaved();
-      this.showSetup();
-      this.message('');
-      return;
+      return { field: path, label, values: [current, other].filter((v) => typeof v === 'string') };
     }
     const value = this.valueAt(path);
     const x = typeof value === 'number' && Number.isFinite(value) ? value : 1;
     const from = x === 0 ? -1 : x * (1 - SPREAD);
     const to = x === 0 ? 1 : x * (1 + SPREAD);
-    this.state.study = { field: path, label, from: round(from), to: round(to), steps: DEFAULT_STEPS };
+    return { field: path, label, from: round(from), to: round(to), steps: DEFAULT_STEPS };
+  }
+
+  /** Vary the field at `path` (labelled `label` in the form): from / to prefilled around it.
+   * With "and a second number" ticked, it becomes the grid's second field instead. */
+  pick(path, label) {
+    const s = this.setup;
+    const second = !!s && $('study-grid').checked && path !== s.field;
+    if (second) {
+      if (TEXT_FIELDS.has(path) && TEXT_FIELDS.has(s.field)) return;
+      s.and = this.axisFor(path, label);
+      delete s.every;
+    } else {
+      this.state.study = this.axisFor(path, label);
+    }
     this.onSaved();
     this.showSetup();
     this.message('');
-    $('study-from').focus();
+    const focus = second ? 'study-and-from' : 'study-from';
+    if (!TEXT_FIELDS.has(path)) $(focus).focus();
   }
 
   showSetup() {
     const s = this.setup;
     for (const b of this.editor.root.querySelectorAll('.vary-pick')) {
-      b.setAttribute('aria-pressed', String(b.dataset.varyPath === s?.field));
+      const path = b.dataset.varyPath;
+      b.setAttribute('aria-pressed', String(path === s?.field || path === s?.and?.field));
     }
     $('study-field').textContent = s ? this.labelOf(s.field) : 'nothing yet: press ⇆ beside a number in “Describe”';
     $('study-field').dataset.path = s?.field ?? '';
@@ -142,9 +153,26 @@ export class StudyPanel {
     }
     const text = !!s && TEXT_FIELDS.has(s.field);
     for (const id of ['study-from', 'study-to', 'study-steps']) $(id).closest('.field').hidden = text;
-    $('study-choices').hidden = !text;
-    if (text) {
-      const chosen = new Set(s.values ?? []);
+    // The grid's second field: its own range (or the materials, when it is the choice).
+    const and = s?.and ?? null;
+    $('study-grid-line').hidden = !s;
+    if (and) $('study-grid').checked = true;
+    $('study-and').hidden = !and;
+    if (and) {
+      $('study-and-field').textContent = this.labelOf(and.field);
+      $('study-and-range').hidden = TEXT_FIELDS.has(and.field);
+      const unit = this.unitOf(and.field);
+      for (const id of ['study-and-from-unit', 'study-and-to-unit']) $(id).textContent = unit;
+      if (!TEXT_FIELDS.has(and.field)) {
+        $('study-and-from').value = showNumber(and.from, and.field, this.state.unit);
+        $('study-and-to').value = showNumber(and.to, and.field, this.state.unit);
+        $('study-and-steps').value = String(and.steps);
+      }
+    }
+    const choice = text ? s : and && TEXT_FIELDS.has(and.field) ? and : null;
+    $('study-choices').hidden = !choice;
+    if (choice) {
+      const chosen = new Set(choice.values ?? []);
       $('study-choice-list').replaceChildren(...this.pipeMaterials().map(([id, name]) => h(
         'label',
         { class: 'check-line' },
@@ -152,7 +180,7 @@ export class StudyPanel {
         ` ${name}`,
       )));
     }
-    $('study-every-line').hidden = !(s && BEND_RADIUS.test(s.field));
+    $('study-every-line').hidden = !(s && BEND_RADIUS.test(s.field)) || !!and;
     $('study-every').checked = !!s?.every;
     $('study-values-note').hidden = !s?.values || text;
     $('study-run').disabled = !s || this.running;
@@ -163,16 +191,31 @@ export class StudyPanel {
   readInputs() {
     const s = this.setup;
     const out = { from: null, to: null, steps: null, problems: [] };
+    const chosen = () => {
+      const values = [...$('study-choice-list').querySelectorAll('input:checked')].map((b) => b.value);
+      if (values.length < 2) out.problems.push(`Choose at least two materials to compare (${values.length} chosen)`);
+      return values;
+    };
+    const range = (field, ids, names) => {
+      const r = {};
+      ids.forEach((id, k) => {
+        const key = ['from', 'to', 'steps'][k];
+        const x = parseNumber($(id).value);
+        if (Number.isNaN(x)) out.problems.push(`${names[k]} must be a number, got “${$(id).value}”`);
+        else r[key] = key === 'steps' ? x : toStored(x, field, this.state.unit);
+      });
+      return r;
+    };
+    if (s.and) {
+      out.and = TEXT_FIELDS.has(s.and.field)
+        ? { values: chosen() }
+        : range(s.and.field, ['study-and-from', 'study-and-to', 'study-and-steps'], ['From (second number)', 'To (second number)', 'Steps (second number)']);
+    }
     if (TEXT_FIELDS.has(s.field)) {
-      out.values = [...$('study-choice-list').querySelectorAll('input:checked')].map((b) => b.value);
-      if (out.values.length < 2) out.problems.push(`Choose at least two materials to compare (${out.values.length} chosen)`);
+      out.values = chosen();
       return out;
     }
-    for (const [key, id, label] of [['from', 'study-from', 'From'], ['to', 'study-to', 'To'], ['steps', 'study-steps', 'Steps']]) {
-      const x = parseNumber($(id).value);
-      if (Number.isNaN(x)) out.problems.push(`${label} must be a number, got “${$(id).value}”`);
-      else out[key] = key === 'steps' ? x : toStored(x, s.field, this.state.unit);
-    }
+    Object.assign(out, range(s.field, ['study-from', 'study-to', 'study-steps'], ['From', 'To', 'Steps']));
     return out;
   }
 
@@ -192,8 +235,13 @@ export class StudyPanel {
       const r0 = this.valueAt(s.field);
       vary = { field: 'route[*].bend.radius_mm', factors: this.points().map((r) => r / r0) };
     }
-    const name = `${this.state.scenario.name || 'Untitled design'}: ${this.labelOf(s.field)}`;
-    return { version: 1, name, scenario: clone(this.state.scenario), vary };
+    const axis = (a) => (a.values ? { field: a.field, values: a.values } : { field: a.field, from: a.from, to: a.to, steps: a.steps });
+    let andVary = s.and ? axis(s.and) : null;
+    // A grid draws numbers along its axis: a material list goes second.
+    if (andVary && TEXT_FIELDS.has(s.field)) [vary, andVary] = [andVary, vary];
+    const labels = [s, s.and].filter(Boolean).map((a) => this.labelOf(a.field)).join(' × ');
+    const name = `${this.state.scenario.name || 'Untitled design'}: ${labels}`;
+    return { version: 1, name, scenario: clone(this.state.scenario), vary, ...(andVary ? { and_vary: andVary } : {}) };
   }
 
   /** A core problem in the designer's words: field paths replaced by the form's labels. */
@@ -205,13 +253,18 @@ export class StudyPanel {
       'vary.values': 'the values',
       'vary.factors': 'the factors (every bend)',
       'vary.field': `the varied number (${this.labelOf(this.setup?.field ?? '')})`,
+      'and_vary.from': 'From (second number)',
+      'and_vary.to': 'To (second number)',
+      'and_vary.steps': 'Steps (second number)',
+      'and_vary.values': 'the materials',
+      and_vary: 'the second number',
     };
     // Whole words only: `vary.to` must not eat the start of `vary.total`.
-    const swap = (text, from, to) => text.replace(new RegExp(`${from.replace(/[.*+?^${}()|[\]\\]/g, '\\$&')}(?![\\w.[])`, 'g'), to);
+    const swap = (text, from, to) => text.replace(new RegExp(`(?<![\\w.])${from.replace(/[.*+?^${}()|[\]\\]/g, '\\$&')}(?![\\w.[])`, 'g'), to);
     let text = problem.message;
     for (const [path, name] of Object.entries(names)) text = swap(text, path, name);
     const field = problem.field.replace(/^scenario\./, '');
-    if (!problem.field.startsWith('vary')) {
+    if (!/^(and_)?vary/.test(problem.field)) {
       const label = this.labelOf(field);
       text = swap(text, `scenario.${field}`, field);
       if (label !== field) text = swap(text, field, `“${label}”`);
@@ -249,7 +302,8 @@ export class StudyPanel {
       if (s.values && changed) delete s.values; // a list from a study file, now edited
       Object.assign(s, { from: read.from, to: read.to, steps: read.steps });
     }
-    s.every = BEND_RADIUS.test(s.field) && $('study-every').checked;
+    s.every = BEND_RADIUS.test(s.field) && $('study-every').checked && !s.and;
+    if (s.and && read.and) Object.assign(s.and, read.and);
     this.onSaved();
     const text = JSON.stringify(this.document());
     this.tracedScenario = JSON.stringify(this.state.scenario);
@@ -323,8 +377,11 @@ export class StudyPanel {
     const every = r.factor && s?.every;
     const shownField = every ? s.field : r.field;
     const unit = this.unitOf(shownField);
+    const andField = r.and_field ?? null;
+    const andUnit = andField ? this.unitOf(andField) : '';
     const head = [
       `${this.labelOf(shownField)}${unit ? ` (${unit})` : ''}${every ? ', every bend scaled alike' : ''}`,
+      andField ? `${this.labelOf(andField)}${andUnit ? ` (${andUnit})` : ''}` : null,
       'Delivered (%)',
       'Change from the first (% points)',
       bend ? `Leaked in bend ${bend.segment + 1} (%)` : null,
@@ -348,8 +405,13 @@ export class StudyPanel {
           class: 'num',
           text: every
             ? `${showNumber(p.value * this.everyRadius, s.field, this.state.unit)} (× ${round(p.value)})`
-            : this.materialName(shownValue(p, r.field, this.state.unit)),
+            : this.materialName(shownValue({ value: p.value }, r.field, this.state.unit)),
         }),
+        andField ? h('td', {
+          class: 'num',
+          dataset: { key: 'and' },
+          text: typeof p.and_value === 'string' ? this.materialName(p.and_value) : showNumber(p.and_value, andField, this.state.unit),
+        }) : null,
         cell(res?.delivered, 'delivered'),
         // The reference point's change is zero by definition: say which point it is.
         i === r.reference && res ? Object.assign(cell(res.difference, 'difference'), { textContent: 'reference' }) : cell(res?.difference, 'difference'),
@@ -428,6 +490,14 @@ export class StudyPanel {
       steps: vary.steps ?? (vary.values ? vary.values.length - 1 : DEFAULT_STEPS),
       ...(Array.isArray(vary.values) ? { values: vary.values } : {}),
     };
+    const and = doc.and_vary;
+    if (typeof and?.field === 'string') {
+      this.state.study.and = {
+        field: and.field,
+        label: this.labelOf(and.field),
+        ...(Array.isArray(and.values) ? { values: and.values } : { from: and.from, to: and.to, steps: and.steps }),
+      };
+    }
     this.onSaved();
     this.showSetup();
     this.message(`Study “${doc.name || file.name}” opened: press Run.`);
@@ -442,6 +512,12 @@ export class StudyPanel {
     });
     $('study-run').addEventListener('click', () => this.run());
     $('study-stop').addEventListener('click', () => this.stop());
+    $('study-grid').addEventListener('change', () => {
+      if (!this.setup || $('study-grid').checked) return;
+      delete this.setup.and; // back to one number
+      this.onSaved();
+      this.showSetup();
+    });
     $('study-every').addEventListener('change', () => {
       if (!this.setup) return;
       this.setup.every = $('study-every').checked;

@@ -7,6 +7,7 @@
 // Before: cargo build; bash scripts/build.sh; npm ci --prefix tests/e2e. Run: node --test tests/e2e/
 
 import assert from 'node:assert/strict';
+import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { after, before, describe, test } from 'node:test';
 
@@ -22,7 +23,7 @@ describe('find the limit in the study panel', { concurrency: false }, () => {
   let consoleErrors = [];
 
   before(async () => {
-    designer = await openDesigner({ rays: 4106 });
+    designer = await openDesigner({ rays: 4106, acceptDownloads: true });
     ({ page, errors: consoleErrors } = designer);
   });
 
@@ -58,6 +59,11 @@ describe('find the limit in the study panel', { concurrency: false }, () => {
       assert.match(text, /closed form/);
     }
     assert.ok(await inkShare(page, 'find-chart') > 0.02, 'the chart is drawn');
+    // The chart saves as a PNG (its signature: 0x89 "PNG").
+    const [png] = await Promise.all([page.waitForEvent('download'), page.click('#find-png')]);
+    assert.match(png.suggestedFilename(), /-search\.png$/);
+    const bytes = readFileSync(await png.path());
+    assert.deepStrictEqual([...bytes.subarray(0, 4)], [0x89, 0x50, 0x4e, 0x47]);
     await page.locator('#study').screenshot({ path: join(OUT, 'find-1280.png') });
     await page.setViewportSize({ width: 820, height: 1180 });
     await page.locator('#study').screenshot({ path: join(OUT, 'find-820.png') });

@@ -138,6 +138,7 @@ export class FindPanel {
         h('table', { class: 'study-table' }, h('thead', { id: 'find-head' }), h('tbody', { id: 'find-rows' }))),
       h('div', { class: 'study-files' },
         h('button', { type: 'button', id: 'find-csv' }, 'Table as CSV'),
+        h('button', { type: 'button', id: 'find-png' }, 'Chart as PNG'),
         h('button', { type: 'button', id: 'find-open' }, 'Open search file…'),
         h('input', { type: 'file', id: 'find-file', accept: '.json,application/json', hidden: true }),
         h('button', { type: 'button', id: 'find-save' }, 'Save search file')));
@@ -153,6 +154,10 @@ export class FindPanel {
       const [file] = e.target.files;
       e.target.value = '';
       if (file) await this.openFile(file);
+    });
+    $('find-png').addEventListener('click', () => {
+      if ($('find-chart').hidden) return;
+      $('find-chart').toBlob((blob) => blob && download(blob, `${this.baseName()}-search.png`));
     });
     $('find-csv').addEventListener('click', () => {
       if (!this.csv) return;

@@ -70,6 +70,32 @@ describe('find the limit in the study panel', { concurrency: false }, () => {
     await page.setViewportSize({ width: 1280, height: 800 });
   });
 
+  test('every bend together: a factor on every radius, the picked bend\'s leak counted, as tirtrace study', async () => {
+    await page.check('#find-every');
+    await page.fill('#find-from', '3');
+    await page.fill('#find-to', '30');
+    await page.click('#find-run');
+    await page.waitForSelector('#study[data-find-state="done"]', { timeout: 300_000 });
+    const state = await keptState(page);
+    assert.equal(state.find.every, true);
+    const r0 = state.scenario.route[1].bend.radius_mm;
+    const native = cliStudy({
+      version: 1,
+      scenario: state.scenario,
+      find: { smallest: 'route[*].bend.radius_mm', from: 3 / r0, to: 30 / r0, bend: 1, bend_leak_at_most_percent: 1 },
+    });
+    const answer = page.locator('#find-answer');
+    assert.equal(await answer.getAttribute('data-verdict'), native.verdict);
+    assert.equal(await answer.getAttribute('data-answer'), String(native.answer ?? ''));
+    assert.equal(await answer.getAttribute('data-low'), String(native.interval?.low ?? ''));
+    assert.equal(await answer.getAttribute('data-high'), String(native.interval?.high ?? ''));
+    if (native.verdict === 'found') {
+      assert.match(await answer.innerText(), /^Smallest centre-line radius of bend 2, every bend scaled alike, for ≤ 1 % leak in bend 2: /);
+    }
+    assert.match(await page.locator('#find-head').innerText(), /every bend scaled alike/);
+    await page.uncheck('#find-every');
+  });
+
   test('the search set-up is kept with the design over a reload', async () => {
     await page.fill('#find-percent', '2');
     await page.fill('#find-from', '5');

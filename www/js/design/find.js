@@ -130,6 +130,9 @@ export class FindPanel {
         h('div', { class: 'study-buttons' },
           h('button', { type: 'button', id: 'find-run', class: 'primary' }, 'Run'),
           h('button', { type: 'button', id: 'find-stop', disabled: true }, 'Stop'))),
+      h('label', { id: 'find-every-line', class: 'check-line', hidden: true },
+        h('input', { type: 'checkbox', id: 'find-every' }),
+        ' Every bend together: each bend’s radius times the same factor (the range is this bend’s radius; the leak counted is this bend’s)'),
       h('p', { id: 'find-msg', class: 'study-msg', role: 'status', 'aria-live': 'polite', hidden: true }),
       h('p', { id: 'find-progress', class: 'progress-text' }),
       h('p', { id: 'find-answer', class: 'find-answer', hidden: true }),
@@ -147,6 +150,12 @@ export class FindPanel {
     card.querySelector('.study-files').after(this.block);
     for (const r of mode.querySelectorAll('input')) r.addEventListener('change', () => this.setMode(r.value));
     $('find-run').addEventListener('click', () => this.run());
+    $('find-every').addEventListener('change', () => {
+      const f = this.setup();
+      if (!f) return;
+      f.every = $('find-every').checked;
+      this.onSaved();
+    });
     $('find-stop').addEventListener('click', () => this.stop('Stopped.'));
     $('find-save').addEventListener('click', () => this.saveFile());
     $('find-open').addEventListener('click', () => $('find-file').click());
@@ -223,18 +232,40 @@ export class FindPanel {
     $('find-from').value = showNumber(f.from, f.field, this.state.unit);
     $('find-to').value = showNumber(f.to, f.field, this.state.unit);
     $('find-percent').value = String(f.percent);
+    $('find-every-line').hidden = bend === null;
+    $('find-every').checked = bend !== null && !!f.every;
+  }
+
+  /** The design's value at `path` now (a bend's centre-line radius, mm). */
+  radiusNow(path) {
+    return Number(path.replace(/\[(\d+)\]/g, '.$1').split('.').reduce((v, k) => v?.[k], this.state.scenario));
+  }
+
+  /** For a report over a factor on every bend: the picked bend's path and radius, else null. */
+  scaleOf(r) {
+    if (!r.field.includes('[*]')) return null;
+    const bend = r.criterion.bend_leak_at_most?.bend;
+    if (bend === undefined) return null;
+    const path = `route[${bend}].bend.radius_mm`;
+    return { path, r0: this.tracedRadius ?? this.radiusNow(path) };
   }
 
   /** The study document with this search (the JSON `tirtrace study` reads). */
   document() {
     const f = this.setup();
     const bend = bendOf(f.field);
-    const find = {
+    let find = {
       [f.smallest ? 'smallest' : 'largest']: f.field,
       from: f.from,
       to: f.to,
       ...(bend !== null ? { bend_leak_at_most_percent: f.percent } : { delivered_loss_at_most_percent: f.percent }),
     };
+    if (bend !== null && f.every) {
+      // Every bend together: a factor on every radius, the range this bend's radius over its own,
+      // the leak counted this bend's.
+      const r0 = this.radiusNow(f.field);
+      find = { smallest: 'route[*].bend.radius_mm', from: f.from / r0, to: f.to / r0, bend, bend_leak_at_most_percent: f.percent };
+    }
     const name = `${this.state.scenario.name || 'Untitled design'}: ${f.smallest ? 'smallest' : 'largest'} ${this.study.labelOf(f.field)}`;
     return { version: 1, name, scenario: clone(this.state.scenario), find };
   }
@@ -273,6 +304,8 @@ export class FindPanel {
       Object.assign(f, read);
       this.onSaved();
     }
+    if (fromBendTable) f.every = false; // the bend table's Find is for that bend alone
+    this.tracedRadius = bendOf(f.field) !== null ? this.radiusNow(f.field) : null;
     const text = JSON.stringify(this.document());
     let finder;
     try {
@@ -382,13 +415,18 @@ export class FindPanel {
 
   /** The answer in the designer's words. */
   answerText(r) {
-    const unit = this.study.unitOf(r.field);
-    const n = (x) => `${showNumber(Number(x.toPrecision(3)), r.field, this.state.unit)}${unit ? ` ${unit}` : ''}`;
+    const scale = this.scaleOf(r);
+    const field = scale ? scale.path : r.field;
+    const unit = this.study.unitOf(field);
+    const n = (x) => {
+      const shown = `${showNumber(Number((scale ? x * scale.r0 : x).toPrecision(3)), field, this.state.unit)}${unit ? ` ${unit}` : ''}`;
+      return scale ? `${shown} (× ${Number(x.toPrecision(3))})` : shown;
+    };
     const pct = r.criterion.bend_leak_at_most ? r.criterion.bend_leak_at_most.fraction * 100 : r.criterion.delivered_loss_at_most.fraction * 100;
     const bend = r.criterion.bend_leak_at_most?.bend;
     const label = this.study.labelOf(r.field);
     const what = bend !== undefined
-      ? `${r.direction === 'smallest' ? 'Smallest' : 'Largest'} ${bendOf(r.field) !== null ? 'centre-line radius' : `“${label}”`} for ≤ ${pct} % leak in bend ${bend + 1}`
+      ? `${r.direction === 'smallest' ? 'Smallest' : 'Largest'} ${scale ? `centre-line radius of bend ${bend + 1}, every bend scaled alike,` : bendOf(r.field) !== null ? 'centre-line radius' : `“${label}”`} for ≤ ${pct} % leak in bend ${bend + 1}`
       : `Largest “${label}” keeping delivered within ${pct} % of the design’s own`;
     switch (r.verdict) {
       case 'found': {
@@ -419,16 +457,18 @@ export class FindPanel {
     answer.dataset.low = String(r.interval?.low ?? '');
     answer.dataset.high = String(r.interval?.high ?? '');
     answer.hidden = false;
-    const unit = this.study.unitOf(r.field);
+    const scale = this.scaleOf(r);
+    const field = scale ? scale.path : r.field;
+    const unit = this.study.unitOf(field);
     const bend = r.criterion.bend_leak_at_most !== undefined;
     $('find-head').replaceChildren(h('tr', {}, [
-      `${this.study.labelOf(r.field)}${unit ? ` (${unit})` : ''}`,
+      `${this.study.labelOf(field)}${unit ? ` (${unit})` : ''}${scale ? ', every bend scaled alike' : ''}`,
       bend ? 'Leak of the light entering the bend (%)' : 'Delivered (%)',
       'Meets the allowed loss',
       'Problems',
     ].map((t) => h('th', { scope: 'col', text: t }))));
     $('find-rows').replaceChildren(...r.evaluations.map((e) => h('tr', { dataset: { value: String(e.value) } },
-      h('th', { scope: 'row', class: 'num', text: showNumber(Number(e.value.toPrecision(6)), r.field, this.state.unit) }),
+      h('th', { scope: 'row', class: 'num', text: scale ? `${showNumber(Number((e.value * scale.r0).toPrecision(6)), field, this.state.unit)} (× ${Number(e.value.toPrecision(3))})` : showNumber(Number(e.value.toPrecision(6)), r.field, this.state.unit) }),
       h('td', { class: 'num', text: bend ? (e.bend_leak_fraction == null ? '—' : formatShare(e.bend_leak_fraction, 1e-4)) : shareText(e.delivered) }),
       h('td', { text: e.holds === undefined ? '—' : e.holds ? 'yes' : 'no' }),
       h('td', { class: 'problem', text: (e.problems ?? []).map((p) => this.inWords(p)).join(' · ') }))));
@@ -474,13 +514,18 @@ export class FindPanel {
       this.message(`The design in ${file.name} cannot be used: ${messageOf(e)}`, 'error');
       return;
     }
-    this.state.study = { ...(this.state.study ?? { steps: 4 }), field: path, label: this.study.labelOf(path) };
+    // Every bend together (a factor on route[*]): shown as the counted bend's radius.
+    const every = path.includes('[*]') && Number.isInteger(find.bend);
+    const field = every ? `route[${find.bend}].bend.radius_mm` : path;
+    const r0 = every ? this.radiusNow(field) : 1;
+    this.state.study = { ...(this.state.study ?? { steps: 4 }), field, label: this.study.labelOf(field) };
     this.state.find = {
-      field: path,
+      field,
       smallest: typeof find.smallest === 'string',
-      from: find.from,
-      to: find.to,
+      from: find.from * r0,
+      to: find.to * r0,
       percent: find.bend_leak_at_most_percent ?? find.delivered_loss_at_most_percent ?? DEFAULT_PERCENT,
+      ...(every ? { every: true } : {}),
     };
     this.onSaved();
     this.study.showSetup();

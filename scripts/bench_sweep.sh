@@ -36,5 +36,5 @@ print(f"sweep {statistics.median(sweep_s):.2f} s, one trace of {points*rays} ray
 PY
 # The page: the same sweep with one worker per core in headless Chromium, against one trace of the
 # same total rays in the same page (both warmed, end to end).
-bash scripts/build.sh > /dev/null
+bash scripts/build.sh > /dev/null 2>&1
 node benches/page_sweep_speed.mjs examples/studies/bench_bend_sweep.json "$rays"

@@ -352,34 +352,21 @@ fn tolerance(
 ) -> Result<String, String> {
     let tolerance = study.prepare_tolerance().map_err(refused)?;
     if args.piece.is_some() || !args.merge.is_empty() {
-        let doc = traced_study(study, text)?;
-        if let Some(piece) = &args.piece {
-            let (k, n) = piece_k_of_n(piece)?;
-            let piece = tolerance
-                .piece(&doc, k, n)
-                .map_err(|m| format!("--piece {m}"))?;
-            return serde_json::to_string(&piece).map_err(|e| e.to_string());
-        }
-        let pieces = read_pieces(&args.merge)?;
-        let merged = tolerance.merge_pieces(&doc, &pieces, &args.merge)?;
-        return tolerance_output(&tolerance, &merged, args.csv);
+        return match in_pieces(
+            args,
+            &traced_study(study, text)?,
+            |doc, k, n| tolerance.piece(doc, k, n),
+            |doc, pieces, names| tolerance.merge_pieces(doc, pieces, names),
+        )? {
+            InPieces::Piece(json) => Ok(json),
+            InPieces::Merged(merged) => tolerance_output(&tolerance, &merged, args.csv),
+        };
     }
-    let batches = tolerance.batch_count();
-    let show = std::io::stderr().is_terminal();
     let merged = tolerance
-        .trace_all_parallel(args.threads, |done| {
-            if show {
-                let mut e = std::io::stderr().lock();
-                let _ = write!(
-                    e,
-                    "\rtirtrace: traced {done} of {batches} batches of every variant"
-                );
-                if done >= batches {
-                    let _ = writeln!(e);
-                }
-                let _ = e.flush();
-            }
-        })
+        .trace_all_parallel(
+            args.threads,
+            progress_line(tolerance.batch_count(), "variant"),
+        )
         .map_err(|e| format!("--threads: could not start {} threads: {e}", args.threads))?;
     tolerance_output(&tolerance, &merged, args.csv)
 }
@@ -405,6 +392,54 @@ fn traced_study(study: &Study, text: &str) -> Result<serde_json::Value, String> 
     doc["scenario"]["trace"]["rays"] = study.scenario.trace.rays.into();
     doc["scenario"]["trace"]["seed"] = study.scenario.trace.seed.into();
     Ok(doc)
+}
+
+/// What `--piece` or `--merge` asked for: one piece traced (its JSON), or the pieces merged.
+enum InPieces<B> {
+    Piece(String),
+    Merged(B),
+}
+
+/// `--piece K/N`: trace that piece with `piece`; `--merge`: read the pieces and merge them with
+/// `merge`. `doc` is the study as traced ([`traced_study`]).
+fn in_pieces<B: serde::Serialize + serde::de::DeserializeOwned>(
+    args: &StudyArgs,
+    doc: &serde_json::Value,
+    piece: impl Fn(&serde_json::Value, u64, u64) -> Result<tirtrace::study::pieces::Piece<B>, String>,
+    merge: impl Fn(
+        &serde_json::Value,
+        &[tirtrace::study::pieces::Piece<B>],
+        &[String],
+    ) -> Result<B, String>,
+) -> Result<InPieces<B>, String> {
+    if let Some(text) = &args.piece {
+        let (k, n) = piece_k_of_n(text)?;
+        let piece = piece(doc, k, n).map_err(|m| format!("--piece {m}"))?;
+        return serde_json::to_string(&piece)
+            .map(InPieces::Piece)
+            .map_err(|e| e.to_string());
+    }
+    let pieces = read_pieces(&args.merge)?;
+    merge(doc, &pieces, &args.merge).map(InPieces::Merged)
+}
+
+/// The progress line of a long study on a terminal (nothing when standard error is not one):
+/// "traced D of B batches of every {unit}", ended by a new line at the last batch.
+fn progress_line(batches: u64, unit: &'static str) -> impl FnMut(u64) {
+    let show = std::io::stderr().is_terminal();
+    move |done| {
+        if show {
+            let mut e = std::io::stderr().lock();
+            let _ = write!(
+                e,
+                "\rtirtrace: traced {done} of {batches} batches of every {unit}"
+            );
+            if done >= batches {
+                let _ = writeln!(e);
+            }
+            let _ = e.flush();
+        }
+    }
 }
 
 /// `--piece K/N` read.
@@ -438,34 +473,18 @@ fn sweep(
 ) -> Result<String, String> {
     let sweep = study.prepare_sweep().map_err(refused)?;
     if args.piece.is_some() || !args.merge.is_empty() {
-        let doc = traced_study(study, text)?;
-        if let Some(piece) = &args.piece {
-            let (k, n) = piece_k_of_n(piece)?;
-            let piece = sweep
-                .piece(&doc, k, n)
-                .map_err(|m| format!("--piece {m}"))?;
-            return serde_json::to_string(&piece).map_err(|e| e.to_string());
-        }
-        let pieces: Vec<tirtrace::study::pieces::Piece> = read_pieces(&args.merge)?;
-        let merged = sweep.merge_pieces(&doc, &pieces, &args.merge)?;
-        return sweep_output(&sweep, &merged, args.csv);
+        return match in_pieces(
+            args,
+            &traced_study(study, text)?,
+            |doc, k, n| sweep.piece(doc, k, n),
+            |doc, pieces, names| sweep.merge_pieces(doc, pieces, names),
+        )? {
+            InPieces::Piece(json) => Ok(json),
+            InPieces::Merged(merged) => sweep_output(&sweep, &merged, args.csv),
+        };
     }
-    let batches = sweep.batch_count();
-    let show = std::io::stderr().is_terminal();
     let merged = sweep
-        .trace_all_parallel(args.threads, |done| {
-            if show {
-                let mut e = std::io::stderr().lock();
-                let _ = write!(
-                    e,
-                    "\rtirtrace: traced {done} of {batches} batches of every point"
-                );
-                if done >= batches {
-                    let _ = writeln!(e);
-                }
-                let _ = e.flush();
-            }
-        })
+        .trace_all_parallel(args.threads, progress_line(sweep.batch_count(), "point"))
         .map_err(|e| format!("--threads: could not start {} threads: {e}", args.threads))?;
     sweep_output(&sweep, &merged, args.csv)
 }

@@ -38,6 +38,12 @@ pub struct ScenarioCheck {
     pub problems: Vec<Problem>,
 }
 
+/// A document's text without the byte-order mark some editors write at its start (U+FEFF):
+/// JSON does not allow one, but it carries no content, so every reader of a document drops it.
+pub fn without_bom(text: &str) -> &str {
+    text.strip_prefix('\u{feff}').unwrap_or(text)
+}
+
 /// Read a scenario from JSON text. On failure, the one problem where reading stopped: its
 /// field is the path serde reached (`scenario` for the document as a whole, e.g. bad JSON
 /// syntax at the top, or an array given for the document) and its message is the same text as

@@ -115,7 +115,8 @@ pub struct Indices {
 impl QuickDesign {
     /// Read a design from JSON text; unknown fields and wrong types are errors.
     pub fn from_json(text: &str) -> Result<Self, TirError> {
-        serde_json::from_str(text).map_err(|e| TirError::Parse(e.to_string()))
+        serde_json::from_str(crate::problems::without_bom(text))
+            .map_err(|e| TirError::Parse(e.to_string()))
     }
 
     /// Every problem with the design, each naming its field and the allowed range. Empty when

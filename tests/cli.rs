@@ -766,3 +766,38 @@ fn a_tolerance_study_in_pieces_merges_to_the_whole_run_byte_for_byte() {
         "{e}"
     );
 }
+
+#[test]
+fn a_byte_order_mark_at_the_start_of_a_document_is_accepted() {
+    // Some editors start a UTF-8 file with U+FEFF; it carries no content. Scenario, study and
+    // quick-look design documents read with one give the same answer as without, from standard
+    // input and from a file.
+    let with_bom = |text: &str| format!("\u{feff}{text}");
+    let scenario = std::fs::read_to_string(THERMOSTAT).unwrap();
+    assert_eq!(
+        ok_stdout(&["check", "-"], &with_bom(&scenario)),
+        ok_stdout(&["check", "-"], &scenario)
+    );
+    let study = radius_study("[7, 9]");
+    let args = ["study", "-", "--rays", "3000"];
+    assert_eq!(
+        ok_stdout(&args, &with_bom(&study)),
+        ok_stdout(&args, &study)
+    );
+    let design =
+        std::fs::read_to_string("examples/designs/bike_light_charge_indicator.json").unwrap();
+    assert_eq!(
+        ok_stdout(&["figures", "-"], &with_bom(&design)),
+        ok_stdout(&["figures", "-"], &design)
+    );
+    let file = std::path::Path::new(env!("CARGO_TARGET_TMPDIR")).join("bom-scenario.json");
+    std::fs::write(&file, with_bom(&scenario)).unwrap();
+    assert_eq!(
+        ok_stdout(&["check", file.to_str().unwrap()], ""),
+        ok_stdout(&["check", THERMOSTAT], "")
+    );
+    // In the core, for every reader (the page hands text to these).
+    assert!(tirtrace::scenario::Scenario::from_json(&with_bom(&scenario)).is_ok());
+    assert!(tirtrace::study::Study::from_json(&with_bom(&study)).is_ok());
+    assert!(tirtrace::quick::QuickDesign::from_json(&with_bom(&design)).is_ok());
+}

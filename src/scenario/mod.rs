@@ -464,6 +464,7 @@ impl Scenario {
     /// [`Scenario::from_json`], with the path serde reached where reading stopped (empty for
     /// the document as a whole) beside the error, for a form that marks the field.
     pub(crate) fn read_json(text: &str) -> Result<Self, (String, TirError)> {
+        let text = crate::problems::without_bom(text);
         let de = &mut serde_json::Deserializer::from_str(text);
         serde_path_to_error::deserialize(de).map_err(|e| {
             let path = e.path().to_string();

@@ -241,6 +241,7 @@ impl Study {
     /// Read a study document; on failure every problem found, each naming its field path in the
     /// study document and the allowed range.
     pub fn from_json(text: &str) -> Result<Study, Vec<Problem>> {
+        let text = crate::problems::without_bom(text);
         let de = &mut serde_json::Deserializer::from_str(text);
         let doc: StudyDocument = serde_path_to_error::deserialize(de).map_err(|e| {
             let path = e.path().to_string();

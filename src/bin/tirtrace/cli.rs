@@ -147,16 +147,18 @@ struct TraceArgs {
     csv: bool,
 }
 
+/// A document's text from a file or standard input (`-`), without a leading byte-order mark.
 fn read_text(file: &str) -> Result<String, String> {
-    if file == "-" {
+    let text = if file == "-" {
         let mut s = String::new();
         std::io::stdin()
             .read_to_string(&mut s)
             .map_err(|e| format!("could not read standard input: {e}"))?;
-        Ok(s)
+        s
     } else {
-        std::fs::read_to_string(file).map_err(|e| format!("could not read {file}: {e}"))
-    }
+        std::fs::read_to_string(file).map_err(|e| format!("could not read {file}: {e}"))?
+    };
+    Ok(tirtrace::problems::without_bom(&text).to_string())
 }
 
 /// The first problem, with a count of the others.

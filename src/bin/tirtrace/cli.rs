@@ -69,25 +69,8 @@ enum Command {
 struct StudyArgs {
     /// The study document (JSON); `-` reads standard input.
     file: String,
-    // Number of rays per point; the help names the range of limits::RAYS.
-    #[arg(
-        long,
-        value_name = "N",
-        allow_negative_numbers = true,
-        help = format!("Number of rays per point (overrides the scenario's trace.rays; {} to {})", RAYS.min, RAYS.max)
-    )]
-    rays: Option<i64>,
-    /// Seed of the random sequence shared by every point (overrides the scenario's trace.seed).
-    #[arg(long, value_name = "N", allow_negative_numbers = true)]
-    seed: Option<u64>,
-    /// Worker threads, 0 for all cores. Results are identical for any thread count.
-    #[arg(
-        long,
-        value_name = "N",
-        default_value_t = 0,
-        allow_negative_numbers = true
-    )]
-    threads: usize,
+    #[command(flatten)]
+    run: RunArgs,
     /// Print CSV instead (for a sweep: one row per point, units in the header; for a search: one
     /// row per evaluated value).
     #[arg(long)]
@@ -102,6 +85,56 @@ struct StudyArgs {
     merge: Vec<String>,
 }
 
+/// The trace settings `trace` and `study` take from the command line.
+#[derive(Args)]
+struct RunArgs {
+    // Number of rays (per point of a study); the help names the range of limits::RAYS.
+    #[arg(
+        long,
+        value_name = "N",
+        allow_negative_numbers = true,
+        help = format!("Number of rays, per point or variant in a study (overrides the scenario's trace.rays; {} to {})", RAYS.min, RAYS.max)
+    )]
+    rays: Option<i64>,
+    /// Seed of the random sequence, shared by every point of a study (overrides the scenario's
+    /// trace.seed).
+    #[arg(long, value_name = "N", allow_negative_numbers = true)]
+    seed: Option<u64>,
+    /// Worker threads, 0 for all cores. Results are identical for any thread count.
+    #[arg(
+        long,
+        value_name = "N",
+        default_value_t = 0,
+        allow_negative_numbers = true
+    )]
+    threads: usize,
+}
+
+impl RunArgs {
+    /// Set the scenario's trace settings from the options given; a problem names the option
+    /// and its allowed range.
+    fn apply(&self, trace: &mut tirtrace::scenario::TraceSettings) -> Result<(), String> {
+        if let Some(rays) = self.rays {
+            // Parsed signed so that a negative count gets the range message, not a parse error.
+            if !(RAYS.min as i64..=RAYS.max as i64).contains(&rays) {
+                return Err(format!("--rays {}, got {rays}", RAYS.rule()));
+            }
+            trace.rays = rays as u64;
+        }
+        if let Some(seed) = self.seed {
+            trace.seed = seed;
+        }
+        if !THREADS.contains(self.threads as u64) {
+            return Err(format!(
+                "--threads {} (0 = all cores), got {}",
+                THREADS.rule(),
+                self.threads
+            ));
+        }
+        Ok(())
+    }
+}
+
 /// The documents `tirtrace schema` can print.
 fn schema_names() -> clap::builder::PossibleValuesParser {
     tirtrace::schema::DOCUMENTS
@@ -114,25 +147,8 @@ fn schema_names() -> clap::builder::PossibleValuesParser {
 struct TraceArgs {
     /// The scenario document (JSON); `-` reads standard input.
     file: String,
-    // Number of rays; the help names the range of limits::RAYS.
-    #[arg(
-        long,
-        value_name = "N",
-        allow_negative_numbers = true,
-        help = format!("Number of rays (overrides the scenario's trace.rays; {} to {})", RAYS.min, RAYS.max)
-    )]
-    rays: Option<i64>,
-    /// Seed of the random sequence (overrides the scenario's trace.seed).
-    #[arg(long, value_name = "N", allow_negative_numbers = true)]
-    seed: Option<u64>,
-    /// Worker threads, 0 for all cores. Results are identical for any thread count.
-    #[arg(
-        long,
-        value_name = "N",
-        default_value_t = 0,
-        allow_negative_numbers = true
-    )]
-    threads: usize,
+    #[command(flatten)]
+    run: RunArgs,
     // Sampled ray paths; the help names the range of limits::PATHS.
     #[arg(
         long,
@@ -209,22 +225,13 @@ fn trace_all(
 
 fn trace(args: TraceArgs) -> Result<String, String> {
     let mut scenario = read_scenario(&args.file)?;
-    if let Some(rays) = args.rays {
-        // Parsed signed so that a negative count gets the range message, not a parse error.
-        if rays < RAYS.min as i64 {
-            return Err(format!("--rays {}, got {rays}", RAYS.rule()));
-        }
-        scenario.trace.rays = rays as u64;
-    }
-    if let Some(seed) = args.seed {
-        scenario.trace.seed = seed;
-    }
+    args.run.apply(&mut scenario.trace)?;
     // The options are checked by the scenario's own ranges and reported under their names.
     let problems: Vec<FieldError> = scenario
         .problems()
         .into_iter()
         .map(|mut p| {
-            if p.field == "trace.rays" && args.rays.is_some() {
+            if p.field == "trace.rays" && args.run.rays.is_some() {
                 p.field = "--rays".to_string();
             }
             p
@@ -232,13 +239,6 @@ fn trace(args: TraceArgs) -> Result<String, String> {
         .collect();
     if !problems.is_empty() {
         return Err(first_problem(&problems));
-    }
-    if !THREADS.contains(args.threads as u64) {
-        return Err(format!(
-            "--threads {} (0 = all cores), got {}",
-            THREADS.rule(),
-            args.threads
-        ));
     }
     if let Some(n) = args.paths.filter(|&n| !PATHS.contains(n as u64)) {
         return Err(format!(
@@ -249,16 +249,21 @@ fn trace(args: TraceArgs) -> Result<String, String> {
     let prepared = Prepared::new(&scenario).map_err(|e| e.to_string())?;
     let total_rays = scenario.trace.rays;
     let show = std::io::stderr().is_terminal();
-    let batch = trace_all(&prepared, args.threads, args.paths.unwrap_or(0), |done| {
-        if show {
-            let mut e = std::io::stderr().lock();
-            let _ = write!(e, "\rtirtrace: traced {done} of {total_rays} rays");
-            if done >= total_rays {
-                let _ = writeln!(e);
+    let batch = trace_all(
+        &prepared,
+        args.run.threads,
+        args.paths.unwrap_or(0),
+        |done| {
+            if show {
+                let mut e = std::io::stderr().lock();
+                let _ = write!(e, "\rtirtrace: traced {done} of {total_rays} rays");
+                if done >= total_rays {
+                    let _ = writeln!(e);
+                }
+                let _ = e.flush();
             }
-            let _ = e.flush();
-        }
-    })?;
+        },
+    )?;
     let report = prepared.report(&batch);
     if args.csv {
         // `main` adds the final newline.
@@ -282,29 +287,13 @@ fn first_study_problem(problems: &[Problem]) -> String {
 fn study(args: StudyArgs) -> Result<String, String> {
     let text = read_text(&args.file)?;
     let mut study = Study::from_json(&text).map_err(|p| first_study_problem(&p))?;
-    if let Some(rays) = args.rays {
-        // Parsed signed so that a negative count gets the range message, not a parse error.
-        if !(RAYS.min as i64..=RAYS.max as i64).contains(&rays) {
-            return Err(format!("--rays {}, got {rays}", RAYS.rule()));
-        }
-        study.scenario.trace.rays = rays as u64;
-    }
-    if let Some(seed) = args.seed {
-        study.scenario.trace.seed = seed;
-    }
-    if !THREADS.contains(args.threads as u64) {
-        return Err(format!(
-            "--threads {} (0 = all cores), got {}",
-            THREADS.rule(),
-            args.threads
-        ));
-    }
+    args.run.apply(&mut study.scenario.trace)?;
     // The command line's seed is named as the user gave it.
     let refused = |problems: Vec<Problem>| {
         let problems: Vec<Problem> = problems
             .into_iter()
             .map(|mut p| {
-                if p.field == "scenario.trace.seed" && args.seed.is_some() {
+                if p.field == "scenario.trace.seed" && args.run.seed.is_some() {
                     p.message = p.message.replacen("trace.seed", "--seed", 1);
                 }
                 p
@@ -334,9 +323,12 @@ fn find(
         );
     }
     let find = study.prepare_find().map_err(refused)?;
-    let report = find
-        .run_parallel(args.threads)
-        .map_err(|e| format!("--threads: could not start {} threads: {e}", args.threads))?;
+    let report = find.run_parallel(args.run.threads).map_err(|e| {
+        format!(
+            "--threads: could not start {} threads: {e}",
+            args.run.threads
+        )
+    })?;
     if args.csv {
         let csv = tirtrace::study::find::report_csv(&report);
         Ok(csv.strip_suffix('\n').unwrap_or(&csv).to_string())
@@ -366,10 +358,15 @@ fn tolerance(
     }
     let merged = tolerance
         .trace_all_parallel(
-            args.threads,
+            args.run.threads,
             progress_line(tolerance.batch_count(), "variant"),
         )
-        .map_err(|e| format!("--threads: could not start {} threads: {e}", args.threads))?;
+        .map_err(|e| {
+            format!(
+                "--threads: could not start {} threads: {e}",
+                args.run.threads
+            )
+        })?;
     tolerance_output(&tolerance, &merged, args.csv)
 }
 
@@ -486,8 +483,16 @@ fn sweep(
         };
     }
     let merged = sweep
-        .trace_all_parallel(args.threads, progress_line(sweep.batch_count(), "point"))
-        .map_err(|e| format!("--threads: could not start {} threads: {e}", args.threads))?;
+        .trace_all_parallel(
+            args.run.threads,
+            progress_line(sweep.batch_count(), "point"),
+        )
+        .map_err(|e| {
+            format!(
+                "--threads: could not start {} threads: {e}",
+                args.run.threads
+            )
+        })?;
     sweep_output(&sweep, &merged, args.csv)
 }
 

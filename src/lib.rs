@@ -22,6 +22,7 @@ pub mod limits;
 pub mod outline;
 pub mod problems;
 pub mod quick;
+pub mod reading;
 pub mod scenario;
 pub mod schema;
 pub mod source;

@@ -13,8 +13,9 @@ use crate::error::{show, FieldError};
 /// An allowed interval of a real number: each end open or closed, with the unit shown after
 /// each bound and an optional note after the rule. NaN and ±∞ are always refused.
 ///
-/// [`Range::check`] words a refusal as `must be ≥ 0 mm and < 12 mm (the segment's length), got
-/// 13`; an infinite upper end leaves the upper bound out of the rule.
+/// [`Range::check`] words a refusal by the end it breaks, `must be at least 0 mm, got -1` or
+/// `must be less than 90°, got 90`; [`Range::rule`] states both ends, and an infinite upper end
+/// leaves the upper bound out of it.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct Range {
     /// Lower bound.
@@ -82,44 +83,81 @@ impl Range {
 
     /// Whether `x` lies in the range (never for NaN or ±∞).
     pub fn contains(&self, x: f64) -> bool {
-        let ok_lo = if self.lo_closed {
+        x.is_finite() && self.above_lo(x) && self.below_hi(x)
+    }
+
+    fn above_lo(&self, x: f64) -> bool {
+        if self.lo_closed {
             x >= self.lo
         } else {
             x > self.lo
-        };
-        let ok_hi = if self.hi_closed {
+        }
+    }
+
+    fn below_hi(&self, x: f64) -> bool {
+        if self.hi_closed {
             x <= self.hi
         } else {
             x < self.hi
-        };
-        x.is_finite() && ok_lo && ok_hi
+        }
     }
 
-    /// The rule for people: `must be > 0 mm and ≤ 1000 mm`, then the note.
+    /// The lower end in words: `more than 0 mm`, `at least 200 nm`.
+    fn lo_words(&self) -> String {
+        let word = if self.lo_closed {
+            "at least"
+        } else {
+            "more than"
+        };
+        format!("{word} {}{}", show(self.lo), self.unit)
+    }
+
+    /// The upper end in words: `at most 1000 mm`, `less than 90°`.
+    fn hi_words(&self) -> String {
+        let word = if self.hi_closed {
+            "at most"
+        } else {
+            "less than"
+        };
+        format!("{word} {}{}", show(self.hi), self.unit)
+    }
+
+    /// The whole rule for people, in words: `must be more than 0 mm and at most 1000 mm`, then
+    /// the note.
     pub fn rule(&self) -> String {
-        let lo_s = if self.lo_closed { "≥" } else { ">" };
-        let hi_s = if self.hi_closed { "≤" } else { "<" };
-        let (unit, note) = (self.unit, self.note);
         if self.hi.is_infinite() {
-            format!("must be {lo_s} {}{unit}{note}", show(self.lo))
+            format!("must be {}{}", self.lo_words(), self.note)
         } else {
             format!(
-                "must be {lo_s} {}{unit} and {hi_s} {}{unit}{note}",
-                show(self.lo),
-                show(self.hi)
+                "must be {} and {}{}",
+                self.lo_words(),
+                self.hi_words(),
+                self.note
             )
         }
     }
 
-    /// `x` when it lies in the range, else a problem of `field` naming the rule and the value.
+    /// Why `x` is refused, in words: only the end it breaks (`must be more than 1.25 mm (note),
+    /// got 1`, `must be at most 1000 mm, got 2000`), so that a short message says what to do;
+    /// the whole rule for a value that is not a finite number. The note (which explains the
+    /// lower end, e.g. one set by another field with [`Range::above`]) follows the lower end.
+    pub fn refusal(&self, x: f64) -> String {
+        if !x.is_finite() {
+            format!("{}, got {}", self.rule(), show(x))
+        } else if !self.above_lo(x) {
+            format!("must be {}{}, got {}", self.lo_words(), self.note, show(x))
+        } else {
+            format!("must be {}, got {}", self.hi_words(), show(x))
+        }
+    }
+
+    /// `x` when it lies in the range, else a problem of `field` naming the end it breaks and
+    /// the value ([`Range::refusal`]).
     pub fn check(&self, field: &str, x: f64) -> Result<f64, FieldError> {
         if self.contains(x) {
             Ok(x)
         } else {
-            Err(FieldError::new(
-                field,
-                format!("{}, got {}", self.rule(), show(x)),
-            ))
+            Err(FieldError::new(field, self.refusal(x)))
         }
     }
 }
@@ -144,9 +182,19 @@ impl Count {
         (self.min..=self.max).contains(&n)
     }
 
-    /// The rule for people: `must be ≥ 1 and ≤ 1000000000`.
+    /// The rule for people: `must be a whole number from 1 to 10⁹`.
     pub fn rule(&self) -> String {
-        format!("must be ≥ {} and ≤ {}", self.min, self.max)
+        format!(
+            "must be a whole number from {} to {}",
+            show_count(self.min),
+            show_count(self.max)
+        )
+    }
+
+    /// The range alone, for a sentence of its own: `from 2 to 200` (`must list from 2 to 200
+    /// values`).
+    pub fn span(&self) -> String {
+        format!("from {} to {}", show_count(self.min), show_count(self.max))
     }
 
     /// `n` when it lies in the range, else a problem of `field` naming the rule and the value.
@@ -154,9 +202,35 @@ impl Count {
         if self.contains(n) {
             Ok(n)
         } else {
-            Err(FieldError::new(field, format!("{}, got {n}", self.rule())))
+            Err(FieldError::new(
+                field,
+                format!("{}, got {}", self.rule(), show_count(n)),
+            ))
         }
     }
+}
+
+/// A count for people: as digits up to a million, a power of ten as `10⁹`, the largest whole
+/// number a browser keeps as `2⁵³ − 1`, and other large counts in e-notation (`1.2e10`) so that
+/// a message never spells out a long number.
+pub fn show_count(n: u64) -> String {
+    const SUPERSCRIPTS: [char; 10] = ['⁰', '¹', '²', '³', '⁴', '⁵', '⁶', '⁷', '⁸', '⁹'];
+    if n <= 1_000_000 {
+        return n.to_string();
+    }
+    if n == MAX_WHOLE {
+        return "2⁵³ − 1".to_string();
+    }
+    let digits = n.to_string();
+    if digits[1..].bytes().all(|b| b == b'0') && digits.starts_with('1') {
+        let power: String = (digits.len() - 1)
+            .to_string()
+            .bytes()
+            .map(|b| SUPERSCRIPTS[usize::from(b - b'0')])
+            .collect();
+        return format!("10{power}");
+    }
+    show(n as f64)
 }
 
 /// The problems a document's checks find, in the order the checks run (which is the order they
@@ -204,9 +278,15 @@ impl FieldErrors {
     }
 }
 
-/// A size `0 < x ≤ max_mm`, mm: the commonest range.
+/// Smallest size of anything in a document (a section, a length, an emitter, a detector), mm.
+/// Physics: below a micrometre — two wavelengths of visible light — ray optics no longer
+/// describes a light pipe; and every area and length a report divides by then stays far from
+/// zero, so no infinity or NaN can reach a figure.
+pub const MIN_SIZE_MM: f64 = 0.001;
+
+/// A size `0.001 ≤ x ≤ max_mm`, mm ([`MIN_SIZE_MM`]): the commonest range.
 const fn size_mm(max_mm: f64) -> Range {
-    Range::open_closed(0.0, max_mm).unit(" mm")
+    Range::closed(MIN_SIZE_MM, max_mm).unit(" mm")
 }
 
 // --- Light ---------------------------------------------------------------------------------
@@ -240,7 +320,7 @@ pub const FLUX: Range = Range::open_closed(0.0, 1e9);
 /// [`Range::above`]). Physics: an LED emits into the half-space ahead, up to 90°.
 pub const TABLE_ANGLE_DEG: Range = Range::closed(0.0, 90.0)
     .unit("°")
-    .note(" (angles ascending)");
+    .note(" (the previous row's angle: angles ascend)");
 
 /// Relative intensity of an intensity table's row. Sanity: relative values need no more than
 /// twelve decades.
@@ -293,7 +373,7 @@ pub const SECTOR_DEG: Range = Range::closed_open(0.0, 360.0).unit("°");
 /// End of a contact's sector, degrees: after its start, up to a full turn.
 pub const SECTOR_END_DEG: Range = Range::closed(0.0, 360.0)
     .unit("°")
-    .note(" (after sector_from_deg)");
+    .note(" (where the sector starts)");
 
 // --- Source and receiver -------------------------------------------------------------------
 
@@ -428,17 +508,14 @@ mod tests {
                 .check("diameter_mm", 0.0),
             Err(FieldError::new(
                 "diameter_mm",
-                "must be > 0 mm and ≤ 1000 mm, got 0"
+                "must be more than 0 mm, got 0"
             ))
         );
         assert_eq!(
             Range::closed_open(0.0, 90.0)
                 .unit("°")
                 .check("tilt_deg", 90.0),
-            Err(FieldError::new(
-                "tilt_deg",
-                "must be ≥ 0° and < 90°, got 90"
-            ))
+            Err(FieldError::new("tilt_deg", "must be less than 90°, got 90"))
         );
         assert_eq!(WAVELENGTH_NM.check("wavelength_nm", 2500.0), Ok(2500.0));
         assert_eq!(WAVELENGTH_NM.check("wavelength_nm", 200.0), Ok(200.0));
@@ -455,7 +532,9 @@ mod tests {
             assert!(!r.contains(x));
             assert_eq!(
                 r.check("receiver.distance_mm", x).unwrap_err().to_string(),
-                format!("receiver.distance_mm must be ≥ 0 mm and ≤ 100000 mm, got {got}")
+                format!(
+                    "receiver.distance_mm must be at least 0 mm and at most 100000 mm, got {got}"
+                )
             );
         }
         // An unbounded range still refuses +∞, and leaves its upper bound out of the rule.
@@ -463,30 +542,38 @@ mod tests {
         assert!(r.contains(1e300) && !r.contains(f64::INFINITY));
         assert_eq!(
             r.check("n", f64::INFINITY).unwrap_err().message,
-            "must be ≥ 1, got infinite"
+            "must be at least 1, got infinite"
         );
     }
 
     #[test]
-    fn range_notes_follow_the_rule_and_bounds_follow_show() {
+    fn a_refusal_names_the_end_it_breaks_with_the_note_after_the_lower_end() {
         let r = Range::closed(0.0, 12.5)
             .unit(" mm")
-            .note(" (the segment's length)")
+            .note(" (where the mount starts)")
             .above(3.0);
         assert_eq!(
             r.check("to_mm", 3.0).unwrap_err().message,
-            "must be > 3 mm and ≤ 12.5 mm (the segment's length), got 3"
+            "must be more than 3 mm (where the mount starts), got 3"
+        );
+        assert_eq!(
+            r.check("to_mm", 13.0).unwrap_err().message,
+            "must be at most 12.5 mm, got 13"
+        );
+        assert_eq!(
+            r.rule(),
+            "must be more than 3 mm and at most 12.5 mm (where the mount starts)"
         );
         assert_eq!(
             TABLE_INTENSITY.check("v", -1e-9).unwrap_err().message,
-            "must be ≥ 0 and ≤ 1e12, got -1e-9"
+            "must be at least 0, got -1e-9"
         );
         assert_eq!(
             FLUX.unit(" lm")
                 .check("source.flux.lm", 2e9)
                 .unwrap_err()
                 .message,
-            "must be > 0 lm and ≤ 1e9 lm, got 2e9"
+            "must be at most 1e9 lm, got 2e9"
         );
     }
 
@@ -496,8 +583,15 @@ mod tests {
         assert!(!RAYS.contains(0) && !RAYS.contains(1_000_000_001));
         assert_eq!(
             RAYS.check("trace.rays", 0).unwrap_err().message,
-            "must be ≥ 1 and ≤ 1000000000, got 0"
+            "must be a whole number from 1 to 10⁹, got 0"
         );
+        assert_eq!(
+            Count::new(0, MAX_WHOLE).rule(),
+            "must be a whole number from 0 to 2⁵³ − 1"
+        );
+        assert_eq!(show_count(1_000_000), "1000000");
+        assert_eq!(show_count(10_000_000), "10⁷");
+        assert_eq!(show_count(12_345_678_901), "1.234568e10");
         assert_eq!(THREADS.check("--threads", 1024), Ok(1024));
     }
 

@@ -15,9 +15,32 @@ use crate::scenario::Scenario;
 pub struct Problem {
     /// Path of the offending field, in the syntax of the core's messages.
     pub field: String,
-    /// The message, e.g. `route[1].bend.radius_mm must be > 1.5 mm (...) and ≤ 1000000 mm,
-    /// got -3`.
+    /// The message with the field's path, for the command line and the document's editors,
+    /// e.g. `route[1].bend.radius_mm must be more than 1.5 mm (…), got -3`.
     pub message: String,
+    /// The same without the field's path, for a form that puts the field's own label before
+    /// it: `must be more than 1.5 mm (…), got -3`, or a sentence of its own (`The mount …`).
+    #[serde(default)]
+    pub says: String,
+}
+
+impl Problem {
+    /// A problem of `field`: the message is the field's path followed by `says`, as a
+    /// [`FieldError`] is shown.
+    pub fn new(field: impl Into<String>, says: impl Into<String>) -> Problem {
+        Problem::from(&FieldError::new(field, says))
+    }
+
+    /// A problem whose message names its subject itself (`vary is missing: …`): shown the same
+    /// with or without the field.
+    pub fn sentence(field: impl Into<String>, message: impl Into<String>) -> Problem {
+        let message = message.into();
+        Problem {
+            field: field.into(),
+            says: message.clone(),
+            message,
+        }
+    }
 }
 
 impl From<&FieldError> for Problem {
@@ -25,6 +48,7 @@ impl From<&FieldError> for Problem {
         Problem {
             field: e.field.clone(),
             message: e.to_string(),
+            says: e.message.clone(),
         }
     }
 }
@@ -49,15 +73,28 @@ pub fn without_bom(text: &str) -> &str {
 /// syntax at the top, or an array given for the document) and its message is the same text as
 /// [`Scenario::from_json`]'s error.
 pub fn read_scenario(text: &str) -> Result<Scenario, Problem> {
-    Scenario::read_json(text).map_err(|(path, error)| Problem {
-        message: error.to_string(),
-        // A document given as an array (serde reads a struct from one) has no field to mark:
-        // the document is at fault.
-        field: if path.is_empty() || path.starts_with('[') {
-            "scenario".to_string()
-        } else {
-            path
-        },
+    Scenario::read_json(text).map_err(|(path, error)| {
+        let message = error.to_string();
+        // The words after the path: what the form shows after the field's label.
+        let says = match error {
+            crate::TirError::ParseScenario(ref m) => m
+                .strip_prefix(path.as_str())
+                .unwrap_or(m)
+                .trim_start()
+                .to_string(),
+            _ => message.clone(),
+        };
+        Problem {
+            message,
+            says,
+            // A document given as an array (serde reads a struct from one) has no field to
+            // mark: the document is at fault.
+            field: if path.is_empty() || path.starts_with('[') {
+                "scenario".to_string()
+            } else {
+                path
+            },
+        }
     })
 }
 
@@ -66,10 +103,10 @@ pub fn valid_scenario(text: &str) -> Result<Scenario, Vec<Problem>> {
     let scenario = read_scenario(text).map_err(|p| vec![p])?;
     match scenario.check() {
         Ok(_) => Ok(scenario),
-        Err(errors) if errors.is_empty() => Err(vec![Problem {
-            field: "scenario".to_string(),
-            message: "the scenario could not be validated".to_string(),
-        }]),
+        Err(errors) if errors.is_empty() => Err(vec![Problem::sentence(
+            "scenario",
+            "the scenario could not be validated",
+        )]),
         Err(errors) => Err(errors.iter().map(Problem::from).collect()),
     }
 }

@@ -294,7 +294,10 @@ fn bad_input_gives_one_line_naming_the_field() {
     assert_ne!(unknown, thermostat);
     for cmd in ["check", "trace"] {
         let err = one_line_error(&[cmd, "-"], &unknown);
-        assert!(err.contains("unknown field `colour`"), "{err}");
+        assert!(
+            err.contains("colour is not a field here; the fields here are version, name,"),
+            "{err}"
+        );
     }
 
     // Negative radius in route[1].
@@ -303,7 +306,8 @@ fn bad_input_gives_one_line_naming_the_field() {
     for cmd in ["check", "trace"] {
         let err = one_line_error(&[cmd, "-"], &negative);
         assert!(
-            err.contains("route[1].bend.radius_mm must be > 1.5 mm") && err.contains("got -3"),
+            err.contains("route[1].bend.radius_mm must be more than 1.5 mm")
+                && err.contains("got -3"),
             "{err}"
         );
     }
@@ -311,25 +315,44 @@ fn bad_input_gives_one_line_naming_the_field() {
     // Options are checked with the scenario's ranges and named.
     let err = one_line_error(&["trace", THERMOSTAT, "--rays", "0"], "");
     assert!(
-        err.contains("--rays must be ≥ 1 and ≤ 1000000000") && err.contains("got 0"),
+        err.contains("--rays must be a whole number from 1 to 10⁹") && err.contains("got “0”"),
         "{err}"
     );
     let err = one_line_error(&["trace", THERMOSTAT, "--rays", "1000000001"], "");
     assert!(err.contains("--rays must be"), "{err}");
-    let err = one_line_error(&["trace", THERMOSTAT, "--rays", "-5"], "");
-    assert!(err.contains("--rays"), "{err}");
-    let err = one_line_error(&["trace", THERMOSTAT, "--seed", "x"], "");
-    assert!(err.contains("--seed"), "{err}");
-    let err = one_line_error(&["trace", THERMOSTAT, "--threads", "100000"], "");
-    assert!(err.contains("--threads must be ≥ 0"), "{err}");
-    let err = one_line_error(&["trace", THERMOSTAT, "--paths", "100000"], "");
-    assert!(err.contains("--paths must be ≥ 0"), "{err}");
+    // Every whole-number option names its range, also for a negative number or a word (no
+    // parser's "invalid digit found in string").
+    for (option, value, range) in [
+        ("--rays", "-5", "from 1 to 10⁹"),
+        ("--rays", "2.5", "from 1 to 10⁹"),
+        ("--seed", "-1", "from 0 to 2⁵³ − 1"),
+        ("--seed", "x", "from 0 to 2⁵³ − 1"),
+        ("--threads", "-2", "from 0 to 1024 (0 = all cores)"),
+        ("--threads", "100000", "from 0 to 1024 (0 = all cores)"),
+        ("--paths", "100000", "from 0 to 4096"),
+        ("--paths", "-1", "from 0 to 4096"),
+    ] {
+        let err = one_line_error(&["trace", THERMOSTAT, option, value], "");
+        assert!(
+            err.contains(&format!("{option} must be a whole number {range}"))
+                && err.contains(&format!("got “{value}”")),
+            "{option} {value}: {err}"
+        );
+        assert!(!err.contains("invalid digit"), "{err}");
+    }
+    // A very long value is not echoed in full.
+    let long = "9".repeat(400);
+    let err = one_line_error(&["trace", THERMOSTAT, "--seed", &long], "");
+    assert!(err.len() < 120, "{err}");
 
     // The file's own trace settings are checked under their own names.
     let zero_rays = thermostat.replacen("\"rays\": 200000", "\"rays\": 0", 1);
     assert_ne!(zero_rays, thermostat);
     let err = one_line_error(&["trace", "-"], &zero_rays);
-    assert!(err.contains("trace.rays must be ≥ 1"), "{err}");
+    assert!(
+        err.contains("trace.rays must be a whole number from 1 to 10⁹"),
+        "{err}"
+    );
     // ... and an option that fixes them wins.
     ok_stdout(&["trace", "-", "--rays", "50"], &zero_rays);
 
@@ -523,7 +546,7 @@ fn bad_input_gives_one_line_and_a_failure_code() {
     assert!(out.is_empty());
     assert_eq!(err.lines().count(), 1, "{err}");
     assert!(
-        err.contains("diameter_mm must be > 0 mm") && err.contains("got -3"),
+        err.contains("diameter_mm must be at least 0.001 mm") && err.contains("got -3"),
         "{err}"
     );
     let (ok, _, _, err) = tirtrace(&["figures", "-"], "{ not json");
@@ -611,7 +634,7 @@ fn sweep_prints_one_point_per_value_as_json_and_csv() {
     let lines: Vec<&str> = csv.lines().collect();
     assert_eq!(lines.len(), 4, "{csv}");
     assert!(lines[0].starts_with("\"route[1].bend.radius_mm\",\"delivered (share)\""));
-    assert!(lines[1].starts_with("1,,") && lines[1].contains("must be > 1.5 mm"));
+    assert!(lines[1].starts_with("1,,") && lines[1].contains("must be more than 1.5 mm"));
     assert!(lines[2].starts_with("7.5,0."), "{}", lines[2]);
     let cells = |l: &str| l.split(',').count();
     assert_eq!(cells(lines[0]), cells(lines[2]));
@@ -624,10 +647,10 @@ fn sweep_prints_one_point_per_value_as_json_and_csv() {
 #[test]
 fn sweep_errors_name_the_field() {
     let e = one_line_error(&["study", "-", "--rays", "0"], &radius_study("[7, 9]"));
-    assert!(e.contains("--rays must be ≥ 1"), "{e}");
+    assert!(e.contains("--rays must be a whole number from 1"), "{e}");
     let e = one_line_error(&["study", "-"], &radius_study("[7]"));
     assert!(
-        e.contains("vary.values must list ≥ 2 and ≤ 200 values, got 1"),
+        e.contains("vary.values must list from 2 to 200 values, got 1"),
         "{e}"
     );
 }

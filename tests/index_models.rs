@@ -215,7 +215,7 @@ fn cauchy_and_custom_models() {
     let bad = MaterialChoice::Custom(IndexModel::Constant { n: 0.8 });
     let e = bad.n_rel_air(550.0, "surroundings").unwrap_err();
     assert_eq!(e.field, "surroundings.custom.n");
-    assert_eq!(e.message, "must be ≥ 1 and ≤ 5, got 0.8");
+    assert_eq!(e.message, "must be at least 1, got 0.8");
     let bad = MaterialChoice::Custom(IndexModel::Cauchy {
         a: 6.0,
         b_um2: 0.0,
@@ -225,7 +225,7 @@ fn cauchy_and_custom_models() {
     assert_eq!(e.field, "material.custom");
     assert_eq!(
         e.message,
-        "gives n = 6 at 550 nm; a usable index is ≥ 1 and ≤ 5"
+        "gives n = 6 at 550 nm; a usable index is from 1 to 5"
     );
     let bad = MaterialChoice::Custom(IndexModel::Sellmeier {
         b: vec![1.0, 0.5],

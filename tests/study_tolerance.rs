@@ -214,8 +214,8 @@ fn bad_documents_get_named_problems() {
             "tolerances.spreads[6].field",
         ]
     );
-    assert!(p[0].message.contains("≥ 2 and ≤ 2000") && p[0].message.contains("1.5"));
-    assert!(p[1].message.contains("≥ 0") && p[1].message.contains("-1"));
+    assert!(p[0].message.contains("from 2 to 2000") && p[0].message.contains("1.5"));
+    assert!(p[1].message.contains("must be at least 0") && p[1].message.contains("-1"));
     let p = problems(doc(json!({ "spreads": [], "variants": 10 })));
     assert_eq!(fields(p), ["tolerances.spreads"]);
     // Both plans, and an unknown member.
@@ -356,5 +356,9 @@ fn every_spread_zero_gives_the_nominal_answer_exactly() {
         "tolerances": { "spreads": [ { "field": "source.gap_mm", "sigma": -0.1 } ],
                         "variants": 4 } }));
     assert_eq!(p[0].field, "tolerances.spreads[0].sigma");
-    assert!(p[0].message.contains("≥ 0"), "{}", p[0].message);
+    assert!(
+        p[0].message.contains("must be at least 0"),
+        "{}",
+        p[0].message
+    );
 }

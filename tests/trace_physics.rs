@@ -98,7 +98,7 @@ fn meridional_lambertian_coupling_is_na_squared() {
         json!({"custom": {"model": "constant", "n": n1}}),
         json!({"custom": {"model": "constant", "n": n2}}),
         json!([{"straight": {"length_mm": 1000}}]),
-        json!({"led": {"area": {"disk": {"diameter_mm": 1e-4}}, "pattern": "lambertian"}}),
+        json!({"led": {"area": {"disk": {"diameter_mm": 1e-3}}, "pattern": "lambertian"}}),
         json!({"custom": {"model": "constant", "n": n1}}),
         40_000,
     );

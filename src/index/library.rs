@@ -229,7 +229,7 @@ impl MaterialChoice {
                     Err(FieldError::new(
                         custom,
                         format!(
-                            "gives n = {} at {} nm; a usable index is ≥ {} and ≤ {}",
+                            "gives n = {} at {} nm; a usable index is from {} to {}",
                             show(n),
                             show(wavelength_nm),
                             show(REFRACTIVE_INDEX.lo),

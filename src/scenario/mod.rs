@@ -4,7 +4,7 @@
 //!
 //! Field names carry units (`_mm`, `_deg`, `_nm`, `_db_per_m`). Unknown fields are refused, and
 //! every bad value is reported with its field path and allowed range, e.g.
-//! `route[2].bend.radius_mm must be > 1.5 mm, got -3`.
+//! `route[2].bend.radius_mm must be more than 1.5 mm (…), got -3`.
 //!
 //! The document types are here; `validate.rs` checks a scenario field by field against the
 //! ranges of [`crate::limits`], and [`table`] holds the arithmetic of an LED's intensity table
@@ -31,6 +31,7 @@ pub const SCENARIO_VERSION: u32 = 1;
 #[serde(deny_unknown_fields)]
 pub struct Scenario {
     /// Document version, currently 1.
+    #[serde(deserialize_with = "whole_version")]
     #[schemars(transform = crate::schema::version(SCENARIO_VERSION))]
     pub version: u32,
     /// A label for people; not used by the physics.
@@ -209,6 +210,8 @@ pub struct Contact {
     #[serde(default)]
     pub name: String,
     /// Index of the route segment it touches (0 is the first).
+    #[serde(deserialize_with = "whole_segment")]
+    #[schemars(with = "u64")]
     pub segment: usize,
     /// Start along the segment's centre line, mm from the segment's start: at least 0 and less
     /// than the segment's length.
@@ -384,39 +387,48 @@ impl Receiver {
 #[serde(deny_unknown_fields)]
 pub struct TraceSettings {
     /// Number of rays to trace; the statistical uncertainty of each share falls as 1/√rays.
-    #[serde(default = "default_rays", deserialize_with = "whole_u64")]
+    #[serde(default = "default_rays", deserialize_with = "whole_rays")]
     #[schemars(transform = crate::schema::within(limits::RAYS))]
     pub rays: u64,
     /// Seed of the random sequence; the same seed gives the same result. At most 2⁵³ − 1, so a
     /// browser (whose numbers are doubles) reads the same seed as the command line.
-    #[serde(default = "default_seed", deserialize_with = "whole_u64")]
+    #[serde(default = "default_seed", deserialize_with = "whole_seed")]
     #[schemars(transform = limits::Count::new(0, MAX_WHOLE))]
     pub seed: u64,
     /// Interactions after which a ray is stopped and counted as such.
-    #[serde(default = "default_max_interactions", deserialize_with = "whole_u32")]
+    #[serde(
+        default = "default_max_interactions",
+        deserialize_with = "whole_interactions"
+    )]
     #[schemars(transform = crate::schema::within(limits::MAX_INTERACTIONS))]
     pub max_interactions: u32,
 }
 
-/// A whole number 0 ≤ x ≤ 2⁵³ − 1 given as any JSON number, with a plain message otherwise
-/// (serde's own for `1.5` or `-5` is "invalid type: floating point, expected u64").
-fn whole_number<'de, D: serde::Deserializer<'de>>(d: D, max: u64) -> Result<u64, D::Error> {
-    let x = f64::deserialize(d)?;
-    if x.is_finite() && x >= 0.0 && x <= max as f64 && x.fract() == 0.0 {
-        Ok(x as u64)
-    } else {
-        Err(serde::de::Error::custom(format!(
-            "must be a whole number ≥ 0 and ≤ {max}, got {x}"
-        )))
-    }
+/// `trace.rays` as any JSON number that is a whole one (`2.0` too), refused with its range.
+fn whole_rays<'de, D: serde::Deserializer<'de>>(d: D) -> Result<u64, D::Error> {
+    crate::reading::whole(d, MAX_WHOLE, &limits::RAYS.rule())
 }
 
-fn whole_u64<'de, D: serde::Deserializer<'de>>(d: D) -> Result<u64, D::Error> {
-    whole_number(d, MAX_WHOLE)
+/// `trace.seed`, likewise.
+fn whole_seed<'de, D: serde::Deserializer<'de>>(d: D) -> Result<u64, D::Error> {
+    crate::reading::whole(d, MAX_WHOLE, &limits::Count::new(0, MAX_WHOLE).rule())
 }
 
-fn whole_u32<'de, D: serde::Deserializer<'de>>(d: D) -> Result<u32, D::Error> {
-    whole_number(d, u32::MAX as u64).map(|x| x as u32)
+/// `trace.max_interactions`, likewise.
+fn whole_interactions<'de, D: serde::Deserializer<'de>>(d: D) -> Result<u32, D::Error> {
+    let rule = limits::MAX_INTERACTIONS.rule();
+    crate::reading::whole(d, u32::MAX.into(), &rule).map(|n| n as u32)
+}
+
+/// A document's `version`, likewise (its one allowed value is checked with the rest).
+pub(crate) fn whole_version<'de, D: serde::Deserializer<'de>>(d: D) -> Result<u32, D::Error> {
+    crate::reading::whole(d, u32::MAX.into(), "must be a whole number").map(|n| n as u32)
+}
+
+/// A mount's `segment`, likewise (whether it names a segment is checked with the rest).
+fn whole_segment<'de, D: serde::Deserializer<'de>>(d: D) -> Result<usize, D::Error> {
+    let rule = "must be a whole number: the segment's place in the route, 0 for the first";
+    crate::reading::whole(d, MAX_WHOLE, rule).map(|n| n as usize)
 }
 
 fn default_rays() -> u64 {
@@ -465,14 +477,24 @@ impl Scenario {
     /// the document as a whole) beside the error, for a form that marks the field.
     pub(crate) fn read_json(text: &str) -> Result<Self, (String, TirError)> {
         let text = crate::problems::without_bom(text);
+        if let Some(said) = crate::reading::list_for_object(text) {
+            return Err((String::new(), TirError::ParseScenario(said)));
+        }
         let de = &mut serde_json::Deserializer::from_str(text);
-        serde_path_to_error::deserialize(de).map_err(|e| {
-            let path = e.path().to_string();
-            let inner = e.into_inner();
+        let read = serde_path_to_error::deserialize(&mut *de)
+            .map_err(|e| {
+                let path = e.path().to_string();
+                let e = e.into_inner();
+                (crate::reading::field_path(path, &e), e)
+            })
+            // Text after the document is refused: the reader alone would stop at its end.
+            .and_then(|s| de.end().map(|()| s).map_err(|e| (String::new(), e)));
+        read.map_err(|(path, e)| {
+            let said = crate::reading::plain_json(&e, text, crate::reading::last_key(&path));
+            let error = TirError::ParseScenario(crate::reading::at_path(&path, &said));
             if path.is_empty() || path == "." || path == "?" {
-                (String::new(), TirError::ParseScenario(inner.to_string()))
+                (String::new(), error)
             } else {
-                let error = TirError::ParseScenario(format!("{path}: {inner}"));
                 (path, error)
             }
         })

@@ -27,12 +27,7 @@ impl Scenario {
         check_guide(&self.guide, &mut out);
         check_route(self.guide.section, &self.route, &mut out);
         for (k, contact) in self.guide.contacts.iter().enumerate() {
-            check_contact(
-                &format!("guide.contacts[{k}]"),
-                contact,
-                &self.route,
-                &mut out,
-            );
+            check_contact(k, contact, &self.route, &mut out);
         }
         let wavelength_nm = check_source(&self.source, &mut out);
         if let Some(receiver) = &self.receiver {
@@ -160,16 +155,10 @@ fn check_bend(
         return;
     };
     // The inner wall must keep a positive radius.
-    if !(radius_mm > half && radius_mm <= BEND_RADIUS_MAX_MM) {
-        out.push(
-            format!("{path}.radius_mm"),
-            format!(
-                "must be > {half} mm (half the guide's size across the bend, so the inner wall \
-                 keeps a radius) and ≤ {BEND_RADIUS_MAX_MM} mm, got {}",
-                show(radius_mm)
-            ),
-        );
-    }
+    let radius = Range::open_closed(half, BEND_RADIUS_MAX_MM)
+        .unit(" mm")
+        .note(" (half the pipe's size across the bend, so that its inner wall keeps a radius)");
+    out.range(&format!("{path}.radius_mm"), radius_mm, radius);
     if matches!(section, Section::Rectangular { .. }) {
         let r = turn_deg.rem_euclid(90.0);
         if r > 1e-9 && 90.0 - r > 1e-9 {
@@ -208,8 +197,17 @@ fn check_taper_end(
     Some(end_section)
 }
 
-/// A contact zone: on a segment, within its length, on a sector of the perimeter.
-fn check_contact(path: &str, c: &Contact, route: &[Segment], out: &mut FieldErrors) {
+/// A contact zone (a mount): on a segment, within its length, on a sector of the perimeter. A
+/// mount that no longer fits its segment (the segment was shortened, or the mount moved) is
+/// told as such — where it starts or ends against where the segment ends — never as a range
+/// whose ends cross.
+fn check_contact(k: usize, c: &Contact, route: &[Segment], out: &mut FieldErrors) {
+    let path = format!("guide.contacts[{k}]");
+    let mount = if c.name.trim().is_empty() {
+        format!("Mount {}", k + 1)
+    } else {
+        format!("The mount “{}”", c.name.trim())
+    };
     match route.get(c.segment) {
         None => out.push(
             format!("{path}.segment"),
@@ -221,26 +219,51 @@ fn check_contact(path: &str, c: &Contact, route: &[Segment], out: &mut FieldErro
         ),
         Some(segment) => {
             let length_mm = segment.length_mm();
-            if length_mm.is_finite() {
-                let from = Range::closed_open(0.0, length_mm)
+            let end = format!(
+                "past the end of its segment (segment {} is {} mm long)",
+                c.segment + 1,
+                show(libm::round(length_mm * 1000.0) / 1000.0)
+            );
+            let from_ok = out
+                .range(
+                    &format!("{path}.from_mm"),
+                    c.from_mm,
+                    Range::closed(0.0, f64::INFINITY).unit(" mm"),
+                )
+                .is_some();
+            if from_ok && length_mm.is_finite() && c.from_mm >= length_mm {
+                out.push(
+                    format!("{path}.from_mm"),
+                    format!("{mount} starts at {} mm, {end}", show(c.from_mm)),
+                );
+            }
+            if c.to_mm.is_finite() && length_mm.is_finite() && c.to_mm > length_mm {
+                out.push(
+                    format!("{path}.to_mm"),
+                    format!("{mount} ends at {} mm, {end}", show(c.to_mm)),
+                );
+            } else if from_ok {
+                let after_start = Range::open_closed(c.from_mm, f64::INFINITY)
                     .unit(" mm")
-                    .note(" (the segment's length)");
-                let to = Range::closed(0.0, length_mm)
-                    .unit(" mm")
-                    .note(" (after from_mm, within the segment's length)")
-                    .above(c.from_mm.max(0.0));
-                out.range(&format!("{path}.from_mm"), c.from_mm, from);
+                    .note(" (where the mount starts)");
+                out.range(&format!("{path}.to_mm"), c.to_mm, after_start);
+            } else {
+                let to = Range::open_closed(0.0, f64::INFINITY).unit(" mm");
                 out.range(&format!("{path}.to_mm"), c.to_mm, to);
             }
         }
     }
-    let sector_from_deg = c.sector_from_deg;
-    out.range(
+    let sector_from_deg = out.range(
         &format!("{path}.sector_from_deg"),
-        sector_from_deg,
+        c.sector_from_deg,
         SECTOR_DEG,
     );
-    let sector_to = SECTOR_END_DEG.above(sector_from_deg.max(0.0));
+    // The end follows the start only when the start is valid: a range whose ends cross
+    // (`more than 400° and at most 360°`) says nothing useful.
+    let sector_to = match sector_from_deg {
+        Some(from) => SECTOR_END_DEG.above(from.max(0.0)),
+        None => SECTOR_END_DEG.note(""),
+    };
     out.range(&format!("{path}.sector_to_deg"), c.sector_to_deg, sector_to);
 }
 
@@ -366,12 +389,11 @@ fn check_receiver(r: &Receiver, out: &mut FieldErrors) {
 
 fn check_trace(t: &TraceSettings, out: &mut FieldErrors) {
     out.count("trace.rays", t.rays, RAYS);
-    if t.seed > MAX_WHOLE {
-        out.push(
-            "trace.seed",
-            format!("must be ≤ {MAX_WHOLE}, got {}", t.seed),
-        );
-    }
+    out.count(
+        "trace.seed",
+        t.seed,
+        crate::limits::Count::new(0, MAX_WHOLE),
+    );
     out.count(
         "trace.max_interactions",
         t.max_interactions.into(),
@@ -421,29 +443,61 @@ mod tests {
             .collect();
         let expected = [
             "version must be 1 (this version of tirtrace), got 2",
-            "guide.section.rectangular.height_mm must be > 0 mm and ≤ 1000 mm, got -2",
-            "guide.attenuation_db_per_m must be ≥ 0 dB/m and ≤ 100000 dB/m, got -1",
-            "route[1].bend.angle_deg must be > 0° and ≤ 180°, got 200",
-            "route[1].bend.radius_mm must be > 2 mm (half the guide's size across the bend, so the inner wall keeps a radius) and ≤ 1000000 mm, got 1",
+            "guide.section.rectangular.height_mm must be at least 0.001 mm, got -2",
+            "guide.attenuation_db_per_m must be at least 0 dB/m, got -1",
+            "route[1].bend.angle_deg must be at most 180°, got 200",
+            "route[1].bend.radius_mm must be more than 2 mm (half the pipe's size across the bend, so that its inner wall keeps a radius), got 1",
             "route[1].bend.turn_deg must be 0, 90, 180 or 270 for a rectangular guide (turn across the width or the height), got 45",
-            "route[2].taper.length_mm must be > 0 mm and ≤ 100000 mm, got 0",
+            "route[2].taper.length_mm must be at least 0.001 mm, got 0",
             "route[2].taper.end_section must be rectangular like the guide at this point, got round",
             "guide.contacts[0].segment must name a route segment, 0 to 2, got 5",
-            "guide.contacts[0].sector_from_deg must be ≥ 0° and < 360°, got 400",
-            "guide.contacts[0].sector_to_deg must be > 400° and ≤ 360° (after sector_from_deg), got 10",
-            "guide.contacts[1].to_mm must be > 2 mm and ≤ 3 mm (after from_mm, within the segment's length), got 1",
-            "source.wavelength_nm must be ≥ 200 nm and ≤ 2500 nm, got 100",
-            "source.gap_mm must be ≥ 0 mm and ≤ 1000 mm, got -1",
-            "source.tilt_deg must be ≥ 0° and < 90°, got 90",
-            "source.emitter.led.area.square.side_mm must be > 0 mm and ≤ 1000 mm, got 0",
-            "source.emitter.led.pattern.table.points[2][0] must be > 50° and ≤ 90° (angles ascending), got 40",
-            "source.flux.lm must be > 0 lm and ≤ 1e9 lm, got 0",
+            // The end of the sector is not held to a start that is itself refused.
+            "guide.contacts[0].sector_from_deg must be less than 360°, got 400",
+            "guide.contacts[1].to_mm must be more than 2 mm (where the mount starts), got 1",
+            "source.wavelength_nm must be at least 200 nm, got 100",
+            "source.gap_mm must be at least 0 mm, got -1",
+            "source.tilt_deg must be less than 90°, got 90",
+            "source.emitter.led.area.square.side_mm must be at least 0.001 mm, got 0",
+            "source.emitter.led.pattern.table.points[2][0] must be more than 50° (the previous row's angle: angles ascend), got 40",
+            "source.flux.lm must be more than 0 lm, got 0",
             "receiver needs either diameter_mm (a round detector) or width_mm and height_mm (a window), not both",
-            "receiver.distance_mm must be ≥ 0 mm and ≤ 100000 mm, got -1",
-            "trace.rays must be ≥ 1 and ≤ 1000000000, got 0",
-            "trace.max_interactions must be ≥ 1 and ≤ 10000000, got 0",
+            "receiver.distance_mm must be at least 0 mm, got -1",
+            "trace.rays must be a whole number from 1 to 10⁹, got 0",
+            "trace.max_interactions must be a whole number from 1 to 10⁷, got 0",
         ];
         assert_eq!(messages, expected);
+    }
+
+    /// A mount that no longer fits its segment says where it starts or ends against the
+    /// segment's end, under its own name, never a range whose ends cross ("> 6 mm and ≤ 1.5
+    /// mm").
+    #[test]
+    fn a_mount_past_its_segment_says_so() {
+        let text = r#"{
+            "version": 1,
+            "guide": { "section": { "round": { "diameter_mm": 2.5 } },
+                       "material": { "library": "pmma" }, "surroundings": { "library": "air" },
+                       "contacts": [
+                { "name": "clip", "segment": 0, "from_mm": 6, "to_mm": 8,
+                  "medium": { "library": "pdms" } },
+                { "segment": 0, "from_mm": 1, "to_mm": 8, "medium": { "library": "pdms" } } ] },
+            "route": [{ "straight": { "length_mm": 1.5 } }],
+            "source": { "emitter": { "beam": { "diameter_mm": 2, "divergence_half_angle_deg": 8 } },
+                        "wavelength_nm": 550 }
+        }"#;
+        let errors = Scenario::from_json(text).unwrap().check().unwrap_err();
+        let messages: Vec<String> = errors.iter().map(ToString::to_string).collect();
+        assert_eq!(
+            messages,
+            [
+                "guide.contacts[0].from_mm: The mount “clip” starts at 6 mm, past the end of its \
+                 segment (segment 1 is 1.5 mm long)",
+                "guide.contacts[0].to_mm: The mount “clip” ends at 8 mm, past the end of its \
+                 segment (segment 1 is 1.5 mm long)",
+                "guide.contacts[1].to_mm: Mount 2 ends at 8 mm, past the end of its segment \
+                 (segment 1 is 1.5 mm long)",
+            ]
+        );
     }
 
     /// The surroundings must have the lower index, or nothing is guided.

@@ -171,7 +171,7 @@ pub(super) fn read_find(
             if to <= from {
                 problems.push(problem(
                     "find.to",
-                    format!("must be > find.from ({from}): the search range, got {to}"),
+                    format!("must be more than find.from ({from}): the search range, got {to}"),
                 ));
             }
             (from, to)
@@ -261,11 +261,14 @@ fn find_bend(
         Some(b) => {
             let max = count.map_or(f64::INFINITY, |c| c as f64 - 1.0);
             if b.fract() != 0.0 || b < 0.0 || b > max {
-                let range = count.map_or(String::new(), |c| format!(" and ≤ {}", c as f64 - 1.0));
+                let range = count.map_or(" 0 or more".to_string(), |c| {
+                    format!(" from 0 to {}", c.saturating_sub(1))
+                });
                 problems.push(problem(
                     "find.bend",
                     format!(
-                        "must be a whole route index ≥ 0{range} (a bend of the route), got {b}"
+                        "must be a whole route index{range} (a bend of the route), got {}",
+                        crate::error::show(b)
                     ),
                 ));
                 return None;
@@ -577,12 +580,9 @@ fn prepare_at(base: &Value, field: &FieldPath, x: f64) -> Result<Prepared, Vec<P
     } else {
         Setting::Number(x)
     };
-    setting.apply(field, &mut doc).map_err(|m| {
-        vec![Problem {
-            message: format!("{} {m}", field.text),
-            field: "find".to_string(),
-        }]
-    })?;
+    setting
+        .apply(field, &mut doc)
+        .map_err(|m| vec![Problem::sentence("find", format!("{} {m}", field.text))])?;
     let scenario = read_scenario(&doc.to_string()).map_err(|p| vec![in_scenario(p)])?;
     scenario.check().map_err(|errors| {
         errors
@@ -590,12 +590,7 @@ fn prepare_at(base: &Value, field: &FieldPath, x: f64) -> Result<Prepared, Vec<P
             .map(|e| in_scenario(Problem::from(e)))
             .collect::<Vec<_>>()
     })?;
-    Prepared::new(&scenario).map_err(|e| {
-        vec![Problem {
-            field: "scenario".to_string(),
-            message: e.to_string(),
-        }]
-    })
+    Prepared::new(&scenario).map_err(|e| vec![Problem::sentence("scenario", e.to_string())])
 }
 
 impl Study {

@@ -56,6 +56,7 @@ pub const STUDY_VERSION: u32 = 1;
 #[schemars(extend("oneOf" = [{ "required": ["vary"] }, { "required": ["find"] }, { "required": ["tolerances"] }]))]
 pub(crate) struct StudyDocument {
     /// The study document's version: 1.
+    #[serde(deserialize_with = "crate::scenario::whole_version")]
     #[schemars(transform = crate::schema::version(STUDY_VERSION))]
     version: u32,
     /// A name for the study, shown with its results.
@@ -217,11 +218,7 @@ const PLANS: &str = "vary, find or tolerances";
 /// A problem of the study document: its field path is in the study document
 /// (`vary.steps`, `scenario.route[1].bend.radius_mm`).
 pub(crate) fn problem(field: impl Into<String>, message: impl AsRef<str>) -> Problem {
-    let field = field.into();
-    Problem {
-        message: format!("{field} {}", message.as_ref()),
-        field,
-    }
+    Problem::new(field, message.as_ref())
 }
 
 /// A scenario's problem moved under the study's `scenario` field (the message keeps the
@@ -234,6 +231,7 @@ pub(crate) fn in_scenario(p: Problem) -> Problem {
             format!("scenario.{}", p.field)
         },
         message: p.message,
+        says: p.says,
     }
 }
 
@@ -242,16 +240,32 @@ impl Study {
     /// study document and the allowed range.
     pub fn from_json(text: &str) -> Result<Study, Vec<Problem>> {
         let text = crate::problems::without_bom(text);
+        if let Some(said) = crate::reading::list_for_object(text) {
+            return Err(vec![problem("study", format!("could not be read: {said}"))]);
+        }
         let de = &mut serde_json::Deserializer::from_str(text);
-        let doc: StudyDocument = serde_path_to_error::deserialize(de).map_err(|e| {
-            let path = e.path().to_string();
-            let inner = e.into_inner();
-            if path.is_empty() || path == "." || path == "?" {
-                vec![problem("study", format!("could not be read: {inner}"))]
-            } else {
-                vec![problem(path, format!("could not be read: {inner}"))]
-            }
-        })?;
+        let doc: StudyDocument = serde_path_to_error::deserialize(&mut *de)
+            .map_err(|e| {
+                let path = e.path().to_string();
+                let e = e.into_inner();
+                (crate::reading::field_path(path, &e), e)
+            })
+            // Text after the document is refused: the reader alone would stop at its end.
+            .and_then(|d| de.end().map(|()| d).map_err(|e| (String::new(), e)))
+            .map_err(|(path, e)| {
+                let said = crate::reading::plain_json(&e, text, crate::reading::last_key(&path));
+                if path.is_empty() || path == "." || path == "?" {
+                    vec![problem(
+                        "study",
+                        format!(
+                            "could not be read: {}",
+                            crate::reading::at_path(&path, &said)
+                        ),
+                    )]
+                } else {
+                    vec![problem(path, said)]
+                }
+            })?;
         let mut errors = FieldErrors::default();
         errors.version(doc.version, STUDY_VERSION);
         let mut problems: Vec<Problem> = errors.0.iter().map(Problem::from).collect();
@@ -408,7 +422,7 @@ fn vary_field(text: &str) -> Result<FieldPath, String> {
     if !FIELD_PATH_CHARS.contains(chars) {
         return Err(format!(
             "must have {} characters, got {chars}",
-            FIELD_PATH_CHARS.rule().trim_start_matches("must be ")
+            FIELD_PATH_CHARS.span()
         ));
     }
     let field = FieldPath::parse(text)?;
@@ -496,9 +510,10 @@ fn vary_settings(at: &str, v: &VaryDocument) -> Result<Vec<Setting>, Vec<Problem
                 return Err(vec![problem(
                     format!("{at}.steps"),
                     format!(
-                        "must be a whole number ≥ {} and ≤ {} (equal steps from {at}.from to \
-                         {at}.to; the points are one more), got {steps}",
-                        SWEEP_STEPS.min, SWEEP_STEPS.max
+                        "{} (equal steps from {at}.from to {at}.to; the points are one more), \
+                         got {}",
+                        SWEEP_STEPS.rule(),
+                        crate::error::show(steps)
                     ),
                 )]);
             }
@@ -539,10 +554,7 @@ fn vary_settings(at: &str, v: &VaryDocument) -> Result<Vec<Setting>, Vec<Problem
     }
 }
 
-/// `≥ 2 and ≤ 200`.
+/// `from 2 to 200`.
 fn count_rule() -> String {
-    SWEEP_POINTS
-        .rule()
-        .trim_start_matches("must be ")
-        .to_string()
+    SWEEP_POINTS.span()
 }

@@ -227,10 +227,10 @@ impl Study {
         let plan = match &self.plan {
             Plan::Sweep(plan) => plan,
             _ => {
-                return Err(vec![Problem {
-                    field: "vary".to_string(),
-                    message: "vary is missing: this study is not a sweep".to_string(),
-                }])
+                return Err(vec![Problem::sentence(
+                    "vary",
+                    "vary is missing: this study is not a sweep",
+                )])
             }
         };
         let trace_problems: Vec<Problem> = self
@@ -247,32 +247,24 @@ impl Study {
         let grid = plan.points();
         let total = rays.saturating_mul(grid.len() as u64);
         if !SWEEP_RAYS.contains(total) {
-            return Err(vec![Problem {
-                field: "scenario.trace.rays".to_string(),
-                message: format!(
-                    "scenario.trace.rays times the points (the sweep's rays) {}, got {rays} × {} \
-                     = {total}",
+            return Err(vec![Problem::new(
+                "scenario.trace.rays",
+                format!(
+                    "times the points (the sweep's rays) {}, got {rays} × {} = {total}",
                     SWEEP_RAYS.rule(),
                     grid.len()
                 ),
-            }]);
+            )]);
         }
-        let base = serde_json::to_value(&self.scenario).map_err(|e| {
-            vec![Problem {
-                field: "scenario".to_string(),
-                message: e.to_string(),
-            }]
-        })?;
+        let base = serde_json::to_value(&self.scenario)
+            .map_err(|e| vec![Problem::sentence("scenario", e.to_string())])?;
         let points: Vec<Point> = grid
             .iter()
             .map(|settings| {
                 let mut doc = base.clone();
                 for ((axis, setting), at) in plan.axes.iter().zip(settings).zip(AXES) {
                     if let Err(m) = setting.apply(&axis.field, &mut doc) {
-                        return Point::Refused(vec![Problem {
-                            message: format!("{at}.field {m}"),
-                            field: format!("{at}.field"),
-                        }]);
+                        return Point::Refused(vec![Problem::new(format!("{at}.field"), m)]);
                     }
                 }
                 let scenario = match read_scenario(&doc.to_string()) {
@@ -282,10 +274,9 @@ impl Study {
                 match scenario.check() {
                     Ok(_) => match Prepared::new(&scenario) {
                         Ok(p) => Point::Ready(Box::new(p)),
-                        Err(e) => Point::Refused(vec![Problem {
-                            field: "scenario".to_string(),
-                            message: e.to_string(),
-                        }]),
+                        Err(e) => {
+                            Point::Refused(vec![Problem::sentence("scenario", e.to_string())])
+                        }
                     },
                     Err(errors) => Point::Refused(
                         errors

@@ -166,10 +166,7 @@ pub(crate) fn read_tolerances(
     if !TOLERANCE_SPREADS.contains(n) {
         problems.push(problem(
             "tolerances.spreads",
-            format!(
-                "must list {} spreads, got {n}",
-                TOLERANCE_SPREADS.rule().trim_start_matches("must be ")
-            ),
+            format!("must list {} spreads, got {n}", TOLERANCE_SPREADS.span()),
         ));
         ok = false;
     }
@@ -179,8 +176,9 @@ pub(crate) fn read_tolerances(
         problems.push(problem(
             "tolerances.variants",
             format!(
-                "must be a whole number ≥ {} and ≤ {}, got {v}",
-                TOLERANCE_VARIANTS.min, TOLERANCE_VARIANTS.max
+                "{}, got {}",
+                TOLERANCE_VARIANTS.rule(),
+                crate::error::show(v)
             ),
         ));
         ok = false;
@@ -218,10 +216,7 @@ pub(crate) fn read_tolerances(
             if TOLERANCE_SPREAD.contains(x) {
                 Some(x)
             } else {
-                problems.push(problem(
-                    format!("{at}.{name}"),
-                    format!("{}, got {x}", TOLERANCE_SPREAD.rule()),
-                ));
+                problems.push(problem(format!("{at}.{name}"), TOLERANCE_SPREAD.refusal(x)));
                 None
             }
         };
@@ -264,7 +259,7 @@ pub(crate) fn read_tolerances(
             format!(
                 "must name {} numbers in all (a field with [*] counts every number it names), \
                  got {}",
-                TOLERANCE_SPREADS.rule().trim_start_matches("must be "),
+                TOLERANCE_SPREADS.span(),
                 spreads.len()
             ),
         ));
@@ -354,6 +349,7 @@ fn unit(base: &serde_json::Value, fields: &[(&FieldPath, f64)]) -> Unit {
             return Unit::Refused(vec![Problem {
                 message: format!("{} {m}", field.text),
                 field: format!("scenario.{}", field.text),
+                says: m,
             }]);
         }
     }
@@ -364,10 +360,7 @@ fn unit(base: &serde_json::Value, fields: &[(&FieldPath, f64)]) -> Unit {
     match scenario.check() {
         Ok(_) => match Prepared::new(&scenario) {
             Ok(p) => Unit::Ready(Box::new(p)),
-            Err(e) => Unit::Refused(vec![Problem {
-                field: "scenario".to_string(),
-                message: e.to_string(),
-            }]),
+            Err(e) => Unit::Refused(vec![Problem::sentence("scenario", e.to_string())]),
         },
         Err(errors) => Unit::Refused(
             errors

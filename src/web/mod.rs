@@ -29,7 +29,11 @@ fn read_design(design: JsValue) -> Result<QuickDesign, FieldError> {
         } else {
             path
         };
-        FieldError::new(field, format!("could not be read: {}", e.into_inner()))
+        let said = crate::reading::plain(
+            &e.into_inner().to_string(),
+            crate::reading::last_key(&field),
+        );
+        FieldError::new(field, said)
     })?;
     // serde-wasm-bindgen looks up only the fields it knows, so unknown ones would pass silently:
     // compare the keys given with those of the design as read.

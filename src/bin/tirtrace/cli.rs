@@ -6,7 +6,7 @@ use std::process::ExitCode;
 
 use clap::error::ErrorKind;
 use clap::{Args, Parser, Subcommand};
-use tirtrace::limits::{PATHS, RAYS, THREADS};
+use tirtrace::limits::{Count, MAX_WHOLE, PATHS, RAYS, THREADS};
 use tirtrace::problems::Problem;
 use tirtrace::quick::QuickDesign;
 use tirtrace::scenario::Scenario;
@@ -95,41 +95,58 @@ struct RunArgs {
         allow_negative_numbers = true,
         help = format!("Number of rays, per point or variant in a study (overrides the scenario's trace.rays; {} to {})", RAYS.min, RAYS.max)
     )]
-    rays: Option<i64>,
+    rays: Option<String>,
     /// Seed of the random sequence, shared by every point of a study (overrides the scenario's
     /// trace.seed).
     #[arg(long, value_name = "N", allow_negative_numbers = true)]
-    seed: Option<u64>,
+    seed: Option<String>,
     /// Worker threads, 0 for all cores. Results are identical for any thread count.
-    #[arg(
-        long,
-        value_name = "N",
-        default_value_t = 0,
-        allow_negative_numbers = true
-    )]
+    #[arg(long = "threads", value_name = "N", allow_negative_numbers = true)]
+    threads_given: Option<String>,
+    /// The thread count read from `--threads` by [`RunArgs::apply`] (0: all cores).
+    #[arg(skip)]
     threads: usize,
+}
+
+/// A whole-number option's value: digits, or any number that is a whole one (`1e5`, `2.0`);
+/// anything else, or a number out of `count`, is refused naming the option and its range.
+fn whole_option(option: &str, text: &str, count: Count, note: &str) -> Result<u64, String> {
+    let refused = || {
+        let shown: String = text.chars().take(24).collect();
+        let cut = if shown.len() < text.len() { "…" } else { "" };
+        format!("{option} {}{note}, got “{shown}{cut}”", count.rule())
+    };
+    let t = text.trim();
+    let n = match t.parse::<u64>() {
+        Ok(n) => n,
+        Err(_) => {
+            let x: f64 = t.parse().map_err(|_| refused())?;
+            if !(x.is_finite() && x.fract() == 0.0 && x >= 0.0 && x <= MAX_WHOLE as f64) {
+                return Err(refused());
+            }
+            x as u64
+        }
+    };
+    if count.contains(n) {
+        Ok(n)
+    } else {
+        Err(refused())
+    }
 }
 
 impl RunArgs {
     /// Set the scenario's trace settings from the options given; a problem names the option
     /// and its allowed range.
-    fn apply(&self, trace: &mut tirtrace::scenario::TraceSettings) -> Result<(), String> {
-        if let Some(rays) = self.rays {
-            // Parsed signed so that a negative count gets the range message, not a parse error.
-            if !(RAYS.min as i64..=RAYS.max as i64).contains(&rays) {
-                return Err(format!("--rays {}, got {rays}", RAYS.rule()));
-            }
-            trace.rays = rays as u64;
+    fn apply(&mut self, trace: &mut tirtrace::scenario::TraceSettings) -> Result<(), String> {
+        if let Some(rays) = &self.rays {
+            trace.rays = whole_option("--rays", rays, RAYS, "")?;
         }
-        if let Some(seed) = self.seed {
-            trace.seed = seed;
+        if let Some(seed) = &self.seed {
+            trace.seed = whole_option("--seed", seed, Count::new(0, MAX_WHOLE), "")?;
         }
-        if !THREADS.contains(self.threads as u64) {
-            return Err(format!(
-                "--threads {} (0 = all cores), got {}",
-                THREADS.rule(),
-                self.threads
-            ));
+        if let Some(threads) = &self.threads_given {
+            self.threads =
+                whole_option("--threads", threads, THREADS, " (0 = all cores)")? as usize;
         }
         Ok(())
     }
@@ -156,7 +173,7 @@ struct TraceArgs {
         allow_negative_numbers = true,
         help = format!("Include N sampled ray paths in the JSON report ({} to {})", PATHS.min, PATHS.max)
     )]
-    paths: Option<usize>,
+    paths: Option<String>,
     /// Print CSV instead: the budget (mechanism, share, ci95), then the per-segment table, then
     /// the contacts.
     #[arg(long)]
@@ -223,7 +240,7 @@ fn trace_all(
         .map_err(|e| format!("--threads: could not start {threads} threads: {e}"))
 }
 
-fn trace(args: TraceArgs) -> Result<String, String> {
+fn trace(mut args: TraceArgs) -> Result<String, String> {
     let mut scenario = read_scenario(&args.file)?;
     args.run.apply(&mut scenario.trace)?;
     // The options are checked by the scenario's own ranges and reported under their names.
@@ -240,37 +257,35 @@ fn trace(args: TraceArgs) -> Result<String, String> {
     if !problems.is_empty() {
         return Err(first_problem(&problems));
     }
-    if let Some(n) = args.paths.filter(|&n| !PATHS.contains(n as u64)) {
-        return Err(format!(
-            "--paths {} (paths come from the first batch of rays), got {n}",
-            PATHS.rule()
-        ));
-    }
+    let paths = match &args.paths {
+        Some(text) => Some(whole_option(
+            "--paths",
+            text,
+            PATHS,
+            " (paths come from the first batch of rays)",
+        )? as usize),
+        None => None,
+    };
     let prepared = Prepared::new(&scenario).map_err(|e| e.to_string())?;
     let total_rays = scenario.trace.rays;
     let show = std::io::stderr().is_terminal();
-    let batch = trace_all(
-        &prepared,
-        args.run.threads,
-        args.paths.unwrap_or(0),
-        |done| {
-            if show {
-                let mut e = std::io::stderr().lock();
-                let _ = write!(e, "\rtirtrace: traced {done} of {total_rays} rays");
-                if done >= total_rays {
-                    let _ = writeln!(e);
-                }
-                let _ = e.flush();
+    let batch = trace_all(&prepared, args.run.threads, paths.unwrap_or(0), |done| {
+        if show {
+            let mut e = std::io::stderr().lock();
+            let _ = write!(e, "\rtirtrace: traced {done} of {total_rays} rays");
+            if done >= total_rays {
+                let _ = writeln!(e);
             }
-        },
-    )?;
+            let _ = e.flush();
+        }
+    })?;
     let report = prepared.report(&batch);
     if args.csv {
         // `main` adds the final newline.
         let csv = tirtrace::export::report_csv(&report);
         Ok(csv.strip_suffix('\n').unwrap_or(&csv).to_string())
     } else {
-        report_json(&report, args.paths.is_some())
+        report_json(&report, paths.is_some())
     }
 }
 
@@ -284,7 +299,7 @@ fn first_study_problem(problems: &[Problem]) -> String {
 }
 
 /// `tirtrace study`: read the study, apply the command line's trace settings, run its plan.
-fn study(args: StudyArgs) -> Result<String, String> {
+fn study(mut args: StudyArgs) -> Result<String, String> {
     let text = read_text(&args.file)?;
     let mut study = Study::from_json(&text).map_err(|p| first_study_problem(&p))?;
     args.run.apply(&mut study.scenario.trace)?;

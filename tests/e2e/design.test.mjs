@@ -168,12 +168,12 @@ describe('the design page in Chromium', { concurrency: false }, () => {
     await tracedAfter(page, () => page.selectOption('#demo', 'soil_sensor_ambient_light_window.json'));
     await page.fill('#f-route-1-bend-radius-mm', 'abc');
     await page.waitForSelector('#f-route-1-bend-radius-mm-msg:not([hidden])');
-    assert.match(await page.locator('#f-route-1-bend-radius-mm-msg').innerText(), /route\[1\]\.bend\.radius_mm must be a number/);
+    assert.equal(await page.locator('#f-route-1-bend-radius-mm-msg').innerText(), 'Radius (centre line) must be a number, got “abc”');
     await page.fill('#f-route-1-bend-radius-mm', '-3');
     await page.waitForFunction(() => /must be/.test(document.getElementById('f-route-1-bend-radius-mm-msg')?.textContent || ''));
     const msg = await page.locator('#f-route-1-bend-radius-mm-msg').innerText();
-    assert.match(msg, /route\[1\]\.bend\.radius_mm/);
-    assert.match(msg, /must be > [\d.]+ mm .*and ≤ 1000000 mm, got -3/, 'the message gives the allowed range');
+    // In the form's words: the field's label, the end of the range it breaks and why, the value.
+    assert.match(msg, /^Radius \(centre line\) must be more than [\d.]+ mm \(half the pipe's size across the bend, so that its inner wall keeps a radius\), got -3$/);
     assert.equal(await page.getAttribute('#f-route-1-bend-radius-mm', 'aria-invalid'), 'true');
     await assertNoJunk(page, 'bad input');
     await page.screenshot({ path: join(OUT, 'design-bad-input.png'), fullPage: false });
@@ -188,7 +188,7 @@ describe('the design page in Chromium', { concurrency: false }, () => {
     await page.waitForSelector('#f-route-2-bend-radius-mm');
     assert.equal(await page.inputValue('#f-route-2-bend-radius-mm'), '4,5x');
     await page.waitForFunction(() => /must be a number/.test(document.getElementById('f-route-2-bend-radius-mm-msg')?.textContent || ''));
-    assert.match(await page.locator('#f-route-2-bend-radius-mm-msg').innerText(), /route\[2\]\.bend\.radius_mm must be a number/);
+    assert.equal(await page.locator('#f-route-2-bend-radius-mm-msg').innerText(), 'Radius (centre line) must be a number, got “4,5x”');
     await tracedAfter(page, async () => {
       await page.fill('#f-route-2-bend-radius-mm', '9');
     });
@@ -205,7 +205,7 @@ describe('the design page in Chromium', { concurrency: false }, () => {
     };
     // A ray count with a fraction: the core's message names the field and the range.
     await page.fill('#f-trace-rays', '1.5');
-    assert.match(await msgOf('f-trace-rays'), /trace\.rays.*must be a whole number ≥ 0 and ≤ 9007199254740991, got 1\.5/);
+    assert.match(await msgOf('f-trace-rays'), /^Rays must be a whole number from 1 to 10⁹, got 1\.5/);
     // "200,000" is not silently read as 200.
     await page.fill('#f-trace-rays', '200,000');
     assert.match(await msgOf('f-trace-rays'), /could be read two ways/);
@@ -230,6 +230,58 @@ describe('the design page in Chromium', { concurrency: false }, () => {
       assert.match(await p.locator('#toolbar-msg').innerText(), /share link is damaged/);
     } finally {
       await other.close();
+    }
+  });
+
+  test('a mount past a shortened segment says where it ends, in the form\'s words and units, unbroken on a tablet', async () => {
+    const tablet = await browser.newContext({ viewport: { width: 820, height: 1180 }, hasTouch: true });
+    try {
+      const p = await tablet.newPage();
+      watch(p);
+      await p.goto(`${server.origin}/`);
+      await p.waitForSelector('body[data-ready="true"]', { timeout: 30_000 });
+      await tracedAfter(p, () => p.selectOption('#demo', 'thermostat_status_led.json'));
+      const s = await pageScenario(p);
+      const clip = s.guide.contacts[0];
+      assert.equal(clip.name, 'snap clip');
+      const seg = clip.segment;
+      // The segment is shortened below the mount: no range whose ends cross, no field path.
+      await p.fill(`#f-route-${seg}-straight-length-mm`, '1.5');
+      const to = `#f-guide-contacts-0-to-mm-msg`;
+      await p.waitForSelector(`${to}:not([hidden])`);
+      assert.equal(await p.locator(to).innerText(),
+        `The mount “snap clip” ends at ${clip.to_mm} mm, past the end of its segment (segment ${seg + 1} is 1.5 mm long)`);
+      assert.equal(await p.locator('#f-guide-contacts-0-from-mm-msg').innerText(),
+        `The mount “snap clip” starts at ${clip.from_mm} mm, past the end of its segment (segment ${seg + 1} is 1.5 mm long)`);
+      // Not one message on the page shows a field path, a bare symbol range or the reader's words.
+      const shown = await p.$$eval('.field-msg:not([hidden]), #form-problems p', (els) => els.map((e) => e.textContent));
+      assert.ok(shown.length >= 2);
+      for (const m of shown) {
+        assert.doesNotMatch(m, /route\[|guide\.|_mm|[≤≥]|> \d/, m);
+        assert.match(m, /^[A-Z“]/, `starts with a capital: ${m}`);
+      }
+      await p.locator(to).scrollIntoViewIfNeeded();
+      await p.screenshot({ path: join(OUT, 'design-820x1180-mount-message.png') });
+      // Each message box is as wide as its field, and words are never split to fit it.
+      const boxes = await p.$$eval('.field-msg:not([hidden])', (els) => els.map((e) => ({
+        width: e.getBoundingClientRect().width, wrap: getComputedStyle(e).overflowWrap })));
+      for (const b of boxes) {
+        assert.notEqual(b.wrap, 'anywhere');
+        assert.ok(b.width > 200, `a message box ${b.width} px wide`);
+      }
+      // In inches, the lengths of the message are in inches too.
+      await p.check('input[name="unit"][value="in"]');
+      await p.waitForFunction((sel) => / in\b/.test(document.querySelector(sel)?.textContent || ''), to);
+      assert.match(await p.locator(to).innerText(), /ends at 0\.\d+ in, past the end of its segment \(segment \d is 0\.05906 in long\)$/);
+      await p.check('input[name="unit"][value="mm"]');
+      // A bend too tight: the label, the end it breaks and why.
+      await p.fill(`#f-route-${seg}-straight-length-mm`, '12');
+      await p.fill('#f-route-1-bend-radius-mm', '1');
+      await p.waitForFunction(() => /must be more than/.test(document.getElementById('f-route-1-bend-radius-mm-msg')?.textContent || ''));
+      assert.equal(await p.locator('#f-route-1-bend-radius-mm-msg').innerText(),
+        'Radius (centre line) must be more than 1.5 mm (half the pipe\'s size across the bend, so that its inner wall keeps a radius), got 1');
+    } finally {
+      await tablet.close();
     }
   });
 

@@ -115,7 +115,7 @@ describe('find the limit in the study panel', { concurrency: false }, () => {
     await page.click('#find-run');
     await page.waitForFunction(() => document.getElementById('find-msg').dataset.kind === 'error');
     const msg = await page.locator('#find-msg').innerText();
-    assert.match(msg, /^To must be > From \(20\)/);
+    assert.match(msg, /^To must be more than From \(20\)/);
     assert.ok(!msg.includes('find.'), msg);
   });
 

@@ -260,19 +260,19 @@ describe('the tirtrace page in Chromium', { concurrency: false }, () => {
     await page.fill('#diameter', '-1');
     const diameterMsg = await text(page, '#diameter-msg');
     assert.match(diameterMsg, /Guide diameter/);
-    assert.match(diameterMsg, /> 0 mm/);
+    assert.match(diameterMsg, /must be at least 0\.001 mm, got -1$/);
     assert.equal(await page.getAttribute('#diameter', 'aria-invalid'), 'true');
     assert.ok(await page.locator('#stale-note').isVisible(), 'old results are marked as stale');
 
     await page.fill('#wavelength', '');
-    assert.match(await text(page, '#wavelength-msg'), /Wavelength must be ≥ 200 nm/);
+    assert.match(await text(page, '#wavelength-msg'), /Wavelength must be at least 200 nm/);
 
     await page.fill('#wavelength', '300'); // below the PMMA data (420–1620 nm)
     assert.match(await text(page, '#material-msg'), /420\D+1620 nm/);
 
     await page.fill('#wavelength', '587.6');
     await enter(page, { material: 'custom', material_n: '0' });
-    assert.match(await text(page, '#material-n-msg'), /Guide index n must be ≥ 1/);
+    assert.match(await text(page, '#material-n-msg'), /Guide index n must be at least 1/);
 
     // A guide index below the surroundings' index guides nothing.
     await enter(page, { material_n: '1.2', surroundings: 'water' });

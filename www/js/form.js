@@ -50,7 +50,7 @@ function fieldOfPath(path) {
   return best;
 }
 
-/** A core message made into a sentence that names its field: "must be > 0 mm" → "Guide diameter must be > 0 mm". */
+/** A core message made into a sentence that names its field: "must be more than 0 mm" → "Guide diameter must be more than 0 mm". */
 export function sentenceFor(label, message) {
   const text = String(message ?? '').trim();
   if (!label) return text;

@@ -22,6 +22,28 @@ const SEGMENT_DEFAULTS = {
 
 const SEGMENT_NAMES = { straight: 'Straight', bend: 'Bend', taper: 'Taper' };
 
+/** Typed text quoted back in a message: never a whole paste. */
+const quoted = (text) => {
+  const t = String(text).trim();
+  return `“${t.length > 24 ? `${t.slice(0, 24)}…` : t}”`;
+};
+
+/** Where a path's field sits, in the form's words: `route[1]…` → “Segment 2”, a mount → “Mount 1”. */
+function placeOf(path) {
+  const seg = path.match(/^route\[(\d+)\]/);
+  if (seg) return `Segment ${Number(seg[1]) + 1}`;
+  const mount = path.match(/^guide\.contacts\[(\d+)\]/);
+  if (mount) return `Mount ${Number(mount[1]) + 1}`;
+  if (path.startsWith('source')) return 'Light source';
+  if (path.startsWith('guide')) return 'Light pipe';
+  if (path.startsWith('receiver')) return 'Detector';
+  if (path.startsWith('trace')) return 'Trace settings';
+  return 'The design';
+}
+
+/** A message with its lengths in inches (the core words every length in mm). */
+const inInches = (text) => text.replace(/(-?\d+(?:\.\d+)?(?:e-?\d+)?) mm\b/g, (_, x) => `${Number((Number(x) / 25.4).toPrecision(4))} in`);
+
 export class Editor {
   /**
    * @param root element to render into
@@ -178,16 +200,17 @@ export class Editor {
   /** Text typed into a number field: store the number, or keep the text as a draft. */
   typed(path, text) {
     const x = parseNumber(text);
+    const label = this.labelOf(path) ?? path;
     if (looksLikeThousands(text)) {
       this.state.drafts[path] = text;
-      this.setMessage(path, `${path}: “${text.trim()}” could be read two ways: write it without a thousands separator (e.g. ${text.trim().replace(/,/g, '')}), or with a decimal point`);
+      this.setMessage(path, `${label}: ${quoted(text)} could be read two ways: write it without a thousands separator (e.g. ${text.trim().replace(/,/g, '')}), or with a decimal point`);
     } else if (Number.isFinite(x)) {
       delete this.state.drafts[path];
       setAt(this.s, path, toStored(x, path, this.state.unit));
       this.setMessage(path, null);
     } else {
       this.state.drafts[path] = text;
-      this.setMessage(path, `${path} must be a number${text.trim() ? `, got “${text.trim()}”` : ' (it is empty)'}`);
+      this.setMessage(path, `${label} must be a number${text.trim() ? `, got ${quoted(text)}` : ' (it is empty)'}`);
     }
     this.changed(false);
   }
@@ -217,30 +240,57 @@ export class Editor {
     return true;
   }
 
-  /** Problems from typing: fields whose text is not a number. */
+  /** Problems from typing: fields whose text is not a number (`says` as the core words it, after the field). */
   draftProblems() {
     return Object.entries(this.state.drafts)
       .filter(([field]) => this.root.querySelector(`[data-path="${CSS.escape(field)}"]`))
-      .map(([field, text]) => ({
-        field,
-        message: looksLikeThousands(String(text))
-          ? `${field}: “${String(text).trim()}” could be read two ways: write it without a thousands separator, or with a decimal point`
-          : `${field} must be a number${String(text).trim() ? `, got “${String(text).trim()}”` : ' (it is empty)'}`,
-      }));
+      .map(([field, text]) => {
+        const says = looksLikeThousands(String(text))
+          ? `: ${quoted(text)} could be read two ways: write it without a thousands separator, or with a decimal point`
+          : `must be a number${String(text).trim() ? `, got ${quoted(text)}` : ' (it is empty)'}`;
+        return { field, says, message: `${field}${says.startsWith(':') ? '' : ' '}${says}` };
+      });
   }
 
-  /** Show the core's problems under their fields; returns those no field could show. */
+  /** The label of the field at `path` as the form shows it, without its unit (null when not shown). */
+  labelOf(path) {
+    const input = this.root.querySelector(`[data-path="${CSS.escape(path)}"]`);
+    const label = input && this.root.querySelector(`label[for="${CSS.escape(input.id)}"]`);
+    if (!label) return null;
+    const unit = label.querySelector('.unit-label')?.textContent ?? '';
+    return label.textContent.slice(0, label.textContent.length - unit.length).trim();
+  }
+
+  /**
+   * A problem in the form's words: the field's label, then what the core says after the path
+   * ("Radius (centre line) must be more than 1.5 mm (…), got 1"); lengths in the form's unit.
+   * `withPlace` adds where the field is ("Segment 2 · "), for the list above the form.
+   */
+  inWords(p, path = p.field, { withPlace = false } = {}) {
+    const says = p.says || p.message;
+    const label = this.labelOf(path);
+    let text;
+    if (!label) text = p.message;
+    else if (says.startsWith(':')) text = `${label}${says}`;
+    else if (/^[a-z]/.test(says)) text = `${label} ${says}`;
+    else text = says; // a sentence of its own ("The mount “clip” ends at …")
+    if (this.state.unit === 'in') text = inInches(text);
+    text = text.charAt(0).toUpperCase() + text.slice(1);
+    return withPlace && label ? `${placeOf(path)} · ${text}` : text;
+  }
+
+  /** Show the core's problems under their fields; returns those no field could show, in the form's words. */
   showProblems(problems) {
     for (const path of [...this.messages.keys()]) {
       if (this.state.drafts[path] === undefined) this.setMessage(path, null);
     }
     const loose = [];
     for (const p of problems) {
-      if (!this.setMessage(p.field, p.message)) {
-        // A problem about a whole object (e.g. `route[1].bend`) goes to its first field.
-        const input = this.root.querySelector(`[data-path^="${CSS.escape(p.field)}"]`);
-        if (!input || !this.setMessage(input.dataset.path, p.message)) loose.push(p);
-      }
+      if (this.setMessage(p.field, this.inWords(p))) continue;
+      // A problem about a whole object (e.g. `route[1].bend`) goes to its first field.
+      const input = this.root.querySelector(`[data-path^="${CSS.escape(p.field)}"]`);
+      const text = `${placeOf(p.field)}: ${p.says || p.message}`;
+      if (!input || !this.setMessage(input.dataset.path, text)) loose.push({ ...p, message: this.inWords(p, p.field, { withPlace: true }) });
     }
     return loose;
   }
@@ -367,7 +417,7 @@ export class Editor {
       const bad = parsed.findIndex((r) => r.length !== 2 || !r.every(Number.isFinite));
       if (bad >= 0 || parsed.length === 0) {
         this.state.drafts[path] = area.value;
-        this.setMessage(path, parsed.length === 0 ? `${path} needs at least two rows “angle, relative intensity”` : `${path} row ${bad + 1} must be two numbers “angle, relative intensity”, got “${rows[bad]}”`);
+        this.setMessage(path, parsed.length === 0 ? 'The table needs at least two rows “angle, relative intensity”' : `Row ${bad + 1} of the table must be two numbers “angle, relative intensity”, got ${quoted(rows[bad])}`);
       } else {
         delete this.state.drafts[path];
         setAt(this.s, path, parsed);

@@ -336,6 +336,12 @@ function wireToolbar() {
       page.state.unit = r.value;
       page.editor.render();
       saveState(page.state);
+      // The messages word their lengths in the unit shown.
+      try {
+        showLoose(page.editor.showProblems(problemsOf(page.state)));
+      } catch {
+        // The check failed: the messages stay as they were; the next edit shows why.
+      }
     });
   }
   $('cancel').addEventListener('click', () => page.pool.cancel());

@@ -284,6 +284,15 @@ pub fn check_scenario(json: &str) -> JsValue {
     to_js(&crate::problems::check_scenario(json)).unwrap_or(JsValue::NULL)
 }
 
+/// An LED's intensity table pasted as text (a header row, tabs, semicolons or commas, angles
+/// from −90° to 90°): `{ points, header_skipped, halves_averaged }`, or an error naming the row
+/// ([`crate::scenario::table::read_pasted_table`]).
+#[wasm_bindgen]
+pub fn read_intensity_table(text: &str) -> Result<JsValue, JsError> {
+    let table = crate::scenario::table::read_pasted_table(text).map_err(|m| JsError::new(&m))?;
+    to_js(&table)
+}
+
 /// A scenario given as JSON text as the core reads it: every field the document leaves out is
 /// there with the core's default (`name`, `trace`, `source.gap_medium`, a bend's `turn_deg`, …),
 /// fields in the core's order. Values are not range-checked here (`check_scenario` does that), so

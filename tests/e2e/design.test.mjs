@@ -285,6 +285,28 @@ describe('the design page in Chromium', { concurrency: false }, () => {
     }
   });
 
+  test('a data sheet\'s intensity table pastes with a header, semicolons and decimal commas, or across the axis', async () => {
+    await tracedAfter(page, () => page.selectOption('#demo', 'thermostat_status_led.json'));
+    await page.selectOption('#f-source-emitter-led-pattern', 'table');
+    const area = '#f-source-emitter-led-pattern-table-points';
+    await page.waitForSelector(area);
+    // A spreadsheet's copy: a header row, semicolons, decimal commas.
+    await tracedAfter(page, () => page.fill(area, 'Angle (deg);Rel. intensity\n0;1,0\n30;0,85\n60;0,4\n90;0\n'));
+    let pattern = (await pageScenario(page)).source.emitter.led.pattern;
+    assert.deepEqual(pattern.table.points, [[0, 1], [30, 0.85], [60, 0.4], [90, 0]]);
+    assert.match(await page.locator(`${area}-note`).innerText(), /first row was read as a header/);
+    // A pattern measured across the axis, tab-separated: the halves are averaged.
+    await tracedAfter(page, () => page.fill(area, '-90\t0\n-45\t0.6\n0\t1\n45\t0.4\n90\t0'));
+    pattern = (await pageScenario(page)).source.emitter.led.pattern;
+    assert.deepEqual(pattern.table.points, [[0, 1], [45, 0.5], [90, 0]]);
+    assert.match(await page.locator(`${area}-note`).innerText(), /two halves were averaged/);
+    // A bad row is named by its number, in words.
+    await page.fill(area, '0 1\n30 lots');
+    await page.waitForSelector(`${area}-msg:not([hidden])`);
+    assert.equal(await page.locator(`${area}-msg`).innerText(), 'Row 2 of the table must be two numbers “angle, relative intensity”, got “30 lots”');
+    await tracedAfter(page, () => page.selectOption('#f-source-emitter-led-pattern', 'lambertian'));
+  });
+
   test('a kept design with defaults left out, or with a field the core cannot read, comes back in the form', async () => {
     const { other, p } = await freshPage();
     try {

@@ -51,8 +51,12 @@ export class Editor {
    * @param materials the core's material list
    * @param onChange called after every edit with { structural: bool }
    */
-  constructor(root, state, materials, onChange) {
+  constructor(root, state, materials, onChange, readTable = null) {
     this.root = root;
+    /** The core's reader of a pasted intensity table (text → { points, … }, throws a sentence). */
+    this.readTable = readTable ?? (() => {
+      throw new Error('The table cannot be read here');
+    });
     this.state = state;
     this.materials = materials;
     this.onChange = onChange;
@@ -411,18 +415,25 @@ export class Editor {
     const points = getAt(this.s, path) || [];
     const area = h('textarea', { id, rows: '5', spellcheck: 'false', dataset: { path }, 'aria-describedby': `${id}-hint ${id}-msg` });
     area.value = this.state.drafts[path] ?? points.map(([a, r]) => `${a}, ${r}`).join('\n');
+    const note = h('p', { class: 'hint', id: `${id}-note`, hidden: true });
     area.addEventListener('input', () => {
-      const rows = area.value.split(/\n/).map((l) => l.trim()).filter(Boolean);
-      const parsed = rows.map((l) => l.split(/[\s;,\t]+/).filter(Boolean).map(parseNumber));
-      const bad = parsed.findIndex((r) => r.length !== 2 || !r.every(Number.isFinite));
-      if (bad >= 0 || parsed.length === 0) {
+      // The core reads the paste (header row, separators, decimal commas, a table across the axis).
+      let table = null;
+      try {
+        table = this.readTable(area.value);
+      } catch (e) {
         this.state.drafts[path] = area.value;
-        this.setMessage(path, parsed.length === 0 ? 'The table needs at least two rows “angle, relative intensity”' : `Row ${bad + 1} of the table must be two numbers “angle, relative intensity”, got ${quoted(rows[bad])}`);
-      } else {
+        this.setMessage(path, e instanceof Error ? e.message : String(e));
+      }
+      if (table) {
         delete this.state.drafts[path];
-        setAt(this.s, path, parsed);
+        setAt(this.s, path, table.points);
         this.setMessage(path, null);
       }
+      const did = [table?.header_skipped && 'the first row was read as a header and left out',
+        table?.halves_averaged && 'the table runs from −90° to 90°: its two halves were averaged at each angle (the pattern is taken as the same all round the axis)'].filter(Boolean);
+      note.hidden = did.length === 0;
+      note.textContent = did.length ? `Read: ${did.join('; ')}.` : '';
       this.changed(false);
     });
     return h(
@@ -430,7 +441,8 @@ export class Editor {
       { class: 'field' },
       h('label', { for: id, text: 'Relative intensity vs angle' }),
       area,
-      h('p', { class: 'hint', id: `${id}-hint`, text: 'One row per angle: degrees off axis, then relative intensity (paste two columns from a data sheet).' }),
+      h('p', { class: 'hint', id: `${id}-hint`, text: 'One row per angle: degrees off axis, then relative intensity. Paste two columns from a data sheet or a spreadsheet, with or without a header row, 0–90° or −90° to 90°.' }),
+      note,
       this.msgEl(path),
     );
   }

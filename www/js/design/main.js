@@ -380,7 +380,7 @@ async function start() {
   const materials = core.materials();
   try {
     page.state.scenario = asRead(page.state.scenario);
-    page.editor = new Editor($('editor'), page.state, materials, () => scheduleUpdate());
+    page.editor = new Editor($('editor'), page.state, materials, () => scheduleUpdate(), (text) => core.read_intensity_table(text));
     page.editor.render();
   } catch {
     // A kept design this page cannot show (damaged storage, or from a different version):
@@ -388,7 +388,7 @@ async function start() {
     store(UNREADABLE_KEY, loadState()); // without storage there is nothing to keep aside
     page.state = freshState(STARTER);
     page.state.scenario = asRead(page.state.scenario);
-    page.editor = new Editor($('editor'), page.state, materials, () => scheduleUpdate());
+    page.editor = new Editor($('editor'), page.state, materials, () => scheduleUpdate(), (text) => core.read_intensity_table(text));
     page.editor.render();
     toolbarMessage(
       `The design kept in this browser could not be shown (it is damaged or from another version); it is set aside under “${UNREADABLE_KEY}” in this browser's storage. Starting from the example design.`,

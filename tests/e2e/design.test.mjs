@@ -523,6 +523,20 @@ describe('the design page in Chromium', { concurrency: false }, () => {
         })
         .map((el) => el.id || el.outerHTML.slice(0, 60)));
     assert.deepEqual(unlabelled, []);
+    // Names read aloud keep the unit apart ("Chip side, mm", not "Chip sidemm"), and no field is
+    // named like the group it sits in ("Light source" inside "Light source").
+    const glued = await page.evaluate(() =>
+      [...document.querySelectorAll('#editor label')]
+        .map((l) => l.textContent)
+        .filter((t) => /[a-z)](mm|in|deg|nm|dB\/m|lm|mW)$/.test(t)));
+    assert.deepEqual(glued, []);
+    assert.ok(await page.getByLabel('Bulk attenuation, dB/m', { exact: true }).isVisible());
+    const doubled = await page.evaluate(() =>
+      [...document.querySelectorAll('#editor fieldset')].flatMap((f) => {
+        const legend = f.querySelector(':scope > legend')?.textContent.trim();
+        return [...f.querySelectorAll('label')].filter((l) => l.textContent.trim() === legend).map((l) => legend);
+      }));
+    assert.deepEqual(doubled, []);
     const small = await page.evaluate(() =>
       [...document.querySelectorAll('input:not([type="radio"]):not([hidden]), select, textarea, button, .unit-option')]
         .filter((el) => el.getClientRects().length > 0 && !el.closest('dialog:not([open])'))

@@ -116,7 +116,8 @@ export class Editor {
     return h(
       'div',
       { class: 'field' },
-      h('label', { for: id }, label, shownUnit ? h('span', { class: 'unit-label', text: shownUnit }) : null),
+      // The unit is part of the field's name for a screen reader ("Chip side, mm"), not glued on.
+      h('label', { for: id }, label, shownUnit ? h('span', { class: 'unit-label' }, h('span', { class: 'visually-hidden', text: ', ' }), shownUnit) : null),
       vary ? h('div', { class: 'with-vary' }, input, vary, tol) : input,
       hint ? h('p', { class: 'hint', id: `${id}-hint`, text: hint }) : null,
       this.msgEl(path),
@@ -342,7 +343,7 @@ export class Editor {
     const src = this.s.source;
     const kind = variant(src.emitter);
     const rows = [
-      this.choice('source.emitter', 'Light source', [['led', 'LED'], ['beam', 'Collimated beam (laser or lens)']], kind, (v) => {
+      this.choice('source.emitter', 'Kind of source', [['led', 'LED'], ['beam', 'Collimated beam (laser or lens)']], kind, (v) => {
         src.emitter =
           v === 'beam'
             ? { beam: { diameter_mm: 1, divergence_half_angle_deg: 1 } }

@@ -35,15 +35,31 @@ pub struct QuickDesign {
     /// Guide diameter (or thickness across the bend), mm.
     #[schemars(transform = crate::schema::within(limits::SECTION_MM))]
     pub diameter_mm: f64,
-    /// Half-angle of the launch cone in the launch medium, degrees.
+    /// Half-angle of the launch in the launch medium, degrees: the edge of a hard cone, or an
+    /// LED's half-intensity angle, as `launch_angle_is` says.
     #[schemars(transform = crate::schema::within(limits::CONE_HALF_ANGLE_DEG))]
     pub launch_half_angle_deg: f64,
+    /// What `launch_half_angle_deg` is (default: the edge of a hard cone).
+    #[serde(default)]
+    pub launch_angle_is: LaunchAngle,
     /// Inner radius of the bend, mm.
     #[schemars(transform = crate::schema::within(limits::BEND_INNER_RADIUS_MM))]
     pub bend_inner_radius_mm: f64,
     /// Angle the bend turns through, degrees.
     #[schemars(transform = crate::schema::within(limits::BEND_ANGLE_DEG))]
     pub bend_angle_deg: f64,
+}
+
+/// What the quick look's launch angle means.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Serialize, Deserialize, JsonSchema)]
+#[serde(rename_all = "snake_case")]
+pub enum LaunchAngle {
+    /// The edge of a hard cone: no light beyond it (a lens, an aperture, a fibre's output).
+    #[default]
+    ConeEdge,
+    /// An LED's half-intensity angle (a cos^m pattern): light goes on beyond it, dimmer, up to
+    /// 90°; the figures are for the rays inside it.
+    HalfIntensity,
 }
 
 impl Default for QuickDesign {
@@ -58,6 +74,7 @@ impl Default for QuickDesign {
             launch_medium: MaterialChoice::library("air"),
             diameter_mm: 3.0,
             launch_half_angle_deg: 60.0,
+            launch_angle_is: LaunchAngle::ConeEdge,
             bend_inner_radius_mm: 6.0,
             bend_angle_deg: 90.0,
         }
@@ -100,6 +117,11 @@ pub struct QuickFigures {
     /// Share of a small Lambertian source's power inside the acceptance cone, (NA/n₀)² capped
     /// at 1, Fresnel loss excluded.
     pub lambertian_coupling: f64,
+    /// Share of the source's power inside the launch cone the figures are for: 1 for a hard
+    /// cone; for a half-intensity angle θ½ of a cos^m pattern, 1 − cos^(m+1) θ½ with
+    /// m = −ln 2 / ln cos θ½ (so 0.75 for a Lambertian LED's 60°): the rest leaves at larger
+    /// angles, which the leak-free radius does not cover.
+    pub launch_power_in_cone: f64,
 }
 
 /// Indices of a validated design, relative to air.
@@ -149,11 +171,11 @@ impl QuickDesign {
         out.version(self.version, QUICK_VERSION);
         let wl = out.range("wavelength_nm", self.wavelength_nm, limits::WAVELENGTH_NM);
         out.range("diameter_mm", self.diameter_mm, limits::SECTION_MM);
-        out.range(
-            "launch_half_angle_deg",
-            self.launch_half_angle_deg,
-            limits::CONE_HALF_ANGLE_DEG,
-        );
+        let launch = match self.launch_angle_is {
+            LaunchAngle::ConeEdge => limits::CONE_HALF_ANGLE_DEG,
+            LaunchAngle::HalfIntensity => limits::HALF_INTENSITY_ANGLE_DEG,
+        };
+        out.range("launch_half_angle_deg", self.launch_half_angle_deg, launch);
         out.range(
             "bend_inner_radius_mm",
             self.bend_inner_radius_mm,
@@ -200,13 +222,19 @@ impl QuickDesign {
         let ratio = chain.leak_free_ratio;
         let bend_ratio = self.bend_inner_radius_mm / self.diameter_mm;
         let theta_max_deg = chain.max_internal_angle_rad.to_degrees();
-        let leak_free_note = match ratio {
+        let mut leak_free_note = match ratio {
             Some(_) => format!(
                 "every meridional and skew ray up to {theta_max_deg:.1}° to the axis stays \
                  totally reflected through the bend"
             ),
             None => guide::no_leak_free_radius_note(theta_max_deg),
         };
+        if self.launch_angle_is == LaunchAngle::HalfIntensity {
+            leak_free_note.push_str(
+                "; this is for the rays inside the LED's half-intensity angle: the LED's \
+                 dimmer light beyond it enters at larger angles and may leak",
+            );
+        }
         Ok(QuickFigures {
             n_core,
             n_surroundings: n_out,
@@ -224,6 +252,13 @@ impl QuickDesign {
             bend_ratio,
             bend_leaks: ratio.is_none_or(|r| bend_ratio < r),
             lambertian_coupling: guide::lambertian_fraction_within(chain.acceptance_half_angle_rad),
+            launch_power_in_cone: match self.launch_angle_is {
+                LaunchAngle::ConeEdge => 1.0,
+                LaunchAngle::HalfIntensity => {
+                    let half = self.launch_half_angle_deg.to_radians();
+                    guide::cos_power_fraction_within(guide::cos_power_exponent(half), half)
+                }
+            },
         })
     }
 }

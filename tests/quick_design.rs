@@ -270,3 +270,51 @@ fn bend_chart_curve_and_drawing() {
     let e = tirtrace::chart::draw_bend_chart(&area, &bad, 2.0).unwrap_err();
     assert!(e.to_string().contains("diameter_mm"));
 }
+
+/// The launch angle can be an LED's half-intensity angle: the figures are for the rays inside
+/// it, and they say how much of the LED's power that cone holds. A Lambertian LED (half
+/// intensity at 60°) puts sin² 60° = 75 % of its power inside 60° (the power of a Lambertian
+/// emitter within θ is sin² θ: standard radiometry, e.g. McCluney, Introduction to Radiometry
+/// and Photometry, 1994 — from memory).
+#[test]
+fn a_half_intensity_launch_says_how_much_power_its_cone_holds() {
+    use tirtrace::quick::LaunchAngle;
+    let cone = QuickDesign::default();
+    assert_eq!(cone.launch_angle_is, LaunchAngle::ConeEdge);
+    assert_eq!(cone.figures().unwrap().launch_power_in_cone, 1.0);
+    let led = QuickDesign {
+        launch_angle_is: LaunchAngle::HalfIntensity,
+        launch_half_angle_deg: 60.0,
+        ..QuickDesign::default()
+    };
+    let f = led.figures().unwrap();
+    assert!((f.launch_power_in_cone - 0.75).abs() < 1e-12, "{}", f.launch_power_in_cone);
+    assert!(f.leak_free_note.contains("half-intensity angle"), "{}", f.leak_free_note);
+    // The same cone as a hard edge gives the same leak-free radius: only the reading differs.
+    assert_eq!(
+        f.leak_free_inner_radius_mm,
+        cone.figures().unwrap().leak_free_inner_radius_mm
+    );
+    // Since cos^m θ½ = 1/2, the share is 1 − cos^(m+1) θ½ = 1 − cos θ½ / 2: a narrow LED holds
+    // only a little over half its power inside its half-intensity angle.
+    let narrow = QuickDesign {
+        launch_half_angle_deg: 15.0,
+        ..led.clone()
+    };
+    let share = narrow.figures().unwrap().launch_power_in_cone;
+    assert!((share - (1.0 - 0.5 * 15f64.to_radians().cos())).abs() < 1e-12, "{share}");
+    // Its range is the half-intensity range of the designer (0.5° to 89.5°).
+    let wide = QuickDesign {
+        launch_half_angle_deg: 90.0,
+        ..led
+    };
+    let (field, message) = only_problem(&wide);
+    assert_eq!(field, "launch_half_angle_deg");
+    assert_eq!(message, "must be at most 89.5°, got 90");
+    // Read from a document, and the old documents (no launch_angle_is) read as a hard cone.
+    let text = serde_json::to_string(&QuickDesign::default())
+        .unwrap()
+        .replace(",\"launch_angle_is\":\"cone_edge\"", "");
+    assert!(!text.contains("launch_angle_is"));
+    assert_eq!(QuickDesign::from_json(&text).unwrap(), QuickDesign::default());
+}

@@ -61,6 +61,7 @@ async function enter(page, e) {
   if (e.front_n !== undefined) await type('front-n', e.front_n);
   if (e.wavelength_nm !== undefined) await type('wavelength', e.wavelength_nm);
   if (e.diameter_mm !== undefined) await type('diameter', e.diameter_mm);
+  if (e.launch_angle_is !== undefined) await pick('launch-kind', e.launch_angle_is);
   if (e.launch_half_angle_deg !== undefined) await type('launch-angle', e.launch_half_angle_deg);
   if (e.bend_inner_radius_mm !== undefined) await type('bend-radius', e.bend_inner_radius_mm);
   if (e.bend_angle_deg !== undefined) await type('bend-angle', e.bend_angle_deg);
@@ -72,6 +73,7 @@ async function enterDesign(page, d) {
     material: d.material,
     surroundings: d.surroundings,
     front: 'air',
+    launch_angle_is: d.launch_angle_is ?? 'cone_edge',
     wavelength_nm: String(d.wavelength_nm),
     diameter_mm: String(d.diameter_mm),
     launch_half_angle_deg: String(d.launch_half_angle_deg),
@@ -86,12 +88,14 @@ async function enterDesign(page, d) {
     launch_medium: { library: 'air' },
     diameter_mm: d.diameter_mm,
     launch_half_angle_deg: d.launch_half_angle_deg,
+    launch_angle_is: d.launch_angle_is ?? 'cone_edge',
     bend_inner_radius_mm: d.bend_inner_radius_mm,
     bend_angle_deg: d.bend_angle_deg,
   };
 }
 
 const text = (page, selector) => page.locator(selector).innerText();
+const pick = (page, id, value) => page.selectOption(`#${id}`, value);
 
 /** Count canvas pixels close to an sRGB colour (within `tol` per channel). */
 async function countPixels(page, canvasId, hex, tol = 40) {
@@ -252,6 +256,25 @@ describe('the tirtrace page in Chromium', { concurrency: false }, () => {
     await page.screenshot({ path: join(OUT, 'no-leak-free-radius-1280x800.png'), fullPage: true });
   });
 
+  test('an LED\'s half-intensity angle is offered beside a hard cone, and the verdict says what it covers', async () => {
+    await enterDesign(page, {
+      material: 'pmma', surroundings: 'air', wavelength_nm: 587.6, diameter_mm: 3,
+      launch_half_angle_deg: 60, launch_angle_is: 'half_intensity', bend_inner_radius_mm: 30, bend_angle_deg: 90,
+    });
+    await page.waitForFunction(() => /half-intensity/.test(document.getElementById('verdict').textContent));
+    const verdict = await text(page, '#verdict');
+    // A Lambertian LED holds sin² 60° = 75 % of its power inside 60° (see tests/quick_design.rs).
+    assert.match(verdict, /keeps inside the light within the half-intensity angle: 75\.?0* % of the LED's power\. The rest of the LED's light, 25\.?0* % of it, leaves beyond the half-intensity angle and may leak\./);
+    await pick(page, 'launch-kind', 'cone_edge');
+    await page.waitForFunction(() => /keeps all the launched light inside/.test(document.getElementById('verdict').textContent));
+    // Its range is the designer's half-intensity range.
+    await pick(page, 'launch-kind', 'half_intensity');
+    await page.fill('#launch-angle', '90');
+    assert.match(await text(page, '#launch-angle-msg'), /^Launch half-angle must be at most 89\.5°, got 90$/);
+    await pick(page, 'launch-kind', 'cone_edge');
+    await page.fill('#launch-angle', '30');
+  });
+
   test('marks bad input next to its field and never shows NaN', async () => {
     await enterDesign(page, {
       material: 'pmma', surroundings: 'air', wavelength_nm: 587.6, diameter_mm: 3,
@@ -259,7 +282,7 @@ describe('the tirtrace page in Chromium', { concurrency: false }, () => {
     });
     await page.fill('#diameter', '-1');
     const diameterMsg = await text(page, '#diameter-msg');
-    assert.match(diameterMsg, /Guide diameter/);
+    assert.match(diameterMsg, /Pipe diameter/);
     assert.match(diameterMsg, /must be at least 0\.001 mm, got -1$/);
     assert.equal(await page.getAttribute('#diameter', 'aria-invalid'), 'true');
     assert.ok(await page.locator('#stale-note').isVisible(), 'old results are marked as stale');
@@ -272,7 +295,7 @@ describe('the tirtrace page in Chromium', { concurrency: false }, () => {
 
     await page.fill('#wavelength', '587.6');
     await enter(page, { material: 'custom', material_n: '0' });
-    assert.match(await text(page, '#material-n-msg'), /Guide index n must be at least 1/);
+    assert.match(await text(page, '#material-n-msg'), /Pipe index n must be at least 1/);
 
     // A guide index below the surroundings' index guides nothing.
     await enter(page, { material_n: '1.2', surroundings: 'water' });

@@ -16,6 +16,7 @@ const INPUT_OF_ENTRY = {
   surroundings: 'surroundings',
   surroundings_n: 'surroundings-n',
   diameter_mm: 'diameter',
+  launch_angle_is: 'launch-kind',
   launch_half_angle_deg: 'launch-angle',
   bend_inner_radius_mm: 'bend-radius',
   bend_angle_deg: 'bend-angle',
@@ -27,14 +28,15 @@ const INPUT_OF_ENTRY = {
  */
 const FIELD_OF_PATH = [
   ['version', null, 'Document version'],
-  ['material.custom', 'material-n', 'Guide index n'],
-  ['material', 'material', 'Guide material'],
+  ['material.custom', 'material-n', 'Pipe index n'],
+  ['material', 'material', 'Pipe material'],
   ['wavelength_nm', 'wavelength', 'Wavelength'],
   ['launch_medium.custom', 'front-n', 'Gel index n'],
   ['launch_medium', 'front', 'Medium in front of the entry face'],
   ['surroundings.custom', 'surroundings-n', 'Index n of the surroundings'],
   ['surroundings', 'surroundings', 'Surroundings'],
-  ['diameter_mm', 'diameter', 'Guide diameter'],
+  ['diameter_mm', 'diameter', 'Pipe diameter'],
+  ['launch_angle_is', 'launch-kind', 'The launch angle'],
   ['launch_half_angle_deg', 'launch-angle', 'Launch half-angle'],
   ['bend_inner_radius_mm', 'bend-radius', 'Inner bend radius'],
   ['bend_angle_deg', 'bend-angle', 'Bend angle'],
@@ -50,7 +52,7 @@ function fieldOfPath(path) {
   return best;
 }
 
-/** A core message made into a sentence that names its field: "must be more than 0 mm" → "Guide diameter must be more than 0 mm". */
+/** A core message made into a sentence that names its field: "must be more than 0 mm" → "Pipe diameter must be more than 0 mm". */
 export function sentenceFor(label, message) {
   const text = String(message ?? '').trim();
   if (!label) return text;

@@ -97,13 +97,19 @@ export function showFigures(f, design) {
 
   const verdict = $('verdict');
   const drawn = `The drawn bend (inner radius ${formatPlain(design.bend_inner_radius_mm, 6)} mm, ${formatPlain(design.bend_angle_deg, 6)}°, R/d ${formatSig(f.bend_ratio, 3)})`;
+  // An LED's half-intensity angle is no hard edge: the verdict covers the light inside it only.
+  const share = f.launch_power_in_cone;
+  const partial = isNum(share) && share < 1;
+  const beyond = partial ? ` The rest of the LED's light, ${formatPercent(1 - share, 2)} % of it, leaves beyond the half-intensity angle and may leak.` : '';
   if (!f.bend_leaks) {
-    verdict.textContent = `${drawn} keeps all the launched light inside.`;
+    verdict.textContent = partial
+      ? `${drawn} keeps inside the light within the half-intensity angle: ${formatPercent(share, 2)} % of the LED's power.${beyond}`
+      : `${drawn} keeps all the launched light inside.`;
   } else if (isNum(f.leak_free_inner_radius_mm)) {
     const narrower = design.launch_half_angle_deg > 0 ? ', or launch a narrower cone' : '';
-    verdict.textContent = `${drawn} leaks light. Open it to an inner radius of at least ${formatSig(f.leak_free_inner_radius_mm, 3)} mm${narrower}.`;
+    verdict.textContent = `${drawn} leaks light. Open it to an inner radius of at least ${formatSig(f.leak_free_inner_radius_mm, 3)} mm${narrower}.${beyond}`;
   } else {
-    verdict.textContent = `${drawn} leaks light, as any bend of this guide does with this launch.`;
+    verdict.textContent = `${drawn} leaks light, as any bend of this pipe does with this launch.`;
   }
   verdict.classList.toggle('leaks', Boolean(f.bend_leaks));
   verdict.classList.toggle('holds', !f.bend_leaks);

@@ -16,6 +16,7 @@ export const EXAMPLE_ENTRIES = Object.freeze({
   surroundings: 'air',       // 'air', 'water', 'cladding' or 'custom'
   surroundings_n: '1.402',   // used when surroundings is 'cladding' or 'custom'
   diameter_mm: '3',
+  launch_angle_is: 'cone_edge', // or 'half_intensity'
   launch_half_angle_deg: '30',
   bend_inner_radius_mm: '6',
   bend_angle_deg: '90',
@@ -38,6 +39,7 @@ export function designFromEntries(e) {
     launch_medium: e.front === 'gel' ? constant(e.front_n) : { library: 'air' },
     diameter_mm: parseNumber(e.diameter_mm),
     launch_half_angle_deg: parseNumber(e.launch_half_angle_deg),
+    launch_angle_is: e.launch_angle_is,
     bend_inner_radius_mm: parseNumber(e.bend_inner_radius_mm),
     bend_angle_deg: parseNumber(e.bend_angle_deg),
   };

@@ -288,8 +288,16 @@ fn a_half_intensity_launch_says_how_much_power_its_cone_holds() {
         ..QuickDesign::default()
     };
     let f = led.figures().unwrap();
-    assert!((f.launch_power_in_cone - 0.75).abs() < 1e-12, "{}", f.launch_power_in_cone);
-    assert!(f.leak_free_note.contains("half-intensity angle"), "{}", f.leak_free_note);
+    assert!(
+        (f.launch_power_in_cone - 0.75).abs() < 1e-12,
+        "{}",
+        f.launch_power_in_cone
+    );
+    assert!(
+        f.leak_free_note.contains("half-intensity angle"),
+        "{}",
+        f.leak_free_note
+    );
     // The same cone as a hard edge gives the same leak-free radius: only the reading differs.
     assert_eq!(
         f.leak_free_inner_radius_mm,
@@ -302,7 +310,10 @@ fn a_half_intensity_launch_says_how_much_power_its_cone_holds() {
         ..led.clone()
     };
     let share = narrow.figures().unwrap().launch_power_in_cone;
-    assert!((share - (1.0 - 0.5 * 15f64.to_radians().cos())).abs() < 1e-12, "{share}");
+    assert!(
+        (share - (1.0 - 0.5 * 15f64.to_radians().cos())).abs() < 1e-12,
+        "{share}"
+    );
     // Its range is the half-intensity range of the designer (0.5° to 89.5°).
     let wide = QuickDesign {
         launch_half_angle_deg: 90.0,
@@ -316,5 +327,8 @@ fn a_half_intensity_launch_says_how_much_power_its_cone_holds() {
         .unwrap()
         .replace(",\"launch_angle_is\":\"cone_edge\"", "");
     assert!(!text.contains("launch_angle_is"));
-    assert_eq!(QuickDesign::from_json(&text).unwrap(), QuickDesign::default());
+    assert_eq!(
+        QuickDesign::from_json(&text).unwrap(),
+        QuickDesign::default()
+    );
 }

@@ -64,7 +64,11 @@ pub struct PastedTable {
 /// tracer takes the pattern as the same all round the axis; a half that stops short counts
 /// only where it has values. On failure, a sentence naming the row and what it needs.
 pub fn read_pasted_table(text: &str) -> Result<PastedTable, String> {
-    let lines: Vec<&str> = text.lines().map(str::trim).filter(|l| !l.is_empty()).collect();
+    let lines: Vec<&str> = text
+        .lines()
+        .map(str::trim)
+        .filter(|l| !l.is_empty())
+        .collect();
     let mut rows: Vec<[f64; 2]> = Vec::with_capacity(lines.len());
     let mut header_skipped = false;
     for (i, line) in lines.iter().enumerate() {
@@ -182,7 +186,10 @@ mod tests {
         let t = read_pasted_table("Angle (°);Relative intensity\n0;1,0\n30;0,8\n60;0,3\n90;0\n")
             .unwrap();
         assert!(t.header_skipped && !t.halves_averaged);
-        assert_eq!(t.points, [[0.0, 1.0], [30.0, 0.8], [60.0, 0.3], [90.0, 0.0]]);
+        assert_eq!(
+            t.points,
+            [[0.0, 1.0], [30.0, 0.8], [60.0, 0.3], [90.0, 0.0]]
+        );
         let t = read_pasted_table("0\t1\n45\t0.5\n").unwrap();
         assert_eq!(t.points, [[0.0, 1.0], [45.0, 0.5]]);
         let t = read_pasted_table("0, 1\n45, 0.5").unwrap();
@@ -197,7 +204,12 @@ mod tests {
         assert!(t.halves_averaged);
         assert_eq!(
             t.points,
-            [[0.0, 1.0], [30.0, 0.5 * (0.9 + 0.7)], [60.0, 0.5 * (0.2 + 0.45)], [90.0, 0.0]]
+            [
+                [0.0, 1.0],
+                [30.0, 0.5 * (0.9 + 0.7)],
+                [60.0, 0.5 * (0.2 + 0.45)],
+                [90.0, 0.0]
+            ]
         );
     }
 

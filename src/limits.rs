@@ -406,6 +406,24 @@ pub const FIND_EVALUATIONS: usize = 40;
 /// scenario's own). Time: no more than the longest single trace ([`RAYS`]).
 pub const FIND_RAYS: Count = Count::new(1, RAYS.max);
 
+// --- What a run keeps and reads -------------------------------------------------------------
+
+/// Vertices kept of one drawn ray path (the emitter, the entry, each wall hit, the end).
+/// Memory: a ray may meet the wall up to [`MAX_INTERACTIONS`] times, and a thin fibre metres
+/// long does (a 0.1 mm fibre 100 m long: some 400 000 wall hits a ray, 10 MB a path), so
+/// uncapped, the page's 90 kept paths took gigabytes; a drawing of a thousand wall hits is
+/// already a solid tangle. A longer path keeps its first vertices and is marked cut short.
+pub const PATH_POINTS: usize = 1000;
+
+/// Vertices of all the kept paths of a trace together: each of `n` kept paths holds at most
+/// `PATH_POINTS_TOTAL / n` ([`crate::trace::path_points_each`]) and [`PATH_POINTS`]. Memory:
+/// 250 000 vertices are 6 MB in the core and some 25 MB of the command line's JSON or the
+/// page's arrays, however many paths `--paths` asks for (its most, [`PATHS`], keep 61 each).
+pub const PATH_POINTS_TOTAL: usize = 250_000;
+
+// A path of the most paths still draws more than a few wall hits.
+const _: () = assert!(PATH_POINTS_TOTAL / PATHS.max as usize >= 50);
+
 #[cfg(test)]
 mod tests {
     use super::*;

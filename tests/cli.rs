@@ -10,6 +10,7 @@ use std::path::PathBuf;
 use std::process::{Command, Stdio};
 
 use serde_json::Value;
+use tirtrace::limits::{PATH_POINTS, PATH_POINTS_TOTAL};
 use tirtrace::scenario::Scenario;
 use tirtrace::trace::Prepared;
 
@@ -172,6 +173,52 @@ fn paths_are_printed_only_when_asked() {
     assert!(paths
         .iter()
         .all(|p| p["points"].as_array().unwrap().len() >= 2));
+    // A short light pipe's paths are whole.
+    assert!(paths.iter().all(|p| p["cut_short"] == false));
+}
+
+/// A bare 0.1 mm acrylic fibre 100 m long allowing 10⁷ wall hits a ray (valid): a ray meets the
+/// wall some 400 000 times, so its whole path would be 10 MB.
+const THIN_FIBRE_100_M: &str = r#"{
+  "version": 1,
+  "name": "0.1 mm fibre, 100 m",
+  "guide": { "section": { "round": { "diameter_mm": 0.1 } }, "material": { "library": "pmma" },
+             "surroundings": { "library": "air" }, "attenuation_db_per_m": 0 },
+  "route": [ { "straight": { "length_mm": 100000 } } ],
+  "source": { "emitter": { "led": { "area": { "disk": { "diameter_mm": 0.05 } }, "pattern": "lambertian" } },
+              "wavelength_nm": 650, "gap_mm": 0.01 },
+  "trace": { "rays": 3, "seed": 1, "max_interactions": 10000000 }
+}"#;
+
+#[test]
+fn paths_of_a_long_thin_fibre_are_cut_short_and_said_so() {
+    let (ok, _, out, err) = tirtrace(&["trace", "-", "--paths", "3"], THIN_FIBRE_100_M);
+    assert!(ok, "{err}");
+    let v: Value = serde_json::from_str(&out).unwrap();
+    let paths = v["paths"].as_array().unwrap();
+    assert_eq!(paths.len(), 3);
+    for p in paths {
+        assert_eq!(
+            p["points"].as_array().unwrap().len(),
+            PATH_POINTS,
+            "{}",
+            p["fate"]
+        );
+        assert_eq!(p["cut_short"], true);
+    }
+    assert_eq!(
+        err,
+        format!(
+            "tirtrace: note: 3 of the 3 kept paths are cut short after their first {PATH_POINTS} \
+             points (\"cut_short\": true); a path keeps at most {PATH_POINTS} points, and all of \
+             them together {PATH_POINTS_TOTAL}\n"
+        )
+    );
+    // The rays themselves went to their ends: the report is the one traced without paths.
+    let mut without: Value =
+        serde_json::from_str(&ok_stdout(&["trace", "-"], THIN_FIBRE_100_M)).unwrap();
+    without["paths"] = v["paths"].clone();
+    assert_eq!(v, without);
 }
 
 /// The CSV's sections, split at blank lines, each as rows of fields.

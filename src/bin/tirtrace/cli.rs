@@ -6,12 +6,12 @@ use std::process::ExitCode;
 
 use clap::error::ErrorKind;
 use clap::{Args, Parser, Subcommand};
-use tirtrace::limits::{PATHS, RAYS, THREADS};
+use tirtrace::limits::{PATHS, PATH_POINTS, PATH_POINTS_TOTAL, RAYS, THREADS};
 use tirtrace::problems::Problem;
 use tirtrace::quick::QuickDesign;
 use tirtrace::scenario::Scenario;
 use tirtrace::study::{Plan, Study};
-use tirtrace::trace::{Batch, Prepared, TraceReport, BATCH_RAYS};
+use tirtrace::trace::{path_points_each, Batch, Prepared, TraceReport, BATCH_RAYS};
 use tirtrace::FieldError;
 
 // Paths are kept from the first batch only.
@@ -223,6 +223,19 @@ fn trace_all(
         .map_err(|e| format!("--threads: could not start {threads} threads: {e}"))
 }
 
+/// A note when kept paths were cut short ([`PATH_POINTS`], [`PATH_POINTS_TOTAL`]).
+fn cut_paths_note(report: &TraceReport) -> Option<String> {
+    let cut = report.paths.iter().filter(|p| p.cut_short).count();
+    (cut > 0).then(|| {
+        format!(
+            "note: {cut} of the {} kept paths are cut short after their first {} points (\"cut_short\": \
+             true); a path keeps at most {PATH_POINTS} points, and all of them together {PATH_POINTS_TOTAL}",
+            report.paths.len(),
+            path_points_each(report.paths.len()),
+        )
+    })
+}
+
 fn trace(args: TraceArgs) -> Result<String, String> {
     let mut scenario = read_scenario(&args.file)?;
     args.run.apply(&mut scenario.trace)?;
@@ -265,6 +278,9 @@ fn trace(args: TraceArgs) -> Result<String, String> {
         },
     )?;
     let report = prepared.report(&batch);
+    if let Some(note) = cut_paths_note(&report) {
+        eprintln!("tirtrace: {note}");
+    }
     if args.csv {
         // `main` adds the final newline.
         let csv = tirtrace::export::report_csv(&report);

@@ -424,6 +424,20 @@ pub const PATH_POINTS_TOTAL: usize = 250_000;
 // A path of the most paths still draws more than a few wall hits.
 const _: () = assert!(PATH_POINTS_TOTAL / PATHS.max as usize >= 50);
 
+/// Bytes of a document the command line reads (a scenario, a study or a quick-look design, from
+/// a file or standard input): 16 MiB. Memory: the text is read whole before it is checked, and
+/// without a bound a stream that never ends (`/dev/zero`) would be read until memory runs out;
+/// the largest valid document (64 segments, a 1000-row intensity table) is some 100 kB.
+pub const DOCUMENT_BYTES: u64 = 16 << 20;
+
+/// Bytes of a piece of a study the command line merges (`tirtrace study --merge`): 4 GiB.
+/// Memory: a piece is read as it is parsed, so a stream that is not JSON stops at once, but one
+/// that never ends (blanks without end) would not; a piece holds some 2 kB for every point of
+/// each of its batches (a three-segment route; more for a long one), so the largest sweep in one
+/// piece ([`SWEEP_RAYS`]: 10⁹ rays, 244 141 batches of a point) is some 0.5 GB, and a few GB
+/// for a route of many segments.
+pub const PIECE_BYTES: u64 = 4 << 30;
+
 #[cfg(test)]
 mod tests {
     use super::*;

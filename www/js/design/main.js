@@ -121,7 +121,11 @@ function update() {
     return;
   }
   page.pendingScenario = clone(state.scenario);
-  document.body.dataset.job = String(page.pool.start(json, { keepPaths: KEEP_PATHS }));
+  const job = page.pool.start(json, { keepPaths: KEEP_PATHS });
+  document.body.dataset.job = String(job);
+  // The progress line follows the new trace at once, not when its first answer comes (a slow
+  // first batch would leave the last trace's line, and its Stop button off, for seconds).
+  showProgress({ job, raysDone: 0, raysTotal: state.scenario.trace?.rays ?? 0, done: false, cancelled: false, error: null });
   setStatus('Tracing…');
 }
 
@@ -184,6 +188,17 @@ function drawLegend(report) {
       span.append(sw, `${counts[k]} ${style.label}`);
       return span;
     });
+  // Kept paths hold at most so many points each (limits::PATH_POINTS in the core): say when a
+  // drawn ray stops short of its end.
+  const paths = report.paths || [];
+  const cut = paths.filter((p) => p.cut_short);
+  if (cut.length) {
+    const points = Math.max(...cut.map((p) => p.points.length));
+    items.push(h('span', {
+      class: 'key cut-key',
+      text: `${cut.length} of the ${paths.length} drawn rays are cut short after ${points} points (no more are kept); the rays themselves went on to their ends`,
+    }));
+  }
   const heat = document.createElement('span');
   heat.className = 'key heat-key';
   const ramp = document.createElement('span');

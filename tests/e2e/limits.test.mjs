@@ -1,17 +1,19 @@
 // Limits that protect the user's machine, on the design page (www/index.html) in Chromium: drawn
-// rays of a thin fibre metres long are cut short and the legend says so, and a trace that starts
-// shows its own progress at once (and can be stopped).
+// rays of a thin fibre metres long are cut short and the legend says so, a trace that starts
+// shows its own progress at once (and can be stopped), and a share link that expands beyond the
+// most a design may be is refused with a message, leaving the last design in place.
 //
 // Before: cargo build; bash scripts/build.sh; npm ci --prefix tests/e2e. Run: node --test tests/e2e/limits.test.mjs
 
 import assert from 'node:assert/strict';
 import { existsSync, mkdirSync } from 'node:fs';
 import { join } from 'node:path';
+import { deflateRawSync } from 'node:zlib';
 import { after, before, describe, test } from 'node:test';
 
 import { chromium } from 'playwright-core';
 
-import { firstTrace, tracedAfter } from './design-helpers.mjs';
+import { firstTrace, pageScenario, tracedAfter } from './design-helpers.mjs';
 import { CHROMIUM, CHROMIUM_ARGS, OUT, WWW, collectErrors, startServer, stopServer } from './harness.mjs';
 
 /** A bare 0.1 mm acrylic fibre `lengthMm` long: a ray meets its wall some five times a millimetre. */
@@ -39,6 +41,8 @@ async function paste(page, scenario) {
   await page.fill('#paste-text', JSON.stringify(scenario));
   await page.click('#paste-use');
 }
+
+const base64Url = (bytes) => Buffer.from(bytes).toString('base64').replace(/\+/g, '-').replace(/\//g, '_').replace(/=+$/, '');
 
 describe('limits that protect the machine, on the design page', { concurrency: false }, () => {
   let server;
@@ -102,6 +106,27 @@ describe('limits that protect the machine, on the design page', { concurrency: f
     assert.equal(shown.tracing, 'true');
     await page.click('#cancel');
     await page.waitForFunction(() => /Stopped at/.test(document.getElementById('progress-text').textContent));
+  });
+
+  test('a share link that expands beyond 2 MB is refused with a message, and the last design stays', async () => {
+    const kept = await pageScenario(page);
+    // A valid design followed by 50 MB of blanks (still valid JSON): some 50 kB deflated.
+    const text = JSON.stringify({ ...thinFibre(100, 1000), name: 'Expands too far' }) + ' '.repeat(50_000_000);
+    const link = `${server.origin}/#d=${base64Url(deflateRawSync(Buffer.from(text), { level: 9 }))}`;
+    assert.ok(link.length < 200_000, `the link is ${link.length} characters`);
+    await page.goto('about:blank');
+    await page.goto(link);
+    await page.waitForSelector('body[data-ready="true"]', { timeout: 30_000 });
+    const msg = await page.locator('#toolbar-msg').innerText();
+    assert.match(msg, /share link is damaged or incomplete/);
+    assert.match(msg, /expands to more than 2 MB of text, and a design is a few kB/);
+    assert.deepEqual(await pageScenario(page), kept, 'the last design was replaced');
+    // A link within the bound still opens (its blanks are only blanks).
+    const fits = JSON.stringify({ ...thinFibre(100, 1000), name: 'Fits' }) + ' '.repeat(1_000_000);
+    await page.goto('about:blank');
+    await page.goto(`${server.origin}/#d=${base64Url(deflateRawSync(Buffer.from(fits)))}`);
+    await page.waitForSelector('body[data-ready="true"]', { timeout: 30_000 });
+    assert.match(await page.locator('#toolbar-msg').innerText(), /Opened the design from the link: “Fits”/);
   });
 
   test('logged no errors', () => {

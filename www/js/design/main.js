@@ -14,7 +14,8 @@ import { Editor } from './editor.js';
 import { FATES, RouteView, heatGradientCss } from './route-view.js';
 import { clearReport, showBends, showFigures, showProgress, showReport } from './report-view.js';
 import {
-  STARTER, clone, download, fileNameFor, freshState, loadState, saveState, scenarioFromFragment, shareLink,
+  MAX_DESIGN_BYTES, STARTER, clone, download, fileNameFor, freshState, loadState, saveState, scenarioFromFragment,
+  shareLink, tooLargeMessage,
 } from './scenario.js';
 import { demoList, demoText, traceWorker } from './sources.js';
 import { FindPanel } from './find.js';
@@ -290,7 +291,7 @@ function wireToolbar() {
     e.target.value = '';
     if (!file) return;
     try {
-      if (file.size > 2_000_000) throw new Error('it is larger than 2 MB; a design file is a few kB');
+      if (file.size > MAX_DESIGN_BYTES) throw new Error(tooLargeMessage('it holds'));
       const s = readScenario(await file.text());
       replaceDesign(s, `Opened ${file.name}`);
     } catch (err) {

@@ -447,7 +447,11 @@ async function start() {
   document.body.dataset.ready = 'true';
   window.addEventListener('resize', () => drawCharts());
   // Only a served page (http or https) can have a service worker; a file opened from disk has none.
-  registerServiceWorker();
+  registerServiceWorker({
+    onNewBuild: (use) => toolbarMessage('A newer version of tirtrace has been kept for offline use.', {
+      action: { label: 'Use it now (reloads the page)', run: use },
+    }),
+  });
 }
 
 start();

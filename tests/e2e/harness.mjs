@@ -45,10 +45,13 @@ export async function reachable(url) {
   }
 }
 
-/** Start `python3 -m http.server` for www/ on a free port and wait until it answers. */
-export async function startServer() {
+/**
+ * Start the page's server (scripts/serve.py: a static server sending `Cache-Control: no-cache`)
+ * for `folder` (default www/) on a free port and wait until it answers.
+ */
+export async function startServer(folder = WWW) {
   const port = await freePort();
-  const child = spawn('python3', ['-m', 'http.server', String(port), '--bind', '127.0.0.1', '--directory', WWW], {
+  const child = spawn('python3', [join(ROOT, 'scripts', 'serve.py'), String(port), folder], {
     stdio: 'ignore',
   });
   const origin = `http://127.0.0.1:${port}`;

@@ -111,6 +111,8 @@ async function start() {
     setStatus(`The material list could not be read: ${messageOf(e)}`, 'error');
     return;
   }
+  // The form is never sent anywhere (Enter in a field would submit it).
+  $('design-form').addEventListener('submit', (e) => e.preventDefault());
   page.form = new EntryForm(materials, onEntry);
   page.form.write(loadEntries());
   page.entries = page.form.read();

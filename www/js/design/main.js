@@ -405,6 +405,8 @@ async function start() {
       { kind: 'error' },
     );
   }
+  // The form is never sent anywhere (Enter in a field would submit it).
+  $('editor').addEventListener('submit', (e) => e.preventDefault());
   for (const r of document.querySelectorAll('input[name="unit"]')) r.checked = r.value === page.state.unit;
   $('f-name').value = page.state.scenario.name || '';
   page.view = new RouteView($('route-view'));

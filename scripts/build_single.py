@@ -25,6 +25,7 @@ from __future__ import annotations
 
 import base64
 import gzip
+import hashlib
 import html
 import json
 import posixpath
@@ -311,12 +312,47 @@ def transform_page(page: str) -> tuple[str, str, list[str]]:
 
 
 
+CSP_META = re.compile(r"""<meta\s+http-equiv="Content-Security-Policy"\s+content="[^"]*"\s*/?>""", re.I)
+
+
+def csp_hash(text: str) -> str:
+    """The Content-Security-Policy source allowing an inline element whose text is `text`."""
+    return f"'sha256-{base64.b64encode(hashlib.sha256(text.encode('utf-8')).digest()).decode('ascii')}'"
+
+
+def single_file_policy(script: str, styles: list[str]) -> str:
+    """The single file's Content-Security-Policy. Opened from disk, it has no folder ('self') to
+    load from: nothing may load but the page's one script and its style sheets (each allowed by
+    its hash, so no other inline script or style sheet runs), style attributes, the embedded
+    images (data:), the trace workers (blob:) and the WebAssembly compiled from the embedded bytes
+    ('wasm-unsafe-eval')."""
+    return "; ".join([
+        "default-src 'none'",
+        f"script-src {csp_hash(script)} 'wasm-unsafe-eval'",
+        f"style-src {' '.join(csp_hash(s) for s in styles)}",
+        # The chart library measures text in a span it styles.
+        "style-src-attr 'unsafe-inline'",
+        "img-src data:",
+        "worker-src blob:",
+        "object-src 'none'",
+        "base-uri 'none'",
+        "form-action 'none'",
+    ])
+
+
 def build() -> tuple[int, list[str]]:
     page, entry, left_out = transform_page(read_text(PAGE))
-    scripts = f'<script type="module">\n{bundles(entry)}</script>\n'
+    script = f"\n{bundles(entry)}"
+    scripts = f'<script type="module">{script}</script>\n'
     if page.count("</body>") != 1:
         raise BuildError(f"www/{PAGE} needs exactly one </body>")
     page = page.replace("</body>", scripts + "</body>")
+    # The served page's policy (files of its folder) is replaced by the single file's.
+    if len(CSP_META.findall(page)) != 1:
+        raise BuildError(f"www/{PAGE} needs exactly one <meta http-equiv=\"Content-Security-Policy\">, which this build replaces")
+    styles = re.findall(r"<style>(.*?)</style>", page, flags=re.S)
+    policy = single_file_policy(script, styles)
+    page = CSP_META.sub(lambda _m: f'<meta http-equiv="Content-Security-Policy" content="{policy}">', page)
     note = (
         "<!-- tirtrace light-pipe designer as one file: open it from disk; it needs no server and no\n"
         "     network. Made by scripts/build_single.py from www/; the page, its modules, the core's\n"

@@ -6,4 +6,6 @@ bash scripts/setup.sh
 bash scripts/build.sh
 port="${PORT:-8000}"
 echo "tirtrace is at  http://127.0.0.1:${port}/   (Ctrl-C stops the server; the page keeps working offline once loaded)"
-exec python3 -m http.server "$port" --bind 127.0.0.1 --directory www
+# A plain static server, with `Cache-Control: no-cache` so that the browser never mixes files of
+# two builds from its cache (scripts/serve.py).
+exec python3 scripts/serve.py "$port" www

@@ -486,6 +486,38 @@ pub const FIND_EVALUATIONS: usize = 40;
 /// scenario's own). Time: no more than the longest single trace ([`RAYS`]).
 pub const FIND_RAYS: Count = Count::new(1, RAYS.max);
 
+// --- What a run keeps and reads -------------------------------------------------------------
+
+/// Vertices kept of one drawn ray path (the emitter, the entry, each wall hit, the end).
+/// Memory: a ray may meet the wall up to [`MAX_INTERACTIONS`] times, and a thin fibre metres
+/// long does (a 0.1 mm fibre 100 m long: some 400 000 wall hits a ray, 10 MB a path), so
+/// uncapped, the page's 90 kept paths took gigabytes; a drawing of a thousand wall hits is
+/// already a solid tangle. A longer path keeps its first vertices and is marked cut short.
+pub const PATH_POINTS: usize = 1000;
+
+/// Vertices of all the kept paths of a trace together: each of `n` kept paths holds at most
+/// `PATH_POINTS_TOTAL / n` ([`crate::trace::path_points_each`]) and [`PATH_POINTS`]. Memory:
+/// 250 000 vertices are 6 MB in the core and some 25 MB of the command line's JSON or the
+/// page's arrays, however many paths `--paths` asks for (its most, [`PATHS`], keep 61 each).
+pub const PATH_POINTS_TOTAL: usize = 250_000;
+
+// A path of the most paths still draws more than a few wall hits.
+const _: () = assert!(PATH_POINTS_TOTAL / PATHS.max as usize >= 50);
+
+/// Bytes of a document the command line reads (a scenario, a study or a quick-look design, from
+/// a file or standard input): 16 MiB. Memory: the text is read whole before it is checked, and
+/// without a bound a stream that never ends (`/dev/zero`) would be read until memory runs out;
+/// the largest valid document (64 segments, a 1000-row intensity table) is some 100 kB.
+pub const DOCUMENT_BYTES: u64 = 16 << 20;
+
+/// Bytes of a piece of a study the command line merges (`tirtrace study --merge`): 4 GiB.
+/// Memory: a piece is read as it is parsed, so a stream that is not JSON stops at once, but one
+/// that never ends (blanks without end) would not; a piece holds some 2 kB for every point of
+/// each of its batches (a three-segment route; more for a long one), so the largest sweep in one
+/// piece ([`SWEEP_RAYS`]: 10⁹ rays, 244 141 batches of a point) is some 0.5 GB, and a few GB
+/// for a route of many segments.
+pub const PIECE_BYTES: u64 = 4 << 30;
+
 #[cfg(test)]
 mod tests {
     use super::*;

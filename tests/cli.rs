@@ -10,6 +10,7 @@ use std::path::PathBuf;
 use std::process::{Command, Stdio};
 
 use serde_json::Value;
+use tirtrace::limits::{DOCUMENT_BYTES, PATH_POINTS, PATH_POINTS_TOTAL};
 use tirtrace::scenario::Scenario;
 use tirtrace::trace::Prepared;
 
@@ -172,6 +173,137 @@ fn paths_are_printed_only_when_asked() {
     assert!(paths
         .iter()
         .all(|p| p["points"].as_array().unwrap().len() >= 2));
+    // A short light pipe's paths are whole.
+    assert!(paths.iter().all(|p| p["cut_short"] == false));
+}
+
+/// A bare 0.1 mm acrylic fibre 100 m long allowing 10⁷ wall hits a ray (valid): a ray meets the
+/// wall some 400 000 times, so its whole path would be 10 MB.
+const THIN_FIBRE_100_M: &str = r#"{
+  "version": 1,
+  "name": "0.1 mm fibre, 100 m",
+  "guide": { "section": { "round": { "diameter_mm": 0.1 } }, "material": { "library": "pmma" },
+             "surroundings": { "library": "air" }, "attenuation_db_per_m": 0 },
+  "route": [ { "straight": { "length_mm": 100000 } } ],
+  "source": { "emitter": { "led": { "area": { "disk": { "diameter_mm": 0.05 } }, "pattern": "lambertian" } },
+              "wavelength_nm": 650, "gap_mm": 0.01 },
+  "trace": { "rays": 3, "seed": 1, "max_interactions": 10000000 }
+}"#;
+
+#[test]
+fn paths_of_a_long_thin_fibre_are_cut_short_and_said_so() {
+    let (ok, _, out, err) = tirtrace(&["trace", "-", "--paths", "3"], THIN_FIBRE_100_M);
+    assert!(ok, "{err}");
+    let v: Value = serde_json::from_str(&out).unwrap();
+    let paths = v["paths"].as_array().unwrap();
+    assert_eq!(paths.len(), 3);
+    for p in paths {
+        assert_eq!(
+            p["points"].as_array().unwrap().len(),
+            PATH_POINTS,
+            "{}",
+            p["fate"]
+        );
+        assert_eq!(p["cut_short"], true);
+    }
+    assert_eq!(
+        err,
+        format!(
+            "tirtrace: note: 3 of the 3 kept paths are cut short after their first {PATH_POINTS} \
+             points (\"cut_short\": true); a path keeps at most {PATH_POINTS} points, and all of \
+             them together {PATH_POINTS_TOTAL}\n"
+        )
+    );
+    // The rays themselves went to their ends: the report is the one traced without paths.
+    let mut without: Value =
+        serde_json::from_str(&ok_stdout(&["trace", "-"], THIN_FIBRE_100_M)).unwrap();
+    without["paths"] = v["paths"].clone();
+    assert_eq!(v, without);
+}
+
+/// Run with standard input from the file `stdin`, within 2 GB of memory (a reader without a
+/// bound then fails rather than take the machine's memory) and 60 s; (success, stderr).
+fn tirtrace_bounded(args: &[&str], stdin: &str) -> (bool, String) {
+    use std::time::{Duration, Instant};
+    let mut child = Command::new("sh")
+        .args(["-c", "ulimit -v 2000000 && exec \"$0\" \"$@\""])
+        .arg(env!("CARGO_BIN_EXE_tirtrace"))
+        .args(args)
+        .stdin(std::fs::File::open(stdin).unwrap())
+        .stdout(Stdio::null())
+        .stderr(Stdio::piped())
+        .spawn()
+        .unwrap();
+    let deadline = Instant::now() + Duration::from_secs(60);
+    while child.try_wait().unwrap().is_none() {
+        if Instant::now() > deadline {
+            child.kill().unwrap();
+            panic!("{args:?} still reading after 60 s");
+        }
+        std::thread::sleep(Duration::from_millis(20));
+    }
+    let out = child.wait_with_output().unwrap();
+    (out.status.success(), String::from_utf8(out.stderr).unwrap())
+}
+
+#[test]
+fn input_beyond_the_stated_size_is_refused_naming_the_file() {
+    // A valid scenario padded with blanks to the most a document may be is read; one byte more
+    // is refused, even though it is still a valid scenario.
+    let scenario = std::fs::read_to_string(THERMOSTAT).unwrap();
+    let padded = |bytes: u64| scenario.clone() + &" ".repeat(bytes as usize - scenario.len());
+    let dir = std::path::Path::new(env!("CARGO_TARGET_TMPDIR"));
+    let (at_most, beyond) = (dir.join("at-most.json"), dir.join("beyond.json"));
+    std::fs::write(&at_most, padded(DOCUMENT_BYTES)).unwrap();
+    std::fs::write(&beyond, padded(DOCUMENT_BYTES + 1)).unwrap();
+    let (at_most, beyond) = (at_most.to_str().unwrap(), beyond.to_str().unwrap());
+    assert_eq!(
+        ok_stdout(&["check", at_most], ""),
+        ok_stdout(&["check", THERMOSTAT], "")
+    );
+    let err = one_line_error(&["check", beyond], "");
+    assert_eq!(
+        err,
+        format!(
+            "tirtrace: could not read {beyond}: it is larger than 16 MiB, the most the command \
+             line reads of a document (a scenario or a study is a few kB)\n"
+        )
+    );
+    // A stream without end is refused at that size, from a file or from standard input.
+    let (ok, err) = tirtrace_bounded(&["check", "/dev/zero"], "/dev/null");
+    assert!(
+        !ok && err.starts_with("tirtrace: could not read /dev/zero: it is larger than 16 MiB"),
+        "{err}"
+    );
+    for args in [["trace", "-"], ["study", "-"], ["figures", "-"]] {
+        let (ok, err) = tirtrace_bounded(&args, "/dev/zero");
+        assert!(
+            !ok && err
+                .starts_with("tirtrace: could not read standard input: it is larger than 16 MiB"),
+            "{args:?}: {err}"
+        );
+    }
+    // A piece to merge is parsed as it is read: one that is not JSON stops at its first byte.
+    let study = "examples/studies/thermostat_first_bend.json";
+    let (ok, err) = tirtrace_bounded(&["study", study, "--merge", "/dev/zero"], "/dev/null");
+    assert!(
+        !ok && err.starts_with(
+            "tirtrace: /dev/zero could not be read as a piece of this study: expected value"
+        ),
+        "{err}"
+    );
+    // A piece with a byte-order mark is read as every document is.
+    let args = ["study", study, "--rays", "4096"];
+    let piece = ok_stdout(&[&args[..], &["--piece", "1/1"]].concat(), "");
+    let file = dir.join("bom-piece.json");
+    std::fs::write(&file, format!("\u{feff}{piece}")).unwrap();
+    assert_eq!(
+        ok_stdout(
+            &[&args[..], &["--merge", file.to_str().unwrap()]].concat(),
+            ""
+        ),
+        ok_stdout(&args, "")
+    );
 }
 
 /// The CSV's sections, split at blank lines, each as rows of fields.

@@ -37,7 +37,7 @@ pub use report::{
     Absolute, AngularMap, Budget, ContactReport, ExitMap, Intensity, RouteProfile, SegmentReport,
     TraceReport, Value,
 };
-use walk::Watch;
+use walk::{KeptPath, Watch};
 
 use rand_core::SeedableRng;
 use rand_pcg::Pcg64Mcg;
@@ -47,6 +47,7 @@ use serde::{Deserialize, Serialize};
 use crate::error::RunError;
 use crate::error::TirError;
 use crate::geometry::PlacedRoute;
+use crate::limits::{PATH_POINTS, PATH_POINTS_TOTAL};
 use crate::scenario::{Scenario, ScenarioIndices, Section};
 use crate::source::SourceSampler;
 use crate::stats::ShiftedSums;
@@ -112,8 +113,16 @@ pub struct Path {
     /// Fate.
     pub fate: Fate,
     /// Vertices: emitter, entry, every wall hit, and the last point (a short stub outside when
-    /// it left the guide).
+    /// it left the guide); only the first [`path_points_each`] of a longer path.
     pub points: Vec<[f64; 3]>,
+    /// Whether the path was cut short: the ray went on (to its fate) past the last point kept.
+    pub cut_short: bool,
+}
+
+/// The most vertices each of `kept` kept paths holds: [`PATH_POINTS`], and together no more
+/// than [`PATH_POINTS_TOTAL`] (see there for why).
+pub fn path_points_each(kept: usize) -> usize {
+    PATH_POINTS.min(PATH_POINTS_TOTAL / kept.max(1))
 }
 
 /// A scenario prepared for tracing: validated, placed, indices resolved.
@@ -232,7 +241,7 @@ impl Prepared {
     }
 
     /// Trace batch `index` (0-based). Paths are recorded for the first `keep_paths` rays of
-    /// batch 0.
+    /// batch 0, each up to [`path_points_each`] vertices.
     pub fn trace_batch(&self, index: u64, keep_paths: usize) -> Batch {
         self.trace_batch_inner(index, keep_paths, None, None)
     }
@@ -286,15 +295,12 @@ impl Prepared {
         let mut tallies = ShiftedSums::new(self.ledger.len());
         let mut receiver = ShiftedSums::new(1);
         let mut contrib = vec![0.0; self.ledger.len()];
+        let points_each = path_points_each(keep_paths.min(count as usize));
         for i in 0..count {
             contrib.iter_mut().for_each(|c| *c = 0.0);
             let mut rng = Pcg64Mcg::seed_from_u64(ray_seed(seed, index, i));
             let record = index == 0 && (i as usize) < keep_paths;
-            let mut path = if record {
-                Some(Vec::with_capacity(16))
-            } else {
-                None
-            };
+            let mut path = record.then(|| KeptPath::new(points_each));
             let mut watch = watched.as_ref().map(|&(segment, _)| Watch {
                 segment,
                 entered: None,
@@ -331,8 +337,12 @@ impl Prepared {
                 }
                 all.receiver.push(on_receiver);
             }
-            if let Some(points) = path {
-                out.paths.push(Path { fate, points });
+            if let Some(kept) = path {
+                out.paths.push(Path {
+                    fate,
+                    points: kept.points,
+                    cut_short: kept.cut_short,
+                });
             }
         }
         out.tallies = tallies.estimates().collect();

@@ -19,15 +19,42 @@ fn uniform(rng: &mut Pcg64Mcg) -> f64 {
     (rng.next_u64() >> 11) as f64 * (1.0 / (1u64 << 53) as f64)
 }
 
-/// The vertices of a kept path (global, mm); for a ray whose path is not kept nothing is
-/// recorded and the point is never computed.
-struct Trail<'a>(Option<&'a mut Vec<[f64; 3]>>);
+/// A kept path while its ray is traced: its vertices (global, mm), at most `max_points` of them
+/// ([`super::path_points_each`]); a ray with more vertices is cut short there.
+#[derive(Debug)]
+pub(super) struct KeptPath {
+    /// The vertices so far.
+    pub points: Vec<[f64; 3]>,
+    /// The most vertices kept.
+    pub max_points: usize,
+    /// Whether a vertex was left out.
+    pub cut_short: bool,
+}
+
+impl KeptPath {
+    /// An empty path keeping at most `max_points` vertices.
+    pub fn new(max_points: usize) -> KeptPath {
+        KeptPath {
+            points: Vec::with_capacity(16.min(max_points)),
+            max_points,
+            cut_short: false,
+        }
+    }
+}
+
+/// The vertices of a kept path; for a ray whose path is not kept, or once its path is full,
+/// nothing is recorded and the point is never computed.
+struct Trail<'a>(Option<&'a mut KeptPath>);
 
 impl Trail<'_> {
     #[inline]
     fn push(&mut self, point: impl FnOnce() -> DVec3) {
-        if let Some(v) = self.0.as_deref_mut() {
-            v.push(point().to_array());
+        if let Some(kept) = self.0.as_deref_mut() {
+            if kept.points.len() < kept.max_points {
+                kept.points.push(point().to_array());
+            } else {
+                kept.cut_short = true;
+            }
         }
     }
 }
@@ -85,7 +112,7 @@ impl Prepared {
         rng: &mut Pcg64Mcg,
         contrib: &mut [f64],
         out: &mut Batch,
-        path: Option<&mut Vec<[f64; 3]>>,
+        path: Option<&mut KeptPath>,
         watch: Option<&mut Watch>,
     ) -> (Fate, f64) {
         let mut walk = Walk {

@@ -45,10 +45,13 @@ export async function reachable(url) {
   }
 }
 
-/** Start `python3 -m http.server` for www/ on a free port and wait until it answers. */
-export async function startServer() {
+/**
+ * Start the page's server (scripts/serve.py: a static server sending `Cache-Control: no-cache`)
+ * for `folder` (default www/) on a free port and wait until it answers.
+ */
+export async function startServer(folder = WWW) {
   const port = await freePort();
-  const child = spawn('python3', ['-m', 'http.server', String(port), '--bind', '127.0.0.1', '--directory', WWW], {
+  const child = spawn('python3', [join(ROOT, 'scripts', 'serve.py'), String(port), folder], {
     stdio: 'ignore',
   });
   const origin = `http://127.0.0.1:${port}`;
@@ -102,10 +105,29 @@ export function serviceWorkerControls(page, ms = 15_000) {
   }, ms);
 }
 
-/** Collect a page's console errors and uncaught exceptions into `list`. */
+/**
+ * Collect a page's and its workers' console errors and uncaught exceptions into `list`. Chromium
+ * reports every Content-Security-Policy violation as a console error, so a test asserting an
+ * empty list fails on one.
+ */
 export function collectErrors(page, list) {
-  page.on('console', (m) => {
+  const onConsole = (m) => {
     if (m.type() === 'error') list.push(m.text());
-  });
+  };
+  page.on('console', onConsole);
+  page.on('worker', (w) => w.on('console', onConsole));
   page.on('pageerror', (e) => list.push(String(e)));
+}
+
+/**
+ * Record the Content-Security-Policy violations a page reports (its `securitypolicyviolation`
+ * events) in `list`, as "directive blocked at source:line" (blocked: a URL, or `inline`); await it before the page loads.
+ */
+export async function collectCspViolations(page, list) {
+  await page.exposeBinding('tirtraceCspViolation', (_source, text) => list.push(text));
+  await page.addInitScript(() => {
+    document.addEventListener('securitypolicyviolation', (e) => {
+      window.tirtraceCspViolation(`${e.effectiveDirective} ${e.blockedURI} at ${e.sourceFile}:${e.lineNumber}`);
+    });
+  });
 }

@@ -2,7 +2,7 @@
 // compute, show and draw. All physics comes from the core; this file only passes data along.
 
 import { loadCore, registerServiceWorker } from './core.js';
-import { $, setStatus } from './dom.js';
+import { $, h, setStatus } from './dom.js';
 import { messageOf } from './errors.js';
 import { EntryForm } from './form.js';
 import { clearCanvas, drawBend, sizeCanvasForCore } from './drawing.js';
@@ -111,6 +111,8 @@ async function start() {
     setStatus(`The material list could not be read: ${messageOf(e)}`, 'error');
     return;
   }
+  // The form is never sent anywhere (Enter in a field would submit it).
+  $('design-form').addEventListener('submit', (e) => e.preventDefault());
   page.form = new EntryForm(materials, onEntry);
   page.form.write(loadEntries());
   page.entries = page.form.read();
@@ -122,9 +124,22 @@ async function start() {
   });
   update();
   watchCanvasSizes();
-  const offline = await registerServiceWorker();
+  // A newer build kept for offline use is offered in the status line, once the page is ready.
+  let useNewBuild = null;
+  const offerNewBuild = () => {
+    const status = $('status');
+    status.replaceChildren('A newer version is ready. ', h('button', { type: 'button', class: 'status-action', text: 'Use it', onclick: useNewBuild }));
+    status.dataset.kind = 'ready';
+  };
+  const offline = await registerServiceWorker({
+    onNewBuild: (use) => {
+      useNewBuild = use;
+      if (document.body.dataset.ready === 'true') offerNewBuild();
+    },
+  });
   setStatus(offline ? 'Ready · also works offline' : 'Ready', 'ready');
   document.body.dataset.ready = 'true';
+  if (useNewBuild) offerNewBuild();
 }
 
 start();

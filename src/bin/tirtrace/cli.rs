@@ -1,17 +1,20 @@
 //! tirtrace command line: batch runs of the core on design and scenario documents (native only;
 //! `main.rs` explains why).
 
-use std::io::{IsTerminal, Read, Write};
+use std::io::{BufReader, IsTerminal, Read, Write};
 use std::process::ExitCode;
 
 use clap::error::ErrorKind;
 use clap::{Args, Parser, Subcommand};
-use tirtrace::limits::{Count, MAX_WHOLE, PATHS, RAYS, THREADS};
+use tirtrace::limits::{
+    Count, DOCUMENT_BYTES, MAX_WHOLE, PATHS, PATH_POINTS, PATH_POINTS_TOTAL, PIECE_BYTES, RAYS,
+    THREADS,
+};
 use tirtrace::problems::Problem;
 use tirtrace::quick::QuickDesign;
 use tirtrace::scenario::Scenario;
 use tirtrace::study::{Plan, Study};
-use tirtrace::trace::{Batch, Prepared, TraceReport, BATCH_RAYS};
+use tirtrace::trace::{path_points_each, Batch, Prepared, TraceReport, BATCH_RAYS};
 use tirtrace::FieldError;
 
 // Paths are kept from the first batch only.
@@ -180,18 +183,61 @@ struct TraceArgs {
     csv: bool,
 }
 
-/// A document's text from a file or standard input (`-`), without a leading byte-order mark.
-fn read_text(file: &str) -> Result<String, String> {
-    let text = if file == "-" {
-        let mut s = String::new();
-        std::io::stdin()
-            .read_to_string(&mut s)
-            .map_err(|e| format!("could not read standard input: {e}"))?;
-        s
+/// The name of a file in messages: the file, or standard input for `-`.
+fn input_name(file: &str) -> &str {
+    if file == "-" {
+        "standard input"
     } else {
-        std::fs::read_to_string(file).map_err(|e| format!("could not read {file}: {e}"))?
-    };
+        file
+    }
+}
+
+/// A file, or standard input for `-`, to read from.
+fn open_input(file: &str) -> Result<Box<dyn Read>, String> {
+    if file == "-" {
+        Ok(Box::new(std::io::stdin().lock()))
+    } else {
+        let f = std::fs::File::open(file).map_err(|e| format!("could not read {file}: {e}"))?;
+        Ok(Box::new(f))
+    }
+}
+
+/// `limit` bytes in MiB, for messages.
+fn mib(limit: u64) -> String {
+    format!("{} MiB", limit >> 20)
+}
+
+/// A document's text from a file or standard input (`-`), without a leading byte-order mark.
+/// At most [`DOCUMENT_BYTES`] are read: a larger input (or one that never ends, `/dev/zero`) is
+/// refused, naming the file.
+fn read_text(file: &str) -> Result<String, String> {
+    let name = input_name(file);
+    let mut bytes = Vec::new();
+    open_input(file)?
+        .take(DOCUMENT_BYTES + 1)
+        .read_to_end(&mut bytes)
+        .map_err(|e| format!("could not read {name}: {e}"))?;
+    if bytes.len() as u64 > DOCUMENT_BYTES {
+        return Err(format!(
+            "could not read {name}: it is larger than {}, the most the command line reads of a \
+             document (a scenario or a study is a few kB)",
+            mib(DOCUMENT_BYTES)
+        ));
+    }
+    let text = String::from_utf8(bytes)
+        .map_err(|_| format!("could not read {name}: stream did not contain valid UTF-8"))?;
     Ok(tirtrace::problems::without_bom(&text).to_string())
+}
+
+/// A reader of `r` without the byte-order mark it may start with.
+fn skip_bom(mut r: impl Read) -> std::io::Result<impl Read> {
+    const BOM: &[u8] = "\u{feff}".as_bytes();
+    let mut head = Vec::with_capacity(BOM.len());
+    (&mut r).take(BOM.len() as u64).read_to_end(&mut head)?;
+    if head == BOM {
+        head.clear();
+    }
+    Ok(std::io::Cursor::new(head).chain(r))
 }
 
 /// The first problem, with a count of the others.
@@ -240,6 +286,19 @@ fn trace_all(
         .map_err(|e| format!("--threads: could not start {threads} threads: {e}"))
 }
 
+/// A note when kept paths were cut short ([`PATH_POINTS`], [`PATH_POINTS_TOTAL`]).
+fn cut_paths_note(report: &TraceReport) -> Option<String> {
+    let cut = report.paths.iter().filter(|p| p.cut_short).count();
+    (cut > 0).then(|| {
+        format!(
+            "note: {cut} of the {} kept paths are cut short after their first {} points (\"cut_short\": \
+             true); a path keeps at most {PATH_POINTS} points, and all of them together {PATH_POINTS_TOTAL}",
+            report.paths.len(),
+            path_points_each(report.paths.len()),
+        )
+    })
+}
+
 fn trace(mut args: TraceArgs) -> Result<String, String> {
     let mut scenario = read_scenario(&args.file)?;
     args.run.apply(&mut scenario.trace)?;
@@ -280,6 +339,9 @@ fn trace(mut args: TraceArgs) -> Result<String, String> {
         }
     })?;
     let report = prepared.report(&batch);
+    if let Some(note) = cut_paths_note(&report) {
+        eprintln!("tirtrace: {note}");
+    }
     if args.csv {
         // `main` adds the final newline.
         let csv = tirtrace::export::report_csv(&report);
@@ -464,15 +526,27 @@ fn piece_k_of_n(piece: &str) -> Result<(u64, u64), String> {
         .ok_or_else(|| format!("--piece must be K/N with 1 ≤ K ≤ N (piece K of N), got {piece}"))
 }
 
-/// The pieces named by `--merge`, read.
+/// The pieces named by `--merge`, read. Each is parsed as it is read (a file that is not JSON
+/// stops at its first byte), and at most [`PIECE_BYTES`] of it.
 fn read_pieces<B: serde::de::DeserializeOwned>(
     names: &[String],
 ) -> Result<Vec<tirtrace::study::pieces::Piece<B>>, String> {
     let mut pieces = Vec::with_capacity(names.len());
-    for name in names {
-        let text = read_text(name)?;
-        let piece = serde_json::from_str(&text)
-            .map_err(|e| format!("{name} could not be read as a piece of this study: {e}"))?;
+    for file in names {
+        let name = input_name(file);
+        let mut limited = open_input(file)?.take(PIECE_BYTES + 1);
+        let piece = skip_bom(BufReader::new(&mut limited))
+            .map_err(serde_json::Error::io)
+            .and_then(serde_json::from_reader);
+        if limited.limit() == 0 {
+            return Err(format!(
+                "could not read {name}: it is larger than {}, the most the command line reads of \
+                 a piece",
+                mib(PIECE_BYTES)
+            ));
+        }
+        let piece =
+            piece.map_err(|e| format!("{name} could not be read as a piece of this study: {e}"))?;
         pieces.push(piece);
     }
     Ok(pieces)

@@ -14,7 +14,8 @@ import { Editor } from './editor.js';
 import { FATES, RouteView, heatGradientCss } from './route-view.js';
 import { clearReport, showBends, showFigures, showProgress, showReport } from './report-view.js';
 import {
-  STARTER, clone, download, fileNameFor, freshState, loadState, saveState, scenarioFromFragment, shareLink,
+  MAX_DESIGN_BYTES, STARTER, clone, download, fileNameFor, freshState, loadState, saveState, scenarioFromFragment,
+  shareLink, tooLargeMessage,
 } from './scenario.js';
 import { demoList, demoText, traceWorker } from './sources.js';
 import { FindPanel } from './find.js';
@@ -121,7 +122,11 @@ function update() {
     return;
   }
   page.pendingScenario = clone(state.scenario);
-  document.body.dataset.job = String(page.pool.start(json, { keepPaths: KEEP_PATHS }));
+  const job = page.pool.start(json, { keepPaths: KEEP_PATHS });
+  document.body.dataset.job = String(job);
+  // The progress line follows the new trace at once, not when its first answer comes (a slow
+  // first batch would leave the last trace's line, and its Stop button off, for seconds).
+  showProgress({ job, raysDone: 0, raysTotal: state.scenario.trace?.rays ?? 0, done: false, cancelled: false, error: null });
   setStatus('Tracing…');
 }
 
@@ -184,6 +189,17 @@ function drawLegend(report) {
       span.append(sw, `${counts[k]} ${style.label}`);
       return span;
     });
+  // Kept paths hold at most so many points each (limits::PATH_POINTS in the core): say when a
+  // drawn ray stops short of its end.
+  const paths = report.paths || [];
+  const cut = paths.filter((p) => p.cut_short);
+  if (cut.length) {
+    const points = Math.max(...cut.map((p) => p.points.length));
+    items.push(h('span', {
+      class: 'key cut-key',
+      text: `${cut.length} of the ${paths.length} drawn rays are cut short after ${points} points (no more are kept); the rays themselves went on to their ends`,
+    }));
+  }
   const heat = document.createElement('span');
   heat.className = 'key heat-key';
   const ramp = document.createElement('span');
@@ -275,7 +291,7 @@ function wireToolbar() {
     e.target.value = '';
     if (!file) return;
     try {
-      if (file.size > 2_000_000) throw new Error('it is larger than 2 MB; a design file is a few kB');
+      if (file.size > MAX_DESIGN_BYTES) throw new Error(tooLargeMessage('it holds'));
       const s = readScenario(await file.text());
       replaceDesign(s, `Opened ${file.name}`);
     } catch (err) {
@@ -395,6 +411,8 @@ async function start() {
       { kind: 'error' },
     );
   }
+  // The form is never sent anywhere (Enter in a field would submit it).
+  $('editor').addEventListener('submit', (e) => e.preventDefault());
   for (const r of document.querySelectorAll('input[name="unit"]')) r.checked = r.value === page.state.unit;
   $('f-name').value = page.state.scenario.name || '';
   page.view = new RouteView($('route-view'));
@@ -437,7 +455,11 @@ async function start() {
   document.body.dataset.ready = 'true';
   window.addEventListener('resize', () => drawCharts());
   // Only a served page (http or https) can have a service worker; a file opened from disk has none.
-  registerServiceWorker();
+  registerServiceWorker({
+    onNewBuild: (use) => toolbarMessage('A newer version of tirtrace has been kept for offline use.', {
+      action: { label: 'Use it now (reloads the page)', run: use },
+    }),
+  });
 }
 
 start();

@@ -146,6 +146,41 @@ async function pipe(bytes, stream) {
 }
 
 /**
+ * The most bytes of design text the page reads from a file or a share link: 2 MB. A design is a
+ * few kB (the largest valid one some 100 kB); deflated text expands up to a thousandfold, so
+ * without a bound a link of a few hundred kB could take gigabytes of the tab's memory.
+ */
+export const MAX_DESIGN_BYTES = 2_000_000;
+
+/** Why a design text is refused for its size (the page adds its own opening). */
+export const tooLargeMessage = (what) =>
+  `${what} more than ${MAX_DESIGN_BYTES / 1e6} MB of text, and a design is a few kB`;
+
+/** `bytes` inflated (deflate-raw), read chunk by chunk and stopped past MAX_DESIGN_BYTES. */
+async function inflate(bytes) {
+  const reader = new Blob([bytes]).stream().pipeThrough(new DecompressionStream('deflate-raw')).getReader();
+  const chunks = [];
+  let size = 0;
+  for (;;) {
+    const { done, value } = await reader.read();
+    if (done) break;
+    size += value.length;
+    if (size > MAX_DESIGN_BYTES) {
+      reader.cancel().catch(() => {});
+      return null;
+    }
+    chunks.push(value);
+  }
+  const out = new Uint8Array(size);
+  let at = 0;
+  for (const c of chunks) {
+    out.set(c, at);
+    at += c.length;
+  }
+  return out;
+}
+
+/**
  * A link to this page carrying the whole scenario in its fragment (never sent to a server):
  * `#d=` deflated JSON in base64url where the browser can compress, else `#j=` plain JSON.
  */
@@ -160,13 +195,22 @@ export async function shareLink(scenario, base = location.href) {
   return url.href;
 }
 
-/** The scenario JSON text in a share-link fragment, null when there is none. */
+/**
+ * The scenario JSON text in a share-link fragment, null when there is none; throws a readable
+ * Error for a link that does not decode or expands beyond MAX_DESIGN_BYTES.
+ */
 export async function scenarioFromFragment(hash = location.hash) {
   const m = hash.match(/^#([dj])=([A-Za-z0-9_-]+)$/);
   if (!m) return null;
+  let bytes;
   try {
-    let bytes = fromBase64Url(m[2]);
-    if (m[1] === 'd') bytes = await pipe(bytes, new DecompressionStream('deflate-raw'));
+    bytes = fromBase64Url(m[2]);
+    if (m[1] === 'd' && bytes.length <= MAX_DESIGN_BYTES) bytes = await inflate(bytes);
+  } catch {
+    throw new Error('its design text does not decode');
+  }
+  if (bytes === null || bytes.length > MAX_DESIGN_BYTES) throw new Error(tooLargeMessage('it expands to'));
+  try {
     return new TextDecoder('utf-8', { fatal: true }).decode(bytes);
   } catch {
     throw new Error('its design text does not decode');

@@ -194,10 +194,10 @@ pub fn figures_with_indices(scenario: &Scenario, ix: &ScenarioIndices) -> Scenar
         launch_half_angle_in_gap_deg: launch.to_degrees(),
         max_internal_angle_deg: chain.max_internal_angle_rad.to_degrees(),
         bends: bend_figures(scenario.guide.section, &scenario.route, &chain),
-        bend_note: "bend figures use the largest internal angle of the launch at the entry \
+        bend_note: "Bend figures use the largest internal angle of the launch at the entry \
                     face; a narrowing taper or an earlier bend raises ray angles, so a later \
-                    bend may leak although marked ok, and some light may be lost at the exit \
-                    face by total reflection even when no bend leaks"
+                    bend may leak although marked as not leaking, and some light may be lost \
+                    at the exit face by total reflection even when no bend leaks."
             .to_string(),
     }
 }

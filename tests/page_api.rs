@@ -310,11 +310,8 @@ fn assert_no_bad_numbers(svg: &str) {
 }
 
 const CHARTS: [(Chart, &str); 2] = [
-    (Chart::ExitMap, "Exit-face irradiance (peak "),
-    (
-        Chart::Intensity,
-        "Intensity beyond the exit face, relative to its peak",
-    ),
+    (Chart::ExitMap, "Exit-face irradiance (1 = "),
+    (Chart::Intensity, "Intensity beyond the exit face (1 = peak"),
 ];
 
 #[test]
@@ -350,7 +347,7 @@ fn charts_draw_legibly_at_pixel_ratio_1_and_2() {
     }
     // With a source flux, the intensity chart gives the peak in absolute units.
     let svg = svg_of(600, 360, 1.0, &report, Chart::Intensity);
-    assert!(svg.contains(" cd at "), "{svg}");
+    assert!(svg.contains(" mcd, mean over "), "{svg}");
     assert!(svg.contains("95 % confidence band"));
     // The exit map is a colour grid: one cell per map cell (and a colour scale).
     let svg = svg_of(600, 360, 1.0, &report, Chart::ExitMap);

@@ -136,10 +136,95 @@ fn check_map(map: &crate::trace::ExitMap) -> Result<(), TirError> {
     Ok(())
 }
 
+/// The percentile of the cells' irradiance that tops the exit map's colour scale.
+pub const MAP_SCALE_PERCENTILE: f64 = 99.0;
+
+/// The largest 95 % half-width, as a fraction of a cell's value, of a cell that may set the exit
+/// map's colour scale: ±50 % means about 16 rays or more in the cell (1.96/√16 ≈ 0.49 for rays
+/// of equal weight).
+pub const MAP_SCALE_CELL_CI: f64 = 0.5;
+
+/// Where the exit map's colour scale tops out ([`map_scale_top`]).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct MapScale {
+    /// Share of the emitted power per mm² drawn in the top colour (relative irradiance 1); cells
+    /// above it are drawn in the top colour too.
+    pub top_per_mm2: f64,
+    /// Whether the top comes from the cells known to ±[`MAP_SCALE_CELL_CI`] (else, when no cell
+    /// is, from every lit cell).
+    pub from_steady_cells: bool,
+    /// Cells brighter than the top.
+    pub cells_above: usize,
+}
+
+/// The exit map's colour scale, chosen so that no single noisy cell sets it: the
+/// [`MAP_SCALE_PERCENTILE`]th percentile (nearest rank) of the share per mm² of the cells whose
+/// 95 % half-width is at most [`MAP_SCALE_CELL_CI`] of their value; of every lit cell when no
+/// cell is known that well (too few rays). `None` when no cell holds light. Cells without a
+/// finite value count as dark.
+pub fn map_scale_top(map: &crate::trace::ExitMap) -> Option<MapScale> {
+    let value = |k: usize| {
+        let v = map.share_per_area[k];
+        if v.is_finite() {
+            v
+        } else {
+            0.0
+        }
+    };
+    let lit: Vec<usize> = (0..map.share_per_area.len())
+        .filter(|&k| value(k) > 0.0)
+        .collect();
+    let steady: Vec<f64> = lit
+        .iter()
+        .filter(|&&k| {
+            let (share, ci) = (map.share[k], map.ci95.get(k).copied().unwrap_or(f64::NAN));
+            ci.is_finite() && ci <= MAP_SCALE_CELL_CI * share
+        })
+        .map(|&k| value(k))
+        .collect();
+    let from_steady_cells = !steady.is_empty();
+    let mut values = if from_steady_cells {
+        steady
+    } else {
+        lit.iter().map(|&k| value(k)).collect()
+    };
+    if values.is_empty() {
+        return None;
+    }
+    values.sort_by(f64::total_cmp);
+    // Nearest rank: the smallest value with at least p % of the values at or below it.
+    let rank = libm::ceil(MAP_SCALE_PERCENTILE / 100.0 * values.len() as f64) as usize;
+    let top_per_mm2 = values[rank.clamp(1, values.len()) - 1];
+    let cells_above = lit.iter().filter(|&&k| value(k) > top_per_mm2).count();
+    Some(MapScale {
+        top_per_mm2,
+        from_steady_cells,
+        cells_above,
+    })
+}
+
+/// The rule of the exit map's colour scale, as written under the map.
+fn map_scale_rule(scale: &MapScale) -> String {
+    let cells = if scale.from_steady_cells {
+        format!(
+            "the cells known to ±{:.0} % (95 %)",
+            100.0 * MAP_SCALE_CELL_CI
+        )
+    } else {
+        "all lit cells (too few rays for any cell to be known to ±50 %)".to_string()
+    };
+    format!(
+        "Colour scale: 1 is the {:.0}th percentile of {cells}; brighter cells are drawn as 1.",
+        MAP_SCALE_PERCENTILE
+    )
+}
+
 /// Draw the exit-face irradiance map of a trace report: one coloured cell per map cell
-/// (irradiance relative to the brightest cell, [`sequential_colour`]), mm axes at equal scale
-/// across the face's width and height axes, a colour scale, and a caption giving the peak as a
-/// share of the emitted power per mm². A map with no light gets a message instead.
+/// (irradiance relative to the top of the colour scale, [`sequential_colour`]), mm axes at equal
+/// scale across the face's width and height axes, a colour scale, a caption giving the scale's top
+/// as a share of the emitted power per mm², and under the map the rule that sets that top
+/// ([`map_scale_top`]: a high percentile of the steady cells, never one noisy cell). A map with
+/// no light gets a message instead.
 ///
 /// `scale` multiplies fonts, line widths and margins (the device pixel ratio on the page);
 /// values outside 0.5…4 are clamped. Errors: a map whose cell count and values disagree (a
@@ -154,24 +239,28 @@ pub fn draw_exit_map<DB: DrawingBackend>(
     let map = &report.exit_map;
     check_map(map)?;
     area.fill(&WHITE).map_err(draw_err)?;
-    let peak = map
-        .share_per_area
-        .iter()
-        .copied()
-        .filter(|v| v.is_finite())
-        .fold(0.0_f64, f64::max);
-    if peak <= 0.0 {
+    let Some(colour_scale) = map_scale_top(map) else {
         return draw_nothing_to_show(
             area,
             "Exit-face irradiance",
             "No light reached the exit face: nothing to map.",
             scale,
         );
-    }
+    };
+    let peak = colour_scale.top_per_mm2;
     let caption = format!(
-        "Exit-face irradiance (peak {} % of the emitted power per mm²)",
+        "Exit-face irradiance (1 = {} % of the emitted power per mm²)",
         sig3(100.0 * peak)
     );
+    let (area_h, foot_h) = (area.dim_in_pixel().1, px(22.0));
+    let (chart_area, foot) = area.split_vertically(area_h.saturating_sub(foot_h));
+    foot.draw(&Text::new(
+        map_scale_rule(&colour_scale),
+        (px(8.0) as i32, foot_h as i32 / 2),
+        ink_font(px(12.0)).pos(Pos::new(HPos::Left, VPos::Center)),
+    ))
+    .map_err(draw_err)?;
+    let area = &chart_area;
     let body = area
         .titled(&caption, ink_font(px(14.0)))
         .map_err(draw_err)?;
@@ -213,6 +302,7 @@ pub fn draw_exit_map<DB: DrawingBackend>(
             let (row, col) = (k / n, k % n);
             let v = map.share_per_area[k];
             let rel = if v.is_finite() { v / peak } else { 0.0 };
+            // Above the scale's top: drawn in the top colour (sequential_colour clamps).
             let (x0, y0) = (-hw + col as f64 * cw, -hh + row as f64 * ch);
             Rectangle::new(
                 [(x0, y0), (x0 + cw, y0 + ch)],
@@ -260,10 +350,43 @@ pub fn draw_exit_map<DB: DrawingBackend>(
     area.present().map_err(draw_err)
 }
 
+/// An intensity with three significant figures in the unit (cd or mW/sr) or a smaller one with
+/// an SI prefix, so that it reads without an exponent: "304 mcd", "12.5 µW/sr".
+fn intensity_text(value: f64, unit: crate::trace::IntensityUnit) -> String {
+    use crate::trace::IntensityUnit;
+    let units: [(f64, &str); 4] = match unit {
+        IntensityUnit::Candela => [(1.0, "cd"), (1e-3, "mcd"), (1e-6, "µcd"), (1e-9, "ncd")],
+        IntensityUnit::MilliwattPerSteradian => [
+            (1e3, "W/sr"),
+            (1.0, "mW/sr"),
+            (1e-3, "µW/sr"),
+            (1e-6, "nW/sr"),
+        ],
+    };
+    let (factor, name) = units
+        .iter()
+        .copied()
+        .find(|&(f, _)| value.abs() >= f)
+        .unwrap_or(units[units.len() - 1]);
+    format!("{} {name}", sig3(value / factor))
+}
+
+/// Where the peak window lies, for a caption: "the 5° cone about the axis" or "27° to 28° off
+/// axis".
+fn window_text(w: &crate::trace::IntensityWindow) -> String {
+    if w.from_deg == 0.0 {
+        format!("the {:.0}° cone about the axis", w.to_deg)
+    } else {
+        format!("{:.0}° to {:.0}° off axis", w.from_deg, w.to_deg)
+    }
+}
+
 /// Draw the intensity beyond the exit face against the angle from the exit axis (degrees,
-/// 1° rings) relative to the brightest ring, with its 95 % confidence band when the report
-/// carries one per ring. With a source flux the caption gives the peak in absolute units. A
-/// report with no delivered light gets a message instead.
+/// 1° rings) relative to the reported peak (the mean over the brightest window of at least the
+/// 5° cone's solid angle, [`crate::trace::Intensity::peak`], marked on the chart), with the
+/// rings' 95 % confidence band when the report carries one per ring. A noisy ring may rise above
+/// 1; the axis makes room for it. With a source flux the caption gives the peak in absolute
+/// units. A report with no delivered light gets a message instead.
 ///
 /// `scale` as for [`draw_exit_map`]. Errors: angle and value lists of different lengths (a
 /// malformed report), or a drawing backend failure.
@@ -297,8 +420,10 @@ pub fn draw_intensity<DB: DrawingBackend>(
             (a, v, ci.unwrap_or(f64::NAN))
         })
         .collect();
-    let peak = points.iter().map(|p| p.1).fold(0.0_f64, f64::max);
-    if peak <= 0.0 {
+    let brightest_ring = points.iter().map(|p| p.1).fold(0.0_f64, f64::max);
+    let window = &it.peak;
+    let peak = window.share_per_sr;
+    if brightest_ring <= 0.0 || !(peak.is_finite() && peak > 0.0) {
         return draw_nothing_to_show(
             area,
             "Intensity beyond the exit face",
@@ -310,37 +435,33 @@ pub fn draw_intensity<DB: DrawingBackend>(
         it.ci95_per_sr.len() == it.share_per_sr.len() && points.iter().all(|p| p.2.is_finite());
     let caption = match &report.absolute {
         Some(a) => format!(
-            "Intensity beyond the exit face, relative to its peak ({} {} at {:.1}°)",
-            sig3(a.peak_intensity.value),
-            a.intensity_unit,
-            a.peak_angle_deg
+            "Intensity beyond the exit face (1 = peak: {}, mean over {})",
+            intensity_text(a.peak_intensity.value, a.intensity_unit),
+            window_text(window)
         ),
-        None => "Intensity beyond the exit face, relative to its peak".to_string(),
+        None => format!(
+            "Intensity beyond the exit face (1 = peak: the mean over {})",
+            window_text(window)
+        ),
     };
     let body = area
         .titled(&caption, ink_font(px(14.0)))
         .map_err(draw_err)?;
     let label_font = ink_font(px(12.0));
-    let hi_max = if band {
-        points
-            .iter()
-            .map(|p| (p.1 + p.2) / peak)
-            .fold(1.0, f64::max)
-    } else {
-        1.0
-    };
-    let y_max = hi_max.clamp(1.05, 1.5);
+    let y_max = (1.1 * brightest_ring / peak).max(1.1);
     let x_max = libm::ceil(points.iter().map(|p| p.0).fold(90.0, f64::max));
     let mut chart = cartesian(&body, 10.0, scale, 0.0..x_max, 0.0..y_max)?;
+    let y_decimals = if y_max < 3.0 { 1 } else { 0 };
     draw_axes(
         &mut chart,
         ("angle from the exit axis (°)", "relative intensity"),
         label_font.clone(),
         label_font.clone(),
-        (&|x| format!("{x:.0}"), &|y| format!("{y:.1}")),
+        (&|x| format!("{x:.0}"), &|y| format!("{y:.*}", y_decimals)),
     )?;
     let line_colour = RGBColor(0x28, 0x5f, 0x96);
     let band_colour = RGBColor(0xb8, 0xd4, 0xe8);
+    let window_colour = RGBColor(0xc2, 0x41, 0x0c);
     if band {
         // The band as one polygon: upper edge out, lower edge back, clipped to the chart.
         let mut outline: Vec<(f64, f64)> = points
@@ -367,7 +488,15 @@ pub fn draw_intensity<DB: DrawingBackend>(
         line_colour,
         2,
         scale,
-        "intensity (peak = 1)",
+        "intensity in 1° rings",
+    )?;
+    draw_line(
+        &mut chart,
+        [(window.from_deg, 1.0), (window.to_deg, 1.0)],
+        window_colour,
+        4,
+        scale,
+        "peak: mean over its window",
     )?;
     draw_legend(&mut chart, SeriesLabelPosition::UpperRight, label_font)?;
     area.present().map_err(draw_err)

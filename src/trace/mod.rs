@@ -34,8 +34,8 @@ use ledger::Ledger;
 pub(crate) use names::Named;
 pub use names::{FluxUnit, IntensityUnit};
 pub use report::{
-    Absolute, AngularMap, Budget, ContactReport, ExitMap, Intensity, RouteProfile, SegmentReport,
-    TraceReport, Value,
+    peak_windows, Absolute, AngularMap, Budget, ContactReport, ExitMap, Intensity, IntensityWindow,
+    RouteProfile, SegmentReport, TraceReport, Value, AXIS_CONE_HALF_ANGLE_DEG,
 };
 use walk::{KeptPath, Watch};
 

@@ -7,7 +7,17 @@ use super::{
     ROUTE_BINS,
 };
 use crate::scenario::Flux;
-use crate::stats::Share;
+use crate::stats::{Estimate, Share};
+
+/// Half-angle of the cone about the exit axis over which the on-axis intensity is averaged,
+/// degrees. Its solid angle (2π (1 − cos 5°) ≈ 0.0239 sr) is also the least that any window of
+/// the peak search spans: a 1° ring on the axis spans only 0.00096 sr, so at 10⁵ rays it holds a
+/// few dozen rays and its intensity is known to ±45 % — the brightest such ring is mostly noise,
+/// and the brightest of many noisy rings drifts down as rays are added. A window of 0.0239 sr
+/// holds 25 times as many rays (±9 % at 10⁵ rays for a Lambertian exit) and converges as
+/// 1/√rays. The price is a stated smoothing: an intensity pattern narrower than 5° is reported
+/// as its mean over the cone.
+pub const AXIS_CONE_HALF_ANGLE_DEG: usize = 5;
 
 impl Prepared {
     /// Turn merged batches into the reported result.
@@ -60,6 +70,7 @@ impl Prepared {
                 lost: share(ledger.contact(k)),
             })
             .collect();
+        let intensity = Intensity::from_hist(&batch.angle_hist, batch.rays);
         TraceReport {
             rays: batch.rays,
             seed: self.scenario.trace.seed,
@@ -73,7 +84,7 @@ impl Prepared {
             segments,
             contacts,
             receiver: self.scenario.receiver.map(|_| batch.receiver.share()),
-            absolute: self.absolute(batch),
+            absolute: self.absolute(batch, &intensity),
             wall_interactions: batch.wall_interactions,
             exit_map: ExitMap::new(
                 &batch.exit_map,
@@ -82,7 +93,7 @@ impl Prepared {
                 2.0 * self.exit_half.0,
                 2.0 * self.exit_half.1,
             ),
-            intensity: Intensity::from_hist(&batch.angle_hist, batch.rays),
+            intensity,
             angular_map: AngularMap::new(&batch.angular_map, batch.rays, ANGULAR_CELLS),
             leak_along_route: {
                 let (share, ci95) = bin_shares(&batch.route_leak, batch.rays);
@@ -96,33 +107,27 @@ impl Prepared {
         }
     }
 
-    fn absolute(&self, batch: &Batch) -> Option<Absolute> {
+    fn absolute(&self, batch: &Batch, intensity: &Intensity) -> Option<Absolute> {
         let flux = self.scenario.source.flux?;
         let (value, unit, intensity_unit) = match flux {
             Flux::Mw(x) => (x, FluxUnit::Milliwatt, IntensityUnit::MilliwattPerSteradian),
             Flux::Lm(x) => (x, FluxUnit::Lumen, IntensityUnit::Candela),
         };
         let delivered = batch.tallies[self.ledger.delivered()].share();
-        let intensity = Intensity::from_hist(&batch.angle_hist, batch.rays);
-        // Share per steradian × flux; the peak is the brightest 1° ring.
-        let peak_ring = (0..intensity.share_per_sr.len())
-            .max_by(|&a, &b| intensity.share_per_sr[a].total_cmp(&intensity.share_per_sr[b]))
-            .unwrap_or(0);
         let area_m2 = self.route.exit_section.area_mm2() * 1e-6;
         let with_ci = |share: f64, ci: f64| Value {
             value: share * value,
             ci95: ci * value,
         };
-        let on_axis = with_ci(intensity.share_per_sr[0], intensity.ci95_per_sr[0]);
+        // Share per steradian × flux, each a mean over its window (IntensityWindow).
+        let (peak, axis) = (&intensity.peak, &intensity.on_axis);
+        let on_axis = with_ci(axis.share_per_sr, axis.ci95_per_sr);
         Some(Absolute {
             unit,
             intensity_unit,
             delivered: with_ci(delivered.share, delivered.ci95),
-            peak_intensity: with_ci(
-                intensity.share_per_sr[peak_ring],
-                intensity.ci95_per_sr[peak_ring],
-            ),
-            peak_angle_deg: intensity.angle_deg[peak_ring],
+            peak_intensity: with_ci(peak.share_per_sr, peak.ci95_per_sr),
+            peak_angle_deg: peak.centre_deg(),
             on_axis_intensity: on_axis,
             mean_exit_luminance: (unit == FluxUnit::Lumen).then(|| Value {
                 value: on_axis.value / area_m2,
@@ -276,7 +281,8 @@ fn grid(h: &Hist, rays: u64, cells: usize, span_x: f64, span_y: f64) -> Grid {
 /// Shares, half-widths and shares per unit area of a grid's cells.
 type Grid = (Vec<f64>, Vec<f64>, Vec<f64>);
 
-/// Intensity against polar angle beyond the exit face.
+/// Intensity against polar angle beyond the exit face: per 1° ring for the curve, and averaged
+/// over windows of adequate solid angle for the on-axis and peak figures.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct Intensity {
     /// Bin centres, degrees.
@@ -285,6 +291,75 @@ pub struct Intensity {
     pub share_per_sr: Vec<f64>,
     /// 95 % half-width of each ring's value.
     pub ci95_per_sr: Vec<f64>,
+    /// On the axis: the mean over the cone of [`AXIS_CONE_HALF_ANGLE_DEG`] about the exit axis.
+    pub on_axis: IntensityWindow,
+    /// The brightest of [`peak_windows`]: the on-axis cone, then rings each spanning at least
+    /// its solid angle. The first of equal windows (the one nearest the axis).
+    pub peak: IntensityWindow,
+}
+
+/// The mean intensity over a cone about the exit axis (`from_deg` = 0) or a ring around it:
+/// the delivered share that leaves between `from_deg` and `to_deg` from the axis, divided by the
+/// window's solid angle Ω = 2π (cos from − cos to) (the solid angle of a ring of polar angles;
+/// from memory, any radiometry text).
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+pub struct IntensityWindow {
+    /// Inner edge, degrees from the exit axis.
+    pub from_deg: f64,
+    /// Outer edge, degrees from the exit axis.
+    pub to_deg: f64,
+    /// Solid angle of the window, sr.
+    pub solid_angle_sr: f64,
+    /// Share of the emitted power per steradian, the mean over the window.
+    pub share_per_sr: f64,
+    /// Its 95 % half-width (from the window's own rays: a ray lands in one ring at most, so the
+    /// rings' sums and sums of squares add); infinite (`null`) below two rays.
+    #[serde(deserialize_with = "crate::export::ci95_or_infinite")]
+    pub ci95_per_sr: f64,
+}
+
+impl IntensityWindow {
+    /// The window's direction for a single figure: 0 for the cone about the axis, else the middle
+    /// of the ring, degrees.
+    pub fn centre_deg(&self) -> f64 {
+        if self.from_deg == 0.0 {
+            0.0
+        } else {
+            0.5 * (self.from_deg + self.to_deg)
+        }
+    }
+}
+
+/// Solid angle of the ring between polar angles `from_deg` and `to_deg` about an axis, sr:
+/// Ω = 2π (cos from − cos to).
+fn ring_solid_angle_sr(from_deg: f64, to_deg: f64) -> f64 {
+    std::f64::consts::TAU * (libm::cos(from_deg.to_radians()) - libm::cos(to_deg.to_radians()))
+}
+
+/// The windows of the peak search over `bins` 1° rings, as [from, to) in whole degrees: the cone
+/// of [`AXIS_CONE_HALF_ANGLE_DEG`] about the axis, then rings of whole degrees, each widened
+/// until it spans at least the cone's solid angle (two or three degrees near the axis, one
+/// beyond about 14°). A last ring that cannot reach it joins the one before.
+pub fn peak_windows(bins: usize) -> Vec<(usize, usize)> {
+    let cone = AXIS_CONE_HALF_ANGLE_DEG.min(bins);
+    let least_sr = ring_solid_angle_sr(0.0, cone as f64);
+    let mut windows = vec![(0, cone)];
+    let mut from = cone;
+    while from < bins {
+        let mut to = from + 1;
+        while to < bins && ring_solid_angle_sr(from as f64, to as f64) < least_sr {
+            to += 1;
+        }
+        if ring_solid_angle_sr(from as f64, to as f64) < least_sr {
+            if let Some(last) = windows.last_mut() {
+                last.1 = to;
+            }
+        } else {
+            windows.push((from, to));
+        }
+        from = to;
+    }
+    windows
 }
 
 impl Intensity {
@@ -295,16 +370,43 @@ impl Intensity {
         let mut share_per_sr = Vec::with_capacity(n);
         let mut ci95_per_sr = Vec::with_capacity(n);
         for i in 0..n {
-            let (a0, a1) = ((i as f64).to_radians(), ((i + 1) as f64).to_radians());
-            let omega = std::f64::consts::TAU * (libm::cos(a0) - libm::cos(a1));
+            let omega = ring_solid_angle_sr(i as f64, (i + 1) as f64);
             angle_deg.push(i as f64 + 0.5);
             share_per_sr.push(share[i] / omega);
             ci95_per_sr.push(ci[i] / omega);
         }
+        let window = |(from, to): (usize, usize)| {
+            let sum = hist.sum[from..to].iter().sum();
+            let sumsq = hist.sumsq[from..to].iter().sum();
+            let e = Estimate::from_raw_sums(rays, sum, sumsq);
+            let omega = ring_solid_angle_sr(from as f64, to as f64);
+            IntensityWindow {
+                from_deg: from as f64,
+                to_deg: to as f64,
+                solid_angle_sr: omega,
+                share_per_sr: e.mean / omega,
+                ci95_per_sr: e.half_width95().unwrap_or(f64::INFINITY) / omega,
+            }
+        };
+        let windows: Vec<IntensityWindow> = peak_windows(n).into_iter().map(window).collect();
+        let on_axis = windows[0];
+        let peak = windows
+            .iter()
+            .copied()
+            .reduce(|best, w| {
+                if w.share_per_sr > best.share_per_sr {
+                    w
+                } else {
+                    best
+                }
+            })
+            .unwrap_or(on_axis);
         Intensity {
             angle_deg,
             share_per_sr,
             ci95_per_sr,
+            on_axis,
+            peak,
         }
     }
 }
@@ -339,14 +441,24 @@ pub struct Absolute {
     pub intensity_unit: IntensityUnit,
     /// Delivered flux.
     pub delivered: Value,
-    /// Peak intensity beyond the exit face (brightest 1° ring).
+    /// Peak intensity beyond the exit face: the mean over the brightest window of the peak
+    /// search ([`Intensity::peak`]: the 5° cone about the axis, or a ring of at least its solid
+    /// angle), flux × share per sr. Picking the brightest window from the same rays leans high
+    /// when several windows are nearly equal (a flat top), by less than the interval in our
+    /// checks.
     pub peak_intensity: Value,
-    /// Angle from the exit axis of the brightest ring, degrees (its centre).
+    /// Direction of the peak window, degrees from the exit axis: 0 for the cone about the axis,
+    /// else the middle of the ring ([`IntensityWindow::centre_deg`]).
     pub peak_angle_deg: f64,
-    /// Intensity along the exit axis (first 1° ring).
+    /// Intensity along the exit axis: the mean over the cone of [`AXIS_CONE_HALF_ANGLE_DEG`]
+    /// about it ([`Intensity::on_axis`]).
     pub on_axis_intensity: Value,
-    /// Mean luminance of the exit face seen along its axis: on-axis intensity over the
-    /// exit-face area, cd/m² (luminous input only).
+    /// Mean luminance of the exit face along its axis, cd/m² (luminous input only): the
+    /// luminance L(x) of each point x of the face in the axial direction, averaged over the
+    /// face's area A. A flat face's intensity in a direction θ from its normal is
+    /// I(θ) = ∫ L(x, θ) cos θ dA (the definition of luminance; from memory, any radiometry
+    /// text), so along the axis (θ = 0) the mean is L̄ = I(0) / A: the on-axis intensity over
+    /// the exit-face area. In the medium beyond the exit face (air, or a bonded window).
     pub mean_exit_luminance: Option<Value>,
     /// Flux on the receiver.
     pub receiver: Option<Value>,

@@ -141,7 +141,7 @@ describe('find the limit in the study panel', { concurrency: false }, () => {
     assert.match(await page.locator('#bend-find-head').innerText(), /Radius for ≤ 1 % leak/);
     await row.locator('button.bend-find-run').click();
     await page.waitForSelector('#study[data-find-state="done"]', { timeout: 300_000 });
-    await page.waitForFunction(() => !/searching/.test(document.querySelector('#bend-rows tr[data-segment="1"] .bend-find-answer').textContent));
+    await page.waitForFunction(() => !/Searching/.test(document.querySelector('#bend-rows tr[data-segment="1"] .bend-find-answer').textContent));
     const cell = await row.locator('.bend-find-answer').innerText();
     const state = await keptState(page);
     assert.equal(state.find.field, BEND_RADIUS);

@@ -220,7 +220,7 @@ describe('the tirtrace page in Chromium', { concurrency: false }, () => {
     // R_centre = t (n + 1) / (2 (n − 1)) (Engineering Plastics Handbook, McGraw-Hill 2006, ch. 1).
     assertShows(await text(page, '#fig-leak-free-ratio'), 1 / (1.49253 - 1), { minDecimals: 2, what: 'axial R/d' });
     // n > √2: every ray from air is accepted (NA = √(n² − 1) > 1; G. Keiser, Optical Fiber Communications).
-    assert.match(await text(page, '#fig-acceptance'), /all rays from the front medium are accepted/);
+    assert.match(await text(page, '#fig-acceptance'), /All rays from the front medium are accepted/);
   });
 
   test('says plainly when no leak-free radius exists', async () => {
@@ -243,7 +243,7 @@ describe('the tirtrace page in Chromium', { concurrency: false }, () => {
     };
     const core = cliFigures(design);
     assert.equal(core.leak_free_ratio, null);
-    assert.equal(await text(page, '#fig-leak-free .value'), 'no leak-free radius exists');
+    assert.equal(await text(page, '#fig-leak-free .value'), 'No leak-free radius exists');
     assert.ok((await text(page, '#fig-leak-free .explain')).length > 20, 'the reason is given');
     assert.ok(!(await page.locator('#fig-leak-free-ratio').isVisible()));
     assert.match(await text(page, '#verdict'), /leaks/);

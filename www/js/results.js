@@ -40,34 +40,34 @@ const isNum = (x) => typeof x === 'number' && Number.isFinite(x);
  */
 export function showFigures(f, design) {
   setFigure('fig-n', formatIndex(f.n_core), {
-    explain: `around it ${formatIndex(f.n_surroundings)}, in front ${formatIndex(f.n_launch)}`,
+    explain: `Around it ${formatIndex(f.n_surroundings)}, in front ${formatIndex(f.n_launch)}.`,
   });
 
   if (isNum(f.critical_angle_deg)) {
     setFigure('fig-critical', formatFixed(f.critical_angle_deg, 2), {
       unit: '°',
-      explain: "from the wall's normal; rays hitting the wall more steeply leak out",
+      explain: "From the wall's normal; rays hitting the wall more steeply leak out.",
     });
   } else {
     setFigure('fig-critical', 'none', {
       unit: '',
-      explain: 'the surroundings are not of lower index, so nothing is guided',
+      explain: 'The surroundings are not of lower index, so nothing is guided.',
     });
   }
 
   setFigure('fig-na', formatFixed(f.numerical_aperture, 3), {
-    explain: f.numerical_aperture > 1 ? 'above 1: wider than any cone from air' : naFormula(),
+    explain: f.numerical_aperture > 1 ? 'Above 1: wider than any cone from air.' : naFormula(),
   });
 
   if (f.acceptance_saturated) {
     setFigure('fig-acceptance', formatFixed(f.acceptance_half_angle_deg, 1), {
       unit: '°',
-      explain: 'all rays from the front medium are accepted',
+      explain: 'All rays from the front medium are accepted.',
     });
   } else {
     setFigure('fig-acceptance', formatFixed(f.acceptance_half_angle_deg, 1), {
       unit: '°',
-      explain: 'in the front medium; wider rays are not guided',
+      explain: 'In the front medium; wider rays are not guided.',
     });
   }
 
@@ -83,7 +83,7 @@ export function showFigures(f, design) {
     ratioEl.textContent = `R/d = ${formatSig(f.leak_free_ratio, 3)}`;
     ratioEl.hidden = false;
   } else {
-    setFigure('fig-leak-free', 'no leak-free radius exists', {
+    setFigure('fig-leak-free', 'No leak-free radius exists', {
       unit: '',
       explain: reasonFrom(f.leak_free_note),
     });

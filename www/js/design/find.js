@@ -11,7 +11,7 @@
 import { $, h } from '../dom.js';
 import { sizeCanvasForCore } from '../drawing.js';
 import { messageOf } from '../errors.js';
-import { formatShare } from '../format.js';
+import { formatHalfWidth, formatShare } from '../format.js';
 import { parseNumber } from '../numbers.js';
 import { MainThreadPool } from '../trace/main-thread-pool.js';
 import { TracePool } from '../trace/pool.js';
@@ -22,7 +22,7 @@ const MOST_EVALUATIONS = 40;
 /** Allowed loss when the designer has not changed it, %. */
 export const DEFAULT_PERCENT = 1;
 
-const shareText = (s) => (s ? `${formatShare(s.share, s.ci95)} ± ${formatShare(s.ci95, s.ci95)}` : '—');
+const shareText = (s) => (s ? `${formatShare(s.share, s.ci95)} ± ${formatHalfWidth(s.ci95)}` : '—');
 
 /** The route index of a bend radius path (`route[1].bend.radius_mm` → 1), else null. */
 export function bendOf(path) {
@@ -93,7 +93,7 @@ export class FindPanel {
     this.study.showSetup();
     this.setMode('find');
     const cell = () => $('bend-rows').querySelector(`tr[data-segment="${segment}"] .bend-find-answer`);
-    if (cell()) cell().textContent = 'searching…';
+    if (cell()) cell().textContent = 'Searching…';
     const design = JSON.stringify(this.state.scenario);
     this.onDone = (r) => {
       this.onDone = null;
@@ -104,7 +104,7 @@ export class FindPanel {
         const high = r.interval?.high == null ? `≥ ${n(r.to)}` : n(r.interval.high);
         text = `${n(r.answer)} ${this.state.unit} centre line (95 %: ${low} to ${high})`;
       } else if (r) {
-        text = `${{ holds_everywhere: 'holds over the whole range', holds_nowhere: 'nowhere in the range', not_monotone: 'not monotone: narrow the range' }[r.verdict] ?? 'see the study panel'}`;
+        text = `${{ holds_everywhere: 'Holds over the whole range', holds_nowhere: 'Nowhere in the range', not_monotone: 'Not monotone: narrow the range' }[r.verdict] ?? 'See the study panel'}`;
       }
       if (r) this.bendAnswers.set(segment, { design, text });
       if (cell()) cell().textContent = text;

@@ -173,8 +173,10 @@ function drawCharts() {
   }
 }
 
+/** The 3D view's key: how many of the drawn rays (a sample) met each fate, and the heat strip. */
 function drawLegend(report) {
   const counts = {};
+  const drawn = (report.paths || []).length;
   for (const p of report.paths || []) counts[p.fate] = (counts[p.fate] || 0) + 1;
   const items = Object.entries(FATES)
     .filter(([k]) => counts[k])
@@ -207,8 +209,11 @@ function drawLegend(report) {
   ramp.style.background = heatGradientCss();
   ramp.setAttribute('aria-hidden', 'true');
   const max = page.view.heatMax;
-  heat.append(ramp, max > 0 ? `leakage along the pipe: darkest, ${(100 * max).toPrecision(2)} % of the light within ${page.view.heatBinMm.toPrecision(2)} mm` : 'no leakage along the pipe');
-  $('route-legend').replaceChildren(...items, heat);
+  heat.append(ramp, max > 0 ? `Leakage along the pipe: darkest, ${(100 * max).toPrecision(2)} % of the light within ${page.view.heatBinMm.toPrecision(2)} mm` : 'No leakage along the pipe');
+  const lead = document.createElement('span');
+  lead.className = 'key key-lead';
+  lead.textContent = drawn > 0 ? `Drawn rays, ${formatCount(drawn)} of the ${formatCount(report.rays)} traced (the budget counts them all):` : 'No rays drawn.';
+  $('route-legend').replaceChildren(lead, ...items, heat);
 }
 
 // ------------------------------------------------------------ replacing the design

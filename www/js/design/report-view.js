@@ -3,7 +3,7 @@
 // absolute figures. Text only through textContent (names from files are never HTML).
 
 import { $, h } from '../dom.js';
-import { formatAmount, formatCount, formatFixed, formatShare, formatShareCi, orDash } from '../format.js';
+import { formatCount, formatFixed, formatHalfWidth, formatQuantity, formatShare, formatShareCi, orDash } from '../format.js';
 
 const MECHANISMS = [
   ['delivered', 'Reaches the window (exit face)', '#1864ab'],
@@ -22,6 +22,12 @@ const KIND_NAMES = { straight: 'Straight', bend: 'Bend', taper: 'Taper' };
 
 const fixed = (x, d) => orDash(formatFixed(x, d));
 
+/** The core's note as a sentence: a capital letter first. */
+const sentence = (text) => (text ? text.charAt(0).toUpperCase() + text.slice(1) : '');
+
+/** Where an intensity window lies: "the 5° cone about the axis" or "27°–28° off axis". */
+const windowText = (w) => (!w ? '—' : w.from_deg === 0 ? `the ${formatFixed(w.to_deg, 0)}° cone about the axis` : `${formatFixed(w.from_deg, 0)}°–${formatFixed(w.to_deg, 0)}° off axis`);
+
 export function showProgress(u) {
   const bar = $('progress');
   bar.max = Math.max(1, u.raysTotal || 1);
@@ -39,25 +45,35 @@ export function showProgress(u) {
 export function showReport(report, figures, scenario) {
   const d = report.delivered;
   $('answer-value').textContent = formatShare(d.share, d.ci95);
-  $('answer-ci').textContent = `± ${formatShare(d.ci95, d.ci95)} %`;
+  $('answer-ci').textContent = `± ${formatHalfWidth(d.ci95)} %`;
   $('answer').dataset.share = String(d.share);
   $('answer').dataset.ci95 = String(d.ci95);
   $('answer').dataset.rays = String(report.rays);
-  $('answer-note').textContent = `of the light the ${scenario.source.emitter.beam ? 'beam' : 'LED'} emits, from ${formatCount(report.rays)} rays (95 % confidence).`;
+  $('answer-note').textContent = `Share of the light the ${scenario.source.emitter.beam ? 'beam' : 'LED'} emits, from ${formatCount(report.rays)} rays (± is the 95 % interval).`;
 
   // Detector and absolute figures.
   const extra = [];
   if (report.receiver) extra.push(['On the detector', formatShareCi(report.receiver.share, report.receiver.ci95)]);
   const abs = report.absolute;
+  const axis = report.intensity?.on_axis;
+  const peak = report.intensity?.peak;
   if (abs) {
-    extra.push([`Flux reaching the window`, `${formatAmount(abs.delivered.value)} ± ${formatAmount(abs.delivered.ci95)} ${abs.unit}`]);
-    if (abs.receiver) extra.push([`Flux on the detector`, `${formatAmount(abs.receiver.value)} ± ${formatAmount(abs.receiver.ci95)} ${abs.unit}`]);
-    extra.push([`Peak intensity (at ${fixed(abs.peak_angle_deg, 1)}° off axis)`, `${formatAmount(abs.peak_intensity.value)} ± ${formatAmount(abs.peak_intensity.ci95)} ${abs.intensity_unit}`]);
-    extra.push([`On-axis intensity`, `${formatAmount(abs.on_axis_intensity.value)} ± ${formatAmount(abs.on_axis_intensity.ci95)} ${abs.intensity_unit}`]);
-    if (abs.mean_exit_luminance) extra.push(['Mean luminance of the exit face', `${formatAmount(abs.mean_exit_luminance.value)} ± ${formatAmount(abs.mean_exit_luminance.ci95)} cd/m²`]);
+    const q = (v, unit) => formatQuantity(v.value, v.ci95, unit);
+    extra.push(['Flux reaching the window', q(abs.delivered, abs.unit)]);
+    if (abs.receiver) extra.push(['Flux on the detector', q(abs.receiver, abs.unit)]);
+    extra.push([`Peak intensity (mean over ${windowText(peak)})`, q(abs.peak_intensity, abs.intensity_unit)]);
+    extra.push([`On-axis intensity (mean over ${windowText(axis)})`, q(abs.on_axis_intensity, abs.intensity_unit)]);
+    if (abs.mean_exit_luminance) extra.push(['Mean luminance of the exit face, along its axis', q(abs.mean_exit_luminance, 'cd/m²')]);
   }
   $('extra').replaceChildren(...extra.map(([k, v]) => h('div', { class: 'extra-item' }, h('dt', { text: k }), h('dd', { text: v }))));
   $('extra').hidden = extra.length === 0;
+  const note = $('extra-note');
+  if (abs && axis) {
+    const sr = formatFixed(axis.solid_angle_sr, 3);
+    const luminance = abs.mean_exit_luminance ? ' Mean luminance along the axis = on-axis intensity ÷ area of the exit face: the luminance of each point of the face, averaged over the face.' : '';
+    note.textContent = `Intensities are means over at least ${sr} sr (the ${formatFixed(axis.to_deg, 0)}° cone about the exit axis, or a ring as large): a 1° ring holds too few rays to trust.${luminance}`;
+  }
+  note.hidden = !(abs && axis);
 
   // Budget by mechanism: one stacked bar and a table.
   const b = report.budget;
@@ -72,7 +88,7 @@ export function showReport(report, figures, scenario) {
       h('tr', { dataset: { mechanism: k } },
         h('th', { scope: 'row' }, h('span', { class: 'swatch', style: `background:${colour}`, 'aria-hidden': 'true' }), label),
         h('td', { class: 'num', text: formatShare(b[k].share, b[k].ci95) }),
-        h('td', { class: 'num ci', text: `± ${formatShare(b[k].ci95, b[k].ci95)}` })),
+        h('td', { class: 'num ci', text: `± ${formatHalfWidth(b[k].ci95)}` })),
     ),
     h('tr', { class: 'sum' }, h('th', { scope: 'row', text: 'Sum (energy check)' }), h('td', { class: 'num', text: formatFixed(100 * report.budget_sum, 6) }), h('td')),
   );
@@ -117,7 +133,7 @@ export function showBends(figures, report) {
       h('td', { class: 'num', text: fixed(bf.inner_radius_over_size, 2) }),
       h('td', { class: 'num', text: bf.leak_free_inner_radius_mm == null ? 'none exists' : fixed(bf.leak_free_inner_radius_mm, 2) }),
       h('td', { class: 'num', text: leaked }),
-      h('td', {}, h('span', { class: `mark mark-${ok ? 'ok' : 'leaks'}`, text: ok ? 'no leak expected' : 'leaks', title: bf.note })));
+      h('td', {}, h('span', { class: `mark mark-${ok ? 'ok' : 'leaks'}`, text: ok ? 'No leak expected' : 'Leaks', title: sentence(bf.note) })));
   });
   $('bend-rows').replaceChildren(...rows);
   $('bends-empty').hidden = rows.length > 0;
@@ -140,5 +156,6 @@ export function clearReport() {
   $('answer-value').textContent = '—';
   $('answer-ci').textContent = '';
   $('answer-note').textContent = '';
+  $('extra-note').hidden = true;
   delete $('answer').dataset.share;
 }

@@ -10,7 +10,7 @@
 import { $, h } from '../dom.js';
 import { sizeCanvasForCore } from '../drawing.js';
 import { messageOf } from '../errors.js';
-import { formatShare } from '../format.js';
+import { formatHalfWidth, formatShare } from '../format.js';
 import { parseNumber } from '../numbers.js';
 import { MainThreadPool } from '../trace/main-thread-pool.js';
 import { TracePool } from '../trace/pool.js';
@@ -41,7 +41,7 @@ export function shownValue(point, field, unit) {
 }
 
 /** A share and its half-width as "12.3 ± 0.4" (per cent, no sign), for a table cell. */
-const shareText = (s) => (s ? `${formatShare(s.share, s.ci95)} ± ${formatShare(s.ci95, s.ci95)}` : '—');
+const shareText = (s) => (s ? `${formatShare(s.share, s.ci95)} ± ${formatHalfWidth(s.ci95)}` : '—');
 
 export class StudyPanel {
   /**
@@ -142,7 +142,7 @@ export class StudyPanel {
       const path = b.dataset.varyPath;
       b.setAttribute('aria-pressed', String(path === s?.field || path === s?.and?.field));
     }
-    $('study-field').textContent = s ? this.labelOf(s.field) : 'nothing yet: press ⇆ beside a number in “Describe”';
+    $('study-field').textContent = s ? this.labelOf(s.field) : 'Nothing yet: press ⇆ beside a number in “Describe”';
     $('study-field').dataset.path = s?.field ?? '';
     const unit = s ? this.unitOf(s.field) : '';
     for (const id of ['study-from-unit', 'study-to-unit']) $(id).textContent = unit;

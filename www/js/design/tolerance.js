@@ -11,7 +11,7 @@
 import { $, h } from '../dom.js';
 import { sizeCanvasForCore } from '../drawing.js';
 import { messageOf } from '../errors.js';
-import { formatShare } from '../format.js';
+import { formatHalfWidth, formatShare } from '../format.js';
 import { parseNumber } from '../numbers.js';
 import { MainThreadPool } from '../trace/main-thread-pool.js';
 import { TracePool } from '../trace/pool.js';
@@ -301,8 +301,8 @@ export class TolerancePanel {
   /** The result in the designer's words: nominal, the 5–95 % range and the most influential. */
   summary(r) {
     const d = r.delivered;
-    const nominal = `nominal ${formatShare(r.nominal.share, r.nominal.ci95)} % ± ${formatShare(r.nominal.ci95, r.nominal.ci95)}`;
-    const noise = Number.isFinite(d?.typical_variant_ci95) ? `, each ± ${formatShare(d.typical_variant_ci95, d.typical_variant_ci95)} from ray noise` : '';
+    const nominal = `nominal ${formatShare(r.nominal.share, r.nominal.ci95)} % ± ${formatHalfWidth(r.nominal.ci95)}`;
+    const noise = Number.isFinite(d?.typical_variant_ci95) ? `, each ± ${formatHalfWidth(d.typical_variant_ci95)} from ray noise` : '';
     const range = d
       ? `90 % of parts between ${formatShare(d.p05, d.typical_variant_ci95)} % and ${formatShare(d.p95, d.typical_variant_ci95)} % (5th to 95th percentile over ${r.variants_traced} variants${noise})`
       : 'no variant could be traced';
@@ -351,7 +351,7 @@ export class TolerancePanel {
         h('td', {
           class: 'num',
           dataset: o.effect ? { key: 'effect', share: String(o.effect.share), ci95: String(o.effect.ci95) } : { key: 'effect' },
-          text: o.effect ? `${points(o.effect)} ± ${formatShare(o.effect.ci95, o.effect.ci95)}` : '—',
+          text: o.effect ? `${points(o.effect)} ± ${formatHalfWidth(o.effect.ci95)}` : '—',
         }),
         h('td', {
           class: 'num',

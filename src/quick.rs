@@ -262,3 +262,62 @@ impl QuickDesign {
         })
     }
 }
+
+/// The quick look of one bend of a scenario, as its form can show it: the pipe's material (a
+/// custom model as its constant index at the wavelength), the wavelength, the surroundings (air
+/// or water by name, anything else by its index there), the gap medium as the launch medium (air
+/// by name, anything else by its index), the section's size across the bend where it is, the
+/// bend's inner radius (centre-line radius minus half that size) and angle, and the launch: an
+/// LED's half-intensity angle (60° for a Lambertian LED), a hard cone of 90° for an LED given
+/// by a table, a beam's divergence plus its tilt as a hard cone.
+///
+/// The quick look sees one bend of a round pipe from its own launch: it leaves out the bends and
+/// tapers before this one, which can steepen the rays, and the LED's tilt. `segment` must be a
+/// bend of a valid scenario; otherwise the problems found.
+pub fn for_bend(
+    scenario: &crate::scenario::Scenario,
+    segment: usize,
+) -> Result<QuickDesign, Vec<FieldError>> {
+    use crate::scenario::{Emitter, Pattern};
+    let figures = crate::check::figures(scenario)?;
+    let Some(bend) = figures.bends.iter().find(|b| b.segment == segment) else {
+        return Err(vec![FieldError::new(
+            "segment",
+            format!("must be a bend of the route, got segment {}", segment + 1),
+        )]);
+    };
+    let by_name_or_index = |m: &MaterialChoice, n: f64, names: &[&str]| match m {
+        MaterialChoice::Library(id) if names.contains(&id.as_str()) => m.clone(),
+        _ => MaterialChoice::constant(n),
+    };
+    let material = match &scenario.guide.material {
+        MaterialChoice::Library(_) => scenario.guide.material.clone(),
+        MaterialChoice::Custom(_) => MaterialChoice::constant(figures.n_core),
+    };
+    let (launch_angle_is, launch_half_angle_deg) = match &scenario.source.emitter {
+        Emitter::Led { pattern, .. } => match pattern {
+            Pattern::Lambertian => (LaunchAngle::HalfIntensity, 60.0),
+            Pattern::HalfIntensity { half_angle_deg } => {
+                (LaunchAngle::HalfIntensity, *half_angle_deg)
+            }
+            Pattern::Table { .. } => (LaunchAngle::ConeEdge, 90.0),
+        },
+        Emitter::Beam { .. } => (LaunchAngle::ConeEdge, figures.launch_half_angle_in_gap_deg),
+    };
+    Ok(QuickDesign {
+        version: QUICK_VERSION,
+        material,
+        wavelength_nm: figures.wavelength_nm,
+        surroundings: by_name_or_index(
+            &scenario.guide.surroundings,
+            figures.n_surroundings,
+            &["air", "water"],
+        ),
+        launch_medium: by_name_or_index(&scenario.source.gap_medium, figures.n_gap, &["air"]),
+        diameter_mm: bend.size_across_mm,
+        launch_half_angle_deg,
+        launch_angle_is,
+        bend_inner_radius_mm: bend.inner_radius_mm,
+        bend_angle_deg: bend.angle_deg,
+    })
+}

@@ -332,3 +332,46 @@ fn a_half_intensity_launch_says_how_much_power_its_cone_holds() {
         QuickDesign::default()
     );
 }
+
+/// A bend of a designer's scenario opens in the quick look with the bend's own numbers, and the
+/// two pages' closed forms agree on it for the same launch.
+#[test]
+fn a_bend_of_a_scenario_opens_in_the_quick_look() {
+    use tirtrace::quick::{for_bend, LaunchAngle};
+    use tirtrace::scenario::Scenario;
+    let text = include_str!("../examples/scenarios/thermostat_status_led.json");
+    let scenario = Scenario::from_json(text).unwrap();
+    let figures = tirtrace::check::figures(&scenario).unwrap();
+    let bend = &figures.bends[0];
+    let q = for_bend(&scenario, bend.segment).unwrap();
+    assert!(q.problems().is_empty(), "{:?}", q.problems());
+    assert_eq!(q.diameter_mm, bend.size_across_mm);
+    assert_eq!(
+        q.bend_inner_radius_mm,
+        bend.centre_radius_mm - bend.size_across_mm / 2.0
+    );
+    assert_eq!(q.bend_angle_deg, bend.angle_deg);
+    assert_eq!(q.wavelength_nm, scenario.source.wavelength_nm);
+    // A Lambertian LED: its half-intensity angle, 60°.
+    assert_eq!(
+        (q.launch_angle_is, q.launch_half_angle_deg),
+        (LaunchAngle::HalfIntensity, 60.0)
+    );
+    // Given the designer's launch (an LED reaches 90°), the quick look's leak-free radius is
+    // the designer's, to rounding.
+    let hard = QuickDesign {
+        launch_angle_is: LaunchAngle::ConeEdge,
+        launch_half_angle_deg: figures.launch_half_angle_in_gap_deg,
+        ..q.clone()
+    };
+    let quick = hard.figures().unwrap().leak_free_inner_radius_mm.unwrap();
+    let designer = bend.leak_free_inner_radius_mm.unwrap();
+    assert!((quick - designer).abs() < 1e-9, "{quick} vs {designer}");
+    // Not a bend: said so.
+    let e = for_bend(&scenario, 0).unwrap_err();
+    assert!(
+        e[0].to_string()
+            .contains("must be a bend of the route, got segment 1"),
+        "{e:?}"
+    );
+}

@@ -284,6 +284,30 @@ pub fn check_scenario(json: &str) -> JsValue {
     to_js(&crate::problems::check_scenario(json)).unwrap_or(JsValue::NULL)
 }
 
+/// The quick look's design for bend `segment` (0-based route index) of a scenario given as
+/// JSON text ([`crate::quick::for_bend`]); throws the problems found when the scenario is not
+/// valid or the segment is not a bend.
+#[wasm_bindgen]
+pub fn quick_design_for_bend(json: &str, segment: f64) -> Result<JsValue, JsError> {
+    let scenario = crate::problems::valid_scenario(json)
+        .map_err(|p| JsError::new(&crate::problems::joined(&p)))?;
+    if !(segment >= 0.0 && segment.fract() == 0.0 && segment < scenario.route.len() as f64) {
+        return Err(JsError::new(&format!(
+            "segment must be a route index from 0 to {}, got {segment}",
+            scenario.route.len().saturating_sub(1)
+        )));
+    }
+    let design = crate::quick::for_bend(&scenario, segment as usize).map_err(|e| {
+        JsError::new(
+            &e.iter()
+                .map(ToString::to_string)
+                .collect::<Vec<_>>()
+                .join("; "),
+        )
+    })?;
+    to_js(&design)
+}
+
 /// An LED's intensity table pasted as text (a header row, tabs, semicolons or commas, angles
 /// from −90° to 90°): `{ points, header_skipped, halves_averaged }`, or an error naming the row
 /// ([`crate::scenario::table::read_pasted_table`]).

@@ -307,6 +307,35 @@ describe('the design page in Chromium', { concurrency: false }, () => {
     await tracedAfter(page, () => page.selectOption('#f-source-emitter-led-pattern', 'lambertian'));
   });
 
+  test('a bend shows its inner and centre-line radius, and opens in the quick look with its own numbers', async () => {
+    await tracedAfter(page, () => page.selectOption('#demo', 'thermostat_status_led.json'));
+    const s = await pageScenario(page);
+    const bend = s.route[1].bend;
+    const d = s.guide.section.round.diameter_mm;
+    const inner = bend.radius_mm - d / 2;
+    // Beside the field that asks the centre line's radius: the inner one, which the tables use.
+    assert.match(await page.locator('#f-route-1-bend-radius-mm-hint').innerText(), new RegExp(`^Inner radius ${inner} mm \\(the centre line's less half the pipe's ${d} mm across the bend\\); leak-free from [\\d.]+ mm inner\\.$`));
+    // The table names both, each column with its unit.
+    const heads = await page.$$eval('.bend-table thead th', (ths) => ths.map((t) => t.textContent.trim()));
+    assert.ok(heads.includes('Centre-line radius, mm') && heads.includes('Inner radius, mm'), heads.join(' | '));
+    const row = page.locator('#bend-rows tr[data-segment="1"]');
+    const cells = await row.locator('td').allInnerTexts();
+    assert.equal(Number(cells[1]), bend.radius_mm);
+    assert.equal(Number(cells[2]), inner);
+    // The quick look opens in a new tab with this bend's numbers.
+    const [quick] = await Promise.all([page.context().waitForEvent('page'), page.click('#bend-1-quick')]);
+    await quick.waitForSelector('body[data-ready="true"]', { timeout: 30_000 }).catch(() => {});
+    await quick.waitForFunction(() => document.getElementById('bend-radius')?.value !== '', null, { timeout: 30_000 });
+    assert.equal(Number(await quick.inputValue('#diameter')), d);
+    assert.equal(Number(await quick.inputValue('#bend-radius')), inner);
+    assert.equal(Number(await quick.inputValue('#bend-angle')), bend.angle_deg);
+    assert.equal(await quick.inputValue('#launch-kind'), 'half_intensity');
+    assert.equal(Number(await quick.inputValue('#launch-angle')), 60);
+    assert.equal(await quick.inputValue('#material'), 'pmma');
+    assert.equal(new URL(quick.url()).hash, '', 'the design leaves the address once read');
+    await quick.close();
+  });
+
   test('a kept design with defaults left out, or with a field the core cannot read, comes back in the form', async () => {
     const { other, p } = await freshPage();
     try {

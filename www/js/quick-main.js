@@ -7,7 +7,7 @@ import { messageOf } from './errors.js';
 import { EntryForm } from './form.js';
 import { clearCanvas, drawBend, sizeCanvasForCore } from './drawing.js';
 import { markStale, showFigures } from './results.js';
-import { EXAMPLE_ENTRIES, designFromEntries, loadEntries, saveEntries } from './state.js';
+import { EXAMPLE_ENTRIES, designFromEntries, entriesFromDesign, loadEntries, saveEntries } from './state.js';
 
 /** Rays in the drawn fan: enough to see the pattern, few enough to tell them apart. */
 const RAY_COUNT = 25;
@@ -115,6 +115,18 @@ async function start() {
   $('design-form').addEventListener('submit', (e) => e.preventDefault());
   page.form = new EntryForm(materials, onEntry);
   page.form.write(loadEntries());
+  // Opened from a bend of the designer (quick.html#design=…): that bend's numbers.
+  let opened = null;
+  if (location.hash.startsWith('#design=')) {
+    try {
+      page.form.write(entriesFromDesign(JSON.parse(decodeURIComponent(location.hash.slice('#design='.length)))));
+      opened = 'Showing the bend from your design, seen on its own (the bends and tapers before it are left out).';
+      saveEntries(page.form.read());
+    } catch (e) {
+      opened = `The bend from the designer could not be shown (the link is damaged: ${messageOf(e)}); showing your last entries.`;
+    }
+    history.replaceState(null, '', location.pathname + location.search);
+  }
   page.entries = page.form.read();
   $('reset').addEventListener('click', () => {
     page.form.write({ ...EXAMPLE_ENTRIES });
@@ -123,6 +135,7 @@ async function start() {
     update();
   });
   update();
+  if (opened) setStatus(opened, opened.startsWith('Showing') ? 'ready' : 'error');
   watchCanvasSizes();
   // A newer build kept for offline use is offered in the status line, once the page is ready.
   let useNewBuild = null;

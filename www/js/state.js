@@ -45,6 +45,41 @@ export function designFromEntries(e) {
   };
 }
 
+/**
+ * Entries showing a quick-look design document (the inverse of designFromEntries), e.g. one the
+ * designer made of a bend: a library material by name, a custom one by its constant index; the
+ * surroundings as air, water or “another medium of index n”; the launch medium as air or a gel.
+ * Throws on a document the form cannot show.
+ */
+export function entriesFromDesign(d) {
+  const lib = (m) => m?.library;
+  const n = (m) => {
+    const c = m?.custom;
+    if (c?.model !== 'constant' || !Number.isFinite(c.n)) throw new Error('a medium is neither a library material nor a constant index');
+    return String(c.n);
+  };
+  const text = (x) => {
+    if (!Number.isFinite(x)) throw new Error('a number is missing');
+    return String(Number(x.toPrecision(10)));
+  };
+  const around = lib(d.surroundings);
+  const front = lib(d.launch_medium);
+  return {
+    material: lib(d.material) ?? 'custom',
+    material_n: lib(d.material) ? EXAMPLE_ENTRIES.material_n : n(d.material),
+    wavelength_nm: text(d.wavelength_nm),
+    front: front === 'air' ? 'air' : 'gel',
+    front_n: front === 'air' ? EXAMPLE_ENTRIES.front_n : n(d.launch_medium),
+    surroundings: around === 'air' || around === 'water' ? around : 'custom',
+    surroundings_n: around === 'air' || around === 'water' ? EXAMPLE_ENTRIES.surroundings_n : n(d.surroundings),
+    diameter_mm: text(d.diameter_mm),
+    launch_angle_is: d.launch_angle_is === 'half_intensity' ? 'half_intensity' : 'cone_edge',
+    launch_half_angle_deg: text(d.launch_half_angle_deg),
+    bend_inner_radius_mm: text(d.bend_inner_radius_mm),
+    bend_angle_deg: text(d.bend_angle_deg),
+  };
+}
+
 /** Entries restored from this browser's storage, falling back to the example field by field. */
 export function loadEntries() {
   const entries = { ...EXAMPLE_ENTRIES };

@@ -22,6 +22,9 @@ const SEGMENT_DEFAULTS = {
 
 const SEGMENT_NAMES = { straight: 'Straight', bend: 'Bend', taper: 'Taper' };
 
+/** A bend's radius hint before the core has checked the design. */
+const BEND_RADIUS_HINT = 'Of the pipe’s centre line; the inner radius is this less half the pipe’s size across the bend.';
+
 /** Typed text quoted back in a message: never a whole paste. */
 const quoted = (text) => {
   const t = String(text).trim();
@@ -62,6 +65,8 @@ export class Editor {
     this.onChange = onChange;
     /** Messages shown under fields: path → text. */
     this.messages = new Map();
+    /** Under each bend's radius: its inner radius (route index → text), from showBendHints. */
+    this.bendHints = new Map();
   }
 
   get s() {
@@ -255,6 +260,20 @@ export class Editor {
           : `must be a number${String(text).trim() ? `, got ${quoted(text)}` : ' (it is empty)'}`;
         return { field, says, message: `${field}${says.startsWith(':') ? '' : ' '}${says}` };
       });
+  }
+
+  /**
+   * Under each bend's radius, its inner radius and the leak-free inner radius from the core's
+   * closed form (`bends` as closed_form gives them): the tables and the quick look speak of the
+   * inner radius, the form asks the centre line's.
+   */
+  showBendHints(bends) {
+    const mm = (x) => (this.state.unit === 'in' ? `${Number((x / 25.4).toPrecision(4))} in` : `${Number(x.toPrecision(4))} mm`);
+    this.bendHints = new Map((bends || []).map((b) => [b.segment, `Inner radius ${mm(b.inner_radius_mm)} (the centre line's less half the pipe's ${mm(b.size_across_mm)} across the bend)${b.leak_free_inner_radius_mm == null ? '' : `; leak-free from ${mm(b.leak_free_inner_radius_mm)} inner`}.`]));
+    for (const [segment, text] of this.bendHints) {
+      const el = this.root.querySelector(`#${idFor(`route[${segment}].bend.radius_mm`)}-hint`);
+      if (el) el.textContent = text;
+    }
   }
 
   /** The label of the field at `path` as the form shows it, without its unit (null when not shown). */
@@ -528,7 +547,7 @@ export class Editor {
     if (kind === 'straight') fields.push(this.num(`${p}.length_mm`, 'Length', 'mm'));
     if (kind === 'bend') {
       fields.push(
-        h('div', { class: 'pair' }, this.num(`${p}.radius_mm`, 'Radius (centre line)', 'mm'), this.num(`${p}.angle_deg`, 'Bend angle', 'deg')),
+        h('div', { class: 'pair' }, this.num(`${p}.radius_mm`, 'Radius (centre line)', 'mm', { hint: this.bendHints.get(i) ?? BEND_RADIUS_HINT }), this.num(`${p}.angle_deg`, 'Bend angle', 'deg')),
         this.num(`${p}.turn_deg`, 'Turns toward', 'deg', { hint: '0: toward the pipe’s width axis, 90: toward its height axis, 180: the other way.' }),
       );
     }

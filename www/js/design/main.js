@@ -12,7 +12,7 @@ import { MainThreadPool } from '../trace/main-thread-pool.js';
 import { TracePool } from '../trace/pool.js';
 import { Editor } from './editor.js';
 import { FATES, RouteView, heatGradientCss } from './route-view.js';
-import { clearReport, showBends, showFigures, showProgress, showReport } from './report-view.js';
+import { clearReport, linkBendsToQuickLook, showBends, showFigures, showProgress, showReport } from './report-view.js';
 import {
   MAX_DESIGN_BYTES, STARTER, clone, download, fileNameFor, freshState, loadState, saveState, scenarioFromFragment,
   shareLink, tooLargeMessage,
@@ -110,6 +110,7 @@ function update() {
   try {
     page.figures = core.closed_form(json);
     showFigures(page.figures);
+    page.editor.showBendHints(page.figures.bends);
     showBends(page.figures, null);
     const material = page.editor.root.querySelector('#f-guide-material-hint');
     page.editor.materialHint = `n = ${formatIndex(page.figures.n_core)} at ${page.figures.wavelength_nm} nm (relative to air)`;
@@ -441,6 +442,11 @@ async function start() {
   });
   wireToolbar();
   loadDemos();
+  // Each bend of the table opens in the quick look with its own numbers (the core makes them).
+  linkBendsToQuickLook((segment) => {
+    const design = core.quick_design_for_bend(JSON.stringify(page.state.scenario), segment);
+    return `quick.html#design=${encodeURIComponent(JSON.stringify(design))}`;
+  });
   try {
     await page.pool.ready();
     document.body.dataset.tracer = 'workers';

@@ -120,6 +120,27 @@ export function showReport(report, figures, scenario) {
   showBends(figures, report);
 }
 
+/** Gives the quick look's address for a bend (route index), or null: set once by the page. */
+let quickLookOf = () => null;
+
+/** Set how a bend's row links to the quick look (a function of the bend's route index). */
+export function linkBendsToQuickLook(addressOf) {
+  quickLookOf = addressOf;
+}
+
+/** A link opening the bend in the quick look (in a new tab), or nothing. */
+function quickLink(segment) {
+  let address = null;
+  try {
+    address = quickLookOf(segment);
+  } catch {
+    address = null; // the bend cannot be shown there: no link
+  }
+  return address
+    ? h('a', { class: 'quick-link', href: address, target: '_blank', rel: 'noopener', id: `bend-${segment}-quick`, text: 'Quick look', 'aria-label': `Open segment ${segment + 1}'s bend in the quick look` })
+    : null;
+}
+
 /** The per-bend table: closed-form leak-free radius for this launch, and the traced leakage. */
 export function showBends(figures, report) {
   const rows = (figures?.bends || []).map((bf) => {
@@ -129,11 +150,14 @@ export function showBends(figures, report) {
     return h('tr', { dataset: { segment: String(bf.segment), verdict: bf.verdict } },
       h('th', { scope: 'row', text: `${bf.segment + 1}` }),
       h('td', { class: 'num', text: `${fixed(bf.angle_deg, 0)}°` }),
+      h('td', { class: 'num', text: fixed(bf.centre_radius_mm, 2) }),
       h('td', { class: 'num', text: fixed(bf.inner_radius_mm, 2) }),
       h('td', { class: 'num', text: fixed(bf.inner_radius_over_size, 2) }),
       h('td', { class: 'num', text: bf.leak_free_inner_radius_mm == null ? 'none exists' : fixed(bf.leak_free_inner_radius_mm, 2) }),
       h('td', { class: 'num', text: leaked }),
-      h('td', {}, h('span', { class: `mark mark-${ok ? 'ok' : 'leaks'}`, text: ok ? 'No leak expected' : 'Leaks', title: sentence(bf.note) })));
+      h('td', {},
+        h('span', { class: `mark mark-${ok ? 'ok' : 'leaks'}`, text: ok ? 'No leak expected' : 'Leaks', title: sentence(bf.note) }),
+        quickLink(bf.segment)));
   });
   $('bend-rows').replaceChildren(...rows);
   $('bends-empty').hidden = rows.length > 0;

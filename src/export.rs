@@ -26,49 +26,153 @@ pub(crate) fn csv_text(s: &str) -> String {
     format!("\"{guard}{}\"", s.replace('"', "\"\""))
 }
 
-/// The report as CSV: the budget (one row per mechanism: `mechanism,share,ci95`), a blank line,
-/// the per-segment table (`index,kind,start_mm,length_mm,leaked,leaked_ci95,absorbed,
-/// absorbed_ci95,wall_hits`), a blank line and the contacts (`contact,segment,lost,lost_ci95`,
-/// names quoted). Every line ends with a newline; this is exactly what `tirtrace trace --csv`
-/// prints.
-pub fn report_csv(report: &TraceReport) -> String {
+/// The budget's mechanisms: the report's key, and the words the page and the CSV use.
+pub const MECHANISMS: [(&str, &str); 8] = [
+    ("delivered", "Reaches the window (exit face)"),
+    ("missed_entry", "Misses the entry face"),
+    ("reflected_entry", "Reflected at the entry face (Fresnel)"),
+    ("leaked", "Leaks out of the side walls"),
+    ("contact", "Lost into mounts touching the pipe"),
+    ("absorbed", "Absorbed in the material"),
+    ("returned", "Comes back out of the entry face"),
+    ("stopped", "Stopped by the wall-hit limit"),
+];
+
+/// A share as a percentage for the CSV (shortest form of 100 × share).
+fn percent(x: f64) -> f64 {
+    csv_num(100.0 * x)
+}
+
+/// The report as CSV, in sections a spreadsheet shows as they are read, separated by a blank
+/// line:
+///
+/// 1. a header block of `field,value` rows: what the file is, the design's name, the tirtrace
+///    version, rays, seed, and the units (shares in % of the light the source emits, each with
+///    its 95 % half-width; lengths in mm; flux in the source's unit when one is given);
+/// 2. the energy budget, one row per mechanism in the page's words, with the flux and its
+///    half-width when the source's flux is given;
+/// 3. the absolute figures (flux delivered, on-axis and peak intensity, luminance, flux on the
+///    detector), when the source's flux is given;
+/// 4. the segments, numbered from 1 as the page numbers them: kind, start and length, leaks,
+///    absorbed, wall hits;
+/// 5. the mounts, with the segment they touch numbered from 1.
+///
+/// Names are quoted (and guarded against formulas); every line ends with a newline. This is
+/// exactly what `tirtrace trace --csv` prints and the page downloads.
+pub fn report_csv(report: &TraceReport, design_name: &str) -> String {
     let b = &report.budget;
-    let mut s = String::from("mechanism,share,ci95\n");
-    for (name, share) in [
-        ("delivered", &b.delivered),
-        ("missed_entry", &b.missed_entry),
-        ("reflected_entry", &b.reflected_entry),
-        ("leaked", &b.leaked),
-        ("contact", &b.contact),
-        ("absorbed", &b.absorbed),
-        ("returned", &b.returned),
-        ("stopped", &b.stopped),
-    ] {
-        s += &format!("{name},{},{}\n", csv_num(share.share), csv_num(share.ci95));
+    let abs = report.absolute.as_ref();
+    let flux_unit = abs.map(|a| a.unit.to_string());
+    let mut s = String::from("\"tirtrace trace report\"\n");
+    s += &format!("design,{}\n", csv_text(design_name));
+    s += &format!("tirtrace version,{}\n", env!("CARGO_PKG_VERSION"));
+    s += &format!("rays,{}\nseed,{}\n", report.rays, report.seed);
+    s += "shares,\"% of the light the source emits, each with its 95 % half-width (±)\"\n";
+    s += "lengths,mm\n";
+    if let Some(unit) = &flux_unit {
+        s += &format!("flux,{unit}\n");
     }
-    s += "\nindex,kind,start_mm,length_mm,leaked,leaked_ci95,absorbed,absorbed_ci95,wall_hits\n";
+    let flux_head = flux_unit
+        .as_ref()
+        .map_or(String::new(), |u| format!(",flux {u},± flux {u}"));
+    s += &format!("\n\"What becomes of the light\",%,± %{flux_head}\n");
+    let shares = [
+        &b.delivered,
+        &b.missed_entry,
+        &b.reflected_entry,
+        &b.leaked,
+        &b.contact,
+        &b.absorbed,
+        &b.returned,
+        &b.stopped,
+    ];
+    for ((_, words), share) in MECHANISMS.iter().zip(shares) {
+        s += &format!(
+            "{},{},{}",
+            csv_text(words),
+            percent(share.share),
+            percent(share.ci95)
+        );
+        if let Some(a) = abs {
+            // The flux of each share: the delivered flux scales with the share.
+            let per_share = if b.delivered.share > 0.0 {
+                a.delivered.value / b.delivered.share
+            } else {
+                f64::NAN
+            };
+            if per_share.is_finite() {
+                s += &format!(
+                    ",{},{}",
+                    csv_num(per_share * share.share),
+                    csv_num(per_share * share.ci95)
+                );
+            } else {
+                s += ",,";
+            }
+        }
+        s += "\n";
+    }
+    if let Some(a) = abs {
+        s += "\n\"Absolute figures\",value,± 95 %,unit\n";
+        let intensity = a.intensity_unit.to_string();
+        let unit = a.unit.to_string();
+        let mut row = |what: &str, v: &crate::trace::Value, unit: &str| {
+            s += &format!(
+                "{},{},{},{}\n",
+                csv_text(what),
+                csv_num(v.value),
+                csv_num(v.ci95),
+                csv_text(unit)
+            );
+        };
+        row("Flux reaching the window", &a.delivered, &unit);
+        row(
+            "Intensity along the exit axis",
+            &a.on_axis_intensity,
+            &intensity,
+        );
+        row(
+            &format!(
+                "Peak intensity ({}° from the axis)",
+                csv_num(a.peak_angle_deg)
+            ),
+            &a.peak_intensity,
+            &intensity,
+        );
+        if let Some(l) = &a.mean_exit_luminance {
+            row(
+                "Mean luminance of the exit face, along its axis",
+                l,
+                "cd/m²",
+            );
+        }
+        if let Some(r) = &a.receiver {
+            row("Flux on the detector", r, &unit);
+        }
+    }
+    s += "\nsegment,kind,starts at (mm),length (mm),leaks %,± %,absorbed %,± %,wall hits\n";
     for g in &report.segments {
         s += &format!(
             "{},{},{},{},{},{},{},{},{}\n",
-            g.index,
+            g.index + 1,
             g.kind,
             csv_num(g.start_mm),
             csv_num(g.length_mm),
-            csv_num(g.leaked.share),
-            csv_num(g.leaked.ci95),
-            csv_num(g.absorbed.share),
-            csv_num(g.absorbed.ci95),
+            percent(g.leaked.share),
+            percent(g.leaked.ci95),
+            percent(g.absorbed.share),
+            percent(g.absorbed.ci95),
             g.wall_hits
         );
     }
-    s += "\ncontact,segment,lost,lost_ci95\n";
+    s += "\nmount,on segment,lost %,± %\n";
     for c in &report.contacts {
         s += &format!(
             "{},{},{},{}\n",
             csv_text(&c.name),
-            c.segment,
-            csv_num(c.lost.share),
-            csv_num(c.lost.ci95)
+            c.segment + 1,
+            percent(c.lost.share),
+            percent(c.lost.ci95)
         );
     }
     s

@@ -337,48 +337,71 @@ fn csv_sections(text: &str) -> Vec<Vec<Vec<String>>> {
 
 #[test]
 fn csv_rows_parse_and_the_budget_sums_to_one() {
-    for path in [THERMOSTAT, FIBRE] {
+    for path in [THERMOSTAT, FIBRE, BIKE] {
         let csv = ok_stdout(&["trace", path, "--rays", "6000", "--csv"], "");
         let json: Value =
             serde_json::from_str(&ok_stdout(&["trace", path, "--rays", "6000"], "")).unwrap();
+        let scenario = read_scenario(path);
         let secs = csv_sections(&csv);
-        assert_eq!(secs.len(), 3, "{path}: {csv}");
+        let absolute = !json["absolute"].is_null();
+        assert_eq!(secs.len(), if absolute { 5 } else { 4 }, "{path}: {csv}");
 
-        let budget = &secs[0];
-        assert_eq!(budget[0], ["mechanism", "share", "ci95"]);
+        // The header block: what the file is, the design, the version, rays, seed, units.
+        let head = &secs[0];
+        assert_eq!(head[0], ["tirtrace trace report"]);
+        assert_eq!(head[1], ["design", scenario.name.as_str()]);
+        assert_eq!(head[2], ["tirtrace version", env!("CARGO_PKG_VERSION")]);
+        assert_eq!(head[3], ["rays", "6000"]);
+        assert_eq!(head[4][0], "seed");
+        assert_eq!(head[4][1], json["seed"].to_string());
+        assert!(head[5][1].starts_with("% of the light the source emits"));
+        assert_eq!(head[6], ["lengths", "mm"]);
+
+        // The budget in the page's words and in %, with the flux when the source's is given.
+        let budget = &secs[1];
+        assert_eq!(budget[0][..3], ["What becomes of the light", "%", "± %"]);
         assert_eq!(budget.len(), 1 + 8);
         let mut sum = 0.0;
-        for row in &budget[1..] {
-            assert_eq!(row.len(), 3, "{row:?}");
-            let share: f64 = row[1].parse().unwrap();
+        for (row, (key, words)) in budget[1..].iter().zip(tirtrace::export::MECHANISMS) {
+            assert_eq!(row.len(), if absolute { 5 } else { 3 }, "{row:?}");
+            assert_eq!(row[0], words);
+            let percent: f64 = row[1].parse().unwrap();
             let ci: f64 = row[2].parse().unwrap();
-            assert!((0.0..=1.0).contains(&share) && ci >= 0.0, "{row:?}");
-            // The same figures as the JSON report.
-            assert_eq!(share, f(&json["budget"][&row[0]]["share"]), "{row:?}");
+            assert!((0.0..=100.0).contains(&percent) && ci >= 0.0, "{row:?}");
+            // The same figures as the JSON report, as percentages.
+            let share = f(&json["budget"][key]["share"]);
+            assert!((percent - 100.0 * share).abs() <= 1e-12, "{row:?}");
             sum += share;
         }
         assert!((sum - 1.0).abs() <= 1e-9, "{path}: shares sum to {sum}");
+        if absolute {
+            let flux: f64 = budget[1][3].parse().unwrap();
+            assert!((flux - f(&json["absolute"]["delivered"]["value"])).abs() <= 1e-9 * flux.abs());
+            assert_eq!(secs[2][0], ["Absolute figures", "value", "± 95 %", "unit"]);
+            assert_eq!(secs[2][1][0], "Flux reaching the window");
+        }
 
-        let segs = &secs[1];
+        // Segments and mounts numbered from 1, as on the page.
+        let segs = &secs[secs.len() - 2];
         assert_eq!(
             segs[0],
             [
-                "index",
+                "segment",
                 "kind",
-                "start_mm",
-                "length_mm",
-                "leaked",
-                "leaked_ci95",
-                "absorbed",
-                "absorbed_ci95",
-                "wall_hits"
+                "starts at (mm)",
+                "length (mm)",
+                "leaks %",
+                "± %",
+                "absorbed %",
+                "± %",
+                "wall hits"
             ]
         );
-        let route = read_scenario(path).route;
+        let route = &scenario.route;
         assert_eq!(segs.len(), 1 + route.len());
         for (i, row) in segs[1..].iter().enumerate() {
             assert_eq!(row.len(), 9, "{row:?}");
-            assert_eq!(row[0].parse::<usize>().unwrap(), i);
+            assert_eq!(row[0].parse::<usize>().unwrap(), i + 1);
             assert!(["straight", "bend", "taper"].contains(&row[1].as_str()));
             for x in &row[2..8] {
                 let x: f64 = x.parse().unwrap();
@@ -390,13 +413,13 @@ fn csv_rows_parse_and_the_budget_sums_to_one() {
             row[8].parse::<u64>().unwrap();
         }
 
-        let contacts = &secs[2];
-        assert_eq!(contacts[0], ["contact", "segment", "lost", "lost_ci95"]);
-        let zones = &read_scenario(path).guide.contacts;
+        let contacts = &secs[secs.len() - 1];
+        assert_eq!(contacts[0], ["mount", "on segment", "lost %", "± %"]);
+        let zones = &scenario.guide.contacts;
         assert_eq!(contacts.len(), 1 + zones.len());
         for (row, zone) in contacts[1..].iter().zip(zones) {
             assert_eq!(row[0], zone.name);
-            assert_eq!(row[1].parse::<usize>().unwrap(), zone.segment);
+            assert_eq!(row[1].parse::<usize>().unwrap(), zone.segment + 1);
             row[2].parse::<f64>().unwrap();
             row[3].parse::<f64>().unwrap();
         }

@@ -171,7 +171,7 @@ fn a_report_reads_back_from_its_json_unchanged() {
         assert_eq!(back, report);
         // And writes the same JSON again.
         assert_eq!(serde_json::to_string(&back).unwrap(), json);
-        assert_eq!(report_csv(&back), report_csv(&report));
+        assert_eq!(report_csv(&back, "n"), report_csv(&report, "n"));
     }
 }
 
@@ -202,25 +202,36 @@ fn a_malformed_report_names_the_field() {
 }
 
 #[test]
-fn csv_has_the_budget_segment_and_contact_tables() {
+fn csv_has_a_header_block_then_the_budget_absolute_segment_and_mount_tables() {
     let report = traced(THERMOSTAT, 8_192);
-    let csv = report_csv(&report);
+    let csv = report_csv(&report, "Thermostat \"status\" LED");
     assert!(csv.ends_with('\n') && !csv.ends_with("\n\n"));
     let sections: Vec<&str> = csv.trim_end().split("\n\n").collect();
-    assert_eq!(sections.len(), 3);
-    let budget: Vec<&str> = sections[0].lines().collect();
-    assert_eq!(budget[0], "mechanism,share,ci95");
+    assert_eq!(sections.len(), 5);
+    let head: Vec<&str> = sections[0].lines().collect();
+    assert_eq!(head[1], "design,\"Thermostat \"\"status\"\" LED\"");
+    assert_eq!(head[3], "rays,8192");
+    assert_eq!(head[7], "flux,lm");
+    let budget: Vec<&str> = sections[1].lines().collect();
     assert_eq!(
-        budget[1],
-        format!(
-            "delivered,{},{}",
-            report.budget.delivered.share, report.budget.delivered.ci95
-        )
+        budget[0],
+        "\"What becomes of the light\",%,± %,flux lm,± flux lm"
     );
-    assert_eq!(sections[1].lines().count(), 1 + report.segments.len());
-    let contact: Vec<&str> = sections[2].lines().collect();
+    let d = &report.budget.delivered;
+    let abs = report.absolute.as_ref().unwrap();
+    assert!(budget[1].starts_with(&format!(
+        "\"Reaches the window (exit face)\",{},{},",
+        100.0 * d.share,
+        100.0 * d.ci95
+    )));
+    let delivered_flux: f64 = budget[1].split(',').nth(3).unwrap().parse().unwrap();
+    assert!((delivered_flux - abs.delivered.value).abs() <= 1e-12 * abs.delivered.value);
+    assert!(sections[2].starts_with("\"Absolute figures\",value,± 95 %,unit\n"));
+    assert_eq!(sections[3].lines().count(), 1 + report.segments.len());
+    let contact: Vec<&str> = sections[4].lines().collect();
     assert_eq!(contact.len(), 2);
-    assert!(contact[1].starts_with("\"snap clip\",2,"), "{}", contact[1]);
+    // The mount touches the third segment: 3, as the page numbers segments.
+    assert!(contact[1].starts_with("\"snap clip\",3,"), "{}", contact[1]);
 }
 
 /// The command line's `--csv` prints exactly the core's CSV, both for the report traced here
@@ -244,9 +255,10 @@ fn csv_is_the_command_lines_text() {
         let cli_csv = run(&["trace", path, "--rays", "9000", "--csv"]);
         let cli_json = run(&["trace", path, "--rays", "9000"]);
         let text = std::fs::read_to_string(path).unwrap();
-        assert_eq!(report_csv(&traced(&text, 9_000)), cli_csv, "{path}");
+        let name = Scenario::from_json(&text).unwrap().name;
+        assert_eq!(report_csv(&traced(&text, 9_000), &name), cli_csv, "{path}");
         assert_eq!(
-            report_csv(&report_from_json(&cli_json).unwrap()),
+            report_csv(&report_from_json(&cli_json).unwrap(), &name),
             cli_csv,
             "{path}"
         );
@@ -483,17 +495,19 @@ fn csv_names_that_look_like_formulas_stay_text() {
     let mut scenario = Scenario::from_json(&text).unwrap();
     scenario.trace.rays = 4_096;
     let prepared = Prepared::new(&scenario).unwrap();
-    let csv = report_csv(&prepared.report(&prepared.trace_all_serial(0)));
+    let csv = report_csv(&prepared.report(&prepared.trace_all_serial(0)), "+1 cell");
     let contact = csv
         .trim_end()
         .split("\n\n")
-        .nth(2)
+        .last()
         .unwrap()
         .lines()
         .nth(1)
         .unwrap();
     assert!(
-        contact.starts_with("\"'=HYPERLINK(\"\"x\"\")\",2,"),
+        contact.starts_with("\"'=HYPERLINK(\"\"x\"\")\",3,"),
         "{contact}"
     );
+    // The design's name too.
+    assert!(csv.contains("design,\"'+1 cell\"\n"), "{csv}");
 }

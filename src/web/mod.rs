@@ -404,11 +404,14 @@ pub fn draw_intensity(canvas_id: &str, report: JsValue, pixel_ratio: f64) -> Res
     crate::chart::draw_intensity(&area, &report, pixel_ratio).map_err(js_error)
 }
 
-/// The budget, per-segment and contact tables of a trace report as CSV: the same text as
-/// `tirtrace trace FILE --csv` prints for the same report (final newline included).
+/// A trace report as CSV, with its header block naming the design: the same text as
+/// `tirtrace trace FILE --csv` prints for the same report and design (final newline included).
 #[wasm_bindgen]
-pub fn report_csv(report: JsValue) -> Result<String, JsError> {
-    Ok(crate::export::report_csv(&read_report(report)?))
+pub fn report_csv(report: JsValue, design_name: &str) -> Result<String, JsError> {
+    Ok(crate::export::report_csv(
+        &read_report(report)?,
+        design_name,
+    ))
 }
 
 /// A JS `Error` whose message joins every problem's message (`; `) and whose `problems`

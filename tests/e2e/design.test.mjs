@@ -336,6 +336,31 @@ describe('the design page in Chromium', { concurrency: false }, () => {
     await quick.close();
   });
 
+  test('the CSV has a header block and the page\'s numbering; a saved PNG carries a caption', async () => {
+    await tracedAfter(page, () => page.selectOption('#demo', 'thermostat_status_led.json'));
+    const s = await pageScenario(page);
+    const [csvFile] = await Promise.all([page.waitForEvent('download'), page.click('#export-csv')]);
+    const csv = readFileSync(await csvFile.path(), 'utf8');
+    const sections = csv.trimEnd().split('\n\n');
+    assert.equal(sections[0].split('\n')[0], '"tirtrace trace report"');
+    assert.ok(sections[0].includes(`design,"${s.name}"`), sections[0]);
+    assert.match(sections[0], /\nrays,\d+\nseed,\d+\n/);
+    assert.match(sections[1], /^"What becomes of the light",%,± %,flux lm,± flux lm\n"Reaches the window \(exit face\)",\d/);
+    // The same delivered % as the page shows (to its shown decimals).
+    const shown = (await answer(page)).share;
+    const inCsv = Number(sections[1].split('\n')[1].split(',')[1]);
+    assert.ok(Math.abs(inCsv - 100 * shown) < 0.01, `${inCsv} vs ${100 * shown}`);
+    assert.match(sections.at(-1), /^mount,on segment,lost %,± %\n"snap clip",3,/);
+    // The PNG: the chart with a caption strip under it.
+    const [png] = await Promise.all([page.waitForEvent('download'), page.click('button.png[data-canvas="exit-map"]')]);
+    const file = join(OUT, 'design-exit-map-saved.png');
+    await png.saveAs(file);
+    const bytes = readFileSync(file);
+    const height = bytes.readUInt32BE(20);
+    const canvasHeight = await page.$eval('#exit-map', (c) => c.height);
+    assert.ok(height > canvasHeight + 20, `${height} px saved for a ${canvasHeight} px chart`);
+  });
+
   test('a kept design with defaults left out, or with a field the core cannot read, comes back in the form', async () => {
     const { other, p } = await freshPage();
     try {

@@ -344,7 +344,7 @@ fn trace(mut args: TraceArgs) -> Result<String, String> {
     }
     if args.csv {
         // `main` adds the final newline.
-        let csv = tirtrace::export::report_csv(&report);
+        let csv = tirtrace::export::report_csv(&report, &scenario.name);
         Ok(csv.strip_suffix('\n').unwrap_or(&csv).to_string())
     } else {
         report_json(&report, paths.is_some())

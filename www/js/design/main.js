@@ -347,7 +347,7 @@ function wireToolbar() {
       return;
     }
     try {
-      const csv = core.report_csv(page.report);
+      const csv = core.report_csv(page.report, page.reportScenario?.name ?? '');
       download(new Blob([csv], { type: 'text/csv' }), fileNameFor(page.reportScenario).replace(/\.tirtrace\.json$/, '-budget.csv'));
     } catch (e) {
       toolbarMessage(`The CSV could not be made: ${messageOf(e)}`, { kind: 'error' });
@@ -373,13 +373,35 @@ function wireToolbar() {
   for (const b of document.querySelectorAll('button.png')) {
     b.addEventListener('click', () => {
       const id = b.dataset.canvas;
-      $(id).toBlob((blob) => blob && download(blob, `${fileNameFor(page.reportScenario || page.state.scenario).replace(/\.tirtrace\.json$/, '')}-${id}.png`));
+      const scenario = page.reportScenario || page.state.scenario;
+      const title = b.closest('figure')?.querySelector('.picture-title')?.textContent ?? id;
+      const traced = page.report ? `${page.report.rays.toLocaleString('en')} rays, seed ${page.report.seed}` : 'not traced yet';
+      const caption = [`${title} · ${scenario.name || 'Untitled design'}`, `tirtrace · ${traced} · ${new Date().toISOString().slice(0, 10)}`];
+      withCaption($(id), caption).toBlob((blob) => blob && download(blob, `${fileNameFor(scenario).replace(/\.tirtrace\.json$/, '')}-${id}.png`));
     });
   }
   $('f-name').addEventListener('input', (e) => {
     page.state.scenario.name = e.target.value;
     scheduleUpdate();
   });
+}
+
+/** A copy of a chart's canvas with a caption strip under it (what, which design, how traced). */
+function withCaption(canvas, lines) {
+  const scale = canvas.width / Math.max(1, canvas.clientWidth || canvas.width);
+  const line = Math.round(18 * scale);
+  const out = document.createElement('canvas');
+  out.width = canvas.width;
+  out.height = canvas.height + line * lines.length + Math.round(12 * scale);
+  const g = out.getContext('2d');
+  g.fillStyle = '#ffffff';
+  g.fillRect(0, 0, out.width, out.height);
+  g.drawImage(canvas, 0, 0);
+  g.fillStyle = '#212529';
+  g.font = `${Math.round(13 * scale)}px system-ui, sans-serif`;
+  g.textBaseline = 'top';
+  lines.forEach((text, k) => g.fillText(text, Math.round(8 * scale), canvas.height + Math.round(6 * scale) + k * line, out.width - Math.round(16 * scale)));
+  return out;
 }
 
 // ------------------------------------------------------------ start

@@ -631,7 +631,10 @@ impl Study {
                 format!(
                     "times the search's traces at most (the search's rays) {}, got {rays} × \
                      {traces} = {total}",
-                    FIND_RAYS.rule()
+                    format!(
+                        "must be at most {}",
+                        crate::limits::show_count(FIND_RAYS.max)
+                    )
                 ),
             )]);
         }

@@ -251,7 +251,10 @@ impl Study {
                 "scenario.trace.rays",
                 format!(
                     "times the points (the sweep's rays) {}, got {rays} × {} = {total}",
-                    SWEEP_RAYS.rule(),
+                    format!(
+                        "must be at most {}",
+                        crate::limits::show_count(SWEEP_RAYS.max)
+                    ),
                     grid.len()
                 ),
             )]);

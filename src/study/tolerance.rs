@@ -420,7 +420,10 @@ impl Study {
                 format!(
                     "times the traced scenarios (the study's rays) {}, got {rays} × {units} \
                      (nominal, 2 per spread, {} variants) = {total}",
-                    TOLERANCE_RAYS.rule(),
+                    format!(
+                        "must be at most {}",
+                        crate::limits::show_count(TOLERANCE_RAYS.max)
+                    ),
                     plan.variants
                 ),
             )]);

@@ -629,12 +629,9 @@ impl Study {
             return Err(vec![problem(
                 "scenario.trace.rays",
                 format!(
-                    "times the search's traces at most (the search's rays) {}, got {rays} × \
+                    "times the search's traces at most (the search's rays) must be at most {}, got {rays} × \
                      {traces} = {total}",
-                    format!(
-                        "must be at most {}",
-                        crate::limits::show_count(FIND_RAYS.max)
-                    )
+                    crate::limits::show_count(FIND_RAYS.max)
                 ),
             )]);
         }

@@ -250,11 +250,8 @@ impl Study {
             return Err(vec![Problem::new(
                 "scenario.trace.rays",
                 format!(
-                    "times the points (the sweep's rays) {}, got {rays} × {} = {total}",
-                    format!(
-                        "must be at most {}",
-                        crate::limits::show_count(SWEEP_RAYS.max)
-                    ),
+                    "times the points (the sweep's rays) must be at most {}, got {rays} × {} = {total}",
+                    crate::limits::show_count(SWEEP_RAYS.max),
                     grid.len()
                 ),
             )]);

@@ -418,12 +418,9 @@ impl Study {
             return Err(vec![problem(
                 "scenario.trace.rays",
                 format!(
-                    "times the traced scenarios (the study's rays) {}, got {rays} × {units} \
+                    "times the traced scenarios (the study's rays) must be at most {}, got {rays} × {units} \
                      (nominal, 2 per spread, {} variants) = {total}",
-                    format!(
-                        "must be at most {}",
-                        crate::limits::show_count(TOLERANCE_RAYS.max)
-                    ),
+                    crate::limits::show_count(TOLERANCE_RAYS.max),
                     plan.variants
                 ),
             )]);

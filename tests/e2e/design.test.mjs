@@ -528,7 +528,17 @@ describe('the design page in Chromium', { concurrency: false }, () => {
       await tracedAfter(page, () => page.fill('#f-guide-section-round-diameter-mm', '0.05'));
       assert.ok(Math.abs((await pageScenario(page)).guide.section.round.diameter_mm - 1.27) < 1e-12);
     }
+    // Every length shown follows: inputs to 0.0001 in, the tables' lengths and their heads.
+    const sNow = await pageScenario(page);
+    const firstStraight = sNow.route.findIndex((seg) => seg.straight);
+    const typedLength = await page.inputValue(`#f-route-${firstStraight}-straight-length-mm`);
+    assert.equal(typedLength, String(Number((sNow.route[firstStraight].straight.length_mm / 25.4).toFixed(4))));
+    const segHeads = await page.$$eval('[data-length-head]', (ths) => ths.map((t) => t.textContent));
+    assert.ok(segHeads.length >= 4 && segHeads.every((t) => t.endsWith(', in')), segHeads.join(' | '));
+    const lengthCell = await page.locator(`#segment-rows tr[data-segment="${firstStraight}"] td`).nth(1).innerText();
+    assert.equal(Number(lengthCell), Number((sNow.route[firstStraight].straight.length_mm / 25.4).toFixed(4)));
     await page.check('input[name="unit"][value="mm"]');
+    assert.ok((await page.$$eval('[data-length-head]', (ths) => ths.map((t) => t.textContent))).every((t) => t.endsWith(', mm')));
   });
 
   test('text contrast meets WCAG 2.1 AA and every control has a label and a 44 px target', async () => {

@@ -12,7 +12,7 @@ import { MainThreadPool } from '../trace/main-thread-pool.js';
 import { TracePool } from '../trace/pool.js';
 import { Editor } from './editor.js';
 import { FATES, RouteView, heatGradientCss } from './route-view.js';
-import { clearReport, linkBendsToQuickLook, showBends, showFigures, showProgress, showReport } from './report-view.js';
+import { clearReport, linkBendsToQuickLook, setLengthUnit, showBends, showFigures, showProgress, showReport } from './report-view.js';
 import {
   MAX_DESIGN_BYTES, STARTER, clone, download, fileNameFor, freshState, loadState, saveState, scenarioFromFragment,
   shareLink, tooLargeMessage,
@@ -358,6 +358,10 @@ function wireToolbar() {
       page.state.unit = r.value;
       page.editor.render();
       saveState(page.state);
+      setLengthUnit(page.state.unit);
+      if (page.figures) page.editor.showBendHints(page.figures.bends);
+      if (page.report) showReport(page.report, page.figures, page.reportScenario);
+      else if (page.figures) showBends(page.figures, null);
       // The messages word their lengths in the unit shown.
       try {
         showLoose(page.editor.showProblems(problemsOf(page.state)));
@@ -442,6 +446,7 @@ async function start() {
   // The form is never sent anywhere (Enter in a field would submit it).
   $('editor').addEventListener('submit', (e) => e.preventDefault());
   for (const r of document.querySelectorAll('input[name="unit"]')) r.checked = r.value === page.state.unit;
+  setLengthUnit(page.state.unit);
   $('f-name').value = page.state.scenario.name || '';
   page.view = new RouteView($('route-view'));
   page.pool = new TracePool({ onUpdate: onTraceUpdate, ...traceWorker() });

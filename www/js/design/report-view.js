@@ -110,7 +110,7 @@ export function showReport(report, figures, scenario) {
         h('td', { class: 'seg-bars' },
           h('span', { class: 'seg-track', 'aria-hidden': 'true' },
             bar(s.leaked.share, 'leak'), bar(s.absorbed.share, 'absorb'), bar(loss - s.leaked.share - s.absorbed.share, 'mount'))),
-        h('td', { class: 'num', text: fixed(s.length_mm, 1) }),
+        h('td', { class: 'num', text: length(s.length_mm, 1) }),
         h('td', { class: 'num', text: formatShareCi(s.leaked.share, s.leaked.ci95) }),
         h('td', { class: 'num', text: formatShareCi(s.absorbed.share, s.absorbed.ci95) }),
         h('td', { text: lost.length ? lost.map((c) => `${c.name || 'mount'}: ${formatShareCi(c.lost.share, c.lost.ci95)}`).join('; ') : '—' }));
@@ -118,6 +118,18 @@ export function showReport(report, figures, scenario) {
   );
 
   showBends(figures, report);
+}
+
+/** The unit lengths are shown in ('mm' or 'in'; documents and the core keep mm). */
+let lengthUnit = 'mm';
+
+/** A length given in mm, in the unit shown: 0.1 µm steps in mm, 0.0001 in steps in inches. */
+const length = (x_mm, mmDecimals) => (lengthUnit === 'in' ? fixed(x_mm / 25.4, 4) : fixed(x_mm, mmDecimals));
+
+/** Show the tables' lengths in `unit` ('mm' or 'in') from now on, column heads included. */
+export function setLengthUnit(unit) {
+  lengthUnit = unit === 'in' ? 'in' : 'mm';
+  for (const th of document.querySelectorAll('[data-length-head]')) th.textContent = `${th.dataset.lengthHead}, ${lengthUnit}`;
 }
 
 /** Gives the quick look's address for a bend (route index), or null: set once by the page. */
@@ -150,10 +162,10 @@ export function showBends(figures, report) {
     return h('tr', { dataset: { segment: String(bf.segment), verdict: bf.verdict } },
       h('th', { scope: 'row', text: `${bf.segment + 1}` }),
       h('td', { class: 'num', text: `${fixed(bf.angle_deg, 0)}°` }),
-      h('td', { class: 'num', text: fixed(bf.centre_radius_mm, 2) }),
-      h('td', { class: 'num', text: fixed(bf.inner_radius_mm, 2) }),
+      h('td', { class: 'num', text: length(bf.centre_radius_mm, 2) }),
+      h('td', { class: 'num', text: length(bf.inner_radius_mm, 2) }),
       h('td', { class: 'num', text: fixed(bf.inner_radius_over_size, 2) }),
-      h('td', { class: 'num', text: bf.leak_free_inner_radius_mm == null ? 'none exists' : fixed(bf.leak_free_inner_radius_mm, 2) }),
+      h('td', { class: 'num', text: bf.leak_free_inner_radius_mm == null ? 'none exists' : length(bf.leak_free_inner_radius_mm, 2) }),
       h('td', { class: 'num', text: leaked }),
       h('td', {},
         h('span', { class: `mark mark-${ok ? 'ok' : 'leaks'}`, text: ok ? 'No leak expected' : 'Leaks', title: sentence(bf.note) }),

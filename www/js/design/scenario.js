@@ -84,8 +84,9 @@ export const isLength = (path) => /_mm(\[\d+\])?$/.test(path);
 /** A stored value shown in the chosen unit, without trailing noise (e.g. 0.1181 in). */
 export function showNumber(value, path, unit) {
   if (typeof value !== 'number' || !Number.isFinite(value)) return '';
-  const v = unit === 'in' && isLength(path) ? value / MM_PER_INCH : value;
-  return String(Number(v.toPrecision(unit === 'in' && isLength(path) ? 5 : 10)));
+  // Inches to 0.0001 in (2.5 µm), so 2.5 mm shows as 0.0984, not 0.098425; the document keeps mm.
+  if (unit === 'in' && isLength(path)) return String(Number((value / MM_PER_INCH).toFixed(4)));
+  return String(Number(value.toPrecision(10)));
 }
 
 /** A typed value in the chosen unit as stored (mm for lengths). */

@@ -359,6 +359,17 @@ describe('the design page in Chromium', { concurrency: false }, () => {
     const height = bytes.readUInt32BE(20);
     const canvasHeight = await page.$eval('#exit-map', (c) => c.height);
     assert.ok(height > canvasHeight + 20, `${height} px saved for a ${canvasHeight} px chart`);
+    // Chart titles are headings, and the intensity chart has its numbers in a table: one row per
+    // lit 1° ring, the same figures as the command line's report.
+    for (const id of ['exit-map-title', 'intensity-title']) assert.equal(await page.$eval(`#${id}`, (e) => e.tagName), 'H2');
+    const cli = cliTrace(s).intensity;
+    const lit = cli.share_per_sr.reduce((last, v, k) => (v > 0 ? k : last), -1) + 1;
+    await page.click('.chart-data summary');
+    const rows = await page.locator('#intensity-rows tr').count();
+    assert.equal(rows, lit);
+    const first = await page.locator('#intensity-rows tr').first().locator('td').allInnerTexts();
+    assert.equal(Number(first[0]), Number(cli.angle_deg[0].toFixed(1)));
+    assert.ok(Math.abs(Number(first[1]) - 100 * cli.share_per_sr[0]) <= 0.5 * 10 ** -Math.max(0, first[1].split('.')[1]?.length ?? 0) + 1e-12, `${first[1]} vs ${100 * cli.share_per_sr[0]}`);
   });
 
   test('a kept design with defaults left out, or with a field the core cannot read, comes back in the form', async () => {

@@ -51,6 +51,14 @@ export function showReport(report, figures, scenario) {
   $('answer').dataset.rays = String(report.rays);
   $('answer-note').textContent = `Share of the light the ${scenario.source.emitter.beam ? 'beam' : 'LED'} emits, from ${formatCount(report.rays)} rays (± is the 95 % interval).`;
 
+  // The numbers behind the intensity chart: every 1° ring up to the last lit one.
+  const I = report.intensity;
+  const lastLit = I.share_per_sr.reduce((last, v, k) => (v > 0 ? k : last), -1);
+  $('intensity-rows').replaceChildren(...I.angle_deg.slice(0, lastLit + 1).map((a, k) => h('tr', {},
+    h('td', { class: 'num', text: fixed(a, 1) }),
+    h('td', { class: 'num', text: formatShare(I.share_per_sr[k], I.ci95_per_sr[k]) }),
+    h('td', { class: 'num', text: formatHalfWidth(I.ci95_per_sr[k]) }))));
+
   // Detector and absolute figures.
   const extra = [];
   if (report.receiver) extra.push(['On the detector', formatShareCi(report.receiver.share, report.receiver.ci95)]);

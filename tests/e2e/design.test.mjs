@@ -372,6 +372,51 @@ describe('the design page in Chromium', { concurrency: false }, () => {
     assert.ok(Math.abs(Number(first[1]) - 100 * cli.share_per_sr[0]) <= 0.5 * 10 ** -Math.max(0, first[1].split('.')[1]?.length ?? 0) + 1e-12, `${first[1]} vs ${100 * cli.share_per_sr[0]}`);
   });
 
+  test('the 3D view shows the board, a scale and axes, has views relative to the board, and never loses the model', async () => {
+    await tracedAfter(page, () => page.selectOption('#demo', 'thermostat_status_led.json'));
+    const view = page.locator('#route-view');
+    await view.scrollIntoViewIfNeeded();
+    // A scale bar of a round length whose pixels match the drawing's scale.
+    const bar = await view.getAttribute('data-scale-bar');
+    assert.match(bar, /^(1|2|5)(0*|\.0*[125])? mm$|^0\.(0*)(1|2|5) mm$/);
+    await page.check('input[name="unit"][value="in"]');
+    assert.match(await view.getAttribute('data-scale-bar'), / in$/);
+    await page.check('input[name="unit"][value="mm"]');
+    // The board: its green tint is drawn.
+    const greenish = () => page.$eval('#route-view', (c) => {
+      const d = c.getContext('2d').getImageData(0, 0, c.width, c.height).data;
+      let n = 0;
+      for (let i = 0; i < d.length; i += 4) if (d[i + 1] > d[i] + 8 && d[i + 1] > d[i + 2] + 4 && d[i] > 200) n += 1;
+      return n;
+    });
+    assert.ok((await greenish()) > 200, 'no board drawn');
+    for (const v of ['plan', 'side', 'board', 'turned']) {
+      await page.click(`[data-view="${v}"]`);
+      await page.screenshot({ path: join(OUT, `design-view-${v}.png`), clip: await view.boundingBox() });
+    }
+    // Dragging and keys far off: the model stays on the canvas.
+    const ink = () => page.$eval('#route-view', (c) => {
+      const d = c.getContext('2d').getImageData(0, 0, c.width, c.height).data;
+      let n = 0;
+      for (let i = 0; i < d.length; i += 4) if (d[i] < 60 && d[i + 1] < 70 && d[i + 2] < 80) n += 1;
+      return n;
+    });
+    await view.focus();
+    for (let k = 0; k < 120; k += 1) await page.keyboard.press('Shift+ArrowRight');
+    for (let k = 0; k < 40; k += 1) await page.keyboard.press('-');
+    assert.ok((await ink()) > 50, 'the model left the canvas');
+    const box = await view.boundingBox();
+    await page.mouse.move(box.x + 20, box.y + 20);
+    await page.keyboard.down('Shift');
+    await page.mouse.down();
+    await page.mouse.move(box.x + 20, box.y + 5000, { steps: 4 });
+    await page.mouse.up();
+    await page.keyboard.up('Shift');
+    assert.ok((await ink()) > 50, 'the model left the canvas after a drag');
+    await page.screenshot({ path: join(OUT, 'design-view-kept.png'), clip: box });
+    await page.click('[data-view="fit"]');
+  });
+
   test('a kept design with defaults left out, or with a field the core cannot read, comes back in the form', async () => {
     const { other, p } = await freshPage();
     try {

@@ -359,6 +359,7 @@ function wireToolbar() {
       page.editor.render();
       saveState(page.state);
       setLengthUnit(page.state.unit);
+      page.view.setUnit(page.state.unit);
       if (page.figures) page.editor.showBendHints(page.figures.bends);
       if (page.report) showReport(page.report, page.figures, page.reportScenario);
       else if (page.figures) showBends(page.figures, null);
@@ -449,6 +450,7 @@ async function start() {
   setLengthUnit(page.state.unit);
   $('f-name').value = page.state.scenario.name || '';
   page.view = new RouteView($('route-view'));
+  page.view.setUnit(page.state.unit);
   page.pool = new TracePool({ onUpdate: onTraceUpdate, ...traceWorker() });
   page.study = new StudyPanel({
     core,

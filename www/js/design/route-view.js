@@ -35,11 +35,27 @@ function heatColour(x) {
 export const heatGradientCss = () => `linear-gradient(to right, ${HEAT.map((c) => `rgb(${c.join(',')})`).join(', ')})`;
 
 const DEG = Math.PI / 180;
-const VIEWS = { turned: [90, 35], plan: [90, 90], side: [90, 0] };
+/**
+ * Preset views [azimuth, elevation], relative to the board the LED sits on (the plane through
+ * the LED across the entry axis): turned; edge-on with the pipe's width across the screen (bends
+ * that turn toward the width, turn 0°/180°, in full); edge-on with its height across (bends
+ * turning toward the height, 90°/270°, out of the first plane); and onto the board, along the
+ * LED's axis.
+ */
+const VIEWS = { turned: [90, 35], plan: [90, 90], side: [90, 0], board: [0, 0] };
+
+/** A "nice" scale-bar length (1, 2 or 5 × 10ⁿ) near `x`. */
+function niceLength(x) {
+  const p = 10 ** Math.floor(Math.log10(x));
+  const m = x / p;
+  return (m < 1.5 ? 1 : m < 3.5 ? 2 : m < 7.5 ? 5 : 10) * p;
+}
 
 export class RouteView {
   constructor(canvas) {
     this.canvas = canvas;
+    /** 'mm' or 'in': the unit of the scale bar. */
+    this.unit = 'mm';
     this.outline = null;
     this.report = null;
     this.az = VIEWS.turned[0];
@@ -90,6 +106,50 @@ export class RouteView {
     const w = this.canvas.clientWidth;
     const hgt = this.canvas.clientHeight;
     return [w / 2 + this.pan[0] + u * this.scale, hgt / 2 + this.pan[1] - v * this.scale];
+  }
+
+  /** The scale bar's unit ('mm' or 'in'). */
+  setUnit(unit) {
+    this.unit = unit === 'in' ? 'in' : 'mm';
+    this.draw();
+  }
+
+  /** The model's extent on the screen plane (projected mm): [lo, hi]. */
+  extent() {
+    const o = this.outline;
+    let lo = [Infinity, Infinity];
+    let hi = [-Infinity, -Infinity];
+    const add = (p, r = 0) => {
+      const [u, v] = this.project(p);
+      lo = [Math.min(lo[0], u - r), Math.min(lo[1], v - r)];
+      hi = [Math.max(hi[0], u + r), Math.max(hi[1], v + r)];
+    };
+    for (const seg of o.segments) for (const pt of seg.points) add(pt.centre, Math.max(pt.half_width_mm, pt.half_height_mm));
+    if (o.source_mm) add(o.source_mm);
+    return [lo, hi];
+  }
+
+  /**
+   * Keep the model on the canvas whatever the dragging, panning, zooming or keys did: at least
+   * `margin` px of it stays inside each edge, and it is never zoomed below 60 px across.
+   */
+  keepInView() {
+    if (!this.outline) return;
+    const w = this.canvas.clientWidth;
+    const hgt = this.canvas.clientHeight;
+    const [lo, hi] = this.extent();
+    const span = Math.max(hi[0] - lo[0], hi[1] - lo[1], 1e-3);
+    if (span * this.scale < 60) this.scale = 60 / span;
+    const margin = Math.min(40, w / 4, hgt / 4);
+    // Screen box of the model.
+    const x0 = w / 2 + this.pan[0] + lo[0] * this.scale;
+    const x1 = w / 2 + this.pan[0] + hi[0] * this.scale;
+    const y0 = hgt / 2 + this.pan[1] - hi[1] * this.scale;
+    const y1 = hgt / 2 + this.pan[1] - lo[1] * this.scale;
+    if (x1 < margin) this.pan[0] += margin - x1;
+    if (x0 > w - margin) this.pan[0] -= x0 - (w - margin);
+    if (y1 < margin) this.pan[1] += margin - y1;
+    if (y0 > hgt - margin) this.pan[1] -= y0 - (hgt - margin);
   }
 
   /** Scale and centre so the whole route, source and detector fit. */
@@ -210,6 +270,8 @@ export class RouteView {
     if (!o) return;
     g.lineJoin = 'round';
     g.lineCap = 'butt';
+    this.keepInView();
+    this.drawBoard(g);
 
     // The pipe: a dark outline stroke, then the body (a round pipe's outline under an
     // orthographic view is as wide as its diameter from every side).
@@ -233,6 +295,91 @@ export class RouteView {
     this.drawRays(g);
     this.drawHeat(g);
     this.drawFaces(g);
+    this.drawScale(g, w, hgt);
+  }
+
+  /**
+   * The board the LED sits on: the plane through the LED across the entry axis (its width and
+   * height axes), drawn as a translucent square around the LED, behind everything else.
+   */
+  drawBoard(g) {
+    const o = this.outline;
+    const f = o.entry;
+    if (!f || !o.source_mm) return;
+    const [lo, hi] = this.extent();
+    const half = 0.35 * Math.max(hi[0] - lo[0], hi[1] - lo[1], 4 * (o.source_half_size_mm || 0.5));
+    const corner = (a, b) => o.source_mm.map((x, j) => x + half * (a * f.x[j] + b * f.y[j]));
+    g.beginPath();
+    [[-1, -1], [1, -1], [1, 1], [-1, 1]].forEach(([a, b], k) => {
+      const [sx, sy] = this.toScreen(corner(a, b));
+      if (k === 0) g.moveTo(sx, sy);
+      else g.lineTo(sx, sy);
+    });
+    g.closePath();
+    g.fillStyle = 'rgba(47, 158, 68, 0.10)';
+    g.fill();
+    g.strokeStyle = 'rgba(43, 138, 62, 0.55)';
+    g.lineWidth = 1;
+    g.stroke();
+    const [lx, ly] = this.toScreen(corner(-1, 1));
+    g.fillStyle = '#2b8a3e';
+    g.font = '12px system-ui, sans-serif';
+    g.textBaseline = 'bottom';
+    g.fillText('board (LED side)', lx + 4, ly - 2);
+  }
+
+  /**
+   * A scale bar in the unit shown (bottom left) and the directions of the pipe's width, height
+   * and entry axes at the LED (bottom right): an orthographic view keeps lengths across the
+   * screen true, so the bar measures anything parallel to the screen.
+   */
+  drawScale(g, w, hgt) {
+    const perMm = this.unit === 'in' ? 25.4 : 1;
+    const target = 90 / this.scale / perMm; // about 90 px
+    const bar = niceLength(target);
+    const px = bar * perMm * this.scale;
+    const x0 = 12;
+    const y0 = hgt - 14;
+    g.strokeStyle = '#212529';
+    g.lineWidth = 2;
+    g.beginPath();
+    g.moveTo(x0, y0 - 5);
+    g.lineTo(x0, y0);
+    g.lineTo(x0 + px, y0);
+    g.lineTo(x0 + px, y0 - 5);
+    g.stroke();
+    g.fillStyle = '#212529';
+    g.font = '12px system-ui, sans-serif';
+    g.textBaseline = 'bottom';
+    g.fillText(`${Number(bar.toPrecision(3))} ${this.unit}`, x0 + 4, y0 - 4);
+    this.canvas.dataset.scaleBar = `${Number(bar.toPrecision(3))} ${this.unit}`;
+    this.canvas.dataset.scaleBarPx = px.toFixed(1);
+    // The axes at the LED, as arrows of 26 px.
+    const f = this.outline.entry;
+    if (!f) return;
+    const cx = w - 60;
+    const cy = hgt - 50;
+    const axes = [[f.x, 'width', '#c92a2a'], [f.y, 'height', '#2b8a3e'], [f.z, 'axis', '#1864ab']];
+    for (const [d, name, colour] of axes) {
+      const [u, v] = this.project(d);
+      const ex = cx + 26 * u;
+      const ey = cy - 26 * v;
+      g.strokeStyle = colour;
+      g.fillStyle = colour;
+      g.lineWidth = 2;
+      g.beginPath();
+      g.moveTo(cx, cy);
+      g.lineTo(ex, ey);
+      g.stroke();
+      // The name beyond the arrow's tip, centred on its line (an axis pointing at the viewer
+      // has no length on the screen and no name).
+      if (Math.hypot(u, v) > 0.2) {
+        g.textAlign = 'center';
+        g.textBaseline = 'middle';
+        g.fillText(name, cx + 40 * u, cy - 36 * v);
+        g.textAlign = 'start';
+      }
+    }
   }
 
   /** Leakage along the route as a coloured strip down the middle of the pipe. */

@@ -364,12 +364,20 @@ describe('the design page in Chromium', { concurrency: false }, () => {
     for (const id of ['exit-map-title', 'intensity-title']) assert.equal(await page.$eval(`#${id}`, (e) => e.tagName), 'H2');
     const cli = cliTrace(s).intensity;
     const lit = cli.share_per_sr.reduce((last, v, k) => (v > 0 ? k : last), -1) + 1;
-    await page.click('.chart-data summary');
+    await page.click('#intensity-data summary');
     const rows = await page.locator('#intensity-rows tr').count();
     assert.equal(rows, lit);
     const first = await page.locator('#intensity-rows tr').first().locator('td').allInnerTexts();
     assert.equal(Number(first[0]), Number(cli.angle_deg[0].toFixed(1)));
     assert.ok(Math.abs(Number(first[1]) - 100 * cli.share_per_sr[0]) <= 0.5 * 10 ** -Math.max(0, first[1].split('.')[1]?.length ?? 0) + 1e-12, `${first[1]} vs ${100 * cli.share_per_sr[0]}`);
+    // The exit map's numbers: a row per cell across the height, the command line's figures.
+    const map = cliTrace(s).exit_map;
+    await page.click('#exit-map-data summary');
+    await page.waitForFunction((n) => document.querySelectorAll('#exit-map-rows tr').length === n, map.cells);
+    const mid = Math.floor(map.cells / 2);
+    const cell = await page.locator('#exit-map-rows tr').nth(map.cells - 1 - mid).locator('td').nth(mid).innerText();
+    assert.ok(Math.abs(Number(cell) - 100 * map.share_per_area[mid * map.cells + mid]) <= 0.0005 + 1e-12, `${cell} vs ${100 * map.share_per_area[mid * map.cells + mid]}`);
+    assert.equal(await page.$eval('#route-view-title', (e) => e.tagName), 'H2');
   });
 
   test('the 3D view shows the board, a scale and axes, has views relative to the board, and never loses the model', async () => {

@@ -12,7 +12,7 @@ import { MainThreadPool } from '../trace/main-thread-pool.js';
 import { TracePool } from '../trace/pool.js';
 import { Editor } from './editor.js';
 import { FATES, RouteView, heatGradientCss } from './route-view.js';
-import { clearReport, linkBendsToQuickLook, setLengthUnit, showBends, showFigures, showProgress, showReport } from './report-view.js';
+import { clearReport, linkBendsToQuickLook, setLengthUnit, showBends, showExitMapTable, showFigures, showProgress, showReport } from './report-view.js';
 import {
   MAX_DESIGN_BYTES, STARTER, clone, download, fileNameFor, freshState, loadState, saveState, scenarioFromFragment,
   shareLink, tooLargeMessage,
@@ -451,6 +451,7 @@ async function start() {
   $('f-name').value = page.state.scenario.name || '';
   page.view = new RouteView($('route-view'));
   page.view.setUnit(page.state.unit);
+  $('exit-map-data').addEventListener('toggle', () => $('exit-map-data').open && showExitMapTable());
   page.pool = new TracePool({ onUpdate: onTraceUpdate, ...traceWorker() });
   page.study = new StudyPanel({
     core,

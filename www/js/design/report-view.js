@@ -59,6 +59,10 @@ export function showReport(report, figures, scenario) {
     h('td', { class: 'num', text: formatShare(I.share_per_sr[k], I.ci95_per_sr[k]) }),
     h('td', { class: 'num', text: formatHalfWidth(I.ci95_per_sr[k]) }))));
 
+  // The numbers behind the exit map: made when its table is open (a cell per td).
+  lastExitMap = report.exit_map;
+  if ($('exit-map-data').open) showExitMapTable();
+
   // Detector and absolute figures.
   const extra = [];
   if (report.receiver) extra.push(['On the detector', formatShareCi(report.receiver.share, report.receiver.ci95)]);
@@ -126,6 +130,36 @@ export function showReport(report, figures, scenario) {
   );
 
   showBends(figures, report);
+}
+
+/** The exit map of the last report shown, for its table. */
+let lastExitMap = null;
+
+/**
+ * The exit map as a table: a row per cell across the height (top first), a column per cell across
+ * the width, each cell's irradiance in % of the emitted light per mm² (length units follow the
+ * page's); empty cells blank.
+ */
+export function showExitMapTable() {
+  const m = lastExitMap;
+  if (!m) return;
+  const n = m.cells;
+  const centre = (k, size) => -size / 2 + ((k + 0.5) * size) / n;
+  const per = lengthUnit === 'in' ? 'in²' : 'mm²';
+  const scale = lengthUnit === 'in' ? 25.4 * 25.4 : 1;
+  $('exit-map-head').replaceChildren(h('tr', {},
+    h('th', { scope: 'col', text: `height ↓ / width →, ${lengthUnit} (% per ${per})` }),
+    ...Array.from({ length: n }, (_, i) => h('th', { scope: 'col', class: 'num', text: length(centre(i, m.width_mm), 2) }))));
+  const rows = [];
+  for (let r = n - 1; r >= 0; r -= 1) {
+    rows.push(h('tr', {},
+      h('th', { scope: 'row', class: 'num', text: length(centre(r, m.height_mm), 2) }),
+      ...Array.from({ length: n }, (_, i) => {
+        const v = m.share_per_area[r * n + i];
+        return h('td', { class: 'num', text: v > 0 ? formatFixed(100 * v * scale, 3) : '' });
+      })));
+  }
+  $('exit-map-rows').replaceChildren(...rows);
 }
 
 /** The unit lengths are shown in ('mm' or 'in'; documents and the core keep mm). */

@@ -29,8 +29,8 @@ pub(crate) fn csv_text(s: &str) -> String {
 /// The report as CSV: the budget (one row per mechanism: `mechanism,share,ci95`), a blank line,
 /// the per-segment table (`index,kind,start_mm,length_mm,leaked,leaked_ci95,absorbed,
 /// absorbed_ci95,wall_hits`), a blank line and the contacts (`contact,segment,lost,lost_ci95`,
-/// names quoted). Every line ends with a newline; this is exactly what `tirtrace trace --csv`
-/// prints.
+/// names quoted), then the light turned back at the exit face ([`turn_back_csv`]). Every line
+/// ends with a newline; this is exactly what `tirtrace trace --csv` prints.
 pub fn report_csv(report: &TraceReport) -> String {
     let b = &report.budget;
     let mut s = String::from("mechanism,share,ci95\n");
@@ -70,6 +70,59 @@ pub fn report_csv(report: &TraceReport) -> String {
             csv_num(c.lost.share),
             csv_num(c.lost.ci95)
         );
+    }
+    s + &turn_back_csv(report)
+}
+
+/// The light turned back at the exit face, three tables each after a blank line
+/// ([`crate::trace::ExitTurnBack`]): what reaches the exit face and what it turns back
+/// (`exit_face,share,ci95,of_reaching,of_reaching_ci95`: shares of the emitted light, and of the
+/// light reaching the face, empty when none reaches it), where the turned-back light ended
+/// (`after_turn_back,share,ci95`, shares of the emitted light that sum to `turned_back`), and its
+/// leakage by segment (`index,leaked_after_turn_back,leaked_after_turn_back_ci95`).
+fn turn_back_csv(report: &TraceReport) -> String {
+    let t = &report.exit_turn_back;
+    let of = t.of_reaching.as_ref();
+    let mut s = String::from("\nexit_face,share,ci95,of_reaching,of_reaching_ci95\n");
+    for (name, share, fraction) in [
+        ("reached", &t.reached, None),
+        ("turned_back", &t.turned_back, of.map(|f| &f.turned_back)),
+        (
+            "turned_back_by_total_reflection",
+            &t.by_total_reflection,
+            of.map(|f| &f.by_total_reflection),
+        ),
+        (
+            "turned_back_by_fresnel",
+            &t.by_fresnel,
+            of.map(|f| &f.by_fresnel),
+        ),
+    ] {
+        let fraction = fraction.map_or(",".to_string(), |f| {
+            format!("{},{}", csv_num(f.share), csv_num(f.ci95))
+        });
+        s += &format!(
+            "{name},{},{},{fraction}\n",
+            csv_num(share.share),
+            csv_num(share.ci95)
+        );
+    }
+    let e = &t.ended;
+    s += "\nafter_turn_back,share,ci95\n";
+    for (name, share) in [
+        ("delivered_later", &e.delivered_later),
+        ("returned", &e.returned),
+        ("leaked", &e.leaked),
+        ("contact", &e.contact),
+        ("absorbed", &e.absorbed),
+        ("stopped", &e.stopped),
+    ] {
+        s += &format!("{name},{},{}\n", csv_num(share.share), csv_num(share.ci95));
+    }
+    s += "\nindex,leaked_after_turn_back,leaked_after_turn_back_ci95\n";
+    for g in &report.segments {
+        let l = &g.leaked_after_turn_back;
+        s += &format!("{},{},{}\n", g.index, csv_num(l.share), csv_num(l.ci95));
     }
     s
 }

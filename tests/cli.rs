@@ -342,7 +342,7 @@ fn csv_rows_parse_and_the_budget_sums_to_one() {
         let json: Value =
             serde_json::from_str(&ok_stdout(&["trace", path, "--rays", "6000"], "")).unwrap();
         let secs = csv_sections(&csv);
-        assert_eq!(secs.len(), 3, "{path}: {csv}");
+        assert_eq!(secs.len(), 6, "{path}: {csv}");
 
         let budget = &secs[0];
         assert_eq!(budget[0], ["mechanism", "share", "ci95"]);
@@ -399,6 +399,71 @@ fn csv_rows_parse_and_the_budget_sums_to_one() {
             assert_eq!(row[1].parse::<usize>().unwrap(), zone.segment);
             row[2].parse::<f64>().unwrap();
             row[3].parse::<f64>().unwrap();
+        }
+
+        // The light turned back at the exit face, as in the JSON report: its shares, where it
+        // ended (summing to the turned-back share), its leakage by segment.
+        let turn = &json["exit_turn_back"];
+        let exit = &secs[3];
+        assert_eq!(
+            exit[0],
+            [
+                "exit_face",
+                "share",
+                "ci95",
+                "of_reaching",
+                "of_reaching_ci95"
+            ]
+        );
+        let names = [
+            ("reached", "reached", ""),
+            ("turned_back", "turned_back", "turned_back"),
+            (
+                "turned_back_by_total_reflection",
+                "by_total_reflection",
+                "by_total_reflection",
+            ),
+            ("turned_back_by_fresnel", "by_fresnel", "by_fresnel"),
+        ];
+        assert_eq!(exit.len(), 1 + names.len());
+        for (row, (name, key, of)) in exit[1..].iter().zip(names) {
+            assert_eq!(row[0], name);
+            assert_eq!(row[1].parse::<f64>().unwrap(), f(&turn[key]["share"]));
+            let fraction = if of.is_empty() {
+                String::new()
+            } else {
+                f(&turn["of_reaching"][of]["share"]).to_string()
+            };
+            assert_eq!(row[3], fraction, "{row:?}");
+        }
+        let ended = &secs[4];
+        assert_eq!(ended[0], ["after_turn_back", "share", "ci95"]);
+        assert_eq!(ended.len(), 1 + 6);
+        let sum: f64 = ended[1..]
+            .iter()
+            .map(|row| {
+                let share: f64 = row[1].parse().unwrap();
+                assert_eq!(share, f(&turn["ended"][&row[0]]["share"]), "{row:?}");
+                share
+            })
+            .sum();
+        let turned = f(&turn["turned_back"]["share"]);
+        assert!((sum - turned).abs() <= 1e-9, "{path}: {sum} ≠ {turned}");
+        let by_segment = &secs[5];
+        assert_eq!(
+            by_segment[0],
+            [
+                "index",
+                "leaked_after_turn_back",
+                "leaked_after_turn_back_ci95"
+            ]
+        );
+        assert_eq!(by_segment.len(), 1 + route.len());
+        for (i, row) in by_segment[1..].iter().enumerate() {
+            assert_eq!(row[0].parse::<usize>().unwrap(), i);
+            let share: f64 = row[1].parse().unwrap();
+            let leaked = f(&json["segments"][i]["leaked_after_turn_back"]["share"]);
+            assert_eq!(share, leaked, "{row:?}");
         }
     }
 }

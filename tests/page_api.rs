@@ -207,7 +207,7 @@ fn csv_has_the_budget_segment_and_contact_tables() {
     let csv = report_csv(&report);
     assert!(csv.ends_with('\n') && !csv.ends_with("\n\n"));
     let sections: Vec<&str> = csv.trim_end().split("\n\n").collect();
-    assert_eq!(sections.len(), 3);
+    assert_eq!(sections.len(), 6);
     let budget: Vec<&str> = sections[0].lines().collect();
     assert_eq!(budget[0], "mechanism,share,ci95");
     assert_eq!(
@@ -221,6 +221,42 @@ fn csv_has_the_budget_segment_and_contact_tables() {
     let contact: Vec<&str> = sections[2].lines().collect();
     assert_eq!(contact.len(), 2);
     assert!(contact[1].starts_with("\"snap clip\",2,"), "{}", contact[1]);
+    // The light turned back at the exit face: what reaches it and what it turns back (of the
+    // emitted light, and of the light reaching it), where that light ended, and by segment.
+    let t = &report.exit_turn_back;
+    let exit: Vec<&str> = sections[3].lines().collect();
+    assert_eq!(exit[0], "exit_face,share,ci95,of_reaching,of_reaching_ci95");
+    assert_eq!(
+        exit[1],
+        format!("reached,{},{},,", t.reached.share, t.reached.ci95)
+    );
+    let of = t.of_reaching.as_ref().unwrap();
+    assert_eq!(
+        exit[3],
+        format!(
+            "turned_back_by_total_reflection,{},{},{},{}",
+            t.by_total_reflection.share,
+            t.by_total_reflection.ci95,
+            of.by_total_reflection.share,
+            of.by_total_reflection.ci95
+        )
+    );
+    assert_eq!(exit.len(), 5);
+    let ended: Vec<&str> = sections[4].lines().collect();
+    assert_eq!(ended[0], "after_turn_back,share,ci95");
+    assert_eq!(
+        ended[3],
+        format!("leaked,{},{}", t.ended.leaked.share, t.ended.leaked.ci95)
+    );
+    assert_eq!(ended.len(), 7);
+    let by_segment: Vec<&str> = sections[5].lines().collect();
+    assert_eq!(
+        by_segment[0],
+        "index,leaked_after_turn_back,leaked_after_turn_back_ci95"
+    );
+    let bend = &report.segments[1].leaked_after_turn_back;
+    assert_eq!(by_segment[2], format!("1,{},{}", bend.share, bend.ci95));
+    assert_eq!(by_segment.len(), 1 + report.segments.len());
 }
 
 /// The command line's `--csv` prints exactly the core's CSV, both for the report traced here

@@ -23,8 +23,10 @@ use crate::scenario::{
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
 #[serde(rename_all = "snake_case")]
 pub enum BendVerdict {
-    /// R_in/d is at least the leak-free ratio: no ray of the launch leaks at this bend (by the
-    /// launch's largest internal angle; see [`ScenarioFigures::bend_note`]).
+    /// R_in/d is at least the leak-free ratio: no ray of the launch leaks at this bend on its way
+    /// to the exit face (by the launch's largest internal angle; see
+    /// [`ScenarioFigures::bend_note`]). Light the exit face turns back passes the bend again the
+    /// other way, steeper than the launch, and may leak there ([`BendFigures::note`] says so).
     Ok,
     /// The bend is tighter than the leak-free radius, or no leak-free radius exists.
     Leaks,
@@ -114,12 +116,22 @@ pub fn launch_half_angle_rad(source: &Source) -> f64 {
 
 /// The figures of every bend of `route`, starting from the entry section `start` and following
 /// the section through tapers, for the launch `launch` (its largest internal angle θmax and its
-/// leak-free ratio).
+/// leak-free ratio); `exit_turns_back` says whether the exit face reflects any light back into
+/// the guide (any exit medium whose index differs from the guide's).
 ///
 /// Inner radius R_in = R_centre − d/2 with d the section's size across the bend there
 /// ([`bend_half_size_mm`]); the leak-free ratio is R_in/d ≥ n_out / (n_core cos θmax − n_out)
-/// ([`guide::leak_free_bend_ratio`], `docs/REFERENCES.md` §4).
-pub fn bend_figures(start: Section, route: &[Segment], launch: &LaunchChain) -> Vec<BendFigures> {
+/// ([`guide::leak_free_bend_ratio`], `docs/REFERENCES.md` §4). The criterion holds for the launch
+/// on its way to the exit face. A bend steepens the rays after it, so the exit face may turn some
+/// back by total reflection, and Fresnel-reflects a little of the rest; that light meets the bend
+/// again from the other side with angles the launch never had, so a leak-free bend's note says it
+/// may leak there (`docs/REFERENCES.md` §4, caution).
+pub fn bend_figures(
+    start: Section,
+    route: &[Segment],
+    launch: &LaunchChain,
+    exit_turns_back: bool,
+) -> Vec<BendFigures> {
     let leak_free = launch.leak_free_ratio;
     let theta_max_deg = launch.max_internal_angle_rad.to_degrees();
     let mut section = start;
@@ -140,9 +152,17 @@ pub fn bend_figures(start: Section, route: &[Segment], launch: &LaunchChain) -> 
                 let ok = leak_free.is_some_and(|r| ratio >= r);
                 let note = match leak_free {
                     None => guide::no_leak_free_radius_note(theta_max_deg),
+                    Some(r) if ok && exit_turns_back => format!(
+                        "leak-free on the way to the exit face: R_in/d = {ratio:.3} ≥ {r:.3}, \
+                         every ray up to {theta_max_deg:.1}° to the axis stays totally \
+                         reflected; but light the exit face turns back (by total reflection or \
+                         Fresnel reflection) passes this bend again in the other direction, \
+                         steeper than the launch, and may leak here: the trace shows how much"
+                    ),
                     Some(r) if ok => format!(
                         "leak-free: R_in/d = {ratio:.3} ≥ {r:.3}, every ray up to \
-                         {theta_max_deg:.1}° to the axis stays totally reflected"
+                         {theta_max_deg:.1}° to the axis stays totally reflected (the exit face \
+                         is index-matched and turns no light back)"
                     ),
                     Some(r) => format!(
                         "leaks: R_in/d = {ratio:.3} < {r:.3}; an inner radius of at least \
@@ -193,11 +213,20 @@ pub fn figures_with_indices(scenario: &Scenario, ix: &ScenarioIndices) -> Scenar
         entry_fresnel_loss: chain.entry_fresnel_loss,
         launch_half_angle_in_gap_deg: launch.to_degrees(),
         max_internal_angle_deg: chain.max_internal_angle_rad.to_degrees(),
-        bends: bend_figures(scenario.guide.section, &scenario.route, &chain),
+        bends: bend_figures(
+            scenario.guide.section,
+            &scenario.route,
+            &chain,
+            ix.n_exit != n_core,
+        ),
         bend_note: "Bend figures use the largest internal angle of the launch at the entry \
                     face; a narrowing taper or an earlier bend raises ray angles, so a later \
-                    bend may leak although marked as not leaking, and some light may be lost \
-                    at the exit face by total reflection even when no bend leaks."
+                    bend may leak although marked as not leaking. A bend also steepens the \
+                    rays after it, so the exit face may turn some of them back by total \
+                    reflection (and a few more by Fresnel reflection) even when no bend leaks; \
+                    that light passes the bends again in the other direction and may leak at \
+                    one marked as not leaking. The trace reports how much light the exit face \
+                    turns back and where it ends."
             .to_string(),
     }
 }

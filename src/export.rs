@@ -55,7 +55,8 @@ fn percent(x: f64) -> f64 {
 ///    detector), when the source's flux is given;
 /// 4. the segments, numbered from 1 as the page numbers them: kind, start and length, leaks,
 ///    absorbed, wall hits;
-/// 5. the mounts, with the segment they touch numbered from 1.
+/// 5. the mounts, with the segment they touch numbered from 1;
+/// 6. the light turned back at the exit face ([`turn_back_csv`]).
 ///
 /// Names are quoted (and guarded against formulas); every line ends with a newline. This is
 /// exactly what `tirtrace trace --csv` prints and the page downloads.
@@ -174,6 +175,65 @@ pub fn report_csv(report: &TraceReport, design_name: &str) -> String {
             percent(c.lost.share),
             percent(c.lost.ci95)
         );
+    }
+    s + &turn_back_csv(report)
+}
+
+/// The light turned back at the exit face ([`crate::trace::ExitTurnBack`]), three tables each
+/// after a blank line: what reaches the exit face and what it turns back, in % of the emitted
+/// light and in % of the light reaching the face (empty when none reaches it); where the
+/// turned-back light ended (in % of the emitted light, summing to the turned-back share; each is
+/// already counted in the budget above); and its leaks by segment, numbered from 1.
+fn turn_back_csv(report: &TraceReport) -> String {
+    let t = &report.exit_turn_back;
+    let of = t.of_reaching.as_ref();
+    let mut s =
+        String::from("\n\"At the exit face\",% of emitted,± %,% of the light reaching it,± %\n");
+    for (words, share, fraction) in [
+        ("Reaches the exit face", &t.reached, None),
+        ("Turned back", &t.turned_back, of.map(|f| &f.turned_back)),
+        (
+            "Turned back by total reflection",
+            &t.by_total_reflection,
+            of.map(|f| &f.by_total_reflection),
+        ),
+        (
+            "Turned back by Fresnel reflection",
+            &t.by_fresnel,
+            of.map(|f| &f.by_fresnel),
+        ),
+    ] {
+        let fraction = fraction.map_or(",".to_string(), |f| {
+            format!("{},{}", percent(f.share), percent(f.ci95))
+        });
+        s += &format!(
+            "{},{},{},{fraction}\n",
+            csv_text(words),
+            percent(share.share),
+            percent(share.ci95)
+        );
+    }
+    let e = &t.ended;
+    s += "\n\"Where the turned-back light ended (already counted above)\",% of emitted,± %\n";
+    for (words, share) in [
+        ("Through the window on a later pass", &e.delivered_later),
+        ("Comes back out of the entry face", &e.returned),
+        ("Leaks out of the side walls", &e.leaked),
+        ("Lost into mounts touching the pipe", &e.contact),
+        ("Absorbed in the material", &e.absorbed),
+        ("Stopped by the wall-hit limit", &e.stopped),
+    ] {
+        s += &format!(
+            "{},{},{}\n",
+            csv_text(words),
+            percent(share.share),
+            percent(share.ci95)
+        );
+    }
+    s += "\nsegment,leaks after a turn back %,± %\n";
+    for g in &report.segments {
+        let l = &g.leaked_after_turn_back;
+        s += &format!("{},{},{}\n", g.index + 1, percent(l.share), percent(l.ci95));
     }
     s
 }

@@ -120,6 +120,41 @@ impl Estimate {
             ci95: self.half_width95().unwrap_or(f64::INFINITY),
         }
     }
+
+    /// The fraction T̄/R̄ of a whole R that a part T of it is, with its 95 % half-width, when every
+    /// ray's part is either all of its whole or nothing (T_i ∈ {0, R_i}, e.g. the light turned
+    /// back at a face of the light reaching it); both estimates over the same rays. `None` when
+    /// the whole is 0 (nothing to take a fraction of).
+    ///
+    /// The ratio estimator r = T̄/R̄ has, to first order (the delta method), the variance
+    /// Var(T − r R) / (n R̄²) (from memory: W. G. Cochran, *Sampling Techniques*, 3rd ed.,
+    /// Wiley 1977, ch. 6, the ratio estimator), with
+    /// s²(T − rR) = s²_T + r² s²_R − 2 r s_TR. The covariance needs Σ T_i R_i, which the two
+    /// estimates do not hold in general; here T_i R_i = T_i², so Σ T_i R_i = M₂_T + n T̄² and
+    /// s_TR = (M₂_T + n T̄ (T̄ − R̄)) / (n − 1). For 0/1 weights this is the binomial
+    /// r(1 − r)/(n R̄): the part's count among the rays that reach the whole. Infinite below two
+    /// rays.
+    pub fn fraction_of(&self, whole: &Estimate) -> Option<Share> {
+        if whole.mean <= 0.0 || whole.n == 0 {
+            return None;
+        }
+        let r = self.mean / whole.mean;
+        if self.n < 2 || whole.n != self.n {
+            return Some(Share {
+                share: r,
+                ci95: f64::INFINITY,
+            });
+        }
+        let n = self.n as f64;
+        let s2_t = self.m2 / (n - 1.0);
+        let s2_r = whole.m2 / (n - 1.0);
+        let s_tr = (self.m2 + n * self.mean * (self.mean - whole.mean)) / (n - 1.0);
+        let s2_d = (s2_t + r * r * s2_r - 2.0 * r * s_tr).max(0.0);
+        Some(Share {
+            share: r,
+            ci95: 1.96 * (s2_d / n).sqrt() / whole.mean,
+        })
+    }
 }
 
 /// One batch's running sums for several tallies at once: per column, the sums of (x − shift)
@@ -242,6 +277,53 @@ mod tests {
         y[0] = 1.0;
         let one = Estimate::of_differences(&y, &x0);
         assert!((one.mean - 1.0 / 6.0).abs() < 1e-15 && (one.m2 - 5.0 / 6.0).abs() < 1e-15);
+    }
+
+    #[test]
+    fn a_fraction_of_a_whole_has_the_ratio_estimators_interval() {
+        // Rays reaching a face with weight R_i (0 when they do not), turned back with T_i ∈ {0, R_i}.
+        let reached = [1.0, 0.8, 0.0, 0.9, 1.0, 0.5, 0.7, 0.0, 1.0, 0.6];
+        let turned = [1.0, 0.0, 0.0, 0.9, 0.0, 0.5, 0.0, 0.0, 1.0, 0.0];
+        let mut sums = ShiftedSums::new(2);
+        for (r, t) in reached.iter().zip(&turned) {
+            sums.add(&[*r, *t]);
+        }
+        let e: Vec<Estimate> = sums.estimates().collect();
+        let f = e[1].fraction_of(&e[0]).unwrap();
+        // Directly: r = ΣT/ΣR, s² of D_i = T_i − r R_i about its mean (0), half-width
+        // 1.96 √(s²_D/n) / R̄ (the ratio estimator's delta-method interval).
+        let n = reached.len() as f64;
+        let (st, sr): (f64, f64) = (turned.iter().sum(), reached.iter().sum());
+        let r = st / sr;
+        let d: Vec<f64> = reached
+            .iter()
+            .zip(&turned)
+            .map(|(a, b)| b - r * a)
+            .collect();
+        let d_mean = d.iter().sum::<f64>() / n;
+        let s2_d = d.iter().map(|x| (x - d_mean) * (x - d_mean)).sum::<f64>() / (n - 1.0);
+        let want = 1.96 * (s2_d / n).sqrt() / (sr / n);
+        assert!((f.share - r).abs() < 1e-15, "{f:?} against {r}");
+        assert!((f.ci95 - want).abs() < 1e-14, "{f:?} against ± {want}");
+        // 0/1 weights: the binomial interval over the rays that reach the whole.
+        let mut sums = ShiftedSums::new(2);
+        for k in 0..1000 {
+            let r = if k % 4 == 0 { 0.0 } else { 1.0 };
+            let t = if r > 0.0 && k % 3 == 0 { 1.0 } else { 0.0 };
+            sums.add(&[r, t]);
+        }
+        let e: Vec<Estimate> = sums.estimates().collect();
+        let f = e[1].fraction_of(&e[0]).unwrap();
+        let (m, p) = (750.0, 250.0 / 750.0);
+        assert!((f.share - p).abs() < 1e-15);
+        assert!(
+            (f.ci95 - 1.96 * (p * (1.0 - p) / m).sqrt()).abs() < 2e-5,
+            "{f:?}"
+        );
+        // No whole: no fraction; one ray: no interval.
+        assert_eq!(Estimate::default().fraction_of(&Estimate::default()), None);
+        let one = Estimate::from_raw_sums(1, 0.5, 0.25);
+        assert_eq!(one.fraction_of(&one).unwrap().ci95, f64::INFINITY);
     }
 
     #[test]

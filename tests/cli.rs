@@ -344,7 +344,8 @@ fn csv_rows_parse_and_the_budget_sums_to_one() {
         let scenario = read_scenario(path);
         let secs = csv_sections(&csv);
         let absolute = !json["absolute"].is_null();
-        assert_eq!(secs.len(), if absolute { 5 } else { 4 }, "{path}: {csv}");
+        // Header, budget, (absolute figures), segments, mounts, then three of the exit face.
+        assert_eq!(secs.len(), if absolute { 8 } else { 7 }, "{path}: {csv}");
 
         // The header block: what the file is, the design, the version, rays, seed, units.
         let head = &secs[0];
@@ -382,7 +383,7 @@ fn csv_rows_parse_and_the_budget_sums_to_one() {
         }
 
         // Segments and mounts numbered from 1, as on the page.
-        let segs = &secs[secs.len() - 2];
+        let segs = &secs[secs.len() - 5];
         assert_eq!(
             segs[0],
             [
@@ -413,7 +414,7 @@ fn csv_rows_parse_and_the_budget_sums_to_one() {
             row[8].parse::<u64>().unwrap();
         }
 
-        let contacts = &secs[secs.len() - 1];
+        let contacts = &secs[secs.len() - 4];
         assert_eq!(contacts[0], ["mount", "on segment", "lost %", "± %"]);
         let zones = &scenario.guide.contacts;
         assert_eq!(contacts.len(), 1 + zones.len());
@@ -422,6 +423,88 @@ fn csv_rows_parse_and_the_budget_sums_to_one() {
             assert_eq!(row[1].parse::<usize>().unwrap(), zone.segment + 1);
             row[2].parse::<f64>().unwrap();
             row[3].parse::<f64>().unwrap();
+        }
+
+        // The light turned back at the exit face, as in the JSON report: its shares, where it
+        // ended (summing to the turned-back share), its leakage by segment.
+        let turn = &json["exit_turn_back"];
+        let exit = &secs[secs.len() - 3];
+        assert_eq!(
+            exit[0],
+            [
+                "At the exit face",
+                "% of emitted",
+                "± %",
+                "% of the light reaching it",
+                "± %"
+            ]
+        );
+        let names = [
+            ("Reaches the exit face", "reached", ""),
+            ("Turned back", "turned_back", "turned_back"),
+            (
+                "Turned back by total reflection",
+                "by_total_reflection",
+                "by_total_reflection",
+            ),
+            (
+                "Turned back by Fresnel reflection",
+                "by_fresnel",
+                "by_fresnel",
+            ),
+        ];
+        assert_eq!(exit.len(), 1 + names.len());
+        let pc = |x: f64| 100.0 * x;
+        for (row, (name, key, of)) in exit[1..].iter().zip(names) {
+            assert_eq!(row[0], name);
+            assert_eq!(row[1].parse::<f64>().unwrap(), pc(f(&turn[key]["share"])));
+            if of.is_empty() {
+                assert_eq!(row[3], "", "{row:?}");
+            } else {
+                let fraction: f64 = row[3].parse().unwrap();
+                assert_eq!(
+                    fraction,
+                    pc(f(&turn["of_reaching"][of]["share"])),
+                    "{row:?}"
+                );
+            }
+        }
+        let ended = &secs[secs.len() - 2];
+        assert_eq!(
+            ended[0][0],
+            "Where the turned-back light ended (already counted above)"
+        );
+        assert_eq!(ended.len(), 1 + 6);
+        let keys = [
+            "delivered_later",
+            "returned",
+            "leaked",
+            "contact",
+            "absorbed",
+            "stopped",
+        ];
+        let sum: f64 = ended[1..]
+            .iter()
+            .zip(keys)
+            .map(|(row, key)| {
+                let percent: f64 = row[1].parse().unwrap();
+                assert_eq!(percent, pc(f(&turn["ended"][key]["share"])), "{row:?}");
+                percent
+            })
+            .sum();
+        let turned = pc(f(&turn["turned_back"]["share"]));
+        assert!((sum - turned).abs() <= 1e-7, "{path}: {sum} ≠ {turned}");
+        let by_segment = &secs[secs.len() - 1];
+        assert_eq!(
+            by_segment[0],
+            ["segment", "leaks after a turn back %", "± %"]
+        );
+        assert_eq!(by_segment.len(), 1 + route.len());
+        for (i, row) in by_segment[1..].iter().enumerate() {
+            assert_eq!(row[0].parse::<usize>().unwrap(), i + 1);
+            let percent: f64 = row[1].parse().unwrap();
+            let leaked = f(&json["segments"][i]["leaked_after_turn_back"]["share"]);
+            assert_eq!(percent, pc(leaked), "{row:?}");
         }
     }
 }

@@ -207,7 +207,7 @@ fn csv_has_a_header_block_then_the_budget_absolute_segment_and_mount_tables() {
     let csv = report_csv(&report, "Thermostat \"status\" LED");
     assert!(csv.ends_with('\n') && !csv.ends_with("\n\n"));
     let sections: Vec<&str> = csv.trim_end().split("\n\n").collect();
-    assert_eq!(sections.len(), 5);
+    assert_eq!(sections.len(), 8);
     let head: Vec<&str> = sections[0].lines().collect();
     assert_eq!(head[1], "design,\"Thermostat \"\"status\"\" LED\"");
     assert_eq!(head[3], "rays,8192");
@@ -232,6 +232,53 @@ fn csv_has_a_header_block_then_the_budget_absolute_segment_and_mount_tables() {
     assert_eq!(contact.len(), 2);
     // The mount touches the third segment: 3, as the page numbers segments.
     assert!(contact[1].starts_with("\"snap clip\",3,"), "{}", contact[1]);
+    // The light turned back at the exit face: what reaches it and what it turns back (of the
+    // emitted light, and of the light reaching it), where that light ended, and by segment.
+    let t = &report.exit_turn_back;
+    let pc = |x: f64| 100.0 * x;
+    let exit: Vec<&str> = sections[5].lines().collect();
+    assert_eq!(
+        exit[0],
+        "\"At the exit face\",% of emitted,± %,% of the light reaching it,± %"
+    );
+    assert_eq!(
+        exit[1],
+        format!(
+            "\"Reaches the exit face\",{},{},,",
+            pc(t.reached.share),
+            pc(t.reached.ci95)
+        )
+    );
+    let of = t.of_reaching.as_ref().unwrap();
+    assert_eq!(
+        exit[3],
+        format!(
+            "\"Turned back by total reflection\",{},{},{},{}",
+            pc(t.by_total_reflection.share),
+            pc(t.by_total_reflection.ci95),
+            pc(of.by_total_reflection.share),
+            pc(of.by_total_reflection.ci95)
+        )
+    );
+    assert_eq!(exit.len(), 5);
+    let ended: Vec<&str> = sections[6].lines().collect();
+    assert_eq!(
+        ended[3],
+        format!(
+            "\"Leaks out of the side walls\",{},{}",
+            pc(t.ended.leaked.share),
+            pc(t.ended.leaked.ci95)
+        )
+    );
+    assert_eq!(ended.len(), 7);
+    let by_segment: Vec<&str> = sections[7].lines().collect();
+    assert_eq!(by_segment[0], "segment,leaks after a turn back %,± %");
+    let bend = &report.segments[1].leaked_after_turn_back;
+    assert_eq!(
+        by_segment[2],
+        format!("2,{},{}", pc(bend.share), pc(bend.ci95))
+    );
+    assert_eq!(by_segment.len(), 1 + report.segments.len());
 }
 
 /// The command line's `--csv` prints exactly the core's CSV, both for the report traced here
@@ -499,7 +546,8 @@ fn csv_names_that_look_like_formulas_stay_text() {
     let contact = csv
         .trim_end()
         .split("\n\n")
-        .last()
+        // Header, budget, absolute figures, segments, then the mounts.
+        .nth(4)
         .unwrap()
         .lines()
         .nth(1)

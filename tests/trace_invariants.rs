@@ -142,6 +142,79 @@ fn budget_sums_to_one_and_shares_are_shares() {
         if s.guide.attenuation_db_per_m == 0.0 {
             assert_eq!(b.absorbed.share, 0.0);
         }
+        turn_back_is_a_breakdown_of_the_budget(&r, case);
+    }
+}
+
+/// The light turned back at the exit face is a breakdown of the budget: the two mechanisms sum
+/// to the turned-back share, where it ended sums to it too (to rounding), each of its ends is
+/// part of the budget's share of the same name, and its leakage by segment sums to its leakage.
+fn turn_back_is_a_breakdown_of_the_budget(r: &tirtrace::trace::TraceReport, case: usize) {
+    let t = &r.exit_turn_back;
+    let b = &r.budget;
+    let close = |a: f64, b: f64| (a - b).abs() < 1e-12;
+    assert!(
+        close(
+            t.by_total_reflection.share + t.by_fresnel.share,
+            t.turned_back.share
+        ),
+        "case {case}: {t:?}"
+    );
+    let e = &t.ended;
+    let ended = e.delivered_later.share
+        + e.returned.share
+        + e.leaked.share
+        + e.contact.share
+        + e.absorbed.share
+        + e.stopped.share;
+    assert!(
+        close(ended, t.turned_back.share),
+        "case {case}: ends sum to {ended}, turned back {}",
+        t.turned_back.share
+    );
+    for (name, part, whole) in [
+        ("delivered", e.delivered_later, b.delivered),
+        ("returned", e.returned, b.returned),
+        ("leaked", e.leaked, b.leaked),
+        ("contact", e.contact, b.contact),
+        ("absorbed", e.absorbed, b.absorbed),
+        ("stopped", e.stopped, b.stopped),
+    ] {
+        assert!(
+            part.share >= 0.0 && part.share <= whole.share + 1e-12 && part.ci95.is_finite(),
+            "case {case}: {name} after a turn back {part:?}, in all {whole:?}"
+        );
+    }
+    let by_segment: f64 = r
+        .segments
+        .iter()
+        .map(|s| {
+            assert!(s.leaked_after_turn_back.share <= s.leaked.share + 1e-15);
+            s.leaked_after_turn_back.share
+        })
+        .sum();
+    assert!(close(by_segment, e.leaked.share), "case {case}");
+    // What reaches the exit face is delivered there or turned back, so the turned-back share
+    // plus what is delivered on the first arrival is what reaches it.
+    let first_delivered = b.delivered.share - e.delivered_later.share;
+    assert!(
+        close(first_delivered + t.turned_back.share, t.reached.share),
+        "case {case}: {t:?}"
+    );
+    match &t.of_reaching {
+        Some(of) => {
+            for x in [of.turned_back, of.by_total_reflection, of.by_fresnel] {
+                assert!(
+                    (0.0..=1.0 + 1e-12).contains(&x.share) && x.ci95.is_finite(),
+                    "case {case}: {of:?}"
+                );
+            }
+            assert!(close(
+                of.turned_back.share * t.reached.share,
+                t.turned_back.share
+            ));
+        }
+        None => assert_eq!(t.reached.share, 0.0, "case {case}"),
     }
 }
 

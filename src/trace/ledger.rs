@@ -5,7 +5,10 @@
 //! The layout (kept as it is: batches sent between workers carry the columns in this order):
 //! the fixed fates (delivered, missed entry, reflected at the entry, returned, stopped), the
 //! three totals (leaked, absorbed, lost to contacts), then leaked per segment, absorbed per
-//! segment and lost per contact zone.
+//! segment and lost per contact zone — the partition of the emitted power — and after them the
+//! turn-back columns: what reaches the exit face, what it turns back (by total reflection or by
+//! Fresnel reflection) and what becomes of the light it turned back, in total and leaked per
+//! segment. The turn-back columns repeat light of the partition, so they are outside it.
 
 use std::ops::Range;
 
@@ -23,6 +26,30 @@ const TOTAL_CONTACT: usize = 7;
 /// Columns before the per-segment ones.
 const FIXED: usize = 8;
 
+/// The turn-back columns, counted from the end of the partition (see [`Ledger::turn_back`]).
+/// Weight on first reaching the exit face (each ray reaches it once at most in this column).
+const REACHED_EXIT: usize = 0;
+/// Weight turned back at the exit face on first reaching it, by either mechanism.
+const TURNED_BACK: usize = 1;
+/// … by total internal reflection.
+const TURNED_BACK_TIR: usize = 2;
+/// … by Fresnel reflection (below the critical angle).
+const TURNED_BACK_FRESNEL: usize = 3;
+/// What became of the turned-back weight: delivered on a later pass,
+const AFTER_DELIVERED: usize = 4;
+/// back out of the entry face,
+const AFTER_RETURNED: usize = 5;
+/// leaked through any side wall,
+const AFTER_LEAKED: usize = 6;
+/// lost into any contact zone,
+const AFTER_CONTACT: usize = 7;
+/// absorbed after the turn,
+const AFTER_ABSORBED: usize = 8;
+/// stopped by the interaction cap.
+const AFTER_STOPPED: usize = 9;
+/// Turn-back columns before the per-segment leaks after a turn back.
+const TURN_FIXED: usize = 10;
+
 /// The tally columns of one scenario (its segment and contact-zone counts fix the layout).
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub(crate) struct Ledger {
@@ -38,7 +65,13 @@ impl Ledger {
 
     /// Number of columns.
     pub(crate) fn len(self) -> usize {
-        FIXED + 2 * self.segments + self.zones
+        self.turn_back(TURN_FIXED) + self.segments
+    }
+
+    /// Turn-back column `k` (one of the `REACHED_EXIT` … constants): after the partition.
+    #[inline]
+    fn turn_back(self, k: usize) -> usize {
+        FIXED + 2 * self.segments + self.zones + k
     }
 
     /// Left through the exit face.
@@ -102,6 +135,63 @@ impl Ledger {
         FIXED + 2 * self.segments + zone
     }
 
+    /// Weight on first reaching the exit face.
+    pub(crate) fn reached_exit(self) -> usize {
+        self.turn_back(REACHED_EXIT)
+    }
+
+    /// Weight turned back at the exit face on first reaching it (total or Fresnel reflection).
+    pub(crate) fn turned_back(self) -> usize {
+        self.turn_back(TURNED_BACK)
+    }
+
+    /// Weight turned back at the exit face on first reaching it by total internal reflection.
+    pub(crate) fn turned_back_tir(self) -> usize {
+        self.turn_back(TURNED_BACK_TIR)
+    }
+
+    /// Weight turned back at the exit face on first reaching it by Fresnel reflection.
+    pub(crate) fn turned_back_fresnel(self) -> usize {
+        self.turn_back(TURNED_BACK_FRESNEL)
+    }
+
+    /// Of the turned-back weight: delivered through the exit face on a later pass.
+    pub(crate) fn after_delivered(self) -> usize {
+        self.turn_back(AFTER_DELIVERED)
+    }
+
+    /// Of the turned-back weight: left back through the entry face.
+    pub(crate) fn after_returned(self) -> usize {
+        self.turn_back(AFTER_RETURNED)
+    }
+
+    /// Of the turned-back weight: leaked through any side wall.
+    pub(crate) fn after_leaked_total(self) -> usize {
+        self.turn_back(AFTER_LEAKED)
+    }
+
+    /// Of the turned-back weight: lost into any contact zone.
+    pub(crate) fn after_contact(self) -> usize {
+        self.turn_back(AFTER_CONTACT)
+    }
+
+    /// Of the turned-back weight: absorbed after the turn.
+    pub(crate) fn after_absorbed(self) -> usize {
+        self.turn_back(AFTER_ABSORBED)
+    }
+
+    /// Of the turned-back weight: stopped by the interaction cap.
+    pub(crate) fn after_stopped(self) -> usize {
+        self.turn_back(AFTER_STOPPED)
+    }
+
+    /// Of the turned-back weight: leaked through the side walls of `segment`.
+    #[inline]
+    pub(crate) fn after_leaked(self, segment: usize) -> usize {
+        debug_assert!(segment < self.segments);
+        self.turn_back(TURN_FIXED) + segment
+    }
+
     fn leaked_columns(self) -> Range<usize> {
         FIXED..FIXED + self.segments
     }
@@ -111,23 +201,29 @@ impl Ledger {
     }
 
     fn contact_columns(self) -> Range<usize> {
-        FIXED + 2 * self.segments..self.len()
+        FIXED + 2 * self.segments..self.turn_back(0)
     }
 
-    /// Fill the three totals of one ray's contributions (one value per column) from its
-    /// per-segment and per-zone columns.
+    fn after_leaked_columns(self) -> Range<usize> {
+        self.turn_back(TURN_FIXED)..self.len()
+    }
+
+    /// Fill the four totals of one ray's contributions (one value per column) from its
+    /// per-segment and per-zone columns: leaked, absorbed, lost to contacts, and leaked after a
+    /// turn back at the exit face.
     #[inline]
     pub(crate) fn fill_totals(self, ray: &mut [f64]) {
         ray[TOTAL_LEAKED] = ray[self.leaked_columns()].iter().sum();
         ray[TOTAL_ABSORBED] = ray[self.absorbed_columns()].iter().sum();
         ray[TOTAL_CONTACT] = ray[self.contact_columns()].iter().sum();
+        ray[self.after_leaked_total()] = ray[self.after_leaked_columns()].iter().sum();
     }
 
     /// Whether `column` belongs to the partition of the emitted power (every fate and absorption
-    /// by segment, so that the partition sums to one), rather than being a total that repeats
-    /// other columns.
+    /// by segment, so that the partition sums to one), rather than being a total or a turn-back
+    /// column that repeats other columns.
     pub(crate) fn in_partition(self, column: usize) -> bool {
-        !(TOTAL_LEAKED..FIXED).contains(&column)
+        !(TOTAL_LEAKED..FIXED).contains(&column) && column < self.turn_back(0)
     }
 }
 
@@ -152,11 +248,30 @@ mod tests {
         named.extend((0..2).map(|s| l.leaked(s)));
         named.extend((0..2).map(|s| l.absorbed(s)));
         named.extend((0..3).map(|z| l.contact(z)));
+        let partition_end = named.len();
+        let turn_back = [
+            l.reached_exit(),
+            l.turned_back(),
+            l.turned_back_tir(),
+            l.turned_back_fresnel(),
+            l.after_delivered(),
+            l.after_returned(),
+            l.after_leaked_total(),
+            l.after_contact(),
+            l.after_absorbed(),
+            l.after_stopped(),
+            l.after_leaked(0),
+            l.after_leaked(1),
+        ];
+        named.extend(turn_back);
         named.sort_unstable();
         assert_eq!(named, (0..l.len()).collect::<Vec<_>>());
+        // The turn-back columns come after every column of the partition (whose layout is kept).
+        assert_eq!(turn_back.iter().min(), Some(&partition_end));
         let totals = [l.total_leaked(), l.total_absorbed(), l.total_contact()];
         for c in 0..l.len() {
-            assert_eq!(l.in_partition(c), !totals.contains(&c), "column {c}");
+            let repeats = totals.contains(&c) || turn_back.contains(&c);
+            assert_eq!(l.in_partition(c), !repeats, "column {c}");
         }
     }
 
@@ -168,9 +283,11 @@ mod tests {
         ray[l.absorbed(0)] = 0.125;
         ray[l.absorbed(1)] = 0.5;
         ray[l.contact(0)] = 2.0;
+        ray[l.after_leaked(1)] = 0.0625;
         l.fill_totals(&mut ray);
         assert_eq!(ray[l.total_leaked()], 0.25);
         assert_eq!(ray[l.total_absorbed()], 0.625);
         assert_eq!(ray[l.total_contact()], 2.0);
+        assert_eq!(ray[l.after_leaked_total()], 0.0625);
     }
 }

@@ -5,9 +5,11 @@
 //! with exact wall intersections. At a side wall above the critical angle it is totally
 //! reflected; below it, it is reflected with the Fresnel probability R or else leaves (leaked, or
 //! lost into a contact zone). Bulk absorption (Beer–Lambert, P = P₀ e^(−αL)) lowers the weight
-//! continuously and is tallied by segment. At the exit face the ray is Fresnel-reflected back or
-//! delivered; rays reaching the entry face from inside may leave it (returned). Polarisation is
-//! not carried: every Fresnel decision uses the unpolarised reflectance.
+//! continuously and is tallied by segment. At the exit face the ray is turned back (totally
+//! reflected beyond the critical angle, else Fresnel-reflected) or delivered; what the exit face
+//! turns back on a ray's first arrival, and what becomes of it, is tallied apart as well
+//! ([`ExitTurnBack`]); rays reaching the entry face from inside may leave it (returned).
+//! Polarisation is not carried: every Fresnel decision uses the unpolarised reflectance.
 //!
 //! Work is split into fixed batches of [`BATCH_RAYS`] rays; each ray draws from its own
 //! generator seeded from (seed, batch index, ray index), so that two scenarios traced with the
@@ -34,8 +36,9 @@ use ledger::Ledger;
 pub(crate) use names::Named;
 pub use names::{FluxUnit, IntensityUnit};
 pub use report::{
-    peak_windows, Absolute, AngularMap, Budget, ContactReport, ExitMap, Intensity, IntensityWindow,
-    RouteProfile, SegmentReport, TraceReport, Value, AXIS_CONE_HALF_ANGLE_DEG,
+    peak_windows, Absolute, AngularMap, Budget, ContactReport, ExitMap, ExitTurnBack, Intensity,
+    IntensityWindow, RouteProfile, SegmentReport, TraceReport, TurnBackEnds, TurnBackFractions,
+    Value, AXIS_CONE_HALF_ANGLE_DEG,
 };
 use walk::{KeptPath, Watch};
 

@@ -54,6 +54,7 @@ impl Prepared {
                 start_mm: p.s_start_mm,
                 length_mm: p.length_mm,
                 leaked: share(ledger.leaked(i)),
+                leaked_after_turn_back: share(ledger.after_leaked(i)),
                 absorbed: share(ledger.absorbed(i)),
                 wall_hits: batch.wall_hits[i],
             })
@@ -71,6 +72,31 @@ impl Prepared {
             })
             .collect();
         let intensity = Intensity::from_hist(&batch.angle_hist, batch.rays);
+        let exit_turn_back = {
+            let reached = &batch.tallies[ledger.reached_exit()];
+            let fraction = |j: usize| batch.tallies[j].fraction_of(reached);
+            ExitTurnBack {
+                reached: reached.share(),
+                turned_back: share(ledger.turned_back()),
+                by_total_reflection: share(ledger.turned_back_tir()),
+                by_fresnel: share(ledger.turned_back_fresnel()),
+                of_reaching: fraction(ledger.turned_back()).and_then(|turned_back| {
+                    Some(TurnBackFractions {
+                        turned_back,
+                        by_total_reflection: fraction(ledger.turned_back_tir())?,
+                        by_fresnel: fraction(ledger.turned_back_fresnel())?,
+                    })
+                }),
+                ended: TurnBackEnds {
+                    delivered_later: share(ledger.after_delivered()),
+                    returned: share(ledger.after_returned()),
+                    leaked: share(ledger.after_leaked_total()),
+                    contact: share(ledger.after_contact()),
+                    absorbed: share(ledger.after_absorbed()),
+                    stopped: share(ledger.after_stopped()),
+                },
+            }
+        };
         TraceReport {
             rays: batch.rays,
             seed: self.scenario.trace.seed,
@@ -81,6 +107,7 @@ impl Prepared {
             delivered: share(ledger.delivered()),
             budget,
             budget_sum,
+            exit_turn_back,
             segments,
             contacts,
             receiver: self.scenario.receiver.map(|_| batch.receiver.share()),
@@ -162,6 +189,66 @@ pub struct Budget {
     pub stopped: Share,
 }
 
+/// Light turned back into the guide at the exit face, and what became of it.
+///
+/// A ray reaching the exit face is turned back by total internal reflection beyond the critical
+/// angle against the exit medium, else by Fresnel reflection with probability R. Only a ray's
+/// first arrival at the exit face counts here: a turned-back ray that comes back to the face
+/// later is delivered or turned back again as the walk decides, and that is part of where the
+/// turned-back light ended. The light turned back goes back through the route the way it came:
+/// a bend that the closed form calls leak-free for the launch may leak it, since the rays come
+/// back steeper than the launch.
+///
+/// Every share is of the emitted power unless named a fraction, with its 95 % half-width. The
+/// budget ([`Budget`]) is the same with or without this breakdown: each share in `ended` is part
+/// of the budget's share of the same name, and `ended` sums to `turned_back` (to rounding).
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct ExitTurnBack {
+    /// Reaches the exit face (the weight on a ray's first arrival, after absorption on the way).
+    pub reached: Share,
+    /// Turned back into the guide there on its first arrival, by either mechanism.
+    pub turned_back: Share,
+    /// … by total internal reflection.
+    pub by_total_reflection: Share,
+    /// … by Fresnel reflection.
+    pub by_fresnel: Share,
+    /// The same as fractions of the light reaching the exit face; `None` when none reaches it.
+    pub of_reaching: Option<TurnBackFractions>,
+    /// Where the turned-back light ended.
+    pub ended: TurnBackEnds,
+}
+
+/// Turned back at the exit face, as fractions of the light reaching it
+/// ([`crate::stats::Estimate::fraction_of`]: ratio estimates with their 95 % half-widths).
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct TurnBackFractions {
+    /// By either mechanism.
+    pub turned_back: Share,
+    /// By total internal reflection.
+    pub by_total_reflection: Share,
+    /// By Fresnel reflection.
+    pub by_fresnel: Share,
+}
+
+/// Where the light turned back at the exit face ended, as shares of the emitted power; they
+/// sum to [`ExitTurnBack::turned_back`]. Leakage by segment is
+/// [`SegmentReport::leaked_after_turn_back`].
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct TurnBackEnds {
+    /// Delivered through the exit face on a later pass.
+    pub delivered_later: Share,
+    /// Back out of the entry face.
+    pub returned: Share,
+    /// Leaked through the side walls (all segments).
+    pub leaked: Share,
+    /// Lost into contact zones.
+    pub contact: Share,
+    /// Absorbed in the material after the turn.
+    pub absorbed: Share,
+    /// Stopped by the interaction cap.
+    pub stopped: Share,
+}
+
 /// Shares and 95 % half-widths of a histogram's bins over `rays` rays. Where there is no
 /// interval (fewer than two rays, see [`crate::stats`]) the half-width is written as 0, as the
 /// report always has: these lists are plain numbers in the report format.
@@ -184,6 +271,9 @@ pub struct SegmentReport {
     pub length_mm: f64,
     /// Share leaked through this segment's walls.
     pub leaked: Share,
+    /// Of `leaked`, the share that leaked after the exit face had turned it back
+    /// ([`ExitTurnBack`]).
+    pub leaked_after_turn_back: Share,
     /// Share absorbed in this segment.
     pub absorbed: Share,
     /// Wall hits counted in this segment.
@@ -485,6 +575,8 @@ pub struct TraceReport {
     pub budget: Budget,
     /// Sum of every tally's share (1 to rounding).
     pub budget_sum: f64,
+    /// Light turned back at the exit face and where it ended (a breakdown of the budget).
+    pub exit_turn_back: ExitTurnBack,
     /// Per-segment figures.
     pub segments: Vec<SegmentReport>,
     /// Per-contact figures.

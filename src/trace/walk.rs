@@ -11,7 +11,7 @@ use rand_pcg::Pcg64Mcg;
 
 use super::{Batch, Fate, Prepared, ANGLE_BINS, ANGULAR_CELLS, MAP_CELLS, ROUTE_BINS};
 use crate::geometry::{Next, Placed};
-use crate::interface::{fresnel_reflectance, reflect, refract};
+use crate::interface::{fresnel_amplitudes, fresnel_reflectance, reflect, refract};
 
 /// A uniform number in [0, 1) from the top 53 bits of the generator.
 #[inline]
@@ -91,6 +91,12 @@ struct Walk<'a> {
     trail: Trail<'a>,
     /// The segment whose entering weight is asked for, if any (only the design studies ask).
     watch: Option<&'a mut Watch>,
+    /// Whether the ray has reached the exit face yet.
+    reached_exit: bool,
+    /// The ray's weight when the exit face turned it back on its first arrival there, if it did:
+    /// from then on each of its losses and its fate are also tallied as what became of
+    /// turned-back light.
+    turned_back_w: Option<f64>,
 }
 
 /// A segment watched during one ray's walk: the ray's weight when it first enters it going
@@ -122,6 +128,8 @@ impl Prepared {
             out,
             trail: Trail(path),
             watch,
+            reached_exit: false,
+            turned_back_w: None,
         };
         let mut ray = match walk.launch() {
             Ok(ray) => ray,
@@ -264,6 +272,20 @@ impl Walk<'_> {
         fate
     }
 
+    /// A ray inside the guide ends with weight `w` (its absorption already tallied) in fate
+    /// column `column`. After a turn back at the exit face its weight also goes to `after`, the
+    /// same fate among what became of turned-back light, and the weight it lost since the turn
+    /// (w_turn − w, never below 0) to absorbed after the turn: the turn-back breakdown of each
+    /// ray sums to its turned-back weight.
+    #[inline]
+    fn end_inside(&mut self, column: usize, after: usize, w: f64) {
+        self.contrib[column] = w;
+        if let Some(w_turn) = self.turned_back_w {
+            self.contrib[after] = w;
+            self.contrib[self.p.ledger.after_absorbed()] = (w_turn - w).max(0.0);
+        }
+    }
+
     /// Apply the attenuation of the path in the current segment (Beer–Lambert, e^(−αL)) and
     /// tally what it takes as absorbed in that segment.
     #[inline]
@@ -282,7 +304,8 @@ impl Walk<'_> {
         self.absorb(ray);
         let o = ray.o;
         self.trail.push(|| placed.frame.point_to_global(o));
-        self.contrib[self.p.ledger.stopped()] = ray.w;
+        let ledger = self.p.ledger;
+        self.end_inside(ledger.stopped(), ledger.after_stopped(), ray.w);
         Step::End(Fate::Stopped, 0.0)
     }
 
@@ -332,13 +355,15 @@ impl Walk<'_> {
             let outside = refract(d, -normal, p.indices.n_core, n_out).unwrap_or(d);
             placed.frame.point_to_global(o + 0.5 * outside)
         });
+        let ledger = p.ledger;
         match zone {
             Some(z) => {
-                self.contrib[p.ledger.contact(z)] = ray.w;
+                self.end_inside(ledger.contact(z), ledger.after_contact(), ray.w);
                 Step::End(Fate::Contact, 0.0)
             }
             None => {
-                self.contrib[p.ledger.leaked(ray.seg)] = ray.w;
+                let seg = ray.seg;
+                self.end_inside(ledger.leaked(seg), ledger.after_leaked(seg), ray.w);
                 Step::End(Fate::Leaked, 0.0)
             }
         }
@@ -363,8 +388,11 @@ impl Walk<'_> {
         Step::Continue
     }
 
-    /// The exit face, in the exit frame: Fresnel reflection back into the guide, or delivered
-    /// (refracted into the exit medium, tallied on the maps and the receiver).
+    /// The exit face, in the exit frame: turned back into the guide (by total internal
+    /// reflection beyond the critical angle, else by Fresnel reflection with probability R), or
+    /// delivered (refracted into the exit medium, tallied on the maps and the receiver). On the
+    /// ray's first arrival its weight there is tallied as reaching the exit face, and as turned
+    /// back by the one mechanism or the other when it is.
     fn exit_face(&mut self, ray: &mut Ray, placed: &Placed) -> Step {
         let p = self.p;
         let ix = &p.indices;
@@ -375,7 +403,23 @@ impl Walk<'_> {
         let q = ef.point_to_local(g);
         let ld = ef.dir_to_local(gd);
         let cos_i = ld.z.clamp(0.0, 1.0);
+        let first_w = (!self.reached_exit).then(|| self.weight_reaching_exit(ray));
+        self.reached_exit = true;
         if uniform(self.rng) < fresnel_reflectance(cos_i, ix.n_core, ix.n_exit) {
+            if let Some(w) = first_w {
+                // Total internal reflection exactly where the Fresnel amplitudes have no
+                // transmitted wave (R = 1), else a Fresnel reflection.
+                let tir = fresnel_amplitudes(cos_i, ix.n_core, ix.n_exit).is_none();
+                let ledger = p.ledger;
+                let by = if tir {
+                    ledger.turned_back_tir()
+                } else {
+                    ledger.turned_back_fresnel()
+                };
+                self.contrib[ledger.turned_back()] = w;
+                self.contrib[by] = w;
+                self.turned_back_w = Some(w);
+            }
             ray.d = placed
                 .frame
                 .dir_to_local(ef.dir_to_global(reflect(ld, DVec3::Z)));
@@ -385,9 +429,24 @@ impl Walk<'_> {
         self.trail
             .push(|| g + ef.dir_to_global(od) * p.exit_half.0.max(p.exit_half.1));
         self.absorb(ray);
-        self.contrib[p.ledger.delivered()] = ray.w;
+        let ledger = p.ledger;
+        self.end_inside(ledger.delivered(), ledger.after_delivered(), ray.w);
         self.record_delivery(q, od, ray.w);
         Step::End(Fate::Delivered, p.on_receiver(q, od, ray.w))
+    }
+
+    /// The ray's weight as it reaches the exit face for the first time, tallied as reaching it:
+    /// its weight with the attenuation of the path not yet applied (Beer–Lambert, as
+    /// [`Walk::absorb`] computes it, without applying it: the walk's figures stay as they are).
+    fn weight_reaching_exit(&mut self, ray: &Ray) -> f64 {
+        let alpha_per_mm = self.p.alpha_per_mm;
+        let w = if alpha_per_mm > 0.0 && ray.unabsorbed_mm > 0.0 {
+            ray.w * libm::exp(-alpha_per_mm * ray.unabsorbed_mm)
+        } else {
+            ray.w
+        };
+        self.contrib[self.p.ledger.reached_exit()] = w;
+        w
     }
 
     /// The entry face met from inside: Fresnel reflection back into the guide, or the ray
@@ -407,7 +466,8 @@ impl Walk<'_> {
             g + od
         });
         self.absorb(ray);
-        self.contrib[self.p.ledger.returned()] = ray.w;
+        let ledger = self.p.ledger;
+        self.end_inside(ledger.returned(), ledger.after_returned(), ray.w);
         Step::End(Fate::Returned, 0.0)
     }
 

@@ -178,7 +178,7 @@ struct TraceArgs {
     )]
     paths: Option<String>,
     /// Print CSV instead: the budget (mechanism, share, ci95), then the per-segment table, then
-    /// the contacts.
+    /// the contacts, then the light turned back at the exit face and where it ended.
     #[arg(long)]
     csv: bool,
 }

@@ -1,6 +1,7 @@
 // Shows a trace report and the closed-form figures: the delivered share with its 95 % figure,
-// the loss budget by mechanism and by segment, the bend table, the detector's share and the
-// absolute figures. Text only through textContent (names from files are never HTML).
+// the loss budget by mechanism and by segment, the light turned back at the exit face and where
+// it ended, the bend table, the detector's share and the absolute figures. Text only through
+// textContent (names from files are never HTML).
 
 import { $, h } from '../dom.js';
 import { formatCount, formatFixed, formatHalfWidth, formatQuantity, formatShare, formatShareCi, orDash } from '../format.js';
@@ -129,6 +130,7 @@ export function showReport(report, figures, scenario) {
     }),
   );
 
+  showTurnBack(report);
   showBends(figures, report);
 }
 
@@ -195,11 +197,62 @@ function quickLink(segment) {
     : null;
 }
 
+/**
+ * Light turned back at the exit face (report.exit_turn_back): how much of the light reaching the
+ * face (by total reflection and by Fresnel reflection) and of the emitted light, and where it
+ * ended, each share of the emitted light with its 95 % interval. A breakdown of the budget above:
+ * every row is part of the budget's row of the same kind.
+ */
+export function showTurnBack(report) {
+  const t = report?.exit_turn_back;
+  const box = $('turn-back');
+  box.hidden = !t;
+  if (!t) return;
+  // A figure and its interval never break across lines.
+  const ci = (s) => formatShareCi(s.share, s.ci95).replaceAll(' ', '\u00a0');
+  const of = t.of_reaching;
+  let summary;
+  if (!of) summary = 'No light reaches the exit face.';
+  else if (t.turned_back.share === 0) summary = 'Nothing is turned back at the exit face: the medium beyond it has the index of the pipe.';
+  else {
+    summary = `Turned back at the exit face: ${ci(of.turned_back)} of the light reaching it (by total reflection ${ci(of.by_total_reflection)}, `
+      + `by Fresnel reflection ${ci(of.by_fresnel)}), that is ${ci(t.turned_back)} of the emitted light.`;
+  }
+  $('turn-back-summary').textContent = summary;
+  box.dataset.share = String(of?.turned_back.share ?? 0);
+  const e = t.ended;
+  const rows = [['delivered_later', 'Reaches the window on a later pass', e.delivered_later]];
+  for (const s of report.segments) {
+    rows.push([`leaked-${s.index}`, `Leaks out of segment ${s.index + 1} · ${KIND_NAMES[s.kind] || s.kind}`, s.leaked_after_turn_back]);
+  }
+  rows.push(['contact', 'Lost into mounts touching the pipe', e.contact], ['returned', 'Comes back out of the entry face', e.returned],
+    ['absorbed', 'Absorbed in the material', e.absorbed], ['stopped', 'Stopped by the wall-hit limit', e.stopped]);
+  const shown = rows.filter(([, , s]) => s.share > 0);
+  $('turn-back-rows').replaceChildren(
+    ...shown.map(([key, label, s]) =>
+      h('tr', { dataset: { end: key } },
+        h('th', { scope: 'row', text: label }),
+        h('td', { class: 'num', text: formatShare(s.share, s.ci95) }),
+        h('td', { class: 'num ci', text: `± ${formatHalfWidth(s.ci95)}` }))),
+  );
+  $('turn-back-ends').hidden = shown.length === 0;
+  $('turn-back-note').hidden = shown.length === 0;
+}
+
+/** The part of a bend's traced leak that leaked after a turn back at the exit face, in words. */
+function afterTurnBackText(seg) {
+  const part = seg?.leaked_after_turn_back;
+  if (!part || !(part.share > 0)) return '';
+  if (part.share === seg.leaked.share) return 'All of it after a turn back at the exit face';
+  return `Of which ${formatShareCi(part.share, part.ci95)} after a turn back at the exit face`;
+}
+
 /** The per-bend table: closed-form leak-free radius for this launch, and the traced leakage. */
 export function showBends(figures, report) {
   const rows = (figures?.bends || []).map((bf) => {
     const seg = report?.segments?.[bf.segment];
     const leaked = seg ? formatShareCi(seg.leaked.share, seg.leaked.ci95) : '…';
+    const after = afterTurnBackText(seg);
     const ok = bf.verdict === 'ok';
     return h('tr', { dataset: { segment: String(bf.segment), verdict: bf.verdict } },
       h('th', { scope: 'row', text: `${bf.segment + 1}` }),
@@ -208,7 +261,7 @@ export function showBends(figures, report) {
       h('td', { class: 'num', text: length(bf.inner_radius_mm, 2) }),
       h('td', { class: 'num', text: fixed(bf.inner_radius_over_size, 2) }),
       h('td', { class: 'num', text: bf.leak_free_inner_radius_mm == null ? 'none exists' : length(bf.leak_free_inner_radius_mm, 2) }),
-      h('td', { class: 'num', text: leaked }),
+      h('td', { class: 'num bend-leak' }, leaked, ...(after ? [h('span', { class: 'turn-back-part', text: after })] : [])),
       h('td', {},
         h('span', { class: `mark mark-${ok ? 'ok' : 'leaks'}`, text: ok ? 'No leak expected' : 'Leaks', title: sentence(bf.note) }),
         quickLink(bf.segment)));

@@ -38,9 +38,10 @@ pub const MECHANISMS: [(&str, &str); 8] = [
     ("stopped", "Stopped by the wall-hit limit"),
 ];
 
-/// A share as a percentage for the CSV (shortest form of 100 × share).
-fn percent(x: f64) -> f64 {
-    csv_num(100.0 * x)
+/// A share as a percentage for the CSV, to 10⁻⁹ % (far below any interval), so that 100 × 0.0637
+/// reads 6.37, not 6.369999999999999.
+pub fn percent(x: f64) -> f64 {
+    csv_num(libm::round(x * 1e11) / 1e9)
 }
 
 /// The report as CSV, in sections a spreadsheet shows as they are read, separated by a blank
@@ -267,4 +268,18 @@ pub(crate) fn read_name<'de, D: Deserializer<'de>, T: Named>(d: D) -> Result<T, 
 /// half-width of a one-ray estimate as `null`, so `null` reads back as +∞.
 pub(crate) fn ci95_or_infinite<'de, D: Deserializer<'de>>(d: D) -> Result<f64, D::Error> {
     Ok(Option::<f64>::deserialize(d)?.unwrap_or(f64::INFINITY))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::percent;
+
+    #[test]
+    fn percentages_read_as_written() {
+        assert_eq!(percent(0.0637), 6.37);
+        assert_eq!(percent(0.7156), 71.56);
+        assert_eq!(percent(1.0), 100.0);
+        assert_eq!(percent(-0.0), 0.0);
+        assert_eq!(percent(1.2345678901234e-3), 0.123456789);
+    }
 }

@@ -371,7 +371,7 @@ fn csv_rows_parse_and_the_budget_sums_to_one() {
             assert!((0.0..=100.0).contains(&percent) && ci >= 0.0, "{row:?}");
             // The same figures as the JSON report, as percentages.
             let share = f(&json["budget"][key]["share"]);
-            assert!((percent - 100.0 * share).abs() <= 1e-12, "{row:?}");
+            assert_eq!(percent, tirtrace::export::percent(share), "{row:?}");
             sum += share;
         }
         assert!((sum - 1.0).abs() <= 1e-9, "{path}: shares sum to {sum}");
@@ -454,7 +454,7 @@ fn csv_rows_parse_and_the_budget_sums_to_one() {
             ),
         ];
         assert_eq!(exit.len(), 1 + names.len());
-        let pc = |x: f64| 100.0 * x;
+        let pc = tirtrace::export::percent;
         for (row, (name, key, of)) in exit[1..].iter().zip(names) {
             assert_eq!(row[0], name);
             assert_eq!(row[1].parse::<f64>().unwrap(), pc(f(&turn[key]["share"])));

@@ -221,8 +221,8 @@ fn csv_has_a_header_block_then_the_budget_absolute_segment_and_mount_tables() {
     let abs = report.absolute.as_ref().unwrap();
     assert!(budget[1].starts_with(&format!(
         "\"Reaches the window (exit face)\",{},{},",
-        100.0 * d.share,
-        100.0 * d.ci95
+        tirtrace::export::percent(d.share),
+        tirtrace::export::percent(d.ci95)
     )));
     let delivered_flux: f64 = budget[1].split(',').nth(3).unwrap().parse().unwrap();
     assert!((delivered_flux - abs.delivered.value).abs() <= 1e-12 * abs.delivered.value);
@@ -235,7 +235,7 @@ fn csv_has_a_header_block_then_the_budget_absolute_segment_and_mount_tables() {
     // The light turned back at the exit face: what reaches it and what it turns back (of the
     // emitted light, and of the light reaching it), where that light ended, and by segment.
     let t = &report.exit_turn_back;
-    let pc = |x: f64| 100.0 * x;
+    let pc = tirtrace::export::percent;
     let exit: Vec<&str> = sections[5].lines().collect();
     assert_eq!(
         exit[0],

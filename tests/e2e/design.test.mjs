@@ -350,7 +350,7 @@ describe('the design page in Chromium', { concurrency: false }, () => {
     const shown = (await answer(page)).share;
     const inCsv = Number(sections[1].split('\n')[1].split(',')[1]);
     assert.ok(Math.abs(inCsv - 100 * shown) < 0.01, `${inCsv} vs ${100 * shown}`);
-    assert.match(sections.at(-1), /^mount,on segment,lost %,± %\n"snap clip",3,/);
+    assert.ok(sections.some((sec) => /^mount,on segment,lost %,± %\n"snap clip",3,/.test(sec)), 'the mounts, numbered from 1');
     // The PNG: the chart with a caption strip under it.
     const [png] = await Promise.all([page.waitForEvent('download'), page.click('button.png[data-canvas="exit-map"]')]);
     const file = join(OUT, 'design-exit-map-saved.png');

@@ -129,8 +129,8 @@ describe('light turned back at the exit face, on the design page', { concurrency
     } finally {
       rmSync(file, { force: true });
     }
-    assert.match(text, /\nexit_face,share,ci95,of_reaching,of_reaching_ci95\nreached,/);
-    assert.match(text, /\nafter_turn_back,share,ci95\ndelivered_later,/);
+    assert.match(text, /\n"At the exit face",% of emitted,± %,% of the light reaching it,± %\n"Reaches the exit face",/);
+    assert.match(text, /\n"Where the turned-back light ended \(already counted above\)",% of emitted,± %\n"Through the window on a later pass",/);
   });
 
   test('a widening exit taper turns less back; a matched exit turns nothing back', async () => {

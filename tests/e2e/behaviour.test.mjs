@@ -316,12 +316,12 @@ describe('the design page keeps, shares and starts designs', { concurrency: fals
       }
       // A value typed by the designer stays when the material changes, and the hint says so.
       await tracedAfter(page, () => page.fill(field, '0.7'));
-      await page.waitForFunction((id) => /your own/i.test(document.getElementById(id).textContent), hint.slice(1));
+      await page.waitForFunction((id) => /your own value/i.test(document.getElementById(id).textContent), hint.slice(1));
       await tracedAfter(page, () => page.selectOption('#f-guide-material', 'polystyrene'));
       assert.equal(await attenuation(), 0.7);
       assert.equal(await page.inputValue(field), '0.7');
       const own = await page.locator(hint).innerText();
-      assert.match(own, /your own/i, own);
+      assert.match(own, /your own value/i, own);
       assert.ok(own.includes(String(typical('polystyrene'))), `the hint gives the material's typical value: ${own}`);
       await page.locator('.part-pipe, #editor').first().screenshot({ path: join(OUT, 'behaviour-attenuation-1280x800.png') });
       // A custom index has no typical value: the number stays.

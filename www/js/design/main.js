@@ -91,6 +91,7 @@ function update() {
   page.find?.designChanged();
   page.tolerances?.designChanged();
   $('design-name').textContent = state.scenario.name || 'Untitled design';
+  page.editor.showAttenuationHint();
   let problems;
   try {
     problems = problemsOf(state);

@@ -16,7 +16,8 @@ export const STARTER = Object.freeze({
     section: { round: { diameter_mm: 3 } },
     material: { library: 'pmma' },
     surroundings: { library: 'air' },
-    attenuation_db_per_m: 0.5,
+    // Acrylic's typical attenuation in the core's material library: the field follows the material.
+    attenuation_db_per_m: 0.3,
   },
   route: [
     { straight: { length_mm: 5 } },

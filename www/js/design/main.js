@@ -65,8 +65,14 @@ const page = {
   report: null,
   /** The scenario the shown report belongs to. */
   reportScenario: null,
+  /** The last scenario without problems (its results are shown, stale, while an entry needs fixing). */
+  lastComplete: null,
+  /** The trace running or last run: { id, stale } (stale: of the last complete design). */
+  job: null,
   timer: 0,
 };
+
+const needFixing = (n) => `${n} ${n === 1 ? 'entry needs' : 'entries need'} fixing`;
 
 // ------------------------------------------------------------ checking and tracing
 
@@ -86,49 +92,75 @@ function showLoose(problems) {
 
 function update() {
   const { state } = page;
-  saveState(state);
   page.study?.designChanged();
   page.find?.designChanged();
   page.tolerances?.designChanged();
   $('design-name').textContent = state.scenario.name || 'Untitled design';
-  page.editor.showAttenuationHint();
   let problems;
   try {
     problems = problemsOf(state);
   } catch (e) {
     problems = [{ field: 'design', message: `The design could not be checked: ${messageOf(e)}` }];
   }
+  // While an entry needs fixing, the last complete design is kept beside it, so that a reload
+  // shows its results again (as they stay shown while editing).
+  if (problems.length) {
+    if (page.lastComplete) state.lastComplete = page.lastComplete;
+  } else {
+    page.lastComplete = clone(state.scenario);
+    delete state.lastComplete;
+  }
+  saveState(state);
+  page.editor.showAttenuationHint();
   showLoose(page.editor.showProblems(problems));
   document.body.dataset.problems = String(problems.length);
   if (problems.length) {
-    $('stale-note').hidden = !page.report;
-    page.pool.cancel();
-    setStatus(`${problems.length} ${problems.length === 1 ? 'entry needs' : 'entries need'} fixing`, 'error');
+    setStatus(needFixing(problems.length), 'error');
+    if (!page.report && page.lastComplete && !page.job?.stale) {
+      // Nothing shown yet (the page has just opened): trace the last complete design again
+      // (the same seed gives the same results).
+      trace(page.lastComplete, { stale: true });
+    } else if (!page.job?.stale) {
+      page.pool.cancel();
+    }
+    $('stale-note').hidden = !page.report && !page.job?.stale;
     return;
   }
   $('stale-note').hidden = true;
-  const json = JSON.stringify(state.scenario);
+  if (trace(state.scenario, { stale: false })) setStatus('Tracing…');
+}
+
+/**
+ * Draw and trace `scenario`: its closed-form figures, its route and a trace in the workers.
+ * `stale`: it is the last complete design, shown while the one in the form needs fixing.
+ * Returns false when it could not be drawn (the status line says why).
+ */
+function trace(scenario, { stale }) {
+  const json = JSON.stringify(scenario);
   try {
     page.figures = core.closed_form(json);
     showFigures(page.figures);
     showBends(page.figures, null);
-    const material = page.editor.root.querySelector('#f-guide-material-hint');
-    page.editor.materialHint = `n = ${formatIndex(page.figures.n_core)} at ${page.figures.wavelength_nm} nm (relative to air)`;
-    if (material) material.textContent = page.editor.materialHint;
+    if (!stale) {
+      const material = page.editor.root.querySelector('#f-guide-material-hint');
+      page.editor.materialHint = `n = ${formatIndex(page.figures.n_core)} at ${page.figures.wavelength_nm} nm (relative to air)`;
+      if (material) material.textContent = page.editor.materialHint;
+    }
     const outline = core.route_outline(json);
-    if (outline.receiver) outline.receiver.round = state.scenario.receiver?.diameter_mm != null;
+    if (outline.receiver) outline.receiver.round = scenario.receiver?.diameter_mm != null;
     page.view.setOutline(outline);
   } catch (e) {
     setStatus(`Could not draw the design: ${messageOf(e)}`, 'error');
-    return;
+    return false;
   }
-  page.pendingScenario = clone(state.scenario);
+  page.pendingScenario = clone(scenario);
   const job = page.pool.start(json, { keepPaths: KEEP_PATHS });
+  page.job = { id: job, stale };
   document.body.dataset.job = String(job);
   // The progress line follows the new trace at once, not when its first answer comes (a slow
   // first batch would leave the last trace's line, and its Stop button off, for seconds).
-  showProgress({ job, raysDone: 0, raysTotal: state.scenario.trace?.rays ?? 0, done: false, cancelled: false, error: null });
-  setStatus('Tracing…');
+  showProgress({ job, raysDone: 0, raysTotal: scenario.trace?.rays ?? 0, done: false, cancelled: false, error: null });
+  return true;
 }
 
 function scheduleUpdate() {
@@ -156,7 +188,10 @@ function onTraceUpdate(u) {
   if (u.cancelled) {
     setStatus('Stopped', 'ok');
   } else if (u.done) {
-    setStatus(`Traced ${formatCount(u.raysTotal)} rays`, 'ok');
+    const problems = Number(document.body.dataset.problems || 0);
+    // The last complete design's trace, while an entry needs fixing: the status keeps saying so.
+    if (page.job?.id === u.job && page.job.stale && problems) setStatus(needFixing(problems), 'error');
+    else setStatus(`Traced ${formatCount(u.raysTotal)} rays`, 'ok');
     document.body.dataset.traced = String(u.job);
   }
 }
@@ -221,7 +256,7 @@ function drawLegend(report) {
 
 /** Load another design (example, file, link), keeping the current one to go back to. */
 function replaceDesign(scenario, how) {
-  const previous = clone(page.state);
+  const previous = { ...clone(page.state), lastComplete: page.lastComplete };
   page.state.scenario = scenario;
   page.state.drafts = {};
   page.editor.messages.clear();
@@ -236,9 +271,15 @@ function replaceDesign(scenario, how) {
       run: () => {
         page.state.scenario = previous.scenario;
         page.state.drafts = previous.drafts;
+        // Its own last complete design (when an entry of it needs fixing), traced again.
+        page.lastComplete = previous.lastComplete;
+        page.report = null;
+        page.job = null;
+        page.editor.messages.clear();
         page.editor.render();
         $('f-name').value = page.state.scenario.name || '';
         page.view.fitted = false;
+        clearReport();
         update();
       },
     },
@@ -417,6 +458,9 @@ async function start() {
       { kind: 'error' },
     );
   }
+  // The last complete design, when the kept one needs fixing: only one the core accepts.
+  const last = page.state.lastComplete;
+  page.lastComplete = last && core.check_scenario(JSON.stringify(last)).ok ? asRead(last) : null;
   // The form is never sent anywhere (Enter in a field would submit it).
   $('editor').addEventListener('submit', (e) => e.preventDefault());
   for (const r of document.querySelectorAll('input[name="unit"]')) r.checked = r.value === page.state.unit;

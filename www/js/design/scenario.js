@@ -95,9 +95,10 @@ export const toStored = (x, path, unit) => (unit === 'in' && isLength(path) ? x 
 // ---------------------------------------------------------------- the page state
 
 /**
- * `{ scenario, drafts, unit, study?, tolerances? }`: `drafts` maps a field path to the text typed there when it
+ * `{ scenario, drafts, unit, study?, tolerances?, lastComplete? }`: `drafts` maps a field path to the text typed there when it
  * is not (yet) a number, so it survives a reload; `unit` is 'mm' or 'in'; `study` the study panel's
- * set-up (see study.js), absent until one is made; `tolerances` the tolerances panel's (tolerance.js).
+ * set-up (see study.js), absent until one is made; `tolerances` the tolerances panel's (tolerance.js);
+ * `lastComplete` the last scenario without problems, kept only while the design has some.
  */
 export function freshState(scenario = STARTER) {
   return { scenario: clone(scenario), drafts: {}, unit: 'mm' };
@@ -118,6 +119,9 @@ export function loadState() {
       ...(saved.findMode === 'find' ? { findMode: 'find' } : {}),
       // The tolerances set up beside the design (tolerance.js), when there are some.
       ...(saved.tolerances && Array.isArray(saved.tolerances.spreads) ? { tolerances: saved.tolerances } : {}),
+      // The last design without problems, kept while some entry needs fixing (main.js), so a
+      // reload can show its results again.
+      ...(saved.lastComplete && typeof saved.lastComplete === 'object' ? { lastComplete: saved.lastComplete } : {}),
     };
   }
   return null;

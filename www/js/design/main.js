@@ -14,8 +14,8 @@ import { Editor } from './editor.js';
 import { FATES, RouteView, heatGradientCss } from './route-view.js';
 import { clearReport, showBends, showFigures, showProgress, showReport } from './report-view.js';
 import {
-  MAX_DESIGN_BYTES, STARTER, clone, download, fileNameFor, freshState, loadState, saveState, scenarioFromFragment,
-  shareLink, tooLargeMessage,
+  LINK_WARN_CHARS, MAX_DESIGN_BYTES, STARTER, clone, download, fileNameFor, freshState, loadState, saveState,
+  scenarioFromFragment, shareLink, tooLargeMessage,
 } from './scenario.js';
 import { demoList, demoText, traceWorker } from './sources.js';
 import { FindPanel } from './find.js';
@@ -286,6 +286,29 @@ function replaceDesign(scenario, how) {
   });
 }
 
+/** The message for a share link that cannot be read, and what is shown instead. */
+function damagedLink(e, instead) {
+  toolbarMessage(`The share link is damaged or incomplete (copy it again from where it was sent): ${messageOf(e)}. ${instead}`, { kind: 'error' });
+}
+
+/** Take the share link out of the address bar (a reload then shows the design as edited). */
+const forgetLink = () => history.replaceState(null, '', location.pathname + location.search);
+
+/** A share link arriving in this tab (pasted into the address bar, or followed from another page). */
+async function onHashChange() {
+  let text;
+  try {
+    text = await scenarioFromFragment();
+    if (text == null) return; // an anchor on the page, or no fragment
+    const s = readScenario(text);
+    forgetLink();
+    replaceDesign(s, `Opened the design from the link: “${s.name || 'untitled'}”`);
+  } catch (e) {
+    forgetLink();
+    damagedLink(e, 'Your design is unchanged.');
+  }
+}
+
 /**
  * Check a scenario given as text (file, link); returns it as the core reads it (its defaults
  * filled in) or throws a readable Error.
@@ -375,11 +398,16 @@ function wireToolbar() {
   $('share').addEventListener('click', async () => {
     const link = await shareLink(page.state.scenario, location.href.split('#')[0]);
     $('share').dataset.link = link;
+    const long = link.length > LINK_WARN_CHARS;
+    const warning = long
+      ? ` It is longer than ${formatCount(LINK_WARN_CHARS)} characters, which some browsers, mail and chat programs cut or refuse: if it does not arrive whole, send the design as a file instead (Save file).`
+      : '';
+    const kind = long ? 'error' : 'info';
     try {
       await navigator.clipboard.writeText(link);
-      toolbarMessage(`Share link copied (${link.length} characters). It carries the whole design; nothing is sent anywhere.${pendingNote()}`);
+      toolbarMessage(`Share link copied (${formatCount(link.length)} characters). It carries the whole design; nothing is sent anywhere.${warning}${pendingNote()}`, { kind });
     } catch {
-      toolbarMessage(`Share link (copy it from here): ${link}${pendingNote()}`);
+      toolbarMessage(`Share link (${formatCount(link.length)} characters; copy it from here): ${link}${warning}${pendingNote()}`, { kind });
     }
   });
   $('export-csv').addEventListener('click', () => {
@@ -437,7 +465,8 @@ async function start() {
     const text = await scenarioFromFragment();
     if (text) fromLink = readScenario(text);
   } catch (e) {
-    toolbarMessage(`The share link is damaged or incomplete (copy it again from where it was sent): ${messageOf(e)}. Showing your last design.`, { kind: 'error' });
+    forgetLink();
+    damagedLink(e, 'Showing your last design.');
   }
   page.state = loadState() || freshState(STARTER);
   const materials = core.materials();
@@ -503,6 +532,7 @@ async function start() {
     update();
   }
   document.body.dataset.ready = 'true';
+  window.addEventListener('hashchange', () => onHashChange());
   window.addEventListener('resize', () => drawCharts());
   // Only a served page (http or https) can have a service worker; a file opened from disk has none.
   registerServiceWorker({

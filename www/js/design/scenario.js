@@ -201,12 +201,23 @@ export async function shareLink(scenario, base = location.href) {
 }
 
 /**
- * The scenario JSON text in a share-link fragment, null when there is none; throws a readable
- * Error for a link that does not decode or expands beyond MAX_DESIGN_BYTES.
+ * Share links longer than this may not arrive whole: about 2,000 characters is the length
+ * commonly given for a link that must work everywhere — older browsers, and mail and chat
+ * programs, cut or refuse longer ones (common practice, no source). Current browsers open far
+ * longer links, so a longer one is still made, with a warning and the file offered instead.
+ */
+export const LINK_WARN_CHARS = 2000;
+
+/**
+ * The scenario JSON text in a share-link fragment (`#d=…` or `#j=…`), null when the fragment is
+ * none (empty, or an anchor on the page); throws a readable Error for a link that is malformed,
+ * does not decode or expands beyond MAX_DESIGN_BYTES.
  */
 export async function scenarioFromFragment(hash = location.hash) {
-  const m = hash.match(/^#([dj])=([A-Za-z0-9_-]+)$/);
+  const m = hash.match(/^#([dj])=(.*)$/s);
   if (!m) return null;
+  if (!m[2]) throw new Error('it ends where its design should begin');
+  if (!/^[A-Za-z0-9_-]+$/.test(m[2])) throw new Error('its design text holds characters a share link never has');
   let bytes;
   try {
     bytes = fromBase64Url(m[2]);

@@ -210,11 +210,12 @@ describe('the design page keeps, shares and starts designs', { concurrency: fals
       await traced(page);
       await page.evaluate(() => { window.tirtraceStorageFull = true; });
       await page.fill('#f-name', 'Kept nowhere but this tab');
-      await page.waitForSelector('#toolbar-msg:not([hidden])');
-      const msg = await toolbarText(page);
+      await page.waitForSelector('#storage-msg:not([hidden])');
+      const msg = await page.locator('#storage-msg').innerText();
       assert.match(msg, /could not be kept in this browser/, msg);
       assert.doesNotMatch(msg, /\bis kept\b|\bsaved\b/i, msg);
-      assert.equal(await page.getAttribute('#toolbar-msg', 'data-kind'), 'error');
+      assert.equal(await page.getAttribute('#storage-msg', 'data-kind'), 'error');
+      assert.doesNotMatch(await page.locator('body').innerText(), /(?<!could not be )kept in this browser/, 'the page claims the design is kept');
       await page.screenshot({ path: join(OUT, 'behaviour-storage-full-1280x800.png') });
       // The offer saves the design as it is on the page.
       const [download] = await Promise.all([page.waitForEvent('download'), page.getByRole('button', { name: 'Save it as a file' }).click()]);
@@ -223,11 +224,15 @@ describe('the design page keeps, shares and starts designs', { concurrency: fals
       assert.equal(file.name, 'Kept nowhere but this tab');
       // Further edits say it again while storage refuses; once it takes the design the note goes.
       await page.fill('#f-name', 'Still nowhere');
-      await page.waitForSelector('#toolbar-msg:not([hidden])');
-      assert.match(await toolbarText(page), /could not be kept in this browser/);
+      await page.waitForSelector('#storage-msg:not([hidden])');
+      assert.match(await page.locator('#storage-msg').innerText(), /could not be kept in this browser/);
+      // A design opened meanwhile keeps its way back (the note has its own line).
+      await tracedAfter(page, () => page.selectOption('#demo', 'thermostat_status_led.json'));
+      assert.ok(await page.getByRole('button', { name: 'Back to the previous design' }).isVisible());
+      assert.ok(await page.isVisible('#storage-msg'));
       await page.evaluate(() => { window.tirtraceStorageFull = false; });
       await page.fill('#f-name', 'Kept again');
-      await page.waitForFunction(() => document.getElementById('toolbar-msg').hidden);
+      await page.waitForFunction(() => document.getElementById('storage-msg').hidden);
       assert.equal((await pageScenario(page)).name, 'Kept again');
     } finally {
       await context.close();
@@ -246,7 +251,8 @@ describe('the design page keeps, shares and starts designs', { concurrency: fals
       const msg = await toolbarText(page);
       assert.match(msg, /could not be shown/, msg);
       assert.doesNotMatch(msg, /it is set aside/, msg);
-      assert.match(msg, /could not be kept in this browser/, msg);
+      assert.match(msg, /refused to set it aside/, msg);
+      assert.match(await page.locator('#storage-msg').innerText(), /could not be kept in this browser/);
       await traced(page);
       await page.screenshot({ path: join(OUT, 'behaviour-storage-refused-820x1180.png') });
     } finally {

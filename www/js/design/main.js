@@ -39,6 +39,36 @@ function toolbarMessage(text, { kind = 'info', action } = {}) {
   el.hidden = !text;
 }
 
+/** Offer the design as it is on the page as a file. */
+function saveDesignFile() {
+  const s = page.state.scenario;
+  download(new Blob([`${JSON.stringify(s, null, 2)}\n`], { type: 'application/json' }), fileNameFor(s));
+}
+
+/**
+ * Keep the page state in this browser. When storage refuses (full, or switched off) say so on a
+ * line of its own under the toolbar (other messages, such as the way back to the previous design,
+ * stay), and offer the design as a file; never claim it is kept. The note goes once storage takes
+ * the design again.
+ */
+function keep(state) {
+  const kept = saveState(state);
+  const note = $('storage-msg');
+  if (kept) {
+    note.hidden = true;
+    return true;
+  }
+  if (note.hidden) {
+    note.replaceChildren(
+      'Your design could not be kept in this browser (its storage is full or switched off): it will be lost when this page closes.',
+      ' ',
+      h('button', { type: 'button', text: 'Save it as a file', onclick: () => saveDesignFile() }),
+    );
+    note.hidden = false;
+  }
+  return false;
+}
+
 /** The core's exports (loadCore), once it runs. */
 let core = null;
 
@@ -110,7 +140,7 @@ function update() {
     page.lastComplete = clone(state.scenario);
     delete state.lastComplete;
   }
-  saveState(state);
+  keep(state);
   page.editor.showAttenuationHint();
   showLoose(page.editor.showProblems(problems));
   document.body.dataset.problems = String(problems.length);
@@ -391,7 +421,7 @@ function wireToolbar() {
   };
   $('save-file').addEventListener('click', () => {
     const s = page.state.scenario;
-    download(new Blob([`${JSON.stringify(s, null, 2)}\n`], { type: 'application/json' }), fileNameFor(s));
+    saveDesignFile();
     const note = pendingNote();
     if (note) toolbarMessage(`Saved ${fileNameFor(s)}.${note}`, { kind: 'error' });
   });
@@ -426,7 +456,7 @@ function wireToolbar() {
     r.addEventListener('change', () => {
       page.state.unit = r.value;
       page.editor.render();
-      saveState(page.state);
+      keep(page.state);
       // The messages word their lengths in the unit shown.
       try {
         showLoose(page.editor.showProblems(problemsOf(page.state)));
@@ -477,13 +507,15 @@ async function start() {
   } catch {
     // A kept design this page cannot show (damaged storage, or from a different version):
     // keep its text aside, start from the starter design, and say so.
-    store(UNREADABLE_KEY, loadState()); // without storage there is nothing to keep aside
+    const setAside = store(UNREADABLE_KEY, loadState());
     page.state = freshState(STARTER);
     page.state.scenario = asRead(page.state.scenario);
     page.editor = new Editor($('editor'), page.state, materials, () => scheduleUpdate(), (text) => core.read_intensity_table(text));
     page.editor.render();
     toolbarMessage(
-      `The design kept in this browser could not be shown (it is damaged or from another version); it is set aside under “${UNREADABLE_KEY}” in this browser's storage. Starting from the example design.`,
+      `The design kept in this browser could not be shown (it is damaged or from another version); ${setAside
+        ? `it is set aside under “${UNREADABLE_KEY}” in this browser's storage`
+        : "this browser's storage refused to set it aside, so it is lost"}. Starting from the example design.`,
       { kind: 'error' },
     );
   }
@@ -500,16 +532,16 @@ async function start() {
     core,
     state: page.state,
     editor: page.editor,
-    onSaved: () => saveState(page.state),
+    onSaved: () => keep(page.state),
     openDesign: (scenario, how) => replaceDesign(readScenario(JSON.stringify(scenario)), how),
     traceWorker: traceWorker(),
   });
-  page.find = new FindPanel({ core, state: page.state, study: page.study, onSaved: () => saveState(page.state) });
+  page.find = new FindPanel({ core, state: page.state, study: page.study, onSaved: () => keep(page.state) });
   page.tolerances = new TolerancePanel({
     core,
     state: page.state,
     editor: page.editor,
-    onSaved: () => saveState(page.state),
+    onSaved: () => keep(page.state),
     openDesign: (scenario, how) => replaceDesign(readScenario(JSON.stringify(scenario)), how),
     traceWorker: traceWorker(),
   });

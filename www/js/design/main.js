@@ -419,6 +419,9 @@ function wireToolbar() {
     const n = page.editor.draftProblems().length;
     return n ? ` Note: ${n} ${n === 1 ? 'field holds' : 'fields hold'} text that is not a number; ${n === 1 ? 'its' : 'their'} last valid value is used.` : '';
   };
+  $('new-design').addEventListener('click', () => {
+    replaceDesign(core.new_scenario(), 'Started a new design');
+  });
   $('save-file').addEventListener('click', () => {
     const s = page.state.scenario;
     saveDesignFile();

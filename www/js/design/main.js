@@ -484,6 +484,47 @@ function wireToolbar() {
   });
 }
 
+// ------------------------------------------------------------ tables and selects
+
+/**
+ * Mark each table wrap whose table is wider than it (data-overflow, shadows in design.css), show
+ * a line under it saying it scrolls sideways, and let the keyboard reach it.
+ */
+function watchTableWidths() {
+  const observer = new ResizeObserver((entries) => {
+    for (const e of entries) {
+      const wrap = e.target.closest('.table-wrap');
+      if (!wrap) continue;
+      const over = wrap.scrollWidth - wrap.clientWidth > 1;
+      wrap.dataset.overflow = String(over);
+      wrap.nextElementSibling.hidden = !over;
+      if (over) {
+        wrap.tabIndex = 0;
+        wrap.setAttribute('role', 'region');
+        wrap.setAttribute('aria-label', `${wrap.closest('section, figure')?.querySelector('h2, h3, figcaption')?.textContent.trim() || 'Table'}, scrolls sideways`);
+      } else {
+        wrap.removeAttribute('tabindex');
+        wrap.removeAttribute('role');
+        wrap.removeAttribute('aria-label');
+      }
+    }
+  });
+  for (const wrap of document.querySelectorAll('.table-wrap')) {
+    wrap.after(h('p', { class: 'scroll-cue', text: 'Scroll sideways for more columns →', hidden: true }));
+    observer.observe(wrap);
+    observer.observe(wrap.querySelector('table'));
+  }
+}
+
+/** A select shows its whole choice on hover and focus (a narrow one cuts a long name). */
+function titleSelects() {
+  const title = (e) => {
+    const el = e.target;
+    if (el instanceof HTMLSelectElement) el.title = el.selectedOptions[0]?.textContent || '';
+  };
+  for (const type of ['focusin', 'mouseover', 'change']) document.addEventListener(type, title);
+}
+
 // ------------------------------------------------------------ start
 
 async function start() {
@@ -549,6 +590,8 @@ async function start() {
     traceWorker: traceWorker(),
   });
   wireToolbar();
+  watchTableWidths();
+  titleSelects();
   loadDemos();
   try {
     await page.pool.ready();

@@ -8,6 +8,7 @@ wasm_bindgen_test::wasm_bindgen_test_configure!(run_in_browser);
 
 use tirtrace::index::library::{self, IndexBasis, MaterialChoice};
 use tirtrace::index::{n_standard_air, IndexModel};
+use tirtrace::limits::ATTENUATION_DB_PER_M;
 
 /// Raw model value (on the material's own basis) at `wavelength_nm`.
 fn raw_n(id: &str, wavelength_nm: f64) -> f64 {
@@ -145,6 +146,35 @@ fn every_material_is_finite_and_dispersive_or_constant_in_its_range() {
         }
         assert!(!m.source.is_empty());
     }
+}
+
+#[test]
+fn every_material_has_a_typical_attenuation_in_range_saying_where_it_comes_from() {
+    // A figure says `from memory`, `no source`, or names a publication with its year (the rule
+    // of docs/REFERENCES.md); the design page puts it in a field whose range is this one.
+    let names_a_year = |s: &str| {
+        s.split(|c: char| !c.is_ascii_digit())
+            .any(|w| w.len() == 4 && (w.starts_with("19") || w.starts_with("20")))
+    };
+    for m in library::materials() {
+        assert!(
+            ATTENUATION_DB_PER_M.contains(m.attenuation_db_per_m),
+            "{}: {} dB/m",
+            m.id,
+            m.attenuation_db_per_m
+        );
+        let s = m.attenuation_source;
+        assert!(
+            s.starts_with("from memory") || s.contains("no source") || names_a_year(s),
+            "{}: the attenuation's source says neither where it comes from nor `from memory`: {s}",
+            m.id
+        );
+    }
+    // Every material a document can name has one, and the library lists each id once.
+    let mut ids: Vec<&str> = library::materials().iter().map(|m| m.id).collect();
+    ids.sort_unstable();
+    ids.dedup();
+    assert_eq!(ids.len(), library::materials().len());
 }
 
 #[test]

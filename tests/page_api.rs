@@ -12,8 +12,9 @@ use plotters::prelude::*;
 use serde_json::{json, Value};
 use tirtrace::chart::{draw_exit_map, draw_intensity, sequential_colour};
 use tirtrace::export::{report_csv, report_from_json};
+use tirtrace::index::library::MaterialChoice;
 use tirtrace::problems::{check_scenario, read_scenario};
-use tirtrace::scenario::Scenario;
+use tirtrace::scenario::{Emitter, Scenario, Segment};
 use tirtrace::trace::{Prepared, TraceReport};
 
 const THERMOSTAT: &str = include_str!("../examples/scenarios/thermostat_status_led.json");
@@ -32,6 +33,27 @@ fn with(text: &str, edit: impl FnOnce(&mut Value)) -> String {
     let mut doc: Value = serde_json::from_str(text).unwrap();
     edit(&mut doc);
     doc.to_string()
+}
+
+#[test]
+fn a_new_design_is_one_straight_lit_by_an_led_with_its_materials_attenuation() {
+    let s = Scenario::new_design();
+    assert!(s.problems().is_empty(), "{:?}", s.problems());
+    assert_eq!(s.route.len(), 1);
+    assert!(matches!(s.route[0], Segment::Straight { .. }));
+    assert!(matches!(s.source.emitter, Emitter::Led { .. }));
+    assert!(s.receiver.is_none() && s.guide.contacts.is_empty());
+    let MaterialChoice::Library(id) = &s.guide.material else {
+        panic!("a new design's material is a library one");
+    };
+    let typical = tirtrace::index::library::find(id)
+        .unwrap()
+        .attenuation_db_per_m;
+    assert_eq!(s.guide.attenuation_db_per_m, typical);
+    // The page keeps it as JSON: read back, it is the same design, and it traces.
+    assert_eq!(Scenario::from_json(&s.to_json()).unwrap(), s);
+    let report = traced(&s.to_json(), 4096);
+    assert!(report.delivered.share > 0.0, "no light reaches the window");
 }
 
 #[test]

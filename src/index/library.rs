@@ -39,11 +39,25 @@ pub struct Material {
     pub source: &'static str,
     /// Caveats (temperature, accuracy).
     pub note: &'static str,
+    /// A typical bulk attenuation in the visible, dB/m: absorption and scattering of a clear
+    /// grade (a moulded part may lose more). The design page fills the pipe's attenuation with it
+    /// when the material is chosen, unless the designer typed their own value.
+    pub attenuation_db_per_m: f64,
+    /// Where that figure comes from; `from memory` when it was not checked in a source
+    /// (docs/REFERENCES.md §8).
+    pub attenuation_source: &'static str,
 }
 
 /// A polymer measured by N. Sultanova et al. (2009), whose table covers 437–1052 nm relative to
-/// air: the one Sellmeier term (`b`, and `c_um2` in µm²) fitted to it.
-fn fitted_polymer(id: &'static str, name: &'static str, b: f64, c_um2: f64) -> Material {
+/// air: the one Sellmeier term (`b`, and `c_um2` in µm²) fitted to it, and its typical
+/// attenuation (dB/m) with where that figure comes from.
+fn fitted_polymer(
+    id: &'static str,
+    name: &'static str,
+    b: f64,
+    c_um2: f64,
+    attenuation: (f64, &'static str),
+) -> Material {
     Material {
         id,
         name,
@@ -56,6 +70,8 @@ fn fitted_polymer(id: &'static str, name: &'static str, b: f64, c_um2: f64) -> M
         basis: IndexBasis::Air,
         source: "N. Sultanova, S. Kasarova, I. Nikolov, Acta Phys. Pol. A 116, 585 (2009); one-term Sellmeier fit to their table",
         note: "fit good to about 1e-3 in n; not for dispersion (Abbe number) work",
+        attenuation_db_per_m: attenuation.0,
+        attenuation_source: attenuation.1,
     }
 }
 
@@ -71,6 +87,8 @@ pub fn materials() -> Vec<Material> {
             basis: IndexBasis::Air,
             source: "relative to air by definition",
             note: "all indices in tirtrace are relative to air",
+            attenuation_db_per_m: 0.0,
+            attenuation_source: "from memory: clear air absorbs and scatters far less than 0.001 dB/m in the visible, nothing over a light pipe's length",
         },
         Material {
             id: "water",
@@ -94,6 +112,8 @@ pub fn materials() -> Vec<Material> {
             basis: IndexBasis::Vacuum,
             source: "M. Daimon, A. Masumura, Appl. Opt. 46, 3811 (2007)",
             note: "20.0 °C; absolute data, converted to relative to air",
+            attenuation_db_per_m: 0.25,
+            attenuation_source: "from memory: pure water absorbs about 0.057 per metre at 550 nm, 0.25 dB/m (R. M. Pope, E. S. Fry, Appl. Opt. 36, 8710 (1997)); less in the blue, about 1.5 dB/m at 650 nm",
         },
         Material {
             id: "fused_silica",
@@ -107,6 +127,8 @@ pub fn materials() -> Vec<Material> {
             basis: IndexBasis::Air,
             source: "I. H. Malitson, J. Opt. Soc. Am. 55, 1205 (1965)",
             note: "20 °C",
+            attenuation_db_per_m: 0.01,
+            attenuation_source: "from memory: scattering in silica is about 0.8 dB/km at 1 µm, growing as 1/λ⁴ to some 0.013 dB/m at 500 nm; bulk optical grades are of this order",
         },
         Material {
             id: "pmma",
@@ -121,9 +143,23 @@ pub fn materials() -> Vec<Material> {
             basis: IndexBasis::Air,
             source: "G. Beadie et al., Appl. Opt. 54, F139 (2015)",
             note: "stated accuracy better than 2e-4; grades vary by about ±0.002",
+            attenuation_db_per_m: 0.3,
+            attenuation_source: "from memory: acrylic fibre cores lose about 0.1–0.2 dB/m at 520–650 nm, moulding grades more; the IEC 60793-2-40 category A4a acrylic fibre may lose at most 0.40 dB/m at 650 nm",
         },
-        fitted_polymer("polycarbonate", "Polycarbonate (PC)", 1.4182, 0.021304),
-        fitted_polymer("polystyrene", "Polystyrene (PS)", 1.4435, 0.020216),
+        fitted_polymer(
+            "polycarbonate",
+            "Polycarbonate (PC)",
+            1.4182,
+            0.021304,
+            (1.0, "from memory: polycarbonate-core fibres lose roughly 0.6–1 dB/m in the red, more in the blue, where the material is yellowish"),
+        ),
+        fitted_polymer(
+            "polystyrene",
+            "Polystyrene (PS)",
+            1.4435,
+            0.020216,
+            (0.5, "from memory: polystyrene-core fibres lose a few tenths of a dB/m at their best wavelengths (about 570–670 nm), more in the blue"),
+        ),
         Material {
             id: "pdms",
             name: "Silicone (PDMS)",
@@ -136,6 +172,8 @@ pub fn materials() -> Vec<Material> {
             basis: IndexBasis::Air,
             source: "F. Schneider et al., Sens. Actuators A 151, 95 (2009)",
             note: "cured PDMS; grades and curing change n by about ±0.005",
+            attenuation_db_per_m: 2.0,
+            attenuation_source: "from memory: clear cured silicone loses a few per cent of the light in 10 cm, some 1–3 dB/m in the visible",
         },
         Material {
             id: "propylene_glycol",
@@ -146,6 +184,8 @@ pub fn materials() -> Vec<Material> {
             basis: IndexBasis::Air,
             source: "n at 589 nm, 20 °C, 1.432 ± 0.001 (chemical property databases)",
             note: "constant: dispersion across the visible not modelled; the 400–800 nm range is our own choice, not the source's",
+            attenuation_db_per_m: 0.25,
+            attenuation_source: "no figure known to us: taken as water's (a guess, no source); in a gap a fraction of a millimetre thick it matters little",
         },
     ]
 }

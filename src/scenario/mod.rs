@@ -512,6 +512,44 @@ impl Scenario {
             Err(v) => v,
         }
     }
+
+    /// The design a "new design" starts from: one straight acrylic pipe, 3 mm round and 20 mm
+    /// long in air, with the material's typical attenuation (`index::library`); a 0.5 mm square
+    /// Lambertian LED 0.3 mm before its entry face at 525 nm; the default trace settings. Round
+    /// numbers of our own, for the designer to change, not data.
+    pub fn new_design() -> Scenario {
+        let material = "pmma";
+        let attenuation_db_per_m =
+            crate::index::library::find(material).map_or(0.0, |m| m.attenuation_db_per_m);
+        Scenario {
+            version: SCENARIO_VERSION,
+            name: "New design".to_string(),
+            guide: Guide {
+                section: Section::Round { diameter_mm: 3.0 },
+                material: MaterialChoice::library(material),
+                surroundings: MaterialChoice::library("air"),
+                attenuation_db_per_m,
+                contacts: Vec::new(),
+                exit_medium: None,
+            },
+            route: vec![Segment::Straight { length_mm: 20.0 }],
+            source: Source {
+                emitter: Emitter::Led {
+                    area: EmitterArea::Square { side_mm: 0.5 },
+                    pattern: Pattern::Lambertian,
+                },
+                wavelength_nm: 525.0,
+                gap_mm: 0.3,
+                gap_medium: air(),
+                offset_mm: [0.0, 0.0],
+                tilt_deg: 0.0,
+                tilt_toward_deg: 0.0,
+                flux: None,
+            },
+            receiver: None,
+            trace: TraceSettings::default(),
+        }
+    }
 }
 
 /// Half the section's size across the bend plane for a turn direction, or `None` when the turn

@@ -77,10 +77,17 @@ fn js_error(e: TirError) -> JsError {
     JsError::new(&e.to_string())
 }
 
-/// The built-in materials: `[{ id, name, min_nm, max_nm, basis, source, note }]`.
+/// The built-in materials: `[{ id, name, min_nm, max_nm, basis, source, note,
+/// attenuation_db_per_m, attenuation_source }]`.
 #[wasm_bindgen]
 pub fn materials() -> Result<JsValue, JsError> {
     to_js(&library::materials())
+}
+
+/// The scenario a new design starts from (`Scenario::new_design`), as the page keeps it.
+#[wasm_bindgen]
+pub fn new_scenario() -> Result<JsValue, JsError> {
+    to_js(&crate::scenario::Scenario::new_design())
 }
 
 /// Every problem with a design as `[{ field, message }]`; empty when valid.

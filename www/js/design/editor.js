@@ -173,8 +173,11 @@ export class Editor {
     );
   }
 
-  /** A material choice at `path` ({ library } or { custom: constant n }). */
-  material(path, label, { filter = () => true, hint, optional } = {}) {
+  /**
+   * A material choice at `path` ({ library } or { custom: constant n }); `onPick(before)` runs
+   * after a choice is applied, with the choice it replaced.
+   */
+  material(path, label, { filter = () => true, hint, optional, onPick } = {}) {
     const given = getAt(this.s, path);
     const current = given || { library: 'air' };
     const isCustom = !!current.custom;
@@ -193,6 +196,7 @@ export class Editor {
         } else {
           setAt(this.s, path, { library: v });
         }
+        onPick?.(given);
       }, { hint }),
     ];
     if (isCustom && given) {
@@ -492,11 +496,51 @@ export class Editor {
       ...this.material('guide.material', 'Material', {
         filter: (m) => m.id !== 'air' && m.id !== 'water',
         hint: this.materialHint ?? '',
+        onPick: (before) => this.followAttenuation(before),
       }),
       ...this.material('guide.surroundings', 'Around the pipe'),
       ...this.material('guide.exit_medium', 'Beyond the window (exit face)', { optional: 'The same as around the pipe' }),
-      this.num('guide.attenuation_db_per_m', 'Bulk attenuation', 'dB/m', { hint: 'Absorption and scattering in the material; moulded acrylic is typically a few tenths of a dB per metre in the visible.' }),
+      this.num('guide.attenuation_db_per_m', 'Bulk attenuation', 'dB/m', { hint: this.attenuationHint() }),
     );
+  }
+
+  /** The library entry of a material choice ({ library: id }), or undefined. */
+  libraryMaterial(choice) {
+    return choice?.library ? this.materials.find((m) => m.id === choice.library) : undefined;
+  }
+
+  /**
+   * Whether the pipe's attenuation is its material's typical value (the core's material library),
+   * and so follows the material; a value typed apart from it is the designer's own and is kept.
+   */
+  attenuationFollows(choice = this.s.guide.material) {
+    const m = this.libraryMaterial(choice);
+    return Boolean(m) && this.state.drafts['guide.attenuation_db_per_m'] === undefined
+      && this.s.guide.attenuation_db_per_m === m.attenuation_db_per_m;
+  }
+
+  /** After the pipe's material changed from `before`: its typical attenuation, unless the designer's own. */
+  followAttenuation(before) {
+    const m = this.libraryMaterial(this.s.guide.material);
+    if (m && (this.s.guide.attenuation_db_per_m === undefined || this.attenuationFollows(before))) {
+      this.s.guide.attenuation_db_per_m = m.attenuation_db_per_m;
+    }
+  }
+
+  /** The attenuation field's hint: the material's typical value, its source, and which applies. */
+  attenuationHint() {
+    const m = this.libraryMaterial(this.s.guide.material);
+    if (!m) return 'Absorption and scattering in the material, in the visible. A medium given by its index has no typical value here: enter its own.';
+    const typical = `${m.name}: ${m.attenuation_db_per_m} dB/m in the visible (${m.attenuation_source})`;
+    return this.attenuationFollows()
+      ? `The material's typical absorption and scattering; it follows the material you choose, and a value you type is kept. ${typical}.`
+      : `Your own value, kept when the material changes. Typical for ${typical}.`;
+  }
+
+  /** Bring the attenuation hint up to date (after typing; the form is not drawn again then). */
+  showAttenuationHint() {
+    const el = this.root.querySelector('#f-guide-attenuation-db-per-m-hint');
+    if (el) el.textContent = this.attenuationHint();
   }
 
   routePart() {

@@ -14,8 +14,8 @@ import { Editor } from './editor.js';
 import { FATES, RouteView, heatGradientCss } from './route-view.js';
 import { clearReport, linkBendsToQuickLook, setLengthUnit, showBends, showExitMapTable, showFigures, showProgress, showReport } from './report-view.js';
 import {
-  MAX_DESIGN_BYTES, STARTER, clone, download, fileNameFor, freshState, loadState, saveState, scenarioFromFragment,
-  shareLink, tooLargeMessage,
+  LINK_WARN_CHARS, MAX_DESIGN_BYTES, STARTER, clone, download, fileNameFor, freshState, loadState, saveState,
+  scenarioFromFragment, shareLink, tooLargeMessage,
 } from './scenario.js';
 import { demoList, demoText, traceWorker } from './sources.js';
 import { FindPanel } from './find.js';
@@ -37,6 +37,36 @@ function toolbarMessage(text, { kind = 'info', action } = {}) {
   }
   el.dataset.kind = kind;
   el.hidden = !text;
+}
+
+/** Offer the design as it is on the page as a file. */
+function saveDesignFile() {
+  const s = page.state.scenario;
+  download(new Blob([`${JSON.stringify(s, null, 2)}\n`], { type: 'application/json' }), fileNameFor(s));
+}
+
+/**
+ * Keep the page state in this browser. When storage refuses (full, or switched off) say so on a
+ * line of its own under the toolbar (other messages, such as the way back to the previous design,
+ * stay), and offer the design as a file; never claim it is kept. The note goes once storage takes
+ * the design again.
+ */
+function keep(state) {
+  const kept = saveState(state);
+  const note = $('storage-msg');
+  if (kept) {
+    note.hidden = true;
+    return true;
+  }
+  if (note.hidden) {
+    note.replaceChildren(
+      'Your design could not be kept in this browser (its storage is full or switched off): it will be lost when this page closes.',
+      ' ',
+      h('button', { type: 'button', text: 'Save it as a file', onclick: () => saveDesignFile() }),
+    );
+    note.hidden = false;
+  }
+  return false;
 }
 
 /** The core's exports (loadCore), once it runs. */
@@ -65,8 +95,14 @@ const page = {
   report: null,
   /** The scenario the shown report belongs to. */
   reportScenario: null,
+  /** The last scenario without problems (its results are shown, stale, while an entry needs fixing). */
+  lastComplete: null,
+  /** The trace running or last run: { id, stale } (stale: of the last complete design). */
+  job: null,
   timer: 0,
 };
+
+const needFixing = (n) => `${n} ${n === 1 ? 'entry needs' : 'entries need'} fixing`;
 
 // ------------------------------------------------------------ checking and tracing
 
@@ -86,7 +122,6 @@ function showLoose(problems) {
 
 function update() {
   const { state } = page;
-  saveState(state);
   page.study?.designChanged();
   page.find?.designChanged();
   page.tolerances?.designChanged();
@@ -97,38 +132,66 @@ function update() {
   } catch (e) {
     problems = [{ field: 'design', message: `The design could not be checked: ${messageOf(e)}` }];
   }
+  // While an entry needs fixing, the last complete design is kept beside it, so that a reload
+  // shows its results again (as they stay shown while editing).
+  if (problems.length) {
+    if (page.lastComplete) state.lastComplete = page.lastComplete;
+  } else {
+    page.lastComplete = clone(state.scenario);
+    delete state.lastComplete;
+  }
+  keep(state);
+  page.editor.showAttenuationHint();
   showLoose(page.editor.showProblems(problems));
   document.body.dataset.problems = String(problems.length);
   if (problems.length) {
-    $('stale-note').hidden = !page.report;
-    page.pool.cancel();
-    setStatus(`${problems.length} ${problems.length === 1 ? 'entry needs' : 'entries need'} fixing`, 'error');
+    setStatus(needFixing(problems.length), 'error');
+    if (!page.report && page.lastComplete && !page.job?.stale) {
+      // Nothing shown yet (the page has just opened): trace the last complete design again
+      // (the same seed gives the same results).
+      trace(page.lastComplete, { stale: true });
+    } else if (!page.job?.stale) {
+      page.pool.cancel();
+    }
+    $('stale-note').hidden = !page.report && !page.job?.stale;
     return;
   }
   $('stale-note').hidden = true;
-  const json = JSON.stringify(state.scenario);
+  if (trace(state.scenario, { stale: false })) setStatus('Tracing…');
+}
+
+/**
+ * Draw and trace `scenario`: its closed-form figures, its route and a trace in the workers.
+ * `stale`: it is the last complete design, shown while the one in the form needs fixing.
+ * Returns false when it could not be drawn (the status line says why).
+ */
+function trace(scenario, { stale }) {
+  const json = JSON.stringify(scenario);
   try {
     page.figures = core.closed_form(json);
     showFigures(page.figures);
     page.editor.showBendHints(page.figures.bends);
     showBends(page.figures, null);
-    const material = page.editor.root.querySelector('#f-guide-material-hint');
-    page.editor.materialHint = `n = ${formatIndex(page.figures.n_core)} at ${page.figures.wavelength_nm} nm (relative to air)`;
-    if (material) material.textContent = page.editor.materialHint;
+    if (!stale) {
+      const material = page.editor.root.querySelector('#f-guide-material-hint');
+      page.editor.materialHint = `n = ${formatIndex(page.figures.n_core)} at ${page.figures.wavelength_nm} nm (relative to air)`;
+      if (material) material.textContent = page.editor.materialHint;
+    }
     const outline = core.route_outline(json);
-    if (outline.receiver) outline.receiver.round = state.scenario.receiver?.diameter_mm != null;
+    if (outline.receiver) outline.receiver.round = scenario.receiver?.diameter_mm != null;
     page.view.setOutline(outline);
   } catch (e) {
     setStatus(`Could not draw the design: ${messageOf(e)}`, 'error');
-    return;
+    return false;
   }
-  page.pendingScenario = clone(state.scenario);
+  page.pendingScenario = clone(scenario);
   const job = page.pool.start(json, { keepPaths: KEEP_PATHS });
+  page.job = { id: job, stale };
   document.body.dataset.job = String(job);
   // The progress line follows the new trace at once, not when its first answer comes (a slow
   // first batch would leave the last trace's line, and its Stop button off, for seconds).
-  showProgress({ job, raysDone: 0, raysTotal: state.scenario.trace?.rays ?? 0, done: false, cancelled: false, error: null });
-  setStatus('Tracing…');
+  showProgress({ job, raysDone: 0, raysTotal: scenario.trace?.rays ?? 0, done: false, cancelled: false, error: null });
+  return true;
 }
 
 function scheduleUpdate() {
@@ -156,7 +219,10 @@ function onTraceUpdate(u) {
   if (u.cancelled) {
     setStatus('Stopped', 'ok');
   } else if (u.done) {
-    setStatus(`Traced ${formatCount(u.raysTotal)} rays`, 'ok');
+    const problems = Number(document.body.dataset.problems || 0);
+    // The last complete design's trace, while an entry needs fixing: the status keeps saying so.
+    if (page.job?.id === u.job && page.job.stale && problems) setStatus(needFixing(problems), 'error');
+    else setStatus(`Traced ${formatCount(u.raysTotal)} rays`, 'ok');
     document.body.dataset.traced = String(u.job);
   }
 }
@@ -221,7 +287,7 @@ function drawLegend(report) {
 
 /** Load another design (example, file, link), keeping the current one to go back to. */
 function replaceDesign(scenario, how) {
-  const previous = clone(page.state);
+  const previous = { ...clone(page.state), lastComplete: page.lastComplete };
   page.state.scenario = scenario;
   page.state.drafts = {};
   page.editor.messages.clear();
@@ -236,13 +302,42 @@ function replaceDesign(scenario, how) {
       run: () => {
         page.state.scenario = previous.scenario;
         page.state.drafts = previous.drafts;
+        // Its own last complete design (when an entry of it needs fixing), traced again.
+        page.lastComplete = previous.lastComplete;
+        page.report = null;
+        page.job = null;
+        page.editor.messages.clear();
         page.editor.render();
         $('f-name').value = page.state.scenario.name || '';
         page.view.fitted = false;
+        clearReport();
         update();
       },
     },
   });
+}
+
+/** The message for a share link that cannot be read, and what is shown instead. */
+function damagedLink(e, instead) {
+  toolbarMessage(`The share link is damaged or incomplete (copy it again from where it was sent): ${messageOf(e)}. ${instead}`, { kind: 'error' });
+}
+
+/** Take the share link out of the address bar (a reload then shows the design as edited). */
+const forgetLink = () => history.replaceState(null, '', location.pathname + location.search);
+
+/** A share link arriving in this tab (pasted into the address bar, or followed from another page). */
+async function onHashChange() {
+  let text;
+  try {
+    text = await scenarioFromFragment();
+    if (text == null) return; // an anchor on the page, or no fragment
+    const s = readScenario(text);
+    forgetLink();
+    replaceDesign(s, `Opened the design from the link: “${s.name || 'untitled'}”`);
+  } catch (e) {
+    forgetLink();
+    damagedLink(e, 'Your design is unchanged.');
+  }
 }
 
 /**
@@ -325,20 +420,28 @@ function wireToolbar() {
     const n = page.editor.draftProblems().length;
     return n ? ` Note: ${n} ${n === 1 ? 'field holds' : 'fields hold'} text that is not a number; ${n === 1 ? 'its' : 'their'} last valid value is used.` : '';
   };
+  $('new-design').addEventListener('click', () => {
+    replaceDesign(core.new_scenario(), 'Started a new design');
+  });
   $('save-file').addEventListener('click', () => {
     const s = page.state.scenario;
-    download(new Blob([`${JSON.stringify(s, null, 2)}\n`], { type: 'application/json' }), fileNameFor(s));
+    saveDesignFile();
     const note = pendingNote();
     if (note) toolbarMessage(`Saved ${fileNameFor(s)}.${note}`, { kind: 'error' });
   });
   $('share').addEventListener('click', async () => {
     const link = await shareLink(page.state.scenario, location.href.split('#')[0]);
     $('share').dataset.link = link;
+    const long = link.length > LINK_WARN_CHARS;
+    const warning = long
+      ? ` It is longer than ${formatCount(LINK_WARN_CHARS)} characters, which some browsers, mail and chat programs cut or refuse: if it does not arrive whole, send the design as a file instead (Save file).`
+      : '';
+    const kind = long ? 'error' : 'info';
     try {
       await navigator.clipboard.writeText(link);
-      toolbarMessage(`Share link copied (${link.length} characters). It carries the whole design; nothing is sent anywhere.${pendingNote()}`);
+      toolbarMessage(`Share link copied (${formatCount(link.length)} characters). It carries the whole design; nothing is sent anywhere.${warning}${pendingNote()}`, { kind });
     } catch {
-      toolbarMessage(`Share link (copy it from here): ${link}${pendingNote()}`);
+      toolbarMessage(`Share link (${formatCount(link.length)} characters; copy it from here): ${link}${warning}${pendingNote()}`, { kind });
     }
   });
   $('export-csv').addEventListener('click', () => {
@@ -357,7 +460,7 @@ function wireToolbar() {
     r.addEventListener('change', () => {
       page.state.unit = r.value;
       page.editor.render();
-      saveState(page.state);
+      keep(page.state);
       setLengthUnit(page.state.unit);
       page.view.setUnit(page.state.unit);
       if (page.figures) page.editor.showBendHints(page.figures.bends);
@@ -409,6 +512,47 @@ function withCaption(canvas, lines) {
   return out;
 }
 
+// ------------------------------------------------------------ tables and selects
+
+/**
+ * Mark each table wrap whose table is wider than it (data-overflow, shadows in design.css), show
+ * a line under it saying it scrolls sideways, and let the keyboard reach it.
+ */
+function watchTableWidths() {
+  const observer = new ResizeObserver((entries) => {
+    for (const e of entries) {
+      const wrap = e.target.closest('.table-wrap');
+      if (!wrap) continue;
+      const over = wrap.scrollWidth - wrap.clientWidth > 1;
+      wrap.dataset.overflow = String(over);
+      wrap.nextElementSibling.hidden = !over;
+      if (over) {
+        wrap.tabIndex = 0;
+        wrap.setAttribute('role', 'region');
+        wrap.setAttribute('aria-label', `${wrap.closest('section, figure')?.querySelector('h2, h3, figcaption')?.textContent.trim() || 'Table'}, scrolls sideways`);
+      } else {
+        wrap.removeAttribute('tabindex');
+        wrap.removeAttribute('role');
+        wrap.removeAttribute('aria-label');
+      }
+    }
+  });
+  for (const wrap of document.querySelectorAll('.table-wrap')) {
+    wrap.after(h('p', { class: 'scroll-cue', text: 'Scroll sideways for more columns →', hidden: true }));
+    observer.observe(wrap);
+    observer.observe(wrap.querySelector('table'));
+  }
+}
+
+/** A select shows its whole choice on hover and focus (a narrow one cuts a long name). */
+function titleSelects() {
+  const title = (e) => {
+    const el = e.target;
+    if (el instanceof HTMLSelectElement) el.title = el.selectedOptions[0]?.textContent || '';
+  };
+  for (const type of ['focusin', 'mouseover', 'change']) document.addEventListener(type, title);
+}
+
 // ------------------------------------------------------------ start
 
 async function start() {
@@ -423,7 +567,8 @@ async function start() {
     const text = await scenarioFromFragment();
     if (text) fromLink = readScenario(text);
   } catch (e) {
-    toolbarMessage(`The share link is damaged or incomplete (copy it again from where it was sent): ${messageOf(e)}. Showing your last design.`, { kind: 'error' });
+    forgetLink();
+    damagedLink(e, 'Showing your last design.');
   }
   page.state = loadState() || freshState(STARTER);
   const materials = core.materials();
@@ -434,16 +579,21 @@ async function start() {
   } catch {
     // A kept design this page cannot show (damaged storage, or from a different version):
     // keep its text aside, start from the starter design, and say so.
-    store(UNREADABLE_KEY, loadState()); // without storage there is nothing to keep aside
+    const setAside = store(UNREADABLE_KEY, loadState());
     page.state = freshState(STARTER);
     page.state.scenario = asRead(page.state.scenario);
     page.editor = new Editor($('editor'), page.state, materials, () => scheduleUpdate(), (text) => core.read_intensity_table(text));
     page.editor.render();
     toolbarMessage(
-      `The design kept in this browser could not be shown (it is damaged or from another version); it is set aside under “${UNREADABLE_KEY}” in this browser's storage. Starting from the example design.`,
+      `The design kept in this browser could not be shown (it is damaged or from another version); ${setAside
+        ? `it is set aside under “${UNREADABLE_KEY}” in this browser's storage`
+        : "this browser's storage refused to set it aside, so it is lost"}. Starting from the example design.`,
       { kind: 'error' },
     );
   }
+  // The last complete design, when the kept one needs fixing: only one the core accepts.
+  const last = page.state.lastComplete;
+  page.lastComplete = last && core.check_scenario(JSON.stringify(last)).ok ? asRead(last) : null;
   // The form is never sent anywhere (Enter in a field would submit it).
   $('editor').addEventListener('submit', (e) => e.preventDefault());
   for (const r of document.querySelectorAll('input[name="unit"]')) r.checked = r.value === page.state.unit;
@@ -457,20 +607,22 @@ async function start() {
     core,
     state: page.state,
     editor: page.editor,
-    onSaved: () => saveState(page.state),
+    onSaved: () => keep(page.state),
     openDesign: (scenario, how) => replaceDesign(readScenario(JSON.stringify(scenario)), how),
     traceWorker: traceWorker(),
   });
-  page.find = new FindPanel({ core, state: page.state, study: page.study, onSaved: () => saveState(page.state) });
+  page.find = new FindPanel({ core, state: page.state, study: page.study, onSaved: () => keep(page.state) });
   page.tolerances = new TolerancePanel({
     core,
     state: page.state,
     editor: page.editor,
-    onSaved: () => saveState(page.state),
+    onSaved: () => keep(page.state),
     openDesign: (scenario, how) => replaceDesign(readScenario(JSON.stringify(scenario)), how),
     traceWorker: traceWorker(),
   });
   wireToolbar();
+  watchTableWidths();
+  titleSelects();
   loadDemos();
   // Each bend of the table opens in the quick look with its own numbers (the core makes them).
   linkBendsToQuickLook((segment) => {
@@ -494,6 +646,7 @@ async function start() {
     update();
   }
   document.body.dataset.ready = 'true';
+  window.addEventListener('hashchange', () => onHashChange());
   window.addEventListener('resize', () => drawCharts());
   // Only a served page (http or https) can have a service worker; a file opened from disk has none.
   registerServiceWorker({

@@ -16,7 +16,8 @@ export const STARTER = Object.freeze({
     section: { round: { diameter_mm: 3 } },
     material: { library: 'pmma' },
     surroundings: { library: 'air' },
-    attenuation_db_per_m: 0.5,
+    // Acrylic's typical attenuation in the core's material library: the field follows the material.
+    attenuation_db_per_m: 0.3,
   },
   route: [
     { straight: { length_mm: 5 } },
@@ -95,9 +96,10 @@ export const toStored = (x, path, unit) => (unit === 'in' && isLength(path) ? x 
 // ---------------------------------------------------------------- the page state
 
 /**
- * `{ scenario, drafts, unit, study?, tolerances? }`: `drafts` maps a field path to the text typed there when it
+ * `{ scenario, drafts, unit, study?, tolerances?, lastComplete? }`: `drafts` maps a field path to the text typed there when it
  * is not (yet) a number, so it survives a reload; `unit` is 'mm' or 'in'; `study` the study panel's
- * set-up (see study.js), absent until one is made; `tolerances` the tolerances panel's (tolerance.js).
+ * set-up (see study.js), absent until one is made; `tolerances` the tolerances panel's (tolerance.js);
+ * `lastComplete` the last scenario without problems, kept only while the design has some.
  */
 export function freshState(scenario = STARTER) {
   return { scenario: clone(scenario), drafts: {}, unit: 'mm' };
@@ -118,6 +120,9 @@ export function loadState() {
       ...(saved.findMode === 'find' ? { findMode: 'find' } : {}),
       // The tolerances set up beside the design (tolerance.js), when there are some.
       ...(saved.tolerances && Array.isArray(saved.tolerances.spreads) ? { tolerances: saved.tolerances } : {}),
+      // The last design without problems, kept while some entry needs fixing (main.js), so a
+      // reload can show its results again.
+      ...(saved.lastComplete && typeof saved.lastComplete === 'object' ? { lastComplete: saved.lastComplete } : {}),
     };
   }
   return null;
@@ -197,12 +202,23 @@ export async function shareLink(scenario, base = location.href) {
 }
 
 /**
- * The scenario JSON text in a share-link fragment, null when there is none; throws a readable
- * Error for a link that does not decode or expands beyond MAX_DESIGN_BYTES.
+ * Share links longer than this may not arrive whole: about 2,000 characters is the length
+ * commonly given for a link that must work everywhere — older browsers, and mail and chat
+ * programs, cut or refuse longer ones (common practice, no source). Current browsers open far
+ * longer links, so a longer one is still made, with a warning and the file offered instead.
+ */
+export const LINK_WARN_CHARS = 2000;
+
+/**
+ * The scenario JSON text in a share-link fragment (`#d=…` or `#j=…`), null when the fragment is
+ * none (empty, or an anchor on the page); throws a readable Error for a link that is malformed,
+ * does not decode or expands beyond MAX_DESIGN_BYTES.
  */
 export async function scenarioFromFragment(hash = location.hash) {
-  const m = hash.match(/^#([dj])=([A-Za-z0-9_-]+)$/);
+  const m = hash.match(/^#([dj])=(.*)$/s);
   if (!m) return null;
+  if (!m[2]) throw new Error('it ends where its design should begin');
+  if (!/^[A-Za-z0-9_-]+$/.test(m[2])) throw new Error('its design text holds characters a share link never has');
   let bytes;
   try {
     bytes = fromBase64Url(m[2]);

@@ -356,9 +356,9 @@ describe('the design page keeps, shares and starts designs', { concurrency: fals
           table: w.querySelector('table').className,
           over: w.scrollWidth - w.clientWidth,
           flagged: w.dataset.overflow === 'true',
-          cue: Boolean(w.parentElement.querySelector('.scroll-cue')?.getClientRects().length),
+          cue: Boolean(w.nextElementSibling?.matches('.scroll-cue') && w.nextElementSibling.getClientRects().length),
         })));
-        assert.equal(wraps.length, 2);
+        assert.ok(wraps.length >= 2, `${wraps.length} tables`); // segments and bends, and where turned-back light ended
         for (const w of wraps) {
           if (viewport.width >= 820) assert.ok(w.over <= 1, `${viewport.width} px: the ${w.table} is ${w.over} px too wide`);
           assert.equal(w.flagged, w.over > 1, `${viewport.width} px: the ${w.table}'s overflow flag`);

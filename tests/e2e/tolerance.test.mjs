@@ -221,10 +221,10 @@ describe('the tolerances panel of the designer', { concurrency: false }, () => {
     await page.setViewportSize({ width: 820, height: 1180 });
     await page.click(`button.tol-pick[data-tol-path="${BEND_RADIUS}"]`);
     await page.click(`button.tol-pick[data-tol-path="${GAP}"]`);
-    // Widths follow the unit shown: 0.05 mm shows as 0.0019685 in.
+    // Widths follow the unit shown: 0.05 mm shows as 0.00197 in (three significant digits).
     const shows = (v) => page.waitForFunction(([sel, want]) => document.querySelector(sel)?.value === want, [widthInput(GAP), v], { timeout: 5000 });
     await page.check('input[name="unit"][value="in"]');
-    await shows(String(Number((0.05 / 25.4).toPrecision(5))));
+    await shows('0.00197');
     await page.check('input[name="unit"][value="mm"]');
     await shows('0.05');
     await setField(page, '#tol-variants', '20');

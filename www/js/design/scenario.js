@@ -85,8 +85,13 @@ export const isLength = (path) => /_mm(\[\d+\])?$/.test(path);
 /** A stored value shown in the chosen unit, without trailing noise (e.g. 0.1181 in). */
 export function showNumber(value, path, unit) {
   if (typeof value !== 'number' || !Number.isFinite(value)) return '';
-  // Inches to 0.0001 in (2.5 µm), so 2.5 mm shows as 0.0984, not 0.098425; the document keeps mm.
-  if (unit === 'in' && isLength(path)) return String(Number((value / MM_PER_INCH).toFixed(4)));
+  // Inches to 0.0001 in (2.5 µm) and at least three significant digits, so 2.5 mm shows as
+  // 0.0984 (not 0.098425) and a 0.05 mm tolerance as 0.00197; the document keeps mm.
+  if (unit === 'in' && isLength(path)) {
+    const v = value / MM_PER_INCH;
+    const decimals = v === 0 ? 4 : Math.min(12, Math.max(4, 2 - Math.floor(Math.log10(Math.abs(v)))));
+    return String(Number(v.toFixed(decimals)));
+  }
   return String(Number(value.toPrecision(10)));
 }
 

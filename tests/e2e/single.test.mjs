@@ -86,6 +86,16 @@ describe('the single-file page opened from disk', { concurrency: false }, () => 
     await page.screenshot({ path: join(OUT, 'single-file.png'), fullPage: true });
   });
 
+  test('from the file, where a share link cannot travel, the design\'s text is offered instead', async () => {
+    assert.equal(await page.locator('#share').innerText(), 'Copy design text');
+    await page.click('#share');
+    await page.waitForFunction(() => /design text/i.test(document.getElementById('toolbar-msg').textContent));
+    const msg = await page.locator('#toolbar-msg').innerText();
+    // Copied (with “Paste a design…” named), or refused with the file offered: never a link.
+    assert.match(msg, /Paste a design…|Save file/);
+    assert.doesNotMatch(msg, /file:\/\/|#d=/);
+  });
+
   test('where workers are refused it traces on the page: same answer, and Stop works', async () => {
     const p2 = await context.newPage();
     watch(p2);

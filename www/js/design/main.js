@@ -429,7 +429,24 @@ function wireToolbar() {
     const note = pendingNote();
     if (note) toolbarMessage(`Saved ${fileNameFor(s)}.${note}`, { kind: 'error' });
   });
+  // A page opened as a file (the single file) has no address another machine can open: it
+  // offers the design's text instead, for “Paste a design…” there.
+  const asFile = location.protocol === 'file:';
+  if (asFile) {
+    $('share').textContent = 'Copy design text';
+    $('share').title = 'A page opened as a file has no link another machine can open: copy the design as text to paste there';
+  }
   $('share').addEventListener('click', async () => {
+    if (asFile) {
+      const text = `${JSON.stringify(page.state.scenario, null, 2)}\n`;
+      try {
+        await navigator.clipboard.writeText(text);
+        toolbarMessage(`Design text copied (${formatCount(text.length)} characters): paste it with “Paste a design…” on the other machine. A link cannot travel from a page opened as a file.${pendingNote()}`);
+      } catch {
+        toolbarMessage(`The design text could not be copied here (the browser refused). Use Save file and send the file: a link cannot travel from a page opened as a file.${pendingNote()}`, { kind: 'error' });
+      }
+      return;
+    }
     const link = await shareLink(page.state.scenario, location.href.split('#')[0]);
     $('share').dataset.link = link;
     const long = link.length > LINK_WARN_CHARS;

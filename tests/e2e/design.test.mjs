@@ -698,6 +698,17 @@ describe('the design page in Chromium', { concurrency: false }, () => {
       const top = await p.locator('.answer-card').boundingBox();
       assert.ok(top && top.y >= -1 && top.y < 40, `the answer card is at y = ${top?.y}`);
       await p.screenshot({ path: join(OUT, 'design-820x1180-editing.png') });
+      // The toolbar keeps to two rows: the file actions sit behind one button, and open on a tap.
+      await p.evaluate(() => window.scrollTo(0, 0));
+      const rows = () => p.$$eval('.toolbar > *', (els) => new Set(els.filter((e) => e.getClientRects().length).map((e) => Math.round(e.getBoundingClientRect().top))).size);
+      assert.ok((await rows()) <= 2, `the toolbar has ${await rows()} rows`);
+      assert.equal(await p.locator('#save-file').isVisible(), false);
+      await p.screenshot({ path: join(OUT, 'design-820x1180-toolbar-closed.png') });
+      await p.tap('#file-actions-toggle');
+      assert.equal(await p.locator('#save-file').isVisible(), true);
+      assert.equal(await p.getAttribute('#file-actions-toggle', 'aria-expanded'), 'true');
+      await p.screenshot({ path: join(OUT, 'design-820x1180-toolbar.png') });
+      await p.tap('#file-actions-toggle');
     } finally {
       await tablet.close();
     }

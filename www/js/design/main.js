@@ -429,6 +429,11 @@ function wireToolbar() {
     const note = pendingNote();
     if (note) toolbarMessage(`Saved ${fileNameFor(s)}.${note}`, { kind: 'error' });
   });
+  // On a narrow screen the file actions open and close behind one button.
+  $('file-actions-toggle').addEventListener('click', () => {
+    const open = $('file-actions').classList.toggle('open');
+    $('file-actions-toggle').setAttribute('aria-expanded', String(open));
+  });
   // A page opened as a file (the single file) has no address another machine can open: it
   // offers the design's text instead, for “Paste a design…” there.
   const asFile = location.protocol === 'file:';

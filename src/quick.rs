@@ -138,22 +138,7 @@ pub struct Indices {
 impl QuickDesign {
     /// Read a design from JSON text; unknown fields and wrong types are errors.
     pub fn from_json(text: &str) -> Result<Self, TirError> {
-        let text = crate::problems::without_bom(text);
-        if let Some(said) = crate::reading::list_for_object(text) {
-            return Err(TirError::Parse(said));
-        }
-        let de = &mut serde_json::Deserializer::from_str(text);
-        serde_path_to_error::deserialize(&mut *de)
-            .map_err(|e| {
-                let path = e.path().to_string();
-                let e = e.into_inner();
-                (crate::reading::field_path(path, &e), e)
-            })
-            .and_then(|d| de.end().map(|()| d).map_err(|e| (String::new(), e)))
-            .map_err(|(path, e)| {
-                let said = crate::reading::plain_json(&e, text, crate::reading::last_key(&path));
-                TirError::Parse(crate::reading::at_path(&path, &said))
-            })
+        crate::reading::read_document(text).map_err(|u| TirError::Parse(u.sentence()))
     }
 
     /// Every problem with the design, each naming its field and the allowed range. Empty when

@@ -285,6 +285,54 @@ pub fn at_path(path: &str, said: &str) -> String {
     }
 }
 
+/// Why a document could not be read: the field path where reading stopped (empty for the
+/// document as a whole) and what went wrong there in plain words, without the path.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct Unread {
+    /// The field path, or empty.
+    pub path: String,
+    /// The reason in plain words ([`plain_json`]).
+    pub said: String,
+}
+
+impl Unread {
+    /// The reason with its place: `route[1].bend must be …`, or `the document has …`.
+    pub fn sentence(&self) -> String {
+        at_path(&self.path, &self.said)
+    }
+}
+
+/// Read a whole document of type `T` from JSON text, as every reader of a document does: a
+/// byte-order mark dropped, a list refused where a document is expected, text after the document
+/// refused, and what stops the reader told in plain words at its field path ([`Unread`]).
+pub fn read_document<T: serde::de::DeserializeOwned>(text: &str) -> Result<T, Unread> {
+    let text = crate::problems::without_bom(text);
+    if let Some(said) = list_for_object(text) {
+        return Err(Unread {
+            path: String::new(),
+            said,
+        });
+    }
+    let de = &mut serde_json::Deserializer::from_str(text);
+    serde_path_to_error::deserialize(&mut *de)
+        .map_err(|e| {
+            let path = e.path().to_string();
+            let e = e.into_inner();
+            (field_path(path, &e), e)
+        })
+        // Text after the document is refused: the reader alone would stop at its end.
+        .and_then(|d| de.end().map(|()| d).map_err(|e| (String::new(), e)))
+        .map_err(|(path, e)| {
+            let said = plain_json(&e, text, last_key(&path));
+            let path = if path == "." || path == "?" {
+                String::new()
+            } else {
+                path
+            };
+            Unread { path, said }
+        })
+}
+
 /// Why a document's text is no document, when it is given as a list (`[ … ]`): the reader
 /// would take the list's items for the fields in order and complain about one of them.
 pub fn list_for_object(text: &str) -> Option<String> {

@@ -476,28 +476,8 @@ impl Scenario {
     /// [`Scenario::from_json`], with the path serde reached where reading stopped (empty for
     /// the document as a whole) beside the error, for a form that marks the field.
     pub(crate) fn read_json(text: &str) -> Result<Self, (String, TirError)> {
-        let text = crate::problems::without_bom(text);
-        if let Some(said) = crate::reading::list_for_object(text) {
-            return Err((String::new(), TirError::ParseScenario(said)));
-        }
-        let de = &mut serde_json::Deserializer::from_str(text);
-        let read = serde_path_to_error::deserialize(&mut *de)
-            .map_err(|e| {
-                let path = e.path().to_string();
-                let e = e.into_inner();
-                (crate::reading::field_path(path, &e), e)
-            })
-            // Text after the document is refused: the reader alone would stop at its end.
-            .and_then(|s| de.end().map(|()| s).map_err(|e| (String::new(), e)));
-        read.map_err(|(path, e)| {
-            let said = crate::reading::plain_json(&e, text, crate::reading::last_key(&path));
-            let error = TirError::ParseScenario(crate::reading::at_path(&path, &said));
-            if path.is_empty() || path == "." || path == "?" {
-                (String::new(), error)
-            } else {
-                (path, error)
-            }
-        })
+        crate::reading::read_document(text)
+            .map_err(|u| (u.path.clone(), TirError::ParseScenario(u.sentence())))
     }
 
     /// Write the scenario as pretty JSON.

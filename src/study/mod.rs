@@ -239,33 +239,16 @@ impl Study {
     /// Read a study document; on failure every problem found, each naming its field path in the
     /// study document and the allowed range.
     pub fn from_json(text: &str) -> Result<Study, Vec<Problem>> {
-        let text = crate::problems::without_bom(text);
-        if let Some(said) = crate::reading::list_for_object(text) {
-            return Err(vec![problem("study", format!("could not be read: {said}"))]);
-        }
-        let de = &mut serde_json::Deserializer::from_str(text);
-        let doc: StudyDocument = serde_path_to_error::deserialize(&mut *de)
-            .map_err(|e| {
-                let path = e.path().to_string();
-                let e = e.into_inner();
-                (crate::reading::field_path(path, &e), e)
-            })
-            // Text after the document is refused: the reader alone would stop at its end.
-            .and_then(|d| de.end().map(|()| d).map_err(|e| (String::new(), e)))
-            .map_err(|(path, e)| {
-                let said = crate::reading::plain_json(&e, text, crate::reading::last_key(&path));
-                if path.is_empty() || path == "." || path == "?" {
-                    vec![problem(
-                        "study",
-                        format!(
-                            "could not be read: {}",
-                            crate::reading::at_path(&path, &said)
-                        ),
-                    )]
-                } else {
-                    vec![problem(path, said)]
-                }
-            })?;
+        let doc: StudyDocument = crate::reading::read_document(text).map_err(|u| {
+            if u.path.is_empty() {
+                vec![problem(
+                    "study",
+                    format!("could not be read: {}", u.sentence()),
+                )]
+            } else {
+                vec![problem(u.path, u.said)]
+            }
+        })?;
         let mut errors = FieldErrors::default();
         errors.version(doc.version, STUDY_VERSION);
         let mut problems: Vec<Problem> = errors.0.iter().map(Problem::from).collect();

@@ -156,16 +156,13 @@ export class RouteView {
   fit() {
     const o = this.outline;
     if (!o) return;
-    let lo = [Infinity, Infinity];
-    let hi = [-Infinity, -Infinity];
-    const add = (p, r = 0) => {
-      const [u, v] = this.project(p);
+    let [lo, hi] = this.extent();
+    if (o.receiver) {
+      const r = Math.max(o.receiver.half_width_mm, o.receiver.half_height_mm);
+      const [u, v] = this.project(o.receiver.centre);
       lo = [Math.min(lo[0], u - r), Math.min(lo[1], v - r)];
       hi = [Math.max(hi[0], u + r), Math.max(hi[1], v + r)];
-    };
-    for (const seg of o.segments) for (const pt of seg.points) add(pt.centre, Math.max(pt.half_width_mm, pt.half_height_mm));
-    if (o.source_mm) add(o.source_mm);
-    if (o.receiver) add(o.receiver.centre, Math.max(o.receiver.half_width_mm, o.receiver.half_height_mm));
+    }
     const w = Math.max(1, this.canvas.clientWidth);
     const hgt = Math.max(1, this.canvas.clientHeight);
     const span = [Math.max(hi[0] - lo[0], 1e-3), Math.max(hi[1] - lo[1], 1e-3)];

@@ -705,6 +705,18 @@ describe('the design page in Chromium', { concurrency: false }, () => {
       assert.equal(await p.locator('#save-file').isVisible(), false);
       await p.screenshot({ path: join(OUT, 'design-820x1180-toolbar-closed.png') });
       await p.tap('#file-actions-toggle');
+      // From the answer card, one tap reaches the 3D view and the budget below the long form,
+      // and the answer stays in view above them.
+      for (const [link, target] of [['3D view', '#route-view'], ['Where the light is lost', '#budget-title']]) {
+        await p.locator('.answer-card .jump a', { hasText: link }).tap();
+        await p.waitForTimeout(300);
+        const box = await p.locator(target).boundingBox();
+        assert.ok(box && box.y >= 0 && box.y < 1180, `${link}: ${target} at y = ${box?.y}`);
+        const card = await p.locator('.answer-card').boundingBox();
+        assert.ok(card && card.y >= -1 && card.y < 40, `the answer card at y = ${card?.y}`);
+      }
+      await p.screenshot({ path: join(OUT, 'design-820x1180-jumped.png') });
+      await p.locator('.answer-card .jump a', { hasText: 'Back to the form' }).tap();
       assert.equal(await p.locator('#save-file').isVisible(), true);
       assert.equal(await p.getAttribute('#file-actions-toggle', 'aria-expanded'), 'true');
       await p.screenshot({ path: join(OUT, 'design-820x1180-toolbar.png') });

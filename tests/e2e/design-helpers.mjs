@@ -2,11 +2,13 @@
 // scenario and answer, wait for a trace, and trace the same scenario with the native CLI.
 
 import assert from 'node:assert/strict';
-import { rmSync, writeFileSync } from 'node:fs';
+import { existsSync, mkdirSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 
-import { cli } from './harness.mjs';
+import { chromium } from 'playwright-core';
+
+import { CHROMIUM, CHROMIUM_ARGS, OUT, WWW, cli, collectErrors, startServer } from './harness.mjs';
 
 export const STATE_KEY = 'tirtrace.design.v1';
 
@@ -34,6 +36,32 @@ export async function tracedAfter(page, action, timeout = 60_000) {
     }));
     throw new Error(`no finished trace after the action (job before: ${before}): ${JSON.stringify(state)}`, { cause: e });
   }
+}
+
+/**
+ * The designer served and open in a fresh Chromium (1280×800 unless `viewport` says otherwise),
+ * its console errors collected into `consoleErrors`, started (and, with `traced`, its first trace
+ * done): `{ server, browser, page }`. The caller closes the browser and stops the server.
+ */
+export async function designPage(consoleErrors, { viewport = { width: 1280, height: 800 }, traced = false, acceptDownloads = false } = {}) {
+  assert.ok(existsSync(join(WWW, 'pkg', 'tirtrace.js')), 'www/pkg is missing: run `bash scripts/build.sh` first');
+  mkdirSync(OUT, { recursive: true });
+  const server = await startServer();
+  const browser = await chromium.launch({ executablePath: CHROMIUM, args: CHROMIUM_ARGS });
+  const context = await browser.newContext({ viewport, acceptDownloads });
+  const page = await context.newPage();
+  collectErrors(page, consoleErrors);
+  await page.goto(`${server.origin}/`);
+  if (traced) await firstTrace(page);
+  else await page.waitForSelector('body[data-ready="true"]', { timeout: 30_000 });
+  return { server, browser, page };
+}
+
+/** Keep `scenario` as the page's design in its storage, reload, and wait for the first trace. */
+export async function openKept(page, scenario) {
+  await page.evaluate(([k, s]) => localStorage.setItem(k, JSON.stringify({ scenario: s, drafts: {}, unit: 'mm' })), [STATE_KEY, scenario]);
+  await page.reload();
+  await firstTrace(page);
 }
 
 /** Wait until the page has started and its first trace has finished. */

@@ -9,14 +9,12 @@
 // Run: node --test tests/e2e/figures.test.mjs
 
 import assert from 'node:assert/strict';
-import { existsSync, mkdirSync } from 'node:fs';
+
 import { join } from 'node:path';
 import { after, before, describe, test } from 'node:test';
 
-import { chromium } from 'playwright-core';
-
-import { STATE_KEY, assertNoJunk, firstTrace, tracedAfter } from './design-helpers.mjs';
-import { CHROMIUM, CHROMIUM_ARGS, OUT, WWW, collectErrors, startServer, stopServer } from './harness.mjs';
+import { assertNoJunk, designPage, openKept, tracedAfter } from './design-helpers.mjs';
+import { OUT, collectErrors, stopServer } from './harness.mjs';
 
 /** The starting design's pipe (3 mm acrylic, one bend), lossless, with `flux` and `rays`. */
 function design(flux, rays = 100_000) {
@@ -73,24 +71,10 @@ describe('the figures on the design page', { concurrency: false }, () => {
   let page;
   const consoleErrors = [];
 
-  /** Keep `scenario` in the page's storage (as the page keeps its design), reload, and wait for
-   * the reloaded page's first trace. */
-  async function open(p, scenario) {
-    await p.evaluate(([k, s]) => localStorage.setItem(k, JSON.stringify({ scenario: s, drafts: {}, unit: 'mm' })), [STATE_KEY, scenario]);
-    await p.reload();
-    await firstTrace(p);
-  }
+  const open = openKept;
 
   before(async () => {
-    assert.ok(existsSync(join(WWW, 'pkg', 'tirtrace.js')), 'www/pkg is missing: run `bash scripts/build.sh` first');
-    mkdirSync(OUT, { recursive: true });
-    server = await startServer();
-    browser = await chromium.launch({ executablePath: CHROMIUM, args: CHROMIUM_ARGS });
-    const context = await browser.newContext({ viewport: { width: 1280, height: 800 } });
-    page = await context.newPage();
-    collectErrors(page, consoleErrors);
-    await page.goto(`${server.origin}/`);
-    await page.waitForSelector('body[data-ready="true"]', { timeout: 30_000 });
+    ({ server, browser, page } = await designPage(consoleErrors));
   });
 
   after(async () => {

@@ -6,15 +6,13 @@
 // Before: cargo build; bash scripts/build.sh; npm ci --prefix tests/e2e. Run: node --test tests/e2e/limits.test.mjs
 
 import assert from 'node:assert/strict';
-import { existsSync, mkdirSync } from 'node:fs';
+
 import { join } from 'node:path';
 import { deflateRawSync } from 'node:zlib';
 import { after, before, describe, test } from 'node:test';
 
-import { chromium } from 'playwright-core';
-
-import { firstTrace, pageScenario, tracedAfter } from './design-helpers.mjs';
-import { CHROMIUM, CHROMIUM_ARGS, OUT, WWW, collectErrors, startServer, stopServer } from './harness.mjs';
+import { designPage, pageScenario, tracedAfter } from './design-helpers.mjs';
+import { OUT, stopServer } from './harness.mjs';
 
 /** A bare 0.1 mm acrylic fibre `lengthMm` long: a ray meets its wall some five times a millimetre. */
 const thinFibre = (lengthMm, rays) => ({
@@ -51,15 +49,7 @@ describe('limits that protect the machine, on the design page', { concurrency: f
   const consoleErrors = [];
 
   before(async () => {
-    assert.ok(existsSync(join(WWW, 'pkg', 'tirtrace.js')), 'www/pkg is missing: run `bash scripts/build.sh` first');
-    mkdirSync(OUT, { recursive: true });
-    server = await startServer();
-    browser = await chromium.launch({ executablePath: CHROMIUM, args: CHROMIUM_ARGS });
-    const context = await browser.newContext({ viewport: { width: 1280, height: 800 } });
-    page = await context.newPage();
-    collectErrors(page, consoleErrors);
-    await page.goto(`${server.origin}/`);
-    await firstTrace(page);
+    ({ server, browser, page } = await designPage(consoleErrors, { traced: true }));
   });
 
   after(async () => {

@@ -10,15 +10,13 @@
 // Run: node --test tests/e2e/turn_back.test.mjs
 
 import assert from 'node:assert/strict';
-import { existsSync, mkdirSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
+import { readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { after, before, describe, test } from 'node:test';
 
-import { chromium } from 'playwright-core';
-
-import { STATE_KEY, assertNoJunk, cliTrace, firstTrace, pageScenario } from './design-helpers.mjs';
-import { CHROMIUM, CHROMIUM_ARGS, OUT, WWW, cli, collectErrors, startServer, stopServer } from './harness.mjs';
+import { assertNoJunk, cliTrace, designPage, openKept, pageScenario } from './design-helpers.mjs';
+import { OUT, cli, collectErrors, stopServer } from './harness.mjs';
 
 /**
  * A 2.5 mm acrylic pipe in air fed by a Lambertian LED: 5 mm straight, a 90° bend of centre
@@ -48,11 +46,7 @@ describe('light turned back at the exit face, on the design page', { concurrency
   let page;
   const consoleErrors = [];
 
-  async function open(p, scenario) {
-    await p.evaluate(([k, s]) => localStorage.setItem(k, JSON.stringify({ scenario: s, drafts: {}, unit: 'mm' })), [STATE_KEY, scenario]);
-    await p.reload();
-    await firstTrace(p);
-  }
+  const open = openKept;
 
   /** The page's own formatting of a share with its interval ("12.3 % ± 0.4"), kept on one line
    * (no-break spaces). */
@@ -60,15 +54,7 @@ describe('light turned back at the exit face, on the design page', { concurrency
     p.evaluate(async (s) => (await import('./js/format.js')).formatShareCi(s.share, s.ci95).replaceAll(' ', '\u00a0'), share);
 
   before(async () => {
-    assert.ok(existsSync(join(WWW, 'pkg', 'tirtrace.js')), 'www/pkg is missing: run `bash scripts/build.sh` first');
-    mkdirSync(OUT, { recursive: true });
-    server = await startServer();
-    browser = await chromium.launch({ executablePath: CHROMIUM, args: CHROMIUM_ARGS });
-    const context = await browser.newContext({ viewport: { width: 1280, height: 800 }, acceptDownloads: true });
-    page = await context.newPage();
-    collectErrors(page, consoleErrors);
-    await page.goto(`${server.origin}/`);
-    await page.waitForSelector('body[data-ready="true"]', { timeout: 30_000 });
+    ({ server, browser, page } = await designPage(consoleErrors, { acceptDownloads: true }));
   });
 
   after(async () => {

@@ -275,6 +275,24 @@ describe('the tirtrace page in Chromium', { concurrency: false }, () => {
     await page.fill('#launch-angle', '30');
   });
 
+  test('entries that storage refuses are said not to be kept', async () => {
+    const p2 = await page.context().newPage();
+    try {
+      await p2.addInitScript(() => {
+        Storage.prototype.setItem = () => {
+          throw new DOMException('full', 'QuotaExceededError');
+        };
+      });
+      await p2.goto(page.url());
+      await p2.waitForSelector('body[data-ready="true"]', { timeout: 30_000 });
+      await p2.fill('#diameter', '2.5');
+      await p2.waitForFunction(() => /could not be kept/.test(document.getElementById('status').textContent));
+      assert.match(await text(p2, '#status'), /^Your entries could not be kept in this browser \(its storage is full or refused\): they will be lost when the page closes\.$/);
+    } finally {
+      await p2.close();
+    }
+  });
+
   test('marks bad input next to its field and never shows NaN', async () => {
     await enterDesign(page, {
       material: 'pmma', surroundings: 'air', wavelength_nm: 587.6, diameter_mm: 3,

@@ -75,9 +75,17 @@ function update() {
   drawPictures();
 }
 
+/** Keep the entries in this browser; when its storage is full or refuses, say so (never claim they are kept). */
+function keepEntries(entries) {
+  const kept = saveEntries(entries);
+  if (!kept) setStatus('Your entries could not be kept in this browser (its storage is full or refused): they will be lost when the page closes.', 'error');
+  else if ($('status').dataset.kind === 'error' && /could not be kept/.test($('status').textContent)) setStatus('Your entries are kept in this browser again.', 'ready');
+  return kept;
+}
+
 function onEntry(key, value) {
   page.entries[key] = value;
-  saveEntries(page.entries);
+  keepEntries(page.entries);
   update();
 }
 
@@ -121,7 +129,7 @@ async function start() {
     try {
       page.form.write(entriesFromDesign(JSON.parse(decodeURIComponent(location.hash.slice('#design='.length)))));
       opened = 'Showing the bend from your design, seen on its own (the bends and tapers before it are left out).';
-      saveEntries(page.form.read());
+      keepEntries(page.form.read());
     } catch (e) {
       opened = `The bend from the designer could not be shown (the link is damaged: ${messageOf(e)}); showing your last entries.`;
     }
@@ -131,7 +139,7 @@ async function start() {
   $('reset').addEventListener('click', () => {
     page.form.write({ ...EXAMPLE_ENTRIES });
     page.entries = page.form.read();
-    saveEntries(page.entries);
+    keepEntries(page.entries);
     update();
   });
   update();

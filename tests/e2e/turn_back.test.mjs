@@ -1,8 +1,9 @@
 // The light turned back at the exit face on the design page, in Chromium: the sentence "Turned
 // back at the exit face: X of the light reaching it (by total reflection Y, by Fresnel reflection
 // Z)" and the table of where that light ended, both the CLI's figures with their intervals; the
-// bend table says how much of a leak-free bend's traced leak came after a turn back, and the
-// bend's note says why; a widening exit taper turns less back; an exit face bonded to the pipe's
+// bend table says how much of a leak-free bend's traced leak came after a turn back, its mark
+// reads "Leaks on return" rather than "No leak expected", and the bend's note says
+// why; a widening exit taper turns less back; an exit face bonded to the pipe's
 // own index turns nothing back; the budget CSV carries the same tables as `tirtrace trace --csv`.
 // Screenshots at 1280×800 and 820×1180 go to tests/e2e/out/ (git-ignored).
 //
@@ -92,6 +93,8 @@ describe('light turned back at the exit face, on the design page', { concurrency
     assert.equal(await bend.getAttribute('data-verdict'), 'ok');
     assert.ok(theirs.segments[1].leaked.share > 0);
     assert.equal(await bend.locator('.turn-back-part').innerText(), 'All of it after a turn back at the exit face');
+    // Its mark says what the trace shows, not only the closed form's verdict for the way out.
+    assert.equal(await bend.locator('.mark').innerText(), 'Leaks on return');
     const note = await bend.locator('.mark').getAttribute('title');
     assert.match(note, /^Leak-free on the way to the exit face: .*passes this bend again in the other direction/);
     assert.match(await page.locator('#bend-note').innerText(), /passes the bends again in the other direction/);
@@ -130,6 +133,10 @@ describe('light turned back at the exit face, on the design page', { concurrency
       'Nothing is turned back at the exit face: the medium beyond it has the index of the pipe.');
     assert.ok(await page.locator('#turn-back-ends').isHidden());
     assert.equal(await page.locator('#bend-rows tr[data-segment="1"] .turn-back-part').count(), 0);
+    // With nothing turned back the leak-free bend leaks nothing in the trace, and says so.
+    const matched = cliTrace(await pageScenario(page));
+    assert.equal(matched.segments[1].leaked.share, 0);
+    assert.equal(await page.locator('#bend-rows tr[data-segment="1"] .mark').innerText(), 'No leak expected');
   });
 
   test('at tablet size', async () => {

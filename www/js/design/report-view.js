@@ -247,13 +247,29 @@ function afterTurnBackText(seg) {
   return `Of which ${formatShareCi(part.share, part.ci95)} after a turn back at the exit face`;
 }
 
+/**
+ * A bend's mark: the closed-form verdict for the light on its way to the exit face, told apart
+ * from what the trace shows once it is in. A bend the closed form calls leak-free reads "Leaks
+ * on return" when every ray that leaked there had been turned back at the exit face
+ * first, and "Leaks in trace" when some leaked on the way out (light a mount scattered,
+ * say); the title carries the closed form's reasoning.
+ */
+function bendMark(bf, seg) {
+  if (bf.verdict !== 'ok') return { kind: 'leaks', text: 'Leaks' };
+  const leaked = seg?.leaked?.share ?? 0;
+  if (!(leaked > 0)) return { kind: 'ok', text: 'No leak expected' };
+  const after = seg?.leaked_after_turn_back?.share ?? 0;
+  if (after === leaked) return { kind: 'back', text: 'Leaks on return' };
+  return { kind: 'back', text: 'Leaks in trace' };
+}
+
 /** The per-bend table: closed-form leak-free radius for this launch, and the traced leakage. */
 export function showBends(figures, report) {
   const rows = (figures?.bends || []).map((bf) => {
     const seg = report?.segments?.[bf.segment];
     const leaked = seg ? formatShareCi(seg.leaked.share, seg.leaked.ci95) : '…';
     const after = afterTurnBackText(seg);
-    const ok = bf.verdict === 'ok';
+    const mark = bendMark(bf, seg);
     return h('tr', { dataset: { segment: String(bf.segment), verdict: bf.verdict } },
       h('th', { scope: 'row', text: `${bf.segment + 1}` }),
       h('td', { class: 'num', text: `${fixed(bf.angle_deg, 0)}°` }),
@@ -263,7 +279,7 @@ export function showBends(figures, report) {
       h('td', { class: 'num', text: bf.leak_free_inner_radius_mm == null ? 'none exists' : length(bf.leak_free_inner_radius_mm, 2) }),
       h('td', { class: 'num bend-leak' }, leaked, ...(after ? [h('span', { class: 'turn-back-part', text: after })] : [])),
       h('td', {},
-        h('span', { class: `mark mark-${ok ? 'ok' : 'leaks'}`, text: ok ? 'No leak expected' : 'Leaks', title: sentence(bf.note) }),
+        h('span', { class: `mark mark-${mark.kind}`, text: mark.text, title: sentence(bf.note) }),
         quickLink(bf.segment)));
   });
   $('bend-rows').replaceChildren(...rows);

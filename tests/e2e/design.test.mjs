@@ -16,7 +16,7 @@ import { after, before, describe, test } from 'node:test';
 
 import { chromium } from 'playwright-core';
 
-import { STATE_KEY, answer, assertNoJunk, cliTrace, inkShare, pageScenario, tracedAfter } from './design-helpers.mjs';
+import { STATE_KEY, answer, assertNoJunk, cliTrace, inkShare, openKept, pageScenario, tracedAfter } from './design-helpers.mjs';
 import { CHROMIUM, CHROMIUM_ARGS, CLI, OUT, ROOT, WWW, collectErrors, reachable, serviceWorkerControls, startServer, stopServer } from './harness.mjs';
 
 describe('the design page in Chromium', { concurrency: false }, () => {
@@ -398,10 +398,28 @@ describe('the design page in Chromium', { concurrency: false }, () => {
       return n;
     });
     assert.ok((await greenish()) > 200, 'no board drawn');
+    // The leakage along the route, straightened under the view: the same in every view (the
+    // strip in the pipe hides where the pipe runs toward the viewer), a mark per segment, and
+    // its worst place in a segment the command line says leaks.
+    const line = page.locator('#leak-line');
+    const lineText = await line.innerText();
+    const scenario = await pageScenario(page);
+    assert.equal(await line.locator('.leak-seg').count(), scenario.route.length);
+    assert.equal(await line.locator('.leak-bin').count(), cliTrace(scenario).leak_along_route.share.length);
+    const worst = Number(await line.getAttribute('data-worst-segment'));
+    assert.ok(cliTrace(scenario).segments[worst].leaked.share > 0, `segment ${worst + 1} is named as leaking most`);
+    assert.match(lineText, new RegExp(`Most leakage [0-9.]+ mm from the entry face, in segment ${worst + 1}\\.`));
+    assert.match(lineText, /exit, [0-9.]+ mm/);
     for (const v of ['plan', 'side', 'board', 'turned']) {
       await page.click(`[data-view="${v}"]`);
-      await page.screenshot({ path: join(OUT, `design-view-${v}.png`), clip: await view.boundingBox() });
+      await page.locator('.route-card').screenshot({ path: join(OUT, `design-view-${v}.png`) });
+      assert.ok(await line.isVisible());
+      assert.equal(await line.innerText(), lineText, `the leakage line changed with the ${v} view`);
     }
+    await page.check('input[name="unit"][value="in"]');
+    assert.match(await line.innerText(), /exit, 0\.[0-9]{3} in|exit, [0-9]+\.[0-9]{3} in/);
+    assert.match(await page.locator('#route-legend').innerText(), /within [0-9.]+ in/);
+    await page.check('input[name="unit"][value="mm"]');
     // Dragging and keys far off: the model stays on the canvas.
     const ink = () => page.$eval('#route-view', (c) => {
       const d = c.getContext('2d').getImageData(0, 0, c.width, c.height).data;
@@ -721,6 +739,20 @@ describe('the design page in Chromium', { concurrency: false }, () => {
       assert.equal(await p.getAttribute('#file-actions-toggle', 'aria-expanded'), 'true');
       await p.screenshot({ path: join(OUT, 'design-820x1180-toolbar.png') });
       await p.tap('#file-actions-toggle');
+      // A design with the LED's flux given (the thermostat example): its absolute figures (flux,
+      // intensity) and the notes open below the answer with one tap.
+      await openKept(p, JSON.parse(readFileSync(join(ROOT, 'examples', 'scenarios', 'thermostat_status_led.json'), 'utf8')));
+      await p.locator('#part-trace').scrollIntoViewIfNeeded();
+      assert.equal(await p.locator('#extra').isVisible(), false);
+      await p.tap('#more-figures');
+      assert.equal(await p.getAttribute('#more-figures', 'aria-expanded'), 'true');
+      assert.ok(await p.locator('#extra').isVisible(), 'the absolute figures do not open');
+      assert.match(await p.locator('#extra').innerText(), /Flux reaching the window\s+\d/);
+      const opened = await p.locator('.answer-card').boundingBox();
+      assert.ok(opened && opened.y >= -1 && opened.height < 0.75 * 1180, `the opened card: ${JSON.stringify(opened)}`);
+      await p.screenshot({ path: join(OUT, 'design-820x1180-more-figures.png') });
+      await p.tap('#more-figures');
+      assert.equal(await p.locator('#extra').isVisible(), false);
     } finally {
       await tablet.close();
     }

@@ -11,7 +11,8 @@ import { store } from '../storage.js';
 import { MainThreadPool } from '../trace/main-thread-pool.js';
 import { TracePool } from '../trace/pool.js';
 import { Editor } from './editor.js';
-import { FATES, RouteView, heatGradientCss } from './route-view.js';
+import { FATES, RouteView, heatColour, heatGradientCss } from './route-view.js';
+import { showLeakLine } from './leak-line.js';
 import { clearReport, linkBendsToQuickLook, setLengthUnit, showBends, showExitMapTable, showFigures, showProgress, showReport } from './report-view.js';
 import {
   LINK_WARN_CHARS, MAX_DESIGN_BYTES, STARTER, clone, download, fileNameFor, freshState, loadState, saveState,
@@ -180,6 +181,7 @@ function trace(scenario, { stale }) {
     const outline = core.route_outline(json);
     if (outline.receiver) outline.receiver.round = scenario.receiver?.diameter_mm != null;
     page.view.setOutline(outline);
+    showLeakLineNow();
   } catch (e) {
     setStatus(`Could not draw the design: ${messageOf(e)}`, 'error');
     return false;
@@ -276,11 +278,19 @@ function drawLegend(report) {
   ramp.style.background = heatGradientCss();
   ramp.setAttribute('aria-hidden', 'true');
   const max = page.view.heatMax;
-  heat.append(ramp, max > 0 ? `Leakage along the pipe: darkest, ${(100 * max).toPrecision(2)} % of the light within ${page.view.heatBinMm.toPrecision(2)} mm` : 'No leakage along the pipe');
+  const bin = page.state.unit === 'in' ? `${(page.view.heatBinMm / 25.4).toPrecision(2)} in` : `${page.view.heatBinMm.toPrecision(2)} mm`;
+  heat.append(ramp, max > 0 ? `Leakage along the pipe: darkest, ${(100 * max).toPrecision(2)} % of the light within ${bin}` : 'No leakage along the pipe');
   const lead = document.createElement('span');
   lead.className = 'key key-lead';
   lead.textContent = drawn > 0 ? `Drawn rays, ${formatCount(drawn)} of the ${formatCount(report.rays)} traced (the budget counts them all):` : 'No rays drawn.';
   $('route-legend').replaceChildren(lead, ...items, heat);
+  showLeakLineNow();
+}
+
+/** The leakage along the route, straightened, for the route drawn and its trace (none while the
+ * route drawn has not been traced yet). */
+function showLeakLineNow() {
+  showLeakLine($('leak-line'), page.view.outline, page.view.report?.leak_along_route, page.state.unit, heatColour);
 }
 
 // ------------------------------------------------------------ replacing the design
@@ -434,6 +444,13 @@ function wireToolbar() {
     const open = $('file-actions').classList.toggle('open');
     $('file-actions-toggle').setAttribute('aria-expanded', String(open));
   });
+  // On a narrow screen the answer card keeps to the answer; the notes and the absolute figures
+  // open below it with one tap.
+  $('more-figures').addEventListener('click', () => {
+    const open = document.querySelector('.answer-card').classList.toggle('more');
+    $('more-figures').setAttribute('aria-expanded', String(open));
+    $('more-figures').textContent = open ? 'Fewer figures ▴' : 'More figures ▾';
+  });
   // A page opened as a file (the single file) has no address another machine can open: it
   // offers the design's text instead, for “Paste a design…” there.
   const asFile = location.protocol === 'file:';
@@ -485,6 +502,8 @@ function wireToolbar() {
       keep(page.state);
       setLengthUnit(page.state.unit);
       page.view.setUnit(page.state.unit);
+      showLeakLineNow();
+      if (page.report) drawLegend(page.report);
       if (page.figures) page.editor.showBendHints(page.figures.bends);
       if (page.report) showReport(page.report, page.figures, page.reportScenario);
       else if (page.figures) showBends(page.figures, null);

@@ -24,7 +24,7 @@ const HEAT = [
   [120, 10, 20],
 ];
 
-function heatColour(x) {
+export function heatColour(x) {
   const t = Math.min(1, Math.max(0, x)) * (HEAT.length - 1);
   const i = Math.min(HEAT.length - 2, Math.floor(t));
   const f = t - i;

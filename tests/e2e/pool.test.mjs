@@ -168,10 +168,14 @@ describe('tracing in Web Workers (www/js/trace/pool.js) in Chromium', { concurre
       if (i === 0) continue;
       const prev = updates[i - 1];
       assert.ok(u.raysDone > prev.raysDone && u.batchesDone > prev.batchesDone, `update ${i}: ${prev.raysDone} → ${u.raysDone} rays`);
-      // Merges are asked for at least max(150 ms, 3 × the last merge's time) apart (the final
-      // one is never held back), so their reports come at least 100 ms apart (80: timer jitter).
-      if (!u.done) assert.ok(u.at - prev.at >= 80, `updates ${i - 1} and ${i} only ${(u.at - prev.at).toFixed(0)} ms apart`);
     }
+    // Merges are asked for at least max(150 ms, 3 × the last merge's time) apart (the final one
+    // is never held back). Their reports may arrive bunched when the page's thread is busy, so
+    // the check is on their number: over the time the intermediate ones span, no more than one
+    // per 100 ms (150 less timer jitter), plus the first.
+    const shown = updates.filter((u) => !u.done);
+    const span = shown.at(-1).at - shown[0].at;
+    assert.ok(shown.length <= 1 + Math.floor(span / 100), `${shown.length} intermediate updates within ${span.toFixed(0)} ms`);
     // Batches are merged in order only: an intermediate report is the native run of that many rays.
     assert.ok(intermediate, 'an intermediate report');
     const k = updates[0].batchesDone;

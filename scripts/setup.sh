@@ -3,7 +3,9 @@
 #   - the wasm32-unknown-unknown Rust target
 #   - node and npm (Debian's), and the build tools from npm in tools/ (wasm-opt, esbuild)
 #   - wasm-bindgen-cli at exactly the version in Cargo.lock, into .tools/ (git-ignored)
-#   - with --browser: Debian's chromium + chromium-driver, and the npm packages of tests/e2e
+#   - with --browser: Debian's chromium + chromium-driver, firefox-esr, webkit2gtk-driver (WebKitGTK's
+#     WebKitWebDriver and MiniBrowser) and xvfb (MiniBrowser has no headless mode), and the npm
+#     packages of tests/e2e
 # Every step is skipped when its result is already there, so running it again is cheap.
 set -euo pipefail
 cd "$(dirname "$0")/.."
@@ -56,6 +58,15 @@ if [[ $want_browser -eq 1 ]]; then
   if [[ ! -x /usr/bin/chromium ]]; then
     say "installing Debian's chromium and chromium-driver"
     apt_install chromium chromium-driver
+  fi
+  # The cross-engine test (tests/e2e/engines.test.mjs): Firefox ESR, and WebKitGTK in an Xvfb display.
+  if [[ ! -x /usr/bin/firefox-esr ]]; then
+    say "installing Debian's firefox-esr"
+    apt_install firefox-esr
+  fi
+  if [[ ! -x /usr/bin/WebKitWebDriver ]] || [[ ! -x /usr/bin/Xvfb ]]; then
+    say "installing Debian's webkit2gtk-driver (WebKitGTK) and xvfb"
+    apt_install webkit2gtk-driver xvfb
   fi
   if [[ ! -f tests/e2e/node_modules/.package-lock.json ]] || [[ tests/e2e/package-lock.json -nt tests/e2e/node_modules/.package-lock.json ]]; then
     say "installing the browser-test npm packages"

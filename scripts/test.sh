@@ -1,7 +1,8 @@
 #!/usr/bin/env bash
 # Run every test: format and lint, the native core tests, the same core tests compiled to wasm and
 # run in headless Chromium (wasm-bindgen-test with chromedriver), and the real-browser end-to-end
-# tests of the page (headless Chromium; the wasm-vs-native check among them runs in Node).
+# tests of the page (headless Chromium; engines.test.mjs runs the designer's main loop in Firefox ESR
+# and WebKitGTK too; the wasm-vs-native check among them runs in Node).
 # Installs what is missing first.
 set -euo pipefail
 cd "$(dirname "$0")/.."
@@ -29,5 +30,5 @@ TMPDIR="$wasm_tmp" CHROMEDRIVER=/usr/bin/chromedriver \
 step "build the page"
 bash scripts/build.sh
 
-step "browser end-to-end tests (headless Chromium)"
+step "browser end-to-end tests (headless Chromium; the main loop in Firefox ESR and WebKitGTK too)"
 node --test tests/e2e/

@@ -53,7 +53,7 @@ export function showLeakLine(box, outline, profile, unit, colour) {
     h('p', { class: 'leak-line-title', text: 'Leakage along the route, straightened (entry face on the left, darker = more leaked):' }),
     strip,
     ruler,
-    h('p', { class: 'leak-ends' }, h('span', { text: 'entry, 0' }), h('span', { class: 'leak-words', text: words }), h('span', { text: `exit, ${lengthText(total, unit)}` })),
+    h('p', { class: 'leak-ends' }, h('span', { text: 'Entry, 0' }), h('span', { class: 'leak-words', text: words }), h('span', { text: `Exit, ${lengthText(total, unit)}` })),
   );
   box.dataset.worstSegment = max > 0 ? String(seg.index) : '';
 }

@@ -26,6 +26,9 @@ for f in sorted(pathlib.Path("www/demos").glob("*.json")):
 pathlib.Path("www/demos/index.json").write_text(json.dumps(demos, indent=1) + "\n")
 PY
 printf '[build] www/pkg/tirtrace_bg.wasm: %s bytes\n' "$(stat -c %s www/pkg/tirtrace_bg.wasm)" >&2
+# The trace workers' bundle (one script that imports and fetches nothing: the page hands it the
+# compiled core), www/js/trace/worker-bundle.js, before the served files are listed.
+python3 scripts/build_single.py --worker-bundle
 # Which build these files are (the service worker keeps them in a cache named after it, and the
 # page checks that its modules and WebAssembly belong together): www/js/build.js and the service
 # worker's list of every file served from www/ with its SHA-256, www/precache.js.

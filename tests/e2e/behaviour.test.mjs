@@ -193,6 +193,55 @@ describe('the design page keeps, shares and starts designs', { concurrency: fals
     }
   });
 
+  test('Copy share link asks for the copy within the click, and a refused copy shows the link in a dialog, not the toolbar', async () => {
+    // The clipboard stands in for the browser's: it records the event being handled when the
+    // copy was asked for (WebKit refuses a copy asked for after the click's handler has given
+    // way, as it does at the first await), and refuses every copy once told to.
+    const clipboard = () => {
+      window.copies = [];
+      const take = (what) => {
+        window.copies.push({ during: window.event?.type ?? null, what });
+        return window.refuseCopies ? Promise.reject(new DOMException('refused', 'NotAllowedError')) : Promise.resolve();
+      };
+      Object.defineProperty(navigator, 'clipboard', {
+        value: { write: (items) => take(`items: ${items.length}`), writeText: (t) => take(`text: ${t.length}`) },
+      });
+    };
+    const { context, page } = await open(TABLET, { init: clipboard });
+    try {
+      await traced(page);
+      await page.tap('#file-actions-toggle');
+      await page.tap('#share');
+      await page.waitForFunction(() => document.getElementById('share').dataset.link);
+      const copies = await page.evaluate(() => window.copies);
+      assert.equal(copies.length, 1, JSON.stringify(copies));
+      assert.equal(copies[0].during, 'click', 'the copy was asked for after the click had been handled');
+      assert.match(await toolbarText(page), /^Share link copied/);
+      assert.ok(await page.locator('#link-dialog').isHidden());
+      // Refused: the link in a dialog, selected, to copy by hand; the toolbar stays short.
+      await page.evaluate(() => { window.refuseCopies = true; });
+      await page.tap('#share');
+      await page.waitForSelector('#link-dialog[open]');
+      const link = await page.getAttribute('#share', 'data-link');
+      assert.equal(await page.inputValue('#link-text'), link);
+      assert.equal(await page.evaluate(() => {
+        const t = document.getElementById('link-text');
+        return t.value.slice(t.selectionStart, t.selectionEnd);
+      }), link, 'the link is not selected');
+      const msg = await toolbarText(page);
+      assert.ok(!msg.includes('#d='), `the toolbar spells out the link: ${msg}`);
+      const bar = await page.locator('#toolbar-msg').boundingBox();
+      assert.ok(bar.height < 100, `the toolbar message is ${bar.height} px high`);
+      await page.screenshot({ path: join(OUT, 'behaviour-link-dialog-820x1180.png') });
+      await page.tap('#link-copy');
+      assert.match(await page.locator('#link-msg').innerText(), /did not let the page copy it/);
+      await page.tap('#link-close');
+      assert.ok(await page.locator('#link-dialog').isHidden());
+    } finally {
+      await context.close();
+    }
+  });
+
   // Storage that refuses every write once the page has a flag set (as a full one does).
   const FULL_STORAGE = () => {
     const real = Storage.prototype.setItem;

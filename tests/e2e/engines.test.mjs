@@ -8,10 +8,10 @@
 // and the speed check's one- and all-worker rates (noted, never judged: speed belongs to
 // benchmarks); a closing note sums them up. Screenshots: tests/e2e/out/engines-*.png.
 //
-// Issue 11: today WebKit traces on the page itself offline and from file://, and refuses the
-// clipboard copy; those three checks are marked `todo` for WebKit only in KNOWN_BROKEN (they run
-// and report their failure without failing the run, and must pass once the page is fixed: then
-// the marks go). Classic WebDriver gives no console, so WebKit's console check is a named skip.
+// A check known to fail in one engine is listed in KNOWN_BROKEN with the reason (marked `todo`
+// there: it runs and reports its failure without failing the run; once it passes the output says
+// to take the mark away). None is listed today. Classic WebDriver gives no console, so WebKit's
+// console check is a named skip.
 //
 // Before: cargo build; bash scripts/build.sh; bash scripts/setup.sh --browser.
 // Run: node --test tests/e2e/engines.test.mjs
@@ -30,14 +30,8 @@ const SINGLE_URL = pathToFileURL(join(ROOT, 'dist', 'tirtrace.html')).href;
 /** Rays of the speed check (bench.html): 16 batches, enough for a rate, a few seconds a worker. */
 const BENCH_RAYS = 16 * 4096;
 
-/** What issue 11 reports broken in WebKit today: these checks report, but do not fail the run. */
-const KNOWN_BROKEN = {
-  WebKit: {
-    clipboard: 'issue 11: WebKit refuses navigator.clipboard.writeText after the link is compressed (the click\'s user activation is gone)',
-    fileWorkers: 'issue 11: in a blob: worker of a file:// page WebKit cannot read a Blob (NotReadableError), so the worker cannot unpack the embedded core',
-    offlineWorkers: 'issue 11: WebKit does not route the imports and wasm fetches of workers started together through the service worker',
-  },
-};
+/** Checks known to fail in an engine, by engine and check, with the reason: none today. */
+const KNOWN_BROKEN = {};
 const todoFor = (engine, check) => KNOWN_BROKEN[engine]?.[check];
 
 /**
@@ -190,6 +184,15 @@ for (const [name, launch] of ENGINES) {
       t.diagnostic(`delivered ${(a.share * 100).toFixed(2)} % ± ${(a.ci95 * 100).toFixed(2)} % of ${a.rays} rays`);
       assert.equal(record.served.tracer, 'workers', `${name} traces on the page itself: "${record.served.message}"`);
       await engine.screenshot(shot(engine, '1280x800'));
+      // The toolbar at desktop size: the file actions in view (no "Files" button), in two rows
+      // at most (the examples list gives way rather than crowding the row).
+      const bar = await engine.evaluate(() => ({
+        files: document.getElementById('file-actions-toggle').getClientRects().length > 0,
+        save: document.getElementById('save-file').getClientRects().length > 0,
+        rows: new Set([...document.querySelectorAll('.toolbar > *')].filter((e) => e.getClientRects().length)
+          .map((e) => Math.round(e.getBoundingClientRect().top))).size,
+      }));
+      assert.deepEqual(bar, { files: false, save: true, rows: Math.min(bar.rows, 2) }, `${name}'s toolbar: ${JSON.stringify(bar)}`);
     });
 
     test('an edited field changes the answer', async () => {

@@ -1,19 +1,10 @@
-// Loading the core (the wasm-bindgen glue and its WebAssembly), the same on both pages and in
-// the trace workers. Where the WebAssembly comes from is wasm-source.js's business (served: the
-// file beside the glue; the single-file build: the bytes embedded in the page).
+// The page's side of the core: starting it (load-core.js, the same in the trace workers; where
+// the WebAssembly comes from is wasm-source.js's business: served, the file beside the glue; the
+// single-file build, the bytes embedded in the page) and keeping the page for offline use.
 
 import { BUILD_ID } from './build.js';
-import { wasmSource } from './wasm-source.js';
 
-/**
- * The core's exports, once its WebAssembly is running on this thread. Rejects with the reason
- * when the glue or the WebAssembly cannot be loaded (the caller says so on its page).
- */
-export async function loadCore() {
-  const core = await import('../pkg/tirtrace.js');
-  await core.default(wasmSource());
-  return core;
-}
+export { coreModule, loadCore } from './load-core.js';
 
 /** The build of the service worker controlling this page (null when none answers within 5 s). */
 function controllerBuild() {

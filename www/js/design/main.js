@@ -5,7 +5,7 @@
 import { loadCore, registerServiceWorker } from '../core.js';
 import { $, h, setStatus } from '../dom.js';
 import { sizeCanvasForCore } from '../drawing.js';
-import { messageOf } from '../errors.js';
+import { messageOf, withFullStop } from '../errors.js';
 import { formatCount, formatIndex } from '../format.js';
 import { store } from '../storage.js';
 import { MainThreadPool } from '../trace/main-thread-pool.js';
@@ -38,6 +38,22 @@ function toolbarMessage(text, { kind = 'info', action } = {}) {
   }
   el.dataset.kind = kind;
   el.hidden = !text;
+}
+
+/**
+ * Put text on the clipboard; `text` may be a promise of it. Call it within the click (before any
+ * await): where the browser can, the copy is asked for at once with the text to follow
+ * (ClipboardItem with a promise), so that a browser which allows copying only during the click
+ * (WebKit) allows it although the text takes a moment to make. Rejects when refused.
+ */
+function copyText(text) {
+  const clip = navigator.clipboard;
+  if (!clip) return Promise.reject(new Error('no clipboard here'));
+  if (typeof ClipboardItem === 'function' && typeof clip.write === 'function') {
+    const blob = Promise.resolve(text).then((t) => new Blob([t], { type: 'text/plain' }));
+    return clip.write([new ClipboardItem({ 'text/plain': blob })]);
+  }
+  return Promise.resolve(text).then((t) => clip.writeText(t));
 }
 
 /** Offer the design as it is on the page as a file. */
@@ -462,25 +478,43 @@ function wireToolbar() {
     if (asFile) {
       const text = `${JSON.stringify(page.state.scenario, null, 2)}\n`;
       try {
-        await navigator.clipboard.writeText(text);
+        await copyText(text);
         toolbarMessage(`Design text copied (${formatCount(text.length)} characters): paste it with “Paste a design…” on the other machine. A link cannot travel from a page opened as a file.${pendingNote()}`);
       } catch {
         toolbarMessage(`The design text could not be copied here (the browser refused). Use Save file and send the file: a link cannot travel from a page opened as a file.${pendingNote()}`, { kind: 'error' });
       }
       return;
     }
-    const link = await shareLink(page.state.scenario, location.href.split('#')[0]);
+    // The link is made (compressed) after the click; the copy is asked for within the click, so
+    // that browsers which allow it only then (WebKit) do (copyText hands over a promise of it).
+    const making = shareLink(page.state.scenario, location.href.split('#')[0]);
+    const copied = copyText(making).then(() => true, () => false);
+    const link = await making;
     $('share').dataset.link = link;
     const long = link.length > LINK_WARN_CHARS;
     const warning = long
       ? ` It is longer than ${formatCount(LINK_WARN_CHARS)} characters, which some browsers, mail and chat programs cut or refuse: if it does not arrive whole, send the design as a file instead (Save file).`
       : '';
     const kind = long ? 'error' : 'info';
-    try {
-      await navigator.clipboard.writeText(link);
+    if (await copied) {
       toolbarMessage(`Share link copied (${formatCount(link.length)} characters). It carries the whole design; nothing is sent anywhere.${warning}${pendingNote()}`, { kind });
+    } else {
+      // Refused: the link in a dialog to copy by hand (never spelled out in the toolbar).
+      toolbarMessage(`Share link made (${formatCount(link.length)} characters); this browser did not let the page copy it, so it is shown to copy by hand.${warning}${pendingNote()}`, { kind });
+      $('link-msg').textContent = `This browser did not let the page copy the link (${formatCount(link.length)} characters): copy it from here.${warning}`;
+      $('link-text').value = link;
+      $('link-dialog').showModal();
+      $('link-text').select();
+    }
+  });
+  $('link-copy').addEventListener('click', async () => {
+    const text = $('link-text').value;
+    try {
+      await copyText(text);
+      $('link-msg').textContent = 'Copied.';
     } catch {
-      toolbarMessage(`Share link (${formatCount(link.length)} characters; copy it from here): ${link}${warning}${pendingNote()}`, { kind });
+      $('link-text').select();
+      $('link-msg').textContent = 'This browser did not let the page copy it: the link is selected, copy it with the keyboard or the menu.';
     }
   });
   $('export-csv').addEventListener('click', () => {
@@ -643,14 +677,23 @@ async function start() {
   page.view = new RouteView($('route-view'));
   page.view.setUnit(page.state.unit);
   $('exit-map-data').addEventListener('toggle', () => $('exit-map-data').open && showExitMapTable());
-  page.pool = new TracePool({ onUpdate: onTraceUpdate, ...traceWorker() });
+  // The trace workers' script and the core compiled here, handed to each worker (none fetches
+  // anything itself). Without them the pools start the workers' own module script.
+  let workers = {};
+  let workersUnavailable = null;
+  try {
+    workers = await traceWorker();
+  } catch (e) {
+    workersUnavailable = messageOf(e);
+  }
+  page.pool = new TracePool({ onUpdate: onTraceUpdate, ...workers });
   page.study = new StudyPanel({
     core,
     state: page.state,
     editor: page.editor,
     onSaved: () => keep(page.state),
     openDesign: (scenario, how) => replaceDesign(readScenario(JSON.stringify(scenario)), how),
-    traceWorker: traceWorker(),
+    traceWorker: workers,
   });
   page.find = new FindPanel({ core, state: page.state, study: page.study, onSaved: () => keep(page.state) });
   page.tolerances = new TolerancePanel({
@@ -659,7 +702,7 @@ async function start() {
     editor: page.editor,
     onSaved: () => keep(page.state),
     openDesign: (scenario, how) => replaceDesign(readScenario(JSON.stringify(scenario)), how),
-    traceWorker: traceWorker(),
+    traceWorker: workers,
   });
   wireToolbar();
   watchTableWidths();
@@ -673,12 +716,13 @@ async function start() {
   try {
     await page.pool.ready();
     document.body.dataset.tracer = 'workers';
+    if (workersUnavailable) document.body.dataset.workerScript = 'module';
   } catch (e) {
     // No workers here (a browser that refuses them, e.g. from a file:// page): trace on the page.
     page.pool.dispose();
     page.pool = new MainThreadPool({ Tracer: core.Tracer, onUpdate: onTraceUpdate });
     document.body.dataset.tracer = 'page';
-    toolbarMessage(`Tracing on the page itself, more slowly: ${messageOf(e)}.`);
+    toolbarMessage(`Tracing on the page itself, more slowly: ${withFullStop(messageOf(e))}`);
   }
   if (fromLink) {
     replaceDesign(fromLink, `Opened the design from the link: “${fromLink.name || 'untitled'}”`);

@@ -8,6 +8,8 @@
 import { $, setStatus } from '../dom.js';
 import { messageOf } from '../errors.js';
 import { formatCount } from '../format.js';
+import { traceWorker } from '../design/sources.js';
+import { loadCore } from '../load-core.js';
 import { TracePool } from './pool.js';
 
 /** Rays per batch in the core (src/trace.rs, BATCH_RAYS): sizes the warm-up trace. */
@@ -35,7 +37,9 @@ function runJob(pool, listen, scenarioJson) {
  */
 async function timedRuns(size, warmJson, json, { study = false } = {}) {
   let listener = () => {};
-  const pool = new TracePool({ size: size ?? undefined, study, onUpdate: (u) => listener(u) });
+  // The workers as the design page starts them: their bundle, handed the core compiled here.
+  await loadCore();
+  const pool = new TracePool({ size: size ?? undefined, study, onUpdate: (u) => listener(u), ...(await traceWorker()) });
   const listen = (f) => {
     listener = f;
   };

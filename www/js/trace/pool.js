@@ -53,6 +53,7 @@ export class TracePool {
   #study;
   #tolerance;
   #find;
+  #coreModule;
   /** Tracing workers: { worker, alive, loaded, job (id whose scenario it holds), busy }. */
   #tracers = [];
   /** The merging worker, same shape. */
@@ -70,9 +71,11 @@ export class TracePool {
    * single-file build's does: a file:// page may not start a module worker from a blob: URL);
    * study: true to trace study documents (sweeps) rather than scenarios;
    * tolerance: true to trace tolerance studies (study documents with `tolerances`);
-   * find: true to trace one value of a search per job (study documents with `find`, start's x).
+   * find: true to trace one value of a search per job (study documents with `find`, start's x);
+   * coreModule: the core's WebAssembly.Module compiled on the page, handed to every worker in its
+   * first message (a bundled worker waits for it and fetches nothing; see wasm-from-page.js).
    */
-  constructor({ size, onUpdate, workerUrl, workerType = 'module', study = false, tolerance = false, find = false } = {}) {
+  constructor({ size, onUpdate, workerUrl, workerType = 'module', study = false, tolerance = false, find = false, coreModule = null } = {}) {
     const n = size ?? defaultSize();
     if (!Number.isInteger(n) || n < 1 || n > MAX_WORKERS) {
       throw new RangeError(`TracePool size must be a whole number from 1 to ${MAX_WORKERS}, got ${size}`);
@@ -88,6 +91,7 @@ export class TracePool {
     this.#study = study === true;
     this.#tolerance = tolerance === true;
     this.#find = find === true;
+    this.#coreModule = coreModule;
     for (let i = 0; i < n; i += 1) this.#tracers.push(this.#spawn());
     this.#merger = this.#spawn();
     for (const t of this.#tracers) this.#connect(t);
@@ -183,6 +187,7 @@ export class TracePool {
       w.rejectLoad(new Error(w.failure));
       return w;
     }
+    if (this.#coreModule) w.worker.postMessage({ type: 'core', module: this.#coreModule });
     w.worker.onmessage = (event) => this.#onMessage(w, event.data);
     w.worker.onerror = (event) => {
       event.preventDefault(); // handled here: becomes an error update, not a console error

@@ -6,6 +6,8 @@
 // 0..count-1 merged in batch order (the only order that reproduces a single run bit for bit).
 //
 // From the pool (all but `job` and `connect` are ignored unless they name the job loaded):
+//   { type: 'core', module }                 first, to a bundled worker: the core the page
+//                                            compiled (a WebAssembly.Module; wasm-from-page.js)
 //   { type: 'connect', role: 'to-merger' | 'from-tracer', port }   a channel between the roles
 //   { type: 'job', job, scenario, study, tolerance, find, x }   load a scenario (JSON text) for
 //                                            job `job`; with study: true, a study document (a
@@ -25,7 +27,7 @@
 //   { type: 'report', job, count, report, ms } | { type: 'merge-error', job, message }
 //   { type: 'worker-error', message }                        a message could not be handled
 
-import { loadCore } from '../core.js';
+import { loadCore } from '../load-core.js';
 import { messageOf } from '../errors.js';
 import { batchRays } from './job.js';
 
@@ -166,6 +168,8 @@ function handle(msg) {
     case 'drop':
       dropJob(msg.job);
       return;
+    case 'core':
+      return; // the page's compiled core, for a bundled worker (wasm-from-page.js took it)
     default:
   }
   if (msg.job !== loaded.job || loaded.tracer === null) {

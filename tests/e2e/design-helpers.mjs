@@ -8,7 +8,7 @@ import { join } from 'node:path';
 
 import { chromium } from 'playwright-core';
 
-import { CHROMIUM, CHROMIUM_ARGS, OUT, WWW, cli, collectErrors, startServer } from './harness.mjs';
+import { CHROMIUM, CHROMIUM_ARGS, OUT, ROOT, WWW, cli, collectErrors, startServer } from './harness.mjs';
 
 export const STATE_KEY = 'tirtrace.design.v1';
 
@@ -100,6 +100,20 @@ export async function assertMatchesCli(page, what) {
   assert.equal(mine.share, theirs.delivered.share, `${what}: delivered share differs from the CLI`);
   assert.equal(mine.ci95, theirs.delivered.ci95, `${what}: its 95 % half-width differs from the CLI`);
   return { mine, theirs };
+}
+
+/** The loss budget's rows as shown: [{ key, words, colour }] in the table's order. */
+export const budgetRows = (page) =>
+  page.$$eval('#budget-rows tr[data-mechanism]', (rows) =>
+    rows.map((tr) => ({ key: tr.dataset.mechanism, words: tr.querySelector('th').textContent, colour: tr.querySelector('.swatch').style.background })));
+
+/** The loss budget's words in the order the native CLI's CSV lists them (the core's list). */
+export function cliBudgetWords() {
+  const csv = cli(['trace', join(ROOT, 'examples', 'scenarios', 'thermostat_status_led.json'), '--rays', '1000', '--csv']);
+  const section = csv.split('\n\n').find((s) => s.startsWith('"What becomes of the light"'));
+  assert.ok(section, `no budget in the CLI's CSV:\n${csv}`);
+  // Each row starts with its words, quoted: "words",share,…
+  return section.split('\n').slice(1).filter(Boolean).map((row) => JSON.parse(row.slice(0, row.indexOf('",') + 1)));
 }
 
 /** Page text must never show NaN, Infinity or undefined. */

@@ -8,7 +8,7 @@ import { join } from 'node:path';
 
 import { chromium } from 'playwright-core';
 
-import { CHROMIUM, CHROMIUM_ARGS, OUT, ROOT, WWW, cli, collectErrors, startServer } from './harness.mjs';
+import { CHROMIUM, CHROMIUM_ARGS, OUT, ROOT, WWW, cli, collectErrors, startServer, stopServer } from './harness.mjs';
 
 export const STATE_KEY = 'tirtrace.design.v1';
 
@@ -40,21 +40,36 @@ export async function tracedAfter(page, action, timeout = 60_000) {
 
 /**
  * The designer served and open in a fresh Chromium (1280×800 unless `viewport` says otherwise),
- * its console errors collected into `consoleErrors`, started (and, with `traced`, its first trace
- * done): `{ server, browser, page }`. The caller closes the browser and stops the server.
+ * its console errors collected into `consoleErrors` (and, given `requests`, the URL of every
+ * request of its browser context, workers' included), started (and, with `traced`, its first
+ * trace done): `{ server, browser, page }`. Close it with `closeDesignPage`; when it cannot be
+ * opened, what was started is closed before the error is thrown.
  */
-export async function designPage(consoleErrors, { viewport = { width: 1280, height: 800 }, traced = false, acceptDownloads = false } = {}) {
+export async function designPage(consoleErrors, { viewport = { width: 1280, height: 800 }, traced = false, acceptDownloads = false, requests } = {}) {
   assert.ok(existsSync(join(WWW, 'pkg', 'tirtrace.js')), 'www/pkg is missing: run `bash scripts/build.sh` first');
   mkdirSync(OUT, { recursive: true });
   const server = await startServer();
-  const browser = await chromium.launch({ executablePath: CHROMIUM, args: CHROMIUM_ARGS });
-  const context = await browser.newContext({ viewport, acceptDownloads });
-  const page = await context.newPage();
-  collectErrors(page, consoleErrors);
-  await page.goto(`${server.origin}/`);
-  if (traced) await firstTrace(page);
-  else await page.waitForSelector('body[data-ready="true"]', { timeout: 30_000 });
-  return { server, browser, page };
+  let browser;
+  try {
+    browser = await chromium.launch({ executablePath: CHROMIUM, args: CHROMIUM_ARGS });
+    const context = await browser.newContext({ viewport, acceptDownloads });
+    if (requests) context.on('request', (r) => requests.push(r.url()));
+    const page = await context.newPage();
+    collectErrors(page, consoleErrors);
+    await page.goto(`${server.origin}/`);
+    if (traced) await firstTrace(page);
+    else await page.waitForSelector('body[data-ready="true"]', { timeout: 30_000 });
+    return { server, browser, page };
+  } catch (e) {
+    await closeDesignPage({ server, browser });
+    throw e;
+  }
+}
+
+/** Close what `designPage` opened: its browser, then its server (either may be missing). */
+export async function closeDesignPage({ server, browser } = {}) {
+  await browser?.close();
+  await stopServer(server?.child);
 }
 
 /** Keep `scenario` as the page's design in its storage, reload, and wait for the first trace. */

@@ -13,8 +13,8 @@ import assert from 'node:assert/strict';
 import { join } from 'node:path';
 import { after, before, describe, test } from 'node:test';
 
-import { assertNoJunk, budgetRows, cliBudgetWords, designPage, openKept, tracedAfter } from './design-helpers.mjs';
-import { OUT, collectErrors, stopServer } from './harness.mjs';
+import { assertNoJunk, budgetRows, cliBudgetWords, closeDesignPage, designPage, openKept, tracedAfter } from './design-helpers.mjs';
+import { OUT, collectErrors } from './harness.mjs';
 
 /** The starting design's pipe (3 mm acrylic, one bend), lossless, with `flux` and `rays`. */
 function design(flux, rays = 100_000) {
@@ -77,10 +77,7 @@ describe('the figures on the design page', { concurrency: false }, () => {
     ({ server, browser, page } = await designPage(consoleErrors));
   });
 
-  after(async () => {
-    await browser?.close();
-    await stopServer(server?.child);
-  });
+  after(() => closeDesignPage({ server, browser }));
 
   test('an interval that rounds to zero says "< " the last shown unit, never "± 0.000"', async () => {
     const f = await page.evaluate(async () => {

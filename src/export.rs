@@ -7,7 +7,7 @@
 use serde::de::{Deserializer, Error};
 use serde::Deserialize;
 
-use crate::trace::{Named, TraceReport};
+use crate::trace::{Budget, Named, TraceReport};
 
 /// A number for the CSV: shortest form that reads back exactly, with −0 written as 0.
 fn csv_num(x: f64) -> f64 {
@@ -26,17 +26,9 @@ pub(crate) fn csv_text(s: &str) -> String {
     format!("\"{guard}{}\"", s.replace('"', "\"\""))
 }
 
-/// The budget's mechanisms: the report's key, and the words the page and the CSV use.
-pub const MECHANISMS: [(&str, &str); 8] = [
-    ("delivered", "Reaches the window (exit face)"),
-    ("missed_entry", "Misses the entry face"),
-    ("reflected_entry", "Reflected at the entry face (Fresnel)"),
-    ("leaked", "Leaks out of the side walls"),
-    ("contact", "Lost into mounts touching the pipe"),
-    ("absorbed", "Absorbed in the material"),
-    ("returned", "Comes back out of the entry face"),
-    ("stopped", "Stopped by the wall-hit limit"),
-];
+/// The budget's rows of the CSV in order: the report's key and the row's words —
+/// [`Budget::MECHANISMS`] itself, named here beside the CSV that prints it.
+pub const MECHANISMS: [(&str, &str); 8] = Budget::MECHANISMS;
 
 /// A share as a percentage for the CSV, to 10⁻⁹ % (far below any interval), so that 100 × 0.0637
 /// reads 6.37, not 6.369999999999999.
@@ -78,17 +70,7 @@ pub fn report_csv(report: &TraceReport, design_name: &str) -> String {
         .as_ref()
         .map_or(String::new(), |u| format!(",flux {u},± flux {u}"));
     s += &format!("\n\"What becomes of the light\",%,± %{flux_head}\n");
-    let shares = [
-        &b.delivered,
-        &b.missed_entry,
-        &b.reflected_entry,
-        &b.leaked,
-        &b.contact,
-        &b.absorbed,
-        &b.returned,
-        &b.stopped,
-    ];
-    for ((_, words), share) in MECHANISMS.iter().zip(shares) {
+    for (_, words, share) in b.shares() {
         s += &format!(
             "{},{},{}",
             csv_text(words),

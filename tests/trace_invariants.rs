@@ -10,9 +10,11 @@ wasm_bindgen_test::wasm_bindgen_test_configure!(run_in_browser);
 mod common;
 use common::{random_route, RandomRoute, Rng, RouteDraws};
 
+use std::collections::BTreeSet;
+
 use serde_json::{json, Value};
 use tirtrace::scenario::Scenario;
-use tirtrace::trace::{PrefixMerger, Prepared};
+use tirtrace::trace::{Budget, PrefixMerger, Prepared};
 
 /// The routes of [`random_scenario`]: 1–5 segments of every kind, bends of 5° to 180° from 1.05
 /// to 12 half-sizes across.
@@ -144,6 +146,64 @@ fn budget_sums_to_one_and_shares_are_shares() {
         }
         turn_back_is_a_breakdown_of_the_budget(&r, case);
     }
+}
+
+/// The budget's shares in their fixed order ([`Budget::shares`], the one list the trace and sweep
+/// CSV files and the page's budget table read) are the whole budget: one per field of the
+/// budget as the report writes it, under that field's name and with its value, keys and words
+/// unique, in the order of [`Budget::MECHANISMS`], summing to 1. A share added to the budget but
+/// missing from the list, or listed under another share's key, fails here; every share is
+/// non-zero in some case (the cap on wall hits is lowered in some, so that rays are stopped), so
+/// a mix-up of two shares cannot hide behind equal zeros.
+#[test]
+fn budget_shares_in_order_are_the_whole_budget() {
+    let mut rng = Rng(1187);
+    let mut seen = BTreeSet::new();
+    for case in 0..16 {
+        let mut s = random_scenario(&mut rng, 2000);
+        if case % 4 == 3 {
+            s.trace.max_interactions = 3;
+        }
+        let p = Prepared::new(&s).unwrap();
+        let r = p.report(&p.trace_all_serial(0));
+        let written = serde_json::to_value(&r.budget).unwrap();
+        let fields: BTreeSet<&str> = written
+            .as_object()
+            .unwrap()
+            .keys()
+            .map(|k| k.as_str())
+            .collect();
+        let shares = r.budget.shares();
+        let keys: BTreeSet<&str> = shares.iter().map(|&(key, _, _)| key).collect();
+        let words: BTreeSet<&str> = shares.iter().map(|&(_, words, _)| words).collect();
+        assert_eq!(keys.len(), shares.len(), "case {case}: a key repeats");
+        assert_eq!(words.len(), shares.len(), "case {case}: words repeat");
+        assert_eq!(keys, fields, "case {case}: the list and the budget differ");
+        assert_eq!(
+            shares.map(|(key, words, _)| (key, words)),
+            Budget::MECHANISMS,
+            "case {case}"
+        );
+        let mut sum = 0.0;
+        for (key, words, share) in shares {
+            assert!(!words.trim().is_empty(), "case {case}: {key} has no words");
+            assert_eq!(
+                serde_json::to_value(share).unwrap(),
+                written[key],
+                "case {case}: {key} is not the budget's {key}"
+            );
+            if share.share > 0.0 {
+                seen.insert(key);
+            }
+            sum += share.share;
+        }
+        assert!(
+            (sum - 1.0).abs() < 1e-12,
+            "case {case}: the ordered shares sum to {sum}"
+        );
+    }
+    let all: BTreeSet<&str> = Budget::MECHANISMS.iter().map(|&(key, _)| key).collect();
+    assert_eq!(seen, all, "some share was zero in every case");
 }
 
 /// The light turned back at the exit face is a breakdown of the budget: the two mechanisms sum

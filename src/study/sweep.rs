@@ -525,18 +525,13 @@ pub fn report_csv(report: &SweepReport) -> String {
         header.push(format!("{name} (share)"));
         header.push(format!("{name} ci95 (share)"));
     };
-    for name in [
-        "delivered",
-        "difference",
-        "missed_entry",
-        "reflected_entry",
-        "leaked",
-        "contact",
-        "absorbed",
-        "returned",
-        "stopped",
-    ] {
-        with_ci(name.to_string());
+    // The budget's shares by key in the budget's order, the difference to the reference point
+    // right after the delivered share.
+    for (key, _) in Budget::MECHANISMS {
+        with_ci(key.to_string());
+        if key == DELIVERED {
+            with_ci("difference".to_string());
+        }
     }
     for s in 0..segments {
         with_ci(format!("segment {s} leaked"));
@@ -572,19 +567,15 @@ pub fn report_csv(report: &SweepReport) -> String {
         };
         match &p.result {
             Some(r) => {
-                let b = &r.budget;
-                for s in [
-                    &r.delivered,
-                    &r.difference,
-                    &b.missed_entry,
-                    &b.reflected_entry,
-                    &b.leaked,
-                    &b.contact,
-                    &b.absorbed,
-                    &b.returned,
-                    &b.stopped,
-                ] {
-                    push(Some(s));
+                for (key, _, share) in r.budget.shares() {
+                    if key == DELIVERED {
+                        // The point's delivered share (the budget's, as traced) and its
+                        // difference to the reference point.
+                        push(Some(&r.delivered));
+                        push(Some(&r.difference));
+                    } else {
+                        push(Some(&share));
+                    }
                 }
                 for s in 0..segments {
                     push(r.segments_leaked.get(s));
@@ -592,7 +583,7 @@ pub fn report_csv(report: &SweepReport) -> String {
                 push(r.receiver.as_ref());
             }
             None => {
-                for _ in 0..(9 + segments + 1) {
+                for _ in 0..(Budget::MECHANISMS.len() + 1 + segments + 1) {
                     push(None);
                 }
             }
@@ -623,6 +614,9 @@ pub fn report_csv(report: &SweepReport) -> String {
     }
     out
 }
+
+/// The key of the delivered share in [`Budget::MECHANISMS`].
+const DELIVERED: &str = "delivered";
 
 /// A point's value for the CSV: a number as [`num`] writes it, a text quoted.
 fn cell(v: &Value) -> String {

@@ -189,6 +189,54 @@ pub struct Budget {
     pub stopped: Share,
 }
 
+impl Budget {
+    /// The budget's shares in their fixed order, each as its key (the share's field name in the
+    /// report, stable: the page keys its colours by it) and the words people read for it (the
+    /// page's budget table and the CSV files). The one list of them: [`Budget::shares`] pairs
+    /// each with its estimate, the CSV writers and the page (through the wasm layer) read it.
+    pub const MECHANISMS: [(&'static str, &'static str); 8] = [
+        ("delivered", "Reaches the window (exit face)"),
+        ("missed_entry", "Misses the entry face"),
+        ("reflected_entry", "Reflected at the entry face (Fresnel)"),
+        ("leaked", "Leaks out of the side walls"),
+        ("contact", "Lost into mounts touching the pipe"),
+        ("absorbed", "Absorbed in the material"),
+        ("returned", "Comes back out of the entry face"),
+        ("stopped", "Stopped by the wall-hit limit"),
+    ];
+
+    /// Every share in the order of [`Budget::MECHANISMS`], as (key, words, share); they sum to
+    /// 1 (to rounding), as the budget is a partition of the emitted light.
+    pub fn shares(&self) -> [(&'static str, &'static str, Share); 8] {
+        // Each field named, no `..`: a share added to the budget does not compile until it is
+        // listed here (and, with its key and words, in `MECHANISMS`).
+        let Budget {
+            delivered,
+            missed_entry,
+            reflected_entry,
+            leaked,
+            contact,
+            absorbed,
+            returned,
+            stopped,
+        } = *self;
+        let in_order = [
+            delivered,
+            missed_entry,
+            reflected_entry,
+            leaked,
+            contact,
+            absorbed,
+            returned,
+            stopped,
+        ];
+        std::array::from_fn(|i| {
+            let (key, words) = Self::MECHANISMS[i];
+            (key, words, in_order[i])
+        })
+    }
+}
+
 /// Light turned back into the guide at the exit face, and what became of it.
 ///
 /// A ray reaching the exit face is turned back by total internal reflection beyond the critical

@@ -84,6 +84,13 @@ pub fn materials() -> Result<JsValue, JsError> {
     to_js(&library::materials())
 }
 
+/// The energy budget's shares in their fixed order, as `[[key, words], …]`
+/// ([`crate::trace::Budget::MECHANISMS`]): the page's budget table reads its words here.
+#[wasm_bindgen]
+pub fn budget_mechanisms() -> Result<JsValue, JsError> {
+    to_js(&crate::trace::Budget::MECHANISMS)
+}
+
 /// The scenario a new design starts from (`Scenario::new_design`), as the page keeps it.
 #[wasm_bindgen]
 pub fn new_scenario() -> Result<JsValue, JsError> {

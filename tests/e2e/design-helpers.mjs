@@ -8,7 +8,7 @@ import { join } from 'node:path';
 
 import { chromium } from 'playwright-core';
 
-import { CHROMIUM, CHROMIUM_ARGS, OUT, WWW, cli, collectErrors, startServer } from './harness.mjs';
+import { CHROMIUM, CHROMIUM_ARGS, OUT, ROOT, WWW, cli, collectErrors, startServer, stopServer } from './harness.mjs';
 
 export const STATE_KEY = 'tirtrace.design.v1';
 
@@ -40,21 +40,36 @@ export async function tracedAfter(page, action, timeout = 60_000) {
 
 /**
  * The designer served and open in a fresh Chromium (1280×800 unless `viewport` says otherwise),
- * its console errors collected into `consoleErrors`, started (and, with `traced`, its first trace
- * done): `{ server, browser, page }`. The caller closes the browser and stops the server.
+ * its console errors collected into `consoleErrors` (and, given `requests`, the URL of every
+ * request of its browser context, workers' included), started (and, with `traced`, its first
+ * trace done): `{ server, browser, page }`. Close it with `closeDesignPage`; when it cannot be
+ * opened, what was started is closed before the error is thrown.
  */
-export async function designPage(consoleErrors, { viewport = { width: 1280, height: 800 }, traced = false, acceptDownloads = false } = {}) {
+export async function designPage(consoleErrors, { viewport = { width: 1280, height: 800 }, traced = false, acceptDownloads = false, requests } = {}) {
   assert.ok(existsSync(join(WWW, 'pkg', 'tirtrace.js')), 'www/pkg is missing: run `bash scripts/build.sh` first');
   mkdirSync(OUT, { recursive: true });
   const server = await startServer();
-  const browser = await chromium.launch({ executablePath: CHROMIUM, args: CHROMIUM_ARGS });
-  const context = await browser.newContext({ viewport, acceptDownloads });
-  const page = await context.newPage();
-  collectErrors(page, consoleErrors);
-  await page.goto(`${server.origin}/`);
-  if (traced) await firstTrace(page);
-  else await page.waitForSelector('body[data-ready="true"]', { timeout: 30_000 });
-  return { server, browser, page };
+  let browser;
+  try {
+    browser = await chromium.launch({ executablePath: CHROMIUM, args: CHROMIUM_ARGS });
+    const context = await browser.newContext({ viewport, acceptDownloads });
+    if (requests) context.on('request', (r) => requests.push(r.url()));
+    const page = await context.newPage();
+    collectErrors(page, consoleErrors);
+    await page.goto(`${server.origin}/`);
+    if (traced) await firstTrace(page);
+    else await page.waitForSelector('body[data-ready="true"]', { timeout: 30_000 });
+    return { server, browser, page };
+  } catch (e) {
+    await closeDesignPage({ server, browser });
+    throw e;
+  }
+}
+
+/** Close what `designPage` opened: its browser, then its server (either may be missing). */
+export async function closeDesignPage({ server, browser } = {}) {
+  await browser?.close();
+  await stopServer(server?.child);
 }
 
 /** Keep `scenario` as the page's design in its storage, reload, and wait for the first trace. */
@@ -100,6 +115,20 @@ export async function assertMatchesCli(page, what) {
   assert.equal(mine.share, theirs.delivered.share, `${what}: delivered share differs from the CLI`);
   assert.equal(mine.ci95, theirs.delivered.ci95, `${what}: its 95 % half-width differs from the CLI`);
   return { mine, theirs };
+}
+
+/** The loss budget's rows as shown: [{ key, words, colour }] in the table's order. */
+export const budgetRows = (page) =>
+  page.$$eval('#budget-rows tr[data-mechanism]', (rows) =>
+    rows.map((tr) => ({ key: tr.dataset.mechanism, words: tr.querySelector('th').textContent, colour: tr.querySelector('.swatch').style.background })));
+
+/** The loss budget's words in the order the native CLI's CSV lists them (the core's list). */
+export function cliBudgetWords() {
+  const csv = cli(['trace', join(ROOT, 'examples', 'scenarios', 'thermostat_status_led.json'), '--rays', '1000', '--csv']);
+  const section = csv.split('\n\n').find((s) => s.startsWith('"What becomes of the light"'));
+  assert.ok(section, `no budget in the CLI's CSV:\n${csv}`);
+  // Each row starts with its words, quoted: "words",share,…
+  return section.split('\n').slice(1).filter(Boolean).map((row) => JSON.parse(row.slice(0, row.indexOf('",') + 1)));
 }
 
 /** Page text must never show NaN, Infinity or undefined. */

@@ -9,20 +9,17 @@
 // Before: cargo build; bash scripts/build.sh; npm ci --prefix tests/e2e. Run: node --test tests/e2e/
 
 import assert from 'node:assert/strict';
-import { existsSync, mkdirSync, readFileSync } from 'node:fs';
+import { existsSync, readFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { after, before, describe, test } from 'node:test';
 
-import { chromium } from 'playwright-core';
-
-import { STATE_KEY, answer, assertNoJunk, cliTrace, inkShare, openKept, pageScenario, tracedAfter } from './design-helpers.mjs';
-import { CHROMIUM, CHROMIUM_ARGS, CLI, OUT, ROOT, WWW, collectErrors, reachable, serviceWorkerControls, startServer, stopServer } from './harness.mjs';
+import { STATE_KEY, answer, assertNoJunk, cliTrace, closeDesignPage, designPage, inkShare, openKept, pageScenario, tracedAfter } from './design-helpers.mjs';
+import { CLI, OUT, ROOT, WWW, collectErrors, reachable, serviceWorkerControls, stopServer } from './harness.mjs';
 
 describe('the design page in Chromium', { concurrency: false }, () => {
   let server;
   let browser;
-  let context;
   let page;
   const requests = [];
   const consoleErrors = [];
@@ -48,24 +45,12 @@ describe('the design page in Chromium', { concurrency: false }, () => {
   }
 
   before(async () => {
-    assert.ok(existsSync(join(WWW, 'pkg', 'tirtrace.js')), 'www/pkg is missing: run `bash scripts/build.sh` first');
     assert.ok(existsSync(join(WWW, 'demos', 'index.json')), 'www/demos is missing: run `bash scripts/build.sh` first');
     assert.ok(existsSync(CLI), 'target/debug/tirtrace is missing: run `cargo build` first');
-    mkdirSync(OUT, { recursive: true });
-    server = await startServer();
-    browser = await chromium.launch({ executablePath: CHROMIUM, args: CHROMIUM_ARGS });
-    context = await browser.newContext({ viewport: { width: 1280, height: 800 }, acceptDownloads: true });
-    context.on('request', (r) => requests.push(r.url()));
-    page = await context.newPage();
-    watch(page);
-    await page.goto(`${server.origin}/`);
-    await page.waitForSelector('body[data-ready="true"]', { timeout: 30_000 });
+    ({ server, browser, page } = await designPage(consoleErrors, { acceptDownloads: true, requests }));
   });
 
-  after(async () => {
-    await browser?.close();
-    await stopServer(server?.child);
-  });
+  after(() => closeDesignPage({ server, browser }));
 
   test('traces the starting design and shows every part of the answer', async () => {
     await page.waitForFunction(() => Number(document.body.dataset.traced || 0) > 0, null, { timeout: 60_000 });

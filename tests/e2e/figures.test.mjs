@@ -13,8 +13,8 @@ import assert from 'node:assert/strict';
 import { join } from 'node:path';
 import { after, before, describe, test } from 'node:test';
 
-import { assertNoJunk, designPage, openKept, tracedAfter } from './design-helpers.mjs';
-import { OUT, collectErrors, stopServer } from './harness.mjs';
+import { assertNoJunk, budgetRows, cliBudgetWords, closeDesignPage, designPage, openKept, tracedAfter } from './design-helpers.mjs';
+import { OUT, collectErrors } from './harness.mjs';
 
 /** The starting design's pipe (3 mm acrylic, one bend), lossless, with `flux` and `rays`. */
 function design(flux, rays = 100_000) {
@@ -77,10 +77,7 @@ describe('the figures on the design page', { concurrency: false }, () => {
     ({ server, browser, page } = await designPage(consoleErrors));
   });
 
-  after(async () => {
-    await browser?.close();
-    await stopServer(server?.child);
-  });
+  after(() => closeDesignPage({ server, browser }));
 
   test('an interval that rounds to zero says "< " the last shown unit, never "± 0.000"', async () => {
     const f = await page.evaluate(async () => {
@@ -104,6 +101,20 @@ describe('the figures on the design page', { concurrency: false }, () => {
     assert.equal(absorbed, '± < 0.1');
     const body = await page.locator('body').innerText();
     assert.doesNotMatch(body, /± 0(\.0+)?(?![\d.])/, 'an interval shown as zero');
+  });
+
+  test('the loss budget lists the core\'s shares in the core\'s order and words, each in a colour of its own', async () => {
+    await page.waitForSelector('#budget-rows tr[data-mechanism]');
+    const { core, colours } = await page.evaluate(async () => ({
+      core: (await import('./pkg/tirtrace.js')).budget_mechanisms(),
+      colours: (await import('./js/design/report-view.js')).MECHANISM_COLOURS,
+    }));
+    const rows = await budgetRows(page);
+    assert.deepEqual(rows.map((r) => [r.key, r.words]), core);
+    assert.deepEqual(core.map(([, words]) => words), cliBudgetWords(), 'the page and the CLI\'s CSV use other words');
+    // A colour for every share of the core's, none for a share it does not have.
+    assert.deepEqual(Object.keys(colours).sort(), core.map(([key]) => key).sort());
+    assert.equal(new Set(rows.map((r) => r.colour)).size, rows.length, `colours repeat: ${JSON.stringify(rows)}`);
   });
 
   test('fluxes and intensities read without an exponent, in mlm, µW or mcd when small', async () => {

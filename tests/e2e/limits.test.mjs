@@ -11,8 +11,8 @@ import { join } from 'node:path';
 import { deflateRawSync } from 'node:zlib';
 import { after, before, describe, test } from 'node:test';
 
-import { designPage, pageScenario, tracedAfter } from './design-helpers.mjs';
-import { OUT, stopServer } from './harness.mjs';
+import { closeDesignPage, designPage, pageScenario, tracedAfter } from './design-helpers.mjs';
+import { OUT } from './harness.mjs';
 
 /** A bare 0.1 mm acrylic fibre `lengthMm` long: a ray meets its wall some five times a millimetre. */
 const thinFibre = (lengthMm, rays) => ({
@@ -52,10 +52,7 @@ describe('limits that protect the machine, on the design page', { concurrency: f
     ({ server, browser, page } = await designPage(consoleErrors, { traced: true }));
   });
 
-  after(async () => {
-    await browser?.close();
-    await stopServer(server?.child);
-  });
+  after(() => closeDesignPage({ server, browser }));
 
   test('drawn rays of a thin fibre metres long are cut short, and the legend says so', async () => {
     // 90 rays (every one drawn) of a 5 m fibre: some 25 000 wall hits a ray.

@@ -17,7 +17,7 @@ import { pathToFileURL } from 'node:url';
 
 import { chromium } from 'playwright-core';
 
-import { answer, assertMatchesCli, firstTrace, pageScenario, tracedAfter } from './design-helpers.mjs';
+import { answer, assertMatchesCli, budgetRows, cliBudgetWords, firstTrace, pageScenario, tracedAfter } from './design-helpers.mjs';
 import { CHROMIUM, CHROMIUM_ARGS, CLI, OUT, ROOT, WWW, collectErrors } from './harness.mjs';
 
 const SINGLE = join(ROOT, 'dist', 'tirtrace.html');
@@ -119,6 +119,29 @@ describe('the single-file page opened from disk', { concurrency: false }, () => 
       assert.equal(await p2.locator('#progress-text').innerText(), stoppedAt, 'updates came after Stop');
       assert.ok(Number(await p2.getAttribute('#answer', 'data-rays')) < 3000000);
       await tracedAfter(p2, () => p2.fill('#f-trace-rays', '20000'));
+    } finally {
+      await p2.close();
+    }
+  });
+
+  test('the loss budget shows the core\'s shares in its words, with workers and without', async () => {
+    const words = cliBudgetWords();
+    const shown = async (p) => {
+      await firstTrace(p);
+      const rows = await budgetRows(p);
+      assert.deepEqual(rows.map((r) => r.words), words);
+      assert.equal(new Set(rows.map((r) => r.colour)).size, rows.length, `colours repeat: ${JSON.stringify(rows)}`);
+    };
+    await shown(page);
+    const p2 = await context.newPage();
+    watch(p2);
+    try {
+      await p2.addInitScript(() => {
+        delete globalThis.Worker;
+      });
+      await p2.goto(SINGLE_URL);
+      await shown(p2);
+      assert.equal(await p2.getAttribute('body', 'data-tracer'), 'page');
     } finally {
       await p2.close();
     }

@@ -3,13 +3,10 @@
 // `tirtrace study` on a study document.
 
 import assert from 'node:assert/strict';
-import { existsSync, mkdirSync } from 'node:fs';
-import { join } from 'node:path';
+import { existsSync } from 'node:fs';
 
-import { chromium } from 'playwright-core';
-
-import { STATE_KEY, tracedAfter } from './design-helpers.mjs';
-import { CHROMIUM, CHROMIUM_ARGS, CLI, OUT, WWW, cli, collectErrors, startServer, stopServer } from './harness.mjs';
+import { STATE_KEY, closeDesignPage, designPage, tracedAfter } from './design-helpers.mjs';
+import { CLI, cli } from './harness.mjs';
 
 /** `tirtrace study` on a study document (an object), on two threads; the parsed report. */
 export function cliStudy(study) {
@@ -26,29 +23,22 @@ export async function setField(page, selector, value) {
 }
 
 /**
- * The designer on a fresh browser at 1280×800, its first trace done, then traced again with
- * `rays` (few, for quick studies). Resolves with { server, browser, context, page, errors }
- * (errors: the page's console errors, collected); close it with `closeDesigner`.
+ * The designer on a fresh browser at 1280×800 (`designPage`), its first trace done, then traced
+ * again with `rays` (few, for quick studies). Resolves with { server, browser, context, page,
+ * errors } (errors: the page's console errors, collected); close it with `closeDesigner`.
  */
 export async function openDesigner({ rays, acceptDownloads = false }) {
-  assert.ok(existsSync(join(WWW, 'pkg', 'tirtrace.js')), 'www/pkg is missing: run `bash scripts/build.sh` first');
   assert.ok(existsSync(CLI), 'target/debug/tirtrace is missing: run `cargo build` first');
-  mkdirSync(OUT, { recursive: true });
-  const server = await startServer();
-  const browser = await chromium.launch({ executablePath: CHROMIUM, args: CHROMIUM_ARGS });
-  const context = await browser.newContext({ viewport: { width: 1280, height: 800 }, acceptDownloads });
-  const page = await context.newPage();
   const errors = [];
-  collectErrors(page, errors);
-  await page.goto(`${server.origin}/`);
-  await page.waitForSelector('body[data-ready="true"]', { timeout: 30_000 });
-  await page.waitForFunction(() => Number(document.body.dataset.traced || 0) > 0, null, { timeout: 60_000 });
-  await tracedAfter(page, () => setField(page, '#f-trace-rays', rays));
-  return { server, browser, context, page, errors };
+  const designer = await designPage(errors, { traced: true, acceptDownloads });
+  try {
+    await tracedAfter(designer.page, () => setField(designer.page, '#f-trace-rays', rays));
+  } catch (e) {
+    await closeDesignPage(designer);
+    throw e;
+  }
+  return { ...designer, context: designer.page.context(), errors };
 }
 
 /** Close what `openDesigner` opened (as much of it as was opened). */
-export async function closeDesigner(d) {
-  await d?.browser?.close();
-  await stopServer(d?.server?.child);
-}
+export const closeDesigner = (d) => closeDesignPage(d);

@@ -16,8 +16,8 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { after, before, describe, test } from 'node:test';
 
-import { assertNoJunk, cliTrace, designPage, openKept, pageScenario } from './design-helpers.mjs';
-import { OUT, cli, collectErrors, stopServer } from './harness.mjs';
+import { assertNoJunk, cliTrace, closeDesignPage, designPage, openKept, pageScenario } from './design-helpers.mjs';
+import { OUT, cli, collectErrors } from './harness.mjs';
 
 /**
  * A 2.5 mm acrylic pipe in air fed by a Lambertian LED: 5 mm straight, a 90° bend of centre
@@ -58,10 +58,7 @@ describe('light turned back at the exit face, on the design page', { concurrency
     ({ server, browser, page } = await designPage(consoleErrors, { acceptDownloads: true }));
   });
 
-  after(async () => {
-    await browser?.close();
-    await stopServer(server?.child);
-  });
+  after(() => closeDesignPage({ server, browser }));
 
   test('the sentence and the table of where the light ended are the CLI\'s figures', async () => {
     await open(page, design());

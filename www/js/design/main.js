@@ -13,7 +13,7 @@ import { TracePool } from '../trace/pool.js';
 import { Editor } from './editor.js';
 import { FATES, RouteView, heatColour, heatGradientCss } from './route-view.js';
 import { showLeakLine } from './leak-line.js';
-import { clearReport, linkBendsToQuickLook, setLengthUnit, showBends, showExitMapTable, showFigures, showProgress, showReport } from './report-view.js';
+import { clearReport, linkBendsToQuickLook, setBudgetMechanisms, setLengthUnit, showBends, showExitMapTable, showFigures, showProgress, showReport } from './report-view.js';
 import {
   LINK_WARN_CHARS, MAX_DESIGN_BYTES, STARTER, clone, download, fileNameFor, freshState, loadState, saveState,
   scenarioFromFragment, shareLink, tooLargeMessage,
@@ -637,6 +637,7 @@ async function start() {
     setStatus(`The calculator could not start: ${messageOf(e)}`, 'error');
     return;
   }
+  setBudgetMechanisms(core.budget_mechanisms());
   let fromLink = null;
   try {
     const text = await scenarioFromFragment();

@@ -6,18 +6,31 @@
 import { $, h } from '../dom.js';
 import { formatCount, formatFixed, formatHalfWidth, formatQuantity, formatShare, formatShareCi, orDash } from '../format.js';
 
-const MECHANISMS = [
-  ['delivered', 'Reaches the window (exit face)', '#1864ab'],
-  ['missed_entry', 'Misses the entry face', '#adb5bd'],
-  ['reflected_entry', 'Reflected at the entry face (Fresnel)', '#868e96'],
-  ['leaked', 'Leaks out of the side walls', '#d9480f'],
-  ['contact', 'Lost into mounts touching the pipe', '#862e9c'],
-  ['absorbed', 'Absorbed in the material', '#f59f00'],
-  ['returned', 'Comes back out of the entry face', '#2b8a3e'],
-  ['stopped', 'Stopped by the wall-hit limit', '#495057'],
-];
+/** The colour of each budget share, by the core's key for it (the words and the order are the core's). */
+export const MECHANISM_COLOURS = Object.freeze({
+  delivered: '#1864ab',
+  missed_entry: '#adb5bd',
+  reflected_entry: '#868e96',
+  leaked: '#d9480f',
+  contact: '#862e9c',
+  absorbed: '#f59f00',
+  returned: '#2b8a3e',
+  stopped: '#495057',
+});
 
-export const MECHANISM_LIST = MECHANISMS;
+/** A share the colours above do not name yet: drawn, in a neutral grey, rather than left out. */
+const UNNAMED_COLOUR = '#ced4da';
+
+/** The budget's shares in the core's fixed order, as [key, words, colour]; set once the core runs. */
+let mechanisms = [];
+
+/**
+ * Take the budget's shares from the core (`core.budget_mechanisms()`: [[key, words], …] in the
+ * budget's order), before the first report is shown.
+ */
+export function setBudgetMechanisms(list) {
+  mechanisms = list.map(([key, words]) => [key, words, MECHANISM_COLOURS[key] ?? UNNAMED_COLOUR]);
+}
 
 const KIND_NAMES = { straight: 'Straight', bend: 'Bend', taper: 'Taper' };
 
@@ -92,12 +105,12 @@ export function showReport(report, figures, scenario) {
   const b = report.budget;
   const bar = $('budget-bar');
   bar.replaceChildren(
-    ...MECHANISMS.filter(([k]) => b[k].share > 0).map(([k, label, colour]) =>
+    ...mechanisms.filter(([k]) => b[k].share > 0).map(([k, label, colour]) =>
       h('span', { class: 'budget-piece', title: `${label}: ${formatShareCi(b[k].share, b[k].ci95)}`, style: `flex-grow:${b[k].share};background:${colour}` }),
     ),
   );
   $('budget-rows').replaceChildren(
-    ...MECHANISMS.map(([k, label, colour]) =>
+    ...mechanisms.map(([k, label, colour]) =>
       h('tr', { dataset: { mechanism: k } },
         h('th', { scope: 'row' }, h('span', { class: 'swatch', style: `background:${colour}`, 'aria-hidden': 'true' }), label),
         h('td', { class: 'num', text: formatShare(b[k].share, b[k].ci95) }),

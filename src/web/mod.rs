@@ -399,7 +399,8 @@ fn canvas_area(
 pub fn draw_exit_map(canvas_id: &str, report: JsValue, pixel_ratio: f64) -> Result<(), JsError> {
     let report = read_report(report)?;
     let area = canvas_area(canvas_id)?;
-    crate::chart::draw_exit_map(&area, &report, pixel_ratio).map_err(js_error)
+    crate::chart::draw_exit_map(&area, &report, pixel_ratio, crate::units::LengthUnit::Mm)
+        .map_err(js_error)
 }
 
 /// Draw relative intensity against the angle from the exit axis, with its 95 % band, on the
@@ -615,7 +616,14 @@ pub fn draw_sweep_chart(
             )
         };
     let area = canvas_area(canvas_id)?;
-    crate::chart::draw_sweep_chart(&area, &report, bend.as_ref(), pixel_ratio).map_err(js_error)
+    crate::chart::draw_sweep_chart(
+        &area,
+        &report,
+        bend.as_ref(),
+        pixel_ratio,
+        crate::units::LengthUnit::Mm,
+    )
+    .map_err(js_error)
 }
 
 /// A tolerance study prepared for tracing, kept alive between calls (one per worker): the
@@ -820,7 +828,8 @@ impl StudyFinder {
             return Ok(());
         };
         let area = canvas_area(canvas_id)?;
-        crate::chart::draw_find_chart(&area, &report, pixel_ratio).map_err(js_error)
+        crate::chart::draw_find_chart(&area, &report, pixel_ratio, crate::units::LengthUnit::Mm)
+            .map_err(js_error)
     }
 
     /// The report's evaluations as the CSV `tirtrace study --csv` prints, or `null` until the

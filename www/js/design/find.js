@@ -40,6 +40,8 @@ export class FindPanel {
     this.running = false;
     this.stopped = false;
     this.report = null;
+    /** The last finished search (the core's StudyFinder), kept to redraw its chart. */
+    this.finder = null;
     /** The pool tracing the values (made at the first run) and its job: { id, resolve }. */
     this.pool = null;
     this.job = null;
@@ -172,6 +174,17 @@ export class FindPanel {
       if (!this.csv) return;
       download(new Blob([this.csv], { type: 'text/csv' }), `${this.baseName()}-search.csv`);
     });
+    window.addEventListener('resize', () => this.drawChart());
+    // The length unit shown changed (main.js keeps it in the state): the answer, the table and
+    // the chart show the searched length in it.
+    for (const r of document.querySelectorAll('input[name="unit"]')) {
+      // After main.js's own listener has stored the unit (it listens after this one).
+      r.addEventListener('change', () => setTimeout(() => {
+        if (!this.report) return;
+        this.showReport();
+        this.drawChart();
+      }));
+    }
     // A number picked with ⇆ (the study panel handles the click first): follow it.
     this.study.editor.root.addEventListener('click', (e) => {
       if (e.target.closest('.vary-pick')) queueMicrotask(() => this.showSetup(true));
@@ -320,6 +333,8 @@ export class FindPanel {
     this.stopped = false;
     this.report = null;
     this.csv = null;
+    this.finder?.free();
+    this.finder = null;
     $('find-answer').hidden = true;
     $('find-results').hidden = true;
     $('find-chart').hidden = true;
@@ -342,16 +357,34 @@ export class FindPanel {
       this.csv = finder.csv();
       $('find-progress').textContent = '';
       this.showReport();
+      // Kept to redraw the chart (in another unit, at another size) until the next search.
+      this.finder = finder;
+      finder = null;
       $('find-chart').hidden = false;
-      const { ratio } = sizeCanvasForCore($('find-chart'));
-      finder.draw_chart('find-chart', ratio);
+      this.drawChart();
       this.finish(`Done: ${asked} values traced, ${this.report.rays.toLocaleString('en')} rays each, the same rays at every value.`);
       this.onDone?.(this.report);
     } catch (e) {
       this.finish(`The search stopped: ${messageOf(e)}`, 'error');
     } finally {
-      finder.free();
+      finder?.free();
       if (this.stopped) this.onDone?.(null);
+    }
+  }
+
+  /**
+   * Draw the last finished search's chart (the core draws it, a searched length in the unit
+   * shown; the canvas's data-unit says which); nothing when there is none.
+   */
+  drawChart() {
+    if (!this.finder || $('find-chart').hidden) return;
+    const { ratio } = sizeCanvasForCore($('find-chart'));
+    const { unit } = this.state;
+    try {
+      this.finder.draw_chart('find-chart', ratio, unit);
+      $('find-chart').dataset.unit = unit;
+    } catch (e) {
+      this.message(`The chart could not be drawn: ${messageOf(e)}`, 'error');
     }
   }
 

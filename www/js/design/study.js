@@ -437,8 +437,10 @@ export class StudyPanel {
     $(CHART_ID).hidden = text;
     if (text) return;
     const { ratio } = sizeCanvasForCore($(CHART_ID));
+    const { unit } = this.state;
     try {
-      this.core.draw_sweep_chart(CHART_ID, this.report, this.variedBend, ratio);
+      this.core.draw_sweep_chart(CHART_ID, this.report, this.variedBend, ratio, unit);
+      $(CHART_ID).dataset.unit = unit;
     } catch (e) {
       this.message(`The chart could not be drawn: ${messageOf(e)}`, 'error');
     }
@@ -539,6 +541,14 @@ export class StudyPanel {
       if (file) await this.openFile(file);
     });
     window.addEventListener('resize', () => this.drawChart());
+    // The length unit shown changed (main.js keeps it in the state): the table and the chart
+    // show the varied length in it.
+    for (const r of document.querySelectorAll('input[name="unit"]')) {
+      // After main.js's own listener has stored the unit (it listens after this one).
+      r.addEventListener('change', () => setTimeout(() => {
+        if (this.report) this.showReport();
+      }));
+    }
   }
 
   /** The design was edited: a table of an earlier design says so (the numbers stay readable). */

@@ -100,8 +100,13 @@ describe('the study panel of the designer', { concurrency: false }, () => {
     assert.equal(await chart.getAttribute('data-unit'), 'mm');
     const inMm = await pixels();
     assert.match(await page.locator('#study-head th').first().innerText(), /\(mm\)$/);
+    // A range typed but not run yet keeps its length: 2 mm reads 0.0787 in.
+    await page.fill('#study-from', '2');
     await page.check('input[name="unit"][value="in"]');
     await page.waitForSelector('#study-chart[data-unit="in"]');
+    assert.equal(await page.locator('#study-from-unit').innerText(), 'in');
+    assert.equal(await page.inputValue('#study-from'), '0.0787');
+    assert.equal(await page.inputValue('#study-to'), '0.2756', '7 mm');
     assert.notEqual(await pixels(), inMm, 'the chart is drawn again, its radius axis in inches');
     // The table follows: 1 mm is 0.0394 in.
     assert.match(await page.locator('#study-head th').first().innerText(), /\(in\)$/);
@@ -117,6 +122,9 @@ describe('the study panel of the designer', { concurrency: false }, () => {
     await page.check('input[name="unit"][value="mm"]');
     await page.waitForSelector('#study-chart[data-unit="mm"]');
     assert.equal(await pixels(), inMm, 'back in millimetres, the same picture');
+    assert.equal(await page.locator('#study-from-unit').innerText(), 'mm');
+    assert.equal(await page.inputValue('#study-from'), '2', 'back as typed');
+    assert.equal(await page.inputValue('#study-to'), '7');
     assert.deepStrictEqual(consoleErrors, []);
   });
 

@@ -371,7 +371,7 @@ export class FindPanel {
       this.finder = finder;
       finder = null;
       $('find-chart').hidden = false;
-      this.drawChart();
+      this.paintChart();
       this.finish(`Done: ${asked} values traced, ${this.report.rays.toLocaleString('en')} rays each, the same rays at every value.`);
       this.onDone?.(this.report);
     } catch (e) {
@@ -384,15 +384,21 @@ export class FindPanel {
 
   /**
    * Draw the last finished search's chart (the core draws it, a searched length in the unit
-   * shown; the canvas's data-unit says which); nothing when there is none.
+   * shown; the canvas's data-unit says which); nothing when there is none. Throws what the core
+   * throws.
    */
-  drawChart() {
+  paintChart() {
     if (!this.finder || $('find-chart').hidden) return;
     const { ratio } = sizeCanvasForCore($('find-chart'));
     const { unit } = this.state;
+    this.finder.draw_chart('find-chart', ratio, unit);
+    $('find-chart').dataset.unit = unit;
+  }
+
+  /** Draw the chart again (another unit, another size); a failure is said in the panel. */
+  drawChart() {
     try {
-      this.finder.draw_chart('find-chart', ratio, unit);
-      $('find-chart').dataset.unit = unit;
+      this.paintChart();
     } catch (e) {
       this.message(`The chart could not be drawn: ${messageOf(e)}`, 'error');
     }

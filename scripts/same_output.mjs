@@ -222,7 +222,8 @@ try {
       const report = tracer.report(0, tracer.batch_count(), 0);
       tracer.free();
       for (const ratio of [1, 2]) {
-        draw(`chart exit map ${name} x${ratio}`, [420 * ratio, 360 * ratio], () => wasm.draw_exit_map('c', report, ratio));
+        // In millimetres (a build from before the length unit ignores the extra argument).
+        draw(`chart exit map ${name} x${ratio}`, [420 * ratio, 360 * ratio], () => wasm.draw_exit_map('c', report, ratio, 'mm'));
         draw(`chart intensity ${name} x${ratio}`, [480 * ratio, 320 * ratio], () => wasm.draw_intensity('c', report, ratio));
       }
     }

@@ -29,6 +29,7 @@ pub mod source;
 pub mod stats;
 pub mod study;
 pub mod trace;
+pub mod units;
 
 #[cfg(target_arch = "wasm32")]
 mod web;

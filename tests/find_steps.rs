@@ -219,7 +219,8 @@ fn the_search_chart_shows_the_answer_the_allowed_line_and_the_closed_form_radius
     let mut svg = String::new();
     {
         let area = SVGBackend::with_string(&mut svg, (800, 500)).into_drawing_area();
-        tirtrace::chart::draw_find_chart(&area, &report, 1.0).unwrap();
+        tirtrace::chart::draw_find_chart(&area, &report, 1.0, tirtrace::units::LengthUnit::Mm)
+            .unwrap();
     }
     assert!(svg.contains("allowed: 1.00 %"), "the allowed-loss line");
     // The leak at 3 mm is tens of per cent, far above the zoomed axis: named, not drawn flat

@@ -353,7 +353,7 @@ fn try_svg(
     {
         let area = SVGBackend::with_string(&mut svg, (w, h)).into_drawing_area();
         match chart {
-            Chart::ExitMap => draw_exit_map(&area, report, scale)?,
+            Chart::ExitMap => draw_exit_map(&area, report, scale, tirtrace::units::LengthUnit::Mm)?,
             Chart::Intensity => draw_intensity(&area, report, scale)?,
         }
     }

@@ -208,7 +208,7 @@ fn exit_map_svg(r: &TraceReport) -> String {
     let mut svg = String::new();
     {
         let area = SVGBackend::with_string(&mut svg, (600, 400)).into_drawing_area();
-        draw_exit_map(&area, r, 1.0).unwrap();
+        draw_exit_map(&area, r, 1.0, tirtrace::units::LengthUnit::Mm).unwrap();
     }
     svg
 }

@@ -45,6 +45,43 @@ fn pixels(scale: f64) -> impl Fn(f64) -> u32 {
     move |x: f64| (x * scale).round() as u32
 }
 
+/// Decimals for the tick labels of an axis over `range` with at most `labels` labels: at least
+/// `at_least`, and as many as the ticks plotters places there need to be written exactly (steps
+/// of 1, 2 or 5 times a power of ten, so 0.005 in needs three), at most nine.
+fn tick_decimals(range: Range<f64>, labels: usize, at_least: usize) -> usize {
+    use plotters::coord::ranged1d::{BoldPoints, Ranged};
+    let span = (range.end - range.start).abs();
+    if !(span.is_finite() && span > 0.0) {
+        return at_least;
+    }
+    let ticks = RangedCoordf64::from(range).key_points(BoldPoints(labels));
+    let mut decimals = at_least;
+    let mut factor = 1.0;
+    for _ in 0..decimals {
+        factor *= 10.0;
+    }
+    let exact = |factor: f64| {
+        ticks
+            .iter()
+            .all(|t| (libm::round(t * factor) / factor - t).abs() <= 1e-9 * span)
+    };
+    while decimals < 9 && !exact(factor) {
+        decimals += 1;
+        factor *= 10.0;
+    }
+    decimals
+}
+
+/// A tick label: `x` with `decimals` decimals, never a negative zero (a tick at −1e-18, where
+/// plotters' steps add up to almost 0, reads 0.00, not -0.00).
+fn tick_text(x: f64, decimals: usize) -> String {
+    let text = format!("{x:.decimals$}");
+    match text.strip_prefix('-') {
+        Some(rest) if rest.bytes().all(|b| b == b'0' || b == b'.') => rest.to_string(),
+        _ => text,
+    }
+}
+
 /// The charts' text and axis colour.
 const INK: RGBColor = RGBColor(0x1f, 0x2a, 0x37);
 
@@ -136,4 +173,33 @@ fn draw_legend<'a, DB: DrawingBackend + 'a>(
         .label_font(font)
         .draw()
         .map_err(draw_err)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn tick_labels_have_the_decimals_their_ticks_need() {
+        // Ticks 0.02 in apart need two decimals, 0.005 in apart three; never fewer than asked.
+        assert_eq!(tick_decimals(-0.07..0.07, 7, 0), 2);
+        assert_eq!(tick_decimals(-0.012..0.012, 7, 2), 3);
+        assert_eq!(tick_decimals(-12.0..12.0, 7, 0), 0);
+        assert_eq!(tick_decimals(-12.0..12.0, 7, 1), 1);
+        assert_eq!(
+            tick_decimals(1.0..1.0, 7, 1),
+            1,
+            "an empty range keeps the least"
+        );
+        assert_eq!(tick_decimals(0.0..f64::INFINITY, 7, 2), 2);
+    }
+
+    #[test]
+    fn a_tick_at_almost_zero_reads_zero() {
+        assert_eq!(tick_text(-1.7e-18, 2), "0.00");
+        assert_eq!(tick_text(-0.004, 2), "0.00");
+        assert_eq!(tick_text(-0.05, 2), "-0.05");
+        assert_eq!(tick_text(0.0, 0), "0");
+        assert_eq!(tick_text(-3.0, 1), "-3.0");
+    }
 }

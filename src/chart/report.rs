@@ -7,8 +7,10 @@ use plotters::style::text_anchor::{HPos, Pos, VPos};
 
 use super::{
     cartesian, clamp_scale, draw_axes, draw_err, draw_legend, draw_line, ink_font, pixels,
+    tick_decimals, tick_text,
 };
 use crate::error::TirError;
+use crate::units::LengthUnit;
 
 /// Control points of the maps' sequential palette, from no light (0, a warm near-white that
 /// blends with the page) to the peak (1, a deep indigo), through pale green, teal and blue. Our
@@ -60,7 +62,7 @@ fn sig3(x: f64) -> String {
     }
 }
 
-/// Decimals for axis labels over a span of `span` (mm or degrees).
+/// Decimals for axis labels over a span of `span` (in the unit shown, or degrees), at least.
 fn label_decimals(span: f64) -> usize {
     if span < 1.0 {
         2
@@ -220,11 +222,12 @@ fn map_scale_rule(scale: &MapScale) -> String {
 }
 
 /// Draw the exit-face irradiance map of a trace report: one coloured cell per map cell
-/// (irradiance relative to the top of the colour scale, [`sequential_colour`]), mm axes at equal
-/// scale across the face's width and height axes, a colour scale, a caption giving the scale's top
-/// as a share of the emitted power per mm², and under the map the rule that sets that top
-/// ([`map_scale_top`]: a high percentile of the steady cells, never one noisy cell). A map with
-/// no light gets a message instead.
+/// (irradiance relative to the top of the colour scale, [`sequential_colour`]), axes in `unit`
+/// (mm or inches) at equal scale across the face's width and height axes, a colour scale, a
+/// caption giving the scale's top as a share of the emitted power per mm² (per in² in inches:
+/// × 645.16), and under the map the rule that sets that top ([`map_scale_top`]: a high
+/// percentile of the steady cells, never one noisy cell). A map with no light gets a message
+/// instead.
 ///
 /// `scale` multiplies fonts, line widths and margins (the device pixel ratio on the page);
 /// values outside 0.5…4 are clamped. Errors: a map whose cell count and values disagree (a
@@ -233,6 +236,7 @@ pub fn draw_exit_map<DB: DrawingBackend>(
     area: &DrawingArea<DB, Shift>,
     report: &crate::trace::TraceReport,
     scale: f64,
+    unit: LengthUnit,
 ) -> Result<(), TirError> {
     let scale = clamp_scale(scale);
     let px = pixels(scale);
@@ -249,8 +253,9 @@ pub fn draw_exit_map<DB: DrawingBackend>(
     };
     let peak = colour_scale.top_per_mm2;
     let caption = format!(
-        "Exit-face irradiance (1 = {} % of the emitted power per mm²)",
-        sig3(100.0 * peak)
+        "Exit-face irradiance (1 = {} % of the emitted power per {})",
+        sig3(100.0 * unit.per_area_from_per_mm2(peak)),
+        unit.area_name()
     );
     let (area_h, foot_h) = (area.dim_in_pixel().1, px(22.0));
     let (chart_area, foot) = area.split_vertically(area_h.saturating_sub(foot_h));
@@ -268,8 +273,13 @@ pub fn draw_exit_map<DB: DrawingBackend>(
         body.split_horizontally(body.dim_in_pixel().0.saturating_sub(px(96.0)));
     let label_font = ink_font(px(12.0));
 
-    // Equal mm per pixel across and down: widen the shorter range to the plotting area's shape.
-    let (hw, hh) = (0.5 * map.width_mm, 0.5 * map.height_mm);
+    // Equal lengths per pixel across and down: widen the shorter range to the plotting area's
+    // shape. The chart's coordinates are in the unit shown, so its ticks fall on round values of
+    // that unit.
+    let (hw, hh) = (
+        0.5 * unit.from_mm(map.width_mm),
+        0.5 * unit.from_mm(map.height_mm),
+    );
     let build = |x: f64, y: f64| cartesian(&map_area, 8.0, scale, -x..x, -y..y);
     let (pw, ph) = build(hw, hh)?.plotting_area().dim_in_pixel();
     let (pw, ph) = (pw.max(1) as f64, ph.max(1) as f64);
@@ -279,24 +289,25 @@ pub fn draw_exit_map<DB: DrawingBackend>(
         (hh * pw / ph, hh)
     };
     let mut chart = build(x_half, y_half)?;
-    let x_dec = label_decimals(2.0 * x_half);
-    let y_dec = label_decimals(2.0 * y_half);
+    const LABELS: usize = 7;
+    let x_dec = tick_decimals(-x_half..x_half, LABELS, label_decimals(2.0 * x_half));
+    let y_dec = tick_decimals(-y_half..y_half, LABELS, label_decimals(2.0 * y_half));
     chart
         .configure_mesh()
         .disable_mesh()
-        .x_desc("along the width axis (mm)")
-        .y_desc("along the height axis (mm)")
+        .x_desc(format!("along the width axis ({})", unit.name()))
+        .y_desc(format!("along the height axis ({})", unit.name()))
         .axis_desc_style(label_font.clone())
         .label_style(label_font.clone())
-        .x_label_formatter(&|x| format!("{:.*}", x_dec, x + 0.0))
-        .y_label_formatter(&|y| format!("{:.*}", y_dec, y + 0.0))
-        .x_labels(7)
-        .y_labels(7)
+        .x_label_formatter(&|x| tick_text(*x, x_dec))
+        .y_label_formatter(&|y| tick_text(*y, y_dec))
+        .x_labels(LABELS)
+        .y_labels(LABELS)
         .axis_style(FRAME)
         .draw()
         .map_err(draw_err)?;
     let n = map.cells;
-    let (cw, ch) = (map.width_mm / n as f64, map.height_mm / n as f64);
+    let (cw, ch) = (2.0 * hw / n as f64, 2.0 * hh / n as f64);
     chart
         .draw_series((0..n * n).map(|k| {
             let (row, col) = (k / n, k % n);
@@ -500,4 +511,125 @@ pub fn draw_intensity<DB: DrawingBackend>(
     )?;
     draw_legend(&mut chart, SeriesLabelPosition::UpperRight, label_font)?;
     area.present().map_err(draw_err)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::scenario::Scenario;
+    use crate::trace::{Prepared, TraceReport};
+
+    /// The thermostat example (a 3 mm round pipe) traced with few rays.
+    fn thermostat() -> TraceReport {
+        let text =
+            std::fs::read_to_string("examples/scenarios/thermostat_status_led.json").unwrap();
+        let mut s = Scenario::from_json(&text).unwrap();
+        s.trace.rays = 20_000;
+        let p = Prepared::new(&s).unwrap();
+        p.report(&p.trace_all_serial(0))
+    }
+
+    fn exit_map_svg(report: &TraceReport, unit: LengthUnit) -> String {
+        exit_map_svg_sized(report, unit, (600, 400))
+    }
+
+    fn exit_map_svg_sized(report: &TraceReport, unit: LengthUnit, size: (u32, u32)) -> String {
+        let mut svg = String::new();
+        {
+            let area = SVGBackend::with_string(&mut svg, size).into_drawing_area();
+            draw_exit_map(&area, report, 1.0, unit).unwrap();
+        }
+        svg
+    }
+
+    /// The texts of an SVG, in drawing order.
+    fn texts(svg: &str) -> Vec<String> {
+        svg.split("<text")
+            .skip(1)
+            .filter_map(|t| {
+                let inside = t.split_once('>')?.1.split("</text>").next()?;
+                Some(inside.trim().to_string())
+            })
+            .collect()
+    }
+
+    /// The tick labels: the texts that are numbers, except the colour scale's 0.0 … 1.0.
+    fn ticks(svg: &str) -> Vec<String> {
+        texts(svg)
+            .into_iter()
+            .filter(|t| t.parse::<f64>().is_ok())
+            .collect()
+    }
+
+    #[test]
+    fn the_exit_map_in_inches_has_inch_axes_ticks_and_area() {
+        let report = thermostat();
+        let mm = exit_map_svg(&report, LengthUnit::Mm);
+        let inch = exit_map_svg(&report, LengthUnit::Inch);
+        assert!(mm.contains("along the width axis (mm)") && mm.contains("per mm²)"));
+        assert!(inch.contains("along the width axis (in)"), "{inch}");
+        assert!(inch.contains("along the height axis (in)"));
+        assert!(inch.contains("of the emitted power per in²)"));
+        assert!(!inch.contains("(mm)") && !inch.contains("mm²"));
+        // The caption's top: the same share per mm² times 645.16 mm² per in².
+        let top = map_scale_top(&report.exit_map).unwrap().top_per_mm2;
+        assert!(mm.contains(&format!("1 = {} % of", sig3(100.0 * top))));
+        assert!(inch.contains(&format!("1 = {} % of", sig3(100.0 * 645.16 * top))));
+        // A 3 mm face spans ±0.059 in: ticks at round inch values (0.02 in apart), written
+        // with two decimals, never a converted millimetre value such as 0.0394.
+        let tick_texts = ticks(&inch);
+        for t in ["-0.04", "-0.02", "0.00", "0.02", "0.04"] {
+            assert!(tick_texts.iter().any(|x| x == t), "{t} in {tick_texts:?}");
+        }
+        for t in &tick_texts {
+            let decimals = t.split_once('.').map_or(0, |(_, d)| d.len());
+            assert!(decimals <= 2, "{t} in {tick_texts:?}");
+            let v: f64 = t.parse().unwrap();
+            assert!(v.abs() <= 1.0, "{t}: inch ticks of a 3 mm face");
+        }
+        // The millimetre drawing keeps its own ticks.
+        let mm_ticks = ticks(&mm);
+        assert!(mm_ticks.iter().any(|x| x == "1.0"), "{mm_ticks:?}");
+        assert!(!inch.contains("NaN") && !mm.contains("NaN"));
+    }
+
+    #[test]
+    fn no_tick_reads_minus_zero() {
+        // At these sizes plotters' ticks land a hair below 0 in one unit or the other.
+        let report = thermostat();
+        for size in [(600, 400), (780, 390), (420, 360), (1560, 780)] {
+            for unit in [LengthUnit::Mm, LengthUnit::Inch] {
+                let svg = exit_map_svg_sized(&report, unit, size);
+                let zeros: Vec<String> = ticks(&svg)
+                    .into_iter()
+                    .filter(|t| t.parse::<f64>() == Ok(0.0))
+                    .collect();
+                assert!(!zeros.is_empty(), "{size:?} {unit:?}: a tick at 0");
+                assert!(
+                    zeros.iter().all(|t| !t.starts_with('-')),
+                    "{size:?} {unit:?}: {zeros:?}"
+                );
+            }
+        }
+    }
+
+    #[test]
+    fn a_tiny_face_in_inches_gets_the_decimals_its_ticks_need() {
+        // A 0.5 mm face spans ±0.0098 in: ticks 0.005 in apart need three decimals.
+        let mut report = thermostat();
+        report.exit_map.width_mm = 0.5;
+        report.exit_map.height_mm = 0.5;
+        let tick_texts = ticks(&exit_map_svg(&report, LengthUnit::Inch));
+        let colour_scale = ["0.0", "0.2", "0.4", "0.6", "0.8", "1.0"];
+        let axes: Vec<&String> = tick_texts
+            .iter()
+            .filter(|t| !colour_scale.contains(&t.as_str()))
+            .collect();
+        for t in ["-0.010", "-0.005", "0.000", "0.005", "0.010"] {
+            assert!(axes.iter().any(|x| *x == t), "{t} in {axes:?}");
+        }
+        for t in &axes {
+            assert_eq!(t.split_once('.').map(|(_, d)| d.len()), Some(3), "{t}");
+        }
+    }
 }

@@ -8,13 +8,18 @@ use plotters::style::text_anchor::{HPos, Pos, VPos};
 
 use super::{
     cartesian, clamp_scale, draw_axes, draw_err, draw_legend, draw_line, ink_font, pixels,
+    tick_decimals, tick_text,
 };
 use crate::error::TirError;
 use crate::study::{SweepReport, VariedBend};
+use crate::units::LengthUnit;
 
-/// The axis title of a field path: the path without its unit suffix, then the unit in
-/// brackets (`route[1].bend.radius_mm` → `route[1].bend.radius (mm)`).
-pub fn field_axis_title(field: &str) -> String {
+/// Tick labels along a sweep's x axis at most (plotters' default).
+const X_LABELS: usize = 11;
+
+/// A field path's name without its unit suffix (an element of a list, `offset_mm[0]`, keeps its
+/// index after the unit-less name) and the unit the suffix names; `None` without a known suffix.
+fn split_unit(field: &str) -> Option<(String, &'static str)> {
     const UNITS: [(&str, &str); 6] = [
         ("_db_per_m", "dB/m"),
         ("_mm", "mm"),
@@ -23,17 +28,76 @@ pub fn field_axis_title(field: &str) -> String {
         ("_lm", "lm"),
         ("_mw", "mW"),
     ];
-    // An element of a list (`offset_mm[0]`) keeps its index after the unit-less name.
     let (name, index) = match field.rfind('[') {
         Some(i) if field.ends_with(']') && !field[i..].contains('.') => field.split_at(i),
         _ => (field, ""),
     };
-    for (suffix, unit) in UNITS {
-        if let Some(stem) = name.strip_suffix(suffix) {
-            return format!("{stem}{index} ({unit})");
+    UNITS.iter().find_map(|&(suffix, unit)| {
+        name.strip_suffix(suffix)
+            .map(|stem| (format!("{stem}{index}"), unit))
+    })
+}
+
+/// The axis title of a field path: the path without its unit suffix, then the unit in
+/// brackets (`route[1].bend.radius_mm` → `route[1].bend.radius (mm)`).
+pub fn field_axis_title(field: &str) -> String {
+    match split_unit(field) {
+        Some((stem, unit)) => format!("{stem} ({unit})"),
+        None => field.to_string(),
+    }
+}
+
+/// How a chart shows a varied field along an axis: its title and, for a length (a `…_mm` path,
+/// not a factor), its values in the unit chosen for lengths.
+pub(super) struct FieldAxis {
+    /// The axis title (`route[1].bend.radius (in)`, `factor on every route[*].bend.radius_mm`).
+    pub(super) title: String,
+    /// The unit shown when the field is a length, else `None` (shown as stored).
+    length: Option<LengthUnit>,
+}
+
+impl FieldAxis {
+    /// The axis of `field`, a factor on it when `factor`; lengths shown in `unit`.
+    pub(super) fn new(field: &str, factor: bool, unit: LengthUnit) -> Self {
+        if factor {
+            return Self {
+                title: format!("factor on every {field}"),
+                length: None,
+            };
+        }
+        match split_unit(field) {
+            Some((stem, "mm")) => Self {
+                title: format!("{stem} ({})", unit.name()),
+                length: Some(unit),
+            },
+            _ => Self {
+                title: field_axis_title(field),
+                length: None,
+            },
         }
     }
-    field.to_string()
+
+    /// A value of the field (stored units: mm for a length) where the chart draws it.
+    pub(super) fn shown(&self, value: f64) -> f64 {
+        self.length.map_or(value, |u| u.from_mm(value))
+    }
+
+    /// A value of the field written with `decimals` decimals (a length: as many in mm, two more
+    /// in inches, [`LengthUnit::fixed`]).
+    pub(super) fn fixed(&self, value: f64, decimals: usize) -> String {
+        match self.length {
+            Some(u) => u.fixed(value, decimals),
+            None => format!("{value:.decimals$}"),
+        }
+    }
+
+    /// A value of the field as a legend writes it (lengths in the unit shown, without noise).
+    pub(super) fn text(&self, value: f64) -> String {
+        match self.length {
+            Some(u) => u.shown(value),
+            None => format!("{value}"),
+        }
+    }
 }
 
 /// One traced point for drawing: value, and (share, ci95) of delivered, difference and the
@@ -73,11 +137,11 @@ const GRID_COLOURS: [RGBColor; 6] = [
 /// One curve of a grid: its legend and its points (x, delivered %, its 95 % half-width).
 type GridCurve = (String, Vec<(f64, f64, f64)>);
 
-/// A grid's value of its second field as a legend shows it.
-fn grid_label(v: &serde_json::Value) -> String {
+/// A grid's value of its second field (on `axis`) as a legend shows it.
+fn grid_label(v: &serde_json::Value, axis: &FieldAxis) -> String {
     match v {
         serde_json::Value::String(t) => t.clone(),
-        serde_json::Value::Number(n) => n.as_f64().map(|x| format!("{x}")).unwrap_or_default(),
+        serde_json::Value::Number(n) => n.as_f64().map(|x| axis.text(x)).unwrap_or_default(),
         _ => String::new(),
     }
 }
@@ -89,14 +153,21 @@ fn draw_grid_chart<DB: DrawingBackend>(
     area: &DrawingArea<DB, Shift>,
     report: &SweepReport,
     scale: f64,
+    unit: LengthUnit,
 ) -> Result<(), TirError> {
     let scale = clamp_scale(scale);
     let px = pixels(scale);
     area.fill(&WHITE).map_err(draw_err)?;
+    let x_axis = FieldAxis::new(&report.field, report.factor, unit);
+    let and_field = report.and_field.clone().unwrap_or_default();
+    let and_axis = FieldAxis::new(&and_field, report.and_factor, unit);
     // The second field's values in first-seen order, each with its traced points.
     let mut curves: Vec<GridCurve> = Vec::new();
     for p in &report.points {
-        let label = grid_label(p.and_value.as_ref().unwrap_or(&serde_json::Value::Null));
+        let label = grid_label(
+            p.and_value.as_ref().unwrap_or(&serde_json::Value::Null),
+            &and_axis,
+        );
         let k = match curves.iter().position(|(l, _)| *l == label) {
             Some(k) => k,
             None => {
@@ -110,7 +181,9 @@ fn draw_grid_chart<DB: DrawingBackend>(
             } else {
                 0.0
             };
-            curves[k].1.push((x, 100.0 * r.delivered.share, 100.0 * ci));
+            curves[k]
+                .1
+                .push((x_axis.shown(x), 100.0 * r.delivered.share, 100.0 * ci));
         }
     }
     let all: Vec<&(f64, f64, f64)> = curves.iter().flat_map(|(_, c)| c).collect();
@@ -137,25 +210,16 @@ fn draw_grid_chart<DB: DrawingBackend>(
     let x_range = padded(x_lo, x_hi, 1e-6 * x_hi.abs().max(1.0));
     let y_range = padded(y_lo.max(0.0), y_hi.min(100.0), 0.5);
     let y_range = y_range.start.max(0.0)..y_range.end.min(100.0);
-    let x_title = if report.factor {
-        format!("factor on every {}", report.field)
-    } else {
-        field_axis_title(&report.field)
-    };
-    let and_field = report.and_field.clone().unwrap_or_default();
-    let and_title = if report.and_factor {
-        format!("factor on every {and_field}")
-    } else {
-        field_axis_title(&and_field)
-    };
+    let (x_title, and_title) = (&x_axis.title, &and_axis.title);
     let label_font = ink_font(px(12.0));
+    let x_decimals = tick_decimals(x_range.clone(), X_LABELS, 2);
     let mut chart = cartesian(area, 10.0, scale, x_range, y_range.clone())?;
     draw_axes(
         &mut chart,
-        (&x_title, "delivered, share of the emitted light (%)"),
+        (x_title, "delivered, share of the emitted light (%)"),
         ink_font(px(13.0)),
         label_font.clone(),
-        (&|x| format!("{x:.2}"), &|y| format!("{y:.1}")),
+        (&|x| tick_text(*x, x_decimals), &|y| format!("{y:.1}")),
     )?;
     for (k, (label, points)) in curves.iter().enumerate() {
         let colour = GRID_COLOURS[k % GRID_COLOURS.len()];
@@ -201,13 +265,15 @@ pub fn draw_sweep_chart<DB: DrawingBackend>(
     report: &SweepReport,
     bend: Option<&VariedBend>,
     scale: f64,
+    unit: LengthUnit,
 ) -> Result<(), TirError> {
     if report.and_field.is_some() && report.points.iter().any(|p| p.value.is_number()) {
-        return draw_grid_chart(area, report, scale);
+        return draw_grid_chart(area, report, scale, unit);
     }
     let scale = clamp_scale(scale);
     let px = pixels(scale);
     area.fill(&WHITE).map_err(draw_err)?;
+    let x_axis = FieldAxis::new(&report.field, report.factor, unit);
     let pct = |s: &crate::stats::Share| (100.0 * s.share, 100.0 * s.ci95);
     let drawn: Vec<Drawn> = report
         .points
@@ -216,7 +282,7 @@ pub fn draw_sweep_chart<DB: DrawingBackend>(
         .filter_map(|p| {
             let r = p.result.as_ref()?;
             Some(Drawn {
-                x: p.value.as_f64().filter(|x| x.is_finite())?,
+                x: x_axis.shown(p.value.as_f64().filter(|x| x.is_finite())?),
                 delivered: pct(&r.delivered),
                 difference: pct(&r.difference),
                 bend_leak: bend.and_then(|b| r.segments_leaked.get(b.segment)).map(pct),
@@ -239,11 +305,7 @@ pub fn draw_sweep_chart<DB: DrawingBackend>(
         .map_err(draw_err)?;
         return area.present().map_err(draw_err);
     }
-    let x_title = if report.factor {
-        format!("factor on every {}", report.field)
-    } else {
-        field_axis_title(&report.field)
-    };
+    let x_title = &x_axis.title;
     let (x_lo, x_hi) = drawn
         .iter()
         .fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), d| {
@@ -252,9 +314,14 @@ pub fn draw_sweep_chart<DB: DrawingBackend>(
     let span = (x_hi - x_lo).max(1e-9);
     // The leak-free radius is drawn as a line when it lies within two sweep spans of the
     // values (the axis grows to hold it), else named in words at the chart's edge.
-    let leak_free = bend
+    // (The varied field is that bend's radius: a length, drawn and written in the unit shown.)
+    let leak_free_mm = bend
         .and_then(|b| b.leak_free_radius_mm)
         .filter(|r| r.is_finite());
+    let leak_free_text = leak_free_mm
+        .map(|r| format!("{} {}", unit.fixed(r, 2), unit.name()))
+        .unwrap_or_default();
+    let leak_free = leak_free_mm.map(|r| x_axis.shown(r));
     let near = |r: &f64| *r >= x_lo - 2.0 * span && *r <= x_hi + 2.0 * span;
     let marker = leak_free.filter(near);
     let off_chart = leak_free.filter(|r| !near(r));
@@ -270,6 +337,7 @@ pub fn draw_sweep_chart<DB: DrawingBackend>(
     } else {
         1
     };
+    let tick_decimals = tick_decimals(x_range.clone(), X_LABELS, x_decimals);
     let (top, bottom) = area.split_vertically(area.dim_in_pixel().1 * 3 / 5);
 
     // Top panel: delivered and the bend's leak, per cent of the emitted power.
@@ -290,13 +358,15 @@ pub fn draw_sweep_chart<DB: DrawingBackend>(
     let leak_band = RGBColor(0xf0, 0xcf, 0xc4);
     let marker_colour = RGBColor(0x00, 0x6d, 0x77);
     let label_font = ink_font(px(12.0));
-    let x_format = move |x: &f64| format!("{x:.x_decimals$}");
+    let x_format = move |x: &f64| tick_text(*x, tick_decimals);
     {
         let mut chart = cartesian(&top, 10.0, scale, x_range.clone(), y_range.clone())?;
         // Far from the values, the leak-free radius is named under the axis instead of drawn.
         let top_x_title = match off_chart {
-            Some(r) if r > x_hi => format!("{x_title} · leak-free from {r:.2} mm (closed form) →"),
-            Some(r) => format!("← leak-free from {r:.2} mm (closed form) · {x_title}"),
+            Some(r) if r > x_hi => {
+                format!("{x_title} · leak-free from {leak_free_text} (closed form) →")
+            }
+            Some(_) => format!("← leak-free from {leak_free_text} (closed form) · {x_title}"),
             None => x_title.clone(),
         };
         draw_axes(
@@ -377,7 +447,7 @@ pub fn draw_sweep_chart<DB: DrawingBackend>(
             let y_text = y_range.end - 0.04 * (y_range.end - y_range.start);
             chart
                 .draw_series(std::iter::once(Text::new(
-                    format!("leak-free from here (closed form): {r:.2} mm"),
+                    format!("leak-free from here (closed form): {leak_free_text}"),
                     (anchor, y_text),
                     label_font.clone().pos(pos),
                 )))
@@ -408,11 +478,21 @@ pub fn draw_sweep_chart<DB: DrawingBackend>(
         .reference
         .and_then(|i| report.points.get(i))
         .and_then(|p| p.value.as_f64())
-        .map(|x| format!("{x:.x_decimals$}"))
+        .map(|x| {
+            // At least two significant digits: 0.1 mm is 0.0039 in, not 0.004.
+            let x = x_axis.shown(x);
+            let digits = if x == 0.0 || !x.is_finite() {
+                0
+            } else {
+                1 - libm::floor(libm::log10(x.abs())) as i64
+            };
+            let decimals = x_decimals.max(digits.clamp(0, 12) as usize);
+            format!("{x:.decimals$}")
+        })
         .unwrap_or_default();
     draw_axes(
         &mut chart,
-        (&x_title, &format!("difference to {reference} (% points)")),
+        (x_title, &format!("difference to {reference} (% points)")),
         ink_font(px(13.0)),
         label_font.clone(),
         (&x_format, &|y| format!("{y:.2}")),
@@ -479,7 +559,7 @@ mod tests {
         let mut svg = String::new();
         {
             let area = SVGBackend::with_string(&mut svg, (800, 600)).into_drawing_area();
-            draw_sweep_chart(&area, report, bend, 1.0).unwrap();
+            draw_sweep_chart(&area, report, bend, 1.0, LengthUnit::Mm).unwrap();
         }
         svg
     }
@@ -550,6 +630,117 @@ mod tests {
         );
     }
 
+    /// The texts of an SVG that are numbers (tick labels), in drawing order.
+    fn numbers(svg: &str) -> Vec<String> {
+        svg.split("<text")
+            .skip(1)
+            .filter_map(|t| {
+                let inside = t.split_once('>')?.1.split("</text>").next()?.trim();
+                inside.parse::<f64>().is_ok().then(|| inside.to_string())
+            })
+            .collect()
+    }
+
+    fn svg_in(report: &SweepReport, bend: Option<&VariedBend>, unit: LengthUnit) -> String {
+        let mut svg = String::new();
+        {
+            let area = SVGBackend::with_string(&mut svg, (800, 600)).into_drawing_area();
+            draw_sweep_chart(&area, report, bend, 1.0, unit).unwrap();
+        }
+        svg
+    }
+
+    #[test]
+    fn a_radius_sweep_in_inches_draws_and_writes_inches() {
+        let (report, bend) = traced("[8, 16, 24, 32]");
+        let bend = bend.unwrap();
+        let r = bend.leak_free_radius_mm.unwrap();
+        let svg = svg_in(&report, Some(&bend), LengthUnit::Inch);
+        assert!(svg.contains("route[1].bend.radius (in)"), "the x axis");
+        assert!(
+            !svg.contains("(mm)") && !svg.contains(" mm"),
+            "no millimetres left"
+        );
+        assert!(svg.contains(&format!(
+            "leak-free from here (closed form): {} in",
+            LengthUnit::Inch.fixed(r, 2)
+        )));
+        // 8 mm = 0.31496 in, written to the sweep's decimals.
+        assert!(svg.contains("difference to 0.315 (% points)"), "reference");
+        // 8 … 32 mm = 0.31 … 1.26 in: ticks every 0.1 in, not converted millimetre ticks.
+        let ticks = numbers(&svg);
+        for t in ["0.300", "0.500", "1.000", "1.200"] {
+            assert!(ticks.iter().any(|x| x == t), "{t} in {ticks:?}");
+        }
+        // (The x axis's labels are the ones with three decimals; the y axes' have one or two.)
+        let x_ticks = ticks
+            .iter()
+            .filter(|t| t.split_once('.').unwrap().1.len() == 3);
+        for t in x_ticks {
+            let inches: f64 = t.parse().unwrap();
+            assert!((0.2..1.4).contains(&inches), "{t} in {ticks:?}");
+        }
+        // Far from the values, the closed-form radius is named in inches at the edge.
+        let (near_report, _) = traced("[3, 4]");
+        let edge = svg_in(&near_report, Some(&bend), LengthUnit::Inch);
+        assert!(edge.contains(&format!(
+            "leak-free from {} in (closed form) →",
+            LengthUnit::Inch.fixed(r, 2)
+        )));
+        // In millimetres, as before.
+        let mm = svg_in(&report, Some(&bend), LengthUnit::Mm);
+        assert!(mm.contains(&format!("leak-free from here (closed form): {r:.2} mm")));
+        assert!(mm.contains("difference to 8.0 (% points)"));
+    }
+
+    #[test]
+    fn a_small_length_in_inches_keeps_two_significant_digits() {
+        let text = std::fs::read_to_string("examples/studies/thermostat_first_bend.json").unwrap();
+        let mut doc: serde_json::Value = serde_json::from_str(&text).unwrap();
+        doc["scenario"]["trace"]["rays"] = 2000.into();
+        doc["vary"] = serde_json::json!({ "field": "source.gap_mm", "values": [0.1, 0.3, 0.5] });
+        let study = Study::from_json(&doc.to_string()).unwrap();
+        let sweep = study.prepare_sweep().unwrap();
+        let report = sweep.report(&sweep.trace_all_serial());
+        let svg = svg_in(&report, None, LengthUnit::Inch);
+        assert!(svg.contains("source.gap (in)"));
+        // 0.1 mm = 0.003937 in; the x ticks 0.002 in apart (0.1 … 0.5 mm = 0.004 … 0.020 in).
+        assert!(svg.contains("difference to 0.0039 (% points)"), "reference");
+        let ticks = numbers(&svg);
+        for t in ["0.004", "0.010", "0.020"] {
+            assert!(ticks.iter().any(|x| x == t), "{t} in {ticks:?}");
+        }
+        let mm = svg_in(&report, None, LengthUnit::Mm);
+        assert!(
+            mm.contains("difference to 0.100 (% points)"),
+            "reference in mm"
+        );
+    }
+
+    #[test]
+    fn a_grid_of_lengths_in_inches_converts_both_fields() {
+        let text = std::fs::read_to_string("examples/studies/thermostat_first_bend.json").unwrap();
+        let mut doc: serde_json::Value = serde_json::from_str(&text).unwrap();
+        doc["scenario"]["trace"]["rays"] = 2000.into();
+        doc["vary"] = serde_json::json!({ "field": "route[1].bend.radius_mm", "values": [8, 16] });
+        doc["and_vary"] =
+            serde_json::json!({ "field": "route[3].bend.radius_mm", "values": [6, 12] });
+        let study = Study::from_json(&doc.to_string()).unwrap();
+        let sweep = study.prepare_sweep().unwrap();
+        let report = sweep.report(&sweep.trace_all_serial());
+        let svg = svg_in(&report, None, LengthUnit::Inch);
+        assert!(svg.contains("route[1].bend.radius (in)"), "the x axis");
+        // 6 mm = 0.23622 in and 12 mm = 0.47244 in, to 0.0001 in.
+        assert!(
+            svg.contains("route[3].bend.radius (in) = 0.2362"),
+            "a curve per radius"
+        );
+        assert!(svg.contains("route[3].bend.radius (in) = 0.4724"));
+        let mm = svg_in(&report, None, LengthUnit::Mm);
+        assert!(mm.contains("route[3].bend.radius (mm) = 6"));
+        assert!(!svg.contains("NaN") && !mm.contains("NaN"));
+    }
+
     #[test]
     fn a_grid_draws_one_curve_per_value_of_its_second_field() {
         let text =
@@ -562,7 +753,7 @@ mod tests {
         let mut svg = String::new();
         {
             let area = SVGBackend::with_string(&mut svg, (800, 600)).into_drawing_area();
-            draw_sweep_chart(&area, &report, None, 1.0).unwrap();
+            draw_sweep_chart(&area, &report, None, 1.0, LengthUnit::Mm).unwrap();
         }
         assert!(
             svg.contains("guide.material.library = pmma"),

@@ -399,14 +399,28 @@ fn canvas_area(
     Ok(backend.into_drawing_area())
 }
 
+/// The unit a chart shows lengths in, from the page's name for it: `"mm"` or `"in"`; anything
+/// else (or nothing) is refused with the core's message.
+fn read_length_unit(length_unit: &JsValue) -> Result<crate::units::LengthUnit, JsError> {
+    crate::units::LengthUnit::from_name(length_unit.as_string().as_deref())
+        .map_err(|e| js_error(e.into()))
+}
+
 /// Draw the exit-face irradiance map of a trace report on the canvas with id `canvas_id`;
 /// `pixel_ratio` scales fonts and lines (pass `devicePixelRatio` with a canvas sized in device
-/// pixels). A report with no delivered light draws a message.
+/// pixels); `length_unit` (`"mm"` or `"in"`) is the unit of its axes and of the area in its
+/// caption. A report with no delivered light draws a message.
 #[wasm_bindgen]
-pub fn draw_exit_map(canvas_id: &str, report: JsValue, pixel_ratio: f64) -> Result<(), JsError> {
+pub fn draw_exit_map(
+    canvas_id: &str,
+    report: JsValue,
+    pixel_ratio: f64,
+    length_unit: JsValue,
+) -> Result<(), JsError> {
+    let unit = read_length_unit(&length_unit)?;
     let report = read_report(report)?;
     let area = canvas_area(canvas_id)?;
-    crate::chart::draw_exit_map(&area, &report, pixel_ratio).map_err(js_error)
+    crate::chart::draw_exit_map(&area, &report, pixel_ratio, unit).map_err(js_error)
 }
 
 /// Draw relative intensity against the angle from the exit axis, with its 95 % band, on the
@@ -603,14 +617,16 @@ pub fn sweep_report_csv(report: JsValue) -> Result<String, JsError> {
 /// Draw a sweep report's chart on the canvas with id `canvas_id`: delivered and the difference
 /// to the first point with their 95 % bands; with `varied_bend` (from
 /// `StudyTracer.varied_bend()`, or `null`) that bend's leak and its leak-free radius.
-/// `pixel_ratio` as for [`draw_exit_map`].
+/// `pixel_ratio` and `length_unit` (of a varied length) as for [`draw_exit_map`].
 #[wasm_bindgen]
 pub fn draw_sweep_chart(
     canvas_id: &str,
     report: JsValue,
     varied_bend: JsValue,
     pixel_ratio: f64,
+    length_unit: JsValue,
 ) -> Result<(), JsError> {
+    let unit = read_length_unit(&length_unit)?;
     let report = read_sweep_report(report)?;
     let bend: Option<crate::study::VariedBend> =
         if varied_bend.is_null() || varied_bend.is_undefined() {
@@ -622,7 +638,8 @@ pub fn draw_sweep_chart(
             )
         };
     let area = canvas_area(canvas_id)?;
-    crate::chart::draw_sweep_chart(&area, &report, bend.as_ref(), pixel_ratio).map_err(js_error)
+    crate::chart::draw_sweep_chart(&area, &report, bend.as_ref(), pixel_ratio, unit)
+        .map_err(js_error)
 }
 
 /// A tolerance study prepared for tracing, kept alive between calls (one per worker): the
@@ -820,14 +837,20 @@ impl StudyFinder {
 
     /// Draw the finished search's chart (each value's leak or delivered with its 95 % band, the
     /// allowed line, the answer and its interval, the closed-form leak-free radius) on the
-    /// canvas with id `canvas_id`; `pixel_ratio` as for [`draw_exit_map`]. Nothing before the
-    /// search is done.
-    pub fn draw_chart(&self, canvas_id: &str, pixel_ratio: f64) -> Result<(), JsError> {
+    /// canvas with id `canvas_id`; `pixel_ratio` and `length_unit` (of a searched length) as
+    /// for [`draw_exit_map`]. Nothing before the search is done.
+    pub fn draw_chart(
+        &self,
+        canvas_id: &str,
+        pixel_ratio: f64,
+        length_unit: JsValue,
+    ) -> Result<(), JsError> {
+        let unit = read_length_unit(&length_unit)?;
         let Some(report) = self.steps.report() else {
             return Ok(());
         };
         let area = canvas_area(canvas_id)?;
-        crate::chart::draw_find_chart(&area, &report, pixel_ratio).map_err(js_error)
+        crate::chart::draw_find_chart(&area, &report, pixel_ratio, unit).map_err(js_error)
     }
 
     /// The report's evaluations as the CSV `tirtrace study --csv` prints, or `null` until the

@@ -214,6 +214,61 @@ describe('the figures on the design page', { concurrency: false }, () => {
     }
   });
 
+  test('the inch switch redraws the exit map in inches (and back), its table too', async () => {
+    await open(page, design({ lm: 1 }, 20_000));
+    const chart = page.locator('#exit-map');
+    const pixels = () => page.evaluate(() => document.getElementById('exit-map').toDataURL('image/png'));
+    assert.equal(await chart.getAttribute('data-unit'), 'mm');
+    const inMm = await pixels();
+    await page.click('#exit-map-data summary');
+    assert.match(await page.locator('#exit-map-head th').first().innerText(), /, mm \(% per mm²\)$/);
+    await page.check('input[name="unit"][value="in"]');
+    await page.waitForSelector('#exit-map[data-unit="in"]');
+    const inInches = await pixels();
+    assert.notEqual(inInches, inMm, 'the map is drawn again, with inch axes');
+    // The table's heading and cells follow: cell centres within the 3 mm face's ±0.0591 in.
+    assert.match(await page.locator('#exit-map-head th').first().innerText(), /, in \(% per in²\)$/);
+    const centres = (await page.$$eval('#exit-map-head th.num', (ths) => ths.map((t) => t.textContent))).map((t) => Number(t.replace('\u2212', '-')));
+    assert.ok(centres.length > 2 && centres.every((x) => Math.abs(x) < 1.5 / 25.4), centres.join(' '));
+    assert.match(await page.locator('#exit-map-caption').textContent(), /per in², by cell/);
+    assert.notEqual(await page.locator('#status').getAttribute('data-kind'), 'error', await page.locator('#status').innerText());
+    await page.click('#exit-map-data summary');
+    await page.screenshot({ path: join(OUT, 'figures-inch-1280x800.png'), fullPage: true });
+    await chart.screenshot({ path: join(OUT, 'figures-exit-map-inch-1280x800.png') });
+    await page.setViewportSize({ width: 820, height: 1180 });
+    // Redrawn on the resize (in the unit shown): wait two frames.
+    await page.evaluate(() => new Promise((r) => requestAnimationFrame(() => requestAnimationFrame(r))));
+    assert.equal(await chart.getAttribute('data-unit'), 'in');
+    await page.screenshot({ path: join(OUT, 'figures-inch-820x1180.png'), fullPage: true });
+    // The chart in the window as a designer scrolls to it (the answer card stays on top).
+    await page.evaluate(() => document.getElementById('exit-map').scrollIntoView({ block: 'end' }));
+    await page.screenshot({ path: join(OUT, 'figures-exit-map-inch-820x1180.png') });
+    await page.setViewportSize({ width: 1280, height: 800 });
+    // Back to millimetres: the same picture as before the switch.
+    await page.check('input[name="unit"][value="mm"]');
+    await page.waitForSelector('#exit-map[data-unit="mm"]');
+    assert.equal(await pixels(), inMm);
+    // The core refuses any other unit with a message naming the allowed ones (and draws nothing).
+    const refused = await page.evaluate(async () => {
+      const core = await import('./pkg/tirtrace.js');
+      const canvas = document.createElement('canvas');
+      canvas.id = 'unit-check';
+      document.body.append(canvas);
+      const said = [];
+      for (const unit of ['cm', undefined]) {
+        try {
+          core.draw_exit_map('unit-check', {}, 1, unit);
+          said.push('drawn');
+        } catch (e) {
+          said.push(e.message);
+        }
+      }
+      canvas.remove();
+      return said;
+    });
+    assert.deepEqual(refused, ['length unit must be “mm” or “in”, got “cm”', 'length unit must be “mm” or “in”, got no text']);
+  });
+
   test('nothing went to the console', () => {
     assert.deepEqual(consoleErrors, []);
   });

@@ -70,6 +70,44 @@ describe('find the limit in the study panel', { concurrency: false }, () => {
     await page.setViewportSize({ width: 1280, height: 800 });
   });
 
+  test('the inch switch redraws the search\'s chart, answer and table in inches (and back)', async () => {
+    const chart = page.locator('#find-chart');
+    const pixels = () => page.evaluate(() => document.getElementById('find-chart').toDataURL('image/png'));
+    assert.equal(await chart.getAttribute('data-unit'), 'mm');
+    const inMm = await pixels();
+    const answerMm = await page.locator('#find-answer').innerText();
+    await page.check('input[name="unit"][value="in"]');
+    await page.waitForSelector('#find-chart[data-unit="in"]');
+    assert.notEqual(await pixels(), inMm, 'the chart is drawn again, its radius axis in inches');
+    assert.ok(await inkShare(page, 'find-chart') > 0.02, 'the chart is drawn');
+    // The range, the answer and the table follow (the answer itself is kept in mm), rounded in
+    // inches: 3 significant figures of the answer in inches.
+    assert.equal(await page.locator('#find-from-unit').innerText(), 'in');
+    assert.equal(await page.inputValue('#find-from'), '0.1181', '3 mm');
+    assert.equal(await page.inputValue('#find-to'), '1.1811', '30 mm');
+    const answerIn = await page.locator('#find-answer').innerText();
+    assert.notEqual(answerIn, answerMm);
+    assert.doesNotMatch(answerIn, / mm\b/, answerIn);
+    const found = Number(await page.locator('#find-answer').getAttribute('data-answer'));
+    if (found) assert.ok(answerIn.includes(`: ${Number((found / 25.4).toPrecision(3))} in (95 %: `), answerIn);
+    assert.match(await page.locator('#find-head th').first().innerText(), /\(in\)$/);
+    const first = Number(await page.locator('#find-rows tr').first().getAttribute('data-value'));
+    assert.equal(await page.locator('#find-rows tr').first().locator('th').innerText(), String(Number((first / 25.4).toFixed(4))));
+    await page.locator('#study').screenshot({ path: join(OUT, 'find-inch-1280.png') });
+    await page.setViewportSize({ width: 820, height: 1180 });
+    await page.evaluate(() => new Promise((r) => requestAnimationFrame(() => requestAnimationFrame(r))));
+    await chart.scrollIntoViewIfNeeded();
+    await page.screenshot({ path: join(OUT, 'find-inch-820.png') });
+    await page.setViewportSize({ width: 1280, height: 800 });
+    await page.evaluate(() => new Promise((r) => requestAnimationFrame(() => requestAnimationFrame(r))));
+    await page.check('input[name="unit"][value="mm"]');
+    await page.waitForSelector('#find-chart[data-unit="mm"]');
+    assert.equal(await pixels(), inMm, 'back in millimetres, the same picture');
+    assert.equal(await page.locator('#find-answer').innerText(), answerMm);
+    assert.equal(await page.inputValue('#find-from'), '3');
+    assert.deepStrictEqual(consoleErrors, []);
+  });
+
   test('every bend together: a factor on every radius, the picked bend\'s leak counted, as tirtrace study', async () => {
     await page.check('#find-every');
     await page.fill('#find-from', '3');
@@ -154,6 +192,14 @@ describe('find the limit in the study panel', { concurrency: false }, () => {
     if (native.verdict === 'found') assert.match(cell, /^\d+(\.\d+)? mm centre line \(95 %: /);
     else assert.ok(cell.length > 0, 'a verdict in words');
     await page.locator('.bends-card').screenshot({ path: join(OUT, 'find-bends-1280.png') });
+    // In inches, the answer in the table follows (three significant figures in inches).
+    await page.check('input[name="unit"][value="in"]');
+    await page.waitForSelector('#find-chart[data-unit="in"]');
+    const cellIn = () => row.locator('.bend-find-answer').innerText();
+    if (native.verdict === 'found') assert.ok((await cellIn()).startsWith(`${Number((native.answer / 25.4).toPrecision(3))} in centre line (95 %: `), await cellIn());
+    await page.check('input[name="unit"][value="mm"]');
+    await page.waitForSelector('#find-chart[data-unit="mm"]');
+    assert.equal(await cellIn(), cell);
     assert.deepStrictEqual(consoleErrors, []);
   });
 });

@@ -94,6 +94,40 @@ describe('the study panel of the designer', { concurrency: false }, () => {
     await page.screenshot({ path: join(OUT, 'study-page-1280.png'), fullPage: false });
   });
 
+  test('the inch switch redraws the sweep\'s chart and table in inches (and back)', async () => {
+    const chart = page.locator('#study-chart');
+    const pixels = () => page.evaluate(() => document.getElementById('study-chart').toDataURL('image/png'));
+    assert.equal(await chart.getAttribute('data-unit'), 'mm');
+    const inMm = await pixels();
+    assert.match(await page.locator('#study-head th').first().innerText(), /\(mm\)$/);
+    // A range typed but not run yet keeps its length: 2 mm reads 0.0787 in.
+    await page.fill('#study-from', '2');
+    await page.check('input[name="unit"][value="in"]');
+    await page.waitForSelector('#study-chart[data-unit="in"]');
+    assert.equal(await page.locator('#study-from-unit').innerText(), 'in');
+    assert.equal(await page.inputValue('#study-from'), '0.0787');
+    assert.equal(await page.inputValue('#study-to'), '0.2756', '7 mm');
+    assert.notEqual(await pixels(), inMm, 'the chart is drawn again, its radius axis in inches');
+    // The table follows: 1 mm is 0.0394 in.
+    assert.match(await page.locator('#study-head th').first().innerText(), /\(in\)$/);
+    assert.equal(await page.locator('#study-rows tr').first().locator('th').innerText(), '0.0394');
+    assert.ok(await inkShare(page, 'study-chart') > 0.02, 'the chart is drawn');
+    await page.locator('#study').screenshot({ path: join(OUT, 'study-inch-1280.png') });
+    await page.setViewportSize({ width: 820, height: 1180 });
+    await page.evaluate(() => new Promise((r) => requestAnimationFrame(() => requestAnimationFrame(r))));
+    await page.locator('#study-chart').scrollIntoViewIfNeeded();
+    await page.screenshot({ path: join(OUT, 'study-inch-820.png') });
+    await page.setViewportSize({ width: 1280, height: 800 });
+    await page.evaluate(() => new Promise((r) => requestAnimationFrame(() => requestAnimationFrame(r))));
+    await page.check('input[name="unit"][value="mm"]');
+    await page.waitForSelector('#study-chart[data-unit="mm"]');
+    assert.equal(await pixels(), inMm, 'back in millimetres, the same picture');
+    assert.equal(await page.locator('#study-from-unit').innerText(), 'mm');
+    assert.equal(await page.inputValue('#study-from'), '2', 'back as typed');
+    assert.equal(await page.inputValue('#study-to'), '7');
+    assert.deepStrictEqual(consoleErrors, []);
+  });
+
   test('Stop during a longer sweep keeps the partial table and shows no error', async () => {
     await tracedAfter(page, () => setField(page, '#f-trace-rays', 400_000));
     await page.fill('#study-from', '4');

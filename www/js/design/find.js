@@ -15,7 +15,7 @@ import { formatHalfWidth, formatShare } from '../format.js';
 import { parseNumber } from '../numbers.js';
 import { MainThreadPool } from '../trace/main-thread-pool.js';
 import { TracePool } from '../trace/pool.js';
-import { clone, download, fileNameFor, showNumber, toStored } from './scenario.js';
+import { carryTyped, clone, download, fileNameFor, isLength, MM_PER_INCH, showNumber, toStored } from './scenario.js';
 
 /** Evaluations a search makes at most (the core's limit, for the progress line). */
 const MOST_EVALUATIONS = 40;
@@ -40,6 +40,8 @@ export class FindPanel {
     this.running = false;
     this.stopped = false;
     this.report = null;
+    /** The last finished search (the core's StudyFinder), kept to redraw its chart. */
+    this.finder = null;
     /** The pool tracing the values (made at the first run) and its job: { id, resolve }. */
     this.pool = null;
     this.job = null;
@@ -67,7 +69,7 @@ export class FindPanel {
         if (tr.querySelector('td.bend-find')) continue;
         const segment = Number(tr.dataset.segment);
         const kept = this.bendAnswers.get(segment);
-        const answer = kept?.design === design ? kept.text : '';
+        const answer = kept?.design === design ? this.bendAnswerText(kept.report, segment) : '';
         const button = h('button', { type: 'button', class: 'bend-find-run', dataset: { segment: String(segment) } }, 'Find');
         button.addEventListener('click', () => this.findForBend(segment));
         tr.append(h('td', { class: 'bend-find' }, button, h('span', { class: 'bend-find-answer', text: answer })));
@@ -97,19 +99,22 @@ export class FindPanel {
     const design = JSON.stringify(this.state.scenario);
     this.onDone = (r) => {
       this.onDone = null;
-      let text = '';
-      if (r?.verdict === 'found') {
-        const n = (x) => showNumber(Number(x.toPrecision(3)), path, this.state.unit);
-        const low = r.interval?.low == null ? `≤ ${n(r.from)}` : n(r.interval.low);
-        const high = r.interval?.high == null ? `≥ ${n(r.to)}` : n(r.interval.high);
-        text = `${n(r.answer)} ${this.state.unit} centre line (95 %: ${low} to ${high})`;
-      } else if (r) {
-        text = `${{ holds_everywhere: 'Holds over the whole range', holds_nowhere: 'Nowhere in the range', not_monotone: 'Not monotone: narrow the range' }[r.verdict] ?? 'See the study panel'}`;
-      }
-      if (r) this.bendAnswers.set(segment, { design, text });
-      if (cell()) cell().textContent = text;
+      if (r) this.bendAnswers.set(segment, { design, report: r });
+      if (cell()) cell().textContent = this.bendAnswerText(r, segment);
     };
     await this.run(true);
+  }
+
+  /** A bend's search report `r` (or null) in the bend table's words, lengths in the unit shown. */
+  bendAnswerText(r, segment) {
+    if (!r) return '';
+    if (r.verdict !== 'found') {
+      return { holds_everywhere: 'Holds over the whole range', holds_nowhere: 'Nowhere in the range', not_monotone: 'Not monotone: narrow the range' }[r.verdict] ?? 'See the study panel';
+    }
+    const n = (x) => sig3Shown(x, `route[${segment}].bend.radius_mm`, this.state.unit);
+    const low = r.interval?.low == null ? `≤ ${n(r.from)}` : n(r.interval.low);
+    const high = r.interval?.high == null ? `≥ ${n(r.to)}` : n(r.interval.high);
+    return `${n(r.answer)} ${this.state.unit} centre line (95 %: ${low} to ${high})`;
   }
 
   // ------------------------------------------------------------ set-up
@@ -172,6 +177,24 @@ export class FindPanel {
       if (!this.csv) return;
       download(new Blob([this.csv], { type: 'text/csv' }), `${this.baseName()}-search.csv`);
     });
+    window.addEventListener('resize', () => this.drawChart());
+    // The length unit shown changed (main.js keeps it in the state): the range (what is typed
+    // there, converted), the answer, the table and the chart show the searched length in it.
+    for (const r of document.querySelectorAll('input[name="unit"]')) {
+      r.addEventListener('change', () => {
+        // main.js's own listener, which stores the new unit, runs after this one.
+        const before = this.state.unit;
+        const f = this.mode === 'find' ? this.state.find : null;
+        const typed = f ? [['find-from', f.from], ['find-to', f.to]].map(([id, stored]) => [id, stored, $(id).value]) : [];
+        setTimeout(() => {
+          this.showSetup(false);
+          for (const [id, stored, text] of typed) carryTyped($(id), text, stored, f.field, before, this.state.unit);
+          if (!this.report) return;
+          this.showReport();
+          this.drawChart();
+        });
+      });
+    }
     // A number picked with ⇆ (the study panel handles the click first): follow it.
     this.study.editor.root.addEventListener('click', (e) => {
       if (e.target.closest('.vary-pick')) queueMicrotask(() => this.showSetup(true));
@@ -320,6 +343,8 @@ export class FindPanel {
     this.stopped = false;
     this.report = null;
     this.csv = null;
+    this.finder?.free();
+    this.finder = null;
     $('find-answer').hidden = true;
     $('find-results').hidden = true;
     $('find-chart').hidden = true;
@@ -342,16 +367,40 @@ export class FindPanel {
       this.csv = finder.csv();
       $('find-progress').textContent = '';
       this.showReport();
+      // Kept to redraw the chart (in another unit, at another size) until the next search.
+      this.finder = finder;
+      finder = null;
       $('find-chart').hidden = false;
-      const { ratio } = sizeCanvasForCore($('find-chart'));
-      finder.draw_chart('find-chart', ratio);
+      this.paintChart();
       this.finish(`Done: ${asked} values traced, ${this.report.rays.toLocaleString('en')} rays each, the same rays at every value.`);
       this.onDone?.(this.report);
     } catch (e) {
       this.finish(`The search stopped: ${messageOf(e)}`, 'error');
     } finally {
-      finder.free();
+      finder?.free();
       if (this.stopped) this.onDone?.(null);
+    }
+  }
+
+  /**
+   * Draw the last finished search's chart (the core draws it, a searched length in the unit
+   * shown; the canvas's data-unit says which); nothing when there is none. Throws what the core
+   * throws.
+   */
+  paintChart() {
+    if (!this.finder || $('find-chart').hidden) return;
+    const { ratio } = sizeCanvasForCore($('find-chart'));
+    const { unit } = this.state;
+    this.finder.draw_chart('find-chart', ratio, unit);
+    $('find-chart').dataset.unit = unit;
+  }
+
+  /** Draw the chart again (another unit, another size); a failure is said in the panel. */
+  drawChart() {
+    try {
+      this.paintChart();
+    } catch (e) {
+      this.message(`The chart could not be drawn: ${messageOf(e)}`, 'error');
     }
   }
 
@@ -419,7 +468,7 @@ export class FindPanel {
     const field = scale ? scale.path : r.field;
     const unit = this.study.unitOf(field);
     const n = (x) => {
-      const shown = `${showNumber(Number((scale ? x * scale.r0 : x).toPrecision(3)), field, this.state.unit)}${unit ? ` ${unit}` : ''}`;
+      const shown = `${sig3Shown(scale ? x * scale.r0 : x, field, this.state.unit)}${unit ? ` ${unit}` : ''}`;
       return scale ? `${shown} (× ${Number(x.toPrecision(3))})` : shown;
     };
     const pct = r.criterion.bend_leak_at_most ? r.criterion.bend_leak_at_most.fraction * 100 : r.criterion.delivered_loss_at_most.fraction * 100;
@@ -539,6 +588,15 @@ function sizeAcross(scenario) {
   const s = scenario?.guide?.section ?? {};
   const size = s.round ? s.round.diameter_mm : Math.max(s.rectangular?.width_mm ?? 0, s.rectangular?.height_mm ?? 0);
   return Number.isFinite(size) ? size : 0;
+}
+
+/**
+ * A value of the field at `path` (stored units) in `unit`, to three significant figures in that
+ * unit: 24.437 mm reads 24.4 mm or 0.962 in (not 24.4 mm converted, 0.9606 in).
+ */
+function sig3Shown(x, path, unit) {
+  const shown = unit === 'in' && isLength(path) ? x / MM_PER_INCH : x;
+  return String(Number(shown.toPrecision(3)));
 }
 
 /** A prefilled bound: 3 significant figures. */

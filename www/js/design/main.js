@@ -245,13 +245,23 @@ function onTraceUpdate(u) {
   }
 }
 
+/**
+ * The report's charts, drawn by the core: the exit map's axes in the unit lengths are shown in
+ * (its canvas's data-unit says which it was drawn in), the intensity in degrees.
+ */
 function drawCharts() {
   if (!page.report) return;
-  for (const [id, draw] of [['exit-map', core.draw_exit_map], ['intensity', core.draw_intensity]]) {
+  const unit = page.state.unit;
+  const charts = [
+    ['exit-map', (ratio) => core.draw_exit_map('exit-map', page.report, ratio, unit), unit],
+    ['intensity', (ratio) => core.draw_intensity('intensity', page.report, ratio), null],
+  ];
+  for (const [id, draw, drawnIn] of charts) {
     const canvas = $(id);
     const { ratio } = sizeCanvasForCore(canvas);
     try {
-      draw(id, page.report, ratio);
+      draw(ratio);
+      if (drawnIn) canvas.dataset.unit = drawnIn;
     } catch (e) {
       setStatus(`A chart could not be drawn: ${messageOf(e)}`, 'error');
     }
@@ -539,8 +549,10 @@ function wireToolbar() {
       showLeakLineNow();
       if (page.report) drawLegend(page.report);
       if (page.figures) page.editor.showBendHints(page.figures.bends);
-      if (page.report) showReport(page.report, page.figures, page.reportScenario);
-      else if (page.figures) showBends(page.figures, null);
+      if (page.report) {
+        showReport(page.report, page.figures, page.reportScenario);
+        drawCharts();
+      } else if (page.figures) showBends(page.figures, null);
       // The messages word their lengths in the unit shown.
       try {
         showLoose(page.editor.showProblems(problemsOf(page.state)));

@@ -187,6 +187,7 @@ const length = (x_mm, mmDecimals) => (lengthUnit === 'in' ? fixed(x_mm / 25.4, 4
 export function setLengthUnit(unit) {
   lengthUnit = unit === 'in' ? 'in' : 'mm';
   for (const th of document.querySelectorAll('[data-length-head]')) th.textContent = `${th.dataset.lengthHead}, ${lengthUnit}`;
+  $('exit-map-caption').textContent = `Irradiance on the exit face, % of the emitted light per ${lengthUnit}², by cell: rows across the height, columns across the width (cell centres)`;
 }
 
 /** Gives the quick look's address for a bend (route index), or null: set once by the page. */

@@ -2,6 +2,7 @@
 // the text the user typed into each number field (kept verbatim so nothing typed is lost), and
 // the chosen length unit. Plus keeping it: local storage, files, and share links.
 
+import { parseNumber } from '../numbers.js';
 import { readStored, store } from '../storage.js';
 
 const STORAGE_KEY = 'tirtrace.design.v1';
@@ -97,6 +98,30 @@ export function showNumber(value, path, unit) {
 
 /** A typed value in the chosen unit as stored (mm for lengths). */
 export const toStored = (x, path, unit) => (unit === 'in' && isLength(path) ? x * MM_PER_INCH : x);
+
+/**
+ * The unit switch changed from `from` to `to` and the form has been redrawn from the design: put
+ * back into `input` the `text` it held before, for the length at `path` whose stored value is
+ * `stored` (mm). A text that only showed the stored value is left as redrawn; a number typed but
+ * not used yet is written in the new unit (2 mm → 0.0787 in), and back exactly when untouched in
+ * between (0.0787 in → 2 mm, not 1.99898); any other text stays as typed.
+ */
+export function carryTyped(input, text, stored, path, from, to) {
+  if (from === to || !isLength(path) || text === showNumber(stored, path, from)) return;
+  let exact;
+  if (text === input.dataset.carriedText) exact = Number(input.dataset.carriedMm);
+  else {
+    const x = parseNumber(text);
+    if (Number.isNaN(x)) {
+      input.value = text;
+      return;
+    }
+    exact = toStored(x, path, from);
+  }
+  input.value = showNumber(exact, path, to);
+  input.dataset.carriedText = input.value;
+  input.dataset.carriedMm = String(exact);
+}
 
 // ---------------------------------------------------------------- the page state
 

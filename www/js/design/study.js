@@ -14,7 +14,7 @@ import { formatHalfWidth, formatShare } from '../format.js';
 import { parseNumber } from '../numbers.js';
 import { MainThreadPool } from '../trace/main-thread-pool.js';
 import { TracePool } from '../trace/pool.js';
-import { clone, download, fileNameFor, isLength, showNumber, toStored } from './scenario.js';
+import { carryTyped, clone, download, fileNameFor, isLength, showNumber, toStored } from './scenario.js';
 
 const CHART_ID = 'study-chart';
 
@@ -437,8 +437,10 @@ export class StudyPanel {
     $(CHART_ID).hidden = text;
     if (text) return;
     const { ratio } = sizeCanvasForCore($(CHART_ID));
+    const { unit } = this.state;
     try {
-      this.core.draw_sweep_chart(CHART_ID, this.report, this.variedBend, ratio);
+      this.core.draw_sweep_chart(CHART_ID, this.report, this.variedBend, ratio, unit);
+      $(CHART_ID).dataset.unit = unit;
     } catch (e) {
       this.message(`The chart could not be drawn: ${messageOf(e)}`, 'error');
     }
@@ -539,6 +541,26 @@ export class StudyPanel {
       if (file) await this.openFile(file);
     });
     window.addEventListener('resize', () => this.drawChart());
+    // The length unit shown changed (main.js keeps it in the state): the set-up's ranges (what
+    // is typed there, converted), the table and the chart show the varied lengths in it.
+    for (const r of document.querySelectorAll('input[name="unit"]')) {
+      r.addEventListener('change', () => {
+        // main.js's own listener, which stores the new unit, runs after this one.
+        const before = this.state.unit;
+        const s = this.setup;
+        const typed = [
+          ['study-from', s?.field, s?.values ? s.values[0] : s?.from],
+          ['study-to', s?.field, s?.values ? s.values[s.values.length - 1] : s?.to],
+          ['study-and-from', s?.and?.field, s?.and?.from],
+          ['study-and-to', s?.and?.field, s?.and?.to],
+        ].filter(([, path]) => path).map(([id, path, stored]) => [id, path, stored, $(id).value]);
+        setTimeout(() => {
+          this.showSetup();
+          for (const [id, path, stored, text] of typed) carryTyped($(id), text, stored, path, before, this.state.unit);
+          if (this.report) this.showReport();
+        });
+      });
+    }
   }
 
   /** The design was edited: a table of an earlier design says so (the numbers stay readable). */

@@ -23,7 +23,8 @@ step "the same core tests compiled to wasm, in headless Chromium (wasm-bindgen-t
 wasm_tmp="$PWD/.tmp/wasm-test"
 trap 'rm -rf "$wasm_tmp"' EXIT
 rm -rf "$wasm_tmp"; mkdir -p "$wasm_tmp"
-TMPDIR="$wasm_tmp" CHROMEDRIVER=/usr/bin/chromedriver \
+# A test file may take longer than the runner's default 20 s on a busy 2-core machine (debug build).
+WASM_BINDGEN_TEST_TIMEOUT=300 TMPDIR="$wasm_tmp" CHROMEDRIVER=/usr/bin/chromedriver \
   CARGO_TARGET_WASM32_UNKNOWN_UNKNOWN_RUNNER="$PWD/.tools/bin/wasm-bindgen-test-runner" \
   cargo test --target wasm32-unknown-unknown --test '*'
 

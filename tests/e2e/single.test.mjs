@@ -96,6 +96,33 @@ describe('the single-file page opened from disk', { concurrency: false }, () => 
     assert.doesNotMatch(msg, /file:\/\/|#d=/);
   });
 
+  test('a worker that cannot load the core is named once, with one full stop', async () => {
+    const p2 = await context.newPage();
+    watch(p2);
+    try {
+      // Workers that start but report the core unloadable with a message of their own that
+      // ends in a full stop (as WebKit's read errors do).
+      await p2.addInitScript(() => {
+        globalThis.Worker = class {
+          constructor() {
+            setTimeout(() => this.onmessage?.({ data: { type: 'init-error', message: 'NotReadableError: The I/O read operation failed.' } }), 5);
+          }
+
+          postMessage() {}
+
+          terminate() {}
+        };
+      });
+      await p2.goto(SINGLE_URL);
+      await firstTrace(p2);
+      assert.equal(await p2.getAttribute('body', 'data-tracer'), 'page');
+      assert.equal(await p2.locator('#toolbar-msg').innerText(),
+        'Tracing on the page itself, more slowly: A trace worker could not load the core: NotReadableError: The I/O read operation failed.');
+    } finally {
+      await p2.close();
+    }
+  });
+
   test('where workers are refused it traces on the page: same answer, and Stop works', async () => {
     const p2 = await context.newPage();
     watch(p2);

@@ -400,17 +400,19 @@ fn csv_rows_parse_and_the_budget_sums_to_one() {
         );
         let route = &scenario.route;
         assert_eq!(segs.len(), 1 + route.len());
+        let mut section = scenario.guide.section;
         for (i, row) in segs[1..].iter().enumerate() {
             assert_eq!(row.len(), 9, "{row:?}");
             assert_eq!(row[0].parse::<usize>().unwrap(), i + 1);
-            assert!(["straight", "bend", "taper"].contains(&row[1].as_str()));
+            assert!(["straight", "bend", "taper", "corner"].contains(&row[1].as_str()));
             for x in &row[2..8] {
                 let x: f64 = x.parse().unwrap();
                 assert!(x.is_finite() && x >= 0.0, "{row:?}");
             }
             // The segment length is the route's centre-line length.
             let len: f64 = row[3].parse().unwrap();
-            assert!((len - route[i].length_mm()).abs() < 1e-9, "{row:?}");
+            assert!((len - route[i].length_mm(section)).abs() < 1e-9, "{row:?}");
+            section = route[i].section_after(section);
             row[8].parse::<u64>().unwrap();
         }
 

@@ -7,8 +7,8 @@ use serde::{Deserialize, Serialize};
 use crate::scenario::SegmentKind;
 
 impl Named for SegmentKind {
-    const ALL: &'static [Self] = &[Self::Straight, Self::Bend, Self::Taper];
-    const NAMES: &'static [&'static str] = &["straight", "bend", "taper"];
+    const ALL: &'static [Self] = &[Self::Straight, Self::Bend, Self::Taper, Self::Corner];
+    const NAMES: &'static [&'static str] = &["straight", "bend", "taper", "corner"];
 }
 
 /// The unit of an absolute flux; written `mW` or `lm` in the report.

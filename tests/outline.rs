@@ -21,7 +21,11 @@ use tirtrace::outline::{
 use tirtrace::scenario::{Scenario, Section, Segment, SegmentKind};
 
 /// Every example scenario (compiled in, so the wasm run checks them too).
-const EXAMPLES: [(&str, &str); 5] = [
+const EXAMPLES: [(&str, &str); 6] = [
+    (
+        "board_corner_indicator.json",
+        include_str!("../examples/scenarios/board_corner_indicator.json"),
+    ),
     (
         "bench_three_bends.json",
         include_str!("../examples/scenarios/bench_three_bends.json"),

@@ -443,6 +443,46 @@ fn check_trace(t: &TraceSettings, out: &mut FieldErrors) {
 mod tests {
     use super::*;
 
+    /// A corner's problems: its angle, a rectangular guide's turn direction, its coating, and a
+    /// mount past the end of a corner (whose length is its two legs).
+    #[test]
+    fn corner_problems_name_the_field_and_the_range() {
+        let text = r#"{
+            "version": 1,
+            "guide": {
+                "section": { "rectangular": { "width_mm": 3, "height_mm": 2 } },
+                "material": { "library": "pmma" }, "surroundings": { "library": "air" },
+                "contacts": [ { "segment": 1, "from_mm": 1, "to_mm": 4, "medium": { "library": "pdms" } } ]
+            },
+            "route": [
+                { "straight": { "length_mm": 3 } },
+                { "corner": { "angle_deg": 90, "turn_deg": 0 } },
+                { "corner": { "angle_deg": 170, "turn_deg": 45, "coating": { "reflectance": 1.2 } } },
+                { "corner": { "angle_deg": 10 } }
+            ],
+            "source": {
+                "emitter": { "led": { "area": { "square": { "side_mm": 0.5 } }, "pattern": "lambertian" } },
+                "wavelength_nm": 550, "gap_mm": 0.2
+            }
+        }"#;
+        let scenario = Scenario::from_json(text).unwrap();
+        let messages: Vec<String> = scenario
+            .check()
+            .unwrap_err()
+            .iter()
+            .map(ToString::to_string)
+            .collect();
+        let expected = [
+            "route[2].corner.angle_deg must be at most 165°, got 170",
+            "route[2].corner.coating.reflectance must be at most 1, got 1.2",
+            "route[2].corner.turn_deg must be 0, 90, 180 or 270 for a rectangular guide (turn across the width or the height), got 45",
+            "route[3].corner.angle_deg must be at least 15°, got 10",
+            // A right angle across the 3 mm width: legs of 1.5 mm each.
+            "guide.contacts[0].to_mm: Mount 1 ends at 4 mm, past the end of its segment (segment 2 is 3 mm long)",
+        ];
+        assert_eq!(messages, expected);
+    }
+
     /// Every kind of problem at once: all are listed, with their messages, in document order
     /// (the messages and order of the base version, which the page and the command line show).
     #[test]

@@ -275,6 +275,10 @@ export class RouteView {
     for (const pass of ['wall', 'body']) {
       for (const seg of o.segments) {
         const pts = seg.points;
+        if (seg.kind === 'corner') {
+          this.drawCorner(g, pts, pass);
+          continue;
+        }
         for (let i = 0; i + 1 < pts.length; i += 1) {
           const hw = Math.max(pts[i].half_width_mm, pts[i].half_height_mm, pts[i + 1].half_width_mm, pts[i + 1].half_height_mm);
           const [x0, y0] = this.toScreen(pts[i].centre);
@@ -293,6 +297,29 @@ export class RouteView {
     this.drawHeat(g);
     this.drawFaces(g);
     this.drawScale(g, w, hgt);
+  }
+
+  /**
+   * A reflecting corner: its two legs as one path joined with a mitre, which is the flat face
+   * bisecting the turn (exact seen square to the turn's plane); the legs keep the pipe's size
+   * (the middle sample is the face, stretched across the turn).
+   */
+  drawCorner(g, pts, pass) {
+    const a = pts[0];
+    const hw = Math.max(a.half_width_mm, a.half_height_mm);
+    g.beginPath();
+    pts.forEach((pt, k) => {
+      const [x, y] = this.toScreen(pt.centre);
+      if (k === 0) g.moveTo(x, y);
+      else g.lineTo(x, y);
+    });
+    g.lineWidth = Math.max(2 * hw * this.scale + (pass === 'wall' ? 2.5 : 0), pass === 'wall' ? 3 : 1);
+    g.strokeStyle = pass === 'wall' ? '#1f2a36' : '#e4f0f2';
+    g.lineCap = 'butt';
+    g.lineJoin = 'miter';
+    g.miterLimit = 20;
+    g.stroke();
+    g.lineJoin = 'round';
   }
 
   /**
@@ -446,6 +473,14 @@ export class RouteView {
       if (!pt) continue;
       ring(pt.centre, pt.width_axis, pt.height_axis, pt.half_width_mm, pt.half_height_mm, seg.round);
       g.strokeStyle = colour;
+      g.stroke();
+    }
+    // Each reflecting corner's face (its middle sample: the section seen on the face's plane).
+    for (const seg of o.segments) {
+      if (seg.kind !== 'corner' || seg.points.length !== 3) continue;
+      const f = seg.points[1];
+      ring(f.centre, f.width_axis, f.height_axis, f.half_width_mm, f.half_height_mm, seg.round);
+      g.strokeStyle = '#7950f2';
       g.stroke();
     }
     if (o.source_mm) {

@@ -12,7 +12,9 @@
 //! incidence exceeds the critical angle against the surroundings (Snell's law, `docs/REFERENCES.md`
 //! §2):
 //!
-//!     φ − θmax ≥ θc,   i.e.   90° − θ/2 − θmax ≥ asin(n_out / n_core).
+//! ```text
+//! φ − θmax ≥ θc,   i.e.   90° − θ/2 − θmax ≥ asin(n_out / n_core).
+//! ```
 //!
 //! A collimated launch (θmax = 0) at a right-angle corner in PMMA in air: 45° ≥ 42.2°, all
 //! totally reflected. Below the critical angle the face reflects by Fresnel (unpolarised) and

@@ -23,16 +23,16 @@ use tirtrace::scenario::{Scenario, Section, Segment, SegmentKind};
 /// Every example scenario (compiled in, so the wasm run checks them too).
 const EXAMPLES: [(&str, &str); 6] = [
     (
-        "board_corner_indicator.json",
-        include_str!("../examples/scenarios/board_corner_indicator.json"),
-    ),
-    (
         "bench_three_bends.json",
         include_str!("../examples/scenarios/bench_three_bends.json"),
     ),
     (
         "bike_light_charge_indicator.json",
         include_str!("../examples/scenarios/bike_light_charge_indicator.json"),
+    ),
+    (
+        "board_corner_indicator.json",
+        include_str!("../examples/scenarios/board_corner_indicator.json"),
     ),
     (
         "clad_plastic_fibre.json",

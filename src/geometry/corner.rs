@@ -179,7 +179,6 @@ impl Corner {
 
     /// A leg's interval: `axis`, `x`, `y` its axes, its cap n·p ≤ ℓ with the surface `cap`.
     #[inline]
-    #[allow(clippy::too_many_arguments)]
     fn leg_interval(
         &self,
         round: bool,

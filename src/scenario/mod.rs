@@ -157,6 +157,14 @@ pub enum Segment {
         #[schemars(transform = crate::schema::within(limits::AZIMUTH_DEG))]
         turn_deg: f64,
     },
+    /// A straight taper from the current section to `end_section`.
+    Taper {
+        /// Length along the axis, mm.
+        #[schemars(transform = crate::schema::within(limits::SEGMENT_LENGTH_MM))]
+        length_mm: f64,
+        /// Section at the end of the taper (same shape as the current one).
+        end_section: Section,
+    },
     /// A reflecting corner: the guide turns by `angle_deg` at a flat face that bisects the
     /// turn (a 45° face for a right angle), reflecting by total internal reflection where the
     /// incidence exceeds the critical angle against the surroundings, else by Fresnel
@@ -176,14 +184,6 @@ pub enum Segment {
         /// A reflective coating on the face, if any (none: the bare face).
         #[serde(default, skip_serializing_if = "Option::is_none")]
         coating: Option<Coating>,
-    },
-    /// A straight taper from the current section to `end_section`.
-    Taper {
-        /// Length along the axis, mm.
-        #[schemars(transform = crate::schema::within(limits::SEGMENT_LENGTH_MM))]
-        length_mm: f64,
-        /// Section at the end of the taper (same shape as the current one).
-        end_section: Section,
     },
 }
 

@@ -21,7 +21,7 @@ const SEGMENT_DEFAULTS = {
   corner: () => ({ corner: { angle_deg: 90, turn_deg: 0 } }),
 };
 
-const SEGMENT_NAMES = { straight: 'Straight', bend: 'Bend', taper: 'Taper', corner: 'Reflecting corner' };
+const SEGMENT_NAMES = { straight: 'Straight', bend: 'Bend', taper: 'Taper', corner: 'Corner' };
 
 /** A bend's radius hint before the core has checked the design. */
 const BEND_RADIUS_HINT = 'Of the pipe’s centre line; the inner radius is this less half the pipe’s size across the bend.';
@@ -601,7 +601,7 @@ export class Editor {
       const corner = seg.corner;
       fields.push(
         h('div', { class: 'pair' },
-          this.num(`${p}.angle_deg`, 'Turn angle', 'deg', { hint: 'A flat face halfway across the turn reflects the light round it: 90 gives a 45° face.' }),
+          this.num(`${p}.angle_deg`, 'Turn angle', 'deg', { hint: 'A reflecting corner: a flat face halfway across the turn reflects the light round it; 90 gives a 45° face.' }),
           this.num(`${p}.turn_deg`, 'Turns toward', 'deg', { hint: '0: toward the pipe’s width axis, 90: toward its height axis, 180: the other way.' })),
         this.choice(`${p}.coating`, 'Reflecting face', [['bare', 'Bare (total internal reflection)'], ['coated', 'Coated (mirror)']], corner.coating ? 'coated' : 'bare', (v) => {
           if (v === 'bare') delete corner.coating;

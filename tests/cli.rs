@@ -1064,3 +1064,36 @@ fn a_byte_order_mark_at_the_start_of_a_document_is_accepted() {
     assert!(tirtrace::study::Study::from_json(&with_bom(&study)).is_ok());
     assert!(tirtrace::quick::QuickDesign::from_json(&with_bom(&design)).is_ok());
 }
+
+/// `tirtrace check` gives each reflecting corner its closed-form verdict (the demo's 45° face
+/// meets the LED's light from 3° on, below the critical angle: it leaks), and a route without a
+/// corner prints no `corners` key, as before there were corners; a bad corner is refused naming
+/// its field and range.
+#[test]
+fn check_gives_each_corner_its_verdict() {
+    let out = ok_stdout(
+        &["check", "examples/scenarios/board_corner_indicator.json"],
+        "",
+    );
+    let v: serde_json::Value = serde_json::from_str(&out).unwrap();
+    let corners = v["corners"].as_array().unwrap();
+    assert_eq!(corners.len(), 1);
+    assert_eq!(corners[0]["segment"], 1);
+    assert_eq!(corners[0]["verdict"], "leaks");
+    assert_eq!(corners[0]["face_incidence_deg"], 45.0);
+    let plain: serde_json::Value =
+        serde_json::from_str(&ok_stdout(&["check", THERMOSTAT], "")).unwrap();
+    assert!(plain.get("corners").is_none());
+
+    let mut doc: serde_json::Value = serde_json::from_str(
+        &std::fs::read_to_string("examples/scenarios/board_corner_indicator.json").unwrap(),
+    )
+    .unwrap();
+    doc["route"][1]["corner"]["angle_deg"] = serde_json::json!(170);
+    let (ok, _, _, err) = tirtrace(&["check", "-"], &doc.to_string());
+    assert!(!ok);
+    assert!(
+        err.contains("route[1].corner.angle_deg must be at most 165°, got 170"),
+        "{err}"
+    );
+}

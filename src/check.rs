@@ -13,6 +13,7 @@
 
 use serde::Serialize;
 
+pub use crate::corner_check::{corner_figures, CornerFigures, CornerVerdict};
 use crate::error::FieldError;
 use crate::guide::{self, LaunchChain};
 use crate::scenario::{
@@ -93,6 +94,9 @@ pub struct ScenarioFigures {
     pub bends: Vec<BendFigures>,
     /// What the bend figures assume.
     pub bend_note: String,
+    /// Every reflecting corner of the route, in route order (left out when there is none).
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub corners: Vec<CornerFigures>,
 }
 
 /// The largest angle to the guide axis at which the source sends light into the gap medium, rad.
@@ -138,7 +142,7 @@ pub fn bend_figures(
     let mut out = Vec::new();
     for (i, seg) in route.iter().enumerate() {
         match *seg {
-            Segment::Straight { .. } => {}
+            Segment::Straight { .. } | Segment::Corner { .. } => {}
             Segment::Taper { end_section, .. } => section = end_section,
             Segment::Bend {
                 radius_mm,
@@ -228,6 +232,7 @@ pub fn figures_with_indices(scenario: &Scenario, ix: &ScenarioIndices) -> Scenar
                     one marked as not leaking. The trace reports how much light the exit face \
                     turns back and where it ends."
             .to_string(),
+        corners: corner_figures(&scenario.route, &chain),
     }
 }
 

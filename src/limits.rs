@@ -359,6 +359,16 @@ pub const BEND_INNER_RADIUS_MM: Range = size_mm(100_000.0);
 /// only; a longer turn is written as several bends.
 pub const BEND_ANGLE_DEG: Range = Range::open_closed(0.0, 180.0).unit("°");
 
+/// Angle a reflecting corner turns through, degrees. Geometry: the corner's legs reach
+/// h·max(cot(θ/2), tan(θ/2)) along each axis from where the axes meet (h: half the section's
+/// size across the turn), so that its flat face and both legs fit between its end planes; at 15°
+/// or 165° that is already 7.6 h, and a gentler or a sharper turn is a bend's job.
+pub const CORNER_ANGLE_DEG: Range = Range::closed(15.0, 165.0).unit("°");
+
+/// Specular reflectance of a corner's coated face (what it does not reflect, it absorbs): a
+/// fraction.
+pub const CORNER_REFLECTANCE: Range = Range::closed(0.0, 1.0);
+
 /// Most segments a route may have (at least one). Memory and time: the route is placed, checked
 /// and drawn segment by segment; 64 is far more than any light pipe needs.
 pub const MAX_SEGMENTS: usize = 64;

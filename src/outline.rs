@@ -18,7 +18,7 @@ use serde::Serialize;
 
 use crate::error::FieldError;
 use crate::geometry::bend::rot_z;
-use crate::geometry::{Bend, Frame, Placed, PlacedRoute, Shape};
+use crate::geometry::{Bend, Corner, Frame, Placed, PlacedRoute, Shape};
 use crate::scenario::{Emitter, EmitterArea, Scenario, SegmentKind};
 
 /// Largest turn between two samples of a bend, degrees.
@@ -213,7 +213,72 @@ fn sample(placed: &Placed) -> Vec<OutlinePoint> {
                 })
                 .collect()
         }
+        Shape::Corner(c) => corner_samples(placed, &c),
     }
+}
+
+/// A corner's three samples: its start, the face (where the axes meet: the section seen on the
+/// face plane, stretched across the turn by 1/sin(θ/2) along the face), and its end. Straight
+/// lines between matching points of the first two and of the last two are the legs' walls, so a
+/// drawing joined there with a mitre is the corner to scale.
+fn corner_samples(placed: &Placed, c: &Corner) -> Vec<OutlinePoint> {
+    let f = &placed.frame;
+    let s0 = placed.s_start_mm;
+    let point = |s_mm: f64, centre: DVec3, w: DVec3, h: DVec3, hw: f64, hh: f64| OutlinePoint {
+        s_mm,
+        centre: f.point_to_global(centre).to_array(),
+        width_axis: f.dir_to_global(w).to_array(),
+        height_axis: f.dir_to_global(h).to_array(),
+        half_width_mm: hw,
+        half_height_mm: hh,
+    };
+    // m = sin(θ/2) t − cos(θ/2) u: the unit u across the turn and the direction on the face
+    // across it, f = cos(θ/2) t + sin(θ/2) u (⊥ m, in the turn plane).
+    let sin_half = c.face_normal.z;
+    let cos_half = (1.0 - sin_half * sin_half).max(0.0).sqrt();
+    let u = (DVec3::Z * sin_half - c.face_normal) / cos_half.max(f64::MIN_POSITIVE);
+    let across_face = cos_half * DVec3::Z + sin_half * u;
+    let stretch = 1.0 / sin_half;
+    let face = if placed.round {
+        point(
+            s0 + c.leg,
+            DVec3::ZERO,
+            across_face,
+            DVec3::Z.cross(u),
+            c.hw * stretch,
+            c.hh,
+        )
+    } else if u.x.abs() > 0.5 {
+        point(
+            s0 + c.leg,
+            DVec3::ZERO,
+            across_face,
+            DVec3::Y,
+            c.hw * stretch,
+            c.hh,
+        )
+    } else {
+        point(
+            s0 + c.leg,
+            DVec3::ZERO,
+            DVec3::X,
+            across_face,
+            c.hw,
+            c.hh * stretch,
+        )
+    };
+    vec![
+        point(s0, -c.leg * DVec3::Z, DVec3::X, DVec3::Y, c.hw, c.hh),
+        face,
+        point(
+            s0 + placed.length_mm,
+            c.leg * c.out_axis,
+            c.out_x,
+            c.out_y,
+            c.hw,
+            c.hh,
+        ),
+    ]
 }
 
 /// Grow `b` to hold a flat disk (`round`) or rectangle centred at `c`, spanned by the unit axes

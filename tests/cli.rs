@@ -400,17 +400,19 @@ fn csv_rows_parse_and_the_budget_sums_to_one() {
         );
         let route = &scenario.route;
         assert_eq!(segs.len(), 1 + route.len());
+        let mut section = scenario.guide.section;
         for (i, row) in segs[1..].iter().enumerate() {
             assert_eq!(row.len(), 9, "{row:?}");
             assert_eq!(row[0].parse::<usize>().unwrap(), i + 1);
-            assert!(["straight", "bend", "taper"].contains(&row[1].as_str()));
+            assert!(["straight", "bend", "taper", "corner"].contains(&row[1].as_str()));
             for x in &row[2..8] {
                 let x: f64 = x.parse().unwrap();
                 assert!(x.is_finite() && x >= 0.0, "{row:?}");
             }
             // The segment length is the route's centre-line length.
             let len: f64 = row[3].parse().unwrap();
-            assert!((len - route[i].length_mm()).abs() < 1e-9, "{row:?}");
+            assert!((len - route[i].length_mm(section)).abs() < 1e-9, "{row:?}");
+            section = route[i].section_after(section);
             row[8].parse::<u64>().unwrap();
         }
 
@@ -1061,4 +1063,37 @@ fn a_byte_order_mark_at_the_start_of_a_document_is_accepted() {
     assert!(tirtrace::scenario::Scenario::from_json(&with_bom(&scenario)).is_ok());
     assert!(tirtrace::study::Study::from_json(&with_bom(&study)).is_ok());
     assert!(tirtrace::quick::QuickDesign::from_json(&with_bom(&design)).is_ok());
+}
+
+/// `tirtrace check` gives each reflecting corner its closed-form verdict (the demo's 45° face
+/// meets the LED's light from 3° on, below the critical angle: it leaks), and a route without a
+/// corner prints no `corners` key, as before there were corners; a bad corner is refused naming
+/// its field and range.
+#[test]
+fn check_gives_each_corner_its_verdict() {
+    let out = ok_stdout(
+        &["check", "examples/scenarios/board_corner_indicator.json"],
+        "",
+    );
+    let v: serde_json::Value = serde_json::from_str(&out).unwrap();
+    let corners = v["corners"].as_array().unwrap();
+    assert_eq!(corners.len(), 1);
+    assert_eq!(corners[0]["segment"], 1);
+    assert_eq!(corners[0]["verdict"], "leaks");
+    assert_eq!(corners[0]["face_incidence_deg"], 45.0);
+    let plain: serde_json::Value =
+        serde_json::from_str(&ok_stdout(&["check", THERMOSTAT], "")).unwrap();
+    assert!(plain.get("corners").is_none());
+
+    let mut doc: serde_json::Value = serde_json::from_str(
+        &std::fs::read_to_string("examples/scenarios/board_corner_indicator.json").unwrap(),
+    )
+    .unwrap();
+    doc["route"][1]["corner"]["angle_deg"] = serde_json::json!(170);
+    let (ok, _, _, err) = tirtrace(&["check", "-"], &doc.to_string());
+    assert!(!ok);
+    assert!(
+        err.contains("route[1].corner.angle_deg must be at most 165°, got 170"),
+        "{err}"
+    );
 }

@@ -918,6 +918,9 @@ fn random_slice(rng: &mut Rng, p: &Placed) -> Slice {
             radial_half,
             axial_half,
         },
+        Shape::Corner(_) => {
+            unreachable!("cases() holds no corner: src/geometry/corner.rs checks its own")
+        }
     }
 }
 
@@ -1017,6 +1020,9 @@ fn inside_ray(rng: &mut Rng, p: &Placed) -> (DVec3, DVec3) {
             let along = match p.shape {
                 Shape::Axial(Axial { .. }) => DVec3::Z,
                 Shape::Bend(Bend { .. }) => DVec3::new(-o.y, o.x, 0.0).normalize(),
+                Shape::Corner(_) => {
+                    unreachable!("cases() holds no corner: src/geometry/corner.rs checks its own")
+                }
             };
             let d = rng.sign() * along + rng.log_range(1e-6, 0.5) * random_unit(rng);
             (o, d.normalize())
@@ -1042,6 +1048,9 @@ fn in_extent(p: &Placed, q: DVec3, tol: f64) -> bool {
             let e = DVec3::new(-phi.sin(), phi.cos(), 0.0);
             q.y >= -tol && q.dot(e) <= tol
         }
+        Shape::Corner(_) => {
+            unreachable!("cases() holds no corner: src/geometry/corner.rs checks its own")
+        }
     }
 }
 
@@ -1050,6 +1059,9 @@ fn end_normals(p: &Placed) -> (DVec3, DVec3) {
     match p.shape {
         Shape::Axial(Axial { .. }) => (-DVec3::Z, DVec3::Z),
         Shape::Bend(Bend { phi, .. }) => (-DVec3::Y, DVec3::new(-phi.sin(), phi.cos(), 0.0)),
+        Shape::Corner(_) => {
+            unreachable!("cases() holds no corner: src/geometry/corner.rs checks its own")
+        }
     }
 }
 
@@ -1087,13 +1099,16 @@ fn on_edge(p: &Placed, q: DVec3, tol: f64) -> bool {
             ((q.x * q.x + q.y * q.y).sqrt() - rc).abs() - radial_half,
             q.z.abs() - axial_half,
         ),
+        Shape::Corner(_) => {
+            unreachable!("cases() holds no corner: src/geometry/corner.rs checks its own")
+        }
     };
     a.abs() <= tol && b.abs() <= tol
 }
 
 fn next_t(n: Next) -> f64 {
     match n {
-        Next::Wall { t, .. } | Next::Start { t } | Next::End { t } => t,
+        Next::Wall { t, .. } | Next::Start { t } | Next::End { t } | Next::Coated { t, .. } => t,
     }
 }
 
@@ -1118,6 +1133,7 @@ fn hit_points_lie_on_their_surface() {
                 ctx()
             );
             match next {
+                Next::Coated { .. } => unreachable!("cases() holds no corner"),
                 Next::Wall { normal, .. } => {
                     walls += 1;
                     assert!(
@@ -1162,6 +1178,7 @@ fn hit_points_lie_on_their_surface() {
                         (Shape::Axial(Axial { length, .. }), true) => q.z - length,
                         (Shape::Axial(Axial { .. }), false) => q.z,
                         (Shape::Bend(Bend { .. }), _) => q.dot(n),
+                        (Shape::Corner(_), _) => unreachable!("cases() holds no corner"),
                     };
                     assert!(
                         on_plane.abs() < tol,
@@ -1305,6 +1322,7 @@ fn long_reflection_chains_stay_inside() {
                 );
                 assert!(in_extent(p, o, tol), "{}", ctx());
                 match next {
+                    Next::Coated { .. } => unreachable!("cases() holds no corner"),
                     Next::Wall { normal, .. } => {
                         d = reflect(d, normal);
                         walls += 1;
@@ -1383,6 +1401,21 @@ fn stations(p: &Placed) -> (Station, Station) {
             };
             (s, e)
         }
+        Shape::Corner(c) => {
+            let s = Station {
+                pos: f.point_to_global(-c.leg * DVec3::Z),
+                tan: f.z,
+                wid: f.x,
+                hei: f.y,
+            };
+            let e = Station {
+                pos: f.point_to_global(c.leg * c.out_axis),
+                tan: f.dir_to_global(c.out_axis),
+                wid: f.dir_to_global(c.out_x),
+                hei: f.dir_to_global(c.out_y),
+            };
+            (s, e)
+        }
     }
 }
 
@@ -1445,7 +1478,19 @@ fn random_route(rng: &mut Rng) -> (Section, Vec<Segment>, Vec<Section>) {
     let mut route = Vec::new();
     let mut sections = vec![start]; // section at the start of each segment, then the exit
     for _ in 0..2 + rng.below(7) {
-        let seg = match rng.below(3) {
+        let seg = match rng.below(4) {
+            3 => {
+                let turn = if is_round {
+                    rng.range(-360.0, 360.0)
+                } else {
+                    [0.0, 90.0, 180.0, 270.0, -90.0, -180.0][rng.below(6)]
+                };
+                Segment::Corner {
+                    angle_deg: rng.range(15.0, 165.0),
+                    turn_deg: turn,
+                    coating: None,
+                }
+            }
             0 => Segment::Straight {
                 length_mm: rng.log_range(0.1, 50.0),
             },
@@ -1521,6 +1566,21 @@ fn route_placement_is_continuous() {
                     angle_deg,
                     ..
                 } => radius_mm * angle_deg * PI / 180.0,
+                // Legs of h·max(cot(θ/2), tan(θ/2)) each side of where the axes meet.
+                Segment::Corner {
+                    angle_deg,
+                    turn_deg,
+                    ..
+                } => {
+                    let (hw, hh) = sections[i].half_sizes_mm();
+                    let h = if turn_deg.to_radians().cos().abs() > 0.5 {
+                        hw
+                    } else {
+                        hh
+                    };
+                    let t = (angle_deg * PI / 360.0).tan();
+                    2.0 * h * t.max(1.0 / t)
+                }
             };
             assert!((p.length_mm - len).abs() <= 1e-12 * len, "{}", what(i));
             assert!((p.s_start_mm - s_sum).abs() <= 1e-12 * s_sum, "{}", what(i));
@@ -1528,7 +1588,14 @@ fn route_placement_is_continuous() {
             // The section lines up at both ends: a point at offsets (u, v) along the station's
             // width/height axes is exactly as far outside as the section alone says.
             let (sec_in, sec_out) = (sections[i], sections[i + 1]);
-            for _ in 0..8 {
+            // (A corner's outside measure also counts its face and end planes, which meet its end
+            // sections; src/geometry/corner.rs checks its hits against it.)
+            let stations_checked = if matches!(seg, Segment::Corner { .. }) {
+                0
+            } else {
+                8
+            };
+            for _ in 0..stations_checked {
                 for (st, sec) in [(s, sec_in), (e, sec_out)] {
                     let (hw, hh) = sec.half_sizes_mm();
                     // Within the section (beyond it, across a tight bend, a point can fall on the

@@ -21,7 +21,7 @@ use tirtrace::outline::{
 use tirtrace::scenario::{Scenario, Section, Segment, SegmentKind};
 
 /// Every example scenario (compiled in, so the wasm run checks them too).
-const EXAMPLES: [(&str, &str); 5] = [
+const EXAMPLES: [(&str, &str); 6] = [
     (
         "bench_three_bends.json",
         include_str!("../examples/scenarios/bench_three_bends.json"),
@@ -29,6 +29,10 @@ const EXAMPLES: [(&str, &str); 5] = [
     (
         "bike_light_charge_indicator.json",
         include_str!("../examples/scenarios/bike_light_charge_indicator.json"),
+    ),
+    (
+        "board_corner_indicator.json",
+        include_str!("../examples/scenarios/board_corner_indicator.json"),
     ),
     (
         "clad_plastic_fibre.json",
@@ -77,7 +81,15 @@ fn circumcentre(a: DVec3, b: DVec3, c: DVec3) -> DVec3 {
 fn check_outline(what: &str, scenario: &Scenario, o: &RouteOutline) {
     let route = &scenario.route;
     assert_eq!(o.segments.len(), route.len(), "{what}");
-    let total: f64 = route.iter().map(Segment::length_mm).sum();
+    let mut at_section = scenario.guide.section;
+    let total: f64 = route
+        .iter()
+        .map(|seg| {
+            let length = seg.length_mm(at_section);
+            at_section = seg.section_after(at_section);
+            length
+        })
+        .sum();
     assert!(
         (o.length_mm - total).abs() <= 1e-9 * total.max(1.0),
         "{what}"
@@ -106,7 +118,8 @@ fn check_outline(what: &str, scenario: &Scenario, o: &RouteOutline) {
             (seg.s_start_mm - s_start).abs() <= 1e-9 * s_start.max(1.0),
             "{at}"
         );
-        assert!((seg.length_mm - doc.length_mm()).abs() <= 1e-12 * doc.length_mm().max(1.0));
+        let doc_length_mm = doc.length_mm(section);
+        assert!((seg.length_mm - doc_length_mm).abs() <= 1e-12 * doc_length_mm.max(1.0));
         let pts = &seg.points;
         assert!(pts.len() >= 2, "{at}");
         assert_eq!(pts[0].s_mm, seg.s_start_mm, "{at}");
@@ -211,6 +224,44 @@ fn check_outline(what: &str, scenario: &Scenario, o: &RouteOutline) {
                     "{at}: {turned} vs {expect}"
                 );
             }
+            Segment::Corner {
+                angle_deg,
+                turn_deg,
+                ..
+            } => {
+                assert_eq!(seg.kind, SegmentKind::Corner, "{at}");
+                assert_eq!(pts.len(), 3, "{at}");
+                // Two legs of equal length meeting at the face, each half the segment.
+                let leg = 0.5 * doc_length_mm;
+                let tol = 1e-9 * leg.max(1.0);
+                let (a, m, b) = (v(pts[0].centre), v(pts[1].centre), v(pts[2].centre));
+                assert!(close(m - a, leg * tangent(&pts[0]), tol), "{at}");
+                assert!(close(b - m, leg * tangent(&pts[2]), tol), "{at}");
+                // The outgoing axis is turned by the angle towards the turn direction.
+                let psi = turn_deg.to_radians();
+                let toward = psi.cos() * v(pts[0].width_axis) + psi.sin() * v(pts[0].height_axis);
+                let th = angle_deg.to_radians();
+                let out = th.cos() * tangent(&pts[0]) + th.sin() * toward;
+                assert!(close(tangent(&pts[2]), out, 1e-9), "{at}");
+                // The face: the section stretched across the turn by 1/sin(θ/2), square to the
+                // bisecting normal (incoming − outgoing axis).
+                let normal = (tangent(&pts[0]) - out).normalize();
+                let (fw, fh) = (v(pts[1].width_axis), v(pts[1].height_axis));
+                assert!(
+                    fw.dot(normal).abs() <= 1e-9 && fh.dot(normal).abs() <= 1e-9,
+                    "{at}"
+                );
+                let stretch = 1.0 / (0.5 * th).sin();
+                let (sw, sh) = (pts[1].half_width_mm, pts[1].half_height_mm);
+                assert!(
+                    (sw - hw * stretch).abs() <= 1e-9 * sw
+                        || (sh - hh * stretch).abs() <= 1e-9 * sh,
+                    "{at}: face {sw} × {sh}"
+                );
+                for p in [&pts[0], &pts[2]] {
+                    assert_eq!((p.half_width_mm, p.half_height_mm), (hw, hh), "{at}");
+                }
+            }
         }
         // Joins: the next segment starts where this one ends, with the same axes and section.
         if let Some(next) = o.segments.get(i + 1) {
@@ -234,7 +285,7 @@ fn check_outline(what: &str, scenario: &Scenario, o: &RouteOutline) {
             );
             assert!((end.s_mm - start.s_mm).abs() <= JOIN_TOL, "{at}");
         }
-        s_start += doc.length_mm();
+        s_start += doc_length_mm;
     }
 
     // The outline ends on the exit face, at the route's length.
@@ -317,12 +368,13 @@ fn the_example_list_is_complete() {
 }
 
 /// The routes of [`random_scenario`]: 1–8 segments of every kind, bends of 1° to 180° (often
-/// exactly 180°) from 1.01 to 200 half-sizes across, turned any way a section allows.
+/// exactly 180°) from 1.01 to 200 half-sizes across, and corners, turned any way a section allows.
 const ROUTES: RouteDraws = RouteDraws {
     size_mm: (0.3, 6.0),
     max_segments: 8,
     straight_below: 0.3,
     bend_below: 0.8,
+    corner_below: 0.9,
     straight_mm: |rng| rng.log_range(0.05, 200.0),
     round_turn_deg: (-360.0, 360.0),
     rect_turns: (8, 4.0),
@@ -341,7 +393,7 @@ const ROUTES: RouteDraws = RouteDraws {
 /// A random valid scenario: round or rectangular, 1–8 segments of every kind ([`ROUTES`]), an
 /// offset source and sometimes a receiver.
 fn random_scenario(rng: &mut Rng) -> Scenario {
-    let RandomRoute { section, route } = random_route(rng, &ROUTES);
+    let RandomRoute { section, route, .. } = random_route(rng, &ROUTES);
     let mut doc = json!({
         "version": 1,
         "guide": {"section": section, "material": {"library": "pmma"},

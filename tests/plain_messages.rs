@@ -115,7 +115,7 @@ fn wrong_kinds_of_value_say_what_is_expected() {
         (
             |d| d["route"][0] = json!({ "corkscrew": { "length_mm": 3 } }),
             "route[0]",
-            "“corkscrew” is not one of the choices here: straight, bend, taper",
+            "“corkscrew” is not one of the choices here: straight, bend, taper, corner",
         ),
     ];
     for (edit, field, words) in cases {

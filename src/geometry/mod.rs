@@ -13,6 +13,7 @@
 
 pub mod axial;
 pub mod bend;
+pub mod corner;
 mod quadric;
 pub mod rect_bend;
 pub mod roots;
@@ -23,6 +24,7 @@ use glam::DVec3;
 
 pub use axial::Axial;
 pub use bend::Bend;
+pub use corner::Corner;
 pub use route::PlacedRoute;
 pub use torus::torus_exit;
 
@@ -69,6 +71,8 @@ pub enum Shape {
     Axial(Axial),
     /// A circular bend about local z.
     Bend(Bend),
+    /// A reflecting corner (origin where its axes meet).
+    Corner(Corner),
 }
 
 /// A route segment placed in space.
@@ -106,6 +110,16 @@ pub enum Next {
         /// Distance along the ray, mm.
         t: f64,
     },
+    /// A coated reflecting face at distance `t`, with its outward unit normal (local) and its
+    /// specular reflectance.
+    Coated {
+        /// Distance along the ray, mm.
+        t: f64,
+        /// Outward unit normal, local coordinates.
+        normal: DVec3,
+        /// Specular reflectance of the coating, 0 to 1.
+        reflectance: f64,
+    },
 }
 
 impl Next {
@@ -113,7 +127,9 @@ impl Next {
     #[inline]
     pub fn t(self) -> f64 {
         match self {
-            Next::Wall { t, .. } | Next::Start { t } | Next::End { t } => t,
+            Next::Wall { t, .. } | Next::Start { t } | Next::End { t } | Next::Coated { t, .. } => {
+                t
+            }
         }
     }
 }
@@ -128,6 +144,7 @@ impl Placed {
             (Shape::Axial(a), false) => a.next_rectangular(o, d),
             (Shape::Bend(b), true) => b.next_torus(o, d),
             (Shape::Bend(b), false) => b.next_rectangular(o, d),
+            (Shape::Corner(c), round) => c.next(round, o, d),
         }
     }
 
@@ -137,6 +154,7 @@ impl Placed {
         match &self.shape {
             Shape::Axial(a) => a.along_mm(p),
             Shape::Bend(b) => b.along_mm(p),
+            Shape::Corner(c) => c.along_mm(p),
         }
     }
 
@@ -146,6 +164,7 @@ impl Placed {
         let (w, h) = match &self.shape {
             Shape::Axial(_) => (p.x, p.y),
             Shape::Bend(b) => b.section_coordinates(p),
+            Shape::Corner(c) => c.section_coordinates(p),
         };
         libm::atan2(h, w).to_degrees().rem_euclid(360.0)
     }
@@ -156,6 +175,7 @@ impl Placed {
         match &self.shape {
             Shape::Axial(a) => a.outside_mm(self.round, p),
             Shape::Bend(b) => b.outside_mm(self.round, p),
+            Shape::Corner(c) => c.outside_mm(self.round, p),
         }
     }
 }

@@ -3,7 +3,8 @@
 
 use glam::DVec3;
 
-use super::{Axial, Bend, Frame, Placed, Shape};
+use super::corner::corner_leg_mm;
+use super::{Axial, Bend, Corner, Frame, Placed, Shape};
 use crate::scenario::{bend_half_size_mm, Section, Segment};
 
 /// The route placed in space, plus the entry and exit frames.
@@ -37,7 +38,7 @@ impl PlacedRoute {
         for seg in route {
             let round = matches!(section, Section::Round { .. });
             let (hw, hh) = section.half_sizes_mm();
-            let length_mm = seg.length_mm();
+            let length_mm = seg.length_mm(section);
             let placed = match *seg {
                 Segment::Straight { length_mm } | Segment::Taper { length_mm, .. } => {
                     let end = match *seg {
@@ -109,6 +110,43 @@ impl PlacedRoute {
                     t = rotate(t, axis, phi);
                     n = rotate(n, axis, phi);
                     b = rotate(b, axis, phi);
+                    placed
+                }
+                Segment::Corner {
+                    angle_deg,
+                    turn_deg,
+                    coating,
+                } => {
+                    let psi = turn_deg.to_radians();
+                    let u = libm::cos(psi) * n + libm::sin(psi) * b;
+                    let axis = t.cross(u);
+                    let half = bend_half_size_mm(section, turn_deg).unwrap_or(hw);
+                    let leg = corner_leg_mm(half, angle_deg);
+                    let frame = Frame {
+                        origin: p + leg * t,
+                        x: n,
+                        y: b,
+                        z: t,
+                    };
+                    let phi = angle_deg.to_radians();
+                    let placed = Placed {
+                        shape: Shape::Corner(Corner::new(
+                            phi,
+                            frame.dir_to_local(u),
+                            leg,
+                            hw,
+                            hh,
+                            coating.map(|c| c.reflectance),
+                        )),
+                        round,
+                        frame,
+                        s_start_mm: s,
+                        length_mm,
+                    };
+                    t = rotate(t, axis, phi);
+                    n = rotate(n, axis, phi);
+                    b = rotate(b, axis, phi);
+                    p = frame.origin + leg * t;
                     placed
                 }
             };

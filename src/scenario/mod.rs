@@ -165,9 +165,41 @@ pub enum Segment {
         /// Section at the end of the taper (same shape as the current one).
         end_section: Section,
     },
+    /// A reflecting corner: the guide turns by `angle_deg` at a flat face that bisects the
+    /// turn (a 45° face for a right angle), reflecting by total internal reflection where the
+    /// incidence exceeds the critical angle against the surroundings, else by Fresnel
+    /// reflection (what the face lets through leaks there), or by a reflective coating. Its legs
+    /// reach h·max(cot(θ/2), tan(θ/2)) along the incoming and the outgoing axis from the point
+    /// where the axes meet (h: half the section's size across the turn; h for a right angle).
+    Corner {
+        /// Angle turned through, degrees.
+        #[schemars(transform = crate::schema::within(limits::CORNER_ANGLE_DEG))]
+        angle_deg: f64,
+        /// Direction of the turn, as for a bend: an angle about the current axis from the
+        /// section's width axis towards its height axis, degrees. Rectangular guides turn across
+        /// the width (0, 180) or the height (90, 270) only.
+        #[serde(default)]
+        #[schemars(transform = crate::schema::within(limits::AZIMUTH_DEG))]
+        turn_deg: f64,
+        /// A reflective coating on the face, if any (none: the bare face).
+        #[serde(default, skip_serializing_if = "Option::is_none")]
+        coating: Option<Coating>,
+    },
 }
 
-/// What a segment of the route is, without its sizes. Written `straight`, `bend` or `taper` in
+/// A reflective coating on a corner's face: it reflects the share `reflectance` of the light
+/// meeting it (at any incidence) and absorbs the rest, which the budget counts as absorbed in
+/// the corner's segment.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize, JsonSchema)]
+#[serde(deny_unknown_fields)]
+pub struct Coating {
+    /// Specular reflectance, a fraction from 0 to 1.
+    #[schemars(transform = crate::schema::within(limits::CORNER_REFLECTANCE))]
+    pub reflectance: f64,
+}
+
+/// What a segment of the route is, without its sizes. Written `straight`, `bend`, `taper` or
+/// `corner` in
 /// the trace report and the route's outline (by name: `crate::trace::names`).
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum SegmentKind {
@@ -177,6 +209,8 @@ pub enum SegmentKind {
     Bend,
     /// A straight taper.
     Taper,
+    /// A reflecting corner.
+    Corner,
 }
 
 impl Segment {
@@ -186,11 +220,13 @@ impl Segment {
             Segment::Straight { .. } => SegmentKind::Straight,
             Segment::Bend { .. } => SegmentKind::Bend,
             Segment::Taper { .. } => SegmentKind::Taper,
+            Segment::Corner { .. } => SegmentKind::Corner,
         }
     }
 
-    /// Length of the segment along its centre line, mm.
-    pub fn length_mm(&self) -> f64 {
+    /// Length of the segment along its centre line, mm, for the section where it starts (a
+    /// corner's legs depend on it: [`crate::geometry::corner::corner_leg_mm`], both legs).
+    pub fn length_mm(&self, section: Section) -> f64 {
         match *self {
             Segment::Straight { length_mm } | Segment::Taper { length_mm, .. } => length_mm,
             Segment::Bend {
@@ -198,6 +234,22 @@ impl Segment {
                 angle_deg,
                 ..
             } => radius_mm * angle_deg.to_radians(),
+            Segment::Corner {
+                angle_deg,
+                turn_deg,
+                ..
+            } => {
+                let half = bend_half_size_mm(section, turn_deg).unwrap_or(f64::NAN);
+                2.0 * crate::geometry::corner::corner_leg_mm(half, angle_deg)
+            }
+        }
+    }
+
+    /// The section where the segment ends, given the one where it starts (a taper changes it).
+    pub fn section_after(&self, section: Section) -> Section {
+        match *self {
+            Segment::Taper { end_section, .. } => end_section,
+            _ => section,
         }
     }
 }

@@ -5,17 +5,17 @@
 
 use super::table::table_has_power;
 use super::{
-    bend_half_size_mm, Contact, Emitter, EmitterArea, Flux, Guide, Pattern, Receiver, Scenario,
-    ScenarioIndices, Section, Segment, Source, TraceSettings, SCENARIO_VERSION,
+    bend_half_size_mm, Coating, Contact, Emitter, EmitterArea, Flux, Guide, Pattern, Receiver,
+    Scenario, ScenarioIndices, Section, Segment, Source, TraceSettings, SCENARIO_VERSION,
 };
 use crate::error::{show, FieldError};
 use crate::guide;
 use crate::limits::{
     FieldErrors, Range, ATTENUATION_DB_PER_M, AZIMUTH_DEG, BEND_ANGLE_DEG, BEND_RADIUS_MAX_MM,
-    CONE_HALF_ANGLE_DEG, EMITTER_MM, FLUX, GAP_MM, HALF_INTENSITY_ANGLE_DEG, MAX_INTERACTIONS,
-    MAX_SEGMENTS, MAX_WHOLE, OFFSET_MM, RAYS, RECEIVER_DISTANCE_MM, RECEIVER_MM, SECTION_MM,
-    SECTOR_DEG, SECTOR_END_DEG, SEGMENT_LENGTH_MM, TABLE_ANGLE_DEG, TABLE_INTENSITY, TABLE_ROWS,
-    TILT_DEG,
+    CONE_HALF_ANGLE_DEG, CORNER_ANGLE_DEG, CORNER_REFLECTANCE, EMITTER_MM, FLUX, GAP_MM,
+    HALF_INTENSITY_ANGLE_DEG, MAX_INTERACTIONS, MAX_SEGMENTS, MAX_WHOLE, OFFSET_MM, RAYS,
+    RECEIVER_DISTANCE_MM, RECEIVER_MM, SECTION_MM, SECTOR_DEG, SECTOR_END_DEG, SEGMENT_LENGTH_MM,
+    TABLE_ANGLE_DEG, TABLE_INTENSITY, TABLE_ROWS, TILT_DEG,
 };
 
 impl Scenario {
@@ -27,7 +27,7 @@ impl Scenario {
         check_guide(&self.guide, &mut out);
         check_route(self.guide.section, &self.route, &mut out);
         for (k, contact) in self.guide.contacts.iter().enumerate() {
-            check_contact(k, contact, &self.route, &mut out);
+            check_contact(k, contact, self.guide.section, &self.route, &mut out);
         }
         let wavelength_nm = check_source(&self.source, &mut out);
         if let Some(receiver) = &self.receiver {
@@ -127,6 +127,14 @@ fn check_route(entry: Section, route: &[Segment], out: &mut FieldErrors) {
                 let path = format!("route[{i}].bend");
                 check_bend(&path, section, radius_mm, angle_deg, turn_deg, out);
             }
+            Segment::Corner {
+                angle_deg,
+                turn_deg,
+                coating,
+            } => {
+                let path = format!("route[{i}].corner");
+                check_corner(&path, section, angle_deg, turn_deg, coating, out);
+            }
             Segment::Taper {
                 length_mm,
                 end_section,
@@ -159,7 +167,34 @@ fn check_bend(
         .unit(" mm")
         .note(" (half the pipe's size across the bend, so that its inner wall keeps a radius)");
     out.range(&format!("{path}.radius_mm"), radius_mm, radius);
-    if matches!(section, Section::Rectangular { .. }) {
+    check_rectangular_turn(path, section, turn_deg, out);
+}
+
+/// A reflecting corner: its angle, its direction (across the width or the height of a
+/// rectangular guide, as for a bend) and its coating's reflectance.
+fn check_corner(
+    path: &str,
+    section: Section,
+    angle_deg: f64,
+    turn_deg: f64,
+    coating: Option<Coating>,
+    out: &mut FieldErrors,
+) {
+    out.range(&format!("{path}.angle_deg"), angle_deg, CORNER_ANGLE_DEG);
+    out.range(&format!("{path}.turn_deg"), turn_deg, AZIMUTH_DEG);
+    if let Some(c) = coating {
+        out.range(
+            &format!("{path}.coating.reflectance"),
+            c.reflectance,
+            CORNER_REFLECTANCE,
+        );
+    }
+    check_rectangular_turn(path, section, turn_deg, out);
+}
+
+/// A rectangular guide turns across its width or its height only.
+fn check_rectangular_turn(path: &str, section: Section, turn_deg: f64, out: &mut FieldErrors) {
+    if matches!(section, Section::Rectangular { .. }) && turn_deg.is_finite() {
         let r = turn_deg.rem_euclid(90.0);
         if r > 1e-9 && 90.0 - r > 1e-9 {
             out.push(
@@ -201,7 +236,7 @@ fn check_taper_end(
 /// mount that no longer fits its segment (the segment was shortened, or the mount moved) is
 /// told as such — where it starts or ends against where the segment ends — never as a range
 /// whose ends cross.
-fn check_contact(k: usize, c: &Contact, route: &[Segment], out: &mut FieldErrors) {
+fn check_contact(k: usize, c: &Contact, entry: Section, route: &[Segment], out: &mut FieldErrors) {
     let path = format!("guide.contacts[{k}]");
     let mount = if c.name.trim().is_empty() {
         format!("Mount {}", k + 1)
@@ -218,7 +253,10 @@ fn check_contact(k: usize, c: &Contact, route: &[Segment], out: &mut FieldErrors
             ),
         ),
         Some(segment) => {
-            let length_mm = segment.length_mm();
+            let section = route[..c.segment]
+                .iter()
+                .fold(entry, |section, s| s.section_after(section));
+            let length_mm = segment.length_mm(section);
             let end = format!(
                 "past the end of its segment (segment {} is {} mm long)",
                 c.segment + 1,
@@ -404,6 +442,46 @@ fn check_trace(t: &TraceSettings, out: &mut FieldErrors) {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// A corner's problems: its angle, a rectangular guide's turn direction, its coating, and a
+    /// mount past the end of a corner (whose length is its two legs).
+    #[test]
+    fn corner_problems_name_the_field_and_the_range() {
+        let text = r#"{
+            "version": 1,
+            "guide": {
+                "section": { "rectangular": { "width_mm": 3, "height_mm": 2 } },
+                "material": { "library": "pmma" }, "surroundings": { "library": "air" },
+                "contacts": [ { "segment": 1, "from_mm": 1, "to_mm": 4, "medium": { "library": "pdms" } } ]
+            },
+            "route": [
+                { "straight": { "length_mm": 3 } },
+                { "corner": { "angle_deg": 90, "turn_deg": 0 } },
+                { "corner": { "angle_deg": 170, "turn_deg": 45, "coating": { "reflectance": 1.2 } } },
+                { "corner": { "angle_deg": 10 } }
+            ],
+            "source": {
+                "emitter": { "led": { "area": { "square": { "side_mm": 0.5 } }, "pattern": "lambertian" } },
+                "wavelength_nm": 550, "gap_mm": 0.2
+            }
+        }"#;
+        let scenario = Scenario::from_json(text).unwrap();
+        let messages: Vec<String> = scenario
+            .check()
+            .unwrap_err()
+            .iter()
+            .map(ToString::to_string)
+            .collect();
+        let expected = [
+            "route[2].corner.angle_deg must be at most 165°, got 170",
+            "route[2].corner.coating.reflectance must be at most 1, got 1.2",
+            "route[2].corner.turn_deg must be 0, 90, 180 or 270 for a rectangular guide (turn across the width or the height), got 45",
+            "route[3].corner.angle_deg must be at least 15°, got 10",
+            // A right angle across the 3 mm width: legs of 1.5 mm each.
+            "guide.contacts[0].to_mm: Mount 1 ends at 4 mm, past the end of its segment (segment 2 is 3 mm long)",
+        ];
+        assert_eq!(messages, expected);
+    }
 
     /// Every kind of problem at once: all are listed, with their messages, in document order
     /// (the messages and order of the base version, which the page and the command line show).

@@ -7,8 +7,8 @@ use serde::{Deserialize, Serialize};
 use crate::scenario::SegmentKind;
 
 impl Named for SegmentKind {
-    const ALL: &'static [Self] = &[Self::Straight, Self::Bend, Self::Taper];
-    const NAMES: &'static [&'static str] = &["straight", "bend", "taper"];
+    const ALL: &'static [Self] = &[Self::Straight, Self::Bend, Self::Taper, Self::Corner];
+    const NAMES: &'static [&'static str] = &["straight", "bend", "taper", "corner"];
 }
 
 /// The unit of an absolute flux; written `mW` or `lm` in the report.
@@ -89,7 +89,7 @@ mod tests {
     #[test]
     fn names_are_the_report_strings_and_read_back() {
         let kinds = serde_json::to_string(&SegmentKind::ALL).unwrap();
-        assert_eq!(kinds, r#"["straight","bend","taper"]"#);
+        assert_eq!(kinds, r#"["straight","bend","taper","corner"]"#);
         let units = serde_json::to_string(&(FluxUnit::ALL, IntensityUnit::ALL)).unwrap();
         assert_eq!(units, r#"[["mW","lm"],["mW/sr","cd"]]"#);
         let back: Vec<SegmentKind> = serde_json::from_str(&kinds).unwrap();

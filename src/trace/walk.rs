@@ -142,7 +142,10 @@ impl Prepared {
             let placed = &segs[ray.seg];
             let next = placed.next(ray.o, ray.d);
             let t = match next {
-                Next::Wall { t, .. } | Next::Start { t } | Next::End { t } => t,
+                Next::Wall { t, .. }
+                | Next::Start { t }
+                | Next::End { t }
+                | Next::Coated { t, .. } => t,
             };
             // Beer–Lambert: the path in this segment is summed and its attenuation applied once,
             // when the ray leaves the segment or ends (e^(−αL₁)·e^(−αL₂) = e^(−α(L₁+L₂))).
@@ -155,6 +158,11 @@ impl Prepared {
             } else {
                 match next {
                     Next::Wall { normal, .. } => walk.wall(&mut ray, placed, normal),
+                    Next::Coated {
+                        normal,
+                        reflectance,
+                        ..
+                    } => walk.coated(&mut ray, placed, normal, reflectance),
                     Next::End { .. } if seg + 1 < segs.len() => {
                         walk.cross(&mut ray, placed, seg + 1)
                     }
@@ -333,6 +341,21 @@ impl Walk<'_> {
             return Step::Continue;
         }
         self.leave_through_wall(ray, placed, normal, n_out, zone)
+    }
+
+    /// A coated face with outward unit normal `normal` (local) and specular reflectance `r`:
+    /// the ray is reflected with its weight times r; the coating absorbs the rest, tallied as
+    /// absorbed in this segment (after the path's own attenuation is applied).
+    fn coated(&mut self, ray: &mut Ray, placed: &Placed, normal: DVec3, r: f64) -> Step {
+        self.out.wall_interactions += 1;
+        self.out.wall_hits[ray.seg] += 1;
+        let o = ray.o;
+        self.trail.push(|| placed.frame.point_to_global(o));
+        self.absorb(ray);
+        self.contrib[self.p.ledger.absorbed(ray.seg)] += ray.w * (1.0 - r);
+        ray.w *= r;
+        ray.d = reflect(ray.d, normal);
+        Step::Continue
     }
 
     /// The ray leaves through the side wall into a medium of index `n_out`: leaked, or lost

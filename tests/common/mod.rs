@@ -59,6 +59,9 @@ pub struct RouteDraws {
     pub straight_below: f64,
     /// See `straight_below`.
     pub bend_below: f64,
+    /// A segment that is no straight or bend is a reflecting corner (turned as a bend, 15° to
+    /// 165°, coated one time in three) when its draw is below this, else a taper.
+    pub corner_below: f64,
     /// A straight's length, mm.
     pub straight_mm: fn(&mut Rng) -> f64,
     /// Range of a round section's turn, degrees.
@@ -79,10 +82,13 @@ pub struct RandomRoute {
     pub section: Value,
     /// The `route` list.
     pub route: Vec<Value>,
+    /// Each segment's centre-line length, mm.
+    pub lengths_mm: Vec<f64>,
 }
 
 /// A random valid route: a round or rectangular section and straights, bends (turned any way
-/// the section allows, never tighter than its half-size across the bend) and tapers, drawn as
+/// the section allows, never tighter than its half-size across the bend), reflecting corners and
+/// tapers, drawn as
 /// `draws` says.
 pub fn random_route(rng: &mut Rng, draws: &RouteDraws) -> RandomRoute {
     let round = rng.chance(0.5);
@@ -101,11 +107,14 @@ pub fn random_route(rng: &mut Rng, draws: &RouteDraws) -> RandomRoute {
         (w / 2.0, h / 2.0)
     };
     let mut route = Vec::new();
+    let mut lengths_mm = Vec::new();
     for _ in 0..1 + rng.below(draws.max_segments) {
         let kind = rng.next();
         if kind < draws.straight_below {
-            route.push(json!({"straight": {"length_mm": (draws.straight_mm)(rng)}}));
-        } else if kind < draws.bend_below {
+            let length_mm = (draws.straight_mm)(rng);
+            route.push(json!({"straight": {"length_mm": length_mm}}));
+            lengths_mm.push(length_mm);
+        } else if kind < draws.corner_below {
             let turn = if round {
                 rng.range(draws.round_turn_deg.0, draws.round_turn_deg.1)
             } else {
@@ -117,10 +126,22 @@ pub fn random_route(rng: &mut Rng, draws: &RouteDraws) -> RandomRoute {
             } else {
                 half.1
             };
-            let (radius_mm, angle_deg) = (draws.bend)(rng, across);
-            route.push(
-                json!({"bend": {"radius_mm": radius_mm, "angle_deg": angle_deg, "turn_deg": turn}}),
-            );
+            if kind < draws.bend_below {
+                let (radius_mm, angle_deg) = (draws.bend)(rng, across);
+                route.push(
+                    json!({"bend": {"radius_mm": radius_mm, "angle_deg": angle_deg, "turn_deg": turn}}),
+                );
+                lengths_mm.push(radius_mm * angle_deg.to_radians());
+            } else {
+                let angle_deg = rng.range(15.0, 165.0);
+                let mut corner = json!({"angle_deg": angle_deg, "turn_deg": turn});
+                if rng.chance(1.0 / 3.0) {
+                    corner["coating"] = json!({"reflectance": rng.next()});
+                }
+                route.push(json!({ "corner": corner }));
+                let t = (0.5 * angle_deg.to_radians()).tan();
+                lengths_mm.push(2.0 * across * t.max(1.0 / t));
+            }
         } else {
             let (lo, hi) = draws.taper_factor;
             let f = rng.range(lo, hi);
@@ -133,7 +154,12 @@ pub fn random_route(rng: &mut Rng, draws: &RouteDraws) -> RandomRoute {
             };
             let length_mm = rng.range(draws.taper_mm.0, draws.taper_mm.1);
             route.push(json!({"taper": {"length_mm": length_mm, "end_section": end}}));
+            lengths_mm.push(length_mm);
         }
     }
-    RandomRoute { section, route }
+    RandomRoute {
+        section,
+        route,
+        lengths_mm,
+    }
 }

@@ -1,6 +1,7 @@
 // Variant scenarios that reach the parts the examples do not, built on an example scenario:
 // a tabulated, tilted, offset LED; a rectangular bar with a taper, a bend across its height, a
-// clip and a window receiver; a beam through a high-index gel. Used by the wasm-vs-native test
+// clip and a window receiver; a round pipe with a bare and a coated reflecting corner; a beam
+// through a high-index gel. Used by the wasm-vs-native test
 // and by scripts/same_output.mjs.
 
 /** `[[name, scenario], …]` built on `base` (the thermostat example). */
@@ -22,6 +23,13 @@ export function variantsOf(base) {
         { taper: { length_mm: 8, end_section: { rectangular: { width_mm: 3, height_mm: 1.5 } } } },
         { bend: { radius_mm: 6, angle_deg: 75, turn_deg: 90 } }, { straight: { length_mm: 5 } }],
       receiver: { width_mm: 5, height_mm: 3, distance_mm: 2 },
+    }],
+    ['variant_corners', {
+      ...base,
+      guide: { ...base.guide, contacts: [] },
+      route: [{ straight: { length_mm: 5 } }, { corner: { angle_deg: 70, turn_deg: 30 } },
+        { straight: { length_mm: 6 } }, { corner: { angle_deg: 120, turn_deg: 200, coating: { reflectance: 0.93 } } },
+        { straight: { length_mm: 4 } }],
     }],
     ['variant_gel_beam', {
       ...base,

@@ -18,9 +18,10 @@ const SEGMENT_DEFAULTS = {
   straight: () => ({ straight: { length_mm: 10 } }),
   bend: () => ({ bend: { radius_mm: 10, angle_deg: 90, turn_deg: 0 } }),
   taper: (section) => ({ taper: { length_mm: 8, end_section: JSON.parse(JSON.stringify(section)) } }),
+  corner: () => ({ corner: { angle_deg: 90, turn_deg: 0 } }),
 };
 
-const SEGMENT_NAMES = { straight: 'Straight', bend: 'Bend', taper: 'Taper' };
+const SEGMENT_NAMES = { straight: 'Straight', bend: 'Bend', taper: 'Taper', corner: 'Corner' };
 
 /** A bend's radius hint before the core has checked the design. */
 const BEND_RADIUS_HINT = 'Of the pipe’s centre line; the inner radius is this less half the pipe’s size across the bend.';
@@ -560,6 +561,7 @@ export class Editor {
         h('button', { type: 'button', id: 'add-straight', onclick: add('straight'), text: '+ Straight' }),
         h('button', { type: 'button', id: 'add-bend', onclick: add('bend'), text: '+ Bend' }),
         h('button', { type: 'button', id: 'add-taper', onclick: add('taper'), text: '+ Taper' }),
+        h('button', { type: 'button', id: 'add-corner', onclick: add('corner'), text: '+ Corner' }),
       ),
     );
   }
@@ -594,6 +596,19 @@ export class Editor {
         h('div', { class: 'pair' }, this.num(`${p}.radius_mm`, 'Radius (centre line)', 'mm', { hint: this.bendHints.get(i) ?? BEND_RADIUS_HINT }), this.num(`${p}.angle_deg`, 'Bend angle', 'deg')),
         this.num(`${p}.turn_deg`, 'Turns toward', 'deg', { hint: '0: toward the pipe’s width axis, 90: toward its height axis, 180: the other way.' }),
       );
+    }
+    if (kind === 'corner') {
+      const corner = seg.corner;
+      fields.push(
+        h('div', { class: 'pair' },
+          this.num(`${p}.angle_deg`, 'Turn angle', 'deg', { hint: 'A reflecting corner: a flat face halfway across the turn reflects the light round it; 90 gives a 45° face.' }),
+          this.num(`${p}.turn_deg`, 'Turns toward', 'deg', { hint: '0: toward the pipe’s width axis, 90: toward its height axis, 180: the other way.' })),
+        this.choice(`${p}.coating`, 'Reflecting face', [['bare', 'Bare (total internal reflection)'], ['coated', 'Coated (mirror)']], corner.coating ? 'coated' : 'bare', (v) => {
+          if (v === 'bare') delete corner.coating;
+          else corner.coating = { reflectance: 0.9 };
+        }),
+      );
+      if (corner.coating) fields.push(this.num(`${p}.coating.reflectance`, 'Coating reflectance', 'fraction', { hint: 'From 0 to 1; what the coating does not reflect it absorbs.' }));
     }
     if (kind === 'taper') {
       fields.push(

@@ -299,6 +299,28 @@ export function showBends(figures, report) {
   $('bend-rows').replaceChildren(...rows);
   $('bends-empty').hidden = rows.length > 0;
   $('bend-note').textContent = figures?.bend_note || '';
+  showCorners(figures, report);
+}
+
+/** The per-corner table: the closed-form verdict at the face and the traced leakage. */
+function showCorners(figures, report) {
+  const corners = figures?.corners || [];
+  const words = { ok: 'Totally reflected', leaks: 'Leaks', coated: 'Coated' };
+  const rows = corners.map((cf) => {
+    const seg = report?.segments?.[cf.segment];
+    const leaked = seg ? formatShareCi(seg.leaked.share, seg.leaked.ci95) : '…';
+    const kind = cf.verdict === 'leaks' ? 'leaks' : 'ok';
+    return h('tr', { dataset: { segment: String(cf.segment), verdict: cf.verdict } },
+      h('th', { scope: 'row', text: `${cf.segment + 1}` }),
+      h('td', { class: 'num', text: `${fixed(cf.angle_deg, 0)}°` }),
+      h('td', { class: 'num', text: `${fixed(cf.face_incidence_deg, 1)}°` }),
+      h('td', { class: 'num', text: `${fixed(cf.smallest_incidence_deg, 1)}° to ${fixed(cf.largest_incidence_deg, 1)}°` }),
+      h('td', { class: 'num', text: `${fixed(cf.critical_angle_deg, 1)}°` }),
+      h('td', { class: 'num corner-leak', text: leaked }),
+      h('td', {}, h('span', { class: `mark mark-${kind}`, text: words[cf.verdict] ?? cf.verdict, title: sentence(cf.note) })));
+  });
+  $('corner-rows').replaceChildren(...rows);
+  $('corners').hidden = rows.length === 0;
 }
 
 /** The closed-form figures line: n, critical angle, NA, acceptance, entry Fresnel loss. */

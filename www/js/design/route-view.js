@@ -51,6 +51,23 @@ function niceLength(x) {
   return (m < 1.5 ? 1 : m < 3.5 ? 2 : m < 7.5 ? 5 : 10) * p;
 }
 
+/** The convex hull of screen points [x, y], counter-clockwise (Andrew's monotone chain). */
+function convexHull(points) {
+  const p = [...points].sort((a, b) => a[0] - b[0] || a[1] - b[1]);
+  if (p.length < 3) return p;
+  const cross = (o, a, b) => (a[0] - o[0]) * (b[1] - o[1]) - (a[1] - o[1]) * (b[0] - o[0]);
+  const half = (list) => {
+    const out = [];
+    for (const q of list) {
+      while (out.length >= 2 && cross(out[out.length - 2], out[out.length - 1], q) <= 0) out.pop();
+      out.push(q);
+    }
+    out.pop();
+    return out;
+  };
+  return [...half(p), ...half([...p].reverse())];
+}
+
 export class RouteView {
   constructor(canvas) {
     this.canvas = canvas;
@@ -273,8 +290,15 @@ export class RouteView {
     // The pipe: a dark outline stroke, then the body (a round pipe's outline under an
     // orthographic view is as wide as its diameter from every side).
     for (const pass of ['wall', 'body']) {
-      for (const seg of o.segments) {
+      for (const [k, seg] of o.segments.entries()) {
         const pts = seg.points;
+        if (seg.kind === 'corner') {
+          this.drawCorner(g, pts, pass, seg.round);
+          continue;
+        }
+        // A round end would bulge past a corner's face: square ends where a corner joins.
+        const cornerBefore = o.segments[k - 1]?.kind === 'corner';
+        const cornerAfter = o.segments[k + 1]?.kind === 'corner';
         for (let i = 0; i + 1 < pts.length; i += 1) {
           const hw = Math.max(pts[i].half_width_mm, pts[i].half_height_mm, pts[i + 1].half_width_mm, pts[i + 1].half_height_mm);
           const [x0, y0] = this.toScreen(pts[i].centre);
@@ -284,7 +308,7 @@ export class RouteView {
           g.lineTo(x1, y1);
           g.lineWidth = Math.max(2 * hw * this.scale + (pass === 'wall' ? 2.5 : 0), pass === 'wall' ? 3 : 1);
           g.strokeStyle = pass === 'wall' ? '#1f2a36' : '#e4f0f2';
-          g.lineCap = 'round';
+          g.lineCap = (i === 0 && cornerBefore) || (i === pts.length - 2 && cornerAfter) ? 'butt' : 'round';
           g.stroke();
         }
       }
@@ -293,6 +317,44 @@ export class RouteView {
     this.drawHeat(g);
     this.drawFaces(g);
     this.drawScale(g, w, hgt);
+  }
+
+  /**
+   * A reflecting corner: each leg is the solid between its end section and the face (the middle
+   * sample, the section seen on the face's plane), so its outline on the screen is the convex hull
+   * of those two rings — the flat face cutting the outer side of the turn, to scale from any side.
+   */
+  drawCorner(g, pts, pass, round) {
+    const ringPoints = (pt) => {
+      const n = round ? 48 : 4;
+      const out = [];
+      for (let k = 0; k < n; k += 1) {
+        const t = round ? (k / n) * 2 * Math.PI : (k + 0.5) * (Math.PI / 2);
+        const cu = round ? Math.cos(t) : Math.sign(Math.cos(t));
+        const cv = round ? Math.sin(t) : Math.sign(Math.sin(t));
+        out.push(this.toScreen(pt.centre.map((x, j) => x + pt.half_width_mm * cu * pt.width_axis[j] + pt.half_height_mm * cv * pt.height_axis[j])));
+      }
+      return out;
+    };
+    const rings = pts.map(ringPoints);
+    for (const [a, b] of [[0, 1], [1, 2]]) {
+      const hull = convexHull([...rings[a], ...rings[b]]);
+      g.beginPath();
+      hull.forEach(([x, y], k) => (k === 0 ? g.moveTo(x, y) : g.lineTo(x, y)));
+      g.closePath();
+      if (pass === 'wall') {
+        g.fillStyle = '#1f2a36';
+        g.strokeStyle = '#1f2a36';
+        g.lineWidth = 2.5;
+        g.lineJoin = 'miter';
+        g.fill();
+        g.stroke();
+        g.lineJoin = 'round';
+      } else {
+        g.fillStyle = '#e4f0f2';
+        g.fill();
+      }
+    }
   }
 
   /**
@@ -446,6 +508,14 @@ export class RouteView {
       if (!pt) continue;
       ring(pt.centre, pt.width_axis, pt.height_axis, pt.half_width_mm, pt.half_height_mm, seg.round);
       g.strokeStyle = colour;
+      g.stroke();
+    }
+    // Each reflecting corner's face (its middle sample: the section seen on the face's plane).
+    for (const seg of o.segments) {
+      if (seg.kind !== 'corner' || seg.points.length !== 3) continue;
+      const f = seg.points[1];
+      ring(f.centre, f.width_axis, f.height_axis, f.half_width_mm, f.half_height_mm, seg.round);
+      g.strokeStyle = '#7950f2';
       g.stroke();
     }
     if (o.source_mm) {

@@ -13,6 +13,7 @@ pub mod chart;
 pub mod check;
 pub mod error;
 pub mod export;
+pub mod faces;
 pub mod fan;
 pub mod geometry;
 pub mod guide;

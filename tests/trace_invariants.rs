@@ -109,7 +109,7 @@ fn with_random_faces(rng: &mut Rng, s: &mut Scenario) {
         return;
     }
     let exit_section = PlacedRoute::new(s.guide.section, &s.route).exit_section;
-    let mut face = |rng: &mut Rng, section, textured: bool| match (rng.next() * 4.0) as usize {
+    let face = |rng: &mut Rng, section, textured: bool| match (rng.next() * 4.0) as usize {
         0 => Face::Dome {
             radius_mm: rim_radius_mm(section) * rng.range(1.02, 5.0),
         },

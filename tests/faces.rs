@@ -412,3 +412,47 @@ fn a_flat_face_is_the_document_without_one() {
     let same = Prepared::new(&Scenario::from_json(&doc.to_string()).unwrap()).unwrap();
     assert_eq!(p.trace_all_serial(3), same.trace_all_serial(3));
 }
+
+/// The 3D view's outline draws a shaped face to scale: the entry dome of the panel example
+/// (R = 4 mm over a 1.5 mm rim) stands R − √(R² − 1.5²) towards the LED, its rim on the entry
+/// plane; the exit dome (R = 2.5 mm) as far beyond the exit plane along the exit axis; the
+/// bounds hold them; a flat face adds no lines.
+#[test]
+fn the_outline_draws_shaped_faces_to_scale() {
+    let text = include_str!("../examples/scenarios/panel_indicator_domed_lens.json");
+    let s = Scenario::from_json(text).unwrap();
+    let o = tirtrace::outline::route_outline(&s).unwrap();
+    assert_eq!(o.faces.len(), 2);
+    let sag = |r: f64| r - (r * r - 1.5 * 1.5_f64).sqrt();
+    let entry = &o.faces[0];
+    assert!((entry.height_mm - sag(4.0)).abs() < 1e-12);
+    let lowest = entry
+        .lines
+        .iter()
+        .flatten()
+        .map(|p| p[2])
+        .fold(f64::INFINITY, f64::min);
+    assert!((lowest + sag(4.0)).abs() < 1e-12, "{lowest}");
+    for p in &entry.lines[0] {
+        assert!(p[2].abs() < 1e-12 && ((p[0] * p[0] + p[1] * p[1]).sqrt() - 1.5).abs() < 1e-12);
+    }
+    assert!(o.bounds.min[2] <= lowest);
+    let exit = &o.faces[1];
+    let (origin, z) = (DVec3::from(o.exit.origin), DVec3::from(o.exit.z));
+    let highest = exit
+        .lines
+        .iter()
+        .flatten()
+        .map(|&p| (DVec3::from(p) - origin).dot(z))
+        .fold(f64::NEG_INFINITY, f64::max);
+    assert!((highest - sag(2.5)).abs() < 1e-12, "{highest}");
+    let flat = Scenario::from_json(&text.replace(
+        "\"exit_face\": { \"dome\": { \"radius_mm\": 2.5 } }",
+        "\"exit_face\": \"flat\"",
+    ))
+    .unwrap();
+    assert_eq!(
+        tirtrace::outline::route_outline(&flat).unwrap().faces.len(),
+        1
+    );
+}

@@ -13,6 +13,7 @@
 //! −height edge and rises towards its +height edge.
 
 pub mod cap;
+pub mod outline;
 pub mod rough;
 
 use schemars::JsonSchema;

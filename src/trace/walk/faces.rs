@@ -14,6 +14,7 @@ use glam::DVec3;
 
 use super::{uniform, Ray, Step, Walk};
 use crate::faces::cap::{Boundary, EndCap};
+use crate::faces::outline::entry_face_frame;
 use crate::faces::rough::{self, Crossing};
 use crate::faces::Face;
 use crate::geometry::{Frame, Placed, PlacedRoute};
@@ -36,14 +37,7 @@ pub(crate) struct ShapedFaces {
 impl ShapedFaces {
     /// The faces of `guide` placed along `route`.
     pub fn new(guide: &Guide, route: &PlacedRoute) -> ShapedFaces {
-        // Entry face frame: the global frame turned half a turn about its height axis (y stays,
-        // x and z change sign), so z points back towards the emitter and y is still the height.
-        let entry_frame = Frame {
-            origin: DVec3::ZERO,
-            x: -DVec3::X,
-            y: DVec3::Y,
-            z: -DVec3::Z,
-        };
+        let entry_frame = entry_face_frame();
         ShapedFaces {
             entry: EndCap::new(guide.entry_face, guide.section).map(|c| (entry_frame, c)),
             exit: EndCap::new(guide.exit_face, route.exit_section).map(|c| (route.exit_frame, c)),

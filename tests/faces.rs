@@ -357,7 +357,7 @@ fn face_problems_name_the_field_and_the_allowed_range() {
     );
     assert_eq!(p.len(), 1, "{p:?}");
     assert!(
-        p[0].starts_with("guide.entry_face must be flat, dome or cut"),
+        p[0].starts_with("guide.entry_face must be flat, dome, cut or pocket"),
         "{p:?}"
     );
     // What stands out needs room: a 30° cut rises 2 tan 30° = 1.155 mm towards the LED, a dome
@@ -455,4 +455,134 @@ fn the_outline_draws_shaped_faces_to_scale() {
         tirtrace::outline::route_outline(&flat).unwrap().faces.len(),
         1
     );
+}
+
+/// A point LED (1 µm across) at the centre of a hemispherical pocket (R = 1 mm, as deep as its
+/// radius, the LED on the entry plane) sends every ray along a radius: each meets the pocket's surface square
+/// on and goes on undeviated (Snell's law at normal incidence), and the light reflected there,
+/// which goes back to the centre and out of the mouth, is the normal-incidence Fresnel
+/// reflectance ((n − 1)/(n + 1))² = 0.04 for n = 1.5 (Born and Wolf, *Principles of Optics*,
+/// 7th ed., §1.5.2) within its Monte Carlo 95 % interval.
+#[test]
+fn a_point_led_at_the_centre_of_a_pocket_meets_it_square_on() {
+    let point = json!({"led": {"area": {"disk": {"diameter_mm": 0.001}}, "pattern": "lambertian"}});
+    let p = rod(
+        json!({"pocket": {"radius_mm": 1.0, "depth_mm": 1.0}}),
+        json!("flat"),
+        point,
+        0.0,
+        40_000,
+    );
+    for path in p.trace_batch(0, 300).paths {
+        if path.fate == Fate::ReflectedEntry || path.points.len() < 3 {
+            continue;
+        }
+        let (a, b, c) = (v(path.points[0]), v(path.points[2]), v(path.points[3]));
+        // The LED, 1 µm across, is within 0.5 µm of the centre: radial to 10⁻³.
+        assert!(((b - a).length() - 1.0).abs() < 1e-3, "{:?}", path.points);
+        let (before, after) = ((b - a).normalize(), (c - b).normalize());
+        assert!(
+            (before - after).length() < 1e-3,
+            "deviated: {before:?} → {after:?}"
+        );
+    }
+    let r = p.report(&p.trace_all_serial(0));
+    let reflected = r.budget.reflected_entry;
+    assert!(
+        (reflected.share - 0.04).abs() < reflected.ci95.max(1e-3),
+        "{reflected:?}"
+    );
+}
+
+/// A pocket is a concave surface, air to glass, with its centre of curvature on the air side
+/// (R = −1 mm): a collimated beam is spread as from a virtual focus s′ = n₂R/(n₂ − n₁) = 1.5 ×
+/// (−1)/0.5 = −3 mm, in front of the vertex (Hecht, *Optics*, 5th ed., §5.2.3, eq. (5.8), from
+/// memory). The rays within h ≤ 0.05 mm of the axis, traced back, cross it there within 0.5 %.
+#[test]
+fn a_pocket_spreads_a_collimated_beam_from_the_virtual_focus_of_the_paraxial_formula() {
+    let p = rod(
+        json!({"pocket": {"radius_mm": 1.0, "depth_mm": 0.5}}),
+        json!("flat"),
+        beam(0.1),
+        0.5,
+        4096,
+    );
+    let vertex_z = 0.5;
+    let mut seen = 0;
+    for path in p.trace_batch(0, 400).paths {
+        // Emitter, mouth, pocket surface, then on inside the guide.
+        if path.points.len() < 4 || path.fate == Fate::ReflectedEntry {
+            continue;
+        }
+        let (a, b) = (v(path.points[2]), v(path.points[3]));
+        let h = a.truncate().length();
+        if !(0.01..=0.05).contains(&h) {
+            continue;
+        }
+        let d = b - a;
+        let t = -a.truncate().dot(d.truncate()) / d.truncate().length_squared();
+        let s_image = (a + t * d).z - vertex_z;
+        assert!(
+            (s_image + 3.0).abs() < 0.015,
+            "h = {h}: virtual focus at {s_image}"
+        );
+        seen += 1;
+    }
+    assert!(seen > 100, "{seen} rays");
+}
+
+#[test]
+fn pocket_problems_name_the_field_and_the_allowed_range() {
+    let problems = |face: Value, first: Value| {
+        let doc = json!({"version": 1,
+            "guide": {"section": {"round": {"diameter_mm": 3}}, "material": {"library": "pmma"},
+                      "surroundings": {"library": "air"}, "entry_face": face},
+            "route": [first, {"straight": {"length_mm": 5}}],
+            "source": {"emitter": {"beam": {"diameter_mm": 1, "divergence_half_angle_deg": 0}}, "wavelength_nm": 550}});
+        Scenario::from_json(&doc.to_string())
+            .unwrap()
+            .problems()
+            .into_iter()
+            .map(|p| p.to_string())
+            .collect::<Vec<_>>()
+    };
+    let straight = json!({"straight": {"length_mm": 4}});
+    let p = problems(
+        json!({"pocket": {"radius_mm": 1, "depth_mm": 1.2}}),
+        straight.clone(),
+    );
+    assert_eq!(p.len(), 1, "{p:?}");
+    assert!(
+        p[0].starts_with("guide.entry_face.pocket.depth_mm must be at most 1 mm"),
+        "{p:?}"
+    );
+    // A 2 mm sphere 1 mm deep opens √(1 × 3) = 1.73 mm: 3.46 mm across, wider than the 3 mm rod.
+    let p = problems(
+        json!({"pocket": {"radius_mm": 2, "depth_mm": 1}}),
+        straight.clone(),
+    );
+    assert!(
+        p[0].starts_with(
+            "guide.entry_face.pocket.radius_mm with a depth of 1 mm opens a mouth 3.464"
+        ),
+        "{p:?}"
+    );
+    let p = problems(
+        json!({"pocket": {"radius_mm": 1, "depth_mm": 0.5}}),
+        json!({"bend": {"radius_mm": 5, "angle_deg": 90}}),
+    );
+    assert!(
+        p[0].starts_with("guide.entry_face a pocket needs the route to start with a straight"),
+        "{p:?}"
+    );
+    let p = problems(
+        json!({"pocket": {"radius_mm": 1, "depth_mm": 0.5}}),
+        json!({"straight": {"length_mm": 0.4}}),
+    );
+    assert!(p[0].starts_with("guide.entry_face.pocket.depth_mm must be less than the first straight's length (0.4 mm)"), "{p:?}");
+    assert!(problems(
+        json!({"pocket": {"radius_mm": 1, "depth_mm": 0.5}}),
+        straight
+    )
+    .is_empty());
 }

@@ -15,7 +15,7 @@ use std::collections::BTreeSet;
 use serde_json::{json, Value};
 use tirtrace::faces::{rim_radius_mm, Face};
 use tirtrace::geometry::PlacedRoute;
-use tirtrace::scenario::Scenario;
+use tirtrace::scenario::{Scenario, Segment};
 use tirtrace::trace::{Budget, PrefixMerger, Prepared};
 
 /// The routes of [`random_scenario`]: 1–5 segments of every kind, bends of 5° to 180° from 1.05
@@ -122,6 +122,17 @@ fn with_random_faces(rng: &mut Rng, s: &mut Scenario) {
         _ => Face::Flat,
     };
     s.guide.entry_face = face(rng, s.guide.section, false);
+    // A pocket over the LED when the route starts straight: a mouth within the section, no
+    // deeper than its radius nor the first straight (a² = d (2R − d)).
+    if let (Segment::Straight { length_mm }, true) = (s.route[0], rng.chance(0.3)) {
+        let (hw, hh) = s.guide.section.half_sizes_mm();
+        let a = hw.min(hh) * rng.range(0.2, 0.95);
+        let d = (a * rng.range(0.2, 1.0)).min(0.9 * length_mm);
+        s.guide.entry_face = Face::Pocket {
+            radius_mm: (a * a + d * d) / (2.0 * d),
+            depth_mm: d,
+        };
+    }
     s.guide.exit_face = face(rng, exit_section, true);
     let entry_h = s.guide.entry_face.height_mm(s.guide.section);
     if entry_h > 0.0 {

@@ -94,7 +94,7 @@ impl EndCap {
         let round = matches!(section, Section::Round { .. });
         let half_mm = section.half_sizes_mm();
         let surface = match face {
-            Face::Flat | Face::Textured { .. } => return None,
+            Face::Flat | Face::Textured { .. } | Face::Pocket { .. } => return None,
             Face::Dome { radius_mm } => {
                 let a = rim_radius_mm(section);
                 Surface::Sphere {

@@ -14,6 +14,7 @@
 
 pub mod cap;
 pub mod outline;
+pub mod pocket;
 pub mod rough;
 
 use schemars::JsonSchema;
@@ -21,7 +22,7 @@ use serde::{Deserialize, Serialize};
 
 use crate::error::show;
 use crate::limits::{self, FieldErrors};
-use crate::scenario::{Scenario, Section};
+use crate::scenario::{Scenario, Section, Segment};
 
 /// The shape of one end face of the guide.
 #[derive(Debug, Clone, Copy, Default, PartialEq, Serialize, Deserialize, JsonSchema)]
@@ -42,6 +43,15 @@ pub enum Face {
         /// Angle between the face and the section, degrees.
         #[schemars(transform = crate::schema::within(limits::FACE_CUT_ANGLE_DEG))]
         angle_deg: f64,
+    },
+    /// A concave spherical pocket over the LED (entry face only): the LED sits under its mouth.
+    Pocket {
+        /// Radius of curvature, mm.
+        #[schemars(transform = crate::schema::within(limits::FACE_RADIUS_MM))]
+        radius_mm: f64,
+        /// Depth into the guide from the entry plane, mm: at most the radius.
+        #[schemars(transform = crate::schema::within(limits::FACE_RADIUS_MM))]
+        depth_mm: f64,
     },
     /// A flat, textured (diffusing) face: a rough interface with the microfacet slope
     /// distribution of Walter, Marschner, Li and Torrance (2007), one roughness parameter
@@ -65,11 +75,13 @@ impl Face {
             Face::Flat => "flat",
             Face::Dome { .. } => "dome",
             Face::Cut { .. } => "cut",
+            Face::Pocket { .. } => "pocket",
             Face::Textured { .. } => "textured",
         }
     }
 
-    /// How far the face stands beyond the end plane, mm (0 for a flat or textured face).
+    /// How far the face stands beyond the end plane, mm (0 for a flat, textured or pocketed
+    /// face).
     pub fn height_mm(&self, section: Section) -> f64 {
         match cap::EndCap::new(*self, section) {
             Some(c) => c.height_mm(),
@@ -98,10 +110,19 @@ pub(crate) fn check_faces(s: &Scenario, exit_section: Section, out: &mut FieldEr
     if let Face::Textured { .. } = entry {
         out.push(
             "guide.entry_face",
-            "must be flat, dome or cut (a textured face is for the exit face only)",
+            "must be flat, dome, cut or pocket (a textured face is for the exit face only)",
+        );
+    }
+    if let Face::Pocket { .. } = exit {
+        out.push(
+            "guide.exit_face",
+            "must be flat, dome, cut or textured (a pocket is for the entry face only)",
         );
     }
     let entry_ok = check_face("guide.entry_face", entry, s.guide.section, out);
+    if let (true, Face::Pocket { depth_mm, .. }) = (entry_ok, entry) {
+        check_pocket_room(depth_mm, s.route.first(), out);
+    }
     let exit_ok = check_face("guide.exit_face", exit, exit_section, out);
     if entry_ok && !entry.is_flat() {
         let h = entry.height_mm(s.guide.section);
@@ -155,6 +176,45 @@ fn check_face(path: &str, face: Face, section: Section, out: &mut FieldErrors) -
                 limits::FACE_CUT_ANGLE_DEG,
             )
             .is_some(),
+        Face::Pocket {
+            radius_mm,
+            depth_mm,
+        } => {
+            let Some(r) = out.range(
+                &format!("{path}.pocket.radius_mm"),
+                radius_mm,
+                limits::FACE_RADIUS_MM,
+            ) else {
+                return false;
+            };
+            let depth = limits::FACE_RADIUS_MM
+                .note(" (at most the radius: the pocket is widest at its mouth)");
+            let depth = crate::limits::Range {
+                hi: r,
+                hi_closed: true,
+                ..depth
+            };
+            let Some(d) = out.range(&format!("{path}.pocket.depth_mm"), depth_mm, depth) else {
+                return false;
+            };
+            // The mouth, √(d (2R − d)), inside the section.
+            let (hw, hh) = section.half_sizes_mm();
+            let mouth = pocket::Pocket::new(r, d).mouth_radius_mm();
+            if mouth >= hw.min(hh) {
+                out.push(
+                    format!("{path}.pocket.radius_mm"),
+                    format!(
+                        "with a depth of {} mm opens a mouth {} mm across, which must be less than \
+                         the section's {} mm (a shallower or tighter pocket)",
+                        show(d),
+                        show(2.0 * mouth),
+                        show(2.0 * hw.min(hh))
+                    ),
+                );
+                return false;
+            }
+            true
+        }
         Face::Textured { roughness } => out
             .range(
                 &format!("{path}.textured.roughness"),
@@ -162,5 +222,24 @@ fn check_face(path: &str, face: Face, section: Section, out: &mut FieldErrors) -
                 limits::FACE_ROUGHNESS,
             )
             .is_some(),
+    }
+}
+
+/// A pocket of depth `depth_mm` needs a straight first segment longer than it.
+fn check_pocket_room(depth_mm: f64, first: Option<&Segment>, out: &mut FieldErrors) {
+    match first {
+        Some(Segment::Straight { length_mm }) if *length_mm > depth_mm => {}
+        Some(Segment::Straight { length_mm }) => out.push(
+            "guide.entry_face.pocket.depth_mm",
+            format!(
+                "must be less than the first straight's length ({} mm), got {}",
+                show(*length_mm),
+                show(depth_mm)
+            ),
+        ),
+        _ => out.push(
+            "guide.entry_face",
+            "a pocket needs the route to start with a straight segment longer than its depth",
+        ),
     }
 }

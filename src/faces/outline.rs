@@ -5,6 +5,7 @@ use glam::DVec3;
 use serde::Serialize;
 
 use super::cap::EndCap;
+use super::pocket::Pocket;
 use super::Face;
 use crate::geometry::Frame;
 use crate::scenario::Section;
@@ -24,9 +25,10 @@ pub enum FaceEnd {
 pub struct FaceOutline {
     /// The end it is at.
     pub end: FaceEnd,
-    /// `dome` or `cut`.
+    /// `dome`, `cut` or `pocket`.
     pub kind: &'static str,
-    /// How far it stands beyond the end plane, mm.
+    /// How far it stands beyond the end plane, mm (a pocket's depth into the guide counts
+    /// negative).
     pub height_mm: f64,
     /// Polylines (global points, mm): the face's rim, two curves across it (along the width and
     /// the height axes through the centre), and the continued side wall's edges from the end
@@ -59,6 +61,13 @@ pub fn face_outline(
     section: Section,
     frame: &Frame,
 ) -> Option<FaceOutline> {
+    if let Face::Pocket {
+        radius_mm,
+        depth_mm,
+    } = face
+    {
+        return Some(pocket_outline(end, Pocket::new(radius_mm, depth_mm), frame));
+    }
     let cap = EndCap::new(face, section)?;
     let (hw, hh) = cap.half_mm;
     let on_face = |x: f64, y: f64| {
@@ -119,4 +128,41 @@ pub fn face_outline(
         height_mm: cap.height_mm(),
         lines,
     })
+}
+
+/// A pocket drawn as its mouth on the entry plane and two arcs across it (along the width and
+/// the height axes), into the guide (face frame z = −global z).
+fn pocket_outline(end: FaceEnd, pocket: Pocket, frame: &Frame) -> FaceOutline {
+    let a = pocket.mouth_radius_mm();
+    let r2 = pocket.radius_mm * pocket.radius_mm;
+    let into = |x: f64, y: f64| {
+        let z = pocket.centre.z + (r2 - x * x - y * y).max(0.0).sqrt();
+        frame.point_to_global(DVec3::new(x, y, -z)).to_array()
+    };
+    let mouth = (0..=4 * STEPS)
+        .map(|k| {
+            let phi = 2.0 * core::f64::consts::PI * k as f64 / (4 * STEPS) as f64;
+            frame
+                .point_to_global(DVec3::new(a * libm::cos(phi), a * libm::sin(phi), 0.0))
+                .to_array()
+        })
+        .collect();
+    let arc = |along_x: bool| {
+        (0..=STEPS)
+            .map(|k| {
+                let u = a * (-1.0 + 2.0 * k as f64 / STEPS as f64);
+                if along_x {
+                    into(u, 0.0)
+                } else {
+                    into(0.0, u)
+                }
+            })
+            .collect()
+    };
+    FaceOutline {
+        end,
+        kind: "pocket",
+        height_mm: -pocket.depth_mm,
+        lines: vec![mouth, arc(true), arc(false)],
+    }
 }

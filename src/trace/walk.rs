@@ -144,6 +144,20 @@ impl Prepared {
         loop {
             let placed = &segs[ray.seg];
             let next = placed.next(ray.o, ray.d);
+            if let (0, Some(pocket)) = (ray.seg, &self.faces.pocket) {
+                // The entry face's pocket, when the ray meets it before anything else.
+                if let Some(step) = walk.pocket_from_material(pocket, &mut ray, placed, next.t()) {
+                    interactions += 1;
+                    let step = match step {
+                        Step::Continue if interactions > cap => walk.stop(&mut ray, placed),
+                        step => step,
+                    };
+                    if let Step::End(fate, on_receiver) = step {
+                        return (fate, on_receiver);
+                    }
+                    continue;
+                }
+            }
             let t = match next {
                 Next::Wall { t, .. } | Next::Start { t } | Next::End { t } => t,
             };
@@ -238,6 +252,11 @@ impl Walk<'_> {
         self.trail.push(|| hit);
         if !inside {
             return Err(self.end_outside(p.ledger.missed_entry(), Fate::Missed));
+        }
+        if let Some(pocket) = &p.faces.pocket {
+            if pocket.in_mouth(hit.x, hit.y) {
+                return self.launch_into_pocket(pocket, hit, dir);
+            }
         }
         self.entry_face(hit, dir)
     }

@@ -1,7 +1,7 @@
 // Variant scenarios that reach the parts the examples do not, built on an example scenario:
 // a tabulated, tilted, offset LED; a rectangular bar with a taper, a bend across its height, a
 // clip and a window receiver; a beam through a high-index gel; shaped faces (a domed entry and a
-// cut exit; a cut entry and a textured exit). Used by the wasm-vs-native test
+// cut exit; a pocket over the LED and a domed exit; a cut entry and a textured exit). Used by the wasm-vs-native test
 // and by scripts/same_output.mjs.
 
 /** `[[name, scenario], …]` built on `base` (the thermostat example). */
@@ -33,6 +33,12 @@ export function variantsOf(base) {
       ...base,
       guide: { ...base.guide, entry_face: { dome: { radius_mm: 2.2 } }, exit_face: { cut: { angle_deg: 25 } } },
       source: { ...base.source, gap_mm: 1.2 },
+      receiver: { diameter_mm: 6, distance_mm: 4 },
+    }],
+    ['variant_pocket_entry', {
+      ...base,
+      guide: { ...base.guide, entry_face: { pocket: { radius_mm: 1.2, depth_mm: 0.8 } }, exit_face: { dome: { radius_mm: 3 } } },
+      source: { ...base.source, gap_mm: 0.1 },
       receiver: { diameter_mm: 6, distance_mm: 4 },
     }],
     ['variant_textured_exit', {

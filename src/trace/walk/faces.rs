@@ -15,6 +15,7 @@ use glam::DVec3;
 use super::{uniform, Ray, Step, Walk};
 use crate::faces::cap::{Boundary, EndCap};
 use crate::faces::outline::entry_face_frame;
+use crate::faces::pocket::Pocket;
 use crate::faces::rough::{self, Crossing};
 use crate::faces::Face;
 use crate::geometry::{Frame, Placed, PlacedRoute};
@@ -32,6 +33,8 @@ pub(crate) struct ShapedFaces {
     pub exit: Option<(Frame, EndCap)>,
     /// The textured exit face's roughness α.
     pub exit_roughness: Option<f64>,
+    /// The entry face's pocket over the LED.
+    pub pocket: Option<Pocket>,
 }
 
 impl ShapedFaces {
@@ -43,6 +46,13 @@ impl ShapedFaces {
             exit: EndCap::new(guide.exit_face, route.exit_section).map(|c| (route.exit_frame, c)),
             exit_roughness: match guide.exit_face {
                 Face::Textured { roughness } => Some(roughness),
+                _ => None,
+            },
+            pocket: match guide.entry_face {
+                Face::Pocket {
+                    radius_mm,
+                    depth_mm,
+                } => Some(Pocket::new(radius_mm, depth_mm)),
                 _ => None,
             },
         }
@@ -309,5 +319,115 @@ impl Walk<'_> {
                 Step::End(Fate::Delivered, p.on_receiver(q, od, ray.w))
             }
         }
+    }
+
+    /// A ray from the emitter arriving in the pocket's mouth at global `hit` along `dir`: it
+    /// enters the first segment through the pocket's surface, or leaves back through the mouth
+    /// (reflected at the entry).
+    pub(super) fn launch_into_pocket(
+        &mut self,
+        pocket: &Pocket,
+        hit: DVec3,
+        dir: DVec3,
+    ) -> Result<Ray, Fate> {
+        let p = self.p;
+        match self.walk_pocket(pocket, hit, dir) {
+            Some((at, inward)) => {
+                if let Some(w) = self.watch.as_deref_mut() {
+                    if w.segment == 0 && w.entered.is_none() {
+                        w.entered = Some(1.0);
+                    }
+                }
+                let first = &p.route.segments[0].frame;
+                Ok(Ray {
+                    seg: 0,
+                    o: first.point_to_local(at),
+                    d: first.dir_to_local(inward),
+                    w: 1.0,
+                    unabsorbed_mm: 0.0,
+                })
+            }
+            None => Err(self.end_outside(p.ledger.reflected_entry(), Fate::ReflectedEntry)),
+        }
+    }
+
+    /// A ray in the first segment (`placed`) whose next event is `t_next` away: when it meets
+    /// the pocket's surface first, that event — reflected (totally or by Fresnel) back into the
+    /// guide, or across the pocket and back into the guide or out of its mouth (returned).
+    /// `None` when the pocket is not met first.
+    pub(super) fn pocket_from_material(
+        &mut self,
+        pocket: &Pocket,
+        ray: &mut Ray,
+        placed: &Placed,
+        t_next: f64,
+    ) -> Option<Step> {
+        let g = placed.frame.point_to_global(ray.o);
+        let gd = placed.frame.dir_to_global(ray.d);
+        let t = pocket.hit_from_material(g, gd).filter(|&t| t < t_next)?;
+        ray.unabsorbed_mm += t;
+        let at = g + t * gd;
+        self.trail.push(|| at);
+        let ix = &self.p.indices;
+        let into_pocket = pocket.normal_into_pocket(at);
+        let cos_i = gd.dot(into_pocket).clamp(0.0, 1.0);
+        let across = if uniform(self.rng) < fresnel_reflectance(cos_i, ix.n_core, ix.n_gap) {
+            None
+        } else {
+            refract(gd, -into_pocket, ix.n_core, ix.n_gap)
+        };
+        let Some(across) = across else {
+            ray.o = placed.frame.point_to_local(at);
+            ray.d = placed.frame.dir_to_local(reflect(gd, into_pocket));
+            return Some(Step::Continue);
+        };
+        match self.walk_pocket(pocket, at, across) {
+            Some((back, inward)) => {
+                ray.o = placed.frame.point_to_local(back);
+                ray.d = placed.frame.dir_to_local(inward);
+                Some(Step::Continue)
+            }
+            None => {
+                self.absorb(ray);
+                let ledger = self.p.ledger;
+                self.end_inside(ledger.returned(), ledger.after_returned(), ray.w);
+                Some(Step::End(Fate::Returned, 0.0))
+            }
+        }
+    }
+
+    /// A ray in the pocket (the gap's medium) at global `o` along `d`, followed until it
+    /// refracts into the guide through the pocket's surface (`Some((point, direction))`) or
+    /// leaves through the mouth (`None`); at the surface it is Fresnel-reflected (totally,
+    /// for a gap medium denser than the guide) or refracted. No bulk absorption in the pocket.
+    fn walk_pocket(
+        &mut self,
+        pocket: &Pocket,
+        mut o: DVec3,
+        mut d: DVec3,
+    ) -> Option<(DVec3, DVec3)> {
+        let ix = &self.p.indices;
+        for _ in 0..self.p.scenario.trace.max_interactions {
+            let (t, sphere) = pocket.leave(o, d);
+            o += t * d;
+            self.trail.push(|| o);
+            if !sphere {
+                self.trail.push(|| o + d);
+                return None;
+            }
+            let into_pocket = pocket.normal_into_pocket(o);
+            let cos_i = (-d.dot(into_pocket)).clamp(0.0, 1.0);
+            let inward = if uniform(self.rng) < fresnel_reflectance(cos_i, ix.n_gap, ix.n_core) {
+                None
+            } else {
+                refract(d, into_pocket, ix.n_gap, ix.n_core)
+            };
+            match inward {
+                Some(inward) => return Some((o, inward)),
+                None => d = reflect(d, into_pocket),
+            }
+        }
+        // Still in the pocket after the interaction cap: counted as leaving it.
+        None
     }
 }

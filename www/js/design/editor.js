@@ -522,6 +522,7 @@ export class Editor {
       : [section.rectangular.width_mm / 2, section.rectangular.height_mm / 2];
     const rim = section.round ? hw : Math.hypot(hw, hh);
     const options = [['flat', 'Flat'], ['dome', end === 'entry' ? 'Domed: a lens over the LED' : 'Domed: a lens'], ['cut', 'Cut at an angle']];
+    if (end === 'entry') options.push(['pocket', 'Pocket over the LED (concave)']);
     if (end === 'exit') options.push(['textured', 'Textured: diffusing']);
     const label = end === 'entry' ? 'Entry face (towards the LED)' : 'Exit face';
     const select = this.choice(path, label, options, kind, (v) => {
@@ -529,6 +530,11 @@ export class Editor {
       // Starting values only: a dome half as wide again as the section, a 20° cut, a light texture.
       else if (v === 'dome') g[key] = { dome: { radius_mm: Number((1.5 * rim).toPrecision(2)) } };
       else if (v === 'cut') g[key] = { cut: { angle_deg: 20 } };
+      // A pocket as deep as its radius, its mouth two thirds of the section's smaller size.
+      else if (v === 'pocket') {
+        const r = Number((Math.min(hw, hh) * 2 / 3).toPrecision(2));
+        g[key] = { pocket: { radius_mm: r, depth_mm: r } };
+      }
       else g[key] = { textured: { roughness: 0.3 } };
     });
     select.classList.add('face-choice');
@@ -540,6 +546,11 @@ export class Editor {
     } else if (kind === 'cut') {
       fields.push(this.num(`${path}.cut.angle_deg`, end === 'entry' ? 'Entry cut angle to the section' : 'Exit cut angle to the section', '°',
         { hint: "From the pipe's lower edge (along its height) rising towards the upper one; more than 0° and at most 60°." }));
+    } else if (kind === 'pocket') {
+      fields.push(h('div', { class: 'pair' },
+        this.num(`${path}.pocket.radius_mm`, 'Pocket radius of curvature', 'mm'),
+        this.num(`${path}.pocket.depth_mm`, 'Pocket depth', 'mm')));
+      fields.push(h('p', { class: 'hint', text: "The LED sits under the pocket's mouth. The depth is at most the radius and less than the first straight's length; the mouth stays inside the section." }));
     } else if (kind === 'textured') {
       fields.push(this.num(`${path}.textured.roughness`, 'Exit face roughness', '',
         { hint: 'Spread of the surface\'s facet slopes (microfacet model): 0.01 is all but polished, 1 diffuses strongly.' }));

@@ -12,6 +12,8 @@ const SHAPES = {
   dome: { body: 'M4 6 L40 6 Q54 18 40 30 L4 30 Z', walls: 'M4 6 L40 6 M4 30 L40 30', face: 'M40 6 Q54 18 40 30' },
   // The cut rises from the lower (−height) edge towards the upper one.
   cut: { body: 'M4 6 L52 6 L40 30 L4 30 Z', walls: 'M4 6 L52 6 M4 30 L40 30', face: 'M40 30 L52 6' },
+  // A pocket (entry only): the end scooped out, concave towards the LED.
+  pocket: { body: 'M4 6 L40 6 L40 10 Q30 18 40 26 L40 30 L4 30 Z', walls: 'M4 6 L40 6 M4 30 L40 30', face: 'M40 6 L40 10 Q30 18 40 26 L40 30' },
   textured: {
     body: 'M4 6 L40 6 L40 30 L4 30 Z',
     walls: 'M4 6 L40 6 M4 30 L40 30',

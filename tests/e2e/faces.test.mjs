@@ -1,7 +1,7 @@
 // Shaped end faces on the design page, in Chromium: the entry and exit face choices with their
 // pictures and numbers, as the example with a domed lens at each end holds them; a cut angle out
-// of range gets its message under the field, in the form's words; the page's answer for a cut
-// and for a textured exit face is the CLI's, bit for bit. Screenshots of the pipe's part of the
+// of range and a pocket deeper than its radius get their messages under the field, in the form's
+// words; the page's answer for a cut, a pocket and a textured exit face is the CLI's, bit for bit. Screenshots of the pipe's part of the
 // form and of the 3D view at 1280×800 and 820×1180 go to tests/e2e/out/ (git-ignored).
 //
 // Before: cargo build; bash scripts/build.sh; npm ci --prefix tests/e2e.
@@ -65,6 +65,24 @@ for (const viewport of [{ width: 1280, height: 800 }, { width: 820, height: 1180
         await angle.press('Tab');
       });
       await assertMatchesCli(page, 'a 30° cut');
+    });
+
+    test('a pocket over the LED: its two numbers, a depth beyond the radius named, then the CLI\'s answer', async () => {
+      const { page } = opened;
+      await openKept(page, small(PANEL));
+      await tracedAfter(page, () => page.locator('select[data-path="guide.entry_face"]').selectOption('pocket'));
+      const radius = page.locator('[data-path="guide.entry_face.pocket.radius_mm"]');
+      const depth = page.locator('[data-path="guide.entry_face.pocket.depth_mm"]');
+      assert.equal(await radius.inputValue(), '1');
+      assert.equal(await depth.inputValue(), '1');
+      await assertMatchesCli(page, 'a pocket');
+      await depth.fill('1.5');
+      await depth.press('Tab');
+      const msg = page.locator('.field-msg[data-for="guide.entry_face.pocket.depth_mm"]');
+      await msg.waitFor({ state: 'visible' });
+      assert.match(await msg.textContent(), /^Pocket depth must be at most 1 mm/);
+      await depth.scrollIntoViewIfNeeded();
+      await page.screenshot({ path: join(OUT, `faces-pocket-${viewport.width}.png`) });
     });
 
     test('a textured exit face traces as the CLI', async () => {

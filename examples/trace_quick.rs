@@ -22,6 +22,8 @@ fn soil_sensor_window() -> Scenario {
             attenuation_db_per_m: 20.0,
             contacts: Vec::new(),
             exit_medium: None,
+            entry_face: Default::default(),
+            exit_face: Default::default(),
         },
         route: vec![
             Segment::Straight { length_mm: 8.0 },

@@ -14,6 +14,7 @@ pub mod check;
 pub mod corner_check;
 pub mod error;
 pub mod export;
+pub mod faces;
 pub mod fan;
 pub mod geometry;
 pub mod guide;

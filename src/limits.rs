@@ -370,6 +370,19 @@ pub const CORNER_ANGLE_DEG: Range = Range::closed(15.0, 165.0).unit("°");
 pub const CORNER_REFLECTANCE: Range = Range::closed(0.0, 1.0);
 
 /// Most segments a route may have (at least one). Memory and time: the route is placed, checked
+/// A shaped face's radius of curvature, mm (its lower end, more than half the section's size
+/// across its corners, is checked with the section). Sanity: far beyond any light guide.
+pub const FACE_RADIUS_MM: Range = Range::open_closed(MIN_SIZE_MM, 100_000.0).unit(" mm");
+
+/// The angle of a cut end face to the section, degrees. Geometry: 0 is a flat face; beyond 60°
+/// the cut runs out longer than 3.5 times the section's height (use a bend to turn the light).
+pub const FACE_CUT_ANGLE_DEG: Range = Range::open_closed(0.0, 60.0).unit("°");
+
+/// The roughness α of a textured face (GGX facet distribution). Physics: below 0.01 the face is
+/// all but polished (use a flat face); at 1 the facets' slopes are spread as widely as the model
+/// is used for.
+pub const FACE_ROUGHNESS: Range = Range::closed(0.01, 1.0);
+
 /// and drawn segment by segment; 64 is far more than any light pipe needs.
 pub const MAX_SEGMENTS: usize = 64;
 

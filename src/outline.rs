@@ -17,6 +17,7 @@ use glam::DVec3;
 use serde::Serialize;
 
 use crate::error::FieldError;
+use crate::faces::outline::{entry_face_frame, face_outline, FaceEnd, FaceOutline};
 use crate::geometry::bend::rot_z;
 use crate::geometry::{Bend, Corner, Frame, Placed, PlacedRoute, Shape};
 use crate::scenario::{Emitter, EmitterArea, Scenario, SegmentKind};
@@ -134,6 +135,9 @@ pub struct RouteOutline {
     pub source_round: bool,
     /// The receiver, when the scenario has one.
     pub receiver: Option<ReceiverOutline>,
+    /// The domed or cut end faces, drawn as lines (none for flat or textured faces).
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub faces: Vec<FaceOutline>,
     /// A box around the sampled guide (every sample's section), the emitter and the receiver.
     pub bounds: Bounds,
 }
@@ -367,6 +371,34 @@ pub fn outline_of(scenario: &Scenario, route: &PlacedRoute) -> RouteOutline {
             );
         }
     }
+    let faces: Vec<FaceOutline> = [
+        (
+            FaceEnd::Entry,
+            scenario.guide.entry_face,
+            scenario.guide.section,
+            entry_face_frame(),
+        ),
+        (
+            FaceEnd::Exit,
+            scenario.guide.exit_face,
+            route.exit_section,
+            *ef,
+        ),
+    ]
+    .into_iter()
+    .filter_map(|(end, face, section, frame)| face_outline(end, face, section, &frame))
+    .collect();
+    for p in faces.iter().flat_map(|f| f.lines.iter().flatten()) {
+        include_patch(
+            &mut bounds,
+            DVec3::from(*p),
+            DVec3::X,
+            DVec3::Y,
+            0.0,
+            0.0,
+            true,
+        );
+    }
     // The emitter, as a disk square to its axis that holds it (a square's corners included).
     let (e1, e2) = source_axis.any_orthonormal_pair();
     let reach = if source_round {
@@ -402,6 +434,7 @@ pub fn outline_of(scenario: &Scenario, route: &PlacedRoute) -> RouteOutline {
         source_half_size_mm,
         source_round,
         receiver,
+        faces,
         bounds,
     }
 }

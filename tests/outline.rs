@@ -21,7 +21,7 @@ use tirtrace::outline::{
 use tirtrace::scenario::{Scenario, Section, Segment, SegmentKind};
 
 /// Every example scenario (compiled in, so the wasm run checks them too).
-const EXAMPLES: [(&str, &str); 6] = [
+const EXAMPLES: [(&str, &str); 8] = [
     (
         "bench_three_bends.json",
         include_str!("../examples/scenarios/bench_three_bends.json"),
@@ -37,6 +37,14 @@ const EXAMPLES: [(&str, &str); 6] = [
     (
         "clad_plastic_fibre.json",
         include_str!("../examples/scenarios/clad_plastic_fibre.json"),
+    ),
+    (
+        "diffused_status_window.json",
+        include_str!("../examples/scenarios/diffused_status_window.json"),
+    ),
+    (
+        "panel_indicator_domed_lens.json",
+        include_str!("../examples/scenarios/panel_indicator_domed_lens.json"),
     ),
     (
         "soil_sensor_ambient_light_window.json",

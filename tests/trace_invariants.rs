@@ -13,6 +13,8 @@ use common::{random_route, RandomRoute, Rng, RouteDraws};
 use std::collections::BTreeSet;
 
 use serde_json::{json, Value};
+use tirtrace::faces::{rim_radius_mm, Face};
+use tirtrace::geometry::PlacedRoute;
 use tirtrace::scenario::{Scenario, Segment};
 use tirtrace::trace::{Budget, PrefixMerger, Prepared};
 
@@ -94,7 +96,52 @@ fn random_scenario(rng: &mut Rng, rays: u64) -> Scenario {
         },
         "trace": {"rays": rays, "seed": (rng.next() * 1e9) as u64, "max_interactions": 2000}
     });
-    Scenario::from_json(&v.to_string()).unwrap_or_else(|e| panic!("{e}\n{v}"))
+    let mut s = Scenario::from_json(&v.to_string()).unwrap_or_else(|e| panic!("{e}\n{v}"));
+    with_random_faces(rng, &mut s);
+    s
+}
+
+/// Shaped end faces on about two scenarios in three: a dome, a cut or flat at the entry; a
+/// dome, a cut, a textured face or flat at the exit; the source's gap and the receiver moved
+/// clear of what stands out.
+fn with_random_faces(rng: &mut Rng, s: &mut Scenario) {
+    if rng.chance(0.35) {
+        return;
+    }
+    let exit_section = PlacedRoute::new(s.guide.section, &s.route).exit_section;
+    let face = |rng: &mut Rng, section, textured: bool| match (rng.next() * 4.0) as usize {
+        0 => Face::Dome {
+            radius_mm: rim_radius_mm(section) * rng.range(1.02, 5.0),
+        },
+        1 => Face::Cut {
+            angle_deg: rng.range(1.0, 60.0),
+        },
+        2 if textured => Face::Textured {
+            roughness: rng.range(0.01, 1.0),
+        },
+        _ => Face::Flat,
+    };
+    s.guide.entry_face = face(rng, s.guide.section, false);
+    // A pocket over the LED when the route starts straight: a mouth within the section, no
+    // deeper than its radius nor the first straight (a² = d (2R − d)).
+    if let (Segment::Straight { length_mm }, true) = (s.route[0], rng.chance(0.3)) {
+        let (hw, hh) = s.guide.section.half_sizes_mm();
+        let a = hw.min(hh) * rng.range(0.2, 0.95);
+        let d = (a * rng.range(0.2, 1.0)).min(0.9 * length_mm);
+        s.guide.entry_face = Face::Pocket {
+            radius_mm: (a * a + d * d) / (2.0 * d),
+            depth_mm: d,
+        };
+    }
+    s.guide.exit_face = face(rng, exit_section, true);
+    let entry_h = s.guide.entry_face.height_mm(s.guide.section);
+    if entry_h > 0.0 {
+        s.source.gap_mm = s.source.gap_mm.max(entry_h + rng.range(0.01, 1.0));
+    }
+    let exit_h = s.guide.exit_face.height_mm(exit_section);
+    if let Some(r) = s.receiver.as_mut() {
+        r.distance_mm = r.distance_mm.max(exit_h + rng.range(0.01, 1.0));
+    }
 }
 
 #[test]

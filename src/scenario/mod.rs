@@ -14,6 +14,7 @@ use schemars::JsonSchema;
 use serde::{Deserialize, Serialize};
 
 use crate::error::{FieldError, TirError};
+use crate::faces::Face;
 use crate::index::library::MaterialChoice;
 use crate::limits;
 use crate::schema::Items;
@@ -73,6 +74,12 @@ pub struct Guide {
     /// absent.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub exit_medium: Option<MaterialChoice>,
+    /// The shape of the entry face: flat (the default), a dome or a cut.
+    #[serde(default, skip_serializing_if = "Face::is_flat")]
+    pub entry_face: Face,
+    /// The shape of the exit face: flat (the default), a dome, a cut or textured.
+    #[serde(default, skip_serializing_if = "Face::is_flat")]
+    pub exit_face: Face,
 }
 
 /// A guide cross-section.
@@ -563,6 +570,8 @@ impl Scenario {
                 attenuation_db_per_m,
                 contacts: Vec::new(),
                 exit_medium: None,
+                entry_face: Default::default(),
+                exit_face: Default::default(),
             },
             route: vec![Segment::Straight { length_mm: 20.0 }],
             source: Source {

@@ -25,7 +25,8 @@ impl Scenario {
         let mut out = FieldErrors::default();
         out.version(self.version, SCENARIO_VERSION);
         check_guide(&self.guide, &mut out);
-        check_route(self.guide.section, &self.route, &mut out);
+        let exit_section = check_route(self.guide.section, &self.route, &mut out);
+        crate::faces::check_faces(self, exit_section, &mut out);
         for (k, contact) in self.guide.contacts.iter().enumerate() {
             check_contact(k, contact, self.guide.section, &self.route, &mut out);
         }
@@ -101,8 +102,8 @@ fn check_section(section: Section, path: &str) -> Result<(), FieldError> {
     Ok(())
 }
 
-/// The route's segments, following the section through tapers.
-fn check_route(entry: Section, route: &[Segment], out: &mut FieldErrors) {
+/// The route's segments, following the section through tapers; the section at the exit face.
+fn check_route(entry: Section, route: &[Segment], out: &mut FieldErrors) -> Section {
     if route.is_empty() || route.len() > MAX_SEGMENTS {
         out.push(
             "route",
@@ -147,6 +148,7 @@ fn check_route(entry: Section, route: &[Segment], out: &mut FieldErrors) {
             }
         }
     }
+    section
 }
 
 fn check_bend(

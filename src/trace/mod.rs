@@ -149,6 +149,9 @@ pub struct Prepared {
     exit_half: (f64, f64),
     /// The tally columns.
     ledger: Ledger,
+    /// The shaped faces' end caps, each with its face frame ([`crate::faces::cap`]), and the
+    /// textured exit face's roughness: `None` for a flat face.
+    faces: walk::ShapedFaces,
 }
 
 #[derive(Debug, Clone, Copy)]
@@ -232,6 +235,7 @@ impl Prepared {
             entry_round: matches!(scenario.guide.section, Section::Round { .. }),
             exit_half: route.exit_section.half_sizes_mm(),
             ledger,
+            faces: walk::ShapedFaces::new(&scenario.guide, &route),
             route,
             indices,
             scenario: scenario.clone(),

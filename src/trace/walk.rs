@@ -13,6 +13,9 @@ use super::{Batch, Fate, Prepared, ANGLE_BINS, ANGULAR_CELLS, MAP_CELLS, ROUTE_B
 use crate::geometry::{Next, Placed};
 use crate::interface::{fresnel_amplitudes, fresnel_reflectance, reflect, refract};
 
+mod faces;
+pub(super) use faces::ShapedFaces;
+
 /// A uniform number in [0, 1) from the top 53 bits of the generator.
 #[inline]
 fn uniform(rng: &mut Pcg64Mcg) -> f64 {
@@ -141,6 +144,20 @@ impl Prepared {
         loop {
             let placed = &segs[ray.seg];
             let next = placed.next(ray.o, ray.d);
+            if let (0, Some(pocket)) = (ray.seg, &self.faces.pocket) {
+                // The entry face's pocket, when the ray meets it before anything else.
+                if let Some(step) = walk.pocket_from_material(pocket, &mut ray, placed, next.t()) {
+                    interactions += 1;
+                    let step = match step {
+                        Step::Continue if interactions > cap => walk.stop(&mut ray, placed),
+                        step => step,
+                    };
+                    if let Step::End(fate, on_receiver) = step {
+                        return (fate, on_receiver);
+                    }
+                    continue;
+                }
+            }
             let t = match next {
                 Next::Wall { t, .. }
                 | Next::Start { t }
@@ -229,6 +246,9 @@ impl Walk<'_> {
             self.trail.push(|| start + 2.0 * dir);
             return Err(self.end_outside(p.ledger.missed_entry(), Fate::Missed));
         }
+        if p.faces.entry.is_some() {
+            return self.launch_into_cap(start, dir);
+        }
         let t = -start.z / dir.z;
         let hit = start + t * dir;
         let (hw, hh) = p.entry_half;
@@ -240,6 +260,11 @@ impl Walk<'_> {
         self.trail.push(|| hit);
         if !inside {
             return Err(self.end_outside(p.ledger.missed_entry(), Fate::Missed));
+        }
+        if let Some(pocket) = &p.faces.pocket {
+            if pocket.in_mouth(hit.x, hit.y) {
+                return self.launch_into_pocket(pocket, hit, dir);
+            }
         }
         self.entry_face(hit, dir)
     }
@@ -418,6 +443,12 @@ impl Walk<'_> {
     /// back by the one mechanism or the other when it is.
     fn exit_face(&mut self, ray: &mut Ray, placed: &Placed) -> Step {
         let p = self.p;
+        if p.faces.exit.is_some() {
+            return self.enter_exit_cap(ray, placed);
+        }
+        if let Some(alpha) = p.faces.exit_roughness {
+            return self.textured_exit(ray, placed, alpha);
+        }
         let ix = &p.indices;
         let ef = &p.route.exit_frame;
         let g = placed.frame.point_to_global(ray.o);
@@ -475,6 +506,9 @@ impl Walk<'_> {
     /// The entry face met from inside: Fresnel reflection back into the guide, or the ray
     /// leaves into the gap (returned).
     fn entry_face_from_inside(&mut self, ray: &mut Ray, placed: &Placed) -> Step {
+        if self.p.faces.entry.is_some() {
+            return self.enter_entry_cap(ray, placed);
+        }
         let ix = &self.p.indices;
         let g = placed.frame.point_to_global(ray.o);
         let gd = placed.frame.dir_to_global(ray.d);

@@ -1,7 +1,8 @@
 // Variant scenarios that reach the parts the examples do not, built on an example scenario:
 // a tabulated, tilted, offset LED; a rectangular bar with a taper, a bend across its height, a
 // clip and a window receiver; a round pipe with a bare and a coated reflecting corner; a beam
-// through a high-index gel. Used by the wasm-vs-native test
+// through a high-index gel; shaped faces (a domed entry and a
+// cut exit; a pocket over the LED and a domed exit; a cut entry and a textured exit). Used by the wasm-vs-native test
 // and by scripts/same_output.mjs.
 
 /** `[[name, scenario], …]` built on `base` (the thermostat example). */
@@ -35,6 +36,23 @@ export function variantsOf(base) {
       ...base,
       source: { ...base.source, gap_mm: 0.5, gap_medium: { custom: { model: 'constant', n: 1.7 } },
         emitter: { beam: { diameter_mm: 2.5, divergence_half_angle_deg: 35 } } },
+    }],
+    ['variant_shaped_faces', {
+      ...base,
+      guide: { ...base.guide, entry_face: { dome: { radius_mm: 2.2 } }, exit_face: { cut: { angle_deg: 25 } } },
+      source: { ...base.source, gap_mm: 1.2 },
+      receiver: { diameter_mm: 6, distance_mm: 4 },
+    }],
+    ['variant_pocket_entry', {
+      ...base,
+      guide: { ...base.guide, entry_face: { pocket: { radius_mm: 1.2, depth_mm: 0.8 } }, exit_face: { dome: { radius_mm: 3 } } },
+      source: { ...base.source, gap_mm: 0.1 },
+      receiver: { diameter_mm: 6, distance_mm: 4 },
+    }],
+    ['variant_textured_exit', {
+      ...base,
+      guide: { ...base.guide, entry_face: { cut: { angle_deg: 15 } }, exit_face: { textured: { roughness: 0.35 } } },
+      source: { ...base.source, gap_mm: 1.5 },
     }],
   ];
 }

@@ -4,6 +4,7 @@
 
 import { h } from '../dom.js';
 import { parseNumber } from '../numbers.js';
+import { facePicture } from './face-picture.js';
 import { getAt, isLength, setAt, showNumber, toStored } from './scenario.js';
 
 /** “200,000”: a thousands separator or a decimal comma? Refused rather than guessed. */
@@ -502,7 +503,60 @@ export class Editor {
       ...this.material('guide.surroundings', 'Around the pipe'),
       ...this.material('guide.exit_medium', 'Beyond the window (exit face)', { optional: 'The same as around the pipe' }),
       this.num('guide.attenuation_db_per_m', 'Bulk attenuation', 'dB/m', { hint: this.attenuationHint() }),
+      ...this.faceFields('entry'),
+      ...this.faceFields('exit'),
     );
+  }
+
+  /**
+   * The shape of the entry or exit face (`end`): its choice with a small picture, and its number
+   * (a dome's radius, a cut's angle, a textured face's roughness). Flat is the document without it.
+   */
+  faceFields(end) {
+    const g = this.s.guide;
+    const key = `${end}_face`;
+    const path = `guide.${key}`;
+    const kind = variant(g[key] ?? 'flat');
+    const section = end === 'entry' ? g.section : this.lastSection();
+    const [hw, hh] = section.round
+      ? [section.round.diameter_mm / 2, section.round.diameter_mm / 2]
+      : [section.rectangular.width_mm / 2, section.rectangular.height_mm / 2];
+    const rim = section.round ? hw : Math.hypot(hw, hh);
+    const options = [['flat', 'Flat'], ['dome', end === 'entry' ? 'Domed: a lens over the LED' : 'Domed: a lens'], ['cut', 'Cut at an angle']];
+    if (end === 'entry') options.push(['pocket', 'Pocket over the LED (concave)']);
+    if (end === 'exit') options.push(['textured', 'Textured: diffusing']);
+    const label = end === 'entry' ? 'Entry face (towards the LED)' : 'Exit face';
+    const select = this.choice(path, label, options, kind, (v) => {
+      if (v === 'flat') delete g[key];
+      // Starting values only: a dome half as wide again as the section, a 20° cut, a light texture.
+      else if (v === 'dome') g[key] = { dome: { radius_mm: Number((1.5 * rim).toPrecision(2)) } };
+      else if (v === 'cut') g[key] = { cut: { angle_deg: 20 } };
+      // A pocket as deep as its radius, its mouth two thirds of the section's smaller size.
+      else if (v === 'pocket') {
+        const r = Number((Math.min(hw, hh) * 2 / 3).toPrecision(2));
+        g[key] = { pocket: { radius_mm: r, depth_mm: r } };
+      }
+      else g[key] = { textured: { roughness: 0.3 } };
+    });
+    select.classList.add('face-choice');
+    select.querySelector('label').after(facePicture(kind, end));
+    const fields = [select];
+    if (kind === 'dome') {
+      fields.push(this.num(`${path}.dome.radius_mm`, end === 'entry' ? 'Entry dome radius of curvature' : 'Exit dome radius of curvature', 'mm',
+        { hint: "More than half the pipe's size across its corners; the dome meets the side wall on the end's rim." }));
+    } else if (kind === 'cut') {
+      fields.push(this.num(`${path}.cut.angle_deg`, end === 'entry' ? 'Entry cut angle to the section' : 'Exit cut angle to the section', '°',
+        { hint: "From the pipe's lower edge (along its height) rising towards the upper one; more than 0° and at most 60°." }));
+    } else if (kind === 'pocket') {
+      fields.push(h('div', { class: 'pair' },
+        this.num(`${path}.pocket.radius_mm`, 'Pocket radius of curvature', 'mm'),
+        this.num(`${path}.pocket.depth_mm`, 'Pocket depth', 'mm')));
+      fields.push(h('p', { class: 'hint', text: "The LED sits under the pocket's mouth. The depth is at most the radius and less than the first straight's length; the mouth stays inside the section." }));
+    } else if (kind === 'textured') {
+      fields.push(this.num(`${path}.textured.roughness`, 'Exit face roughness', '',
+        { hint: 'Spread of the surface\'s facet slopes (microfacet model): 0.01 is all but polished, 1 diffuses strongly.' }));
+    }
+    return fields;
   }
 
   /** The library entry of a material choice ({ library: id }), or undefined. */

@@ -142,6 +142,7 @@ export class RouteView {
       hi = [Math.max(hi[0], u + r), Math.max(hi[1], v + r)];
     };
     for (const seg of o.segments) for (const pt of seg.points) add(pt.centre, Math.max(pt.half_width_mm, pt.half_height_mm));
+    for (const face of o.faces || []) for (const line of face.lines) for (const p of line) add(p);
     if (o.source_mm) add(o.source_mm);
     return [lo, hi];
   }
@@ -518,6 +519,22 @@ export class RouteView {
       g.strokeStyle = '#7950f2';
       g.stroke();
     }
+    // Domed and cut faces (the core's outline, to scale): lines on the face and the side wall
+    // carried on up to it.
+    for (const face of o.faces || []) {
+      g.strokeStyle = face.end === 'entry' ? '#12525a' : '#1864ab';
+      g.lineWidth = 1.2;
+      for (const line of face.lines) {
+        g.beginPath();
+        line.forEach((p, k) => {
+          const [sx, sy] = this.toScreen(p);
+          if (k === 0) g.moveTo(sx, sy);
+          else g.lineTo(sx, sy);
+        });
+        g.stroke();
+      }
+    }
+    g.lineWidth = 1.5;
     if (o.source_mm) {
       const [sx, sy] = this.toScreen(o.source_mm);
       g.fillStyle = '#f08c00';

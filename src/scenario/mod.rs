@@ -18,8 +18,11 @@ use crate::index::library::MaterialChoice;
 use crate::limits;
 use crate::schema::Items;
 
+mod coating;
 pub mod table;
 mod validate;
+
+pub use coating::{Coating, CoatingKind};
 
 pub use crate::limits::{MAX_SEGMENTS, MAX_WHOLE};
 
@@ -69,6 +72,9 @@ pub struct Guide {
     /// Mounts, clips or glue spots touching the guide.
     #[serde(default, skip_serializing_if = "Vec::is_empty")]
     pub contacts: Vec<Contact>,
+    /// Coated zones of the side wall (white paint, metal, black).
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub coatings: Vec<Coating>,
     /// Medium beyond the exit face (a window or lens bonded to it, say); the surroundings when
     /// absent.
     #[serde(default, skip_serializing_if = "Option::is_none")]
@@ -510,6 +516,7 @@ impl Scenario {
                 surroundings: MaterialChoice::library("air"),
                 attenuation_db_per_m,
                 contacts: Vec::new(),
+                coatings: Vec::new(),
                 exit_medium: None,
             },
             route: vec![Segment::Straight { length_mm: 20.0 }],

@@ -29,6 +29,9 @@ impl Scenario {
         for (k, contact) in self.guide.contacts.iter().enumerate() {
             check_contact(k, contact, &self.route, &mut out);
         }
+        for (k, coating) in self.guide.coatings.iter().enumerate() {
+            super::coating::check_coating(k, coating, &self.route, &mut out);
+        }
         let wavelength_nm = check_source(&self.source, &mut out);
         if let Some(receiver) = &self.receiver {
             check_receiver(receiver, &mut out);
@@ -197,17 +200,54 @@ fn check_taper_end(
     Some(end_section)
 }
 
-/// A contact zone (a mount): on a segment, within its length, on a sector of the perimeter. A
-/// mount that no longer fits its segment (the segment was shortened, or the mount moved) is
-/// told as such — where it starts or ends against where the segment ends — never as a range
-/// whose ends cross.
+/// A contact zone (a mount): on a segment, within its length, on a sector of the perimeter.
 fn check_contact(k: usize, c: &Contact, route: &[Segment], out: &mut FieldErrors) {
-    let path = format!("guide.contacts[{k}]");
     let mount = if c.name.trim().is_empty() {
         format!("Mount {}", k + 1)
     } else {
         format!("The mount “{}”", c.name.trim())
     };
+    let place = ZonePlace {
+        segment: c.segment,
+        from_mm: c.from_mm,
+        to_mm: c.to_mm,
+        sector_from_deg: c.sector_from_deg,
+        sector_to_deg: c.sector_to_deg,
+    };
+    let path = format!("guide.contacts[{k}]");
+    check_zone_place(
+        &path,
+        &mount,
+        " (where the mount starts)",
+        &place,
+        route,
+        out,
+    );
+}
+
+/// Where a zone of the wall (a mount or a coating) sits: a segment, from/to along it, a sector.
+pub(super) struct ZonePlace {
+    pub segment: usize,
+    pub from_mm: f64,
+    pub to_mm: f64,
+    pub sector_from_deg: f64,
+    pub sector_to_deg: f64,
+}
+
+/// A zone of the wall at `path`, called `label` in messages (`The mount “clip”`): on a
+/// segment, within its length, on a sector of the perimeter; `starts` notes the start in the
+/// end's range (` (where the mount starts)`). A zone that no longer fits its segment (the
+/// segment was shortened, or the zone moved) is told as such — where it starts or ends against
+/// where the segment ends — never as a range whose ends cross.
+pub(super) fn check_zone_place(
+    path: &str,
+    label: &str,
+    starts: &'static str,
+    c: &ZonePlace,
+    route: &[Segment],
+    out: &mut FieldErrors,
+) {
+    let mount = label;
     match route.get(c.segment) {
         None => out.push(
             format!("{path}.segment"),
@@ -245,7 +285,7 @@ fn check_contact(k: usize, c: &Contact, route: &[Segment], out: &mut FieldErrors
             } else if from_ok {
                 let after_start = Range::open_closed(c.from_mm, f64::INFINITY)
                     .unit(" mm")
-                    .note(" (where the mount starts)");
+                    .note(starts);
                 out.range(&format!("{path}.to_mm"), c.to_mm, after_start);
             } else {
                 let to = Range::open_closed(0.0, f64::INFINITY).unit(" mm");

@@ -1,6 +1,7 @@
 // Variant scenarios that reach the parts the examples do not, built on an example scenario:
 // a tabulated, tilted, offset LED; a rectangular bar with a taper, a bend across its height, a
-// clip and a window receiver; a beam through a high-index gel. Used by the wasm-vs-native test
+// clip and a window receiver; a beam through a high-index gel; coatings of every kind (white
+// paint, metal, black) on a bend and a straight. Used by the wasm-vs-native test
 // and by scripts/same_output.mjs.
 
 /** `[[name, scenario], …]` built on `base` (the thermostat example). */
@@ -22,6 +23,15 @@ export function variantsOf(base) {
         { taper: { length_mm: 8, end_section: { rectangular: { width_mm: 3, height_mm: 1.5 } } } },
         { bend: { radius_mm: 6, angle_deg: 75, turn_deg: 90 } }, { straight: { length_mm: 5 } }],
       receiver: { width_mm: 5, height_mm: 3, distance_mm: 2 },
+    }],
+    ['variant_coatings', {
+      ...base,
+      guide: { ...base.guide, coatings: [
+        { name: 'white back', kind: { white_paint: { reflectance: 0.85 } }, segment: 1, from_mm: 2,
+          to_mm: 12, sector_from_deg: 140, sector_to_deg: 220 },
+        { name: 'mirror', kind: { metal: { reflectance: 0.92 } }, segment: 3, from_mm: 0, to_mm: 11.7,
+          sector_from_deg: 0, sector_to_deg: 90 },
+        { name: 'mask', kind: 'black', segment: 2, from_mm: 8, to_mm: 10 }] },
     }],
     ['variant_gel_beam', {
       ...base,

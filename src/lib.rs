@@ -11,6 +11,7 @@
 
 pub mod chart;
 pub mod check;
+pub mod coating_outline;
 pub mod error;
 pub mod export;
 pub mod fan;

@@ -134,6 +134,9 @@ pub struct RouteOutline {
     pub source_round: bool,
     /// The receiver, when the scenario has one.
     pub receiver: Option<ReceiverOutline>,
+    /// The coated zones of the wall (left out when there are none).
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub coatings: Vec<crate::coating_outline::CoatingOutline>,
     /// A box around the sampled guide (every sample's section), the emitter and the receiver.
     pub bounds: Bounds,
 }
@@ -337,6 +340,7 @@ pub fn outline_of(scenario: &Scenario, route: &PlacedRoute) -> RouteOutline {
         source_half_size_mm,
         source_round,
         receiver,
+        coatings: crate::coating_outline::coating_outlines(scenario, route),
         bounds,
     }
 }

@@ -204,3 +204,77 @@ fn bad_coatings_are_told_by_field_with_the_allowed_range() {
         "{e}"
     );
 }
+
+#[test]
+fn drawn_coatings_lie_on_the_wall_where_the_tracer_puts_them() {
+    // Every drawn point of a coating (the outline the page draws) is on the wall of its segment
+    // (within 1 nm) and inside the zone as the tracer tests it: along the centre line within
+    // from/to, at an azimuth within the sector (360° read as 0 on the wall). Round and
+    // rectangular sections, straights, tapers and bends turning either way.
+    use tirtrace::geometry::PlacedRoute;
+    use tirtrace::outline::route_outline;
+    let coatings = json!([
+        { "kind": "black", "segment": 0, "from_mm": 1, "to_mm": 4, "sector_from_deg": 30, "sector_to_deg": 200 },
+        { "kind": { "metal": { "reflectance": 0.9 } }, "segment": 1, "from_mm": 0.5, "to_mm": 9,
+          "sector_from_deg": 120, "sector_to_deg": 240 },
+        { "kind": { "white_paint": { "reflectance": 0.8 } }, "segment": 2, "from_mm": 0, "to_mm": 6 },
+        { "kind": "black", "segment": 3, "from_mm": 2, "to_mm": 5, "sector_from_deg": 300, "sector_to_deg": 360 }
+    ]);
+    for (section, end) in [
+        (
+            json!({ "round": { "diameter_mm": 3 } }),
+            json!({ "round": { "diameter_mm": 2 } }),
+        ),
+        (
+            json!({ "rectangular": { "width_mm": 4, "height_mm": 2 } }),
+            json!({ "rectangular": { "width_mm": 3, "height_mm": 1.5 } }),
+        ),
+    ] {
+        for turn in [0, 90] {
+            let v = json!({
+                "version": 1,
+                "guide": { "section": section, "material": { "library": "pmma" },
+                           "surroundings": { "library": "air" }, "coatings": coatings },
+                "route": [ { "straight": { "length_mm": 5 } },
+                           { "bend": { "radius_mm": 8, "angle_deg": 70, "turn_deg": turn } },
+                           { "taper": { "length_mm": 6, "end_section": end } },
+                           { "bend": { "radius_mm": 6, "angle_deg": 80, "turn_deg": turn + 180 } } ],
+                "source": { "emitter": { "beam": { "diameter_mm": 1, "divergence_half_angle_deg": 5 } },
+                            "wavelength_nm": 550, "gap_mm": 0.2 }
+            });
+            let s = Scenario::from_json(&v.to_string()).unwrap_or_else(|e| panic!("{e}"));
+            let outline = route_outline(&s).unwrap();
+            let route = PlacedRoute::new(s.guide.section, &s.route);
+            assert_eq!(outline.coatings.len(), 4);
+            for (drawn, c) in outline.coatings.iter().zip(&s.guide.coatings) {
+                let placed = &route.segments[c.segment];
+                assert!(drawn.rings.len() >= 2 && drawn.rings.iter().all(|r| r.len() >= 2));
+                for p in drawn.rings.iter().flatten() {
+                    let local = placed.frame.point_to_local(DVec3::from(*p));
+                    let case = format!("{section} turn {turn}, coating {}: {p:?}", drawn.index);
+                    assert!(
+                        placed.outside_mm(local).abs() < 1e-6,
+                        "{case}: off the wall"
+                    );
+                    let along = placed.along_mm(local);
+                    assert!(
+                        along > c.from_mm - 1e-9 && along < c.to_mm + 1e-9,
+                        "{case}: {along} mm along"
+                    );
+                    let az = placed.azimuth_deg(local);
+                    let az = if az > 359.999_999 { az - 360.0 } else { az };
+                    let to = if c.sector_to_deg >= 360.0 {
+                        360.0
+                    } else {
+                        c.sector_to_deg
+                    };
+                    assert!(
+                        (az > c.sector_from_deg - 1e-6 && az < to + 1e-6)
+                            || (c.sector_to_deg >= 360.0 && az < 1e-6),
+                        "{case}: at {az}°"
+                    );
+                }
+            }
+        }
+    }
+}

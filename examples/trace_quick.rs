@@ -21,6 +21,7 @@ fn soil_sensor_window() -> Scenario {
             surroundings: MaterialChoice::library("water"),
             attenuation_db_per_m: 20.0,
             contacts: Vec::new(),
+            coatings: Vec::new(),
             exit_medium: None,
             entry_face: Default::default(),
             exit_face: Default::default(),

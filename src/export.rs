@@ -1,5 +1,5 @@
-//! Trace reports out and back in: the CSV form of the energy budget and the per-segment and
-//! per-contact tables (what `tirtrace trace --csv` prints and the page offers for download), and
+//! Trace reports out and back in: the CSV form of the energy budget and the per-segment,
+//! per-contact and (when there are any) per-coating tables (what `tirtrace trace --csv` prints and the page offers for download), and
 //! the helpers that let [`TraceReport`] be read back from its JSON or JS form.
 //!
 //! No physics here: numbers are written in the shortest form that reads back exactly.
@@ -28,7 +28,7 @@ pub(crate) fn csv_text(s: &str) -> String {
 
 /// The budget's rows of the CSV in order: the report's key and the row's words —
 /// [`Budget::MECHANISMS`] itself, named here beside the CSV that prints it.
-pub const MECHANISMS: [(&str, &str); 8] = Budget::MECHANISMS;
+pub const MECHANISMS: [(&str, &str); 9] = Budget::MECHANISMS;
 
 /// A share as a percentage for the CSV, to 10⁻⁹ % (far below any interval), so that 100 × 0.0637
 /// reads 6.37, not 6.369999999999999.
@@ -159,6 +159,21 @@ pub fn report_csv(report: &TraceReport, design_name: &str) -> String {
             percent(c.lost.ci95)
         );
     }
+    if !report.coatings.is_empty() {
+        s += "\ncoating,kind,on segment,reaches %,± %,absorbed %,± %\n";
+        for c in &report.coatings {
+            s += &format!(
+                "{},{},{},{},{},{},{}\n",
+                csv_text(&c.name),
+                csv_text(&c.kind),
+                c.segment + 1,
+                percent(c.reached.share),
+                percent(c.reached.ci95),
+                percent(c.lost.share),
+                percent(c.lost.ci95)
+            );
+        }
+    }
     s + &turn_back_csv(report)
 }
 
@@ -198,14 +213,19 @@ fn turn_back_csv(report: &TraceReport) -> String {
     }
     let e = &t.ended;
     s += "\n\"Where the turned-back light ended (already counted above)\",% of emitted,± %\n";
-    for (words, share) in [
+    let mut ended = vec![
         ("Through the window on a later pass", &e.delivered_later),
         ("Comes back out of the entry face", &e.returned),
         ("Leaks out of the side walls", &e.leaked),
         ("Lost into mounts touching the pipe", &e.contact),
         ("Absorbed in the material", &e.absorbed),
         ("Stopped by the wall-hit limit", &e.stopped),
-    ] {
+    ];
+    // The coatings' row only for a scenario with coatings (none absorb anything otherwise).
+    if !report.coatings.is_empty() {
+        ended.insert(4, ("Absorbed by coatings on the wall", &e.coating));
+    }
+    for (words, share) in ended {
         s += &format!(
             "{},{},{}\n",
             csv_text(words),

@@ -11,6 +11,7 @@
 
 pub mod chart;
 pub mod check;
+pub mod coating_outline;
 pub mod corner_check;
 pub mod error;
 pub mod export;

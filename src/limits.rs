@@ -398,6 +398,10 @@ pub const SECTOR_END_DEG: Range = Range::closed(0.0, 360.0)
     .unit("°")
     .note(" (where the sector starts)");
 
+/// Reflectance of a wall coating (white paint's diffuse ρ, metal's specular R): a share of
+/// the light, 0 to 1.
+pub const COATING_REFLECTANCE: Range = Range::closed(0.0, 1.0);
+
 // --- Source and receiver -------------------------------------------------------------------
 
 /// Size of an emitter (LED disk diameter or square side, beam diameter), mm. Sanity: a metre.

@@ -138,6 +138,9 @@ pub struct RouteOutline {
     /// The domed or cut end faces, drawn as lines (none for flat or textured faces).
     #[serde(skip_serializing_if = "Vec::is_empty")]
     pub faces: Vec<FaceOutline>,
+    /// The coated zones of the wall (left out when there are none).
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub coatings: Vec<crate::coating_outline::CoatingOutline>,
     /// A box around the sampled guide (every sample's section), the emitter and the receiver.
     pub bounds: Bounds,
 }
@@ -435,6 +438,7 @@ pub fn outline_of(scenario: &Scenario, route: &PlacedRoute) -> RouteOutline {
         source_round,
         receiver,
         faces,
+        coatings: crate::coating_outline::coating_outlines(scenario, route),
         bounds,
     }
 }

@@ -18,6 +18,7 @@ const THERMOSTAT: &str = "examples/scenarios/thermostat_status_led.json";
 const BIKE: &str = "examples/scenarios/bike_light_charge_indicator.json";
 const SOIL: &str = "examples/scenarios/soil_sensor_ambient_light_window.json";
 const FIBRE: &str = "examples/scenarios/clad_plastic_fibre.json";
+const MIRRORED_BEND: &str = "examples/scenarios/right_angle_pipe_mirrored_bend.json";
 
 /// Run the binary; (success, exit code, stdout, stderr).
 fn tirtrace(args: &[&str], stdin: &str) -> (bool, Option<i32>, String, String) {
@@ -361,7 +362,7 @@ fn csv_rows_parse_and_the_budget_sums_to_one() {
         // The budget in the page's words and in %, with the flux when the source's is given.
         let budget = &secs[1];
         assert_eq!(budget[0][..3], ["What becomes of the light", "%", "± %"]);
-        assert_eq!(budget.len(), 1 + 8);
+        assert_eq!(budget.len(), 1 + tirtrace::export::MECHANISMS.len());
         let mut sum = 0.0;
         for (row, (key, words)) in budget[1..].iter().zip(tirtrace::export::MECHANISMS) {
             assert_eq!(row.len(), if absolute { 5 } else { 3 }, "{row:?}");
@@ -1096,4 +1097,50 @@ fn check_gives_each_corner_its_verdict() {
         err.contains("route[1].corner.angle_deg must be at most 165°, got 170"),
         "{err}"
     );
+}
+
+#[test]
+fn csv_lists_the_coatings_as_the_json_report_does() {
+    // The coated-bend example: its coating table (after the mounts) names each coating, its
+    // kind and segment (from 1), and what reaches it and what it absorbs, in %, as the JSON
+    // report; the budget's share of coatings is theirs.
+    let args = ["trace", MIRRORED_BEND, "--rays", "5000"];
+    let csv = ok_stdout(&[&args[..], &["--csv"]].concat(), "");
+    let json: Value = serde_json::from_str(&ok_stdout(&args, "")).unwrap();
+    let scenario = read_scenario(MIRRORED_BEND);
+    let secs = csv_sections(&csv);
+    let table = secs
+        .iter()
+        .find(|s| s[0][0] == "coating")
+        .unwrap_or_else(|| panic!("no coating table: {csv}"));
+    assert_eq!(
+        table[0],
+        [
+            "coating",
+            "kind",
+            "on segment",
+            "reaches %",
+            "± %",
+            "absorbed %",
+            "± %"
+        ]
+    );
+    assert_eq!(table.len(), 1 + scenario.guide.coatings.len());
+    let percent = |v: &Value| tirtrace::export::percent(f(v)).to_string();
+    let mut lost = 0.0;
+    for (k, (row, c)) in table[1..].iter().zip(&scenario.guide.coatings).enumerate() {
+        let r = &json["coatings"][k];
+        assert_eq!(row[0], c.name);
+        assert_eq!(row[1], c.kind.words());
+        assert_eq!(row[2], (c.segment + 1).to_string());
+        assert_eq!(row[3], percent(&r["reached"]["share"]));
+        assert_eq!(row[5], percent(&r["lost"]["share"]));
+        lost += f(&r["lost"]["share"]);
+    }
+    assert!(lost > 0.0);
+    assert!((lost - f(&json["budget"]["coating"]["share"])).abs() < 1e-12);
+    let budget = &secs[1];
+    assert!(budget
+        .iter()
+        .any(|row| row[0] == "Absorbed by coatings on the wall"));
 }

@@ -21,7 +21,7 @@ use tirtrace::outline::{
 use tirtrace::scenario::{Scenario, Section, Segment, SegmentKind};
 
 /// Every example scenario (compiled in, so the wasm run checks them too).
-const EXAMPLES: [(&str, &str); 8] = [
+const EXAMPLES: [(&str, &str); 9] = [
     (
         "bench_three_bends.json",
         include_str!("../examples/scenarios/bench_three_bends.json"),
@@ -45,6 +45,10 @@ const EXAMPLES: [(&str, &str); 8] = [
     (
         "panel_indicator_domed_lens.json",
         include_str!("../examples/scenarios/panel_indicator_domed_lens.json"),
+    ),
+    (
+        "right_angle_pipe_mirrored_bend.json",
+        include_str!("../examples/scenarios/right_angle_pipe_mirrored_bend.json"),
     ),
     (
         "soil_sensor_ambient_light_window.json",

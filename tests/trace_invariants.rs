@@ -35,7 +35,8 @@ const ROUTES: RouteDraws = RouteDraws {
 };
 
 /// A random valid scenario: round or rectangular, 1–5 segments of every kind ([`ROUTES`]), any
-/// library material that has data at the wavelength, contacts, every source kind.
+/// library material that has data at the wavelength, contacts, every source kind, coatings of
+/// every kind (drawn last, so the draws before them are those of the cases without).
 fn random_scenario(rng: &mut Rng, rays: u64) -> Scenario {
     let RandomRoute {
         section,
@@ -77,7 +78,7 @@ fn random_scenario(rng: &mut Rng, rays: u64) -> Scenario {
             json!({"beam": {"diameter_mm": rng.range(0.1, 3.0), "divergence_half_angle_deg": rng.range(0.0, 40.0)}})
         }
     };
-    let v: Value = json!({
+    let mut v: Value = json!({
         "version": 1,
         "guide": {"section": section, "material": {"library": material}, "surroundings": around,
                   "attenuation_db_per_m": if rng.next() < 0.5 { 0.0 } else { rng.range(0.1, 500.0) },
@@ -96,6 +97,28 @@ fn random_scenario(rng: &mut Rng, rays: u64) -> Scenario {
         },
         "trace": {"rays": rays, "seed": (rng.next() * 1e9) as u64, "max_interactions": 2000}
     });
+    if rng.chance(0.6) {
+        let coatings: Vec<Value> = (0..1 + rng.below(3))
+            .map(|k| {
+                let seg = rng.below(n_seg);
+                let len = lengths_mm[seg];
+                let a = rng.range(0.0, 0.6) * len;
+                let from_deg = rng.range(0.0, 300.0);
+                let kind = match rng.below(5) {
+                    0 => json!({"white_paint": {"reflectance": rng.range(0.5, 1.0)}}),
+                    1 => json!({"white_paint": {"reflectance": 1.0}}),
+                    2 => json!({"metal": {"reflectance": rng.range(0.5, 1.0)}}),
+                    3 => json!({"metal": {"reflectance": 1.0}}),
+                    _ => json!("black"),
+                };
+                json!({"name": format!("coat {k}"), "kind": kind, "segment": seg,
+                       "from_mm": a, "to_mm": a + rng.range(0.1, 0.4) * len,
+                       "sector_from_deg": from_deg,
+                       "sector_to_deg": (from_deg + rng.range(10.0, 200.0)).min(360.0)})
+            })
+            .collect();
+        v["guide"]["coatings"] = json!(coatings);
+    }
     let mut s = Scenario::from_json(&v.to_string()).unwrap_or_else(|e| panic!("{e}\n{v}"));
     with_random_faces(rng, &mut s);
     s
@@ -147,6 +170,7 @@ fn with_random_faces(rng: &mut Rng, s: &mut Scenario) {
 #[test]
 fn budget_sums_to_one_and_shares_are_shares() {
     let mut rng = Rng(2024);
+    let mut with_coatings = 0;
     for case in 0..60 {
         let s = random_scenario(&mut rng, 3000);
         let problems = s.problems();
@@ -165,6 +189,7 @@ fn budget_sums_to_one_and_shares_are_shares() {
             ("reflected", b.reflected_entry),
             ("leaked", b.leaked),
             ("contact", b.contact),
+            ("coating", b.coating),
             ("absorbed", b.absorbed),
             ("returned", b.returned),
             ("stopped", b.stopped),
@@ -180,6 +205,7 @@ fn budget_sums_to_one_and_shares_are_shares() {
             + b.reflected_entry.share
             + b.leaked.share
             + b.contact.share
+            + b.coating.share
             + b.absorbed.share
             + b.returned.share
             + b.stopped.share;
@@ -202,7 +228,31 @@ fn budget_sums_to_one_and_shares_are_shares() {
             assert_eq!(b.absorbed.share, 0.0);
         }
         turn_back_is_a_breakdown_of_the_budget(&r, case);
+        coatings_are_a_breakdown_of_their_share(&r, case);
+        with_coatings += usize::from(!s.guide.coatings.is_empty());
     }
+    assert!(with_coatings >= 10, "{with_coatings} cases with coatings");
+}
+
+/// Each coating absorbs no more than reaches it, and the coatings' share of the budget is the
+/// sum of what each absorbs (to rounding); a black coating absorbs exactly what reaches it.
+fn coatings_are_a_breakdown_of_their_share(r: &tirtrace::trace::TraceReport, case: usize) {
+    let mut sum = 0.0;
+    for c in &r.coatings {
+        assert!(
+            c.lost.share <= c.reached.share + 1e-15 && c.reached.share <= 1.0,
+            "case {case}: {c:?}"
+        );
+        if c.kind == "black" {
+            assert_eq!(c.lost, c.reached, "case {case}: {c:?}");
+        }
+        sum += c.lost.share;
+    }
+    assert!(
+        (sum - r.budget.coating.share).abs() < 1e-12,
+        "case {case}: coatings {sum}, budget {:?}",
+        r.budget.coating
+    );
 }
 
 /// The budget's shares in their fixed order ([`Budget::shares`], the one list the trace and sweep
@@ -282,6 +332,7 @@ fn turn_back_is_a_breakdown_of_the_budget(r: &tirtrace::trace::TraceReport, case
         + e.returned.share
         + e.leaked.share
         + e.contact.share
+        + e.coating.share
         + e.absorbed.share
         + e.stopped.share;
     assert!(
@@ -294,6 +345,7 @@ fn turn_back_is_a_breakdown_of_the_budget(r: &tirtrace::trace::TraceReport, case
         ("returned", e.returned, b.returned),
         ("leaked", e.leaked, b.leaked),
         ("contact", e.contact, b.contact),
+        ("coating", e.coating, b.coating),
         ("absorbed", e.absorbed, b.absorbed),
         ("stopped", e.stopped, b.stopped),
     ] {

@@ -19,8 +19,11 @@ use crate::index::library::MaterialChoice;
 use crate::limits;
 use crate::schema::Items;
 
+mod coating;
 pub mod table;
 mod validate;
+
+pub use coating::{Coating, CoatingKind};
 
 pub use crate::limits::{MAX_SEGMENTS, MAX_WHOLE};
 
@@ -70,6 +73,9 @@ pub struct Guide {
     /// Mounts, clips or glue spots touching the guide.
     #[serde(default, skip_serializing_if = "Vec::is_empty")]
     pub contacts: Vec<Contact>,
+    /// Coated zones of the side wall (white paint, metal, black).
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub coatings: Vec<Coating>,
     /// Medium beyond the exit face (a window or lens bonded to it, say); the surroundings when
     /// absent.
     #[serde(default, skip_serializing_if = "Option::is_none")]
@@ -190,7 +196,7 @@ pub enum Segment {
         turn_deg: f64,
         /// A reflective coating on the face, if any (none: the bare face).
         #[serde(default, skip_serializing_if = "Option::is_none")]
-        coating: Option<Coating>,
+        coating: Option<FaceCoating>,
     },
 }
 
@@ -199,7 +205,7 @@ pub enum Segment {
 /// the corner's segment.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize, JsonSchema)]
 #[serde(deny_unknown_fields)]
-pub struct Coating {
+pub struct FaceCoating {
     /// Specular reflectance, a fraction from 0 to 1.
     #[schemars(transform = crate::schema::within(limits::CORNER_REFLECTANCE))]
     pub reflectance: f64,
@@ -569,6 +575,7 @@ impl Scenario {
                 surroundings: MaterialChoice::library("air"),
                 attenuation_db_per_m,
                 contacts: Vec::new(),
+                coatings: Vec::new(),
                 exit_medium: None,
                 entry_face: Default::default(),
                 exit_face: Default::default(),

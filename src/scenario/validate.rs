@@ -5,7 +5,7 @@
 
 use super::table::table_has_power;
 use super::{
-    bend_half_size_mm, Coating, Contact, Emitter, EmitterArea, Flux, Guide, Pattern, Receiver,
+    bend_half_size_mm, Contact, Emitter, EmitterArea, FaceCoating, Flux, Guide, Pattern, Receiver,
     Scenario, ScenarioIndices, Section, Segment, Source, TraceSettings, SCENARIO_VERSION,
 };
 use crate::error::{show, FieldError};
@@ -29,6 +29,9 @@ impl Scenario {
         crate::faces::check_faces(self, exit_section, &mut out);
         for (k, contact) in self.guide.contacts.iter().enumerate() {
             check_contact(k, contact, self.guide.section, &self.route, &mut out);
+        }
+        for (k, coating) in self.guide.coatings.iter().enumerate() {
+            super::coating::check_coating(k, coating, self.guide.section, &self.route, &mut out);
         }
         let wavelength_nm = check_source(&self.source, &mut out);
         if let Some(receiver) = &self.receiver {
@@ -179,7 +182,7 @@ fn check_corner(
     section: Section,
     angle_deg: f64,
     turn_deg: f64,
-    coating: Option<Coating>,
+    coating: Option<FaceCoating>,
     out: &mut FieldErrors,
 ) {
     out.range(&format!("{path}.angle_deg"), angle_deg, CORNER_ANGLE_DEG);
@@ -234,17 +237,56 @@ fn check_taper_end(
     Some(end_section)
 }
 
-/// A contact zone (a mount): on a segment, within its length, on a sector of the perimeter. A
-/// mount that no longer fits its segment (the segment was shortened, or the mount moved) is
-/// told as such — where it starts or ends against where the segment ends — never as a range
-/// whose ends cross.
+/// A contact zone (a mount): on a segment, within its length, on a sector of the perimeter.
 fn check_contact(k: usize, c: &Contact, entry: Section, route: &[Segment], out: &mut FieldErrors) {
-    let path = format!("guide.contacts[{k}]");
     let mount = if c.name.trim().is_empty() {
         format!("Mount {}", k + 1)
     } else {
         format!("The mount “{}”", c.name.trim())
     };
+    let place = ZonePlace {
+        segment: c.segment,
+        from_mm: c.from_mm,
+        to_mm: c.to_mm,
+        sector_from_deg: c.sector_from_deg,
+        sector_to_deg: c.sector_to_deg,
+    };
+    let path = format!("guide.contacts[{k}]");
+    check_zone_place(
+        &path,
+        &mount,
+        " (where the mount starts)",
+        &place,
+        entry,
+        route,
+        out,
+    );
+}
+
+/// Where a zone of the wall (a mount or a coating) sits: a segment, from/to along it, a sector.
+pub(super) struct ZonePlace {
+    pub segment: usize,
+    pub from_mm: f64,
+    pub to_mm: f64,
+    pub sector_from_deg: f64,
+    pub sector_to_deg: f64,
+}
+
+/// A zone of the wall at `path`, called `label` in messages (`The mount “clip”`): on a
+/// segment, within its length, on a sector of the perimeter; `starts` notes the start in the
+/// end's range (` (where the mount starts)`). A zone that no longer fits its segment (the
+/// segment was shortened, or the zone moved) is told as such — where it starts or ends against
+/// where the segment ends — never as a range whose ends cross.
+pub(super) fn check_zone_place(
+    path: &str,
+    label: &str,
+    starts: &'static str,
+    c: &ZonePlace,
+    entry: Section,
+    route: &[Segment],
+    out: &mut FieldErrors,
+) {
+    let mount = label;
     match route.get(c.segment) {
         None => out.push(
             format!("{path}.segment"),
@@ -285,7 +327,7 @@ fn check_contact(k: usize, c: &Contact, entry: Section, route: &[Segment], out: 
             } else if from_ok {
                 let after_start = Range::open_closed(c.from_mm, f64::INFINITY)
                     .unit(" mm")
-                    .note(" (where the mount starts)");
+                    .note(starts);
                 out.range(&format!("{path}.to_mm"), c.to_mm, after_start);
             } else {
                 let to = Range::open_closed(0.0, f64::INFINITY).unit(" mm");

@@ -9,6 +9,11 @@
 //! turn-back columns: what reaches the exit face, what it turns back (by total reflection or by
 //! Fresnel reflection) and what becomes of the light it turned back, in total and leaked per
 //! segment. The turn-back columns repeat light of the partition, so they are outside it.
+//!
+//! The coated zones' columns come last, so a scenario without coatings keeps every column where
+//! it was: lost into each coating (part of the partition), the weight first reaching each
+//! coating, all coatings' loss in total and, of the turned-back weight, what is lost into
+//! coatings (these three repeat other light and are outside the partition).
 
 use std::ops::Range;
 
@@ -50,22 +55,73 @@ const AFTER_STOPPED: usize = 9;
 /// Turn-back columns before the per-segment leaks after a turn back.
 const TURN_FIXED: usize = 10;
 
-/// The tally columns of one scenario (its segment and contact-zone counts fix the layout).
+/// The coating columns, counted from the end of the columns before them (see
+/// [`Ledger::coating_column`]), for `n` coatings: lost into coating k at k, first reaching it at
+/// n + k, then the two below at 2n + …
+/// Lost into any coating (per ray: the sum of its per-coating columns).
+const TOTAL_COATING: usize = 0;
+/// Of the turned-back weight: lost into any coating.
+const AFTER_COATING: usize = 1;
+/// Coating columns besides the per-coating ones.
+const COATING_FIXED: usize = 2;
+
+/// The tally columns of one scenario (its segment, contact-zone and coating counts fix the
+/// layout).
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub(crate) struct Ledger {
     segments: usize,
     zones: usize,
+    coatings: usize,
 }
 
 impl Ledger {
-    /// The layout for `segments` route segments and `zones` contact zones.
+    /// The layout for `segments` route segments and `zones` contact zones, and no coatings.
     pub(crate) fn new(segments: usize, zones: usize) -> Ledger {
-        Ledger { segments, zones }
+        Ledger {
+            segments,
+            zones,
+            coatings: 0,
+        }
+    }
+
+    /// The same layout with `coatings` coated zones.
+    pub(crate) fn with_coatings(self, coatings: usize) -> Ledger {
+        Ledger { coatings, ..self }
     }
 
     /// Number of columns.
     pub(crate) fn len(self) -> usize {
-        self.turn_back(TURN_FIXED) + self.segments
+        self.coating_column(2 * self.coatings + COATING_FIXED)
+    }
+
+    /// Coating column `k`: after the turn-back columns.
+    #[inline]
+    fn coating_column(self, k: usize) -> usize {
+        self.turn_back(TURN_FIXED) + self.segments + k
+    }
+
+    /// Lost into (absorbed by) coating `coating`.
+    #[inline]
+    pub(crate) fn coating(self, coating: usize) -> usize {
+        debug_assert!(coating < self.coatings);
+        self.coating_column(coating)
+    }
+
+    /// The weight on a ray's first arrival at coating `coating`.
+    #[inline]
+    pub(crate) fn coating_reached(self, coating: usize) -> usize {
+        debug_assert!(coating < self.coatings);
+        self.coating_column(self.coatings + coating)
+    }
+
+    /// Lost into any coating (per ray: the sum of its per-coating columns).
+    pub(crate) fn total_coating(self) -> usize {
+        self.coating_column(2 * self.coatings + TOTAL_COATING)
+    }
+
+    /// Of the turned-back weight: lost into any coating.
+    pub(crate) fn after_coating(self) -> usize {
+        self.coating_column(2 * self.coatings + AFTER_COATING)
     }
 
     /// Turn-back column `k` (one of the `REACHED_EXIT` … constants): after the partition.
@@ -205,25 +261,31 @@ impl Ledger {
     }
 
     fn after_leaked_columns(self) -> Range<usize> {
-        self.turn_back(TURN_FIXED)..self.len()
+        self.turn_back(TURN_FIXED)..self.coating_column(0)
     }
 
-    /// Fill the four totals of one ray's contributions (one value per column) from its
-    /// per-segment and per-zone columns: leaked, absorbed, lost to contacts, and leaked after a
-    /// turn back at the exit face.
+    fn coating_columns(self) -> Range<usize> {
+        self.coating_column(0)..self.coating_column(self.coatings)
+    }
+
+    /// Fill the five totals of one ray's contributions (one value per column) from its
+    /// per-segment and per-zone columns: leaked, absorbed, lost to contacts, leaked after a
+    /// turn back at the exit face, and lost into coatings.
     #[inline]
     pub(crate) fn fill_totals(self, ray: &mut [f64]) {
         ray[TOTAL_LEAKED] = ray[self.leaked_columns()].iter().sum();
         ray[TOTAL_ABSORBED] = ray[self.absorbed_columns()].iter().sum();
         ray[TOTAL_CONTACT] = ray[self.contact_columns()].iter().sum();
         ray[self.after_leaked_total()] = ray[self.after_leaked_columns()].iter().sum();
+        ray[self.total_coating()] = ray[self.coating_columns()].iter().sum();
     }
 
     /// Whether `column` belongs to the partition of the emitted power (every fate and absorption
     /// by segment, so that the partition sums to one), rather than being a total or a turn-back
     /// column that repeats other columns.
     pub(crate) fn in_partition(self, column: usize) -> bool {
-        !(TOTAL_LEAKED..FIXED).contains(&column) && column < self.turn_back(0)
+        (!(TOTAL_LEAKED..FIXED).contains(&column) && column < self.turn_back(0))
+            || self.coating_columns().contains(&column)
     }
 }
 
@@ -233,8 +295,15 @@ mod tests {
 
     #[test]
     fn every_column_has_one_name() {
-        // Two segments, three zones: each named column appears once and they cover 0..len.
-        let l = Ledger::new(2, 3);
+        for coatings in [0, 2] {
+            columns_are_named_once(coatings);
+        }
+    }
+
+    /// Two segments, three zones and `coatings` coatings: each named column appears once and
+    /// they cover 0..len.
+    fn columns_are_named_once(coatings: usize) {
+        let l = Ledger::new(2, 3).with_coatings(coatings);
         let mut named = vec![
             l.delivered(),
             l.missed_entry(),
@@ -264,21 +333,37 @@ mod tests {
             l.after_leaked(1),
         ];
         named.extend(turn_back);
+        // The coating columns come last: without coatings every other column stays where it
+        // was.
+        let coating_start = named.len();
+        let lost: Vec<usize> = (0..coatings).map(|k| l.coating(k)).collect();
+        let mut repeated: Vec<usize> = (0..coatings).map(|k| l.coating_reached(k)).collect();
+        repeated.extend([l.total_coating(), l.after_coating()]);
+        named.extend(&lost);
+        named.extend(&repeated);
+        assert_eq!(
+            lost.iter().chain(&repeated).min(),
+            Some(&coating_start),
+            "{coatings} coatings"
+        );
         named.sort_unstable();
         assert_eq!(named, (0..l.len()).collect::<Vec<_>>());
         // The turn-back columns come after every column of the partition (whose layout is kept).
         assert_eq!(turn_back.iter().min(), Some(&partition_end));
         let totals = [l.total_leaked(), l.total_absorbed(), l.total_contact()];
         for c in 0..l.len() {
-            let repeats = totals.contains(&c) || turn_back.contains(&c);
+            let repeats = totals.contains(&c) || turn_back.contains(&c) || repeated.contains(&c);
             assert_eq!(l.in_partition(c), !repeats, "column {c}");
         }
     }
 
     #[test]
     fn totals_sum_their_own_columns() {
-        let l = Ledger::new(2, 1);
+        let l = Ledger::new(2, 1).with_coatings(2);
         let mut ray = vec![0.0; l.len()];
+        ray[l.coating(0)] = 4.0;
+        ray[l.coating(1)] = 8.0;
+        ray[l.coating_reached(1)] = 16.0;
         ray[l.leaked(1)] = 0.25;
         ray[l.absorbed(0)] = 0.125;
         ray[l.absorbed(1)] = 0.5;
@@ -289,5 +374,6 @@ mod tests {
         assert_eq!(ray[l.total_absorbed()], 0.625);
         assert_eq!(ray[l.total_contact()], 2.0);
         assert_eq!(ray[l.after_leaked_total()], 0.0625);
+        assert_eq!(ray[l.total_coating()], 12.0);
     }
 }

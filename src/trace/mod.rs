@@ -28,6 +28,7 @@ mod ledger;
 mod names;
 mod report;
 mod walk;
+mod zones;
 
 pub use crate::scenario::SegmentKind;
 use batch::same_bins;
@@ -36,11 +37,13 @@ use ledger::Ledger;
 pub(crate) use names::Named;
 pub use names::{FluxUnit, IntensityUnit};
 pub use report::{
-    peak_windows, Absolute, AngularMap, Budget, ContactReport, ExitMap, ExitTurnBack, Intensity,
-    IntensityWindow, RouteProfile, SegmentReport, TraceReport, TurnBackEnds, TurnBackFractions,
-    Value, AXIS_CONE_HALF_ANGLE_DEG,
+    peak_windows, Absolute, AngularMap, Budget, CoatingReport, ContactReport, ExitMap,
+    ExitTurnBack, Intensity, IntensityWindow, RouteProfile, SegmentReport, TraceReport,
+    TurnBackEnds, TurnBackFractions, Value, AXIS_CONE_HALF_ANGLE_DEG,
 };
 use walk::{KeptPath, Watch};
+pub use zones::lambertian_direction;
+use zones::CoatingZone;
 
 use rand_core::SeedableRng;
 use rand_pcg::Pcg64Mcg;
@@ -104,6 +107,8 @@ pub enum Fate {
     Leaked,
     /// Lost into a contact zone.
     Contact,
+    /// Absorbed by a coated zone of the wall.
+    Coating,
     /// Left back through the entry face.
     Returned,
     /// Stopped by the interaction cap.
@@ -144,6 +149,9 @@ pub struct Prepared {
     contacts: Vec<ContactZone>,
     /// Whether any contact zone touches each segment (most wall hits need no zone look-up).
     segment_has_contact: Vec<bool>,
+    coatings: Vec<CoatingZone>,
+    /// Whether any coated zone lies on each segment.
+    segment_has_coating: Vec<bool>,
     entry_half: (f64, f64),
     entry_round: bool,
     exit_half: (f64, f64),
@@ -220,17 +228,30 @@ impl Prepared {
         for c in &contacts {
             segment_has_contact[c.segment] = true;
         }
+        let coatings: Vec<CoatingZone> = scenario
+            .guide
+            .coatings
+            .iter()
+            .map(CoatingZone::new)
+            .collect();
+        let mut segment_has_coating = vec![false; scenario.route.len()];
+        for c in &coatings {
+            segment_has_coating[c.segment] = true;
+        }
         // α in mm⁻¹ from dB/m: dB = 10 log10(e) αL ⇒ α = dB/m / (10 log10 e) / 1000.
         let alpha_per_mm =
             scenario.guide.attenuation_db_per_m / (10.0 * core::f64::consts::LOG10_E) / 1000.0;
         let sin_c_out = indices.n_out / indices.n_core;
-        let ledger = Ledger::new(route.segments.len(), contacts.len());
+        let ledger =
+            Ledger::new(route.segments.len(), contacts.len()).with_coatings(coatings.len());
         Prepared {
             source: SourceSampler::new(&scenario.source),
             alpha_per_mm,
             sin2_critical_out: sin_c_out * sin_c_out,
             contacts,
             segment_has_contact,
+            coatings,
+            segment_has_coating,
             entry_half: scenario.guide.section.half_sizes_mm(),
             entry_round: matches!(scenario.guide.section, Section::Round { .. }),
             exit_half: route.exit_section.half_sizes_mm(),

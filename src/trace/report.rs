@@ -30,6 +30,7 @@ impl Prepared {
             reflected_entry: share(ledger.reflected_entry()),
             leaked: share(ledger.total_leaked()),
             contact: share(ledger.total_contact()),
+            coating: share(ledger.total_coating()),
             absorbed: share(ledger.total_absorbed()),
             returned: share(ledger.returned()),
             stopped: share(ledger.stopped()),
@@ -71,6 +72,20 @@ impl Prepared {
                 lost: share(ledger.contact(k)),
             })
             .collect();
+        let coatings = self
+            .scenario
+            .guide
+            .coatings
+            .iter()
+            .enumerate()
+            .map(|(k, c)| CoatingReport {
+                name: c.name.clone(),
+                kind: c.kind.words().to_string(),
+                segment: c.segment,
+                reached: share(ledger.coating_reached(k)),
+                lost: share(ledger.coating(k)),
+            })
+            .collect();
         let intensity = Intensity::from_hist(&batch.angle_hist, batch.rays);
         let exit_turn_back = {
             let reached = &batch.tallies[ledger.reached_exit()];
@@ -92,6 +107,7 @@ impl Prepared {
                     returned: share(ledger.after_returned()),
                     leaked: share(ledger.after_leaked_total()),
                     contact: share(ledger.after_contact()),
+                    coating: share(ledger.after_coating()),
                     absorbed: share(ledger.after_absorbed()),
                     stopped: share(ledger.after_stopped()),
                 },
@@ -110,6 +126,7 @@ impl Prepared {
             exit_turn_back,
             segments,
             contacts,
+            coatings,
             receiver: self.scenario.receiver.map(|_| batch.receiver.share()),
             absolute: self.absolute(batch, &intensity),
             wall_interactions: batch.wall_interactions,
@@ -181,6 +198,8 @@ pub struct Budget {
     pub leaked: Share,
     /// Lost into contact zones.
     pub contact: Share,
+    /// Absorbed by coated zones of the wall.
+    pub coating: Share,
     /// Absorbed in the material.
     pub absorbed: Share,
     /// Left back through the entry face.
@@ -194,12 +213,13 @@ impl Budget {
     /// report, stable: the page keys its colours by it) and the words people read for it (the
     /// page's budget table and the CSV files). The one list of them: [`Budget::shares`] pairs
     /// each with its estimate, the CSV writers and the page (through the wasm layer) read it.
-    pub const MECHANISMS: [(&'static str, &'static str); 8] = [
+    pub const MECHANISMS: [(&'static str, &'static str); 9] = [
         ("delivered", "Reaches the window (exit face)"),
         ("missed_entry", "Misses the entry face"),
         ("reflected_entry", "Reflected at the entry face (Fresnel)"),
         ("leaked", "Leaks out of the side walls"),
         ("contact", "Lost into mounts touching the pipe"),
+        ("coating", "Absorbed by coatings on the wall"),
         ("absorbed", "Absorbed in the material"),
         ("returned", "Comes back out of the entry face"),
         ("stopped", "Stopped by the wall-hit limit"),
@@ -207,7 +227,7 @@ impl Budget {
 
     /// Every share in the order of [`Budget::MECHANISMS`], as (key, words, share); they sum to
     /// 1 (to rounding), as the budget is a partition of the emitted light.
-    pub fn shares(&self) -> [(&'static str, &'static str, Share); 8] {
+    pub fn shares(&self) -> [(&'static str, &'static str, Share); 9] {
         // Each field named, no `..`: a share added to the budget does not compile until it is
         // listed here (and, with its key and words, in `MECHANISMS`).
         let Budget {
@@ -216,6 +236,7 @@ impl Budget {
             reflected_entry,
             leaked,
             contact,
+            coating,
             absorbed,
             returned,
             stopped,
@@ -226,6 +247,7 @@ impl Budget {
             reflected_entry,
             leaked,
             contact,
+            coating,
             absorbed,
             returned,
             stopped,
@@ -291,6 +313,8 @@ pub struct TurnBackEnds {
     pub leaked: Share,
     /// Lost into contact zones.
     pub contact: Share,
+    /// Absorbed by coated zones of the wall.
+    pub coating: Share,
     /// Absorbed in the material after the turn.
     pub absorbed: Share,
     /// Stopped by the interaction cap.
@@ -326,6 +350,21 @@ pub struct SegmentReport {
     pub absorbed: Share,
     /// Wall hits counted in this segment.
     pub wall_hits: u64,
+}
+
+/// Per-coating figures.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct CoatingReport {
+    /// The coating's label.
+    pub name: String,
+    /// Its kind in plain words (white paint, metal, black).
+    pub kind: String,
+    /// Segment it is on.
+    pub segment: usize,
+    /// Share of the emitted power reaching it (each ray's weight on its first arrival there).
+    pub reached: Share,
+    /// Share absorbed by it.
+    pub lost: Share,
 }
 
 /// Per-contact figures.
@@ -629,6 +668,9 @@ pub struct TraceReport {
     pub segments: Vec<SegmentReport>,
     /// Per-contact figures.
     pub contacts: Vec<ContactReport>,
+    /// Per-coating figures (left out of the JSON when the scenario has no coatings).
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub coatings: Vec<CoatingReport>,
     /// Share landing on the receiver.
     pub receiver: Option<Share>,
     /// Absolute figures.

@@ -12,6 +12,7 @@ use rand_pcg::Pcg64Mcg;
 use super::{Batch, Fate, Prepared, ANGLE_BINS, ANGULAR_CELLS, MAP_CELLS, ROUTE_BINS};
 use crate::geometry::{Next, Placed};
 use crate::interface::{fresnel_amplitudes, fresnel_reflectance, reflect, refract};
+use crate::scenario::CoatingKind;
 
 mod faces;
 pub(super) use faces::ShapedFaces;
@@ -353,6 +354,11 @@ impl Walk<'_> {
         self.out.wall_hits[ray.seg] += 1;
         let o = ray.o;
         self.trail.push(|| placed.frame.point_to_global(o));
+        if p.segment_has_coating[ray.seg] {
+            if let Some(k) = super::zones::zone_at(&p.coatings, ray.seg, placed, ray.o) {
+                return self.coated_wall(ray, normal, k);
+            }
+        }
         let cos_i = ray.d.dot(normal).clamp(0.0, 1.0);
         let sin2_i = 1.0 - cos_i * cos_i;
         let zone = p.contact_zone(ray.seg, placed, ray.o);
@@ -381,6 +387,36 @@ impl Walk<'_> {
         ray.w *= r;
         ray.d = reflect(ray.d, normal);
         Step::Continue
+    }
+
+    /// A side wall with outward unit normal `normal` (local) inside coated zone `k`
+    /// ([`super::zones`]): the path so far is attenuated, the weight on the ray's first arrival
+    /// at the zone is tallied, then the coating sends the ray back (white paint: a Lambertian
+    /// direction about the inward normal; metal: the mirror direction) with probability ρ or R,
+    /// else absorbs it, tallied to the zone.
+    fn coated_wall(&mut self, ray: &mut Ray, normal: DVec3, k: usize) -> Step {
+        self.absorb(ray);
+        let ledger = self.p.ledger;
+        // Weights are positive, so a zero column means the ray has not met the zone before.
+        let reached = ledger.coating_reached(k);
+        if self.contrib[reached] == 0.0 {
+            self.contrib[reached] = ray.w;
+        }
+        let kind = self.p.coatings[k].kind;
+        let r = kind.reflectance();
+        let sent_back = r >= 1.0 || (r > 0.0 && uniform(self.rng) < r);
+        if sent_back {
+            ray.d = match kind {
+                CoatingKind::WhitePaint { .. } => {
+                    let (u1, u2) = (uniform(self.rng), uniform(self.rng));
+                    super::zones::lambertian_direction(-normal, u1, u2)
+                }
+                CoatingKind::Metal { .. } | CoatingKind::Black => reflect(ray.d, normal),
+            };
+            return Step::Continue;
+        }
+        self.end_inside(ledger.coating(k), ledger.after_coating(), ray.w);
+        Step::End(Fate::Coating, 0.0)
     }
 
     /// The ray leaves through the side wall into a medium of index `n_out`: leaked, or lost

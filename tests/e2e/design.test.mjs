@@ -58,7 +58,7 @@ describe('the design page in Chromium', { concurrency: false }, () => {
     assert.ok(a.share > 0.3 && a.share < 1, `delivered ${a.share}`);
     assert.ok(a.ci95 > 0 && a.ci95 < 0.01, `ci95 ${a.ci95}`);
     // Budget rows for every mechanism, the energy check, the segment and bend tables.
-    assert.equal(await page.locator('#budget-rows tr[data-mechanism]').count(), 8);
+    assert.equal(await page.locator('#budget-rows tr[data-mechanism]').count(), 9);
     const sum = Number(await page.locator('#budget-rows tr.sum td.num').innerText());
     assert.ok(Math.abs(sum - 100) < 1e-6, `budget sums to ${sum} %`);
     assert.equal(await page.locator('#segment-rows tr').count(), 3);

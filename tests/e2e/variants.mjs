@@ -2,7 +2,8 @@
 // a tabulated, tilted, offset LED; a rectangular bar with a taper, a bend across its height, a
 // clip and a window receiver; a round pipe with a bare and a coated reflecting corner; a beam
 // through a high-index gel; shaped faces (a domed entry and a
-// cut exit; a pocket over the LED and a domed exit; a cut entry and a textured exit). Used by the wasm-vs-native test
+// cut exit; a pocket over the LED and a domed exit; a cut entry and a textured exit); coatings of
+// every kind (white paint, metal, black) on a bend and a straight. Used by the wasm-vs-native test
 // and by scripts/same_output.mjs.
 
 /** `[[name, scenario], …]` built on `base` (the thermostat example). */
@@ -31,6 +32,15 @@ export function variantsOf(base) {
       route: [{ straight: { length_mm: 5 } }, { corner: { angle_deg: 70, turn_deg: 30 } },
         { straight: { length_mm: 6 } }, { corner: { angle_deg: 120, turn_deg: 200, coating: { reflectance: 0.93 } } },
         { straight: { length_mm: 4 } }],
+    }],
+    ['variant_coatings', {
+      ...base,
+      guide: { ...base.guide, coatings: [
+        { name: 'white back', kind: { white_paint: { reflectance: 0.85 } }, segment: 1, from_mm: 2,
+          to_mm: 12, sector_from_deg: 140, sector_to_deg: 220 },
+        { name: 'mirror', kind: { metal: { reflectance: 0.92 } }, segment: 3, from_mm: 0, to_mm: 11.7,
+          sector_from_deg: 0, sector_to_deg: 90 },
+        { name: 'mask', kind: 'black', segment: 2, from_mm: 8, to_mm: 10 }] },
     }],
     ['variant_gel_beam', {
       ...base,

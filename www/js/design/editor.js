@@ -6,6 +6,7 @@ import { h } from '../dom.js';
 import { parseNumber } from '../numbers.js';
 import { facePicture } from './face-picture.js';
 import { getAt, isLength, setAt, showNumber, toStored } from './scenario.js';
+import { coatingsPart, dropCoatings, moveCoatings } from './coatings.js';
 
 /** “200,000”: a thousands separator or a decimal comma? Refused rather than guessed. */
 const looksLikeThousands = (text) => /^\s*[+-]?[1-9]\d{0,2}(,\d{3})+\s*$/.test(text);
@@ -39,6 +40,8 @@ function placeOf(path) {
   if (seg) return `Segment ${Number(seg[1]) + 1}`;
   const mount = path.match(/^guide\.contacts\[(\d+)\]/);
   if (mount) return `Mount ${Number(mount[1]) + 1}`;
+  const coating = path.match(/^guide\.coatings\[(\d+)\]/);
+  if (coating) return `Coating ${Number(coating[1]) + 1}`;
   if (path.startsWith('source')) return 'Light source';
   if (path.startsWith('guide')) return 'Light pipe';
   if (path.startsWith('receiver')) return 'Detector';
@@ -327,7 +330,7 @@ export class Editor {
 
   /**
    * Move the drafts (and their messages) of list items when items move: `map(i)` gives an item's
-   * new index, or null when it is gone. `list` is 'route' or 'guide.contacts'.
+   * new index, or null when it is gone. `list` is 'route', 'guide.contacts' or 'guide.coatings'.
    */
   remapDrafts(list, map) {
     const re = new RegExp(`^${list.replace('.', '\\.')}\\[(\\d+)\\](.*)$`);
@@ -354,6 +357,7 @@ export class Editor {
       this.pipePart(),
       this.routePart(),
       this.contactsPart(),
+      coatingsPart(this, this.segmentOptions()),
       this.receiverPart(),
       this.tracePart(),
     );
@@ -634,12 +638,14 @@ export class Editor {
       const r = this.s.route;
       [r[i], r[to]] = [r[to], r[i]];
       this.moveContacts(i, to);
+      moveCoatings(this.s, i, to);
       this.remapDrafts('route', (k) => (k === i ? to : k === to ? i : k));
       this.changed(true, `seg-${to}-${to < i ? 'up' : 'down'}`);
     };
     const remove = () => {
       this.s.route.splice(i, 1);
       this.dropContacts(i);
+      dropCoatings(this, i);
       this.remapDrafts('route', (k) => (k === i ? null : k > i ? k - 1 : k));
       this.changed(true, 'add-straight');
     };
@@ -723,10 +729,15 @@ export class Editor {
     if (g.contacts.length === 0) delete g.contacts;
   }
 
+  /** The route's segments as choices: [index, “2 · Bend”]. */
+  segmentOptions() {
+    return this.s.route.map((seg, i) => [String(i), `${i + 1} · ${SEGMENT_NAMES[variant(seg)]}`]);
+  }
+
   contactsPart() {
     const g = this.s.guide;
     const list = g.contacts || [];
-    const segOptions = this.s.route.map((seg, i) => [String(i), `${i + 1} · ${SEGMENT_NAMES[variant(seg)]}`]);
+    const segOptions = this.segmentOptions();
     const items = list.map((c, k) => {
       const p = `guide.contacts[${k}]`;
       const nameId = idFor(`${p}.name`);

@@ -13,6 +13,7 @@ export const MECHANISM_COLOURS = Object.freeze({
   reflected_entry: '#868e96',
   leaked: '#d9480f',
   contact: '#862e9c',
+  coating: '#0b7285',
   absorbed: '#f59f00',
   returned: '#2b8a3e',
   stopped: '#495057',
@@ -110,12 +111,14 @@ export function showReport(report, figures, scenario) {
     ),
   );
   $('budget-rows').replaceChildren(
-    ...mechanisms.map(([k, label, colour]) =>
+    ...mechanisms.flatMap(([k, label, colour]) => [
       h('tr', { dataset: { mechanism: k } },
         h('th', { scope: 'row' }, h('span', { class: 'swatch', style: `background:${colour}`, 'aria-hidden': 'true' }), label),
         h('td', { class: 'num', text: formatShare(b[k].share, b[k].ci95) }),
         h('td', { class: 'num ci', text: `± ${formatHalfWidth(b[k].ci95)}` })),
-    ),
+      // Under the coatings' share, each coating's (the report lists them only when there are any).
+      ...(k === 'coating' ? coatingRows(report.coatings || []) : []),
+    ]),
     h('tr', { class: 'sum' }, h('th', { scope: 'row', text: 'Sum (energy check)' }), h('td', { class: 'num', text: formatFixed(100 * report.budget_sum, 6) }), h('td')),
   );
 
@@ -145,6 +148,17 @@ export function showReport(report, figures, scenario) {
 
   showTurnBack(report);
   showBends(figures, report);
+}
+
+const COATING_KINDS = { 'white paint': 'white paint', metal: 'metal', black: 'black paint' };
+
+/** A budget row per coating: its name, kind and segment, and the share it absorbs. */
+function coatingRows(coatings) {
+  return coatings.map((c, k) =>
+    h('tr', { class: 'budget-part', dataset: { coating: String(k) } },
+      h('th', { scope: 'row', text: `${c.name || `Coating ${k + 1}`} (${COATING_KINDS[c.kind] ?? c.kind}, segment ${c.segment + 1}): absorbs` }),
+      h('td', { class: 'num', text: formatShare(c.lost.share, c.lost.ci95) }),
+      h('td', { class: 'num ci', text: `± ${formatHalfWidth(c.lost.ci95)}` })));
 }
 
 /** The exit map of the last report shown, for its table. */
@@ -239,7 +253,7 @@ export function showTurnBack(report) {
   for (const s of report.segments) {
     rows.push([`leaked-${s.index}`, `Leaks out of segment ${s.index + 1} · ${KIND_NAMES[s.kind] || s.kind}`, s.leaked_after_turn_back]);
   }
-  rows.push(['contact', 'Lost into mounts touching the pipe', e.contact], ['returned', 'Comes back out of the entry face', e.returned],
+  rows.push(['contact', 'Lost into mounts touching the pipe', e.contact], ['coating', 'Absorbed by coatings on the wall', e.coating], ['returned', 'Comes back out of the entry face', e.returned],
     ['absorbed', 'Absorbed in the material', e.absorbed], ['stopped', 'Stopped by the wall-hit limit', e.stopped]);
   const shown = rows.filter(([, , s]) => s.share > 0);
   $('turn-back-rows').replaceChildren(

@@ -7,6 +7,7 @@ const FATE_STYLE = {
   delivered: { colour: '#1864ab', label: 'reach the window' },
   leaked: { colour: '#d9480f', label: 'leak out of the side' },
   contact: { colour: '#862e9c', label: 'lost into a mount' },
+  coating: { colour: '#0b7285', label: 'absorbed by a coating' },
   returned: { colour: '#2b8a3e', label: 'come back out of the entry' },
   reflected_entry: { colour: '#868e96', label: 'reflected at the entry' },
   missed: { colour: '#adb5bd', label: 'miss the entry face' },
@@ -14,6 +15,13 @@ const FATE_STYLE = {
 };
 
 export const FATES = FATE_STYLE;
+
+/** How each kind of coating is drawn on the pipe: fill, edge, and its name on the view. */
+const COATING_STYLE = {
+  white_paint: { fill: 'rgba(255, 255, 255, 0.92)', edge: '#495057', label: 'white paint' },
+  metal: { fill: 'rgba(134, 142, 150, 0.75)', edge: '#343a40', label: 'metal' },
+  black: { fill: 'rgba(33, 37, 41, 0.85)', edge: '#000000', label: 'black paint' },
+};
 
 /** Heat strip colours, light to dark (sequential; our own ramp). */
 const HEAT = [
@@ -314,6 +322,7 @@ export class RouteView {
         }
       }
     }
+    this.drawCoatings(g);
     this.drawRays(g);
     this.drawHeat(g);
     this.drawFaces(g);
@@ -552,6 +561,52 @@ export class RouteView {
       g.strokeStyle = '#364fc7';
       g.stroke();
       g.setLineDash([]);
+    }
+  }
+
+  /**
+   * The coated zones on the pipe, to scale: each zone's rings of wall points from the core's
+   * outline joined into quadrilaterals (both sides of the pipe show through, as the pipe is
+   * drawn without depth), edged, and named by kind beside its middle.
+   */
+  drawCoatings(g) {
+    const zones = this.outline?.coatings;
+    if (!zones?.length) return;
+    g.lineJoin = 'round';
+    for (const zone of zones) {
+      const style = COATING_STYLE[zone.kind] || COATING_STYLE.black;
+      const rings = zone.rings.map((ring) => ring.map((p) => this.toScreen(p)));
+      g.fillStyle = style.fill;
+      g.strokeStyle = style.edge;
+      g.lineWidth = 0.6;
+      for (let i = 0; i + 1 < rings.length; i += 1) {
+        const [a, b] = [rings[i], rings[i + 1]];
+        for (let k = 0; k + 1 < a.length; k += 1) {
+          g.beginPath();
+          g.moveTo(...a[k]);
+          g.lineTo(...a[k + 1]);
+          g.lineTo(...b[k + 1]);
+          g.lineTo(...b[k]);
+          g.closePath();
+          g.fill();
+        }
+      }
+      // The zone's edge: its first and last rings and its two sides along the pipe.
+      g.lineWidth = 1.2;
+      g.beginPath();
+      for (const ring of [rings[0], rings[rings.length - 1]]) {
+        ring.forEach(([x, y], k) => (k === 0 ? g.moveTo(x, y) : g.lineTo(x, y)));
+      }
+      for (const side of [0, rings[0].length - 1]) {
+        rings.forEach((ring, k) => (k === 0 ? g.moveTo(...ring[side]) : g.lineTo(...ring[side])));
+      }
+      g.stroke();
+      const mid = rings[Math.floor(rings.length / 2)];
+      const [lx, ly] = mid[Math.floor(mid.length / 2)];
+      g.fillStyle = '#212529';
+      g.font = '12px system-ui, sans-serif';
+      g.textBaseline = 'middle';
+      g.fillText(style.label, lx + 8, ly);
     }
   }
 

@@ -12,6 +12,7 @@
 pub mod chart;
 pub mod check;
 pub mod error;
+pub mod exit_figures;
 pub mod export;
 pub mod fan;
 pub mod geometry;

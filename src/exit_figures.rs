@@ -77,6 +77,49 @@ pub struct ExitFigures {
     pub half_intensity_full_angle_deg: Option<Value>,
 }
 
+/// The exit figures as a CSV table after a blank line (the end of `tirtrace trace --csv` and the
+/// page's download): one row per figure with its value and the ends of its 95 % interval (empty
+/// when the figure is not known), then the rule the uniformity follows.
+pub fn csv(f: &ExitFigures) -> String {
+    use crate::export::{csv_num, csv_text};
+    let u = &f.exit_face_uniformity;
+    let mut s = String::from("\n\"Exit figures\",value,low 95 %,high 95 %\n");
+    let mut row = |what: &str, v: Option<(f64, f64, f64)>| {
+        s += &csv_text(what);
+        match v {
+            Some((v, lo, hi)) => {
+                s += &format!(",{},{},{}\n", csv_num(v), csv_num(lo), csv_num(hi));
+            }
+            None => s += ",,,\n",
+        }
+    };
+    let symmetric = |v: &Value| (v.value, v.value - v.ci95, v.value + v.ci95);
+    row(
+        "Exit face: least over greatest irradiance",
+        u.min_over_max.as_ref().map(symmetric),
+    );
+    row(
+        "Exit face: coefficient of variation of the irradiance",
+        u.coefficient_of_variation
+            .map(|b| (b.value, b.low95, b.high95)),
+    );
+    row(
+        "Half-intensity full angle (°)",
+        f.half_intensity_full_angle_deg.as_ref().map(symmetric),
+    );
+    s += &format!(
+        "\n\"Exit face blocks\",across and down,wholly on the face,counted\n{},{},{},{}\n",
+        csv_text(&format!(
+            "counted when known to ±{} %",
+            UNIFORMITY_MAX_RELATIVE_CI95 * 100.0
+        )),
+        u.blocks,
+        u.blocks_on_face,
+        u.blocks_counted
+    );
+    s
+}
+
 /// Variance of f from its gradient over the bins of `h` (pairs of bin index and ∂f/∂S_k; a bin
 /// may appear more than once, its parts add), over `rays` rays (the module's formula).
 fn delta_variance(h: &Hist, rays: u64, gradient: &[(usize, f64)]) -> f64 {

@@ -281,3 +281,51 @@ fn exit_figures_are_the_same_for_any_thread_count() {
         assert_eq!(parallel, serial, "{threads} threads");
     }
 }
+
+#[test]
+fn the_csv_ends_with_the_exit_figures_as_the_report_has_them() {
+    let chip = lambertian(json!({ "disk": { "diameter_mm": 1.0 } }));
+    let r = traced(&rod(
+        json!({ "round": { "diameter_mm": 3.0 } }),
+        4.0,
+        chip,
+        0.2,
+        100_000,
+        2,
+    ));
+    let csv = tirtrace::export::report_csv(&r, "rod");
+    let tail = csv
+        .split("\n\"Exit figures\",")
+        .nth(1)
+        .expect("an exit figures table");
+    let f = &r.exit_figures;
+    let m = f.exit_face_uniformity.min_over_max.unwrap();
+    let cv = f.exit_face_uniformity.coefficient_of_variation.unwrap();
+    let a = f.half_intensity_full_angle_deg.unwrap();
+    for (words, v, lo, hi) in [
+        (
+            "Exit face: least over greatest irradiance",
+            m.value,
+            m.value - m.ci95,
+            m.value + m.ci95,
+        ),
+        (
+            "Exit face: coefficient of variation of the irradiance",
+            cv.value,
+            cv.low95,
+            cv.high95,
+        ),
+        (
+            "Half-intensity full angle (°)",
+            a.value,
+            a.value - a.ci95,
+            a.value + a.ci95,
+        ),
+    ] {
+        let line = format!("\"{words}\",{v},{lo},{hi}\n");
+        assert!(tail.contains(&line), "{line} not in\n{tail}");
+    }
+    let u = &f.exit_face_uniformity;
+    let blocks = format!(",{},{},{}\n", u.blocks, u.blocks_on_face, u.blocks_counted);
+    assert!(tail.ends_with(&blocks), "{tail}");
+}

@@ -21,7 +21,7 @@ use tirtrace::outline::{
 use tirtrace::scenario::{Scenario, Section, Segment, SegmentKind};
 
 /// Every example scenario (compiled in, so the wasm run checks them too).
-const EXAMPLES: [(&str, &str); 5] = [
+const EXAMPLES: [(&str, &str); 6] = [
     (
         "bench_three_bends.json",
         include_str!("../examples/scenarios/bench_three_bends.json"),
@@ -33,6 +33,10 @@ const EXAMPLES: [(&str, &str); 5] = [
     (
         "clad_plastic_fibre.json",
         include_str!("../examples/scenarios/clad_plastic_fibre.json"),
+    ),
+    (
+        "panel_status_bar_rectangular_chip.json",
+        include_str!("../examples/scenarios/panel_status_bar_rectangular_chip.json"),
     ),
     (
         "soil_sensor_ambient_light_window.json",

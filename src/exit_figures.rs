@@ -51,6 +51,9 @@ pub struct Uniformity {
     pub blocks_on_face: usize,
     /// Of those, the blocks whose share is known well enough to count.
     pub blocks_counted: usize,
+    /// The rule for counting: a block's 95 % half-width over its share at most this
+    /// ([`UNIFORMITY_MAX_RELATIVE_CI95`]).
+    pub counted_within_relative_ci95: f64,
     /// Least over greatest irradiance of the blocks counted, with its 95 % half-width (from
     /// the two blocks' own spread; picking the extremes from the same rays leans low by about
     /// their noise, which the interval does not hold). `None` below two blocks.
@@ -87,6 +90,10 @@ pub fn csv(f: &ExitFigures) -> String {
     let mut row = |what: &str, v: Option<(f64, f64, f64)>| {
         s += &csv_text(what);
         match v {
+            // An interval from fewer than two rays is unknown: its ends are left empty.
+            Some((v, lo, hi)) if !(lo.is_finite() && hi.is_finite()) => {
+                s += &format!(",{},,\n", csv_num(v));
+            }
             Some((v, lo, hi)) => {
                 s += &format!(",{},{},{}\n", csv_num(v), csv_num(lo), csv_num(hi));
             }
@@ -111,7 +118,7 @@ pub fn csv(f: &ExitFigures) -> String {
         "\n\"Exit face blocks\",across and down,wholly on the face,counted\n{},{},{},{}\n",
         csv_text(&format!(
             "counted when known to ±{} %",
-            UNIFORMITY_MAX_RELATIVE_CI95 * 100.0
+            u.counted_within_relative_ci95 * 100.0
         )),
         u.blocks,
         u.blocks_on_face,
@@ -210,6 +217,7 @@ impl Uniformity {
             blocks: UNIFORMITY_BLOCKS,
             blocks_on_face: on_face.len(),
             blocks_counted: counted.len(),
+            counted_within_relative_ci95: UNIFORMITY_MAX_RELATIVE_CI95,
             min_over_max,
             coefficient_of_variation,
         }

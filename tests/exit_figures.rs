@@ -329,3 +329,67 @@ fn the_csv_ends_with_the_exit_figures_as_the_report_has_them() {
     let blocks = format!(",{},{},{}\n", u.blocks, u.blocks_on_face, u.blocks_counted);
     assert!(tail.ends_with(&blocks), "{tail}");
 }
+
+#[test]
+fn blocks_known_too_poorly_do_not_count_and_too_few_give_no_figure() {
+    // A 1 mm chip near a short 3 mm rod at one batch of rays: about 90 rays a block, each known
+    // to about ±21 %, so only the brighter blocks meet the ±20 % rule.
+    let chip = lambertian(json!({ "disk": { "diameter_mm": 1.0 } }));
+    let s = |rays| {
+        rod(
+            json!({ "round": { "diameter_mm": 3.0 } }),
+            2.0,
+            chip.clone(),
+            0.3,
+            rays,
+            1,
+        )
+    };
+    let few = traced(&s(4096)).exit_figures.exit_face_uniformity;
+    assert_eq!(few.counted_within_relative_ci95, 0.2);
+    assert!(few.blocks_counted < few.blocks_on_face, "{few:?}");
+    assert_eq!(
+        few.min_over_max.is_some(),
+        few.blocks_counted >= 2,
+        "{few:?}"
+    );
+    assert_eq!(
+        few.coefficient_of_variation.is_some(),
+        few.blocks_counted >= 2,
+        "{few:?}"
+    );
+    // One ray: no spread can be estimated, so no block is known and there is no figure.
+    let none = traced(&s(1)).exit_figures.exit_face_uniformity;
+    assert_eq!(none.blocks_counted, 0);
+    assert_eq!(
+        (none.min_over_max, none.coefficient_of_variation),
+        (None, None)
+    );
+}
+
+#[test]
+fn an_angle_from_one_ray_has_no_interval_and_the_csv_leaves_its_ends_empty() {
+    // One ray of a narrow beam: it leaves within the axis cone, so the intensity falls to half
+    // at the first ring beyond it, but one ray gives no spread.
+    let beam = json!({ "beam": { "diameter_mm": 1.0, "divergence_half_angle_deg": 1.0 } });
+    let s = rod(
+        json!({ "round": { "diameter_mm": 3.0 } }),
+        2.0,
+        beam,
+        0.3,
+        1,
+        3,
+    );
+    let r = traced(&s);
+    let csv = tirtrace::export::report_csv(&r, "one ray");
+    let tail = csv.split("\n\"Exit figures\",").nth(1).unwrap();
+    assert!(!tail.contains("inf") && !tail.contains("NaN"), "{tail}");
+    assert_eq!(r.budget.delivered.share, 1.0, "the one ray is delivered");
+    let a = r
+        .exit_figures
+        .half_intensity_full_angle_deg
+        .expect("one ray near the axis");
+    assert_eq!(a.ci95, f64::INFINITY);
+    let row = format!("\"Half-intensity full angle (°)\",{},,\n", a.value);
+    assert!(tail.contains(&row), "{tail}");
+}

@@ -10,7 +10,7 @@ use serde::Deserialize;
 use crate::trace::{Budget, Named, TraceReport};
 
 /// A number for the CSV: shortest form that reads back exactly, with −0 written as 0.
-fn csv_num(x: f64) -> f64 {
+pub(crate) fn csv_num(x: f64) -> f64 {
     x + 0.0
 }
 
@@ -49,7 +49,8 @@ pub fn percent(x: f64) -> f64 {
 /// 4. the segments, numbered from 1 as the page numbers them: kind, start and length, leaks,
 ///    absorbed, wall hits;
 /// 5. the mounts, with the segment they touch numbered from 1;
-/// 6. the light turned back at the exit face ([`turn_back_csv`]).
+/// 6. the light turned back at the exit face ([`turn_back_csv`]);
+/// 7. the exit figures ([`crate::exit_figures::csv`]).
 ///
 /// Names are quoted (and guarded against formulas); every line ends with a newline. This is
 /// exactly what `tirtrace trace --csv` prints and the page downloads.
@@ -174,7 +175,7 @@ pub fn report_csv(report: &TraceReport, design_name: &str) -> String {
             );
         }
     }
-    s + &turn_back_csv(report)
+    s + &turn_back_csv(report) + &crate::exit_figures::csv(&report.exit_figures)
 }
 
 /// The light turned back at the exit face ([`crate::trace::ExitTurnBack`]), three tables each

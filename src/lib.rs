@@ -14,6 +14,7 @@ pub mod check;
 pub mod coating_outline;
 pub mod corner_check;
 pub mod error;
+pub mod exit_figures;
 pub mod export;
 pub mod faces;
 pub mod fan;

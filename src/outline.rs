@@ -21,6 +21,7 @@ use crate::faces::outline::{entry_face_frame, face_outline, FaceEnd, FaceOutline
 use crate::geometry::bend::rot_z;
 use crate::geometry::{Bend, Corner, Frame, Placed, PlacedRoute, Shape};
 use crate::scenario::{Emitter, EmitterArea, Scenario, SegmentKind};
+use crate::source::emitter_frame;
 
 /// Largest turn between two samples of a bend, degrees.
 pub const MAX_BEND_STEP_DEG: f64 = 3.0;
@@ -129,9 +130,18 @@ pub struct RouteOutline {
     pub source_mm: [f64; 3],
     /// The emitter's axis (unit vector, tilted from +z by the source's tilt).
     pub source_axis: [f64; 3],
-    /// Half the emitter's size (radius of a disk or beam, half the side of a square), mm.
+    /// Half the emitter's size (radius of a disk or beam, half the side of a square, half the
+    /// longer side of a rectangle), mm.
     pub source_half_size_mm: f64,
-    /// True for a round emitter (a disk or a beam), false for a square one.
+    /// Half the emitter's width along `source_width_axis` (a disk's radius), mm.
+    pub source_half_width_mm: f64,
+    /// Half the emitter's height along `source_height_axis` (a disk's radius), mm.
+    pub source_half_height_mm: f64,
+    /// The emitter's width axis (unit vector in its plane; the entry's x when untilted).
+    pub source_width_axis: [f64; 3],
+    /// The emitter's height axis (unit vector in its plane, across the width axis).
+    pub source_height_axis: [f64; 3],
+    /// True for a round emitter (a disk or a beam), false for a square or rectangular one.
     pub source_round: bool,
     /// The receiver, when the scenario has one.
     pub receiver: Option<ReceiverOutline>,
@@ -324,19 +334,19 @@ pub fn outline_of(scenario: &Scenario, route: &PlacedRoute) -> RouteOutline {
     let src = &scenario.source;
     let source_centre = DVec3::new(src.offset_mm[0], src.offset_mm[1], -src.gap_mm);
     // The emitter's axis: tilted from +z by tilt_deg towards tilt_toward_deg (as the sampler).
-    let (tilt, toward) = (src.tilt_deg.to_radians(), src.tilt_toward_deg.to_radians());
-    let source_axis = DVec3::new(
-        libm::sin(tilt) * libm::cos(toward),
-        libm::sin(tilt) * libm::sin(toward),
-        libm::cos(tilt),
-    );
-    let (source_half_size_mm, source_round) = match &src.emitter {
+    let [source_axis, source_e1, source_e2] = emitter_frame(src);
+    let (source_half_width_mm, source_half_height_mm, source_round) = match &src.emitter {
         Emitter::Led { area, .. } => match *area {
-            EmitterArea::Disk { diameter_mm } => (0.5 * diameter_mm, true),
-            EmitterArea::Square { side_mm } => (0.5 * side_mm, false),
+            EmitterArea::Disk { diameter_mm } => (0.5 * diameter_mm, 0.5 * diameter_mm, true),
+            EmitterArea::Square { side_mm } => (0.5 * side_mm, 0.5 * side_mm, false),
+            EmitterArea::Rectangle {
+                width_mm,
+                height_mm,
+            } => (0.5 * width_mm, 0.5 * height_mm, false),
         },
-        Emitter::Beam { diameter_mm, .. } => (0.5 * diameter_mm, true),
+        Emitter::Beam { diameter_mm, .. } => (0.5 * diameter_mm, 0.5 * diameter_mm, true),
     };
+    let source_half_size_mm = source_half_width_mm.max(source_half_height_mm);
 
     let ef = &route.exit_frame;
     let receiver = scenario.receiver.map(|r| {
@@ -402,14 +412,16 @@ pub fn outline_of(scenario: &Scenario, route: &PlacedRoute) -> RouteOutline {
             true,
         );
     }
-    // The emitter, as a disk square to its axis that holds it (a square's corners included).
-    let (e1, e2) = source_axis.any_orthonormal_pair();
-    let reach = if source_round {
-        source_half_size_mm
-    } else {
-        std::f64::consts::SQRT_2 * source_half_size_mm
-    };
-    include_patch(&mut bounds, source_centre, e1, e2, reach, reach, true);
+    // The emitter in its own plane.
+    include_patch(
+        &mut bounds,
+        source_centre,
+        source_e1,
+        source_e2,
+        source_half_width_mm,
+        source_half_height_mm,
+        source_round,
+    );
     if let Some(r) = &receiver {
         include_patch(
             &mut bounds,
@@ -435,6 +447,10 @@ pub fn outline_of(scenario: &Scenario, route: &PlacedRoute) -> RouteOutline {
         source_mm: source_centre.to_array(),
         source_axis: source_axis.to_array(),
         source_half_size_mm,
+        source_half_width_mm,
+        source_half_height_mm,
+        source_width_axis: source_e1.to_array(),
+        source_height_axis: source_e2.to_array(),
         source_round,
         receiver,
         faces,

@@ -37,6 +37,7 @@ pub struct SourceSampler {
 enum Area {
     Disk { radius: f64 },
     Square { half: f64 },
+    Rectangle { half_w: f64, half_h: f64 },
 }
 
 impl SourceSampler {
@@ -50,6 +51,13 @@ impl SourceSampler {
                     },
                     EmitterArea::Square { side_mm } => Area::Square {
                         half: 0.5 * side_mm,
+                    },
+                    EmitterArea::Rectangle {
+                        width_mm,
+                        height_mm,
+                    } => Area::Rectangle {
+                        half_w: 0.5 * width_mm,
+                        half_h: 0.5 * height_mm,
                     },
                 };
                 let law = match pattern {
@@ -76,14 +84,7 @@ impl SourceSampler {
                 },
             ),
         };
-        let tilt = source.tilt_deg.to_radians();
-        let toward = source.tilt_toward_deg.to_radians();
-        let (st, ct) = (libm::sin(tilt), libm::cos(tilt));
-        let (sa, ca) = (libm::sin(toward), libm::cos(toward));
-        let axis = DVec3::new(st * ca, st * sa, ct);
-        // e1 tilts with the axis in the plane of tilt; e2 stays perpendicular to that plane.
-        let e1 = DVec3::new(ct * ca, ct * sa, -st);
-        let e2 = axis.cross(e1);
+        let [axis, e1, e2] = emitter_frame(source);
         SourceSampler {
             centre: DVec3::new(source.offset_mm[0], source.offset_mm[1], -source.gap_mm),
             e1,
@@ -94,8 +95,9 @@ impl SourceSampler {
         }
     }
 
-    /// One ray: (start point, unit direction), global frame, from three (four for square
-    /// emitters) uniform numbers in [0, 1).
+    /// One ray: (start point, unit direction), global frame, from four uniform numbers in
+    /// [0, 1): two for the point (uniform over the emitting area; e1 carries a rectangle's
+    /// width), one for the polar and one for the azimuthal angle about the emitter's axis.
     #[inline]
     pub fn sample(&self, u: [f64; 4]) -> (DVec3, DVec3) {
         let (x, y) = match self.area {
@@ -105,6 +107,10 @@ impl SourceSampler {
                 (r * libm::cos(a), r * libm::sin(a))
             }
             Area::Square { half } => (half * (2.0 * u[0] - 1.0), half * (2.0 * u[1] - 1.0)),
+            // Uniform over the rectangle: width along e1, height along e2.
+            Area::Rectangle { half_w, half_h } => {
+                (half_w * (2.0 * u[0] - 1.0), half_h * (2.0 * u[1] - 1.0))
+            }
         };
         let pos = self.centre + x * self.e1 + y * self.e2;
         let cos_t = match &self.law {
@@ -129,6 +135,21 @@ impl SourceSampler {
         let dir = cos_t * self.axis + sin_t * (libm::cos(phi) * self.e1 + libm::sin(phi) * self.e2);
         (pos, dir)
     }
+}
+
+/// The emitter's axis and its two in-plane axes [axis, e1, e2] (global frame, unit vectors):
+/// the axis is +z tilted by `tilt_deg` towards `tilt_toward_deg` (measured from +x towards +y);
+/// e1 tilts with the axis in the plane of tilt (it is +x untilted, the direction of a
+/// rectangle's width) and e2 = axis × e1 stays perpendicular to that plane.
+pub fn emitter_frame(source: &Source) -> [DVec3; 3] {
+    let tilt = source.tilt_deg.to_radians();
+    let toward = source.tilt_toward_deg.to_radians();
+    let (st, ct) = (libm::sin(tilt), libm::cos(tilt));
+    let (sa, ca) = (libm::sin(toward), libm::cos(toward));
+    let axis = DVec3::new(st * ca, st * sa, ct);
+    let e1 = DVec3::new(ct * ca, ct * sa, -st);
+    let e2 = axis.cross(e1);
+    [axis, e1, e2]
 }
 
 fn table_law(points: &[[f64; 2]]) -> Law {

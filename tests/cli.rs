@@ -343,7 +343,11 @@ fn csv_rows_parse_and_the_budget_sums_to_one() {
         let json: Value =
             serde_json::from_str(&ok_stdout(&["trace", path, "--rays", "6000"], "")).unwrap();
         let scenario = read_scenario(path);
-        let secs = csv_sections(&csv);
+        let mut secs = csv_sections(&csv);
+        // The exit figures close the file, two sections (tests/exit_figures.rs checks them).
+        let exit_figures = secs.split_off(secs.len() - 2);
+        assert_eq!(exit_figures[0][0][0], "Exit figures", "{path}: {csv}");
+        assert_eq!(exit_figures[1][0][0], "Exit face blocks", "{path}: {csv}");
         let absolute = !json["absolute"].is_null();
         // Header, budget, (absolute figures), segments, mounts, then three of the exit face.
         assert_eq!(secs.len(), if absolute { 8 } else { 7 }, "{path}: {csv}");

@@ -1,6 +1,6 @@
 //! Coated zones of the side wall (white paint, metal, black): the bookkeeping is exact, the
 //! white paint's re-emission follows Lambert's cosine law, and bad coatings get plain messages.
-//! Sources are named at each check (docs/REFERENCES.md §9).
+//! Sources are named at each check (docs/REFERENCES.md §11).
 #![allow(clippy::disallowed_methods)] // checks may use std maths; the core uses libm
 #[cfg(target_arch = "wasm32")]
 use wasm_bindgen_test::wasm_bindgen_test as test;

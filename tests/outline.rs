@@ -21,7 +21,7 @@ use tirtrace::outline::{
 use tirtrace::scenario::{Scenario, Section, Segment, SegmentKind};
 
 /// Every example scenario (compiled in, so the wasm run checks them too).
-const EXAMPLES: [(&str, &str); 9] = [
+const EXAMPLES: [(&str, &str); 10] = [
     (
         "bench_three_bends.json",
         include_str!("../examples/scenarios/bench_three_bends.json"),
@@ -49,6 +49,10 @@ const EXAMPLES: [(&str, &str); 9] = [
     (
         "right_angle_pipe_mirrored_bend.json",
         include_str!("../examples/scenarios/right_angle_pipe_mirrored_bend.json"),
+    ),
+    (
+        "panel_status_bar_rectangular_chip.json",
+        include_str!("../examples/scenarios/panel_status_bar_rectangular_chip.json"),
     ),
     (
         "soil_sensor_ambient_light_window.json",

@@ -378,6 +378,17 @@ pub enum EmitterArea {
         #[schemars(transform = crate::schema::within(limits::EMITTER_MM))]
         side_mm: f64,
     },
+    /// A rectangle (a rectangular chip, e.g. 1.6 × 0.8 mm): its width along the emitter's first
+    /// axis (the entry section's width axis when the source is not tilted; it turns with the
+    /// tilt), its height across it.
+    Rectangle {
+        /// Width, mm.
+        #[schemars(transform = crate::schema::within(limits::EMITTER_MM))]
+        width_mm: f64,
+        /// Height, mm.
+        #[schemars(transform = crate::schema::within(limits::EMITTER_MM))]
+        height_mm: f64,
+    },
 }
 
 /// Angular intensity pattern of an LED.

@@ -373,15 +373,25 @@ fn check_source(s: &Source, out: &mut FieldErrors) -> Option<f64> {
 fn check_emitter(emitter: &Emitter, out: &mut FieldErrors) {
     match emitter {
         Emitter::Led { area, pattern } => {
-            let (field, size_mm) = match *area {
+            match *area {
                 EmitterArea::Disk { diameter_mm } => {
-                    ("source.emitter.led.area.disk.diameter_mm", diameter_mm)
+                    let field = "source.emitter.led.area.disk.diameter_mm";
+                    out.range(field, diameter_mm, EMITTER_MM);
                 }
                 EmitterArea::Square { side_mm } => {
-                    ("source.emitter.led.area.square.side_mm", side_mm)
+                    let field = "source.emitter.led.area.square.side_mm";
+                    out.range(field, side_mm, EMITTER_MM);
                 }
-            };
-            out.range(field, size_mm, EMITTER_MM);
+                EmitterArea::Rectangle {
+                    width_mm,
+                    height_mm,
+                } => {
+                    let field = "source.emitter.led.area.rectangle.width_mm";
+                    out.range(field, width_mm, EMITTER_MM);
+                    let field = "source.emitter.led.area.rectangle.height_mm";
+                    out.range(field, height_mm, EMITTER_MM);
+                }
+            }
             match pattern {
                 Pattern::Lambertian => {}
                 Pattern::HalfIntensity { half_angle_deg } => {

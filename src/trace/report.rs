@@ -6,6 +6,9 @@ use super::{
     Batch, FluxUnit, Hist, IntensityUnit, Path, Prepared, SegmentKind, ANGULAR_CELLS, MAP_CELLS,
     ROUTE_BINS,
 };
+use crate::exit_figures::{
+    half_intensity_full_angle, half_intensity_reference, ExitFigures, Uniformity,
+};
 use crate::scenario::Flux;
 use crate::stats::{Estimate, Share};
 
@@ -113,6 +116,19 @@ impl Prepared {
                 },
             }
         };
+        let exit_figures = ExitFigures {
+            exit_face_uniformity: Uniformity::of_exit_map(
+                &batch.exit_map,
+                batch.rays,
+                MAP_CELLS,
+                &self.route.exit_section,
+            ),
+            half_intensity_full_angle_deg: half_intensity_full_angle(
+                &batch.angle_hist,
+                batch.rays,
+                half_intensity_reference(&intensity.on_axis, &intensity.peak),
+            ),
+        };
         TraceReport {
             rays: batch.rays,
             seed: self.scenario.trace.seed,
@@ -147,6 +163,7 @@ impl Prepared {
                     ci95,
                 }
             },
+            exit_figures,
             paths: batch.paths.clone(),
         }
     }
@@ -685,6 +702,9 @@ pub struct TraceReport {
     pub angular_map: AngularMap,
     /// Leakage along the route.
     pub leak_along_route: RouteProfile,
+    /// The exit's uniformity and half-intensity angle ([`crate::exit_figures`]).
+    #[serde(default)]
+    pub exit_figures: ExitFigures,
     /// Sampled ray paths (left out of the JSON when none were asked for).
     #[serde(default, skip_serializing_if = "Vec::is_empty")]
     pub paths: Vec<Path>,

@@ -383,13 +383,32 @@ export class Editor {
       const led = src.emitter.led;
       const area = variant(led.area);
       rows.push(
-        this.choice('source.emitter.led.area', 'Emitting area', [['square', 'Square chip'], ['disk', 'Round chip']], area, (v) => {
-          led.area = v === 'disk' ? { disk: { diameter_mm: 0.5 } } : { square: { side_mm: 0.5 } };
-        }),
-        area === 'disk'
-          ? this.num('source.emitter.led.area.disk.diameter_mm', 'Chip diameter', 'mm')
-          : this.num('source.emitter.led.area.square.side_mm', 'Chip side', 'mm'),
+        this.choice(
+          'source.emitter.led.area',
+          'Emitting area',
+          [['square', 'Square chip'], ['disk', 'Round chip'], ['rectangle', 'Rectangular chip']],
+          area,
+          (v) => {
+            if (v === 'disk') led.area = { disk: { diameter_mm: 0.5 } };
+            else if (v === 'rectangle') led.area = { rectangle: { width_mm: 1.6, height_mm: 0.8 } };
+            else led.area = { square: { side_mm: 0.5 } };
+          },
+          { hint: 'A side-emitting package is its emitting window facing the entry; Tilt and Tilt toward set its beam’s angle to the pipe when it does not face it squarely.' },
+        ),
       );
+      if (area === 'disk') rows.push(this.num('source.emitter.led.area.disk.diameter_mm', 'Chip diameter', 'mm'));
+      else if (area === 'rectangle') {
+        rows.push(
+          h(
+            'div',
+            { class: 'pair' },
+            this.num('source.emitter.led.area.rectangle.width_mm', 'Chip width', 'mm', {
+              hint: 'Along the pipe’s width when not tilted; Tilt toward turns it (90: along the height).',
+            }),
+            this.num('source.emitter.led.area.rectangle.height_mm', 'Chip height', 'mm'),
+          ),
+        );
+      } else rows.push(this.num('source.emitter.led.area.square.side_mm', 'Chip side', 'mm'));
       const pattern = variant(led.pattern);
       rows.push(
         this.choice(

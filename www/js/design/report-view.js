@@ -4,6 +4,7 @@
 // textContent (names from files are never HTML).
 
 import { $, h } from '../dom.js';
+import { exitFigureItems, exitFiguresNote } from './exit-figures.js';
 import { formatCount, formatFixed, formatHalfWidth, formatQuantity, formatShare, formatShareCi, orDash } from '../format.js';
 
 /** The colour of each budget share, by the core's key for it (the words and the order are the core's). */
@@ -92,6 +93,7 @@ export function showReport(report, figures, scenario) {
     extra.push([`On-axis intensity (mean over ${windowText(axis)})`, q(abs.on_axis_intensity, abs.intensity_unit)]);
     if (abs.mean_exit_luminance) extra.push(['Mean luminance of the exit face, along its axis', q(abs.mean_exit_luminance, 'cd/m²')]);
   }
+  extra.push(...exitFigureItems(report.exit_figures));
   $('extra').replaceChildren(...extra.map(([k, v]) => h('div', { class: 'extra-item' }, h('dt', { text: k }), h('dd', { text: v }))));
   $('extra').hidden = extra.length === 0;
   const note = $('extra-note');
@@ -99,8 +101,9 @@ export function showReport(report, figures, scenario) {
     const sr = formatFixed(axis.solid_angle_sr, 3);
     const luminance = abs.mean_exit_luminance ? ' Mean luminance along the axis = on-axis intensity ÷ area of the exit face: the luminance of each point of the face, averaged over the face.' : '';
     note.textContent = `Intensities are means over at least ${sr} sr (the ${formatFixed(axis.to_deg, 0)}° cone about the exit axis, or a ring as large): a 1° ring holds too few rays to trust.${luminance}`;
-  }
-  note.hidden = !(abs && axis);
+  } else note.textContent = '';
+  if (report.exit_figures) note.textContent = `${note.textContent} ${exitFiguresNote(report.exit_figures)}`.trim();
+  note.hidden = note.textContent === '';
 
   // Budget by mechanism: one stacked bar and a table.
   const b = report.budget;

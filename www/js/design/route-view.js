@@ -544,6 +544,14 @@ export class RouteView {
       }
     }
     g.lineWidth = 1.5;
+    if (o.source_mm && o.source_width_axis) {
+      // The emitting area to scale, in its own plane (a disk, square or rectangle).
+      ring(o.source_mm, o.source_width_axis, o.source_height_axis, o.source_half_width_mm, o.source_half_height_mm, o.source_round);
+      g.fillStyle = 'rgba(240, 140, 0, 0.35)';
+      g.fill();
+      g.strokeStyle = '#5c3b00';
+      g.stroke();
+    }
     if (o.source_mm) {
       const [sx, sy] = this.toScreen(o.source_mm);
       g.fillStyle = '#f08c00';

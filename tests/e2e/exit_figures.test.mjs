@@ -1,0 +1,63 @@
+// The rectangular chip in the form and the exit figures in the report's figure list, against the
+// native CLI's report of the same scenario (native = wasm bit for bit, so the texts agree).
+import { test } from 'node:test';
+import assert from 'node:assert/strict';
+import { readFileSync } from 'node:fs';
+import { join } from 'node:path';
+import { ROOT, OUT } from './harness.mjs';
+import { assertNoJunk, closeDesignPage, cliTrace, designPage, openKept, pageScenario, tracedAfter } from './design-helpers.mjs';
+
+const example = JSON.parse(readFileSync(join(ROOT, 'examples', 'scenarios', 'panel_status_bar_rectangular_chip.json'), 'utf8'));
+const scenario = { ...example, trace: { ...example.trace, rays: 40_000 } };
+
+for (const viewport of [{ width: 1280, height: 800 }, { width: 820, height: 1180 }]) {
+  test(`rectangular chip and exit figures at ${viewport.width}×${viewport.height}`, async () => {
+    const errors = [];
+    const opened = await designPage(errors, { viewport });
+    try {
+      const { page } = opened;
+      await openKept(page, scenario);
+      // The form: the choice and both sizes, labelled.
+      const area = page.locator('select[data-path="source.emitter.led.area"]');
+      assert.equal(await area.inputValue(), 'rectangle');
+      assert.ok((await area.locator('option').allTextContents()).includes('Rectangular chip'));
+      for (const [path, label] of [['width_mm', 'Chip width'], ['height_mm', 'Chip height']]) {
+        const input = page.locator(`input[data-path="source.emitter.led.area.rectangle.${path}"]`);
+        assert.equal(await input.count(), 1, path);
+        const id = await input.getAttribute('id');
+        assert.match(await page.locator(`label[for="${id}"]`).innerText(), new RegExp(label));
+      }
+      // The figures, as the CLI reports them.
+      const cli = cliTrace(await pageScenario(page)).exit_figures;
+      const items = await page.$$eval('#extra .extra-item', (els) => els.map((e) => [e.querySelector('dt').textContent, e.querySelector('dd').textContent]));
+      const find = (start) => items.find(([k]) => k.startsWith(start));
+      const u = cli.exit_face_uniformity;
+      const ratio = find('Exit face uniformity, least ÷ greatest');
+      assert.ok(ratio, JSON.stringify(items));
+      assert.ok(ratio[0].includes(`${u.blocks_counted} of ${u.blocks_on_face} blocks`), ratio[0]);
+      assert.ok(ratio[1].startsWith(Number(u.min_over_max.value.toPrecision(3)).toString()), `${ratio[1]} against ${u.min_over_max.value}`);
+      const cv = find('Exit face variation');
+      assert.ok(cv[1].startsWith(u.coefficient_of_variation.value.toFixed(3)), `${cv[1]} against ${u.coefficient_of_variation.value}`);
+      const angle = find('Half-intensity full angle');
+      assert.equal(angle[1], `${cli.half_intensity_full_angle_deg.value.toFixed(1)}° ± ${cli.half_intensity_full_angle_deg.ci95.toFixed(1)}°`);
+      assert.match(await page.locator('#extra-note').innerText(), /9 × 9 blocks/);
+      await assertNoJunk(page, 'exit figures');
+      // One column (tablets): the figures open below the answer with one tap.
+      if (viewport.width <= 1000) await page.click('.answer-card .more-figures');
+      await page.locator('#extra').scrollIntoViewIfNeeded();
+      await page.screenshot({ path: join(OUT, `exit-figures-${viewport.width}.png`) });
+      // A chip of no height: the message names the field and its range, under it.
+      const height = page.locator('input[data-path="source.emitter.led.area.rectangle.height_mm"]');
+      await height.fill('0');
+      await height.dispatchEvent('change');
+      const msg = page.locator('.field-msg[data-for="source.emitter.led.area.rectangle.height_mm"]');
+      await msg.waitFor({ state: 'visible' });
+      assert.match(await msg.innerText(), /Chip height.*at least 0\.001 mm/);
+      await height.scrollIntoViewIfNeeded();
+      await page.screenshot({ path: join(OUT, `rectangular-chip-${viewport.width}.png`) });
+      assert.deepEqual(errors, []);
+    } finally {
+      await closeDesignPage(opened);
+    }
+  });
+}

@@ -47,12 +47,12 @@ const EXAMPLES: [(&str, &str); 10] = [
         include_str!("../examples/scenarios/panel_indicator_domed_lens.json"),
     ),
     (
-        "right_angle_pipe_mirrored_bend.json",
-        include_str!("../examples/scenarios/right_angle_pipe_mirrored_bend.json"),
-    ),
-    (
         "panel_status_bar_rectangular_chip.json",
         include_str!("../examples/scenarios/panel_status_bar_rectangular_chip.json"),
+    ),
+    (
+        "right_angle_pipe_mirrored_bend.json",
+        include_str!("../examples/scenarios/right_angle_pipe_mirrored_bend.json"),
     ),
     (
         "soil_sensor_ambient_light_window.json",

@@ -99,7 +99,7 @@ describe('light turned back at the exit face, on the design page', { concurrency
     await page.screenshot({ path: join(OUT, 'turn-back-1280x800.png'), fullPage: true });
     await page.locator('.budget-card').screenshot({ path: join(OUT, 'turn-back-budget-1280x800.png') });
     await page.locator('.bends-card').screenshot({ path: join(OUT, 'turn-back-bends-1280x800.png') });
-    await page.locator('.bends-card .table-wrap').evaluate((el) => { el.scrollLeft = el.scrollWidth; });
+    await page.locator('.bends-card .table-wrap').first().evaluate((el) => { el.scrollLeft = el.scrollWidth; });
     await page.locator('.bends-card').screenshot({ path: join(OUT, 'turn-back-bends-right-1280x800.png') });
   });
 
@@ -151,7 +151,7 @@ describe('light turned back at the exit face, on the design page', { concurrency
       await p.screenshot({ path: join(OUT, 'turn-back-820x1180.png'), fullPage: true });
       await p.locator('.budget-card').screenshot({ path: join(OUT, 'turn-back-budget-820x1180.png') });
       await p.locator('.bends-card').screenshot({ path: join(OUT, 'turn-back-bends-820x1180.png') });
-      await p.locator('.bends-card .table-wrap').evaluate((el) => { el.scrollLeft = el.scrollWidth; });
+      await p.locator('.bends-card .table-wrap').first().evaluate((el) => { el.scrollLeft = el.scrollWidth; });
       await p.locator('.bends-card').screenshot({ path: join(OUT, 'turn-back-bends-right-820x1180.png') });
     } finally {
       await tablet.close();

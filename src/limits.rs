@@ -410,6 +410,10 @@ pub const EMITTER_MM: Range = size_mm(1000.0);
 /// Gap between the emitter and the entry face, mm. Sanity: a metre.
 pub const GAP_MM: Range = Range::closed(0.0, 1000.0).unit(" mm");
 
+/// The gap's range in the document's schema: below 0 only with a pocket in the entry face, less
+/// deep than the pocket (checked with it); the schema can only bound it by the deepest pocket.
+pub const GAP_ANY_FACE_MM: Range = Range::open_closed(-FACE_RADIUS_MM.hi, GAP_MM.hi).unit(" mm");
+
 /// Lateral offset of the emitter from the guide axis, mm, each way. Sanity: a metre.
 pub const OFFSET_MM: Range = Range::closed(-1000.0, 1000.0).unit(" mm");
 

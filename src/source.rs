@@ -95,6 +95,41 @@ impl SourceSampler {
         }
     }
 
+    /// How far the emitting area rises above the entry plane z = 0, mm (negative when it lies
+    /// wholly in front of it): the centre's z plus the area's reach along z, exact for each shape
+    /// (a rectangle's corner `half_w |e1_z| + half_h |e2_z|`; a disk's rim `r √(e1_z² + e2_z²)`).
+    pub fn top_z_mm(&self) -> f64 {
+        let (a, b) = (self.e1.z.abs(), self.e2.z.abs());
+        let reach = match self.area {
+            Area::Disk { radius } => radius * (a * a + b * b).sqrt(),
+            Area::Square { half } => half * (a + b),
+            Area::Rectangle { half_w, half_h } => half_w * a + half_h * b,
+        };
+        self.centre.z + reach
+    }
+
+    /// The greatest distance from `point` to the emitting area, mm: exact for each shape. A
+    /// polygon's farthest point is a corner; a disk's is on its rim, at
+    /// √(|m|² + r² + 2 r |m∥|) with m the centre's offset from `point` and m∥ its part in the
+    /// disk's plane.
+    pub fn farthest_from_mm(&self, point: DVec3) -> f64 {
+        let m = self.centre - point;
+        let corners = |hw: f64, hh: f64| {
+            [(-1.0, -1.0), (-1.0, 1.0), (1.0, -1.0), (1.0, 1.0)]
+                .iter()
+                .map(|(s, t)| (m + s * hw * self.e1 + t * hh * self.e2).length())
+                .fold(0.0, f64::max)
+        };
+        match self.area {
+            Area::Disk { radius } => {
+                let in_plane = m - m.dot(self.axis) * self.axis;
+                (m.length_squared() + radius * radius + 2.0 * radius * in_plane.length()).sqrt()
+            }
+            Area::Square { half } => corners(half, half),
+            Area::Rectangle { half_w, half_h } => corners(half_w, half_h),
+        }
+    }
+
     /// One ray: (start point, unit direction), global frame, from four uniform numbers in
     /// [0, 1): two for the point (uniform over the emitting area; e1 carries a rectangle's
     /// width), one for the polar and one for the azimuthal angle about the emitter's axis.

@@ -103,8 +103,13 @@ pub fn rim_radius_mm(section: Section) -> f64 {
 /// The end faces' checks (the section at the exit face is `exit_section`): each face's numbers
 /// within their ranges, a dome's radius more than half its section's size across the corners,
 /// a textured face at the exit only, and room for what stands out: the source's gap wider than
-/// the entry face's height, the receiver farther than the exit face's.
-pub(crate) fn check_faces(s: &Scenario, exit_section: Section, out: &mut FieldErrors) {
+/// the entry face's height, the receiver farther than the exit face's. Returns the entry face's
+/// pocket when it is valid (the LED may then sit inside it: [`check_led_in_pocket`]).
+pub(crate) fn check_faces(
+    s: &Scenario,
+    exit_section: Section,
+    out: &mut FieldErrors,
+) -> Option<pocket::Pocket> {
     let entry = s.guide.entry_face;
     let exit = s.guide.exit_face;
     if let Face::Textured { .. } = entry {
@@ -120,9 +125,19 @@ pub(crate) fn check_faces(s: &Scenario, exit_section: Section, out: &mut FieldEr
         );
     }
     let entry_ok = check_face("guide.entry_face", entry, s.guide.section, out);
-    if let (true, Face::Pocket { depth_mm, .. }) = (entry_ok, entry) {
-        check_pocket_room(depth_mm, s.route.first(), out);
-    }
+    let valid_pocket = match (entry_ok, entry) {
+        (
+            true,
+            Face::Pocket {
+                radius_mm,
+                depth_mm,
+            },
+        ) => {
+            check_pocket_room(depth_mm, s.route.first(), out);
+            Some(pocket::Pocket::new(radius_mm, depth_mm))
+        }
+        _ => None,
+    };
     let exit_ok = check_face("guide.exit_face", exit, exit_section, out);
     if entry_ok && !entry.is_flat() {
         let h = entry.height_mm(s.guide.section);
@@ -153,6 +168,35 @@ pub(crate) fn check_faces(s: &Scenario, exit_section: Section, out: &mut FieldEr
                 ),
             );
         }
+    }
+    valid_pocket
+}
+
+/// An LED partly above the entry plane (a negative gap, or a tilt that lifts an edge) sits in
+/// the entry face's pocket: its whole emitting area must lie inside the pocket's sphere (the
+/// sphere is convex, so its corners — a disk's farthest rim point — inside suffice; below the
+/// entry plane the ball is the gap's medium too). `source` is valid.
+pub(crate) fn check_led_in_pocket(
+    source: &crate::scenario::Source,
+    pocket: &pocket::Pocket,
+    out: &mut FieldErrors,
+) {
+    let led = crate::source::SourceSampler::new(source);
+    if led.top_z_mm() <= 0.0 {
+        return;
+    }
+    let beyond_mm = led.farthest_from_mm(pocket.centre) - pocket.radius_mm;
+    if beyond_mm >= 0.0 {
+        out.push(
+            "source.gap_mm",
+            format!(
+                "puts part of the LED above the entry face, inside its pocket, where all of the \
+                 emitting area must fit; at {} mm it reaches {} mm past the pocket's surface (a \
+                 gap nearer 0 or above it, a smaller offset or tilt, or a wider or deeper pocket)",
+                show(source.gap_mm),
+                show(beyond_mm.max(0.001))
+            ),
+        );
     }
 }
 

@@ -312,9 +312,10 @@ pub struct Source {
     /// Vacuum wavelength, nm.
     #[schemars(transform = crate::schema::within(limits::WAVELENGTH_NM))]
     pub wavelength_nm: f64,
-    /// Distance from the emitter to the entry face, mm.
+    /// Distance from the emitter to the entry face, mm. Below 0 the LED sits inside the entry
+    /// face's pocket (only with a pocket, less deep than it, and the LED must fit in it).
     #[serde(default)]
-    #[schemars(transform = crate::schema::within(limits::GAP_MM))]
+    #[schemars(transform = crate::schema::within(limits::GAP_ANY_FACE_MM))]
     pub gap_mm: f64,
     /// Medium filling the gap (air, an index-matching gel…).
     #[serde(default = "air")]

@@ -26,14 +26,18 @@ impl Scenario {
         out.version(self.version, SCENARIO_VERSION);
         check_guide(&self.guide, &mut out);
         let exit_section = check_route(self.guide.section, &self.route, &mut out);
-        crate::faces::check_faces(self, exit_section, &mut out);
+        let pocket = crate::faces::check_faces(self, exit_section, &mut out);
         for (k, contact) in self.guide.contacts.iter().enumerate() {
             check_contact(k, contact, self.guide.section, &self.route, &mut out);
         }
         for (k, coating) in self.guide.coatings.iter().enumerate() {
             super::coating::check_coating(k, coating, self.guide.section, &self.route, &mut out);
         }
-        let wavelength_nm = check_source(&self.source, &mut out);
+        let problems_before_source = out.0.len();
+        let wavelength_nm = check_source(&self.source, pocket.map(|p| p.depth_mm), &mut out);
+        if let (Some(pocket), true) = (pocket, out.0.len() == problems_before_source) {
+            crate::faces::check_led_in_pocket(&self.source, &pocket, &mut out);
+        }
         if let Some(receiver) = &self.receiver {
             check_receiver(receiver, &mut out);
         }
@@ -349,14 +353,24 @@ pub(super) fn check_zone_place(
     out.range(&format!("{path}.sector_to_deg"), c.sector_to_deg, sector_to);
 }
 
-/// The source; its wavelength when valid.
-fn check_source(s: &Source, out: &mut FieldErrors) -> Option<f64> {
+/// The source; its wavelength when valid. With a pocket of depth `pocket_depth_mm` in the
+/// entry face the gap may be negative, less than the depth: the LED then sits inside the pocket.
+fn check_source(s: &Source, pocket_depth_mm: Option<f64>, out: &mut FieldErrors) -> Option<f64> {
     let wavelength_nm = out.range(
         "source.wavelength_nm",
         s.wavelength_nm,
         crate::limits::WAVELENGTH_NM,
     );
-    out.range("source.gap_mm", s.gap_mm, GAP_MM);
+    let gap = match pocket_depth_mm {
+        Some(depth_mm) => crate::limits::Range {
+            lo: -depth_mm,
+            lo_closed: false,
+            ..GAP_MM
+                .note(" (below 0 the LED sits inside the entry face's pocket, less deep than it)")
+        },
+        None => GAP_MM,
+    };
+    out.range("source.gap_mm", s.gap_mm, gap);
     out.range("source.offset_mm[0]", s.offset_mm[0], OFFSET_MM);
     out.range("source.offset_mm[1]", s.offset_mm[1], OFFSET_MM);
     out.range("source.tilt_deg", s.tilt_deg, TILT_DEG);

@@ -243,6 +243,12 @@ impl Walk<'_> {
         ];
         let (start, dir) = p.source.sample(u);
         self.trail.push(|| start);
+        if let Some(pocket) = &p.faces.pocket {
+            // An LED sitting in the pocket (validated to lie inside its sphere).
+            if start.z > 0.0 {
+                return self.launch_in_pocket(pocket, start, dir);
+            }
+        }
         if dir.z <= 0.0 {
             self.trail.push(|| start + 2.0 * dir);
             return Err(self.end_outside(p.ledger.missed_entry(), Fate::Missed));

@@ -85,6 +85,34 @@ for (const viewport of [{ width: 1280, height: 800 }, { width: 820, height: 1180
       await page.screenshot({ path: join(OUT, `faces-pocket-${viewport.width}.png`) });
     });
 
+    test('an LED inside the pocket: a negative gap down to the depth traces as the CLI; deeper is named', async () => {
+      const { page } = opened;
+      const doc = small(PANEL);
+      doc.guide.entry_face = { pocket: { radius_mm: 1.2, depth_mm: 0.9 } };
+      doc.source.emitter = { led: { area: { square: { side_mm: 0.5 } }, pattern: 'lambertian' } };
+      await openKept(page, doc);
+      const gap = page.locator('[data-path="source.gap_mm"]');
+      assert.match(await page.locator(`#${await gap.getAttribute('id')}-hint`).textContent(), /Below 0 the LED sits inside the pocket/);
+      await tracedAfter(page, async () => {
+        await gap.fill('-0.4');
+        await gap.press('Tab');
+      });
+      await assertMatchesCli(page, 'an LED inside the pocket');
+      await gap.fill('-1');
+      await gap.press('Tab');
+      const msg = page.locator('.field-msg[data-for="source.gap_mm"]');
+      await msg.waitFor({ state: 'visible' });
+      assert.match(await msg.textContent(), /^Gap to the entry face must be more than -0\.9 mm \(below 0 the LED sits inside the entry face's pocket/);
+      await msg.evaluate((e) => e.scrollIntoView({ block: 'center' }));
+      await page.screenshot({ path: join(OUT, `faces-led-in-pocket-${viewport.width}.png`) });
+      await tracedAfter(page, async () => {
+        await gap.fill('-0.4');
+        await gap.press('Tab');
+      });
+      await page.locator('#route-view').scrollIntoViewIfNeeded();
+      await page.locator('#route-view').screenshot({ path: join(OUT, `faces-led-in-pocket-view-${viewport.width}.png`) });
+    });
+
     test('a textured exit face traces as the CLI', async () => {
       const { page } = opened;
       await openKept(page, small(PANEL));

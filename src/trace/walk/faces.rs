@@ -321,6 +321,24 @@ impl Walk<'_> {
         }
     }
 
+    /// A ray starting inside the pocket (the LED sits in it) at global `start` along `dir`: it
+    /// leaves through the mouth without meeting the pocket's surface (it missed the entry), or
+    /// meets the surface and goes on as one arriving in the mouth.
+    pub(super) fn launch_in_pocket(
+        &mut self,
+        pocket: &Pocket,
+        start: DVec3,
+        dir: DVec3,
+    ) -> Result<Ray, Fate> {
+        let (t, sphere) = pocket.leave(start, dir);
+        if !sphere {
+            self.trail.push(|| start + t * dir);
+            self.trail.push(|| start + (t + 2.0) * dir);
+            return Err(self.end_outside(self.p.ledger.missed_entry(), Fate::Missed));
+        }
+        self.launch_into_pocket(pocket, start, dir)
+    }
+
     /// A ray from the emitter arriving in the pocket's mouth at global `hit` along `dir`: it
     /// enters the first segment through the pocket's surface, or leaves back through the mouth
     /// (reflected at the entry).

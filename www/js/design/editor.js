@@ -439,7 +439,9 @@ export class Editor {
     }
     rows.push(
       this.num('source.wavelength_nm', 'Wavelength', 'nm', { hint: 'Blue ≈ 465, green ≈ 525, amber ≈ 590, red ≈ 630, infrared 850 or 940.' }),
-      this.num('source.gap_mm', 'Gap to the entry face', 'mm'),
+      this.num('source.gap_mm', 'Gap to the entry face', 'mm', this.s.guide.entry_face?.pocket
+        ? { hint: 'Below 0 the LED sits inside the pocket (up to the pocket’s depth); all of its emitting area must fit in it.' }
+        : {}),
       ...this.material('source.gap_medium', 'In the gap', { filter: (m) => m.id === 'air' || m.id === 'water' || m.id === 'propylene_glycol' }),
       h('div', { class: 'pair' }, this.num('source.offset_mm[0]', 'Offset across', 'mm'), this.num('source.offset_mm[1]', 'Offset up', 'mm')),
       h('div', { class: 'pair' }, this.num('source.tilt_deg', 'Tilt', 'deg'), this.num('source.tilt_toward_deg', 'Tilt toward', 'deg')),

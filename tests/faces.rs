@@ -700,6 +700,23 @@ fn an_led_in_a_pocket_must_fit_in_it() {
     );
     // A 1.2 mm chip 0.5 mm up in a 1 mm sphere centred 0.2 mm below the plane: its corners are
     // √(0.6² + 0.6² + 0.7²) = 1.100 mm from the centre, 0.1 mm past the surface.
+    // Tilted 30°, a 2 mm chip 0.1 mm in front of the entry plane lifts an edge 0.4 mm past it,
+    // into the material beside the pocket.
+    let doc = json!({"version": 1,
+        "guide": {"section": {"round": {"diameter_mm": 3}}, "material": {"library": "pmma"},
+                  "surroundings": {"library": "air"}, "entry_face": pocket},
+        "route": [{"straight": {"length_mm": 5}}],
+        "source": {"emitter": chip(2.0), "wavelength_nm": 550, "gap_mm": 0.1, "tilt_deg": 30}});
+    let p: Vec<String> = Scenario::from_json(&doc.to_string())
+        .unwrap()
+        .problems()
+        .into_iter()
+        .map(|p| p.to_string())
+        .collect();
+    assert!(
+        p.len() == 1 && p[0].starts_with("source.gap_mm puts part of the LED above the entry face"),
+        "{p:?}"
+    );
     let p = problems(pocket, chip(1.2), -0.5);
     assert_eq!(p.len(), 1, "{p:?}");
     assert!(

@@ -15,7 +15,8 @@ use std::collections::BTreeSet;
 use serde_json::{json, Value};
 use tirtrace::faces::{rim_radius_mm, Face};
 use tirtrace::geometry::PlacedRoute;
-use tirtrace::scenario::{Scenario, Segment};
+use tirtrace::scenario::{Emitter, EmitterArea, Scenario, Segment};
+use tirtrace::source::SourceSampler;
 use tirtrace::trace::{Budget, PrefixMerger, Prepared};
 
 /// The routes of [`random_scenario`]: 1–5 segments of every kind, bends of 5° to 180° from 1.05
@@ -147,7 +148,7 @@ fn with_random_faces(rng: &mut Rng, s: &mut Scenario) {
     s.guide.entry_face = face(rng, s.guide.section, false);
     // A pocket over the LED when the route starts straight: a mouth within the section, no
     // deeper than its radius nor the first straight (a² = d (2R − d)).
-    if let (Segment::Straight { length_mm }, true) = (s.route[0], rng.chance(0.3)) {
+    if let (Segment::Straight { length_mm }, true) = (s.route[0], rng.chance(0.5)) {
         let (hw, hh) = s.guide.section.half_sizes_mm();
         let a = hw.min(hh) * rng.range(0.2, 0.95);
         let d = (a * rng.range(0.2, 1.0)).min(0.9 * length_mm);
@@ -155,6 +156,25 @@ fn with_random_faces(rng: &mut Rng, s: &mut Scenario) {
             radius_mm: (a * a + d * d) / (2.0 * d),
             depth_mm: d,
         };
+        // Half the time a small LED sits inside it, when it fits there.
+        if rng.chance(0.5) {
+            let was = s.source.clone();
+            s.source.gap_mm = -d * rng.range(0.05, 0.9);
+            s.source.offset_mm = [rng.range(-0.2, 0.2) * a, rng.range(-0.2, 0.2) * a];
+            if let Emitter::Led { area, .. } = &mut s.source.emitter {
+                *area = EmitterArea::Square {
+                    side_mm: a * rng.range(0.05, 0.8),
+                };
+            }
+            if !s.problems().is_empty() {
+                s.source = was;
+            }
+        }
+        // Else a tilted LED may not rise past the entry plane beside the pocket.
+        let top_mm = SourceSampler::new(&s.source).top_z_mm();
+        if s.source.gap_mm >= 0.0 && top_mm > 0.0 {
+            s.source.gap_mm += top_mm + 0.01;
+        }
     }
     s.guide.exit_face = face(rng, exit_section, true);
     let entry_h = s.guide.entry_face.height_mm(s.guide.section);
@@ -170,7 +190,7 @@ fn with_random_faces(rng: &mut Rng, s: &mut Scenario) {
 #[test]
 fn budget_sums_to_one_and_shares_are_shares() {
     let mut rng = Rng(2024);
-    let mut with_coatings = 0;
+    let (mut with_coatings, mut led_in_pocket) = (0, 0);
     for case in 0..60 {
         let s = random_scenario(&mut rng, 3000);
         let problems = s.problems();
@@ -230,8 +250,13 @@ fn budget_sums_to_one_and_shares_are_shares() {
         turn_back_is_a_breakdown_of_the_budget(&r, case);
         coatings_are_a_breakdown_of_their_share(&r, case);
         with_coatings += usize::from(!s.guide.coatings.is_empty());
+        led_in_pocket += usize::from(s.source.gap_mm < 0.0);
     }
     assert!(with_coatings >= 10, "{with_coatings} cases with coatings");
+    assert!(
+        led_in_pocket >= 2,
+        "{led_in_pocket} cases with the LED in a pocket"
+    );
 }
 
 /// Each coating absorbs no more than reaches it, and the coatings' share of the budget is the

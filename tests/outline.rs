@@ -21,7 +21,7 @@ use tirtrace::outline::{
 use tirtrace::scenario::{Scenario, Section, Segment, SegmentKind};
 
 /// Every example scenario (compiled in, so the wasm run checks them too).
-const EXAMPLES: [(&str, &str); 10] = [
+const EXAMPLES: [(&str, &str); 11] = [
     (
         "bench_three_bends.json",
         include_str!("../examples/scenarios/bench_three_bends.json"),
@@ -41,6 +41,10 @@ const EXAMPLES: [(&str, &str); 10] = [
     (
         "diffused_status_window.json",
         include_str!("../examples/scenarios/diffused_status_window.json"),
+    ),
+    (
+        "kettle_base_led_in_pocket.json",
+        include_str!("../examples/scenarios/kettle_base_led_in_pocket.json"),
     ),
     (
         "panel_indicator_domed_lens.json",

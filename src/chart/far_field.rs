@@ -97,9 +97,10 @@ pub fn draw_far_field<DB: DrawingBackend>(
         ),
     };
     let foot_lines = [
+        "Angles in the exit face's frame (z its outward normal): horizontal atan2(x, z), towards"
+            .to_string(),
         format!(
-            "Angles in the exit face's frame (z its outward normal): horizontal atan2(x, z) \
-             towards its width axis x, vertical atan2(y, z) towards its height axis y; {}° cells.",
+            "its width axis x; vertical atan2(y, z), towards its height axis y. Cells of {}°.",
             f.cell_deg
         ),
         map_scale_rule(from_steady_cells),
@@ -123,20 +124,18 @@ pub fn draw_far_field<DB: DrawingBackend>(
         body.split_horizontally(body.dim_in_pixel().0.saturating_sub(px(96.0)));
     let label_font = ink_font(px(12.0));
 
-    // Equal degrees per pixel across and down: widen the shorter range to the plotting area.
+    // Equal degrees per pixel across and down: the map's area narrowed (or shortened) about its
+    // middle until the plotting area is square, so that the axes span ±90° exactly.
     let half = 90.0;
-    let build = |x: f64, y: f64| cartesian(&map_area, 8.0, scale, -x..x, -y..y);
-    let (pw, ph) = build(half, half)?.plotting_area().dim_in_pixel();
-    let (pw, ph) = (pw.max(1) as f64, ph.max(1) as f64);
-    let (x_half, y_half) = if pw > ph {
-        (half * pw / ph, half)
-    } else {
-        (half, half * ph / pw)
-    };
-    let mut chart = build(x_half, y_half)?;
-    // Ask for a tick every 10° or closer (plotters picks a round step: 10° or 5°, both dividing
-    // 30°) and write only every 30° within ±90°.
-    let tick_count = |h: f64| libm::ceil(2.0 * h / 10.0) as usize + 1;
+    let (pw, ph) = cartesian(&map_area, 8.0, scale, -half..half, -half..half)?
+        .plotting_area()
+        .dim_in_pixel();
+    let (cut_x, cut_y) = (pw.saturating_sub(ph), ph.saturating_sub(pw));
+    let square = map_area.margin(cut_y / 2, cut_y - cut_y / 2, cut_x / 2, cut_x - cut_x / 2);
+    let mut chart = cartesian(&square, 8.0, scale, -half..half, -half..half)?;
+    // Ask for a tick every 10° (plotters picks a round step: 10°, dividing 30°) and write every
+    // third.
+    let tick_count = libm::ceil(2.0 * half / 10.0) as usize + 1;
     chart
         .configure_mesh()
         .disable_mesh()
@@ -146,8 +145,8 @@ pub fn draw_far_field<DB: DrawingBackend>(
         .label_style(label_font.clone())
         .x_label_formatter(&|x| angle_tick(*x, half))
         .y_label_formatter(&|y| angle_tick(*y, half))
-        .x_labels(tick_count(x_half))
-        .y_labels(tick_count(y_half))
+        .x_labels(tick_count)
+        .y_labels(tick_count)
         .axis_style(FRAME)
         .draw()
         .map_err(draw_err)?;
@@ -251,7 +250,7 @@ mod tests {
         assert!(
             with_flux.contains("Horizontal angle, °") && with_flux.contains("Vertical angle, °")
         );
-        assert!(with_flux.contains("horizontal atan2(x, z)") && with_flux.contains("4° cells"));
+        assert!(with_flux.contains("horizontal atan2(x, z)") && with_flux.contains("Cells of 4°."));
         assert!(with_flux.contains("Colour scale: 1 is the 99th percentile of the cells known"));
         // The caption's top: the steady cells' 99th percentile, in cd (the source is in lm).
         let f = &r.far_field;

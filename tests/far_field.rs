@@ -81,9 +81,10 @@ fn the_map_and_the_sideways_light_add_up_to_the_delivered_share() {
 }
 
 /// Unpolarised Fresnel reflectance from index `n1` into `n2` at incidence cos θᵢ = `cos_i`: the
-/// mean of the s and p reflectances (E. Hecht, *Optics*, 4th ed., 2002, §4.6.2, eqs. 4.34 and
-/// 4.40; M. Born and E. Wolf, *Principles of Optics*, 7th ed., 1999, §1.5.2). Written out here,
-/// apart from the core's `interface` module.
+/// mean of the s and p reflectances (the Fresnel equations: M. Born and E. Wolf, *Principles of
+/// Optics*, §1.5; W. J. Smith, *Modern Optical Engineering*, 4th ed., eqs. 11.1–11.2; E. Hecht,
+/// *Optics*, ch. 4, from memory; docs/REFERENCES.md §2). Written out here, apart from the core's
+/// `interface` module.
 fn fresnel_unpolarised(cos_i: f64, n1: f64, n2: f64) -> f64 {
     let sin_t = n1 / n2 * (1.0 - cos_i * cos_i).sqrt();
     if sin_t >= 1.0 {
@@ -174,8 +175,8 @@ fn compare_axes(r: &TraceReport, law: impl Fn(f64) -> f64) -> (f64, f64, f64, us
 #[test]
 fn a_lambertian_led_through_a_square_rod_keeps_lamberts_law_times_fresnel() {
     // Lambertian through two flat faces: I(θ) = cos θ / π × (1 − R(θ)) / (1 + R(θ))
-    // (lambertian_through_rod: Lambert's law; Fresnel equations, Hecht §4.6.2 / Born & Wolf
-    // §1.5.2), compared cell by cell along both axes of the map.
+    // (lambertian_through_rod: Lambert's law; the Fresnel equations, Born & Wolf §1.5), compared
+    // cell by cell along both axes of the map (docs/REFERENCES.md §13).
     let led = json!({ "led": { "area": { "disk": { "diameter_mm": 1.0 } },
                                "pattern": "lambertian" } });
     let r = run(&square_rod(led, 400_000));

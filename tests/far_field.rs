@@ -337,3 +337,22 @@ fn the_csv_lists_every_cell_with_its_interval() {
     assert!(lines[2 + CELLS * CELLS].is_empty());
     assert!(lines[3 + CELLS * CELLS].starts_with("\"Reaches the window at 90° or more"));
 }
+
+#[cfg(not(target_arch = "wasm32"))]
+#[test]
+fn the_map_is_the_same_for_any_thread_count_and_seeded() {
+    // Batches merged in batch order: the map is bit for bit the serial one on 1 to 3 threads,
+    // and a different seed gives a different map.
+    let mut s = example("panel_indicator_domed_lens.json", 5 * 4096 + 100);
+    let p = Prepared::new(&s).unwrap();
+    let serial = p.report(&p.trace_all_serial(0)).far_field;
+    for threads in [1, 2, 3] {
+        let parallel = p
+            .report(&p.trace_all_parallel(threads, 0).unwrap())
+            .far_field;
+        assert_eq!(parallel, serial, "{threads} threads");
+    }
+    s.trace.seed += 1;
+    let p = Prepared::new(&s).unwrap();
+    assert_ne!(p.report(&p.trace_all_serial(0)).far_field, serial);
+}

@@ -14,7 +14,7 @@ const scenario = { ...example, trace: { ...example.trace, rays: 40_000 } };
 for (const viewport of [{ width: 1280, height: 800 }, { width: 820, height: 1180 }]) {
   test(`far-field intensity map at ${viewport.width}×${viewport.height}`, async () => {
     const errors = [];
-    const opened = await designPage(errors, { viewport });
+    const opened = await designPage(errors, { viewport, acceptDownloads: true });
     try {
       const { page } = opened;
       await openKept(page, scenario);
@@ -29,6 +29,9 @@ for (const viewport of [{ width: 1280, height: 800 }, { width: 820, height: 1180
       const [mine, theirs] = await Promise.all([card.boundingBox(), page.locator('#intensity').locator('xpath=..').boundingBox()]);
       assert.ok(Math.abs(mine.width - theirs.width) < 2, `${mine.width} vs ${theirs.width}`);
       await page.screenshot({ path: join(OUT, `far-field-${viewport.width}.png`) });
+      // Saved as a picture, named after the design and the chart.
+      const [png] = await Promise.all([page.waitForEvent('download'), page.click('button.png[data-canvas="far-field"]')]);
+      assert.match(png.suggestedFilename(), /-far-field\.png$/);
 
       // The numbers behind it: a row per lit cell, as the command line reports them.
       const cli = cliTrace(await pageScenario(page)).far_field;

@@ -22,9 +22,21 @@ fn run(s: &Scenario) -> TraceReport {
     p.report(&p.trace_all_serial(0))
 }
 
+/// An example scenario (read at compile time, so that the checks run in wasm too) at `rays`.
 fn example(name: &str, rays: u64) -> Scenario {
-    let path = format!("{}/examples/scenarios/{name}", env!("CARGO_MANIFEST_DIR"));
-    let mut s = Scenario::from_json(&std::fs::read_to_string(path).unwrap()).unwrap();
+    let text = match name {
+        "thermostat_status_led.json" => {
+            include_str!("../examples/scenarios/thermostat_status_led.json")
+        }
+        "panel_indicator_domed_lens.json" => {
+            include_str!("../examples/scenarios/panel_indicator_domed_lens.json")
+        }
+        "panel_status_bar_rectangular_chip.json" => {
+            include_str!("../examples/scenarios/panel_status_bar_rectangular_chip.json")
+        }
+        _ => panic!("no example {name} here"),
+    };
+    let mut s = Scenario::from_json(text).unwrap();
     s.trace.rays = rays;
     s
 }

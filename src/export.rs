@@ -50,7 +50,9 @@ pub fn percent(x: f64) -> f64 {
 ///    absorbed, wall hits;
 /// 5. the mounts, with the segment they touch numbered from 1;
 /// 6. the light turned back at the exit face ([`turn_back_csv`]);
-/// 7. the exit figures ([`crate::exit_figures::csv`]).
+/// 7. the exit figures ([`crate::exit_figures::csv`]);
+/// 8. the far-field intensity map, a row per cell, and the light leaving at 90° or more from the
+///    exit axis ([`crate::far_field::csv`]; left out for a report without the map).
 ///
 /// Names are quoted (and guarded against formulas); every line ends with a newline. This is
 /// exactly what `tirtrace trace --csv` prints and the page downloads.
@@ -175,7 +177,9 @@ pub fn report_csv(report: &TraceReport, design_name: &str) -> String {
             );
         }
     }
-    s + &turn_back_csv(report) + &crate::exit_figures::csv(&report.exit_figures)
+    s + &turn_back_csv(report)
+        + &crate::exit_figures::csv(&report.exit_figures)
+        + &crate::far_field::csv(&report.far_field)
 }
 
 /// The light turned back at the exit face ([`crate::trace::ExitTurnBack`]), three tables each

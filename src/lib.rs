@@ -18,6 +18,7 @@ pub mod exit_figures;
 pub mod export;
 pub mod faces;
 pub mod fan;
+pub mod far_field;
 pub mod geometry;
 pub mod guide;
 pub mod index;

@@ -344,7 +344,12 @@ fn csv_rows_parse_and_the_budget_sums_to_one() {
             serde_json::from_str(&ok_stdout(&["trace", path, "--rays", "6000"], "")).unwrap();
         let scenario = read_scenario(path);
         let mut secs = csv_sections(&csv);
-        // The exit figures close the file, two sections (tests/exit_figures.rs checks them).
+        // The far-field map closes the file, two sections (tests/far_field.rs checks them).
+        let far_field = secs.split_off(secs.len() - 2);
+        assert!(far_field[0][0][0].starts_with("Intensity map beyond the exit face"));
+        assert_eq!(far_field[0].len(), 2 + 45 * 45, "{path}: a row per cell");
+        assert!(far_field[1][0][0].starts_with("Reaches the window at 90° or more"));
+        // The exit figures before it, two sections (tests/exit_figures.rs checks them).
         let exit_figures = secs.split_off(secs.len() - 2);
         assert_eq!(exit_figures[0][0][0], "Exit figures", "{path}: {csv}");
         assert_eq!(exit_figures[1][0][0], "Exit face blocks", "{path}: {csv}");

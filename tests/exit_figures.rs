@@ -298,6 +298,11 @@ fn the_csv_ends_with_the_exit_figures_as_the_report_has_them() {
         .split("\n\"Exit figures\",")
         .nth(1)
         .expect("an exit figures table");
+    // The far-field map follows (tests/far_field.rs checks it).
+    let (tail, map) = tail
+        .split_once("\n\"Intensity map beyond the exit face")
+        .expect("the far-field map after the exit figures");
+    assert!(map.starts_with(": horizontal angle"), "{map}");
     let f = &r.exit_figures;
     let m = f.exit_face_uniformity.min_over_max.unwrap();
     let cv = f.exit_face_uniformity.coefficient_of_variation.unwrap();

@@ -4,6 +4,7 @@
 //! holds what they share (scale, fonts, axes, labelled lines, the legend box).
 
 mod bend;
+mod far_field;
 mod find;
 mod report;
 mod sweep;
@@ -18,6 +19,7 @@ use plotters::prelude::*;
 use crate::error::TirError;
 
 pub use bend::{bend_curve, draw_bend_chart};
+pub use far_field::draw_far_field;
 pub use find::draw_find_chart;
 pub use report::{
     draw_exit_map, draw_intensity, map_scale_top, sequential_colour, MapScale, MAP_SCALE_CELL_CI,

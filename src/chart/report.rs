@@ -47,7 +47,7 @@ pub fn sequential_colour(value: f64) -> RGBColor {
 
 /// A positive number with three significant figures, in plain notation when it is neither very
 /// large nor very small.
-fn sig3(x: f64) -> String {
+pub(super) fn sig3(x: f64) -> String {
     if !x.is_finite() {
         return "–".to_string();
     }
@@ -74,7 +74,7 @@ fn label_decimals(span: f64) -> usize {
 }
 
 /// The frame drawn round the exit map and the colour scale.
-const FRAME: RGBColor = RGBColor(0x99, 0x99, 0x99);
+pub(super) const FRAME: RGBColor = RGBColor(0x99, 0x99, 0x99);
 
 /// Write `message` in the middle of `area` (under a caption): for a chart with nothing to show.
 fn draw_message<DB: DrawingBackend>(
@@ -94,7 +94,7 @@ fn draw_message<DB: DrawingBackend>(
 
 /// A report chart with nothing to show: `title` on top of the (already filled) `area`,
 /// `message` in the middle, and the drawing presented.
-fn draw_nothing_to_show<DB: DrawingBackend>(
+pub(super) fn draw_nothing_to_show<DB: DrawingBackend>(
     area: &DrawingArea<DB, Shift>,
     title: &str,
     message: &str,
@@ -165,21 +165,37 @@ pub struct MapScale {
 /// cell is known that well (too few rays). `None` when no cell holds light. Cells without a
 /// finite value count as dark.
 pub fn map_scale_top(map: &crate::trace::ExitMap) -> Option<MapScale> {
+    let (top_per_mm2, from_steady_cells, cells_above) =
+        steady_scale_top(&map.share_per_area, &map.share, &map.ci95)?;
+    Some(MapScale {
+        top_per_mm2,
+        from_steady_cells,
+        cells_above,
+    })
+}
+
+/// The rule of [`map_scale_top`] over any map's cells: each cell's `value` (what is coloured),
+/// `share` and `ci95` (its share and that share's 95 % half-width). Returns the top, whether it
+/// comes from the steady cells, and how many cells are brighter; `None` when no cell holds light.
+pub(super) fn steady_scale_top(
+    values: &[f64],
+    share: &[f64],
+    ci95: &[f64],
+) -> Option<(f64, bool, usize)> {
     let value = |k: usize| {
-        let v = map.share_per_area[k];
+        let v = values[k];
         if v.is_finite() {
             v
         } else {
             0.0
         }
     };
-    let lit: Vec<usize> = (0..map.share_per_area.len())
-        .filter(|&k| value(k) > 0.0)
-        .collect();
+    let lit: Vec<usize> = (0..values.len()).filter(|&k| value(k) > 0.0).collect();
     let steady: Vec<f64> = lit
         .iter()
         .filter(|&&k| {
-            let (share, ci) = (map.share[k], map.ci95.get(k).copied().unwrap_or(f64::NAN));
+            let share = share.get(k).copied().unwrap_or(f64::NAN);
+            let ci = ci95.get(k).copied().unwrap_or(f64::NAN);
             ci.is_finite() && ci <= MAP_SCALE_CELL_CI * share
         })
         .map(|&k| value(k))
@@ -196,18 +212,14 @@ pub fn map_scale_top(map: &crate::trace::ExitMap) -> Option<MapScale> {
     values.sort_by(f64::total_cmp);
     // Nearest rank: the smallest value with at least p % of the values at or below it.
     let rank = libm::ceil(MAP_SCALE_PERCENTILE / 100.0 * values.len() as f64) as usize;
-    let top_per_mm2 = values[rank.clamp(1, values.len()) - 1];
-    let cells_above = lit.iter().filter(|&&k| value(k) > top_per_mm2).count();
-    Some(MapScale {
-        top_per_mm2,
-        from_steady_cells,
-        cells_above,
-    })
+    let top = values[rank.clamp(1, values.len()) - 1];
+    let cells_above = lit.iter().filter(|&&k| value(k) > top).count();
+    Some((top, from_steady_cells, cells_above))
 }
 
-/// The rule of the exit map's colour scale, as written under the map.
-fn map_scale_rule(scale: &MapScale) -> String {
-    let cells = if scale.from_steady_cells {
+/// The rule of a map's colour scale ([`map_scale_top`]), as written under the map.
+pub(super) fn map_scale_rule(from_steady_cells: bool) -> String {
+    let cells = if from_steady_cells {
         format!(
             "the cells known to ±{:.0} % (95 %)",
             100.0 * MAP_SCALE_CELL_CI
@@ -260,7 +272,7 @@ pub fn draw_exit_map<DB: DrawingBackend>(
     let (area_h, foot_h) = (area.dim_in_pixel().1, px(22.0));
     let (chart_area, foot) = area.split_vertically(area_h.saturating_sub(foot_h));
     foot.draw(&Text::new(
-        map_scale_rule(&colour_scale),
+        map_scale_rule(colour_scale.from_steady_cells),
         (px(8.0) as i32, foot_h as i32 / 2),
         ink_font(px(12.0)).pos(Pos::new(HPos::Left, VPos::Center)),
     ))
@@ -363,7 +375,7 @@ pub fn draw_exit_map<DB: DrawingBackend>(
 
 /// An intensity with three significant figures in the unit (cd or mW/sr) or a smaller one with
 /// an SI prefix, so that it reads without an exponent: "304 mcd", "12.5 µW/sr".
-fn intensity_text(value: f64, unit: crate::trace::IntensityUnit) -> String {
+pub(super) fn intensity_text(value: f64, unit: crate::trace::IntensityUnit) -> String {
     use crate::trace::IntensityUnit;
     let units: [(f64, &str); 4] = match unit {
         IntensityUnit::Candela => [(1.0, "cd"), (1e-3, "mcd"), (1e-6, "µcd"), (1e-9, "ncd")],

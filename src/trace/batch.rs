@@ -62,6 +62,9 @@ pub struct Batch {
     pub angle_hist: Hist,
     /// Delivered weight by direction cosines, ANGULAR_CELLS².
     pub angular_map: Hist,
+    /// Delivered weight by horizontal and vertical angle beyond the exit face
+    /// ([`crate::far_field`]: its cells, then the light leaving sideways).
+    pub far_field: Hist,
     /// Leaked (and contact-lost) weight along the route, ROUTE_BINS bins.
     pub route_leak: Hist,
     /// Delivered weight that lands on the receiver.
@@ -84,6 +87,7 @@ impl Batch {
             exit_map: Hist::new(MAP_CELLS * MAP_CELLS),
             angle_hist: Hist::new(ANGLE_BINS),
             angular_map: Hist::new(ANGULAR_CELLS * ANGULAR_CELLS),
+            far_field: Hist::new(crate::far_field::BINS),
             route_leak: Hist::new(ROUTE_BINS),
             receiver: Estimate::default(),
             wall_interactions: 0,
@@ -101,6 +105,7 @@ impl Batch {
         self.exit_map.merge(&other.exit_map);
         self.angle_hist.merge(&other.angle_hist);
         self.angular_map.merge(&other.angular_map);
+        self.far_field.merge(&other.far_field);
         self.route_leak.merge(&other.route_leak);
         self.receiver.merge(&other.receiver);
         self.wall_interactions += other.wall_interactions;
@@ -117,7 +122,7 @@ impl Batch {
 
 /// A batch's figures without its histograms and paths: the tallies, the receiver, the wall
 /// counts and the rays — what a design study reports of each of its scenarios. About 50 times
-/// smaller than a [`Batch`] (no exit map, angular map, intensity or route profile), so a
+/// smaller than a [`Batch`] (no exit map, angular maps, intensity or route profile), so a
 /// study's batches of every point travel light between workers and in pieces. Merged exactly as
 /// [`Batch::merge`] merges these fields, so a study's figures are a plain trace's bit for bit.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]

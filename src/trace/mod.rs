@@ -457,6 +457,7 @@ impl Prepared {
             && same_bins(&batch.exit_map, &e.exit_map)
             && same_bins(&batch.angle_hist, &e.angle_hist)
             && same_bins(&batch.angular_map, &e.angular_map)
+            && same_bins(&batch.far_field, &e.far_field)
             && same_bins(&batch.route_leak, &e.route_leak)
     }
 }

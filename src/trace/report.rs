@@ -9,6 +9,7 @@ use super::{
 use crate::exit_figures::{
     half_intensity_full_angle, half_intensity_reference, ExitFigures, Uniformity,
 };
+use crate::far_field::FarField;
 use crate::scenario::Flux;
 use crate::stats::{Estimate, Share};
 
@@ -155,6 +156,14 @@ impl Prepared {
             ),
             intensity,
             angular_map: AngularMap::new(&batch.angular_map, batch.rays, ANGULAR_CELLS),
+            far_field: FarField::from_hist(
+                &batch.far_field,
+                batch.rays,
+                self.scenario.source.flux.map(|f| match f {
+                    Flux::Mw(x) => (x, IntensityUnit::MilliwattPerSteradian),
+                    Flux::Lm(x) => (x, IntensityUnit::Candela),
+                }),
+            ),
             leak_along_route: {
                 let (share, ci95) = bin_shares(&batch.route_leak, batch.rays);
                 RouteProfile {
@@ -698,8 +707,13 @@ pub struct TraceReport {
     pub exit_map: ExitMap,
     /// Intensity against angle.
     pub intensity: Intensity,
-    /// 2D angular map over direction cosines.
+    /// 2D angular map over direction cosines (shares per cell; kept as it was in the report
+    /// format: the far-field map below is the intensity a designer reads).
     pub angular_map: AngularMap,
+    /// Intensity over horizontal and vertical angle beyond the exit face
+    /// ([`crate::far_field`]); empty in a report written before it.
+    #[serde(default)]
+    pub far_field: FarField,
     /// Leakage along the route.
     pub leak_along_route: RouteProfile,
     /// The exit's uniformity and half-intensity angle ([`crate::exit_figures`]).

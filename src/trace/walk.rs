@@ -571,7 +571,7 @@ impl Walk<'_> {
     }
 
     /// A delivered ray of weight `w` at exit-frame point `q` with direction `od` (beyond the
-    /// exit face) on the exit map, the intensity curve and the angular map.
+    /// exit face) on the exit map, the intensity curve, the angular map and the far-field map.
     fn record_delivery(&mut self, q: DVec3, od: DVec3, w: f64) {
         let (hw, hh) = self.p.exit_half;
         let cell = |v: f64, half: f64, n: usize| {
@@ -589,5 +589,6 @@ impl Walk<'_> {
             cell(od.y, 1.0, ANGULAR_CELLS) * ANGULAR_CELLS + cell(od.x, 1.0, ANGULAR_CELLS),
             w,
         );
+        out.far_field.add(crate::far_field::bin_of(od), w);
     }
 }

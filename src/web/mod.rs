@@ -432,6 +432,15 @@ pub fn draw_intensity(canvas_id: &str, report: JsValue, pixel_ratio: f64) -> Res
     crate::chart::draw_intensity(&area, &report, pixel_ratio).map_err(js_error)
 }
 
+/// Draw the far-field intensity map (horizontal and vertical angle beyond the exit face) of a
+/// trace report on the canvas with id `canvas_id`; `pixel_ratio` as for [`draw_exit_map`].
+#[wasm_bindgen]
+pub fn draw_far_field(canvas_id: &str, report: JsValue, pixel_ratio: f64) -> Result<(), JsError> {
+    let report = read_report(report)?;
+    let area = canvas_area(canvas_id)?;
+    crate::chart::draw_far_field(&area, &report, pixel_ratio).map_err(js_error)
+}
+
 /// A trace report as CSV, with its header block naming the design: the same text as
 /// `tirtrace trace FILE --csv` prints for the same report and design (final newline included).
 #[wasm_bindgen]

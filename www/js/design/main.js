@@ -13,7 +13,7 @@ import { TracePool } from '../trace/pool.js';
 import { Editor } from './editor.js';
 import { FATES, RouteView, heatColour, heatGradientCss } from './route-view.js';
 import { showLeakLine } from './leak-line.js';
-import { clearReport, linkBendsToQuickLook, setBudgetMechanisms, setLengthUnit, showBends, showExitMapTable, showFigures, showProgress, showReport } from './report-view.js';
+import { clearReport, linkBendsToQuickLook, setBudgetMechanisms, setLengthUnit, showBends, showExitMapTable, showFarFieldTable, showFigures, showProgress, showReport } from './report-view.js';
 import {
   LINK_WARN_CHARS, MAX_DESIGN_BYTES, STARTER, clone, download, fileNameFor, freshState, loadState, saveState,
   scenarioFromFragment, shareLink, tooLargeMessage,
@@ -255,6 +255,7 @@ function drawCharts() {
   const charts = [
     ['exit-map', (ratio) => core.draw_exit_map('exit-map', page.report, ratio, unit), unit],
     ['intensity', (ratio) => core.draw_intensity('intensity', page.report, ratio), null],
+    ['far-field', (ratio) => core.draw_far_field('far-field', page.report, ratio), null],
   ];
   for (const [id, draw, drawnIn] of charts) {
     const canvas = $(id);
@@ -690,6 +691,7 @@ async function start() {
   page.view = new RouteView($('route-view'));
   page.view.setUnit(page.state.unit);
   $('exit-map-data').addEventListener('toggle', () => $('exit-map-data').open && showExitMapTable());
+  $('far-field-data').addEventListener('toggle', () => $('far-field-data').open && showFarFieldTable());
   // The trace workers' script and the core compiled here, handed to each worker (none fetches
   // anything itself). Without them the pools start the workers' own module script.
   let workers = {};

@@ -79,6 +79,10 @@ export function showReport(report, figures, scenario) {
   lastExitMap = report.exit_map;
   if ($('exit-map-data').open) showExitMapTable();
 
+  // The numbers behind the far-field map: made when its table is open (a row per lit cell).
+  lastFarField = report.far_field ?? null;
+  if ($('far-field-data').open) showFarFieldTable();
+
   // Detector and absolute figures.
   const extra = [];
   if (report.receiver) extra.push(['On the detector', formatShareCi(report.receiver.share, report.receiver.ci95)]);
@@ -192,6 +196,43 @@ export function showExitMapTable() {
       })));
   }
   $('exit-map-rows').replaceChildren(...rows);
+}
+
+/** The far-field map of the last report shown, for its table. */
+let lastFarField = null;
+
+/**
+ * The far-field map as a table: a row per cell that holds light, by vertical angle from the top
+ * and then by horizontal angle (cell centres, degrees), with its intensity in % of the emitted
+ * light per sr and, when the source has a flux, in cd or mW/sr, each with its 95 % interval. The
+ * cells without light are left out (the map shows them as no light).
+ */
+export function showFarFieldTable() {
+  const f = lastFarField;
+  if (!f) return;
+  const n = f.cells;
+  const abs = f.absolute;
+  const centre = (k) => -90 + (k + 0.5) * f.cell_deg;
+  $('far-field-head').replaceChildren(h('tr', {},
+    h('th', { scope: 'col', class: 'num', text: 'Horizontal angle, °' }),
+    h('th', { scope: 'col', class: 'num', text: 'Vertical angle, °' }),
+    h('th', { scope: 'col', class: 'num', text: 'Intensity, % of the emitted light per sr' }),
+    h('th', { scope: 'col', class: 'num', text: '± 95 %' }),
+    ...(abs ? [h('th', { scope: 'col', class: 'num', text: 'Intensity (± 95 %)' })] : [])));
+  const rows = [];
+  for (let r = n - 1; r >= 0; r -= 1) {
+    for (let c = 0; c < n; c += 1) {
+      const k = r * n + c;
+      if (!(f.share[k] > 0)) continue;
+      rows.push(h('tr', {},
+        h('td', { class: 'num', text: fixed(centre(c), 0) }),
+        h('td', { class: 'num', text: fixed(centre(r), 0) }),
+        h('td', { class: 'num', text: formatShare(f.share_per_sr[k], f.ci95_per_sr[k]) }),
+        h('td', { class: 'num', text: formatHalfWidth(f.ci95_per_sr[k]) }),
+        ...(abs ? [h('td', { class: 'num', text: formatQuantity(abs.intensity[k], abs.ci95[k], abs.intensity_unit) })] : [])));
+    }
+  }
+  $('far-field-rows').replaceChildren(...rows);
 }
 
 /** The unit lengths are shown in ('mm' or 'in'; documents and the core keep mm). */

@@ -26,6 +26,7 @@
 mod batch;
 mod ledger;
 mod names;
+pub mod receiver_map;
 mod report;
 mod walk;
 mod zones;
@@ -458,5 +459,6 @@ impl Prepared {
             && same_bins(&batch.angle_hist, &e.angle_hist)
             && same_bins(&batch.angular_map, &e.angular_map)
             && same_bins(&batch.route_leak, &e.route_leak)
+            && same_bins(&batch.receiver_map, &e.receiver_map)
     }
 }

@@ -2,6 +2,7 @@
 
 use serde::{Deserialize, Serialize};
 
+use super::receiver_map::{self, RECEIVER_CELLS};
 use super::{
     Batch, FluxUnit, Hist, IntensityUnit, Path, Prepared, SegmentKind, ANGULAR_CELLS, MAP_CELLS,
     ROUTE_BINS,
@@ -123,6 +124,12 @@ impl Prepared {
                 MAP_CELLS,
                 &self.route.exit_section,
             ),
+            receiver_uniformity: self
+                .scenario
+                .receiver
+                .as_ref()
+                .and_then(receiver_map::outline)
+                .map(|o| Uniformity::of_map(&batch.receiver_map, batch.rays, RECEIVER_CELLS, &o)),
             half_intensity_full_angle_deg: half_intensity_full_angle(
                 &batch.angle_hist,
                 batch.rays,

@@ -51,8 +51,9 @@ fn rod(
 /// e.g. R. W. Boyd, *Radiometry and the Detection of Optical Radiation*, Wiley 1983, ch. 5), so
 /// its irradiance is uniform. The receiver, a 1.6 × 1.6 mm window 0.01 mm beyond the face, is
 /// smaller than the beam: every point of it sees the face out to 87° from the axis at least, and
-/// what lies beyond 87° carries under 10⁻⁴ of its irradiance (Lambert's cos θ times the
-/// faces' Fresnel throughput, which falls to 0 at grazing), so its irradiance is uniform too.
+/// what lies beyond 87° carries under 4 × 10⁻⁴ of its irradiance (Lambert's cos θ times the
+/// faces' Fresnel throughput, integrated numerically: docs/REFERENCES.md §12a), so its
+/// irradiance is uniform to well within the intervals (a few per cent).
 fn uniformly_lit(rays: u64, seed: u64) -> Scenario {
     rod(
         json!({ "rectangular": { "width_mm": 2.0, "height_mm": 2.0 } }),

@@ -19,7 +19,8 @@
 //!
 //! Layout: this file prepares a scenario and traces and merges batches; `walk` follows one ray,
 //! one function per event; `ledger` names the tally columns (the only place that knows their
-//! order); `batch` holds a batch's tallies and histograms and merges batches in order; `report`
+//! order); `batch` holds a batch's tallies and histograms and merges batches in order;
+//! `receiver_map` places delivered light on the receiver's map; `report`
 //! turns merged batches into the [`TraceReport`]; `names` holds the report's enums (segment
 //! kind, units). The statistics themselves are in [`crate::stats`].
 

@@ -48,6 +48,8 @@ for (const [name, original] of [...examples, ...variants]) {
       'absolute', 'wall_interactions', 'exit_map', 'intensity', 'angular_map', 'leak_along_route', 'exit_figures']) {
       assert.deepStrictEqual(wasm[key] ?? null, native[key] ?? null, `${key} differs`);
     }
+    // A design with a receiver has the detector's uniformity among its exit figures.
+    assert.equal(Boolean(native.exit_figures.receiver_uniformity), Boolean(native.receiver), 'detector uniformity');
   });
 }
 

@@ -160,6 +160,20 @@ impl Prepared {
                 2.0 * self.exit_half.0,
                 2.0 * self.exit_half.1,
             ),
+            receiver_map: self
+                .scenario
+                .receiver
+                .as_ref()
+                .and_then(receiver_map::outline)
+                .map(|o| {
+                    ExitMap::new(
+                        &batch.receiver_map,
+                        batch.rays,
+                        RECEIVER_CELLS,
+                        2.0 * o.half_width_mm,
+                        2.0 * o.half_height_mm,
+                    )
+                }),
             intensity,
             angular_map: AngularMap::new(&batch.angular_map, batch.rays, ANGULAR_CELLS),
             leak_along_route: {
@@ -703,6 +717,10 @@ pub struct TraceReport {
     pub wall_interactions: u64,
     /// Exit-face irradiance map (share per cell).
     pub exit_map: ExitMap,
+    /// Where delivered light lands on the receiver (the detector), over its bounding box, as
+    /// the exit map; only when the scenario has a receiver.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub receiver_map: Option<ExitMap>,
     /// Intensity against angle.
     pub intensity: Intensity,
     /// 2D angular map over direction cosines.

@@ -60,6 +60,23 @@ for (const viewport of [{ width: 1280, height: 800 }, { width: 820, height: 1180
       if (viewport.width <= 1000) await page.click('.answer-card .more-figures');
       await page.locator('#extra').scrollIntoViewIfNeeded();
       await page.screenshot({ path: join(OUT, `exit-figures-${viewport.width}.png`) });
+      // The detector's irradiance map: its card shown, the canvas drawn (in the unit shown), not
+      // blank; a design without a detector hides the card.
+      const card = page.locator('#receiver-map-card');
+      assert.ok(await card.isVisible(), 'the detector map card is shown');
+      assert.equal(await card.locator('.picture-title').innerText(), 'Light on the detector');
+      assert.equal(await page.getAttribute('#receiver-map', 'data-unit'), 'mm');
+      const colours = await page.$eval('#receiver-map', (c) => {
+        const d = c.getContext('2d').getImageData(0, 0, c.width, c.height).data;
+        const seen = new Set();
+        for (let i = 0; i < d.length; i += 4 * 97) seen.add(`${d[i]},${d[i + 1]},${d[i + 2]}`);
+        return seen.size;
+      });
+      assert.ok(colours > 20, `the detector map has ${colours} colours`);
+      // One column: fold the figures again, so the answer card (kept on screen) is short.
+      if (viewport.width <= 1000) await page.click('.answer-card .more-figures');
+      await card.scrollIntoViewIfNeeded();
+      await page.screenshot({ path: join(OUT, `detector-map-${viewport.width}.png`) });
       // A chip of no height: the message names the field and its range, under it.
       const height = page.locator('input[data-path="source.emitter.led.area.rectangle.height_mm"]');
       await height.fill('0');
@@ -69,6 +86,14 @@ for (const viewport of [{ width: 1280, height: 800 }, { width: 820, height: 1180
       assert.match(await msg.innerText(), /Chip height.*at least 0\.001 mm/);
       await height.scrollIntoViewIfNeeded();
       await page.screenshot({ path: join(OUT, `rectangular-chip-${viewport.width}.png`) });
+      // Without a detector: no detector figures and no detector map.
+      const bare = structuredClone(scenario);
+      delete bare.receiver;
+      await openKept(page, bare);
+      assert.ok(await page.locator('#receiver-map-card').isHidden(), 'no detector, no map');
+      const keysBare = await page.$$eval('#extra .extra-item dt', (els) => els.map((e) => e.textContent));
+      assert.ok(keysBare.some((k) => k.startsWith('Exit face uniformity')), keysBare.join(' | '));
+      assert.ok(!keysBare.some((k) => k.includes('detector')), keysBare.join(' | '));
       assert.deepEqual(errors, []);
     } finally {
       await closeDesignPage(opened);

@@ -1,8 +1,10 @@
 //! The figures a designer judges an exit by, from a trace's histograms: how uniform the exit
-//! face's irradiance is (least over greatest, and the coefficient of variation) and the exit
-//! beam's half-intensity full angle.
+//! face's irradiance is, and the receiver's (the detector's) when the scenario has one (least
+//! over greatest, and the coefficient of variation; one function for both surfaces,
+//! [`Uniformity::of_map`]), and the exit beam's half-intensity full angle.
 //!
-//! Each is a smooth function f of histogram bins' shares S_k (the mean over n rays of a ray's
+//! Least over greatest has an interval of its own ([`min_over_max`]). Every other figure is a
+//! smooth function f of histogram bins' shares S_k (the mean over n rays of a ray's
 //! weight in bin k; a ray lands in one bin at most) and carries a 95 % interval by the delta
 //! method (first-order propagation; from memory, e.g. W. G. Cochran, *Sampling Techniques*,
 //! 3rd ed., Wiley 1977, ch. 6): Var f ≈ gᵀ C g / … with g_k = ∂f/∂S_k. Because a ray lands in
@@ -320,7 +322,7 @@ pub fn normal_upper_quantile(p: f64) -> f64 {
 ///
 /// Together the two ends miss ρ at most 2.5 % + 2.5 % of the time. The price is width: the high
 /// end is wider than a delta-method interval by about z₂/1.96, and the interval is conservative
-/// (tests/exit_figures.rs measures its coverage over 200 seeds).
+/// (tests/detector_uniformity.rs measures its coverage over 200 seeds against closed forms).
 fn min_over_max(blocks: &[&Block]) -> Bounded {
     let e = |b: &Block| b.share.mean / b.area_mm2;
     // A block's standard error of irradiance (its share's 95 % half-width over 1.96; counted

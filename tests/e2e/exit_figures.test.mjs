@@ -73,6 +73,11 @@ for (const viewport of [{ width: 1280, height: 800 }, { width: 820, height: 1180
         return seen.size;
       });
       assert.ok(colours > 20, `the detector map has ${colours} colours`);
+      // The page's length switch redraws it in inches, and back.
+      await page.check('input[name="unit"][value="in"]');
+      await page.waitForFunction(() => document.getElementById('receiver-map').dataset.unit === 'in');
+      await page.check('input[name="unit"][value="mm"]');
+      await page.waitForFunction(() => document.getElementById('receiver-map').dataset.unit === 'mm');
       // One column: fold the figures again, so the answer card (kept on screen) is short.
       if (viewport.width <= 1000) await page.click('.answer-card .more-figures');
       await card.scrollIntoViewIfNeeded();

@@ -1,8 +1,10 @@
 //! The figures a designer judges an exit by, from a trace's histograms: how uniform the exit
-//! face's irradiance is (least over greatest, and the coefficient of variation) and the exit
-//! beam's half-intensity full angle.
+//! face's irradiance is, and the receiver's (the detector's) when the scenario has one (least
+//! over greatest, and the coefficient of variation; one function for both surfaces,
+//! [`Uniformity::of_map`]), and the exit beam's half-intensity full angle.
 //!
-//! Each is a smooth function f of histogram bins' shares S_k (the mean over n rays of a ray's
+//! Least over greatest has an interval of its own ([`min_over_max`]). Every other figure is a
+//! smooth function f of histogram bins' shares S_k (the mean over n rays of a ray's
 //! weight in bin k; a ray lands in one bin at most) and carries a 95 % interval by the delta
 //! method (first-order propagation; from memory, e.g. W. G. Cochran, *Sampling Techniques*,
 //! 3rd ed., Wiley 1977, ch. 6): Var f ≈ gᵀ C g / … with g_k = ∂f/∂S_k. Because a ray lands in
@@ -54,10 +56,11 @@ pub struct Uniformity {
     /// The rule for counting: a block's 95 % half-width over its share at most this
     /// ([`UNIFORMITY_MAX_RELATIVE_CI95`]).
     pub counted_within_relative_ci95: f64,
-    /// Least over greatest irradiance of the blocks counted, with its 95 % half-width (from
-    /// the two blocks' own spread; picking the extremes from the same rays leans low by about
-    /// their noise, which the interval does not hold). `None` below two blocks.
-    pub min_over_max: Option<Value>,
+    /// Least over greatest irradiance of the blocks counted, with a 95 % interval for the ratio
+    /// of the blocks' true irradiances that allows for the extremes being picked from the same
+    /// noisy rays ([`min_over_max`]: the value leans low, the interval reaches up to where the
+    /// truth may be). `None` below two blocks.
+    pub min_over_max: Option<Bounded>,
     /// Coefficient of variation (standard deviation over mean) of the irradiance of the blocks
     /// counted, with the blocks' own noise taken out: CV² = (s² − v̄)/Ē², s² the blocks' sample
     /// variance, v̄ the mean of their irradiance's variances (the method of moments; from
@@ -66,11 +69,39 @@ pub struct Uniformity {
     pub coefficient_of_variation: Option<Bounded>,
 }
 
+/// The outline a map's blocks must lie on wholly to count: the map spans its bounding box
+/// (2 × half-width across, 2 × half-height down), centred on the exit axis.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct MapOutline {
+    /// Half the box's width, mm.
+    pub half_width_mm: f64,
+    /// Half the box's height, mm.
+    pub half_height_mm: f64,
+    /// Round (the ellipse inscribed in the box; a circle for every outline here), else the box.
+    pub round: bool,
+}
+
+impl MapOutline {
+    /// The exit face's outline.
+    pub fn of_section(exit: &Section) -> MapOutline {
+        let (half_width_mm, half_height_mm) = exit.half_sizes_mm();
+        MapOutline {
+            half_width_mm,
+            half_height_mm,
+            round: matches!(exit, Section::Round { .. }),
+        }
+    }
+}
+
 /// The exit figures of a trace.
 #[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize)]
 pub struct ExitFigures {
     /// Uniformity of the irradiance on the exit face.
     pub exit_face_uniformity: Uniformity,
+    /// Uniformity of the irradiance on the receiver (the detector), judged as the exit face's
+    /// over the receiver's map ([`crate::trace::receiver_map`]); only when the scenario has one.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub receiver_uniformity: Option<Uniformity>,
     /// Full angle at half the maximum intensity beyond the exit face, degrees: twice the angle
     /// from the axis at which the intensity (per 1° ring, smoothed over three rings) first
     /// falls below half the maximum's, going out from the maximum's window
@@ -82,7 +113,8 @@ pub struct ExitFigures {
 
 /// The exit figures as a CSV table after a blank line (the end of `tirtrace trace --csv` and the
 /// page's download): one row per figure with its value and the ends of its 95 % interval (empty
-/// when the figure is not known), then the rule the uniformity follows.
+/// when the figure is not known), the detector's uniformity after the exit face's when the
+/// scenario has a receiver, then the rule the uniformity follows (per surface).
 pub fn csv(f: &ExitFigures) -> String {
     use crate::export::{csv_num, csv_text};
     let u = &f.exit_face_uniformity;
@@ -101,29 +133,43 @@ pub fn csv(f: &ExitFigures) -> String {
         }
     };
     let symmetric = |v: &Value| (v.value, v.value - v.ci95, v.value + v.ci95);
-    row(
-        "Exit face: least over greatest irradiance",
-        u.min_over_max.as_ref().map(symmetric),
-    );
-    row(
-        "Exit face: coefficient of variation of the irradiance",
-        u.coefficient_of_variation
-            .map(|b| (b.value, b.low95, b.high95)),
-    );
+    let bounded = |b: &Bounded| (b.value, b.low95, b.high95);
+    let mut uniformity_rows = |place: &str, u: &Uniformity| {
+        row(
+            &format!("{place}: least over greatest irradiance"),
+            u.min_over_max.as_ref().map(bounded),
+        );
+        row(
+            &format!("{place}: coefficient of variation of the irradiance"),
+            u.coefficient_of_variation.as_ref().map(bounded),
+        );
+    };
+    uniformity_rows("Exit face", u);
+    if let Some(r) = &f.receiver_uniformity {
+        uniformity_rows("On the detector", r);
+    }
     row(
         "Half-intensity full angle (°)",
         f.half_intensity_full_angle_deg.as_ref().map(symmetric),
     );
-    s += &format!(
-        "\n\"Exit face blocks\",across and down,wholly on the face,counted\n{},{},{},{}\n",
-        csv_text(&format!(
-            "counted when known to ±{} %",
-            u.counted_within_relative_ci95 * 100.0
-        )),
-        u.blocks,
-        u.blocks_on_face,
-        u.blocks_counted
-    );
+    let mut blocks = |title: &str, on: &str, u: &Uniformity| {
+        s += &format!(
+            "\n{},across and down,{},counted\n{},{},{},{}\n",
+            csv_text(title),
+            on,
+            csv_text(&format!(
+                "counted when known to ±{} %",
+                u.counted_within_relative_ci95 * 100.0
+            )),
+            u.blocks,
+            u.blocks_on_face,
+            u.blocks_counted
+        );
+    };
+    blocks("Exit face blocks", "wholly on the face", u);
+    if let Some(r) = &f.receiver_uniformity {
+        blocks("Detector blocks", "wholly on the detector", r);
+    }
     s
 }
 
@@ -164,8 +210,15 @@ impl Uniformity {
     /// From the exit map `h` (`cells` × `cells`, row-major from −y, over the exit section's
     /// bounding box) over `rays` rays.
     pub fn of_exit_map(h: &Hist, rays: u64, cells: usize, exit: &Section) -> Uniformity {
-        let (hw, hh) = exit.half_sizes_mm();
-        let round = matches!(exit, Section::Round { .. });
+        Uniformity::of_map(h, rays, cells, &MapOutline::of_section(exit))
+    }
+
+    /// From a map `h` (`cells` × `cells`, row-major from −y, over the bounding box of
+    /// `outline`) over `rays` rays: the blocks wholly on the outline count when known well
+    /// enough. The exit face's and the receiver's figures both come from here.
+    pub fn of_map(h: &Hist, rays: u64, cells: usize, outline: &MapOutline) -> Uniformity {
+        let (hw, hh) = (outline.half_width_mm, outline.half_height_mm);
+        let round = outline.round;
         let edges = block_edges(cells, UNIFORMITY_BLOCKS);
         let (cw, ch) = (2.0 * hw / cells as f64, 2.0 * hh / cells as f64);
         // A corner of the grid, as a fraction of the half-sizes (−1 … 1).
@@ -209,7 +262,7 @@ impl Uniformity {
             (None, None)
         } else {
             (
-                Some(min_over_max(h, rays, &counted)),
+                Some(min_over_max(&counted)),
                 Some(coefficient_of_variation(h, rays, &counted)),
             )
         };
@@ -229,27 +282,75 @@ fn over_cells(b: &Block, g: f64) -> impl Iterator<Item = (usize, f64)> + '_ {
     b.cells.iter().map(move |&k| (k, g))
 }
 
-/// R = E_min / E_max over the blocks (irradiance E = S / A); ∂R/∂S_min = 1/(A_min E_max),
-/// ∂R/∂S_max = −E_min/(A_max E_max²).
-fn min_over_max(h: &Hist, rays: u64, blocks: &[&Block]) -> Value {
+/// Upper-tail quantile of the standard normal distribution: the z with Q(z) = p, Q(z) =
+/// ½ erfc(z/√2) (from memory, any statistics text, e.g. M. Abramowitz, I. A. Stegun, *Handbook
+/// of Mathematical Functions*, 1964, 26.2.2 and 7.1.2), by bisection on [0, 40] for 0 < p ≤ ½
+/// (libm's erfc: the same bits native and in wasm).
+pub fn normal_upper_quantile(p: f64) -> f64 {
+    let (mut lo, mut hi) = (0.0f64, 40.0f64);
+    for _ in 0..200 {
+        let mid = 0.5 * (lo + hi);
+        if 0.5 * libm::erfc(mid * std::f64::consts::FRAC_1_SQRT_2) > p {
+            lo = mid;
+        } else {
+            hi = mid;
+        }
+    }
+    0.5 * (lo + hi)
+}
+
+/// R = E_min / E_max over the m blocks (irradiance E_i = S_i / A_i, standard error σ_i from the
+/// block's own per-ray spread), with a 95 % interval for the true ratio ρ = μ_min / μ_max of
+/// the blocks' true irradiances μ_i.
+///
+/// R leans low: the least and greatest blocks are picked from the same noisy rays, so noise
+/// pushes the least down and the greatest up (on a uniform face of 81 blocks known to ±1 % each,
+/// R ≈ 1 − 5 σ/μ, while ρ = 1). A symmetric interval about R by the delta method misses ρ most
+/// of the time there. The interval here is built instead from one-sided bounds of the blocks,
+/// E_i ± z σ_i, and holds at 95 % whatever the ties (each block's E_i taken as normal, as every
+/// interval of the report does):
+/// - Low end, min_i(E_i − z₁σ_i) / max_i(E_i + z₁σ_i). Let j be the block truly least and k the
+///   one truly greatest (fixed by the scenario, not chosen from the rays). When E_j − z₁σ_j ≤ μ_j
+///   and E_k + z₁σ_k ≥ μ_k, the numerator is at most μ_min and the denominator at least μ_max,
+///   so the end is at most ρ. Two one-sided statements, each allowed 1.25 % (Bonferroni's
+///   inequality, P(A ∪ B) ≤ P(A) + P(B); from memory, any probability text): z₁ = Q⁻¹(0.0125)
+///   = 2.24, whatever m.
+/// - High end, min_i(E_i + z₂σ_i) / max_i(E_i − z₂σ_i), at most 1 (1 when the denominator is not
+///   above 0). It is at least ρ when every block's upper bound is above its μ_i and every lower
+///   bound below: 2m one-sided statements, each allowed 2.5 %/(2m) (Bonferroni):
+///   z₂ = Q⁻¹(0.0125/m), 3.6 for 81 blocks.
+///
+/// Together the two ends miss ρ at most 2.5 % + 2.5 % of the time. The price is width: the high
+/// end is wider than a delta-method interval by about z₂/1.96, and the interval is conservative
+/// (tests/detector_uniformity.rs measures its coverage over 200 seeds against closed forms).
+fn min_over_max(blocks: &[&Block]) -> Bounded {
     let e = |b: &Block| b.share.mean / b.area_mm2;
-    let lo = blocks
-        .iter()
-        .copied()
-        .reduce(|a, b| if e(b) < e(a) { b } else { a })
-        .expect("two blocks or more");
-    let hi = blocks
-        .iter()
-        .copied()
-        .reduce(|a, b| if e(b) > e(a) { b } else { a })
-        .expect("two blocks or more");
-    let (e_lo, e_hi) = (e(lo), e(hi));
-    let gradient: Vec<(usize, f64)> = over_cells(lo, 1.0 / (lo.area_mm2 * e_hi))
-        .chain(over_cells(hi, -e_lo / (hi.area_mm2 * e_hi * e_hi)))
-        .collect();
-    Value {
-        value: e_lo / e_hi,
-        ci95: 1.96 * delta_variance(h, rays, &gradient).sqrt(),
+    // A block's standard error of irradiance (its share's 95 % half-width over 1.96; counted
+    // blocks always have one).
+    let sigma = |b: &Block| b.share.half_width95().unwrap_or(f64::INFINITY) / 1.96 / b.area_mm2;
+    let m = blocks.len() as f64;
+    let z1 = normal_upper_quantile(0.0125);
+    let z2 = normal_upper_quantile(0.0125 / m);
+    // The blocks' irradiances moved by z standard errors (z = 0: as estimated).
+    let moved = |z: f64| {
+        blocks
+            .iter()
+            .map(move |b| if z == 0.0 { e(b) } else { e(b) + z * sigma(b) })
+    };
+    let least = |z: f64| moved(z).fold(f64::INFINITY, f64::min);
+    let greatest = |z: f64| moved(z).fold(f64::NEG_INFINITY, f64::max);
+    let value = least(0.0) / greatest(0.0);
+    let low95 = (least(-z1) / greatest(z1)).clamp(0.0, value);
+    let high_down = greatest(-z2);
+    let high95 = if high_down > 0.0 {
+        (least(z2) / high_down).clamp(value, 1.0)
+    } else {
+        1.0
+    };
+    Bounded {
+        value,
+        low95,
+        high95,
     }
 }
 

@@ -349,10 +349,15 @@ fn csv_rows_parse_and_the_budget_sums_to_one() {
         assert!(far_field[0][0][0].starts_with("Intensity map beyond the exit face"));
         assert_eq!(far_field[0].len(), 2 + 45 * 45, "{path}: a row per cell");
         assert!(far_field[1][0][0].starts_with("Reaches the window at 90° or more"));
-        // The exit figures before it, two sections (tests/exit_figures.rs checks them).
-        let exit_figures = secs.split_off(secs.len() - 2);
+        // The exit figures before it, two sections, three with a receiver (the detector's
+        // blocks; tests/exit_figures.rs checks them).
+        let receiver = scenario.receiver.is_some();
+        let exit_figures = secs.split_off(secs.len() - if receiver { 3 } else { 2 });
         assert_eq!(exit_figures[0][0][0], "Exit figures", "{path}: {csv}");
         assert_eq!(exit_figures[1][0][0], "Exit face blocks", "{path}: {csv}");
+        if receiver {
+            assert_eq!(exit_figures[2][0][0], "Detector blocks", "{path}: {csv}");
+        }
         let absolute = !json["absolute"].is_null();
         // Header, budget, (absolute figures), segments, mounts, then three of the exit face.
         assert_eq!(secs.len(), if absolute { 8 } else { 7 }, "{path}: {csv}");

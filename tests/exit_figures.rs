@@ -188,10 +188,15 @@ fn a_uniformly_lit_face_has_no_variation_within_its_interval() {
             zero_in_interval += 1;
         }
         // Least over greatest: near 1; the extremes of 81 blocks known to ±1.1 % lean low by a
-        // few of their standard errors (stated in the figure's doc).
+        // few of their standard errors (stated in the figure's doc), and the interval reaches
+        // up to the truth, 1.
         let m = u.min_over_max.expect("81 blocks");
         assert!(m.value > 0.9 && m.value <= 1.0, "seed {seed}: {m:?}");
-        assert!(m.ci95 > 0.0 && m.ci95 < 0.04, "seed {seed}: {m:?}");
+        assert!(
+            m.low95 < m.value && m.value - m.low95 < 0.06,
+            "seed {seed}: {m:?}"
+        );
+        assert_eq!(m.high95, 1.0, "seed {seed}: {m:?}");
     }
     assert!(
         zero_in_interval >= 4,
@@ -259,7 +264,7 @@ fn a_centre_lit_round_face_has_the_variation_of_many_more_rays_within_its_interv
 #[test]
 fn exit_figures_are_the_same_for_any_thread_count() {
     let chip = lambertian(json!({ "rectangle": { "width_mm": 1.6, "height_mm": 0.8 } }));
-    let s = rod(
+    let mut s = rod(
         json!({ "round": { "diameter_mm": 3.0 } }),
         5.0,
         chip,
@@ -267,6 +272,9 @@ fn exit_figures_are_the_same_for_any_thread_count() {
         40_960,
         4,
     );
+    // A round detector near the exit, so its figures are checked too.
+    s.receiver =
+        Some(serde_json::from_value(json!({ "diameter_mm": 4.0, "distance_mm": 1.0 })).unwrap());
     let p = Prepared::new(&s).unwrap();
     let serial = p.report(&p.trace_all_serial(0)).exit_figures;
     assert!(serial.half_intensity_full_angle_deg.is_some());
@@ -274,6 +282,8 @@ fn exit_figures_are_the_same_for_any_thread_count() {
         .exit_face_uniformity
         .coefficient_of_variation
         .is_some());
+    let detector = serial.receiver_uniformity.as_ref().expect("a receiver");
+    assert!(detector.min_over_max.is_some(), "{detector:?}");
     for threads in [1, 2, 3] {
         let parallel = p
             .report(&p.trace_all_parallel(threads, 0).unwrap())
@@ -311,8 +321,8 @@ fn the_csv_ends_with_the_exit_figures_as_the_report_has_them() {
         (
             "Exit face: least over greatest irradiance",
             m.value,
-            m.value - m.ci95,
-            m.value + m.ci95,
+            m.low95,
+            m.high95,
         ),
         (
             "Exit face: coefficient of variation of the irradiance",
@@ -332,6 +342,62 @@ fn the_csv_ends_with_the_exit_figures_as_the_report_has_them() {
     }
     let u = &f.exit_face_uniformity;
     let blocks = format!(",{},{},{}\n", u.blocks, u.blocks_on_face, u.blocks_counted);
+    assert!(tail.ends_with(&blocks), "{tail}");
+    assert!(
+        !tail.contains("detector"),
+        "no receiver, no detector rows: {tail}"
+    );
+}
+
+#[test]
+fn the_csv_has_the_detectors_uniformity_after_the_exit_faces() {
+    let chip = lambertian(json!({ "disk": { "diameter_mm": 1.0 } }));
+    let mut s = rod(
+        json!({ "round": { "diameter_mm": 3.0 } }),
+        4.0,
+        chip,
+        0.2,
+        100_000,
+        2,
+    );
+    s.receiver = Some(
+        serde_json::from_value(json!({ "width_mm": 6.0, "height_mm": 4.0, "distance_mm": 2.0 }))
+            .unwrap(),
+    );
+    let r = traced(&s);
+    let csv = tirtrace::export::report_csv(&r, "rod");
+    let tail = csv.split("\n\"Exit figures\",").nth(1).unwrap();
+    let d = r
+        .exit_figures
+        .receiver_uniformity
+        .as_ref()
+        .expect("a receiver");
+    assert_eq!(d.blocks_on_face, 81, "a window holds every block");
+    let m = d.min_over_max.unwrap();
+    let cv = d.coefficient_of_variation.unwrap();
+    let rows = [
+        format!(
+            "\"On the detector: least over greatest irradiance\",{},{},{}\n",
+            m.value, m.low95, m.high95
+        ),
+        format!(
+            "\"On the detector: coefficient of variation of the irradiance\",{},{},{}\n",
+            cv.value, cv.low95, cv.high95
+        ),
+    ];
+    let at = |line: &str| {
+        tail.find(line)
+            .unwrap_or_else(|| panic!("{line} not in\n{tail}"))
+    };
+    // After the exit face's two rows, before the angle.
+    assert!(at("\"Exit face: coefficient of variation") < at(&rows[0]));
+    assert!(at(&rows[0]) < at(&rows[1]));
+    assert!(at(&rows[1]) < at("\"Half-intensity full angle"));
+    let blocks = format!(
+        "\n\"Detector blocks\",across and down,wholly on the detector,counted\n\
+         \"counted when known to ±20 %\",{},{},{}\n",
+        d.blocks, d.blocks_on_face, d.blocks_counted
+    );
     assert!(tail.ends_with(&blocks), "{tail}");
 }
 

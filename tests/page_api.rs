@@ -229,13 +229,15 @@ fn csv_has_a_header_block_then_the_budget_absolute_segment_and_mount_tables() {
     let csv = report_csv(&report, "Thermostat \"status\" LED");
     assert!(csv.ends_with('\n') && !csv.ends_with("\n\n"));
     let sections: Vec<&str> = csv.trim_end().split("\n\n").collect();
-    // Then the exit figures (tests/exit_figures.rs checks them): two sections; then the
-    // far-field map (tests/far_field.rs checks it): two sections.
-    assert_eq!(sections.len(), 12);
+    // Then the exit figures (tests/exit_figures.rs checks them): three sections, the third the
+    // detector's blocks (the design has a receiver); then the far-field map (tests/far_field.rs
+    // checks it): two sections.
+    assert_eq!(sections.len(), 13);
     assert!(sections[8].starts_with("\"Exit figures\","));
     assert!(sections[9].starts_with("\"Exit face blocks\","));
-    assert!(sections[10].starts_with("\"Intensity map beyond the exit face"));
-    assert!(sections[11].starts_with("\"Reaches the window at 90° or more"));
+    assert!(sections[10].starts_with("\"Detector blocks\","));
+    assert!(sections[11].starts_with("\"Intensity map beyond the exit face"));
+    assert!(sections[12].starts_with("\"Reaches the window at 90° or more"));
     let head: Vec<&str> = sections[0].lines().collect();
     assert_eq!(head[1], "design,\"Thermostat \"\"status\"\" LED\"");
     assert_eq!(head[3], "rays,8192");

@@ -191,17 +191,38 @@ fn with_random_faces(rng: &mut Rng, s: &mut Scenario) {
 fn budget_sums_to_one_and_shares_are_shares() {
     let mut rng = Rng(2024);
     let (mut with_coatings, mut led_in_pocket) = (0, 0);
+    let mut with_receiver_light = 0;
     for case in 0..60 {
         let s = random_scenario(&mut rng, 3000);
         let problems = s.problems();
         assert!(problems.is_empty(), "case {case}: {problems:?}");
         let p = Prepared::new(&s).unwrap();
-        let r = p.report(&p.trace_all_serial(0));
+        let batch = p.trace_all_serial(0);
+        let r = p.report(&batch);
         assert!(
             (r.budget_sum - 1.0).abs() < 1e-12,
             "case {case}: budget sums to {}",
             r.budget_sum
         );
+        // The receiver's map holds what lands on the receiver (flat and shaped exit faces
+        // alike), and only a receiver has one.
+        let on_map: f64 = batch.receiver_map.sum.iter().sum();
+        let tallied = batch.receiver.mean * batch.rays as f64;
+        assert!(
+            (on_map - tallied).abs() <= 1e-9 * tallied.max(1.0),
+            "case {case}: map {on_map}, receiver {tallied}"
+        );
+        assert_eq!(
+            batch.receiver_map.sum.is_empty(),
+            s.receiver.is_none(),
+            "case {case}"
+        );
+        assert_eq!(
+            r.exit_figures.receiver_uniformity.is_some(),
+            s.receiver.is_some(),
+            "case {case}"
+        );
+        with_receiver_light += usize::from(on_map > 0.0);
         let b = &r.budget;
         for (name, x) in [
             ("delivered", b.delivered),
@@ -256,6 +277,10 @@ fn budget_sums_to_one_and_shares_are_shares() {
     assert!(
         led_in_pocket >= 2,
         "{led_in_pocket} cases with the LED in a pocket"
+    );
+    assert!(
+        with_receiver_light >= 10,
+        "{with_receiver_light} cases with light on a receiver"
     );
 }
 

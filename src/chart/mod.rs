@@ -22,8 +22,8 @@ pub use bend::{bend_curve, draw_bend_chart};
 pub use far_field::draw_far_field;
 pub use find::draw_find_chart;
 pub use report::{
-    draw_exit_map, draw_intensity, map_scale_top, sequential_colour, MapScale, MAP_SCALE_CELL_CI,
-    MAP_SCALE_PERCENTILE,
+    draw_exit_map, draw_intensity, draw_receiver_map, map_scale_top, sequential_colour, MapScale,
+    MAP_SCALE_CELL_CI, MAP_SCALE_PERCENTILE,
 };
 pub use sweep::{draw_sweep_chart, field_axis_title};
 pub use tolerance::draw_tolerance_chart;

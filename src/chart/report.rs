@@ -107,19 +107,18 @@ pub(super) fn draw_nothing_to_show<DB: DrawingBackend>(
     area.present().map_err(draw_err)
 }
 
-/// Check that a report's exit-face map has its declared shape and a usable extent.
-fn check_map(map: &crate::trace::ExitMap) -> Result<(), TirError> {
+/// Check that a report's map (at `path`, e.g. `report.exit_map`) has its declared shape and a
+/// usable extent.
+fn check_map(map: &crate::trace::ExitMap, path: &str) -> Result<(), TirError> {
     let n = map.cells;
-    let field = |f: &str, m: String| TirError::Field(crate::FieldError::new(f, m));
+    let field =
+        |f: &str, m: String| TirError::Field(crate::FieldError::new(format!("{path}.{f}"), m));
     if n == 0 || n > 10_000 {
-        return Err(field(
-            "report.exit_map.cells",
-            format!("must be ≥ 1 and ≤ 10000, got {n}"),
-        ));
+        return Err(field("cells", format!("must be ≥ 1 and ≤ 10000, got {n}")));
     }
     if map.share_per_area.len() != n * n {
         return Err(field(
-            "report.exit_map.share_per_area",
+            "share_per_area",
             format!(
                 "must hold cells² = {} values, got {}",
                 n * n,
@@ -127,10 +126,7 @@ fn check_map(map: &crate::trace::ExitMap) -> Result<(), TirError> {
             ),
         ));
     }
-    for (f, v) in [
-        ("report.exit_map.width_mm", map.width_mm),
-        ("report.exit_map.height_mm", map.height_mm),
-    ] {
+    for (f, v) in [("width_mm", map.width_mm), ("height_mm", map.height_mm)] {
         if !(v.is_finite() && v > 0.0) {
             return Err(field(f, format!("must be a size > 0 mm, got {v}")));
         }
@@ -250,22 +246,68 @@ pub fn draw_exit_map<DB: DrawingBackend>(
     scale: f64,
     unit: LengthUnit,
 ) -> Result<(), TirError> {
-    let scale = clamp_scale(scale);
-    let px = pixels(scale);
-    let map = &report.exit_map;
-    check_map(map)?;
-    area.fill(&WHITE).map_err(draw_err)?;
-    let Some(colour_scale) = map_scale_top(map) else {
+    let words = MapWords {
+        path: "report.exit_map",
+        title: "Exit-face irradiance",
+        nothing: "No light reached the exit face: nothing to map.",
+    };
+    draw_irradiance_map(area, &report.exit_map, &words, scale, unit)
+}
+
+/// Draw the irradiance map of the receiver (the detector) of a trace report, as
+/// [`draw_exit_map`] draws the exit face's, over the detector's bounding box. A report without
+/// a detector, or with no light on it, gets a message instead.
+pub fn draw_receiver_map<DB: DrawingBackend>(
+    area: &DrawingArea<DB, Shift>,
+    report: &crate::trace::TraceReport,
+    scale: f64,
+    unit: LengthUnit,
+) -> Result<(), TirError> {
+    let title = "Detector irradiance";
+    let Some(map) = &report.receiver_map else {
+        area.fill(&WHITE).map_err(draw_err)?;
         return draw_nothing_to_show(
             area,
-            "Exit-face irradiance",
-            "No light reached the exit face: nothing to map.",
-            scale,
+            title,
+            "The design has no detector.",
+            clamp_scale(scale),
         );
+    };
+    let words = MapWords {
+        path: "report.receiver_map",
+        title,
+        nothing: "No light reached the detector: nothing to map.",
+    };
+    draw_irradiance_map(area, map, &words, scale, unit)
+}
+
+/// The words of an irradiance map: where it sits in the report (for errors), its title, and the
+/// message when it holds no light.
+struct MapWords {
+    path: &'static str,
+    title: &'static str,
+    nothing: &'static str,
+}
+
+/// An irradiance map ([`draw_exit_map`]).
+fn draw_irradiance_map<DB: DrawingBackend>(
+    area: &DrawingArea<DB, Shift>,
+    map: &crate::trace::ExitMap,
+    words: &MapWords,
+    scale: f64,
+    unit: LengthUnit,
+) -> Result<(), TirError> {
+    let scale = clamp_scale(scale);
+    let px = pixels(scale);
+    check_map(map, words.path)?;
+    area.fill(&WHITE).map_err(draw_err)?;
+    let Some(colour_scale) = map_scale_top(map) else {
+        return draw_nothing_to_show(area, words.title, words.nothing, scale);
     };
     let peak = colour_scale.top_per_mm2;
     let caption = format!(
-        "Exit-face irradiance (1 = {} % of the emitted power per {})",
+        "{} (1 = {} % of the emitted power per {})",
+        words.title,
         sig3(100.0 * unit.per_area_from_per_mm2(peak)),
         unit.area_name()
     );
@@ -333,7 +375,7 @@ pub fn draw_exit_map<DB: DrawingBackend>(
             )
         }))
         .map_err(draw_err)?;
-    // The map's extent: the exit face's bounding box.
+    // The map's extent: the exit face's (or the detector's) bounding box.
     chart
         .draw_series(std::iter::once(Rectangle::new(
             [(-hw, -hh), (hw, hh)],
@@ -539,6 +581,44 @@ mod tests {
         s.trace.rays = 20_000;
         let p = Prepared::new(&s).unwrap();
         p.report(&p.trace_all_serial(0))
+    }
+
+    #[test]
+    fn the_detector_map_is_drawn_with_its_own_title_and_size_or_says_there_is_none() {
+        // The thermostat's detector: 4 mm round, 1 mm beyond a 3 mm exit face.
+        let report = thermostat();
+        let map = report
+            .receiver_map
+            .as_ref()
+            .expect("the example has a receiver");
+        assert_eq!((map.width_mm, map.height_mm), (4.0, 4.0));
+        let lit: f64 = map.share.iter().sum();
+        let on = report.receiver.unwrap().share;
+        assert!((lit - on).abs() < 1e-12, "{lit} against {on}");
+        let draw = |report: &TraceReport| {
+            let mut svg = String::new();
+            {
+                let area = SVGBackend::with_string(&mut svg, (600, 400)).into_drawing_area();
+                draw_receiver_map(&area, report, 1.0, LengthUnit::Mm).unwrap();
+            }
+            svg
+        };
+        let svg = draw(&report);
+        assert!(svg.contains("Detector irradiance (1 = "), "{svg}");
+        assert!(!svg.contains("Exit-face"), "{svg}");
+        let mut bare = report.clone();
+        bare.receiver_map = None;
+        assert!(draw(&bare).contains("The design has no detector."));
+        // A malformed map names its own place in the report.
+        let mut bad = report.clone();
+        bad.receiver_map.as_mut().unwrap().cells = 0;
+        let mut svg = String::new();
+        let area = SVGBackend::with_string(&mut svg, (60, 40)).into_drawing_area();
+        let e = draw_receiver_map(&area, &bad, 1.0, LengthUnit::Mm).unwrap_err();
+        assert!(
+            e.to_string().starts_with("report.receiver_map.cells"),
+            "{e}"
+        );
     }
 
     fn exit_map_svg(report: &TraceReport, unit: LengthUnit) -> String {

@@ -2,13 +2,14 @@
 
 use serde::{Deserialize, Serialize};
 
+use super::receiver_map::RECEIVER_CELLS;
 use super::{Path, Prepared, ANGLE_BINS, ANGULAR_CELLS, MAP_CELLS, ROUTE_BINS};
 use crate::stats::Estimate;
 
 /// A histogram of per-ray weights in which each ray lands in at most one bin: plain sums and sums
 /// of squares (merged by addition), so that every bin has its own confidence interval
 /// ([`Hist::estimates`]).
-#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize)]
 pub struct Hist {
     /// Σ w per bin.
     pub sum: Vec<f64>,
@@ -69,6 +70,10 @@ pub struct Batch {
     pub route_leak: Hist,
     /// Delivered weight that lands on the receiver.
     pub receiver: Estimate,
+    /// Where that weight lands on the receiver, RECEIVER_CELLS² over its bounding box (as
+    /// `exit_map`); no bins without a receiver.
+    #[serde(default)]
+    pub receiver_map: Hist,
     /// Wall interactions (reflections, refractions out) counted.
     pub wall_interactions: u64,
     /// Wall hits by segment.
@@ -90,6 +95,10 @@ impl Batch {
             far_field: Hist::new(crate::far_field::BINS),
             route_leak: Hist::new(ROUTE_BINS),
             receiver: Estimate::default(),
+            receiver_map: Hist::new(match p.scenario.receiver {
+                Some(_) => RECEIVER_CELLS * RECEIVER_CELLS,
+                None => 0,
+            }),
             wall_interactions: 0,
             wall_hits: vec![0; nseg],
             rays: 0,
@@ -108,6 +117,7 @@ impl Batch {
         self.far_field.merge(&other.far_field);
         self.route_leak.merge(&other.route_leak);
         self.receiver.merge(&other.receiver);
+        self.receiver_map.merge(&other.receiver_map);
         self.wall_interactions += other.wall_interactions;
         self.wall_hits
             .iter_mut()

@@ -19,13 +19,15 @@
 //!
 //! Layout: this file prepares a scenario and traces and merges batches; `walk` follows one ray,
 //! one function per event; `ledger` names the tally columns (the only place that knows their
-//! order); `batch` holds a batch's tallies and histograms and merges batches in order; `report`
+//! order); `batch` holds a batch's tallies and histograms and merges batches in order;
+//! `receiver_map` places delivered light on the receiver's map; `report`
 //! turns merged batches into the [`TraceReport`]; `names` holds the report's enums (segment
 //! kind, units). The statistics themselves are in [`crate::stats`].
 
 mod batch;
 mod ledger;
 mod names;
+pub mod receiver_map;
 mod report;
 mod walk;
 mod zones;
@@ -459,5 +461,6 @@ impl Prepared {
             && same_bins(&batch.angular_map, &e.angular_map)
             && same_bins(&batch.far_field, &e.far_field)
             && same_bins(&batch.route_leak, &e.route_leak)
+            && same_bins(&batch.receiver_map, &e.receiver_map)
     }
 }

@@ -2,6 +2,7 @@
 
 use serde::{Deserialize, Serialize};
 
+use super::receiver_map::{self, RECEIVER_CELLS};
 use super::{
     Batch, FluxUnit, Hist, IntensityUnit, Path, Prepared, SegmentKind, ANGULAR_CELLS, MAP_CELLS,
     ROUTE_BINS,
@@ -124,6 +125,12 @@ impl Prepared {
                 MAP_CELLS,
                 &self.route.exit_section,
             ),
+            receiver_uniformity: self
+                .scenario
+                .receiver
+                .as_ref()
+                .and_then(receiver_map::outline)
+                .map(|o| Uniformity::of_map(&batch.receiver_map, batch.rays, RECEIVER_CELLS, &o)),
             half_intensity_full_angle_deg: half_intensity_full_angle(
                 &batch.angle_hist,
                 batch.rays,
@@ -154,6 +161,20 @@ impl Prepared {
                 2.0 * self.exit_half.0,
                 2.0 * self.exit_half.1,
             ),
+            receiver_map: self
+                .scenario
+                .receiver
+                .as_ref()
+                .and_then(receiver_map::outline)
+                .map(|o| {
+                    ExitMap::new(
+                        &batch.receiver_map,
+                        batch.rays,
+                        RECEIVER_CELLS,
+                        2.0 * o.half_width_mm,
+                        2.0 * o.half_height_mm,
+                    )
+                }),
             intensity,
             angular_map: AngularMap::new(&batch.angular_map, batch.rays, ANGULAR_CELLS),
             far_field: FarField::from_hist(
@@ -705,6 +726,10 @@ pub struct TraceReport {
     pub wall_interactions: u64,
     /// Exit-face irradiance map (share per cell).
     pub exit_map: ExitMap,
+    /// Where delivered light lands on the receiver (the detector), over its bounding box, as
+    /// the exit map; only when the scenario has a receiver.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub receiver_map: Option<ExitMap>,
     /// Intensity against angle.
     pub intensity: Intensity,
     /// 2D angular map over direction cosines (shares per cell; kept as it was in the report

@@ -9,10 +9,12 @@ use glam::DVec3;
 use rand_core::Rng;
 use rand_pcg::Pcg64Mcg;
 
-use super::{Batch, Fate, Prepared, ANGLE_BINS, ANGULAR_CELLS, MAP_CELLS, ROUTE_BINS};
+use super::{
+    receiver_map, Batch, Fate, Prepared, ANGLE_BINS, ANGULAR_CELLS, MAP_CELLS, ROUTE_BINS,
+};
 use crate::geometry::{Next, Placed};
 use crate::interface::{fresnel_amplitudes, fresnel_reflectance, reflect, refract};
-use crate::scenario::CoatingKind;
+use crate::scenario::{CoatingKind, Receiver};
 
 mod faces;
 pub(super) use faces::ShapedFaces;
@@ -212,25 +214,33 @@ impl Prepared {
                 && az <= c.to_deg
         })
     }
+}
 
+impl Walk<'_> {
     /// The weight `w` of a ray delivered at exit-frame point `q` with direction `od` that lands
-    /// on the receiver (0 without one, or when it misses).
-    fn on_receiver(&self, q: DVec3, od: DVec3, w: f64) -> f64 {
-        match self.scenario.receiver {
+    /// on the receiver (0 without one, or when it misses); put on the receiver's map.
+    fn on_receiver(&mut self, q: DVec3, od: DVec3, w: f64) -> f64 {
+        match self.p.scenario.receiver {
             Some(r) if od.z > 0.0 => {
                 let t = r.distance_mm / od.z;
-                if r.contains(q.x + t * od.x, q.y + t * od.y) {
-                    w
-                } else {
-                    0.0
-                }
+                self.land_on_receiver(&r, q.x + t * od.x, q.y + t * od.y, w)
             }
             _ => 0.0,
         }
     }
-}
 
-impl Walk<'_> {
+    /// The weight `w` arriving at (x, y) in the receiver's plane (mm from its centre) if that
+    /// point is on the receiver, put on its map; else 0.
+    fn land_on_receiver(&mut self, r: &Receiver, x: f64, y: f64, w: f64) -> f64 {
+        if !r.contains(x, y) {
+            return 0.0;
+        }
+        if let Some(o) = receiver_map::outline(r) {
+            self.out.receiver_map.add(receiver_map::cell(&o, x, y), w);
+        }
+        w
+    }
+
     /// Sample a start and direction on the emitter and cross the gap to the entry plane z = 0;
     /// the ray enters the guide or ends outside it (missed or reflected at the entry face).
     fn launch(&mut self) -> Result<Ray, Fate> {
@@ -528,7 +538,7 @@ impl Walk<'_> {
         let ledger = p.ledger;
         self.end_inside(ledger.delivered(), ledger.after_delivered(), ray.w);
         self.record_delivery(q, od, ray.w);
-        Step::End(Fate::Delivered, p.on_receiver(q, od, ray.w))
+        Step::End(Fate::Delivered, self.on_receiver(q, od, ray.w))
     }
 
     /// The ray's weight as it reaches the exit face for the first time, tallied as reaching it:

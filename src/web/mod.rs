@@ -423,6 +423,21 @@ pub fn draw_exit_map(
     crate::chart::draw_exit_map(&area, &report, pixel_ratio, unit).map_err(js_error)
 }
 
+/// Draw the detector's irradiance map of a trace report on the canvas with id `canvas_id`, as
+/// [`draw_exit_map`] draws the exit face's; a report without a detector draws a message.
+#[wasm_bindgen]
+pub fn draw_receiver_map(
+    canvas_id: &str,
+    report: JsValue,
+    pixel_ratio: f64,
+    length_unit: JsValue,
+) -> Result<(), JsError> {
+    let unit = read_length_unit(&length_unit)?;
+    let report = read_report(report)?;
+    let area = canvas_area(canvas_id)?;
+    crate::chart::draw_receiver_map(&area, &report, pixel_ratio, unit).map_err(js_error)
+}
+
 /// Draw relative intensity against the angle from the exit axis, with its 95 % band, on the
 /// canvas with id `canvas_id`; `pixel_ratio` as for [`draw_exit_map`].
 #[wasm_bindgen]

@@ -272,15 +272,11 @@ impl Walk<'_> {
 
     /// The weight `w` leaving the exit face at exit-frame point `q` (on the face, q.z ≥ 0) along
     /// `od` that lands on the receiver, whose plane is its distance beyond the end plane.
-    fn on_receiver_from(&self, q: DVec3, od: DVec3, w: f64) -> f64 {
+    fn on_receiver_from(&mut self, q: DVec3, od: DVec3, w: f64) -> f64 {
         match self.p.scenario.receiver {
             Some(r) if od.z > 0.0 => {
                 let t = (r.distance_mm - q.z) / od.z;
-                if r.contains(q.x + t * od.x, q.y + t * od.y) {
-                    w
-                } else {
-                    0.0
-                }
+                self.land_on_receiver(&r, q.x + t * od.x, q.y + t * od.y, w)
             }
             _ => 0.0,
         }
@@ -316,7 +312,7 @@ impl Walk<'_> {
                 let ledger = p.ledger;
                 self.end_inside(ledger.delivered(), ledger.after_delivered(), ray.w);
                 self.record_delivery(q, od, ray.w);
-                Step::End(Fate::Delivered, p.on_receiver(q, od, ray.w))
+                Step::End(Fate::Delivered, self.on_receiver(q, od, ray.w))
             }
         }
     }

@@ -257,6 +257,10 @@ function drawCharts() {
     ['intensity', (ratio) => core.draw_intensity('intensity', page.report, ratio), null],
     ['far-field', (ratio) => core.draw_far_field('far-field', page.report, ratio), null],
   ];
+  // The detector's map, only when the traced design has a detector (shown before sizing).
+  const detector = Boolean(page.report.receiver_map);
+  $('receiver-map-card').hidden = !detector;
+  if (detector) charts.push(['receiver-map', (ratio) => core.draw_receiver_map('receiver-map', page.report, ratio, unit), unit]);
   for (const [id, draw, drawnIn] of charts) {
     const canvas = $(id);
     const { ratio } = sizeCanvasForCore(canvas);

@@ -7,13 +7,15 @@ import { initSync, Tracer } from '../www/pkg/tirtrace.js';
 const [path, batchesArg] = process.argv.slice(2);
 const batches = Number(batchesArg || 10);
 initSync({ module: readFileSync(new URL('../www/pkg/tirtrace_bg.wasm', import.meta.url)) });
-const tracer = new Tracer(readFileSync(path, 'utf8'));
-const total = tracer.batch_count();
+// The scenario's ray count replaced by BATCHES whole batches, as examples/speed.rs does.
+const doc = JSON.parse(readFileSync(path, 'utf8'));
+doc.trace = { ...doc.trace, rays: batches * 4096 };
+const tracer = new Tracer(JSON.stringify(doc));
 // Warm up: V8 starts wasm on its baseline compiler.
 for (let i = 0; i < 3; i++) tracer.wall_interactions(0, 1);
 const start = performance.now();
 let interactions = 0;
-for (let b = 0; b < batches; b++) interactions += tracer.wall_interactions(b % total, 1);
+for (let b = 0; b < batches; b++) interactions += tracer.wall_interactions(b, 1);
 const s = (performance.now() - start) / 1000;
 const rays = batches * 4096;
 console.log(JSON.stringify({ runner: 'wasm in node, 1 thread', rays_per_s: Math.round(rays / s), wall_interactions_per_s: Math.round(interactions / s), seconds: Number(s.toFixed(3)) }));

@@ -24,6 +24,14 @@ native=$(target/release/examples/speed "$scenario" "$batches")
 wasm=$(node benches/wasm_speed.mjs "$scenario" "$batches")
 echo "$native"
 echo "$wasm"
+python3 - "$native" <<'PY'
+import json, sys
+n = json.loads(sys.argv[1])
+print(f"native, 1 thread: delivered {100 * n['delivered']:.2f} ± {100 * n['delivered_ci95']:.3f} % in {n['seconds']:.2f} s, "
+      f"precision per second 1/(ci95² s) = {n['delivered_precision_per_s']:.3g}; "
+      f"leakiest bend (segment {n['leakiest_bend']}) leaks {100 * n['bend_leak']:.2f} ± {100 * n['bend_leak_ci95']:.3f} %, "
+      f"precision per second {n['bend_precision_per_s']:.3g}")
+PY
 python3 - "$native" "$wasm" <<'PY'
 import json, sys
 n, w = json.loads(sys.argv[1]), json.loads(sys.argv[2])
@@ -62,6 +70,9 @@ if [[ -n "$against" ]]; then
   tree=$(mktemp -d)
   trap 'git worktree remove --force "$tree" >/dev/null 2>&1 || true' EXIT
   git worktree add -q --detach "$tree" "$against"
+  # The older library measured by this version's speed example (it only uses the public API
+  # every version has), so that both print the same figures.
+  cp examples/speed.rs "$tree/examples/speed.rs"
   (cd "$tree" && CARGO_TARGET_DIR="$PWD/target" cargo build -q --release --example speed)
   old_bin="$tree/target/release/examples/speed"
   for round in 1 2 3; do
@@ -70,8 +81,13 @@ if [[ -n "$against" ]]; then
     python3 - "$now" "$then" "$round" "$against" <<'PY'
 import json, sys
 a, b = json.loads(sys.argv[1]), json.loads(sys.argv[2])
-print(f"round {sys.argv[3]}: this version traces {a['rays_per_s'] / b['rays_per_s']:.2f}x the rays/s of {sys.argv[4]} "
-      f"({a['wall_interactions_per_s'] / 1e6:.2f} vs {b['wall_interactions_per_s'] / 1e6:.2f} M wall interactions/s)")
+print(f"round {sys.argv[3]}: this version against {sys.argv[4]}: "
+      f"rays/s {a['rays_per_s'] / b['rays_per_s']:.2f}x, "
+      f"wall interactions/s {a['wall_interactions_per_s'] / b['wall_interactions_per_s']:.2f}x "
+      f"({a['wall_interactions_per_s'] / 1e6:.2f} vs {b['wall_interactions_per_s'] / 1e6:.2f} M), "
+      f"precision per second of delivered {a['delivered_precision_per_s'] / b['delivered_precision_per_s']:.2f}x "
+      f"(± {100 * a['delivered_ci95']:.3f} % in {a['seconds']:.2f} s vs ± {100 * b['delivered_ci95']:.3f} % in {b['seconds']:.2f} s), "
+      f"of bend {a['leakiest_bend']}'s leak {a['bend_precision_per_s'] / b['bend_precision_per_s']:.2f}x")
 PY
   done
 fi

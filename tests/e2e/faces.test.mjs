@@ -87,7 +87,7 @@ for (const viewport of [{ width: 1280, height: 800 }, { width: 820, height: 1180
 
     test('an LED inside the pocket: a negative gap down to the depth traces as the CLI; deeper is named', async () => {
       const { page } = opened;
-      const doc = small(PANEL);
+      const doc = structuredClone(small(PANEL));
       doc.guide.entry_face = { pocket: { radius_mm: 1.2, depth_mm: 0.9 } };
       doc.source.emitter = { led: { area: { square: { side_mm: 0.5 } }, pattern: 'lambertian' } };
       await openKept(page, doc);

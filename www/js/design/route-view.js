@@ -575,12 +575,14 @@ export class RouteView {
   /**
    * The coated zones on the pipe, to scale: each zone's rings of wall points from the core's
    * outline joined into quadrilaterals (both sides of the pipe show through, as the pipe is
-   * drawn without depth), edged, and named by kind beside its middle.
+   * drawn without depth), edged, and named by kind beside its middle. A zone on a corner comes
+   * in pieces (one per run of its sector that has wall), all with its index: named once.
    */
   drawCoatings(g) {
     const zones = this.outline?.coatings;
     if (!zones?.length) return;
     g.lineJoin = 'round';
+    const named = new Set();
     for (const zone of zones) {
       const style = COATING_STYLE[zone.kind] || COATING_STYLE.black;
       const rings = zone.rings.map((ring) => ring.map((p) => this.toScreen(p)));
@@ -609,6 +611,8 @@ export class RouteView {
         rings.forEach((ring, k) => (k === 0 ? g.moveTo(...ring[side]) : g.lineTo(...ring[side])));
       }
       g.stroke();
+      if (named.has(zone.index)) continue;
+      named.add(zone.index);
       const mid = rings[Math.floor(rings.length / 2)];
       const [lx, ly] = mid[Math.floor(mid.length / 2)];
       g.fillStyle = '#212529';

@@ -476,3 +476,62 @@ fn a_coating_all_over_a_right_angle_corner_covers_its_whole_wall() {
         );
     }
 }
+
+#[test]
+fn light_a_coating_absorbs_is_placed_along_the_route_where_it_meets_the_coating() {
+    // The rod split into straights of 10 and 20 mm, black paint all round the second from 0 to
+    // 15 mm (the route's 10 to 25 mm). What the coating takes is binned along the route as the
+    // leakage is: its bins sum to the budget's coatings share, and nothing lies in a bin wholly
+    // outside the coated span. An index-matched mount on the same zone takes the same rays at
+    // the same places (see above), tallied as leakage along the route: the two profiles agree
+    // bin for bin. The leakage line itself is untouched by coatings (nothing leaks here).
+    let split = |coatings: Value| {
+        let mut s = rod(coatings);
+        let mut v = serde_json::to_value(&s).unwrap();
+        v["route"] =
+            json!([{ "straight": { "length_mm": 10 } }, { "straight": { "length_mm": 20 } }]);
+        s = Scenario::from_json(&v.to_string()).unwrap_or_else(|e| panic!("{e}"));
+        s
+    };
+    let black = run(&split(
+        json!([{ "kind": "black", "segment": 1, "from_mm": 0, "to_mm": 15 }]),
+    ));
+    let profile = black
+        .coating_along_route
+        .as_ref()
+        .expect("a profile with coatings");
+    assert_eq!(profile.share.len(), black.leak_along_route.share.len());
+    let sum: f64 = profile.share.iter().sum();
+    assert!(black.budget.coating.share > 0.5);
+    assert!(
+        (sum - black.budget.coating.share).abs() < 1e-12,
+        "{sum} against {:?}",
+        black.budget.coating
+    );
+    for (k, &share) in profile.share.iter().enumerate() {
+        let (lo, hi) = (k as f64 * profile.bin_mm, (k + 1) as f64 * profile.bin_mm);
+        if hi < 10.0 - 1e-9 || lo > 25.0 + 1e-9 {
+            assert_eq!(share, 0.0, "bin {k} ({lo} to {hi} mm)");
+        }
+    }
+    assert!(black.leak_along_route.share.iter().all(|&s| s == 0.0));
+
+    let mut glued = split(json!([]));
+    glued.guide.contacts.push(tirtrace::scenario::Contact {
+        name: "glue".into(),
+        segment: 1,
+        from_mm: 0.0,
+        to_mm: 15.0,
+        sector_from_deg: 0.0,
+        sector_to_deg: 360.0,
+        medium: tirtrace::index::library::MaterialChoice::library("pmma"),
+    });
+    let glued = run(&glued);
+    assert_eq!(glued.budget.contact, black.budget.coating);
+    assert_eq!(glued.leak_along_route.share, profile.share);
+    assert_eq!(glued.leak_along_route.ci95, profile.ci95);
+    // Without coatings there is no such profile, and the report's JSON is as it was.
+    assert!(glued.coating_along_route.is_none());
+    let text = serde_json::to_string(&glued).unwrap();
+    assert!(!text.contains("coating_along_route"));
+}

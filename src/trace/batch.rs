@@ -8,7 +8,7 @@ use crate::stats::Estimate;
 /// A histogram of per-ray weights in which each ray lands in at most one bin: plain sums and sums
 /// of squares (merged by addition), so that every bin has its own confidence interval
 /// ([`Hist::estimates`]).
-#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize)]
 pub struct Hist {
     /// Σ w per bin.
     pub sum: Vec<f64>,
@@ -64,6 +64,10 @@ pub struct Batch {
     pub angular_map: Hist,
     /// Leaked (and contact-lost) weight along the route, ROUTE_BINS bins.
     pub route_leak: Hist,
+    /// Weight absorbed by the wall's coatings along the route, ROUTE_BINS bins (no bins when
+    /// the scenario has no coatings).
+    #[serde(default)]
+    pub route_coating: Hist,
     /// Delivered weight that lands on the receiver.
     pub receiver: Estimate,
     /// Wall interactions (reflections, refractions out) counted.
@@ -85,6 +89,7 @@ impl Batch {
             angle_hist: Hist::new(ANGLE_BINS),
             angular_map: Hist::new(ANGULAR_CELLS * ANGULAR_CELLS),
             route_leak: Hist::new(ROUTE_BINS),
+            route_coating: Hist::new(if p.coatings.is_empty() { 0 } else { ROUTE_BINS }),
             receiver: Estimate::default(),
             wall_interactions: 0,
             wall_hits: vec![0; nseg],
@@ -102,6 +107,7 @@ impl Batch {
         self.angle_hist.merge(&other.angle_hist);
         self.angular_map.merge(&other.angular_map);
         self.route_leak.merge(&other.route_leak);
+        self.route_coating.merge(&other.route_coating);
         self.receiver.merge(&other.receiver);
         self.wall_interactions += other.wall_interactions;
         self.wall_hits

@@ -458,5 +458,6 @@ impl Prepared {
             && same_bins(&batch.angle_hist, &e.angle_hist)
             && same_bins(&batch.angular_map, &e.angular_map)
             && same_bins(&batch.route_leak, &e.route_leak)
+            && same_bins(&batch.route_coating, &e.route_coating)
     }
 }

@@ -45,7 +45,7 @@ for (const [name, original] of [...examples, ...variants]) {
     assert.ok(native.delivered.share > 0, 'some light is delivered');
     // Every figure, compared as numbers (JSON printing is shortest round-trip on both sides).
     for (const key of ['delivered', 'budget', 'budget_sum', 'exit_turn_back', 'segments', 'contacts', 'receiver',
-      'absolute', 'wall_interactions', 'exit_map', 'intensity', 'angular_map', 'leak_along_route', 'exit_figures']) {
+      'absolute', 'wall_interactions', 'exit_map', 'intensity', 'angular_map', 'leak_along_route', 'coating_along_route', 'exit_figures']) {
       assert.deepStrictEqual(wasm[key] ?? null, native[key] ?? null, `${key} differs`);
     }
   });

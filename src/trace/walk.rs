@@ -204,13 +204,9 @@ impl Prepared {
         }
         let along = placed.along_mm(o);
         let az = placed.azimuth_deg(o);
-        self.contacts.iter().position(|c| {
-            c.segment == seg
-                && along >= c.from_mm
-                && along <= c.to_mm
-                && az >= c.from_deg
-                && az <= c.to_deg
-        })
+        self.contacts
+            .iter()
+            .position(|c| c.place.segment == seg && c.place.holds(along, az))
     }
 
     /// The weight `w` of a ray delivered at exit-frame point `q` with direction `od` that lands

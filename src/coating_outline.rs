@@ -7,14 +7,23 @@
 //! Sampling: a straight or a taper needs only its two ends along (its walls are ruled); a bend
 //! is sampled every ≤ [`crate::outline::MAX_BEND_STEP_DEG`] of turn. Across, every
 //! ≤ [`SECTOR_STEP_DEG`], with a rectangular section's corners inside the sector added.
+//!
+//! A reflecting corner ([`crate::geometry::Corner`]) is drawn as its tracer measures it: a wall
+//! point on the incoming side of the plane square to t + t' (t, t' the incoming and outgoing
+//! axes) is placed by the incoming leg (along = ℓ + p·t, azimuth in that leg's section), one on
+//! the outgoing side by the outgoing leg. So the point at (along, azimuth) is found from the
+//! leg's axis point, along the azimuth's direction, at the nearer of the leg's side wall and the
+//! face; on the turn's inner side, where the legs overlap, the side wall past that plane is
+//! inside the other leg, and no wall point has such a place (the crease where the two legs'
+//! inner walls meet closes the gap). See [`corner_zone`].
 
 use glam::DVec3;
 use serde::Serialize;
 
 use crate::geometry::bend::rot_z;
-use crate::geometry::{Placed, PlacedRoute, Shape};
+use crate::geometry::{Corner, Placed, PlacedRoute, Shape};
 use crate::outline::MAX_BEND_STEP_DEG;
-use crate::scenario::{CoatingKind, Scenario};
+use crate::scenario::{Coating, CoatingKind, Scenario};
 
 /// Largest step round the perimeter between two points of a ring, degrees.
 pub const SECTOR_STEP_DEG: f64 = 10.0;
@@ -58,8 +67,7 @@ fn section_at(placed: &Placed, along_mm: f64) -> (DVec3, DVec3, DVec3, f64, f64)
                 hh,
             )
         }
-        // Coatings on a reflecting corner are traced but not drawn yet (coating_outlines leaves
-        // them out): its section is taken at the corner's start.
+        // A corner is drawn by corner_zone, never through here.
         Shape::Corner(_) => (f.origin, f.x, f.y, 0.0, 0.0),
     }
 }
@@ -72,7 +80,15 @@ fn wall_point(
     az_deg: f64,
 ) -> [f64; 3] {
     let (s, c) = libm::sincos(az_deg.to_radians());
-    let t = if round {
+    let t = wall_reach(hw, hh, round, s, c);
+    (centre + t * c * u + t * s * v).to_array()
+}
+
+/// How far from a section's centre the ray in the direction (cos, sin) = (`c`, `s`) of its
+/// width and height axes meets the wall: the radius `hw` (`round`), or where it leaves the
+/// rectangle of half-sizes `hw`, `hh`, mm.
+fn wall_reach(hw: f64, hh: f64, round: bool, s: f64, c: f64) -> f64 {
+    if round {
         hw
     } else {
         let tw = if c.abs() > 0.0 {
@@ -86,8 +102,7 @@ fn wall_point(
             f64::INFINITY
         };
         tw.min(th)
-    };
-    (centre + t * c * u + t * s * v).to_array()
+    }
 }
 
 /// The azimuths of one ring: the sector's ends, every ≤ [`SECTOR_STEP_DEG`] between, and a
@@ -102,46 +117,209 @@ fn azimuths(from_deg: f64, to_deg: f64, corners: &[f64]) -> Vec<f64> {
     az
 }
 
-/// Every coating of a validated scenario on its placed route, in document order.
-pub fn coating_outlines(scenario: &Scenario, route: &PlacedRoute) -> Vec<CoatingOutline> {
-    scenario
-        .guide
-        .coatings
-        .iter()
-        .enumerate()
-        .filter_map(|(index, c)| {
-            let placed = route.segments.get(c.segment)?;
-            let along: Vec<f64> = match placed.shape {
-                Shape::Corner(_) => return None,
-                Shape::Axial(_) => vec![c.from_mm, c.to_mm],
-                Shape::Bend(b) => {
-                    let turn_deg = ((c.to_mm - c.from_mm) / b.rc).to_degrees();
-                    let steps = ((turn_deg / MAX_BEND_STEP_DEG).ceil() as usize).max(1);
-                    (0..=steps)
-                        .map(|k| c.from_mm + (c.to_mm - c.from_mm) * (k as f64 / steps as f64))
-                        .collect()
+/// A coated zone on a reflecting corner, as pieces of rings (local mm; see the module's
+/// documentation): one piece for each run of azimuths at which the zone has wall, each ring at
+/// one place along the zone, across the run.
+///
+/// At azimuth φ, with d(φ) the direction in the incoming leg's section and d′(φ) in the
+/// outgoing one's, the incoming leg's wall point at `along` s is p = (s − ℓ) t + r d with r the
+/// nearer of the side wall (reach r_w) and the face (m·p = 0), and the outgoing leg's
+/// p = (s − ℓ) t′ + r d′. p·(t + t′) = (s − ℓ)(1 + cos θ) + r d·t′ for the incoming leg, so its
+/// side wall at φ is on the incoming side only up to s_A = ℓ − r_w (d·t′)/(1 + cos θ) (d·t′ > 0
+/// on the turn's inner side, else s_A = ℓ); likewise the outgoing leg's from
+/// s_B = ℓ − r_w (d′·t)/(1 + cos θ) ≥ ℓ. A place in (s_A, s_B) has no wall; it is drawn at the
+/// crease where the two inner walls meet (both legs' points at s_A and s_B are that point, the
+/// two legs being mirror images in the plane square to t + t′), and an azimuth where the zone
+/// lies wholly in that gap is left out. On the turn's outer side the incoming leg's point
+/// leaves the side wall for the face at s = ℓ − r_w (m·d)/sin(θ/2) (m·d > 0), the outgoing
+/// leg's at ℓ + r_w (m·d′)/sin(θ/2).
+///
+/// Along each azimuth the point moves linearly in s between those places (on a flat or ruled
+/// side wall, on the flat face, or standing at the crease), so the rings are taken at them:
+/// the zone's start, where the incoming leg leaves its side wall, ℓ, where the outgoing leg
+/// reaches its side wall, and the zone's end (each held within the zone). Neighbouring
+/// azimuths' points at the same ring lie on the same fold, so no drawn quadrilateral cuts
+/// across the edge between a side wall and the face.
+fn corner_zone(round: bool, c: &Corner, zone: &Coating) -> Vec<Vec<Vec<DVec3>>> {
+    let leg = c.leg;
+    let (t, t2, m) = (DVec3::Z, c.out_axis, c.face_normal);
+    let one_plus_cos = 1.0 + t2.z;
+    let sin_half = m.z;
+    // Directions within rounding of the face's plane (the azimuths of the face's middle line,
+    // across the turn) meet it only at infinity: rounding must not put them on the face.
+    const ALONG_FACE: f64 = 1e-12;
+    // The point on the nearer of the side wall (reach r) and the face from the axis point
+    // `centre` along `dir`.
+    let on_wall = |centre: DVec3, dir: DVec3, r: f64| {
+        let md = m.dot(dir);
+        let r = if md > ALONG_FACE {
+            r.min((-m.dot(centre) / md).max(0.0))
+        } else {
+            r
+        };
+        centre + r * dir
+    };
+    // Directions, reach and the places where the motion along changes, at azimuth φ:
+    // (d, d′, r_w, s_A, s_B, where the incoming leg meets the face, where the outgoing leaves it).
+    let at = |az_deg: f64| {
+        let (sn, cs) = libm::sincos(az_deg.to_radians());
+        let r = wall_reach(c.hw, c.hh, round, sn, cs);
+        let da = cs * DVec3::X + sn * DVec3::Y;
+        let db = cs * c.out_x + sn * c.out_y;
+        let s_a = if da.dot(t2) > 0.0 {
+            leg - r * da.dot(t2) / one_plus_cos
+        } else {
+            leg
+        };
+        let s_b = if db.dot(t) < 0.0 {
+            leg - r * db.dot(t) / one_plus_cos
+        } else {
+            leg
+        };
+        let towards_face = |d: DVec3| {
+            let md = m.dot(d);
+            if md > ALONG_FACE {
+                md
+            } else {
+                0.0
+            }
+        };
+        let face_a = leg - r * towards_face(da) / sin_half;
+        let face_b = leg + r * towards_face(db) / sin_half;
+        (da, db, r, s_a, s_b, face_a, face_b)
+    };
+    let has_wall = |az_deg: f64| {
+        let (_, _, _, s_a, s_b, _, _) = at(az_deg);
+        zone.from_mm <= s_a || zone.to_mm >= s_b
+    };
+    // The rings' places along at φ, and the point at place s.
+    let places = |az_deg: f64| {
+        let (_, _, _, s_a, s_b, face_a, face_b) = at(az_deg);
+        [
+            zone.from_mm,
+            s_a.min(face_a),
+            leg,
+            s_b.max(face_b),
+            zone.to_mm,
+        ]
+        .map(|s| s.clamp(zone.from_mm, zone.to_mm))
+    };
+    let point = |s: f64, az_deg: f64| {
+        let (da, db, r, s_a, s_b, _, _) = at(az_deg);
+        if s <= leg {
+            on_wall((s.min(s_a) - leg) * t, da, r)
+        } else {
+            on_wall((s.max(s_b) - leg) * t2, db, r)
+        }
+    };
+
+    // Runs of azimuths with wall, each ended exactly (by halving) where the wall stops.
+    let corner = libm::atan2(c.hh, c.hw).to_degrees();
+    let corners = [corner, 180.0 - corner, 180.0 + corner, 360.0 - corner];
+    let corners: &[f64] = if round { &[] } else { &corners };
+    let mut runs: Vec<Vec<f64>> = Vec::new();
+    let mut previous: Option<(f64, bool)> = None;
+    for az in azimuths(zone.sector_from_deg, zone.sector_to_deg, corners) {
+        let here = has_wall(az);
+        if let Some((before, had)) = previous {
+            if had != here {
+                let (mut lo, mut hi) = (before, az);
+                for _ in 0..48 {
+                    let mid = 0.5 * (lo + hi);
+                    if has_wall(mid) == had {
+                        lo = mid;
+                    } else {
+                        hi = mid;
+                    }
                 }
-            };
-            let rings = along
-                .iter()
-                .map(|&a| {
-                    let section = section_at(placed, a);
-                    let (hw, hh) = (section.3, section.4);
-                    let corner = libm::atan2(hh, hw).to_degrees();
-                    let corners = [corner, 180.0 - corner, 180.0 + corner, 360.0 - corner];
-                    let corners: &[f64] = if placed.round { &[] } else { &corners };
-                    azimuths(c.sector_from_deg, c.sector_to_deg, corners)
-                        .into_iter()
-                        .map(|az| wall_point(section, placed.round, az))
+                if had {
+                    if let Some(run) = runs.last_mut() {
+                        run.push(lo);
+                    }
+                } else {
+                    runs.push(vec![hi]);
+                }
+            }
+        }
+        if here {
+            // A run goes on, or was just opened by the halving above, or opens at the start.
+            match runs.last_mut() {
+                Some(run) if previous.is_some() => run.push(az),
+                _ => runs.push(vec![az]),
+            }
+        }
+        previous = Some((az, here));
+    }
+    runs.into_iter()
+        .filter(|run| run.len() >= 2)
+        .map(|run| {
+            let columns: Vec<[f64; 5]> = run.iter().map(|&az| places(az)).collect();
+            (0..5)
+                .map(|k| {
+                    run.iter()
+                        .zip(&columns)
+                        .map(|(&az, along)| point(along[k], az))
                         .collect()
                 })
-                .collect();
-            let kind = match c.kind {
-                CoatingKind::WhitePaint { .. } => "white_paint",
-                CoatingKind::Metal { .. } => "metal",
-                CoatingKind::Black => "black",
-            };
-            Some(CoatingOutline { index, kind, rings })
+                .collect()
         })
         .collect()
+}
+
+/// Every coating of a validated scenario on its placed route, in document order; a coating on
+/// a corner comes as one outline for each run of its sector that has wall (see
+/// [`corner_zone`]), all with its index.
+pub fn coating_outlines(scenario: &Scenario, route: &PlacedRoute) -> Vec<CoatingOutline> {
+    let mut out = Vec::new();
+    for (index, c) in scenario.guide.coatings.iter().enumerate() {
+        let Some(placed) = route.segments.get(c.segment) else {
+            continue;
+        };
+        let kind = match c.kind {
+            CoatingKind::WhitePaint { .. } => "white_paint",
+            CoatingKind::Metal { .. } => "metal",
+            CoatingKind::Black => "black",
+        };
+        let along: Vec<f64> = match placed.shape {
+            Shape::Corner(corner) => {
+                let f = &placed.frame;
+                for piece in corner_zone(placed.round, &corner, c) {
+                    let rings = piece
+                        .iter()
+                        .map(|ring| {
+                            ring.iter()
+                                .map(|&p| f.point_to_global(p).to_array())
+                                .collect()
+                        })
+                        .collect();
+                    out.push(CoatingOutline { index, kind, rings });
+                }
+                continue;
+            }
+            Shape::Axial(_) => vec![c.from_mm, c.to_mm],
+            Shape::Bend(b) => {
+                let turn_deg = ((c.to_mm - c.from_mm) / b.rc).to_degrees();
+                let steps = ((turn_deg / MAX_BEND_STEP_DEG).ceil() as usize).max(1);
+                (0..=steps)
+                    .map(|k| c.from_mm + (c.to_mm - c.from_mm) * (k as f64 / steps as f64))
+                    .collect()
+            }
+        };
+        let rings = along
+            .iter()
+            .map(|&a| {
+                let section = section_at(placed, a);
+                let (hw, hh) = (section.3, section.4);
+                let corner = libm::atan2(hh, hw).to_degrees();
+                let corners = [corner, 180.0 - corner, 180.0 + corner, 360.0 - corner];
+                let corners: &[f64] = if placed.round { &[] } else { &corners };
+                azimuths(c.sector_from_deg, c.sector_to_deg, corners)
+                    .into_iter()
+                    .map(|az| wall_point(section, placed.round, az))
+                    .collect()
+            })
+            .collect();
+        out.push(CoatingOutline { index, kind, rings });
+    }
+    out
 }

@@ -374,6 +374,31 @@ fn every_example_scenario_outlines_cleanly() {
     }
 }
 
+#[test]
+fn examples_without_coatings_report_and_draw_nothing_new() {
+    // Light absorbed by coatings along the route is reported and drawn only for a design with
+    // coatings: an example without keeps its report's and its outline's JSON as they were (no
+    // such profile, no coated zones), so the page shows it as before.
+    let mut without = 0;
+    for (name, text) in EXAMPLES {
+        let mut scenario = Scenario::from_json(text).unwrap();
+        let coated = !scenario.guide.coatings.is_empty();
+        scenario.trace.rays = 2_000;
+        let p = tirtrace::trace::Prepared::new(&scenario).unwrap();
+        let report = p.report(&p.trace_all_serial(0));
+        let report = serde_json::to_value(&report).unwrap();
+        let outline = serde_json::to_value(route_outline(&scenario).unwrap()).unwrap();
+        assert_eq!(
+            report.get("coating_along_route").is_some(),
+            coated,
+            "{name}"
+        );
+        assert_eq!(outline.get("coatings").is_some(), coated, "{name}");
+        without += usize::from(!coated);
+    }
+    assert!(without >= 5, "{without} examples without coatings");
+}
+
 #[cfg(not(target_arch = "wasm32"))]
 #[test]
 fn the_example_list_is_complete() {

@@ -82,6 +82,62 @@ fn committed_schemas_are_what_the_types_generate() {
 }
 
 #[test]
+fn mounts_and_coatings_place_a_zone_alike() {
+    // The document writes a zone's place (segment, from/to along it, the sector) out in each
+    // kind of zone (tirtrace::scenario::ZonePlace says why): the two must not drift apart. Each
+    // field has the same type, range, default and need in both; only the words differ.
+    let schema: Value = serde_json::from_str(&schema_json("scenario").unwrap()).unwrap();
+    let defs = &schema["$defs"];
+    let fields = [
+        "segment",
+        "from_mm",
+        "to_mm",
+        "sector_from_deg",
+        "sector_to_deg",
+    ];
+    let place = |kind: &str| {
+        let def = &defs[kind];
+        let mut props = Vec::new();
+        for f in fields {
+            let mut p = def["properties"][f].clone();
+            assert!(p.is_object(), "{kind}.{f}");
+            p.as_object_mut().unwrap().remove("description");
+            let required = def["required"].as_array().unwrap().iter().any(|r| r == f);
+            props.push((f, p, required));
+        }
+        props
+    };
+    assert_eq!(place("Contact"), place("Coating"));
+    // The reader refuses a bad place alike too, naming the field.
+    let text = |list: &str, zone: Value| {
+        let mut doc =
+            read_json(&root().join("examples/scenarios/bike_light_charge_indicator.json"));
+        doc["guide"][list] = serde_json::json!([zone]);
+        doc.to_string()
+    };
+    for (f, bad) in [
+        ("segment", serde_json::json!(-1)),
+        ("from_mm", serde_json::json!("x")),
+    ] {
+        let mut mount = serde_json::json!({ "segment": 0, "from_mm": 0, "to_mm": 1, "medium": { "library": "pmma" } });
+        let mut coat =
+            serde_json::json!({ "kind": "black", "segment": 0, "from_mm": 0, "to_mm": 1 });
+        mount[f] = bad.clone();
+        coat[f] = bad;
+        let a = tirtrace::scenario::Scenario::from_json(&text("contacts", mount))
+            .unwrap_err()
+            .to_string();
+        let b = tirtrace::scenario::Scenario::from_json(&text("coatings", coat))
+            .unwrap_err()
+            .to_string();
+        assert!(a.contains(&format!("guide.contacts[0].{f}")), "{a}");
+        // The same words; only where in the text differs (the documents differ in length).
+        let words = |m: &str| m.split(" (character").next().unwrap().to_string();
+        assert_eq!(words(&a).replace("contacts", "coatings"), words(&b));
+    }
+}
+
+#[test]
 fn schema_names_are_unique_and_unknown_names_have_none() {
     let mut names: Vec<&str> = DOCUMENTS.iter().map(|(n, _)| *n).collect();
     names.sort();

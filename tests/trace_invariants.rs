@@ -286,7 +286,23 @@ fn budget_sums_to_one_and_shares_are_shares() {
 
 /// Each coating absorbs no more than reaches it, and the coatings' share of the budget is the
 /// sum of what each absorbs (to rounding); a black coating absorbs exactly what reaches it.
+/// Where along the route coatings absorb sums to the same share, and is reported only when
+/// there are coatings.
 fn coatings_are_a_breakdown_of_their_share(r: &tirtrace::trace::TraceReport, case: usize) {
+    match &r.coating_along_route {
+        Some(profile) => {
+            assert!(!r.coatings.is_empty(), "case {case}");
+            assert_eq!(profile.share.len(), r.leak_along_route.share.len());
+            assert_eq!(profile.bin_mm, r.leak_along_route.bin_mm);
+            let along: f64 = profile.share.iter().sum();
+            assert!(
+                (along - r.budget.coating.share).abs() < 1e-12,
+                "case {case}: along the route {along}, budget {:?}",
+                r.budget.coating
+            );
+        }
+        None => assert!(r.coatings.is_empty(), "case {case}"),
+    }
     let mut sum = 0.0;
     for c in &r.coatings {
         assert!(

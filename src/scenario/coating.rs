@@ -109,13 +109,7 @@ pub(super) fn check_coating(
         }
         CoatingKind::Black => {}
     }
-    let place = super::validate::ZonePlace {
-        segment: c.segment,
-        from_mm: c.from_mm,
-        to_mm: c.to_mm,
-        sector_from_deg: c.sector_from_deg,
-        sector_to_deg: c.sector_to_deg,
-    };
+    let place = c.place();
     super::validate::check_zone_place(
         &path,
         &label,

@@ -22,8 +22,10 @@ use crate::schema::Items;
 mod coating;
 pub mod table;
 mod validate;
+mod zone;
 
 pub use coating::{Coating, CoatingKind};
+pub use zone::ZonePlace;
 
 pub use crate::limits::{MAX_SEGMENTS, MAX_WHOLE};
 

@@ -6,7 +6,8 @@
 use super::table::table_has_power;
 use super::{
     bend_half_size_mm, Contact, Emitter, EmitterArea, FaceCoating, Flux, Guide, Pattern, Receiver,
-    Scenario, ScenarioIndices, Section, Segment, Source, TraceSettings, SCENARIO_VERSION,
+    Scenario, ScenarioIndices, Section, Segment, Source, TraceSettings, ZonePlace,
+    SCENARIO_VERSION,
 };
 use crate::error::{show, FieldError};
 use crate::guide;
@@ -248,13 +249,7 @@ fn check_contact(k: usize, c: &Contact, entry: Section, route: &[Segment], out: 
     } else {
         format!("The mount “{}”", c.name.trim())
     };
-    let place = ZonePlace {
-        segment: c.segment,
-        from_mm: c.from_mm,
-        to_mm: c.to_mm,
-        sector_from_deg: c.sector_from_deg,
-        sector_to_deg: c.sector_to_deg,
-    };
+    let place = c.place();
     let path = format!("guide.contacts[{k}]");
     check_zone_place(
         &path,
@@ -265,15 +260,6 @@ fn check_contact(k: usize, c: &Contact, entry: Section, route: &[Segment], out: 
         route,
         out,
     );
-}
-
-/// Where a zone of the wall (a mount or a coating) sits: a segment, from/to along it, a sector.
-pub(super) struct ZonePlace {
-    pub segment: usize,
-    pub from_mm: f64,
-    pub to_mm: f64,
-    pub sector_from_deg: f64,
-    pub sector_to_deg: f64,
 }
 
 /// A zone of the wall at `path`, called `label` in messages (`The mount “clip”`): on a

@@ -68,6 +68,10 @@ pub struct Batch {
     pub far_field: Hist,
     /// Leaked (and contact-lost) weight along the route, ROUTE_BINS bins.
     pub route_leak: Hist,
+    /// Weight absorbed by the wall's coatings along the route, ROUTE_BINS bins (no bins when
+    /// the scenario has no coatings).
+    #[serde(default)]
+    pub route_coating: Hist,
     /// Delivered weight that lands on the receiver.
     pub receiver: Estimate,
     /// Where that weight lands on the receiver, RECEIVER_CELLS² over its bounding box (as
@@ -94,6 +98,7 @@ impl Batch {
             angular_map: Hist::new(ANGULAR_CELLS * ANGULAR_CELLS),
             far_field: Hist::new(crate::far_field::BINS),
             route_leak: Hist::new(ROUTE_BINS),
+            route_coating: Hist::new(if p.coatings.is_empty() { 0 } else { ROUTE_BINS }),
             receiver: Estimate::default(),
             receiver_map: Hist::new(match p.scenario.receiver {
                 Some(_) => RECEIVER_CELLS * RECEIVER_CELLS,
@@ -116,6 +121,7 @@ impl Batch {
         self.angular_map.merge(&other.angular_map);
         self.far_field.merge(&other.far_field);
         self.route_leak.merge(&other.route_leak);
+        self.route_coating.merge(&other.route_coating);
         self.receiver.merge(&other.receiver);
         self.receiver_map.merge(&other.receiver_map);
         self.wall_interactions += other.wall_interactions;

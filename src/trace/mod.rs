@@ -56,7 +56,7 @@ use crate::error::RunError;
 use crate::error::TirError;
 use crate::geometry::PlacedRoute;
 use crate::limits::{PATH_POINTS, PATH_POINTS_TOTAL};
-use crate::scenario::{Scenario, ScenarioIndices, Section};
+use crate::scenario::{Scenario, ScenarioIndices, Section, ZonePlace};
 use crate::source::SourceSampler;
 use crate::stats::ShiftedSums;
 
@@ -166,11 +166,7 @@ pub struct Prepared {
 
 #[derive(Debug, Clone, Copy)]
 pub(super) struct ContactZone {
-    segment: usize,
-    from_mm: f64,
-    to_mm: f64,
-    from_deg: f64,
-    to_deg: f64,
+    place: ZonePlace,
     n: f64,
     /// sin² of the critical angle against the contact, (n/n_core)²; ∞ when the contact is as
     /// dense as the guide or denser (no total internal reflection there).
@@ -213,11 +209,7 @@ impl Prepared {
             .iter()
             .zip(&indices.n_contacts)
             .map(|(c, &n)| ContactZone {
-                segment: c.segment,
-                from_mm: c.from_mm,
-                to_mm: c.to_mm,
-                from_deg: c.sector_from_deg,
-                to_deg: c.sector_to_deg,
+                place: c.place(),
                 n,
                 sin2_critical: if n < indices.n_core {
                     (n / indices.n_core) * (n / indices.n_core)
@@ -228,7 +220,7 @@ impl Prepared {
             .collect::<Vec<_>>();
         let mut segment_has_contact = vec![false; scenario.route.len()];
         for c in &contacts {
-            segment_has_contact[c.segment] = true;
+            segment_has_contact[c.place.segment] = true;
         }
         let coatings: Vec<CoatingZone> = scenario
             .guide
@@ -238,7 +230,7 @@ impl Prepared {
             .collect();
         let mut segment_has_coating = vec![false; scenario.route.len()];
         for c in &coatings {
-            segment_has_coating[c.segment] = true;
+            segment_has_coating[c.place.segment] = true;
         }
         // α in mm⁻¹ from dB/m: dB = 10 log10(e) αL ⇒ α = dB/m / (10 log10 e) / 1000.
         let alpha_per_mm =
@@ -462,5 +454,6 @@ impl Prepared {
             && same_bins(&batch.far_field, &e.far_field)
             && same_bins(&batch.route_leak, &e.route_leak)
             && same_bins(&batch.receiver_map, &e.receiver_map)
+            && same_bins(&batch.route_coating, &e.route_coating)
     }
 }

@@ -193,6 +193,14 @@ impl Prepared {
                     ci95,
                 }
             },
+            coating_along_route: (!self.scenario.guide.coatings.is_empty()).then(|| {
+                let (share, ci95) = bin_shares(&batch.route_coating, batch.rays);
+                RouteProfile {
+                    bin_mm: self.route.length_mm / ROUTE_BINS as f64,
+                    share,
+                    ci95,
+                }
+            }),
             exit_figures,
             paths: batch.paths.clone(),
         }
@@ -741,6 +749,11 @@ pub struct TraceReport {
     pub far_field: FarField,
     /// Leakage along the route.
     pub leak_along_route: RouteProfile,
+    /// Light absorbed by the wall's coatings along the route, binned as the leakage (left out
+    /// when the scenario has no coatings). Kept apart from the leakage: it does not leave the
+    /// pipe (it warms the coating), so it lights nothing near it.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub coating_along_route: Option<RouteProfile>,
     /// The exit's uniformity and half-intensity angle ([`crate::exit_figures`]).
     #[serde(default)]
     pub exit_figures: ExitFigures,

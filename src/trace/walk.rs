@@ -206,13 +206,9 @@ impl Prepared {
         }
         let along = placed.along_mm(o);
         let az = placed.azimuth_deg(o);
-        self.contacts.iter().position(|c| {
-            c.segment == seg
-                && along >= c.from_mm
-                && along <= c.to_mm
-                && az >= c.from_deg
-                && az <= c.to_deg
-        })
+        self.contacts
+            .iter()
+            .position(|c| c.place.segment == seg && c.place.holds(along, az))
     }
 }
 
@@ -372,7 +368,7 @@ impl Walk<'_> {
         self.trail.push(|| placed.frame.point_to_global(o));
         if p.segment_has_coating[ray.seg] {
             if let Some(k) = super::zones::zone_at(&p.coatings, ray.seg, placed, ray.o) {
-                return self.coated_wall(ray, normal, k);
+                return self.coated_wall(ray, placed, normal, k);
             }
         }
         let cos_i = ray.d.dot(normal).clamp(0.0, 1.0);
@@ -410,7 +406,7 @@ impl Walk<'_> {
     /// at the zone is tallied, then the coating sends the ray back (white paint: a Lambertian
     /// direction about the inward normal; metal: the mirror direction) with probability ρ or R,
     /// else absorbs it, tallied to the zone.
-    fn coated_wall(&mut self, ray: &mut Ray, normal: DVec3, k: usize) -> Step {
+    fn coated_wall(&mut self, ray: &mut Ray, placed: &Placed, normal: DVec3, k: usize) -> Step {
         self.absorb(ray);
         let ledger = self.p.ledger;
         // Weights are positive, so a zero column means the ray has not met the zone before.
@@ -431,6 +427,11 @@ impl Walk<'_> {
             };
             return Step::Continue;
         }
+        // Where along the route the coating took it, binned as the leakage is.
+        let p = self.p;
+        let s = placed.s_start_mm + placed.along_mm(ray.o);
+        let bin = ((s / p.route.length_mm) * ROUTE_BINS as f64) as usize;
+        self.out.route_coating.add(bin.min(ROUTE_BINS - 1), ray.w);
         self.end_inside(ledger.coating(k), ledger.after_coating(), ray.w);
         Step::End(Fate::Coating, 0.0)
     }

@@ -16,17 +16,12 @@
 use glam::DVec3;
 
 use crate::geometry::Placed;
-use crate::scenario::{Coating, CoatingKind};
+use crate::scenario::{Coating, CoatingKind, ZonePlace};
 
-/// A coated zone, placed: its segment, its span along the segment's centre line (mm) and its
-/// sector (degrees), and its kind.
+/// A coated zone, placed: where it is on the wall, and its kind.
 #[derive(Debug, Clone, Copy)]
 pub(super) struct CoatingZone {
-    pub segment: usize,
-    pub from_mm: f64,
-    pub to_mm: f64,
-    pub from_deg: f64,
-    pub to_deg: f64,
+    pub place: ZonePlace,
     pub kind: CoatingKind,
 }
 
@@ -34,11 +29,7 @@ impl CoatingZone {
     /// The zone of a document's coating.
     pub fn new(c: &Coating) -> CoatingZone {
         CoatingZone {
-            segment: c.segment,
-            from_mm: c.from_mm,
-            to_mm: c.to_mm,
-            from_deg: c.sector_from_deg,
-            to_deg: c.sector_to_deg,
+            place: c.place(),
             kind: c.kind,
         }
     }
@@ -55,13 +46,9 @@ pub(super) fn zone_at(
 ) -> Option<usize> {
     let along = placed.along_mm(o);
     let az = placed.azimuth_deg(o);
-    zones.iter().position(|c| {
-        c.segment == seg
-            && along >= c.from_mm
-            && along <= c.to_mm
-            && az >= c.from_deg
-            && az <= c.to_deg
-    })
+    zones
+        .iter()
+        .position(|c| c.place.segment == seg && c.place.holds(along, az))
 }
 
 /// A direction drawn from the cosine-weighted (Lambertian) distribution over the hemisphere

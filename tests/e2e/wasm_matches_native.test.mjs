@@ -45,7 +45,7 @@ for (const [name, original] of [...examples, ...variants]) {
     assert.ok(native.delivered.share > 0, 'some light is delivered');
     // Every figure, compared as numbers (JSON printing is shortest round-trip on both sides).
     for (const key of ['delivered', 'budget', 'budget_sum', 'exit_turn_back', 'segments', 'contacts', 'receiver',
-      'absolute', 'wall_interactions', 'exit_map', 'receiver_map', 'intensity', 'angular_map', 'leak_along_route', 'exit_figures', 'far_field']) {
+      'absolute', 'wall_interactions', 'exit_map', 'receiver_map', 'intensity', 'angular_map', 'leak_along_route', 'coating_along_route', 'exit_figures', 'far_field']) {
       if (key === 'far_field') assert.equal(native.far_field?.cells, 45, 'the far-field map is in the report');
       assert.deepStrictEqual(wasm[key] ?? null, native[key] ?? null, `${key} differs`);
     }

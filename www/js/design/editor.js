@@ -6,7 +6,8 @@ import { h } from '../dom.js';
 import { parseNumber } from '../numbers.js';
 import { facePicture } from './face-picture.js';
 import { getAt, isLength, setAt, showNumber, toStored } from './scenario.js';
-import { coatingsPart, dropCoatings, moveCoatings } from './coatings.js';
+import { coatingsPart } from './coatings.js';
+import { dropZones, moveZones, zoneRows } from './zones.js';
 
 /** “200,000”: a thousands separator or a decimal comma? Refused rather than guessed. */
 const looksLikeThousands = (text) => /^\s*[+-]?[1-9]\d{0,2}(,\d{3})+\s*$/.test(text);
@@ -24,6 +25,9 @@ const SEGMENT_DEFAULTS = {
 };
 
 const SEGMENT_NAMES = { straight: 'Straight', bend: 'Bend', taper: 'Taper', corner: 'Corner' };
+
+/** How the zone builder names a mount. */
+const MOUNT = { list: 'contacts', word: 'mount', id: 'contact', addId: 'add-contact', nameLabel: 'What touches the pipe' };
 
 /** A bend's radius hint before the core has checked the design. */
 const BEND_RADIUS_HINT = 'Of the pipe’s centre line; the inner radius is this less half the pipe’s size across the bend.';
@@ -658,15 +662,15 @@ export class Editor {
     const move = (to) => () => {
       const r = this.s.route;
       [r[i], r[to]] = [r[to], r[i]];
-      this.moveContacts(i, to);
-      moveCoatings(this.s, i, to);
+      moveZones(this.s, 'contacts', i, to);
+      moveZones(this.s, 'coatings', i, to);
       this.remapDrafts('route', (k) => (k === i ? to : k === to ? i : k));
       this.changed(true, `seg-${to}-${to < i ? 'up' : 'down'}`);
     };
     const remove = () => {
       this.s.route.splice(i, 1);
-      this.dropContacts(i);
-      dropCoatings(this, i);
+      dropZones(this, 'contacts', i);
+      dropZones(this, 'coatings', i);
       this.remapDrafts('route', (k) => (k === i ? null : k > i ? k - 1 : k));
       this.changed(true, 'add-straight');
     };
@@ -730,26 +734,6 @@ export class Editor {
     );
   }
 
-  /** Keep mounts on the segment they were on when segments swap places. */
-  moveContacts(a, b) {
-    for (const c of this.s.guide.contacts || []) {
-      if (c.segment === a) c.segment = b;
-      else if (c.segment === b) c.segment = a;
-    }
-  }
-
-  /** A removed segment takes its mounts with it; later ones shift down. */
-  dropContacts(i) {
-    const g = this.s.guide;
-    if (!g.contacts) return;
-    const newIndex = [];
-    let kept = 0;
-    for (const c of g.contacts) newIndex.push(c.segment === i ? null : kept++);
-    this.remapDrafts('guide.contacts', (k) => newIndex[k] ?? null);
-    g.contacts = g.contacts.filter((c) => c.segment !== i).map((c) => (c.segment > i ? { ...c, segment: c.segment - 1 } : c));
-    if (g.contacts.length === 0) delete g.contacts;
-  }
-
   /** The route's segments as choices: [index, “2 · Bend”]. */
   segmentOptions() {
     return this.s.route.map((seg, i) => [String(i), `${i + 1} · ${SEGMENT_NAMES[variant(seg)]}`]);
@@ -759,39 +743,11 @@ export class Editor {
     const g = this.s.guide;
     const list = g.contacts || [];
     const segOptions = this.segmentOptions();
-    const items = list.map((c, k) => {
-      const p = `guide.contacts[${k}]`;
-      const nameId = idFor(`${p}.name`);
-      const name = h('input', { id: nameId, type: 'text', dataset: { path: `${p}.name` }, maxlength: '80' });
-      name.value = c.name || '';
-      name.addEventListener('input', () => {
-        c.name = name.value;
-        this.changed(false);
-      });
-      return h(
-        'li',
-        { class: 'contact' },
-        h('div', { class: 'field' }, h('label', { for: nameId, text: 'What touches the pipe' }), name),
-        this.choice(`${p}.segment`, 'On segment', segOptions, String(c.segment), (v) => {
-          c.segment = Number(v);
-        }),
-        h('div', { class: 'pair' }, this.num(`${p}.from_mm`, 'From', 'mm'), this.num(`${p}.to_mm`, 'To', 'mm')),
-        h('div', { class: 'pair' }, this.num(`${p}.sector_from_deg`, 'Around from', 'deg'), this.num(`${p}.sector_to_deg`, 'Around to', 'deg')),
-        ...this.material(`${p}.medium`, 'Its material'),
-        h('button', {
-          type: 'button',
-          id: `contact-${k}-remove`,
-          'aria-label': `Remove mount ${k + 1}${c.name ? ` (${c.name})` : ''}`,
-          onclick: () => {
-            list.splice(k, 1);
-            if (list.length === 0) delete g.contacts;
-            this.remapDrafts('guide.contacts', (j) => (j === k ? null : j > k ? j - 1 : j));
-            this.changed(true, 'add-contact');
-          },
-          text: 'Remove this mount',
-        }),
-      );
-    });
+    const items = list.map((_, k) => h(
+      'li',
+      { class: 'contact' },
+      ...zoneRows(this, MOUNT, k, segOptions, { after: this.material(`guide.contacts[${k}].medium`, 'Its material') }),
+    ));
     return this.part(
       'contacts',
       'Mounts touching the pipe',

@@ -321,7 +321,8 @@ function drawLegend(report) {
 /** The leakage along the route, straightened, for the route drawn and its trace (none while the
  * route drawn has not been traced yet). */
 function showLeakLineNow() {
-  showLeakLine($('leak-line'), page.view.outline, page.view.report?.leak_along_route, page.state.unit, heatColour);
+  const report = page.view.report;
+  showLeakLine($('leak-line'), page.view.outline, report?.leak_along_route, page.state.unit, heatColour, report?.coating_along_route);
 }
 
 // ------------------------------------------------------------ replacing the design

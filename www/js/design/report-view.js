@@ -129,27 +129,41 @@ export function showReport(report, figures, scenario) {
     h('tr', { class: 'sum' }, h('th', { scope: 'row', text: 'Sum (energy check)' }), h('td', { class: 'num', text: formatFixed(100 * report.budget_sum, 6) }), h('td')),
   );
 
-  // By segment.
+  // By segment. Coatings (when the design has any) are lost here too: light a coating absorbs
+  // ends at its place on the route, as light lost into a mount does; each keeps its own figure.
   const contactsBySeg = new Map();
   for (const c of report.contacts || []) {
     contactsBySeg.set(c.segment, [...(contactsBySeg.get(c.segment) || []), c]);
   }
-  const lossOf = (s) => s.leaked.share + s.absorbed.share + (contactsBySeg.get(s.index) || []).reduce((a, c) => a + c.lost.share, 0);
+  const coatingsBySeg = new Map();
+  (report.coatings || []).forEach((c, k) => {
+    coatingsBySeg.set(c.segment, [...(coatingsBySeg.get(c.segment) || []), { ...c, k }]);
+  });
+  const sumLost = (list) => (list || []).reduce((a, c) => a + c.lost.share, 0);
+  const lossOf = (s) => s.leaked.share + s.absorbed.share + sumLost(contactsBySeg.get(s.index)) + sumLost(coatingsBySeg.get(s.index));
   const maxLoss = Math.max(...report.segments.map(lossOf), 0);
+  const coated = (report.coatings || []).length > 0;
+  showCoatingKey(coated);
   $('segment-rows').replaceChildren(
     ...report.segments.map((s) => {
       const lost = contactsBySeg.get(s.index) || [];
-      const loss = lossOf(s); // bar lengths only: the figures are in the columns beside
+      const coats = coatingsBySeg.get(s.index) || [];
+      const coatLoss = sumLost(coats); // bar lengths only: the figures are in the columns beside
+      const mountLoss = sumLost(lost);
       const bar = (share, cls) => h('span', { class: `seg-bar ${cls}`, style: `width:${maxLoss > 0 ? (100 * share) / maxLoss : 0}%` });
+      const zones = [
+        ...lost.map((c) => `${c.name || 'mount'}: ${formatShareCi(c.lost.share, c.lost.ci95)}`),
+        ...coats.map((c) => `${c.name || `Coating ${c.k + 1}`} (${COATING_KINDS[c.kind] ?? c.kind}) absorbs ${formatShareCi(c.lost.share, c.lost.ci95)}`),
+      ];
       return h('tr', { dataset: { segment: String(s.index) } },
         h('th', { scope: 'row', text: `${s.index + 1} · ${KIND_NAMES[s.kind] || s.kind}` }),
         h('td', { class: 'seg-bars' },
           h('span', { class: 'seg-track', 'aria-hidden': 'true' },
-            bar(s.leaked.share, 'leak'), bar(s.absorbed.share, 'absorb'), bar(loss - s.leaked.share - s.absorbed.share, 'mount'))),
+            bar(s.leaked.share, 'leak'), bar(s.absorbed.share, 'absorb'), bar(mountLoss, 'mount'), ...(coated ? [bar(coatLoss, 'coating')] : []))),
         h('td', { class: 'num', text: length(s.length_mm, 1) }),
         h('td', { class: 'num', text: formatShareCi(s.leaked.share, s.leaked.ci95) }),
         h('td', { class: 'num', text: formatShareCi(s.absorbed.share, s.absorbed.ci95) }),
-        h('td', { text: lost.length ? lost.map((c) => `${c.name || 'mount'}: ${formatShareCi(c.lost.share, c.lost.ci95)}`).join('; ') : '—' }));
+        h('td', { text: zones.length ? zones.join('; ') : '—' }));
     }),
   );
 
@@ -158,6 +172,25 @@ export function showReport(report, figures, scenario) {
 }
 
 const COATING_KINDS = { 'white paint': 'white paint', metal: 'metal', black: 'black paint' };
+
+/**
+ * The segment table's key and last heading name coatings only when the design has any (a design
+ * without shows the table as it always has).
+ */
+function showCoatingKey(coated) {
+  const key = document.querySelector('.segment-table .seg-key');
+  const head = document.querySelector('.segment-table thead th:last-child');
+  if (!key || !head) return;
+  let item = key.querySelector('.seg-key-coating');
+  if (coated && !item) {
+    item = h('span', { class: 'seg-key-item seg-key-coating' }, h('span', { class: 'seg-bar coating' }), 'coatings');
+    key.append(' ', item);
+  } else if (!coated && item) {
+    if (item.previousSibling?.nodeType === Node.TEXT_NODE) item.previousSibling.remove();
+    item.remove();
+  }
+  head.textContent = coated ? 'Mounts and coatings' : 'Mounts';
+}
 
 /** A budget row per coating: its name, kind and segment, and the share it absorbs. */
 function coatingRows(coatings) {

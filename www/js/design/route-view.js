@@ -52,6 +52,37 @@ const DEG = Math.PI / 180;
  */
 const VIEWS = { turned: [90, 35], plan: [90, 90], side: [90, 0], board: [0, 0] };
 
+/**
+ * Move text labels `{ x, y, w, h }` (centres and sizes, px) apart until no two boxes overlap
+ * (with a 2 px gap): each overlapping pair is pushed apart along the axis where it overlaps
+ * least, half each way. In place; returns the labels.
+ */
+export function separateLabels(labels, gap = 2) {
+  for (let round = 0; round < 20; round += 1) {
+    let moved = false;
+    for (let i = 0; i < labels.length; i += 1) {
+      for (let j = i + 1; j < labels.length; j += 1) {
+        const [a, b] = [labels[i], labels[j]];
+        const ox = (a.w + b.w) / 2 + gap - Math.abs(a.x - b.x);
+        const oy = (a.h + b.h) / 2 + gap - Math.abs(a.y - b.y);
+        if (ox <= 0 || oy <= 0) continue;
+        moved = true;
+        if (oy <= ox) {
+          const s = a.y < b.y || (a.y === b.y && i < j) ? -1 : 1;
+          a.y += (s * oy) / 2;
+          b.y -= (s * oy) / 2;
+        } else {
+          const s = a.x < b.x ? -1 : 1;
+          a.x += (s * ox) / 2;
+          b.x -= (s * ox) / 2;
+        }
+      }
+    }
+    if (!moved) break;
+  }
+  return labels;
+}
+
 /** A "nice" scale-bar length (1, 2 or 5 × 10ⁿ) near `x`. */
 function niceLength(x) {
   const p = 10 ** Math.floor(Math.log10(x));
@@ -429,12 +460,12 @@ export class RouteView {
     const cx = w - 60;
     const cy = hgt - 50;
     const axes = [[f.x, 'width', '#c92a2a'], [f.y, 'height', '#2b8a3e'], [f.z, 'axis', '#1864ab']];
+    const labels = [];
     for (const [d, name, colour] of axes) {
       const [u, v] = this.project(d);
       const ex = cx + 26 * u;
       const ey = cy - 26 * v;
       g.strokeStyle = colour;
-      g.fillStyle = colour;
       g.lineWidth = 2;
       g.beginPath();
       g.moveTo(cx, cy);
@@ -443,12 +474,19 @@ export class RouteView {
       // The name beyond the arrow's tip, centred on its line (an axis pointing at the viewer
       // has no length on the screen and no name).
       if (Math.hypot(u, v) > 0.2) {
-        g.textAlign = 'center';
-        g.textBaseline = 'middle';
-        g.fillText(name, cx + 40 * u, cy - 36 * v);
-        g.textAlign = 'start';
+        labels.push({ name, colour, x: cx + 40 * u, y: cy - 36 * v, w: g.measureText(name).width, h: 13 });
       }
     }
+    // Two arrows turned close together would put their names on top of each other: moved apart.
+    separateLabels(labels);
+    g.textAlign = 'center';
+    g.textBaseline = 'middle';
+    for (const l of labels) {
+      g.fillStyle = l.colour;
+      g.fillText(l.name, l.x, l.y);
+    }
+    g.textAlign = 'start';
+    this.canvas.dataset.axisLabels = JSON.stringify(labels.map(({ name, x, y, w, h }) => ({ name, x, y, w, h })));
   }
 
   /** Leakage along the route as a coloured strip down the middle of the pipe. */
@@ -575,12 +613,15 @@ export class RouteView {
   /**
    * The coated zones on the pipe, to scale: each zone's rings of wall points from the core's
    * outline joined into quadrilaterals (both sides of the pipe show through, as the pipe is
-   * drawn without depth), edged, and named by kind beside its middle.
+   * drawn without depth), edged, and named by kind beside its middle. A zone on a corner comes
+   * in pieces (one per run of its sector that has wall), all with its index: named once.
    */
   drawCoatings(g) {
     const zones = this.outline?.coatings;
+    this.canvas.dataset.coatingsDrawn = String(new Set((zones || []).map((z) => z.index)).size);
     if (!zones?.length) return;
     g.lineJoin = 'round';
+    const named = new Set();
     for (const zone of zones) {
       const style = COATING_STYLE[zone.kind] || COATING_STYLE.black;
       const rings = zone.rings.map((ring) => ring.map((p) => this.toScreen(p)));
@@ -609,6 +650,8 @@ export class RouteView {
         rings.forEach((ring, k) => (k === 0 ? g.moveTo(...ring[side]) : g.lineTo(...ring[side])));
       }
       g.stroke();
+      if (named.has(zone.index)) continue;
+      named.add(zone.index);
       const mid = rings[Math.floor(rings.length / 2)];
       const [lx, ly] = mid[Math.floor(mid.length / 2)];
       g.fillStyle = '#212529';

@@ -7,7 +7,7 @@ use plotters::prelude::*;
 use plotters::style::text_anchor::{HPos, Pos, VPos};
 
 use super::report::{
-    draw_nothing_to_show, intensity_text, map_scale_rule, sequential_colour, sig3,
+    draw_colour_bar, draw_nothing_to_show, intensity_text, map_scale_rule, sequential_colour, sig3,
     steady_scale_top, FRAME,
 };
 use super::{cartesian, clamp_scale, draw_err, ink_font, pixels};
@@ -175,34 +175,7 @@ pub fn draw_far_field<DB: DrawingBackend>(
         .map_err(draw_err)?;
 
     // The colour scale: relative intensity 0…1.
-    let mut bar = ChartBuilder::on(&bar_area)
-        .margin_top(px(8.0))
-        .margin_bottom(px(48.0))
-        .margin_left(px(10.0))
-        .margin_right(px(4.0))
-        .set_label_area_size(LabelAreaPosition::Right, px(40.0))
-        .build_cartesian_2d(0.0..1.0, 0.0..1.0)
-        .map_err(draw_err)?;
-    bar.configure_mesh()
-        .disable_mesh()
-        .disable_x_axis()
-        .y_desc("relative intensity")
-        .axis_desc_style(label_font.clone())
-        .label_style(label_font)
-        .y_label_formatter(&|y| format!("{y:.1}"))
-        .y_labels(6)
-        .axis_style(FRAME)
-        .draw()
-        .map_err(draw_err)?;
-    let steps = 100;
-    bar.draw_series((0..steps).map(|i| {
-        let (y0, y1) = (i as f64 / steps as f64, (i + 1) as f64 / steps as f64);
-        Rectangle::new(
-            [(0.0, y0), (1.0, y1)],
-            sequential_colour(0.5 * (y0 + y1)).filled(),
-        )
-    }))
-    .map_err(draw_err)?;
+    draw_colour_bar(&bar_area, "relative intensity", label_font, &px)?;
     area.present().map_err(draw_err)
 }
 

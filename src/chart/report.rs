@@ -384,7 +384,19 @@ fn draw_irradiance_map<DB: DrawingBackend>(
         .map_err(draw_err)?;
 
     // The colour scale: relative irradiance 0…1.
-    let mut bar = ChartBuilder::on(&bar_area)
+    draw_colour_bar(&bar_area, "relative irradiance", label_font, &px)?;
+    area.present().map_err(draw_err)
+}
+
+/// The colour bar beside a map: the sequential scale from 0 to 1 (relative to the map's top),
+/// titled `title`, in `area`.
+pub(super) fn draw_colour_bar<DB: DrawingBackend>(
+    area: &DrawingArea<DB, Shift>,
+    title: &str,
+    label_font: TextStyle,
+    px: &impl Fn(f64) -> u32,
+) -> Result<(), TirError> {
+    let mut bar = ChartBuilder::on(area)
         .margin_top(px(8.0))
         .margin_bottom(px(48.0))
         .margin_left(px(10.0))
@@ -395,7 +407,7 @@ fn draw_irradiance_map<DB: DrawingBackend>(
     bar.configure_mesh()
         .disable_mesh()
         .disable_x_axis()
-        .y_desc("relative irradiance")
+        .y_desc(title)
         .axis_desc_style(label_font.clone())
         .label_style(label_font)
         .y_label_formatter(&|y| format!("{y:.1}"))
@@ -412,7 +424,7 @@ fn draw_irradiance_map<DB: DrawingBackend>(
         )
     }))
     .map_err(draw_err)?;
-    area.present().map_err(draw_err)
+    Ok(())
 }
 
 /// An intensity with three significant figures in the unit (cd or mW/sr) or a smaller one with

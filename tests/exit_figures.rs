@@ -457,7 +457,13 @@ fn an_angle_from_one_ray_has_no_interval_and_the_csv_leaves_its_ends_empty() {
     let csv = tirtrace::export::report_csv(&r, "one ray");
     let tail = csv.split("\n\"Exit figures\",").nth(1).unwrap();
     assert!(!tail.contains("inf") && !tail.contains("NaN"), "{tail}");
-    assert_eq!(r.budget.delivered.share, 1.0, "the one ray is delivered");
+    // The one ray enters with 1 − R (the entry face's Fresnel reflection is split off) and is
+    // delivered.
+    assert!(r.budget.delivered.share > 0.9, "{:?}", r.budget.delivered);
+    assert_eq!(
+        r.budget.delivered.share + r.budget.reflected_entry.share,
+        1.0
+    );
     let a = r
         .exit_figures
         .half_intensity_full_angle_deg

@@ -255,7 +255,8 @@ fn a_collimated_beam_lands_in_the_axis_cell_only() {
     let f = &r.far_field;
     let axis = f.axis_cell().unwrap();
     assert_eq!(axis, 22 * CELLS + 22);
-    assert_eq!(f.share[axis], r.delivered.share);
+    // (To rounding: the map and the budget sum the same weights in different orders.)
+    assert!((f.share[axis] - r.delivered.share).abs() < 1e-12);
     assert!(r.delivered.share > 0.9);
     assert!(f
         .share

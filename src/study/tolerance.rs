@@ -846,8 +846,10 @@ pub fn pearson(x: &[f64], y: &[f64]) -> Option<f64> {
     if n < 2 {
         return None;
     }
-    let mx = x[..n].iter().sum::<f64>() / n as f64;
-    let my = y[..n].iter().sum::<f64>() / n as f64;
+    // Means shifted by the first value: exactly that value when all are equal (a plain sum of
+    // equal values need not divide back to it), so that equal values have exactly no spread.
+    let mx = x[0] + x[..n].iter().map(|a| a - x[0]).sum::<f64>() / n as f64;
+    let my = y[0] + y[..n].iter().map(|b| b - y[0]).sum::<f64>() / n as f64;
     let (mut sxy, mut sxx, mut syy) = (0.0, 0.0, 0.0);
     for (a, b) in x[..n].iter().zip(&y[..n]) {
         sxy += (a - mx) * (b - my);

@@ -19,6 +19,11 @@ use crate::scenario::{CoatingKind, Receiver};
 mod faces;
 pub(super) use faces::ShapedFaces;
 
+/// The lightest part a flat entry face's Fresnel event is split into ([`Walk::entry_face`]):
+/// below it (an index-matching gel, R ≈ 0) the event is drawn. The reflected part ends outside
+/// at once, so splitting costs nothing; it only keeps the split from making many tiny tallies.
+const ENTRY_SPLIT_LEAST: f64 = 1.0 / 64.0;
+
 /// A uniform number in [0, 1) from the top 53 bits of the generator.
 #[inline]
 fn uniform(rng: &mut Pcg64Mcg) -> f64 {
@@ -288,26 +293,38 @@ impl Walk<'_> {
         let p = self.p;
         let ix = &p.indices;
         let cos_i = dir.z;
-        if uniform(self.rng) < fresnel_reflectance(cos_i, ix.n_gap, ix.n_core) {
-            self.trail.push(|| hit + reflect(dir, DVec3::Z));
-            return Err(self.end_outside(p.ledger.reflected_entry(), Fate::ReflectedEntry));
-        }
         // A gap medium denser than the guide (a high-index gel) can reflect totally.
-        let Some(inward) = refract(dir, -DVec3::Z, ix.n_gap, ix.n_core) else {
+        let inward = refract(dir, -DVec3::Z, ix.n_gap, ix.n_core);
+        let r = match inward {
+            Some(_) => fresnel_reflectance(cos_i, ix.n_gap, ix.n_core),
+            None => 1.0,
+        };
+        // Expected-value split: the reflected part R is tallied and the ray enters with 1 − R,
+        // so the light reflected at the entry adds no noise of its own; a part lighter than
+        // ENTRY_SPLIT_LEAST (or total reflection) is drawn instead, the whole ray going one way.
+        let entering = if r >= ENTRY_SPLIT_LEAST && 1.0 - r >= ENTRY_SPLIT_LEAST {
+            self.contrib[p.ledger.reflected_entry()] = r;
+            1.0 - r
+        } else if r >= 1.0 || uniform(self.rng) < r {
+            0.0
+        } else {
+            1.0
+        };
+        let (Some(inward), true) = (inward, entering > 0.0) else {
             self.trail.push(|| hit + reflect(dir, DVec3::Z));
             return Err(self.end_outside(p.ledger.reflected_entry(), Fate::ReflectedEntry));
         };
         let first = &p.route.segments[0].frame;
         if let Some(w) = self.watch.as_deref_mut() {
             if w.segment == 0 && w.entered.is_none() {
-                w.entered = Some(1.0);
+                w.entered = Some(entering);
             }
         }
         Ok(Ray {
             seg: 0,
             o: first.point_to_local(hit),
             d: first.dir_to_local(inward),
-            w: 1.0,
+            w: entering,
             unabsorbed_mm: 0.0,
         })
     }

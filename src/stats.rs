@@ -5,15 +5,22 @@
 //! histogram bin). An [`Estimate`] holds the count n, the mean x̄ and the sum of squared
 //! deviations M₂ = Σ(x − x̄)², and gives the share x̄ with the half-width 1.96 √(M₂/(n − 1)/n)
 //! (normal approximation). Two accumulations feed it, both exact in real arithmetic:
-//! - a tally every ray contributes to (the budget's columns, the receiver) keeps, per batch,
-//!   the sums of x − shift and (x − shift)² with the first ray's value as the shift
+//! - a tally every ray contributes to (the budget's columns, the receiver, the studies' paired
+//!   differences) keeps, per replicate of [`REPLICATE_RAYS`] consecutive rays, the sums of
+//!   x − shift and (x − shift)² with the replicate's first ray's value as the shift
 //!   ([`ShiftedSums`]), so that a tally on which every ray agrees has exactly zero spread;
-//!   batches merge by Chan et al.'s pairwise update (T. F. Chan, G. H. Golub, R. J. LeVeque,
-//!   "Algorithms for computing the sample variance", Am. Stat. 37, 242 (1983)), always in batch
-//!   order, so results do not depend on thread count;
+//!   replicates and then batches merge by Chan et al.'s pairwise update (T. F. Chan, G. H. Golub,
+//!   R. J. LeVeque, "Algorithms for computing the sample variance", Am. Stat. 37, 242 (1983)),
+//!   always in order, so results do not depend on thread count. The same update also keeps the
+//!   spread of the replicate means, Σ n_j (m_j − x̄)², and the interval comes from that
+//!   (Student's t with J − 1 degrees of freedom) once there are [`LEAST_REPLICATES`]: the
+//!   rays of one replicate share a scrambled point set (randomized quasi-Monte Carlo, see
+//!   `trace::sequence`) and are not independent, the replicates are;
 //! - a histogram in which each ray lands in at most one bin keeps Σx and Σx² per bin, merged by
 //!   addition (no per-ray work for the bins a ray misses), and becomes an estimate at the end
-//!   ([`Estimate::from_raw_sums`]).
+//!   ([`Estimate::from_raw_sums`]) whose interval comes from the per-ray spread: for the
+//!   scrambled source points that is the interval of independent rays, which their variance
+//!   does not exceed in practice (checked for the maps' figures by the coverage tests).
 //!
 //! Fewer than two rays: no spread can be estimated, and [`Estimate::half_width95`] says so
 //! (`None`). A [`Share`] writes that as an infinite half-width (JSON `null`, read back as ∞); the
@@ -22,7 +29,8 @@
 
 use serde::{Deserialize, Serialize};
 
-/// Running mean and sum of squared deviations of per-ray contributions.
+/// Running mean and sum of squared deviations of per-ray contributions, and of the means of
+/// the independent replicates they were traced in.
 #[derive(Debug, Clone, Copy, Default, PartialEq, Serialize, Deserialize)]
 pub struct Estimate {
     /// Number of rays.
@@ -31,6 +39,51 @@ pub struct Estimate {
     pub mean: f64,
     /// Sum of squared deviations from the mean.
     pub m2: f64,
+    /// Number of independent replicates merged (0 when the rays were not traced in replicates:
+    /// the per-ray spread gives the interval).
+    #[serde(default)]
+    pub replicates: u64,
+    /// Σ n_j (m_j − x̄)² over the replicates j (n_j rays, mean m_j each).
+    #[serde(default)]
+    pub replicates_m2: f64,
+}
+
+/// The fewest replicates whose spread gives a share's interval; below it the per-ray spread
+/// does.
+pub const LEAST_REPLICATES: u64 = 8;
+
+/// Rays in one independent replicate: consecutive rays whose source points are one
+/// independently scrambled point set ([`crate::trace`]'s sequence). A batch holds a whole
+/// number of them; paired per-ray figures in ray order group the same way.
+pub const REPLICATE_RAYS: u64 = 256;
+
+/// The two-sided 95 % quantile of Student's t distribution with `dof` degrees of freedom
+/// (`dof` ≥ 1): the interval's multiplier when the spread comes from `dof + 1` replicates.
+///
+/// Up to 30 degrees of freedom from the standard table (from memory: M. Abramowitz and
+/// I. A. Stegun, *Handbook of Mathematical Functions*, NBS 1964, Table 26.10, P = 0.05 two-sided);
+/// beyond, the Cornish–Fisher expansion in 1/ν about the normal quantile z = 1.959964
+/// (Abramowitz and Stegun 26.7.5), whose first neglected term is below 10⁻⁵ there.
+pub fn t_quantile_975(dof: u64) -> f64 {
+    const TABLE: [f64; 30] = [
+        12.706, 4.303, 3.182, 2.776, 2.571, 2.447, 2.365, 2.306, 2.262, 2.228, 2.201, 2.179, 2.160,
+        2.145, 2.131, 2.120, 2.110, 2.101, 2.093, 2.086, 2.080, 2.074, 2.069, 2.064, 2.060, 2.056,
+        2.052, 2.048, 2.045, 2.042,
+    ];
+    match dof {
+        0 => f64::INFINITY,
+        1..=30 => TABLE[dof as usize - 1],
+        _ => {
+            let z = 1.959_963_984_540_054_f64;
+            let nu = dof as f64;
+            let (z2, z3) = (z * z, z * z * z);
+            let (z5, z7) = (z3 * z2, z3 * z2 * z2);
+            let g1 = (z3 + z) / 4.0;
+            let g2 = (5.0 * z5 + 16.0 * z3 + 3.0 * z) / 96.0;
+            let g3 = (3.0 * z7 + 19.0 * z5 + 17.0 * z3 - 15.0 * z) / 384.0;
+            z + g1 / nu + g2 / (nu * nu) + g3 / (nu * nu * nu)
+        }
+    }
 }
 
 /// A share of the emitted power with its 95 % confidence half-width.
@@ -58,6 +111,7 @@ impl Estimate {
             n,
             mean: shift + d,
             m2,
+            ..Estimate::default()
         }
     }
 
@@ -72,22 +126,37 @@ impl Estimate {
             n,
             mean: sum / nf,
             m2: (sumsq - sum * sum / nf).max(0.0),
+            ..Estimate::default()
         }
     }
 
     /// The estimate of the mean difference x − x₀ from paired samples (the same ray traced
     /// in two scenarios with common random numbers): the per-pair differences d_k = x_k − x₀,k
-    /// are summed shifted by the first ([`ShiftedSums`]). Its half-width is
-    /// 1.96 √(Var(d)/n) with Var(d) = Var(x) + Var(x₀) − 2 Cov(x, x₀): the more the pairs
-    /// agree, the narrower than two independent runs' √(a² + b²). Pairs beyond the shorter
-    /// slice are ignored.
+    /// are summed shifted by the first ([`ShiftedSums`]). Its half-width is that of the mean of
+    /// d, Var(d) = Var(x) + Var(x₀) − 2 Cov(x, x₀): the more the pairs agree, the narrower than
+    /// two independent runs' √(a² + b²). The slices are per-ray figures in ray order from a
+    /// batch's first ray (batches hold whole replicates), so each [`REPLICATE_RAYS`] consecutive pairs are one replicate and the
+    /// interval comes from their spread as a trace's does ([`Estimate::of_replicates`]). Pairs
+    /// beyond the shorter slice are ignored.
     pub fn of_differences(x: &[f64], x0: &[f64]) -> Estimate {
+        let n = x.len().min(x0.len());
+        Estimate::of_replicates(x[..n].iter().zip(&x0[..n]).map(|(a, b)| a - b))
+    }
+
+    /// The estimate of per-ray figures given in ray order from a batch's first ray: each
+    /// [`REPLICATE_RAYS`] consecutive figures (the last group may be shorter) are summed shifted
+    /// by their first ([`ShiftedSums`]) and merged as one replicate, in order.
+    pub fn of_replicates(x: impl IntoIterator<Item = f64>) -> Estimate {
+        let mut total = [Estimate::default()];
         let mut sums = ShiftedSums::new(1);
-        for (a, b) in x.iter().zip(x0) {
-            sums.add(&[a - b]);
+        for v in x {
+            sums.add(&[v]);
+            if sums.n == REPLICATE_RAYS {
+                sums.close_replicate(&mut total);
+            }
         }
-        let d = sums.estimates().next().unwrap_or_default();
-        d
+        sums.close_replicate(&mut total);
+        total[0]
     }
 
     /// Merge another estimate into this one (Chan et al. 1983).
@@ -102,13 +171,52 @@ impl Estimate {
         let n = self.n + other.n;
         let delta = other.mean - self.mean;
         let mean = self.mean + delta * other.n as f64 / n as f64;
-        let m2 = self.m2 + other.m2 + delta * delta * (self.n as f64 * other.n as f64) / n as f64;
-        *self = Estimate { n, mean, m2 };
+        let between = delta * delta * (self.n as f64 * other.n as f64) / n as f64;
+        *self = Estimate {
+            n,
+            mean,
+            m2: self.m2 + other.m2 + between,
+            replicates: self.replicates + other.replicates,
+            replicates_m2: self.replicates_m2 + other.replicates_m2 + between,
+        };
     }
 
-    /// The 95 % confidence half-width of the mean, 1.96 √(s²/n) with s² = M₂/(n − 1); `None`
-    /// below two rays, where no spread can be estimated.
+    /// The estimate of k·x: the mean times k, every spread times k².
+    pub fn scaled(self, k: f64) -> Estimate {
+        Estimate {
+            mean: k * self.mean,
+            m2: k * k * self.m2,
+            replicates_m2: k * k * self.replicates_m2,
+            ..self
+        }
+    }
+
+    /// This estimate (of the rays of one replicate) as one whole replicate: its mean is one
+    /// replicate mean, with no spread between replicates yet.
+    pub fn as_replicate(self) -> Estimate {
+        Estimate {
+            replicates: 1,
+            replicates_m2: 0.0,
+            ..self
+        }
+    }
+
+    /// The 95 % confidence half-width of the mean; `None` below two rays, where no spread can
+    /// be estimated.
+    ///
+    /// Rays traced in at least [`LEAST_REPLICATES`] independent replicates: from the spread of
+    /// the replicate means, t √(s²/n) with s² = Σ n_j (m_j − x̄)² / (J − 1) over the J
+    /// replicates and t Student's quantile with J − 1 degrees of freedom
+    /// ([`t_quantile_975`]). With equal replicates of r rays this is t √(Var(m_j)/J): the
+    /// batch-means interval, which stays right when the rays of a replicate are not
+    /// independent (a scrambled point set's are not: that is where its lower variance comes
+    /// from). Otherwise from the per-ray spread, 1.96 √(s²/n) with s² = M₂/(n − 1).
     pub fn half_width95(&self) -> Option<f64> {
+        if self.replicates >= LEAST_REPLICATES {
+            let j = self.replicates - 1;
+            let s2 = self.replicates_m2 / j as f64;
+            return Some(t_quantile_975(j) * (s2 / self.n as f64).sqrt());
+        }
         (self.n > 1).then(|| 1.96 * (self.m2 / (self.n - 1) as f64 / self.n as f64).sqrt())
     }
 
@@ -196,6 +304,28 @@ impl ShiftedSums {
             *sumsq += d * d;
         }
         self.n += 1;
+    }
+
+    /// Rays added so far.
+    pub fn rays(&self) -> u64 {
+        self.n
+    }
+
+    /// Close a replicate: merge each column's estimate over the rays added, as one replicate
+    /// ([`Estimate::as_replicate`]), into `totals` (one per column, in replicate order), and
+    /// empty the sums for the next replicate. Nothing is merged when no ray was added.
+    pub fn close_replicate(&mut self, totals: &mut [Estimate]) {
+        debug_assert_eq!(totals.len(), self.shift.len());
+        if self.n == 0 {
+            return;
+        }
+        for (j, total) in totals.iter_mut().enumerate() {
+            let e = Estimate::from_shifted_sums(self.n, self.shift[j], self.sum[j], self.sumsq[j]);
+            total.merge(&e.as_replicate());
+        }
+        self.n = 0;
+        self.sum.iter_mut().for_each(|v| *v = 0.0);
+        self.sumsq.iter_mut().for_each(|v| *v = 0.0);
     }
 
     /// The estimate of each column over the rays added.
@@ -336,5 +466,108 @@ mod tests {
             assert_eq!(e.m2, 0.0);
             assert_eq!(e.half_width95(), Some(0.0));
         }
+    }
+
+    /// Student's quantile: the table's values and, beyond it, the expansion against the same
+    /// table's 40, 60 and 120 degrees of freedom (2.021, 2.000, 1.980; Abramowitz and Stegun
+    /// Table 26.10, from memory), and the normal 1.960 far out.
+    #[test]
+    fn students_quantile_follows_the_table_and_tends_to_the_normal() {
+        assert_eq!(t_quantile_975(0), f64::INFINITY);
+        assert_eq!(t_quantile_975(1), 12.706);
+        assert_eq!(t_quantile_975(15), 2.131);
+        for (dof, want) in [(31, 2.040), (40, 2.021), (60, 2.000), (120, 1.980)] {
+            let t = t_quantile_975(dof);
+            assert!((t - want).abs() < 1.5e-3, "{dof}: {t} against {want}");
+        }
+        assert!((t_quantile_975(1_000_000) - 1.959_964).abs() < 1e-5);
+        // Never rising with more degrees of freedom.
+        for dof in 1..500 {
+            assert!(t_quantile_975(dof + 1) <= t_quantile_975(dof), "{dof}");
+        }
+    }
+
+    /// Replicates: the interval comes from the spread of the replicate means, t √(Var(m_j)/J)
+    /// for J equal replicates, whatever the spread within each; the mean and the per-ray M₂ are
+    /// those of all the rays; fewer than LEAST_REPLICATES replicates fall back on the per-ray
+    /// spread.
+    #[test]
+    fn replicates_give_the_interval_from_their_means() {
+        // 10 replicates of 256 rays: replicate j holds values j/10 and 1 − j/10 alternately (mean
+        // ½ each, large spread within), plus a small offset (j − 4.5)·10⁻³ on every value.
+        let r = REPLICATE_RAYS as usize;
+        let mut x = Vec::new();
+        for j in 0..10 {
+            let off = (j as f64 - 4.5) * 1e-3;
+            for k in 0..r {
+                let v = if k % 2 == 0 {
+                    j as f64 / 10.0
+                } else {
+                    1.0 - j as f64 / 10.0
+                };
+                x.push(v + off);
+            }
+        }
+        let e = Estimate::of_replicates(x.iter().copied());
+        assert_eq!((e.n, e.replicates), (2560, 10));
+        let means: Vec<f64> = (0..10).map(|j| 0.5 + (j as f64 - 4.5) * 1e-3).collect();
+        let m = means.iter().sum::<f64>() / 10.0;
+        let var_m = means.iter().map(|v| (v - m) * (v - m)).sum::<f64>() / 9.0;
+        let want = t_quantile_975(9) * (var_m / 10.0).sqrt();
+        let got = e.half_width95().unwrap();
+        assert!((e.mean - m).abs() < 1e-15, "{e:?}");
+        assert!(
+            (got - want).abs() < 1e-12 * want.max(1e-300) + 1e-17,
+            "{got} against {want}"
+        );
+        // The per-ray M₂ is all the rays' own.
+        let mean = x.iter().sum::<f64>() / x.len() as f64;
+        let m2: f64 = x.iter().map(|v| (v - mean) * (v - mean)).sum();
+        assert!((e.m2 - m2).abs() < 1e-9 * m2);
+        // The per-ray interval would be far wider: the spread within replicates is not noise
+        // the mean carries when it is balanced in every replicate.
+        assert!(1.96 * (m2 / 2559.0 / 2560.0).sqrt() > 4.0 * got);
+        // Seven replicates: the per-ray interval.
+        let few = Estimate::of_replicates(x[..7 * r].iter().copied());
+        assert_eq!(few.replicates, 7);
+        let mean7 = x[..7 * r].iter().sum::<f64>() / (7 * r) as f64;
+        let m2_7: f64 = x[..7 * r].iter().map(|v| (v - mean7) * (v - mean7)).sum();
+        let per_ray = 1.96 * (m2_7 / (7 * r - 1) as f64 / (7 * r) as f64).sqrt();
+        assert!((few.half_width95().unwrap() - per_ray).abs() < 1e-12);
+    }
+
+    /// A last, shorter replicate weighs by its rays, and merging replicate estimates in order
+    /// in two parts gives the whole's (what batches merged in order do).
+    #[test]
+    fn replicates_merge_in_order_and_weigh_by_their_rays() {
+        let x: Vec<f64> = (0..(9 * REPLICATE_RAYS + 100))
+            .map(|k| ((k * 7919) % 1000) as f64 / 1000.0)
+            .collect();
+        let whole = Estimate::of_replicates(x.iter().copied());
+        assert_eq!(whole.replicates, 10);
+        let cut = 4 * REPLICATE_RAYS as usize;
+        let mut parts = Estimate::of_replicates(x[..cut].iter().copied());
+        parts.merge(&Estimate::of_replicates(x[cut..].iter().copied()));
+        assert_eq!(parts.replicates, 10);
+        assert!((parts.mean - whole.mean).abs() < 1e-15);
+        assert!((parts.replicates_m2 - whole.replicates_m2).abs() < 1e-12);
+        // Directly: Σ n_j (m_j − x̄)².
+        let mean = x.iter().sum::<f64>() / x.len() as f64;
+        let direct: f64 = x
+            .chunks(REPLICATE_RAYS as usize)
+            .map(|c| {
+                let m = c.iter().sum::<f64>() / c.len() as f64;
+                c.len() as f64 * (m - mean) * (m - mean)
+            })
+            .sum();
+        assert!(
+            (whole.replicates_m2 - direct).abs() < 1e-12,
+            "{whole:?} against {direct}"
+        );
+        // Scaling by ½ halves the mean and the half-width.
+        let half = whole.scaled(0.5);
+        assert!((half.mean - 0.5 * whole.mean).abs() < 1e-15);
+        let (a, b) = (half.half_width95().unwrap(), whole.half_width95().unwrap());
+        assert!((a - 0.5 * b).abs() < 1e-15);
     }
 }

@@ -195,8 +195,12 @@ fn common_random_numbers_narrow_the_intervals_of_leak_and_receiver_differences()
         a.segments_leaked[1].share > 0.01,
         "the bend leaks at {r0} mm"
     );
-    assert!(leak.ci95 > 0.0 && leak.ci95 < 0.5 * leak_independent);
-    assert!(receiver.ci95 > 0.0 && receiver.ci95 < 0.5 * receiver_independent);
+    // 0.58 and 0.49 of the independent intervals when this was written: the scrambled source
+    // narrows the independent runs' intervals more than the paired ones, whose differences come
+    // from the few rays the change moves across a boundary (with independent source points
+    // both ratios were below a half).
+    assert!(leak.ci95 > 0.0 && leak.ci95 < 0.7 * leak_independent);
+    assert!(receiver.ci95 > 0.0 && receiver.ci95 < 0.7 * receiver_independent);
     // The paired mean is the difference of the two points' means (the same rays), and it
     // agrees with the independent runs' difference within their interval.
     let mean_diff = p1.segments_leaked[1].share - p0.segments_leaked[1].share;

@@ -40,7 +40,7 @@ use crate::export::csv_text;
 use crate::limits::{FIND_EVALUATIONS, FIND_PERCENT, FIND_RAYS, FIND_RESOLUTION, FIND_SCAN_POINTS};
 use crate::problems::{read_scenario, Problem};
 use crate::scenario::{Scenario, Segment};
-use crate::stats::{Estimate, Share, ShiftedSums};
+use crate::stats::{Estimate, Share};
 use crate::trace::{Prepared, RayFigures, BATCH_RAYS};
 
 use super::path::Step;
@@ -679,14 +679,9 @@ impl Find {
     fn trace_batch(&self, at: &Prepared, index: u64) -> FindBatch {
         let mut rays: Vec<RayFigures> = Vec::new();
         at.trace_batch_watching(index, self.segment, &mut rays);
-        let mut figures = ShiftedSums::new(3);
-        for r in &rays {
-            figures.add(&[r.delivered, r.entered, r.leaked]);
-        }
-        let mut est = figures.estimates();
-        let delivered = est.next().unwrap_or_default();
-        let entered = est.next().unwrap_or_default();
-        let leaked = est.next().unwrap_or_default();
+        let delivered = Estimate::of_replicates(rays.iter().map(|r| r.delivered));
+        let entered = Estimate::of_replicates(rays.iter().map(|r| r.entered));
+        let leaked = Estimate::of_replicates(rays.iter().map(|r| r.leaked));
         let margin = match (self.plan.criterion, &self.reference) {
             (Criterion::BendLeakAtMost { fraction, .. }, _) => {
                 let a: Vec<f64> = rays.iter().map(|r| r.leaked).collect();

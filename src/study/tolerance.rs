@@ -477,11 +477,8 @@ impl Study {
 /// Trace one batch of a unit, the nominal's per-ray delivered weights given.
 fn unit_stats(p: &Prepared, index: u64, x0: &[f64], x: &mut Vec<f64>) -> UnitStats {
     p.trace_batch_per_ray(index, x);
-    let mut delivered = crate::stats::ShiftedSums::new(1);
-    x.iter().for_each(|v| delivered.add(&[*v]));
-    let delivered = delivered.estimates().next().unwrap_or_default();
     UnitStats {
-        delivered,
+        delivered: Estimate::of_replicates(x.iter().copied()),
         difference: Estimate::of_differences(x, x0),
         effect: Estimate::default(),
     }
@@ -529,9 +526,7 @@ impl Tolerance {
     fn nominal_batch(&self, index: u64) -> (Vec<f64>, Estimate) {
         let mut x0 = Vec::new();
         self.nominal.trace_batch_per_ray(index, &mut x0);
-        let mut sums = crate::stats::ShiftedSums::new(1);
-        x0.iter().for_each(|v| sums.add(&[*v]));
-        let e = sums.estimates().next().unwrap_or_default();
+        let e = Estimate::of_replicates(x0.iter().copied());
         (x0, e)
     }
 
@@ -548,11 +543,8 @@ impl Tolerance {
                 Unit::Ready(p) => {
                     let mut s = unit_stats(p, index, x0, &mut x);
                     if m.is_some() {
-                        let mut e = Estimate::of_differences(&x, &xm);
-                        // (x₊ − x₋)/2 per ray: the mean halves, M₂ quarters.
-                        e.mean *= 0.5;
-                        e.m2 *= 0.25;
-                        s.effect = e;
+                        // (x₊ − x₋)/2 per ray: the mean halves, the spreads quarter.
+                        s.effect = Estimate::of_differences(&x, &xm).scaled(0.5);
                     }
                     Some(s)
                 }

@@ -11,9 +11,13 @@
 //! ([`ExitTurnBack`]); rays reaching the entry face from inside may leave it (returned).
 //! Polarisation is not carried: every Fresnel decision uses the unpolarised reflectance.
 //!
-//! Work is split into fixed batches of [`BATCH_RAYS`] rays; each ray draws from its own
-//! generator seeded from (seed, batch index, ray index), so that two scenarios traced with the
-//! same seed share their random numbers ray by ray (common random numbers); batches merge in index order, so a result does not depend on how many
+//! Work is split into fixed batches of [`BATCH_RAYS`] rays, each of whole replicates of
+//! [`sequence::REPLICATE_RAYS`]. A ray's start and direction come from its replicate's
+//! scrambled Sobol point set (randomized quasi-Monte Carlo, [`sequence`]), every other random
+//! number from its own generator seeded from (seed, batch index, ray index), so that two
+//! scenarios traced with the same seed share their random numbers ray by ray (common random
+//! numbers); the budget's intervals come from the spread of the replicates
+//! ([`crate::stats`]); batches merge in index order, so a result does not depend on how many
 //! threads or workers ran it. Transcendental functions come from `libm`, so native and wasm
 //! give bit-identical results.
 //!
@@ -29,6 +33,7 @@ mod ledger;
 mod names;
 pub mod receiver_map;
 mod report;
+pub mod sequence;
 mod walk;
 mod zones;
 
@@ -58,7 +63,8 @@ use crate::geometry::PlacedRoute;
 use crate::limits::{PATH_POINTS, PATH_POINTS_TOTAL};
 use crate::scenario::{Scenario, ScenarioIndices, Section, ZonePlace};
 use crate::source::SourceSampler;
-use crate::stats::ShiftedSums;
+use crate::stats::{Estimate, ShiftedSums};
+use sequence::{Scramble, REPLICATE_RAYS};
 
 /// Rays per batch.
 pub const BATCH_RAYS: u64 = 4096;
@@ -313,14 +319,25 @@ impl Prepared {
         let count = rays.saturating_sub(first).min(BATCH_RAYS);
         let seed = self.scenario.trace.seed;
         let mut out = Batch::empty(self);
-        // Each tally's per-ray contributions, summed shifted by the first ray's (see stats).
+        // Each tally's per-ray contributions, summed shifted by the first ray's within each
+        // replicate, and the replicates merged in order (see stats).
         let mut tallies = ShiftedSums::new(self.ledger.len());
         let mut receiver = ShiftedSums::new(1);
+        out.tallies = vec![Estimate::default(); self.ledger.len()];
+        let mut receiver_total = [Estimate::default()];
         let mut contrib = vec![0.0; self.ledger.len()];
         let points_each = path_points_each(keep_paths.min(count as usize));
+        let mut scramble = Scramble::of(seed, index, 0);
         for i in 0..count {
+            let (replicate, in_replicate) = (i / REPLICATE_RAYS, i % REPLICATE_RAYS);
+            if in_replicate == 0 && i > 0 {
+                tallies.close_replicate(&mut out.tallies);
+                receiver.close_replicate(&mut receiver_total);
+                scramble = Scramble::of(seed, index, replicate);
+            }
             contrib.iter_mut().for_each(|c| *c = 0.0);
             let mut rng = Pcg64Mcg::seed_from_u64(ray_seed(seed, index, i));
+            let source_u = scramble.point(in_replicate as u32, &mut rng);
             let record = index == 0 && (i as usize) < keep_paths;
             let mut path = record.then(|| KeptPath::new(points_each));
             let mut watch = watched.as_ref().map(|&(segment, _)| Watch {
@@ -329,6 +346,7 @@ impl Prepared {
             });
             let (fate, on_receiver) = self.trace_ray(
                 &mut rng,
+                source_u,
                 &mut contrib,
                 &mut out,
                 path.as_mut(),
@@ -367,8 +385,9 @@ impl Prepared {
                 });
             }
         }
-        out.tallies = tallies.estimates().collect();
-        out.receiver = receiver.estimates().next().unwrap_or_default();
+        tallies.close_replicate(&mut out.tallies);
+        receiver.close_replicate(&mut receiver_total);
+        out.receiver = receiver_total[0];
         out.rays = count;
         out
     }

@@ -92,11 +92,13 @@ enum Step {
     End(Fate, f64),
 }
 
-/// One ray's walk: the prepared scenario, the batch's random sequence, where the ray's
+/// One ray's walk: the prepared scenario, the ray's source numbers and random sequence, where the ray's
 /// contributions (one per ledger column) and histogram entries go, and its kept path.
 struct Walk<'a> {
     p: &'a Prepared,
     rng: &'a mut Pcg64Mcg,
+    /// The source's four numbers for this ray (point on the emitter, direction).
+    source_u: [f64; 4],
     contrib: &'a mut [f64],
     out: &'a mut Batch,
     trail: Trail<'a>,
@@ -122,11 +124,14 @@ pub(super) struct Watch {
 }
 
 impl Prepared {
-    /// Trace one ray; per-tally contributions go to `contrib` (one per ledger column),
-    /// histograms to `out`. Returns the fate and the weight landing on the receiver.
+    /// Trace one ray from the source's numbers `source_u` (uniform in [0, 1)⁴, see
+    /// [`super::sequence`]), drawing its other random numbers from `rng`; per-tally
+    /// contributions go to `contrib` (one per ledger column), histograms to `out`. Returns the
+    /// fate and the weight landing on the receiver.
     pub(super) fn trace_ray(
         &self,
         rng: &mut Pcg64Mcg,
+        source_u: [f64; 4],
         contrib: &mut [f64],
         out: &mut Batch,
         path: Option<&mut KeptPath>,
@@ -135,6 +140,7 @@ impl Prepared {
         let mut walk = Walk {
             p: self,
             rng,
+            source_u,
             contrib,
             out,
             trail: Trail(path),
@@ -246,13 +252,7 @@ impl Walk<'_> {
     /// the ray enters the guide or ends outside it (missed or reflected at the entry face).
     fn launch(&mut self) -> Result<Ray, Fate> {
         let p = self.p;
-        let u = [
-            uniform(self.rng),
-            uniform(self.rng),
-            uniform(self.rng),
-            uniform(self.rng),
-        ];
-        let (start, dir) = p.source.sample(u);
+        let (start, dir) = p.source.sample(self.source_u);
         self.trail.push(|| start);
         if let Some(pocket) = &p.faces.pocket {
             // An LED sitting in the pocket (validated to lie inside its sphere).

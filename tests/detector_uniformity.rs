@@ -230,10 +230,7 @@ fn a_round_detector_counts_the_blocks_wholly_on_it() {
     let r = traced(&s);
     let u = r.exit_figures.receiver_uniformity.expect("a receiver");
     let round_face = Uniformity::of_exit_map(
-        &tirtrace::trace::Hist {
-            sum: vec![0.0; 41 * 41],
-            sumsq: vec![0.0; 41 * 41],
-        },
+        &tirtrace::trace::Hist::from_sums(vec![0.0; 41 * 41], vec![0.0; 41 * 41]),
         1,
         41,
         &tirtrace::scenario::Section::Round { diameter_mm: 3.0 },

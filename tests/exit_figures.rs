@@ -94,10 +94,7 @@ fn a_lambertian_exit_has_a_half_intensity_full_angle_of_120_degrees() {
     let sum: Vec<f64> = (0..90)
         .map(|k| n * (sin2(k as f64 + 1.0) - sin2(k as f64)))
         .collect();
-    let h = Hist {
-        sumsq: sum.clone(),
-        sum,
-    };
+    let h = Hist::from_sums(sum.clone(), sum);
     let cone = AXIS_CONE_HALF_ANGLE_DEG as f64;
     let omega = 2.0 * PI * (1.0 - cone.to_radians().cos());
     let peak = IntensityWindow {
@@ -120,10 +117,7 @@ fn a_lambertian_exit_has_a_half_intensity_full_angle_of_120_degrees() {
                 / (2.0 * PI)
         })
         .collect();
-    let h = Hist {
-        sumsq: flat.clone(),
-        sum: flat,
-    };
+    let h = Hist::from_sums(flat.clone(), flat);
     let peak = IntensityWindow {
         share_per_sr: 1.0 / (2.0 * PI),
         ..peak

@@ -8,13 +8,39 @@ use crate::stats::Estimate;
 
 /// A histogram of per-ray weights in which each ray lands in at most one bin: plain sums and sums
 /// of squares (merged by addition), so that every bin has its own confidence interval
-/// ([`Hist::estimates`]).
-#[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize)]
+/// ([`Hist::estimates`]); and, per bin, Σ S_j²/n_j over the replicates j (S_j the bin's sum
+/// over replicate j's n_j rays), from which the spread of the replicate means follows, so a
+/// bin's interval comes from the replicates as the budget's do ([`crate::stats`]). A sum over
+/// several bins (a window of the intensity curve, a block of a map) has no such figure — the
+/// bins' replicate sums are not kept together — and keeps the per-ray interval.
+#[derive(Debug, Clone, Default, Serialize, Deserialize)]
 pub struct Hist {
     /// Σ w per bin.
     pub sum: Vec<f64>,
     /// Σ w² per bin.
     pub sumsq: Vec<f64>,
+    /// Σ S_j²/n_j per bin over the replicates closed ([`Hist::close_replicate`]).
+    #[serde(default)]
+    pub replicate_sumsq: Vec<f64>,
+    /// Replicates closed.
+    #[serde(default)]
+    pub replicates: u64,
+    /// The open replicate's sums per bin (only while a batch is traced).
+    #[serde(skip)]
+    open: Vec<f64>,
+    /// The bins the open replicate has added to.
+    #[serde(skip)]
+    touched: Vec<usize>,
+}
+
+/// Equal figures (the open replicate's working sums, empty once it is closed, do not count).
+impl PartialEq for Hist {
+    fn eq(&self, other: &Hist) -> bool {
+        self.sum == other.sum
+            && self.sumsq == other.sumsq
+            && self.replicate_sumsq == other.replicate_sumsq
+            && self.replicates == other.replicates
+    }
 }
 
 impl Hist {
@@ -22,6 +48,10 @@ impl Hist {
         Hist {
             sum: vec![0.0; bins],
             sumsq: vec![0.0; bins],
+            replicate_sumsq: vec![0.0; bins],
+            replicates: 0,
+            open: vec![0.0; bins],
+            touched: Vec::new(),
         }
     }
 
@@ -29,6 +59,35 @@ impl Hist {
     pub(super) fn add(&mut self, bin: usize, w: f64) {
         self.sum[bin] += w;
         self.sumsq[bin] += w * w;
+        if self.open[bin] == 0.0 {
+            self.touched.push(bin);
+        }
+        self.open[bin] += w;
+    }
+
+    /// A histogram of these per-bin sums Σw and Σw², with no replicates (every bin keeps the
+    /// per-ray interval).
+    pub fn from_sums(sum: Vec<f64>, sumsq: Vec<f64>) -> Hist {
+        Hist {
+            sum,
+            sumsq,
+            ..Hist::default()
+        }
+    }
+
+    /// Close the open replicate of `rays` rays: each bin's Σ S_j²/n_j takes its sum.
+    pub(super) fn close_replicate(&mut self, rays: u64) {
+        if rays == 0 || self.open.is_empty() {
+            return;
+        }
+        let n = rays as f64;
+        for &b in &self.touched {
+            let s = self.open[b];
+            self.replicate_sumsq[b] += s * s / n;
+            self.open[b] = 0.0;
+        }
+        self.touched.clear();
+        self.replicates += 1;
     }
 
     fn merge(&mut self, other: &Hist) {
@@ -40,14 +99,32 @@ impl Hist {
             .iter_mut()
             .zip(&other.sumsq)
             .for_each(|(a, b)| *a += b);
+        self.replicate_sumsq
+            .iter_mut()
+            .zip(&other.replicate_sumsq)
+            .for_each(|(a, b)| *a += b);
+        self.replicates += other.replicates;
     }
 
-    /// The estimate of each bin over `rays` rays ([`Estimate::from_raw_sums`]).
+    /// The estimate of each bin over `rays` rays ([`Estimate::from_raw_sums`]), with the
+    /// spread of its replicate means, Σ n_j (m_j − x̄)² = Σ S_j²/n_j − (Σ S_j)²/n.
     pub fn estimates(&self, rays: u64) -> impl Iterator<Item = Estimate> + '_ {
+        let n = rays.max(1) as f64;
         self.sum
             .iter()
             .zip(&self.sumsq)
-            .map(move |(&s, &q)| Estimate::from_raw_sums(rays, s, q))
+            .enumerate()
+            .map(move |(b, (&s, &q))| {
+                let e = Estimate::from_raw_sums(rays, s, q);
+                match self.replicate_sumsq.get(b) {
+                    Some(&r) if self.replicates > 0 => Estimate {
+                        replicates: self.replicates,
+                        replicates_m2: (r - s * s / n).max(0.0),
+                        ..e
+                    },
+                    _ => e,
+                }
+            })
     }
 }
 
@@ -108,6 +185,21 @@ impl Batch {
             wall_hits: vec![0; nseg],
             rays: 0,
             paths: Vec::new(),
+        }
+    }
+
+    /// Close the open replicate of `rays` rays in every histogram ([`Hist::close_replicate`]).
+    pub(super) fn close_replicate(&mut self, rays: u64) {
+        for h in [
+            &mut self.exit_map,
+            &mut self.angle_hist,
+            &mut self.angular_map,
+            &mut self.far_field,
+            &mut self.route_leak,
+            &mut self.route_coating,
+            &mut self.receiver_map,
+        ] {
+            h.close_replicate(rays);
         }
     }
 
@@ -205,7 +297,9 @@ impl Prepared {
 }
 
 pub(super) fn same_bins(a: &Hist, b: &Hist) -> bool {
-    a.sum.len() == b.sum.len() && a.sumsq.len() == b.sumsq.len()
+    a.sum.len() == b.sum.len()
+        && a.sumsq.len() == b.sumsq.len()
+        && a.replicate_sumsq.len() == b.replicate_sumsq.len()
 }
 
 /// Folds batch results into one running total in batch order — the only order that reproduces

@@ -333,6 +333,7 @@ impl Prepared {
             if in_replicate == 0 && i > 0 {
                 tallies.close_replicate(&mut out.tallies);
                 receiver.close_replicate(&mut receiver_total);
+                out.close_replicate(REPLICATE_RAYS);
                 scramble = Scramble::of(seed, index, replicate);
             }
             contrib.iter_mut().for_each(|c| *c = 0.0);
@@ -384,8 +385,10 @@ impl Prepared {
                 });
             }
         }
+        let last = count - count.saturating_sub(1) / REPLICATE_RAYS * REPLICATE_RAYS;
         tallies.close_replicate(&mut out.tallies);
         receiver.close_replicate(&mut receiver_total);
+        out.close_replicate(last);
         out.receiver = receiver_total[0];
         out.rays = count;
         out

@@ -375,7 +375,9 @@ fn scenario(section: Value, route: Value, around: Value, cap: u32, rays: u64) ->
 /// stepping walk with every hand-over moved by one part in 10¹⁵ parts its rays from the
 /// unmoved ones as much (309 of 24 576 rays on the round route in air, 0.5 % of the wall
 /// interactions) — so there only the statistics agree; along straights alone the walks
-/// agree ray by ray.
+/// agree ray by ray. The bending routes stop a ray at 1000 interactions: a ray that takes
+/// another way may be one caught for thousands (bouncing between the end faces, or square to
+/// a straight's axis), which would swing the interaction totals by as much on its own.
 fn scenarios() -> Vec<(&'static str, bool, Scenario)> {
     let air = json!({"library": "air"});
     let water = json!({"library": "water"});
@@ -422,17 +424,17 @@ fn scenarios() -> Vec<(&'static str, bool, Scenario)> {
         (
             "round, bends, air",
             true,
-            scenario(round.clone(), bends.clone(), air.clone(), 10_000, rays),
+            scenario(round.clone(), bends.clone(), air.clone(), 1_000, rays),
         ),
         (
             "round, bends, water",
             true,
-            scenario(round, bends.clone(), water, 10_000, rays),
+            scenario(round, bends.clone(), water, 1_000, rays),
         ),
         (
             "rectangular, bends, air",
             true,
-            scenario(rect, bends, air, 10_000, rays),
+            scenario(rect, bends, air, 1_000, rays),
         ),
     ]
 }

@@ -14,9 +14,11 @@
 //! - at t_j = t₁ + j Δt, Δt = 2 a v_r / s² (the chord 2 a sin α crossed at speed s),
 //! - at the point P₁ turned about z by φ_j = j · 2α · sign(v_t) and moved by j Δt d_z along z,
 //!
-//! and its normal and its incoming and outgoing directions are those of hit 0 turned by φ_j
-//! (the rotation's cosine and sine from `libm` of φ_j itself, so the error does not grow with j
-//! as a repeated product of rotations would).
+//! and its normal and its incoming and outgoing directions are those of hit 0 turned by φ_j.
+//! The one-hit turn's cosine and sine are rational in v_r, v_t (cos 2α = (v_t² − v_r²)/h²,
+//! sin 2α = 2 v_r v_t / h², h² = v_r² + v_t²); a hit fewer than 16 turns on is turned by their
+//! product (a few ε), one further by `libm`'s cosine and sine of φ_j itself, so the error does
+//! not grow with j as an unbounded product of rotations would.
 //!
 //! **Rectangular section** (planes x = ±w, y = ±h). The two transverse coordinates fold
 //! independently (a triangle wave): the hits on the x walls are at t = t_x + i · 2w / |d_x|
@@ -93,8 +95,11 @@ enum Form {
         d0_out: DVec3,
         /// Distance between hits, mm.
         step_t: f64,
-        /// Central angle from one hit to the next, signed (rad).
-        turn_rad: f64,
+        /// The incoming direction's tangential component at hit 0 (its sign is the sense of
+        /// the turn).
+        v_t: f64,
+        /// Cosine and sine of the central angle from one hit to the next, 2α signed.
+        turn: (f64, f64),
         /// cos θ, θ the angle of incidence.
         cos_i: f64,
     },
@@ -142,7 +147,8 @@ impl StraightRun {
                 n0: DVec3::Z,
                 d0_out: d,
                 step_t: f64::INFINITY,
-                turn_rad: 0.0,
+                v_t: 0.0,
+                turn: (1.0, 0.0),
                 cos_i: 0.0,
             };
             return (none, Some(0));
@@ -154,7 +160,10 @@ impl StraightRun {
         let v_t = n0.x * d.y - n0.y * d.x;
         let s2 = d.x * d.x + d.y * d.y;
         let step_t = 2.0 * axial.hw0 * cos_i / s2;
-        let turn_rad = (2.0 * libm::atan2(cos_i, v_t.abs())).copysign(v_t);
+        // cos 2α and sin 2α from cos α = |v_t|/h, sin α = v_r/h (h² = v_r² + v_t²), signed
+        // with v_t: exact to a few ε, no angle needed.
+        let h2 = cos_i * cos_i + v_t * v_t;
+        let turn = ((v_t * v_t - cos_i * cos_i) / h2, 2.0 * cos_i * v_t / h2);
         let count = count_from(t0, step_t, t_end);
         let form = Form::Round {
             t0,
@@ -162,7 +171,8 @@ impl StraightRun {
             n0,
             d0_out,
             step_t,
-            turn_rad,
+            v_t,
+            turn,
             cos_i,
         };
         (form, count)
@@ -248,7 +258,9 @@ impl StraightRun {
                 n0,
                 d0_out,
                 step_t,
-                turn_rad,
+                v_t,
+                turn,
+                cos_i,
                 ..
             } => {
                 if hit.index == 0 {
@@ -260,8 +272,7 @@ impl StraightRun {
                     };
                 }
                 let j = hit.index as f64;
-                let phi = j * turn_rad;
-                let (c, s) = (libm::cos(phi), libm::sin(phi));
+                let (c, s) = rotation(hit.index, turn, cos_i, v_t);
                 let turn = |v: DVec3| DVec3::new(c * v.x - s * v.y, s * v.x + c * v.y, v.z);
                 let mut point = turn(p0);
                 point.z = p0.z + j * step_t * self.d.z;
@@ -385,6 +396,29 @@ impl StraightRun {
     }
 }
 
+/// Hits turned by fewer than this many central angles are turned by the product of the
+/// one-hit rotation (error ≤ ~2j ε, bounded by 2·`PRODUCT_TURNS` ε); from it on by `libm`'s
+/// cosine and sine of j · 2α (error independent of j).
+const PRODUCT_TURNS: u64 = 16;
+
+/// Cosine and sine of the turn of hit `j` (j times the one-hit turn, whose cosine and sine are
+/// `turn`; tan α = `cos_i` / |`v_t`|, the turn 2α signed with `v_t`). A short run (the common
+/// case: a few hits) needs no transcendental function.
+#[inline]
+fn rotation(j: u64, turn: (f64, f64), cos_i: f64, v_t: f64) -> (f64, f64) {
+    if j < PRODUCT_TURNS {
+        let (mut c, mut s) = (1.0, 0.0);
+        for _ in 0..j {
+            (c, s) = (c * turn.0 - s * turn.1, s * turn.0 + c * turn.1);
+        }
+        (c, s)
+    } else {
+        let turn_rad = (2.0 * libm::atan2(cos_i, v_t.abs())).copysign(v_t);
+        let phi = j as f64 * turn_rad;
+        (libm::cos(phi), libm::sin(phi))
+    }
+}
+
 /// (−1)^i.
 #[inline]
 fn alternate(i: u64) -> f64 {
@@ -401,8 +435,14 @@ fn count_from(t0: f64, step_t: f64, t_end: f64) -> Option<u64> {
     if t0 >= t_end {
         return Some(0);
     }
-    let q = ((t_end - t0) / step_t).ceil();
-    (q <= MOST_HITS).then_some(q.max(1.0) as u64)
+    let q = (t_end - t0) / step_t;
+    // Too many, infinite or NaN (no spacing): no count.
+    if q.is_nan() || q > MOST_HITS {
+        return None;
+    }
+    // ⌈q⌉ for 0 < q ≤ MOST_HITS (without a call to `ceil`), at least 1.
+    let n = q as u64;
+    Some(if (n as f64) < q { n + 1 } else { n.max(1) })
 }
 
 /// The hits of a [`StraightRun`] in time order.
@@ -463,5 +503,47 @@ impl Iterator for RunHits<'_> {
     fn size_hint(&self) -> (usize, Option<usize>) {
         let n = usize::try_from(self.left).unwrap_or(usize::MAX);
         (n, usize::try_from(self.left).ok())
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// The product of one-hit rotations (short runs) and libm's cosine and sine of j · 2α (long
+    /// runs) agree where one hands over to the other, for skew, grazing and meridional rays.
+    #[test]
+    fn product_and_angle_turns_agree() {
+        for (cos_i, v_t) in [
+            (0.3, 0.5),
+            (0.9, -0.1),
+            (1e-4, 0.6),
+            (0.7, 0.0),
+            (0.02, -0.8),
+        ] {
+            let h2: f64 = cos_i * cos_i + v_t * v_t;
+            let turn = ((v_t * v_t - cos_i * cos_i) / h2, 2.0 * cos_i * v_t / h2);
+            let turn_rad = (2.0 * libm::atan2(cos_i, f64::abs(v_t))).copysign(v_t);
+            for j in 0..PRODUCT_TURNS + 2 {
+                let (c, s) = rotation(j, turn, cos_i, v_t);
+                let phi = j as f64 * turn_rad;
+                let (ca, sa) = (libm::cos(phi), libm::sin(phi));
+                assert!(
+                    (c - ca).abs() < 1e-14 && (s - sa).abs() < 1e-14,
+                    "cos θ {cos_i}, v_t {v_t}, j {j}: ({c}, {s}) against ({ca}, {sa})"
+                );
+            }
+        }
+    }
+
+    #[test]
+    fn counts_are_ceilings() {
+        assert_eq!(count_from(1.0, 2.0, 1.0), Some(0));
+        assert_eq!(count_from(1.0, 2.0, 5.0), Some(2));
+        assert_eq!(count_from(1.0, 2.0, 5.5), Some(3));
+        assert_eq!(count_from(0.0, f64::INFINITY, 5.0), Some(1));
+        assert_eq!(count_from(0.0, 0.0, 5.0), None);
+        assert_eq!(count_from(0.0, 1.0, f64::INFINITY), None);
+        assert_eq!(count_from(0.0, 1e-9, 5.0), None);
     }
 }

@@ -34,7 +34,7 @@ impl Axial {
     /// The end plane the ray (local origin `o`, unit direction `d`) heads for: z = `length`
     /// going on, z = 0 going back; a ray square to the axis reaches neither (t = ∞).
     #[inline]
-    fn end_planes(&self, o: DVec3, d: DVec3) -> Next {
+    pub fn end_planes(&self, o: DVec3, d: DVec3) -> Next {
         if d.z > 0.0 {
             Next::End {
                 t: (self.length - o.z) / d.z,

@@ -9,7 +9,8 @@
 //! rectangular), a bend ([`bend`]: its end planes and position along it), whose walls are a torus
 //! when round ([`torus`]) or two cylinders and two planes when rectangular ([`rect_bend`]); the
 //! shared ray–quadric helpers (`quadric`) and polynomial roots ([`roots`]). [`Placed`]
-//! dispatches to them.
+//! dispatches to them. [`straight_run`] takes all of a ray's hits along an untapered straight in
+//! closed form, for the walk to skip stepping from hit to hit there.
 
 pub mod axial;
 pub mod bend;
@@ -18,6 +19,7 @@ mod quadric;
 pub mod rect_bend;
 pub mod roots;
 pub mod route;
+pub mod straight_run;
 pub mod torus;
 
 use glam::DVec3;
@@ -26,6 +28,7 @@ pub use axial::Axial;
 pub use bend::Bend;
 pub use corner::Corner;
 pub use route::PlacedRoute;
+pub use straight_run::StraightRun;
 pub use torus::torus_exit;
 
 /// An orthonormal frame: origin and axes, all in global coordinates.

@@ -59,7 +59,7 @@ use serde::{Deserialize, Serialize};
 #[cfg(not(target_arch = "wasm32"))]
 use crate::error::RunError;
 use crate::error::TirError;
-use crate::geometry::PlacedRoute;
+use crate::geometry::{PlacedRoute, Shape};
 use crate::limits::{PATH_POINTS, PATH_POINTS_TOTAL};
 use crate::scenario::{Scenario, ScenarioIndices, Section, ZonePlace};
 use crate::source::SourceSampler;
@@ -160,6 +160,10 @@ pub struct Prepared {
     coatings: Vec<CoatingZone>,
     /// Whether any coated zone lies on each segment.
     segment_has_coating: Vec<bool>,
+    /// Whether each segment's wall hits are taken in closed form, a run at a time
+    /// ([`crate::geometry::StraightRun`]): an untapered straight with no contact zone, no
+    /// coating and (segment 0) no entry pocket, whose every hit is then alike.
+    closed_form_run: Vec<bool>,
     entry_half: (f64, f64),
     entry_round: bool,
     exit_half: (f64, f64),
@@ -244,6 +248,19 @@ impl Prepared {
         let sin_c_out = indices.n_out / indices.n_core;
         let ledger =
             Ledger::new(route.segments.len(), contacts.len()).with_coatings(coatings.len());
+        let faces = walk::ShapedFaces::new(&scenario.guide, &route);
+        let closed_form_run = route
+            .segments
+            .iter()
+            .enumerate()
+            .map(|(i, placed)| {
+                let untapered =
+                    matches!(placed.shape, Shape::Axial(a) if a.kw == 0.0 && a.kh == 0.0);
+                // The entry pocket is looked for before every event in segment 0.
+                let pocket = i == 0 && faces.pocket.is_some();
+                untapered && !segment_has_contact[i] && !segment_has_coating[i] && !pocket
+            })
+            .collect();
         Prepared {
             source: SourceSampler::new(&scenario.source),
             alpha_per_mm,
@@ -252,15 +269,25 @@ impl Prepared {
             segment_has_contact,
             coatings,
             segment_has_coating,
+            closed_form_run,
             entry_half: scenario.guide.section.half_sizes_mm(),
             entry_round: matches!(scenario.guide.section, Section::Round { .. }),
             exit_half: route.exit_section.half_sizes_mm(),
             ledger,
-            faces: walk::ShapedFaces::new(&scenario.guide, &route),
+            faces,
             route,
             indices,
             scenario: scenario.clone(),
         }
+    }
+
+    /// The same scenario with every wall hit stepped one at a time, none taken in closed form
+    /// a straight run at a time: the walk the closed form replaces, kept for the tests that
+    /// compare the two (same seed, same budget within the intervals).
+    #[doc(hidden)]
+    pub fn stepping_every_hit(mut self) -> Prepared {
+        self.closed_form_run.iter_mut().for_each(|c| *c = false);
+        self
     }
 
     /// Number of batches for the scenario's ray count.

@@ -11,7 +11,7 @@ use glam::DVec3;
 use super::{
     receiver_map, Batch, Fate, Prepared, ANGLE_BINS, ANGULAR_CELLS, MAP_CELLS, ROUTE_BINS,
 };
-use crate::geometry::{Next, Placed};
+use crate::geometry::{Next, Placed, Shape, StraightRun};
 use crate::interface::{fresnel_amplitudes, fresnel_reflectance, reflect, refract};
 use crate::scenario::{CoatingKind, Receiver};
 
@@ -91,6 +91,19 @@ enum Step {
     End(Fate, f64),
 }
 
+/// What became of a ray's run through an untapered straight in closed form
+/// ([`Walk::straight_run`]).
+enum Run {
+    /// Not taken in closed form (too many hits for the interaction cap, or none to count): the
+    /// walk steps it.
+    Stepped,
+    /// Its hits were all reflections; it now heads for this end plane from where it left the
+    /// last (or from where it was).
+    EndPlane(Next),
+    /// It left through the wall at one of its hits.
+    Left(Step),
+}
+
 /// One ray's walk: the prepared scenario, the ray's source numbers and random sequence, where the ray's
 /// contributions (one per ledger column) and histogram entries go, and its kept path.
 struct Walk<'a> {
@@ -151,7 +164,17 @@ impl Prepared {
         let mut interactions = 0u32;
         loop {
             let placed = &segs[ray.seg];
-            let next = placed.next(ray.o, ray.d);
+            let next = if self.closed_form_run[ray.seg] {
+                // An untapered straight: its wall hits in closed form, then the end plane.
+                match walk.straight_run(&mut ray, placed, &mut interactions, cap) {
+                    Run::Stepped => placed.next(ray.o, ray.d),
+                    Run::EndPlane(next) => next,
+                    Run::Left(Step::End(fate, on_receiver)) => return (fate, on_receiver),
+                    Run::Left(Step::Continue) => continue,
+                }
+            } else {
+                placed.next(ray.o, ray.d)
+            };
             if let (0, Some(pocket)) = (ray.seg, &self.faces.pocket) {
                 // The entry face's pocket, when the ray meets it before anything else.
                 if let Some(step) = walk.pocket_from_material(pocket, &mut ray, placed, next.t()) {
@@ -395,6 +418,78 @@ impl Walk<'_> {
             return Step::Continue;
         }
         self.leave_through_wall(ray, placed, normal, n_out, zone)
+    }
+
+    /// A run through an untapered straight segment (no contact zone, no coating, no pocket)
+    /// taken in closed form ([`StraightRun`]): each of its k wall hits is an interaction as
+    /// [`Walk::wall`] makes it — total internal reflection when sin²θ exceeds sin²θc, else a
+    /// Fresnel draw u < R, in hit order — with θ, and so R, the same for every hit of a family
+    /// of walls (computed once). A ray that leaks leaves at that hit with the state there; one
+    /// that does not is left where it leaves its last hit, its path added, and the end plane it
+    /// heads for is returned for the walk to meet as it always does. The cost is O(1) plus one
+    /// uniform draw per hit below the critical angle (and a vertex per hit of a kept path).
+    #[inline]
+    fn straight_run(
+        &mut self,
+        ray: &mut Ray,
+        placed: &Placed,
+        interactions: &mut u32,
+        cap: u32,
+    ) -> Run {
+        let Shape::Axial(axial) = &placed.shape else {
+            return Run::Stepped;
+        };
+        let run = StraightRun::new(axial, placed.round, ray.o, ray.d);
+        let Some(count) = run.hit_count() else {
+            return Run::Stepped;
+        };
+        // The end plane is one more interaction: stepped when the cap would stop the ray here.
+        if u64::from(*interactions) + count + 1 > u64::from(cap) {
+            return Run::Stepped;
+        }
+        let p = self.p;
+        let ix = &p.indices;
+        let families = if placed.round { 1 } else { 2 };
+        let (mut tir, mut r) = ([true; 2], [1.0; 2]);
+        for f in 0..families {
+            let cos_i = run.cos_incidence(f);
+            tir[f] = 1.0 - cos_i * cos_i > p.sin2_critical_out;
+            if !tir[f] {
+                r[f] = fresnel_reflectance(cos_i, ix.n_core, ix.n_out);
+            }
+        }
+        let seg = ray.seg;
+        // `count` + interactions ≤ cap, a u32.
+        let hits = count as u32;
+        if tir[0] && tir[1] && self.trail.0.is_none() {
+            // Every hit totally reflected and no path kept: nothing to do hit by hit.
+            *interactions += hits;
+            self.out.wall_interactions += count;
+            self.out.wall_hits[seg] += count;
+        } else {
+            for hit in run.hits() {
+                *interactions += 1;
+                self.out.wall_interactions += 1;
+                self.out.wall_hits[seg] += 1;
+                self.trail
+                    .push(|| placed.frame.point_to_global(run.state(&hit).point));
+                let f = hit.family;
+                if tir[f] || uniform(self.rng) < r[f] {
+                    continue;
+                }
+                let at = run.state(&hit);
+                ray.unabsorbed_mm += hit.t;
+                ray.o = at.point;
+                ray.d = at.d_in;
+                return Run::Left(self.leave_through_wall(ray, placed, at.normal, ix.n_out, None));
+            }
+        }
+        if let Some((o, d, t)) = run.after_hits() {
+            ray.unabsorbed_mm += t;
+            ray.o = o;
+            ray.d = d;
+        }
+        Run::EndPlane(axial.end_planes(ray.o, ray.d))
     }
 
     /// A coated face with outward unit normal `normal` (local) and specular reflectance `r`:

@@ -40,24 +40,33 @@ const colouredBins = (page, selector) =>
 const nonZero = (shares) => shares.flatMap((s, i) => (s > 0 ? [i] : []));
 
 /**
- * Pixels of the 3D view near the metal coating's fill over white (rgba(134,142,150,0.75)): their
- * share of the view, and their centre in CSS pixels from the canvas's top left.
+ * Pixels of the 3D view near the metal coating's fill over white (rgba(134,142,150,0.75)) whose
+ * four neighbours are too — the inside of a filled area, not the antialiased edge of a ray's
+ * line, whose colours can mix to the same grey where rays cross: their share of the view, and
+ * their centre in CSS pixels from the canvas's top left.
  */
 const metalPixels = (page) =>
   page.evaluate(() => {
     const canvas = document.getElementById('route-view');
-    const { data } = canvas.getContext('2d').getImageData(0, 0, canvas.width, canvas.height);
+    const { width, height } = canvas;
+    const { data } = canvas.getContext('2d').getImageData(0, 0, width, height);
+    const metal = (k) => {
+      const [r, g, b] = [data[4 * k], data[4 * k + 1], data[4 * k + 2]];
+      return Math.abs(r - 164) < 14 && Math.abs(g - 170) < 14 && Math.abs(b - 176) < 14 && b >= r;
+    };
     let [n, sx, sy] = [0, 0, 0];
-    for (let i = 0; i < data.length; i += 4) {
-      const [r, g, b] = [data[i], data[i + 1], data[i + 2]];
-      if (Math.abs(r - 164) < 14 && Math.abs(g - 170) < 14 && Math.abs(b - 176) < 14 && b >= r) {
-        n += 1;
-        sx += (i / 4) % canvas.width;
-        sy += Math.floor(i / 4 / canvas.width);
+    for (let y = 1; y + 1 < height; y += 1) {
+      for (let x = 1; x + 1 < width; x += 1) {
+        const k = y * width + x;
+        if (metal(k) && metal(k - 1) && metal(k + 1) && metal(k - width) && metal(k + width)) {
+          n += 1;
+          sx += x;
+          sy += y;
+        }
       }
     }
-    const css = canvas.clientWidth / canvas.width;
-    return { share: n / (data.length / 4), x: n ? (css * sx) / n : 0, y: n ? (css * sy) / n : 0 };
+    const css = canvas.clientWidth / width;
+    return { share: n / (width * height), x: n ? (css * sx) / n : 0, y: n ? (css * sy) / n : 0 };
   });
 const metalInk = async (page) => (await metalPixels(page)).share;
 
@@ -91,7 +100,7 @@ for (const viewport of [{ width: 1280, height: 800 }, { width: 820, height: 1180
       assert.equal(await page.locator('.segment-table .seg-key-item').count(), 3);
       assert.equal(await page.locator('.segment-table thead th').last().innerText(), 'Mounts');
       assert.equal(await page.locator('#route-view').getAttribute('data-coatings-drawn'), '0');
-      assert.ok((await metalInk(page)) < 0.001, 'no metal drawn');
+      assert.ok((await metalInk(page)) < 0.00002, 'no metal drawn');
     });
 
     test('a metal layer over the corner and a black mask: drawn, and where they absorb shown beside the leakage', async () => {
@@ -101,8 +110,10 @@ for (const viewport of [{ width: 1280, height: 800 }, { width: 820, height: 1180
       const theirs = cliTrace(COATED);
       // Both coatings drawn, the corner's metal to scale over its face.
       assert.equal(await page.locator('#route-view').getAttribute('data-coatings-drawn'), '2');
+      // (The inside of the metal's fill, where no ray crosses it: 1.5–1.8·10⁻⁴ of the view when
+      // this was written, none without coatings.)
       const ink = await metalInk(page);
-      assert.ok(ink > 0.002, `metal covers ${ink} of the view`);
+      assert.ok(ink > 0.00005, `metal covers ${ink} of the view`);
       // The leakage strip is the CLI's leakage; the coatings' strip is the CLI's coating profile.
       assert.deepEqual(await colouredBins(page, '#leak-line .leak-bins:not(.coat-bins)'), nonZero(theirs.leak_along_route.share));
       const coated = theirs.coating_along_route;

@@ -19,7 +19,7 @@ pub struct Hist {
     pub sum: Vec<f64>,
     /// Σ w² per bin.
     pub sumsq: Vec<f64>,
-    /// Σ S_j²/n_j per bin over the replicates closed ([`Hist::close_replicate`]).
+    /// Σ S_j²/n_j per bin over the replicates closed so far.
     #[serde(default)]
     pub replicate_sumsq: Vec<f64>,
     /// Replicates closed.

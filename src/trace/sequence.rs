@@ -21,7 +21,7 @@
 //! - the sequence's 32 bits are filled out to 53 with the ray's own generator, so the numbers
 //!   have the resolution the independent draws had;
 //! - four more dimensions of the same point serve the ray's first four random events (a
-//!   Fresnel draw at a wall or a face, a coating's, a textured face's; [`RayDraws`]): whichever
+//!   Fresnel draw at a wall or a face, a coating's, a textured face's; `RayDraws`): whichever
 //!   events a ray meets first, each number is uniform and independent of the others, so every
 //!   event stays unbiased, and the early events — a bend's first partial reflections, the exit
 //!   face's — are spread as evenly as the source is (on the benchmark route this narrows

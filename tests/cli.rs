@@ -982,6 +982,19 @@ fn a_sweep_in_pieces_merges_to_the_whole_run_byte_for_byte() {
     );
     let e = one_line_error(&[&args[..], &["--piece", "0/3"]].concat(), &study);
     assert!(e.contains("--piece must be K/N with 1 ≤ K ≤ N"), "{e}");
+    // A piece written by an older build (version 1: another way of drawing rays) is refused.
+    let text = std::fs::read_to_string(&names[0]).unwrap();
+    assert!(text.contains("\"piece_version\":2") || text.contains("\"piece_version\": 2"));
+    let old = dir.join("piece-old.json");
+    std::fs::write(
+        &old,
+        text.replacen("\"piece_version\":2", "\"piece_version\":1", 1)
+            .replacen("\"piece_version\": 2", "\"piece_version\": 1", 1),
+    )
+    .unwrap();
+    let old = old.to_str().unwrap().to_string();
+    let e = one_line_error(&merge(&args, &[&old, &names[1], &names[2]], &[]), &study);
+    assert!(e.contains("piece_version must be 2, got 1"), "{e}");
 }
 
 #[test]

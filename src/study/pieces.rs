@@ -18,8 +18,10 @@ use super::sweep::{Sweep, SweepBatch};
 use super::tolerance::{Tolerance, ToleranceBatch};
 use crate::trace::MergeInOrder;
 
-/// The piece document's version this build reads and writes.
-pub const PIECE_VERSION: u32 = 1;
+/// The piece document's version this build reads and writes. Version 2: rays from scrambled
+/// point sets and intervals from the spread of their replicates (`trace::sequence`); a piece of
+/// version 1 was traced another way and would not merge into the same result, so it is refused.
+pub const PIECE_VERSION: u32 = 2;
 
 /// One piece of a study: the raw result of each of its batches, in batch order — a sweep's
 /// ([`SweepBatch`], the default) or a tolerance study's ([`TolerancePiece`]).

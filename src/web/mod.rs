@@ -16,7 +16,9 @@ use crate::{FieldError, TirError};
 
 fn to_js<T: Serialize>(value: &T) -> Result<JsValue, JsError> {
     value
-        .serialize(&serde_wasm_bindgen::Serializer::json_compatible())
+        .serialize(
+            &serde_wasm_bindgen::Serializer::json_compatible().serialize_bytes_as_arrays(false),
+        )
         .map_err(|e| JsError::new(&e.to_string()))
 }
 

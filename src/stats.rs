@@ -2,9 +2,11 @@
 //! its 95 % confidence half-width.
 //!
 //! Every reported share is the mean of per-ray contributions x (a ray's weight in a tally or a
-//! histogram bin). An [`Estimate`] holds the count n, the mean x̄ and the sum of squared
-//! deviations M₂ = Σ(x − x̄)², and gives the share x̄ with the half-width 1.96 √(M₂/(n − 1)/n)
-//! (normal approximation). Two accumulations feed it, both exact in real arithmetic:
+//! histogram bin). An [`Estimate`] holds the count n, the mean x̄, the sum of squared
+//! deviations M₂ = Σ(x − x̄)² and, when the rays came in replicates, the spread of the replicate
+//! means; it gives the share x̄ with the half-width from the replicates (Student's t, see
+//! [`Estimate::half_width95`]) or else 1.96 √(M₂/(n − 1)/n) (normal approximation). Two
+//! accumulations feed it, both exact in real arithmetic:
 //! - a tally every ray contributes to (the budget's columns, the receiver, the studies' paired
 //!   differences) keeps, per replicate of [`REPLICATE_RAYS`] consecutive rays, the sums of
 //!   x − shift and (x − shift)² with the replicate's first ray's value as the shift
@@ -91,8 +93,9 @@ pub fn t_quantile_975(dof: u64) -> f64 {
 pub struct Share {
     /// The estimated share (0…1).
     pub share: f64,
-    /// 95 % confidence half-width (normal approximation, 1.96 standard errors); infinite when
-    /// fewer than two rays were traced.
+    /// 95 % confidence half-width ([`Estimate::half_width95`]: from the spread of the replicate
+    /// means with Student's t, else 1.96 per-ray standard errors); infinite when fewer than two
+    /// rays were traced.
     #[serde(deserialize_with = "crate::export::ci95_or_infinite")]
     pub ci95: f64,
 }

@@ -309,11 +309,6 @@ impl ShiftedSums {
         self.n += 1;
     }
 
-    /// Rays added so far.
-    pub fn rays(&self) -> u64 {
-        self.n
-    }
-
     /// Close a replicate: merge each column's estimate over the rays added, as one replicate
     /// ([`Estimate::as_replicate`]), into `totals` (one per column, in replicate order), and
     /// empty the sums for the next replicate. Nothing is merged when no ray was added.

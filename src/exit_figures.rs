@@ -63,7 +63,8 @@ pub struct Uniformity {
     pub min_over_max: Option<Bounded>,
     /// Coefficient of variation (standard deviation over mean) of the irradiance of the blocks
     /// counted, with the blocks' own noise taken out: CV² = (s² − v̄)/Ē², s² the blocks' sample
-    /// variance, v̄ the mean of their irradiance's variances (the method of moments; from
+    /// variance, v̄ the mean of their irradiance's variances (each block's variance of the mean,
+    /// from its replicates as its interval is; the method of moments; from
     /// memory). The interval is the delta method's on CV², its ends' square roots (0 where the
     /// end is below 0); near CV = 0 it is wider than need be. `None` below two blocks.
     pub coefficient_of_variation: Option<Bounded>,
@@ -199,6 +200,24 @@ fn block_edges(cells: usize, blocks: usize) -> Vec<usize> {
         .collect()
 }
 
+/// Each cell's uniformity block on a map of `cells` × `cells` (row-major; block by·B + bx for
+/// B = [`UNIFORMITY_BLOCKS`] blocks each way, [`block_edges`]), and the number of blocks: the
+/// groups of a map's histogram, so that a block's share has an interval from its replicates.
+pub fn block_of_cell(cells: usize) -> (Vec<u32>, usize) {
+    let edges = block_edges(cells, UNIFORMITY_BLOCKS);
+    let mut group_of = vec![crate::trace::NO_GROUP; cells * cells];
+    for by in 0..UNIFORMITY_BLOCKS {
+        for bx in 0..UNIFORMITY_BLOCKS {
+            for y in edges[by]..edges[by + 1] {
+                for x in edges[bx]..edges[bx + 1] {
+                    group_of[y * cells + x] = (by * UNIFORMITY_BLOCKS + bx) as u32;
+                }
+            }
+        }
+    }
+    (group_of, UNIFORMITY_BLOCKS * UNIFORMITY_BLOCKS)
+}
+
 /// A block of the exit map: its cells, share estimate and area.
 struct Block {
     cells: Vec<usize>,
@@ -240,11 +259,10 @@ impl Uniformity {
                 let cells_in: Vec<usize> = (y0..y1)
                     .flat_map(|y| (x0..x1).map(move |x| y * cells + x))
                     .collect();
-                let sum = cells_in.iter().map(|&k| h.sum[k]).sum();
-                let sumsq = cells_in.iter().map(|&k| h.sumsq[k]).sum();
+                let block = by * UNIFORMITY_BLOCKS + bx;
                 on_face.push(Block {
                     area_mm2: (x1 - x0) as f64 * cw * (y1 - y0) as f64 * ch,
-                    share: Estimate::from_raw_sums(rays, sum, sumsq),
+                    share: h.group_estimate(rays, cells_in.iter().copied(), Some(block)),
                     cells: cells_in,
                 });
             }
@@ -300,7 +318,8 @@ pub fn normal_upper_quantile(p: f64) -> f64 {
 }
 
 /// R = E_min / E_max over the m blocks (irradiance E_i = S_i / A_i, standard error σ_i from the
-/// block's own per-ray spread), with a 95 % interval for the true ratio ρ = μ_min / μ_max of
+/// block's 95 % half-width over 1.96: its replicates' spread, each block being one of the map's
+/// groups, else its per-ray spread), with a 95 % interval for the true ratio ρ = μ_min / μ_max of
 /// the blocks' true irradiances μ_i.
 ///
 /// R leans low: the least and greatest blocks are picked from the same noisy rays, so noise
@@ -364,10 +383,7 @@ fn coefficient_of_variation(h: &Hist, rays: u64, blocks: &[&Block]) -> Bounded {
     let s2 = e.iter().map(|x| (x - mean) * (x - mean)).sum::<f64>() / (m - 1.0);
     let noise = blocks
         .iter()
-        .map(|b| {
-            let w = b.share.half_width95().unwrap_or(0.0) / 1.96 / b.area_mm2;
-            w * w
-        })
+        .map(|b| b.share.variance_of_mean().unwrap_or(0.0) / (b.area_mm2 * b.area_mm2))
         .sum::<f64>()
         / m;
     let sigma2 = s2 - noise;

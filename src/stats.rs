@@ -20,9 +20,11 @@
 //!   `trace::sequence`) and are not independent, the replicates are;
 //! - a histogram in which each ray lands in at most one bin keeps Σx and Σx² per bin, merged by
 //!   addition (no per-ray work for the bins a ray misses), and becomes an estimate at the end
-//!   ([`Estimate::from_raw_sums`]) whose interval comes from the per-ray spread: for the
-//!   scrambled source points that is the interval of independent rays, which their variance
-//!   does not exceed in practice (checked for the maps' figures by the coverage tests).
+//!   ([`Estimate::from_raw_sums`]); per bin, and per fixed group of bins (the intensity curve's
+//!   windows, a map's uniformity blocks), it also keeps Σ S_j²/n_j over the replicates, from
+//!   which the spread of the replicate means follows (`trace::Hist`). A sum over bins that are
+//!   not one group has only the per-ray spread: for the scrambled source points that is the
+//!   interval of independent rays, which their variance does not exceed in practice.
 //!
 //! Fewer than two rays: no spread can be estimated, and [`Estimate::half_width95`] says so
 //! (`None`). A [`Share`] writes that as an infinite half-width (JSON `null`, read back as ∞); the
@@ -215,12 +217,23 @@ impl Estimate {
     /// independent (a scrambled point set's are not: that is where its lower variance comes
     /// from). Otherwise from the per-ray spread, 1.96 √(s²/n) with s² = M₂/(n − 1).
     pub fn half_width95(&self) -> Option<f64> {
+        let v = self.variance_of_mean()?;
+        Some(if self.replicates >= LEAST_REPLICATES {
+            t_quantile_975(self.replicates - 1) * v.sqrt()
+        } else {
+            1.96 * v.sqrt()
+        })
+    }
+
+    /// The estimated variance of the mean, s²/n, from the same spread as
+    /// [`Estimate::half_width95`] (the replicate means' from at least [`LEAST_REPLICATES`]
+    /// replicates, else the per-ray); `None` below two rays.
+    pub fn variance_of_mean(&self) -> Option<f64> {
         if self.replicates >= LEAST_REPLICATES {
-            let j = self.replicates - 1;
-            let s2 = self.replicates_m2 / j as f64;
-            return Some(t_quantile_975(j) * (s2 / self.n as f64).sqrt());
+            let s2 = self.replicates_m2 / (self.replicates - 1) as f64;
+            return Some(s2 / self.n as f64);
         }
-        (self.n > 1).then(|| 1.96 * (self.m2 / (self.n - 1) as f64 / self.n as f64).sqrt())
+        (self.n > 1).then(|| self.m2 / (self.n - 1) as f64 / self.n as f64)
     }
 
     /// The share with its 95 % confidence half-width ([`Estimate::half_width95`]; infinite below

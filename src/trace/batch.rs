@@ -11,8 +11,10 @@ use crate::stats::Estimate;
 /// ([`Hist::estimates`]); and, per bin, Σ S_j²/n_j over the replicates j (S_j the bin's sum
 /// over replicate j's n_j rays), from which the spread of the replicate means follows, so a
 /// bin's interval comes from the replicates as the budget's do ([`crate::stats`]). A sum over
-/// several bins (a window of the intensity curve, a block of a map) has no such figure — the
-/// bins' replicate sums are not kept together — and keeps the per-ray interval.
+/// several bins has that figure too when the bins form one of the histogram's *groups*, fixed
+/// when it is made (the windows of the intensity curve, the uniformity blocks of a map): per
+/// group, Σ G_j²/n_j with G_j the group's sum over replicate j ([`Hist::group_estimate`]); any
+/// other sum over several bins keeps the per-ray interval.
 #[derive(Debug, Clone, Default, Serialize, Deserialize)]
 pub struct Hist {
     /// Σ w per bin.
@@ -33,7 +35,19 @@ pub struct Hist {
     /// The bins the open replicate has added to.
     #[serde(skip)]
     touched: Vec<usize>,
+    /// Σ G_j²/n_j per group over the replicates closed so far (empty without groups).
+    #[serde(default, with = "f64_bytes")]
+    pub group_replicate_sumsq: Vec<f64>,
+    /// Each bin's group (only while a batch is traced; [`NO_GROUP`] for a bin in none).
+    #[serde(skip)]
+    group_of: Vec<u32>,
+    /// The open replicate's sums per group, while it is being closed (only while traced).
+    #[serde(skip)]
+    group_open: Vec<f64>,
 }
+
+/// A bin that belongs to no group of its histogram.
+pub const NO_GROUP: u32 = u32::MAX;
 
 /// A histogram's numbers as one run of little-endian bytes (8 a number) rather than a list of
 /// numbers: a batch crosses between the page's workers as one typed array per list (a single
@@ -100,6 +114,7 @@ impl PartialEq for Hist {
             && self.sumsq == other.sumsq
             && self.replicate_sumsq == other.replicate_sumsq
             && self.replicates == other.replicates
+            && self.group_replicate_sumsq == other.group_replicate_sumsq
     }
 }
 
@@ -112,7 +127,29 @@ impl Hist {
             replicates: 0,
             open: vec![0.0; bins],
             touched: Vec::new(),
+            group_replicate_sumsq: Vec::new(),
+            group_of: Vec::new(),
+            group_open: Vec::new(),
         }
+    }
+
+    /// A histogram of `group_of.len()` bins whose bins are also summed by group: bin b in
+    /// group `group_of[b]` (0-based, below `groups`; [`NO_GROUP`] for none).
+    pub(super) fn grouped(group_of: Vec<u32>, groups: usize) -> Hist {
+        debug_assert!(group_of
+            .iter()
+            .all(|&g| g == NO_GROUP || (g as usize) < groups));
+        Hist {
+            group_replicate_sumsq: vec![0.0; groups],
+            group_open: vec![0.0; groups],
+            ..Hist::new(group_of.len())
+        }
+        .with_groups(group_of)
+    }
+
+    fn with_groups(mut self, group_of: Vec<u32>) -> Hist {
+        self.group_of = group_of;
+        self
     }
 
     #[inline]
@@ -141,12 +178,29 @@ impl Hist {
             return;
         }
         let n = rays as f64;
+        let grouped = !self.group_of.is_empty();
         for &b in &self.touched {
             let s = self.open[b];
             self.replicate_sumsq[b] += s * s / n;
             self.open[b] = 0.0;
+            if grouped {
+                if let Some(g) = self.group_open.get_mut(self.group_of[b] as usize) {
+                    *g += s;
+                }
+            }
         }
         self.touched.clear();
+        if grouped {
+            // Every group, touched or not (an untouched one adds 0): a few dozen at most.
+            for (q, g) in self
+                .group_replicate_sumsq
+                .iter_mut()
+                .zip(self.group_open.iter_mut())
+            {
+                *q += *g * *g / n;
+                *g = 0.0;
+            }
+        }
         self.replicates += 1;
     }
 
@@ -163,7 +217,39 @@ impl Hist {
             .iter_mut()
             .zip(&other.replicate_sumsq)
             .for_each(|(a, b)| *a += b);
+        self.group_replicate_sumsq
+            .iter_mut()
+            .zip(&other.group_replicate_sumsq)
+            .for_each(|(a, b)| *a += b);
         self.replicates += other.replicates;
+    }
+
+    /// The estimate of the sum of bins `bins` over `rays` rays, as [`Hist::estimates`] gives a
+    /// bin's: with the spread of its replicate means when the bins are exactly group `group`
+    /// (the caller's word: the groups were fixed when the histogram was made), else the
+    /// per-ray spread alone (`group` `None`, or a histogram without group sums, e.g. one read
+    /// from an older file).
+    pub fn group_estimate(
+        &self,
+        rays: u64,
+        bins: impl IntoIterator<Item = usize>,
+        group: Option<usize>,
+    ) -> Estimate {
+        let (mut s, mut q) = (0.0, 0.0);
+        for b in bins {
+            s += self.sum[b];
+            q += self.sumsq[b];
+        }
+        let e = Estimate::from_raw_sums(rays, s, q);
+        let n = rays.max(1) as f64;
+        match group.and_then(|g| self.group_replicate_sumsq.get(g)) {
+            Some(&r) if self.replicates > 0 => Estimate {
+                replicates: self.replicates,
+                replicates_m2: (r - s * s / n).max(0.0),
+                ..e
+            },
+            _ => e,
+        }
     }
 
     /// The estimate of each bin over `rays` rays ([`Estimate::from_raw_sums`]), with the
@@ -230,17 +316,17 @@ impl Batch {
         let nseg = p.route.segments.len();
         Batch {
             tallies: vec![Estimate::default(); p.ledger.len()],
-            exit_map: Hist::new(MAP_CELLS * MAP_CELLS),
-            angle_hist: Hist::new(ANGLE_BINS),
+            exit_map: block_grouped(MAP_CELLS),
+            angle_hist: window_grouped(ANGLE_BINS),
             angular_map: Hist::new(ANGULAR_CELLS * ANGULAR_CELLS),
             far_field: Hist::new(crate::far_field::BINS),
             route_leak: Hist::new(ROUTE_BINS),
             route_coating: Hist::new(if p.coatings.is_empty() { 0 } else { ROUTE_BINS }),
             receiver: Estimate::default(),
-            receiver_map: Hist::new(match p.scenario.receiver {
-                Some(_) => RECEIVER_CELLS * RECEIVER_CELLS,
-                None => 0,
-            }),
+            receiver_map: match p.scenario.receiver {
+                Some(_) => block_grouped(RECEIVER_CELLS),
+                None => Hist::new(0),
+            },
             wall_interactions: 0,
             wall_hits: vec![0; nseg],
             rays: 0,
@@ -286,6 +372,25 @@ impl Batch {
             self.paths = other.paths.clone();
         }
     }
+}
+
+/// A histogram of `bins` 1° rings whose groups are the windows of the peak search
+/// ([`super::peak_windows`], window k group k): the on-axis cone and the peak have intervals
+/// from their replicates.
+fn window_grouped(bins: usize) -> Hist {
+    let mut group_of = vec![NO_GROUP; bins];
+    let windows = super::peak_windows(bins);
+    for (k, &(from, to)) in windows.iter().enumerate() {
+        group_of[from..to].fill(k as u32);
+    }
+    Hist::grouped(group_of, windows.len())
+}
+
+/// A map of `cells` × `cells` whose groups are the uniformity blocks
+/// ([`crate::exit_figures::block_of_cell`]).
+fn block_grouped(cells: usize) -> Hist {
+    let (group_of, groups) = crate::exit_figures::block_of_cell(cells);
+    Hist::grouped(group_of, groups)
 }
 
 /// A batch's figures without its histograms and paths: the tallies, the receiver, the wall
@@ -360,6 +465,7 @@ pub(super) fn same_bins(a: &Hist, b: &Hist) -> bool {
     a.sum.len() == b.sum.len()
         && a.sumsq.len() == b.sumsq.len()
         && a.replicate_sumsq.len() == b.replicate_sumsq.len()
+        && a.group_replicate_sumsq.len() == b.group_replicate_sumsq.len()
 }
 
 /// Folds batch results into one running total in batch order — the only order that reproduces
@@ -461,6 +567,61 @@ impl<B: MergeInOrder> PrefixMerger<B> {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// A group's interval comes from its replicates' sums: bins 0 and 1 form group 0, bin 2
+    /// group 1, bin 3 none. In every replicate of 4 rays two land in bin 0 with weight 3/4 and
+    /// two in bin 1 with 1/4 (in varying order), so group 0's sum is the same in each replicate
+    /// (no spread, a zero half-width, though the rays' weights in it spread); group 1 gets one ray of weight 1 in even replicates
+    /// and none in odd ones, whose spread is worked out by hand. Merging two halves gives the
+    /// whole's figures.
+    #[test]
+    fn a_groups_interval_comes_from_its_replicate_sums() {
+        let trace = |replicates: std::ops::Range<u64>| {
+            let mut h = Hist::grouped(vec![0, 0, 1, NO_GROUP], 2);
+            for j in replicates {
+                let split = if j % 3 == 0 {
+                    [0, 0, 1, 1]
+                } else {
+                    [1, 0, 1, 0]
+                };
+                for b in split {
+                    h.add(b, if b == 0 { 0.75 } else { 0.25 });
+                }
+                if j % 2 == 0 {
+                    h.add(2, 1.0);
+                }
+                h.add(3, 0.25);
+                h.close_replicate(4);
+            }
+            h
+        };
+        let h = trace(0..10);
+        let rays = 40;
+        let g0 = h.group_estimate(rays, 0..2, Some(0));
+        assert_eq!((g0.mean, g0.replicates, g0.replicates_m2), (0.5, 10, 0.0));
+        assert_eq!(g0.half_width95(), Some(0.0));
+        assert!(h.group_estimate(rays, 0..2, None).half_width95().unwrap() > 0.0);
+        // Group 1: replicate means 1/4 (5 of them) and 0 (5), mean 1/8:
+        // Σ n_j (m_j − x̄)² = 10 · 4 · (1/8)² = 0.625.
+        let g1 = h.group_estimate(rays, 2..3, Some(1));
+        assert_eq!(g1.mean, 0.125);
+        assert!(
+            (g1.replicates_m2 - 0.625).abs() < 1e-15,
+            "{}",
+            g1.replicates_m2
+        );
+        // A one-bin group's figure is its bin's.
+        let bin2 = h.estimates(rays).nth(2).unwrap();
+        assert!((bin2.replicates_m2 - g1.replicates_m2).abs() < 1e-15);
+        let mut halves = trace(0..6);
+        halves.merge(&trace(6..10));
+        assert_eq!(halves, h);
+        // Without group sums (e.g. a histogram made from sums alone) the per-ray spread is used.
+        let plain = Hist::from_sums(h.sum.clone(), h.sumsq.clone());
+        let e = plain.group_estimate(rays, 0..2, Some(0));
+        assert_eq!(e.replicates, 0);
+        assert!(e.half_width95().unwrap() > 0.0);
+    }
 
     /// A histogram reads back from its own JSON exactly (its lists as bytes), also from a list of
     /// byte values; a byte count that is not a whole number of numbers is refused.

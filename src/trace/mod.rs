@@ -39,7 +39,7 @@ mod zones;
 
 pub use crate::scenario::SegmentKind;
 use batch::same_bins;
-pub use batch::{fold_in_order, Batch, BatchTallies, Hist, MergeInOrder, PrefixMerger};
+pub use batch::{fold_in_order, Batch, BatchTallies, Hist, MergeInOrder, PrefixMerger, NO_GROUP};
 use ledger::Ledger;
 pub(crate) use names::Named;
 pub use names::{FluxUnit, IntensityUnit};

@@ -12,7 +12,7 @@ use crate::exit_figures::{
 };
 use crate::far_field::FarField;
 use crate::scenario::Flux;
-use crate::stats::{Estimate, Share};
+use crate::stats::Share;
 
 /// Half-angle of the cone about the exit axis over which the on-axis intensity is averaged,
 /// degrees. Its solid angle (2π (1 − cos 5°) ≈ 0.0239 sr) is also the least that any window of
@@ -607,10 +607,9 @@ impl Intensity {
             share_per_sr.push(share[i] / omega);
             ci95_per_sr.push(ci[i] / omega);
         }
-        let window = |(from, to): (usize, usize)| {
-            let sum = hist.sum[from..to].iter().sum();
-            let sumsq = hist.sumsq[from..to].iter().sum();
-            let e = Estimate::from_raw_sums(rays, sum, sumsq);
+        // Window k is the histogram's group k (its replicates give the interval).
+        let window = |(k, (from, to)): (usize, (usize, usize))| {
+            let e = hist.group_estimate(rays, from..to, Some(k));
             let omega = ring_solid_angle_sr(from as f64, to as f64);
             IntensityWindow {
                 from_deg: from as f64,
@@ -620,7 +619,11 @@ impl Intensity {
                 ci95_per_sr: e.half_width95().unwrap_or(f64::INFINITY) / omega,
             }
         };
-        let windows: Vec<IntensityWindow> = peak_windows(n).into_iter().map(window).collect();
+        let windows: Vec<IntensityWindow> = peak_windows(n)
+            .into_iter()
+            .enumerate()
+            .map(window)
+            .collect();
         let on_axis = windows[0];
         let peak = windows
             .iter()

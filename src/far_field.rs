@@ -269,7 +269,7 @@ mod tests {
                 let (ca, cb) = (libm::cos(a), libm::cos(b));
                 let jac = 1.0 / (ca * ca * cb * cb);
                 let s2 = 1.0 + ta * ta + tb * tb;
-                sum += jac / (s2 * libm::sqrt(s2));
+                sum += jac / (s2 * s2.sqrt());
             }
         }
         sum * da.to_radians() * db.to_radians()

@@ -123,9 +123,7 @@ impl Distribution {
                 // Box–Muller: u₁ in (0, 1] so that ln u₁ is finite.
                 let u1 = 1.0 - uniform(rng);
                 let u2 = uniform(rng);
-                sigma
-                    * libm::sqrt(-2.0 * libm::log(u1))
-                    * libm::cos(2.0 * std::f64::consts::PI * u2)
+                sigma * (-2.0 * libm::log(u1)).sqrt() * libm::cos(2.0 * std::f64::consts::PI * u2)
             }
             Distribution::Uniform { half_width } => half_width * (2.0 * uniform(rng) - 1.0),
         }

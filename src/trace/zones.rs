@@ -66,9 +66,9 @@ pub(super) fn zone_at(
 /// `inward` must be a unit vector.
 pub fn lambertian_direction(inward: DVec3, u1: f64, u2: f64) -> DVec3 {
     debug_assert!((inward.length_squared() - 1.0).abs() < 1e-9);
-    let r = libm::sqrt(u1);
+    let r = u1.sqrt();
     let (sin_phi, cos_phi) = libm::sincos(2.0 * core::f64::consts::PI * u2);
-    let cos_theta = libm::sqrt(1.0 - u1);
+    let cos_theta = (1.0 - u1).sqrt();
     let (a, b) = inward.any_orthonormal_pair();
     (r * cos_phi) * a + (r * sin_phi) * b + cos_theta * inward
 }

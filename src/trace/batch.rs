@@ -139,17 +139,13 @@ impl Hist {
         debug_assert!(group_of
             .iter()
             .all(|&g| g == NO_GROUP || (g as usize) < groups));
+        let bins = group_of.len();
         Hist {
             group_replicate_sumsq: vec![0.0; groups],
             group_open: vec![0.0; groups],
-            ..Hist::new(group_of.len())
+            group_of,
+            ..Hist::new(bins)
         }
-        .with_groups(group_of)
-    }
-
-    fn with_groups(mut self, group_of: Vec<u32>) -> Hist {
-        self.group_of = group_of;
-        self
     }
 
     #[inline]

@@ -236,12 +236,19 @@ impl Hist {
             s += self.sum[b];
             q += self.sumsq[b];
         }
+        let r = group.and_then(|g| self.group_replicate_sumsq.get(g).copied());
+        self.estimate(rays, s, q, r)
+    }
+
+    /// The estimate of a bin or group with sums Σw = `s`, Σw² = `q` and Σ S_j²/n_j = `r` (when
+    /// kept) over `rays` rays: the spread of its replicate means is Σ n_j (m_j − x̄)² =
+    /// Σ S_j²/n_j − (Σ S_j)²/n.
+    fn estimate(&self, rays: u64, s: f64, q: f64, r: Option<f64>) -> Estimate {
         let e = Estimate::from_raw_sums(rays, s, q);
-        let n = rays.max(1) as f64;
-        match group.and_then(|g| self.group_replicate_sumsq.get(g)) {
-            Some(&r) if self.replicates > 0 => Estimate {
+        match r {
+            Some(r) if self.replicates > 0 => Estimate {
                 replicates: self.replicates,
-                replicates_m2: (r - s * s / n).max(0.0),
+                replicates_m2: (r - s * s / rays.max(1) as f64).max(0.0),
                 ..e
             },
             _ => e,
@@ -251,21 +258,12 @@ impl Hist {
     /// The estimate of each bin over `rays` rays ([`Estimate::from_raw_sums`]), with the
     /// spread of its replicate means, Σ n_j (m_j − x̄)² = Σ S_j²/n_j − (Σ S_j)²/n.
     pub fn estimates(&self, rays: u64) -> impl Iterator<Item = Estimate> + '_ {
-        let n = rays.max(1) as f64;
         self.sum
             .iter()
             .zip(&self.sumsq)
             .enumerate()
             .map(move |(b, (&s, &q))| {
-                let e = Estimate::from_raw_sums(rays, s, q);
-                match self.replicate_sumsq.get(b) {
-                    Some(&r) if self.replicates > 0 => Estimate {
-                        replicates: self.replicates,
-                        replicates_m2: (r - s * s / n).max(0.0),
-                        ..e
-                    },
-                    _ => e,
-                }
+                self.estimate(rays, s, q, self.replicate_sumsq.get(b).copied())
             })
     }
 }

@@ -3,7 +3,8 @@
 #   - criterion benchmarks of the tracer (native; skipped with --quick)
 #   - the same batches natively and in wasm (Node), one after the other: wasm/native ratio
 #   - with --against REV: this version against REV (e.g. HEAD~1) on the same batches,
-#     alternating runs, built from a temporary git worktree
+#     alternating runs, built from a temporary git worktree; round k traces with seed k
+#     (ROUNDS rounds, default 3), and the ratios' geometric mean and range close the report
 set -euo pipefail
 cd "$(dirname "$0")/.."
 quick=0; against=""
@@ -75,13 +76,22 @@ if [[ -n "$against" ]]; then
   cp examples/speed.rs "$tree/examples/speed.rs"
   (cd "$tree" && CARGO_TARGET_DIR="$PWD/target" cargo build -q --release --example speed)
   old_bin="$tree/target/release/examples/speed"
-  for round in 1 2 3; do
-    now=$(target/release/examples/speed "$scenario" "$batches")
-    then=$("$old_bin" "$scenario" "$batches")
+  # Each round traces with its own seed (both versions the same one): an interval's width is
+  # itself a sample (± 5–8 % in ci95² for 20–40 batches), so one seed would repeat its own luck.
+  seeded=$(mktemp)
+  for round in $(seq "${ROUNDS:-3}"); do
+    python3 - "$scenario" "$round" "$seeded" <<'PY'
+import json, sys
+doc = json.load(open(sys.argv[1]))
+doc["trace"]["seed"] = int(sys.argv[2])
+json.dump(doc, open(sys.argv[3], "w"))
+PY
+    now=$(target/release/examples/speed "$seeded" "$batches")
+    then=$("$old_bin" "$seeded" "$batches")
     python3 - "$now" "$then" "$round" "$against" <<'PY'
 import json, sys
 a, b = json.loads(sys.argv[1]), json.loads(sys.argv[2])
-print(f"round {sys.argv[3]}: this version against {sys.argv[4]}: "
+print(f"round {sys.argv[3]} (seed {sys.argv[3]}): this version against {sys.argv[4]}: "
       f"rays/s {a['rays_per_s'] / b['rays_per_s']:.2f}x, "
       f"wall interactions/s {a['wall_interactions_per_s'] / b['wall_interactions_per_s']:.2f}x "
       f"({a['wall_interactions_per_s'] / 1e6:.2f} vs {b['wall_interactions_per_s'] / 1e6:.2f} M), "
@@ -89,5 +99,18 @@ print(f"round {sys.argv[3]}: this version against {sys.argv[4]}: "
       f"(± {100 * a['delivered_ci95']:.3f} % in {a['seconds']:.2f} s vs ± {100 * b['delivered_ci95']:.3f} % in {b['seconds']:.2f} s), "
       f"of bend {a['leakiest_bend']}'s leak {a['bend_precision_per_s'] / b['bend_precision_per_s']:.2f}x")
 PY
+    printf '%s\t%s\n' "$now" "$then" >> "$seeded.rounds"
   done
+  python3 - "$seeded.rounds" "$against" <<'PY'
+import json, math, sys
+rows = [line.rstrip("\n").split("\t") for line in open(sys.argv[1])]
+pairs = [(json.loads(a), json.loads(b)) for a, b in rows]
+def mean(key):
+    r = [a[key] / b[key] for a, b in pairs]
+    return f"{math.exp(sum(map(math.log, r)) / len(r)):.2f}x ({min(r):.2f}-{max(r):.2f})"
+print(f"over {len(pairs)} rounds (geometric mean, range), this version against {sys.argv[2]}: "
+      f"rays/s {mean('rays_per_s')}, wall interactions/s {mean('wall_interactions_per_s')}, "
+      f"precision per second of delivered {mean('delivered_precision_per_s')}, of the leakiest bend {mean('bend_precision_per_s')}")
+PY
+  rm -f "$seeded" "$seeded.rounds"
 fi

@@ -241,6 +241,27 @@ impl Prepared {
         }
     }
 
+    /// The probability q of reflecting a ray of weight `w` at a side wall whose Fresnel
+    /// reflectance below the critical angle is `r`: min(1, 2r), the reflected ray carrying r/q of
+    /// the weight ([`WALL_SPLIT_FACTOR`]); r itself, the whole ray going one way, for a ray
+    /// lighter than [`WALL_SPLIT_LEAST`].
+    #[inline]
+    fn wall_reflection_odds(&self, w: f64, r: f64) -> f64 {
+        if w >= WALL_SPLIT_LEAST {
+            (self.wall_split_factor * r).min(1.0)
+        } else {
+            r
+        }
+    }
+
+    /// The bin of the leakage along the route ([`ROUTE_BINS`] over its length) of local point
+    /// `o` on segment `placed`'s wall.
+    #[inline]
+    fn route_bin(&self, placed: &Placed, o: DVec3) -> usize {
+        let s = placed.s_start_mm + placed.along_mm(o);
+        (((s / self.route.length_mm) * ROUTE_BINS as f64) as usize).min(ROUTE_BINS - 1)
+    }
+
     /// The contact zone at local point `o` on the wall of segment `seg`, if any (only looked up
     /// on segments that have one).
     #[inline]
@@ -452,14 +473,11 @@ impl Walk<'_> {
             return Step::Continue;
         }
         let r = fresnel_reflectance(cos_i, ix.n_core, n_out);
-        let q = if ray.w >= WALL_SPLIT_LEAST {
-            (p.wall_split_factor * r).min(1.0)
-        } else {
-            r
-        };
+        let q = p.wall_reflection_odds(ray.w, r);
         if uniform(self.rng) < q {
             if q > r {
-                self.leave_part(ray, placed, zone, 1.0 - r / q);
+                let bin = p.route_bin(placed, ray.o);
+                self.leave_part(ray, bin, zone, 1.0 - r / q);
             }
             ray.d = reflect(ray.d, normal);
             return Step::Continue;
@@ -529,21 +547,15 @@ impl Walk<'_> {
                 if tir[f] {
                     continue;
                 }
-                let q = if ray.w >= WALL_SPLIT_LEAST {
-                    (p.wall_split_factor * r[f]).min(1.0)
-                } else {
-                    r[f]
-                };
+                let q = p.wall_reflection_odds(ray.w, r[f]);
                 let at = run.state(&hit);
                 ray.unabsorbed_mm += hit.t - added_mm;
                 added_mm = hit.t;
                 if uniform(self.rng) < q {
                     if q > r[f] {
-                        // A part leaves from this hit; the ray goes on from its start.
-                        let start = ray.o;
-                        ray.o = at.point;
-                        self.leave_part(ray, placed, None, 1.0 - r[f] / q);
-                        ray.o = start;
+                        // A part leaves from this hit; the ray goes on from the run's start.
+                        let bin = p.route_bin(placed, at.point);
+                        self.leave_part(ray, bin, None, 1.0 - r[f] / q);
                     }
                     continue;
                 }
@@ -610,13 +622,14 @@ impl Walk<'_> {
         Step::End(Fate::Coating, 0.0)
     }
 
-    /// A part `share` (0 < share < 1) of the ray's weight leaves through the side wall where the
-    /// ray is, leaked or lost into contact zone `zone` and tallied along the route as
-    /// [`Walk::leave_through_wall`] tallies a whole ray; the rest goes on.
-    fn leave_part(&mut self, ray: &mut Ray, placed: &Placed, zone: Option<usize>, share: f64) {
+    /// A part `share` (0 < share < 1) of the ray's weight, its path so far attenuated, leaves
+    /// through a side wall: leaked from the ray's segment or lost into contact zone `zone`, and
+    /// put in bin `bin` of the leakage along the route, as a whole ray leaving is; the rest goes
+    /// on.
+    fn leave_part(&mut self, ray: &mut Ray, bin: usize, zone: Option<usize>, share: f64) {
         self.absorb(ray);
         let part = ray.w * share;
-        self.leak_along_route(ray, placed, part);
+        self.out.route_leak.add(bin, part);
         let ledger = self.p.ledger;
         match zone {
             Some(z) => self.part_inside(ledger.contact(z), ledger.after_contact(), part),
@@ -627,15 +640,6 @@ impl Walk<'_> {
         }
         // What leaves and what goes on sum to the weight the ray had, to rounding.
         ray.w -= part;
-    }
-
-    /// Weight `w` leaving through the side wall at the ray's place, on the leakage along the
-    /// route.
-    #[inline]
-    fn leak_along_route(&mut self, ray: &Ray, placed: &Placed, w: f64) {
-        let s = placed.s_start_mm + placed.along_mm(ray.o);
-        let bin = ((s / self.p.route.length_mm) * ROUTE_BINS as f64) as usize;
-        self.out.route_leak.add(bin.min(ROUTE_BINS - 1), w);
     }
 
     /// The ray leaves through the side wall into a medium of index `n_out`: leaked, or lost
@@ -650,7 +654,7 @@ impl Walk<'_> {
     ) -> Step {
         let p = self.p;
         self.absorb(ray);
-        self.leak_along_route(ray, placed, ray.w);
+        self.out.route_leak.add(p.route_bin(placed, ray.o), ray.w);
         let (o, d) = (ray.o, ray.d);
         self.trail.push(|| {
             let outside = refract(d, -normal, p.indices.n_core, n_out).unwrap_or(d);

@@ -180,8 +180,18 @@ impl Walk<'_> {
                     self.out.wall_interactions += 1;
                     self.out.wall_hits[ray.seg] += 1;
                     self.trail.push(|| frame.point_to_global(o));
-                    let tir = 1.0 - cos_i * cos_i > p.sin2_critical_out;
-                    if tir || uniform(self.rng) < fresnel_reflectance(cos_i, ix.n_core, ix.n_out) {
+                    if 1.0 - cos_i * cos_i > p.sin2_critical_out {
+                        d = reflect(d, normal);
+                        continue;
+                    }
+                    // Below the critical angle the reflection is split in two as at the route's
+                    // walls (`Walk::wall`).
+                    let r = fresnel_reflectance(cos_i, ix.n_core, ix.n_out);
+                    let q = p.wall_reflection_odds(ray.w, r);
+                    if uniform(self.rng) < q {
+                        if q > r {
+                            self.leave_part(ray, cap_side_bin(end), None, 1.0 - r / q);
+                        }
                         d = reflect(d, normal);
                         continue;
                     }
@@ -241,11 +251,7 @@ impl Walk<'_> {
     ) -> Step {
         let p = self.p;
         self.absorb(ray);
-        let bin = match end {
-            End::Entry => 0,
-            End::Exit => ROUTE_BINS - 1,
-        };
-        self.out.route_leak.add(bin, ray.w);
+        self.out.route_leak.add(cap_side_bin(end), ray.w);
         self.trail.push(|| {
             let outside = refract(d, -normal, p.indices.n_core, p.indices.n_out).unwrap_or(d);
             frame.point_to_global(o + 0.5 * outside)
@@ -443,5 +449,14 @@ impl Walk<'_> {
         }
         // Still in the pocket after the interaction cap: counted as leaving it.
         None
+    }
+}
+
+/// The bin of the leakage along the route where light leaving a cap's side wall is put: the
+/// route's first at the entry, its last at the exit.
+fn cap_side_bin(end: End) -> usize {
+    match end {
+        End::Entry => 0,
+        End::Exit => ROUTE_BINS - 1,
     }
 }

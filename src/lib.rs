@@ -9,6 +9,7 @@
 //! radians inside the core and degrees only in documents; units are carried in names.
 #![warn(missing_docs)]
 
+pub mod absorption;
 pub mod chart;
 pub mod check;
 pub mod coating_outline;

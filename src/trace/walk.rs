@@ -11,6 +11,7 @@ use glam::DVec3;
 use super::{
     receiver_map, Batch, Fate, Prepared, ANGLE_BINS, ANGULAR_CELLS, MAP_CELLS, ROUTE_BINS,
 };
+use crate::absorption::absorbed_and_kept;
 use crate::geometry::{Next, Placed, Shape, StraightRun};
 use crate::interface::{fresnel_amplitudes, fresnel_reflectance, reflect, refract};
 use crate::scenario::{CoatingKind, Receiver};
@@ -422,9 +423,9 @@ impl Walk<'_> {
     fn absorb(&mut self, ray: &mut Ray) {
         let alpha_per_mm = self.p.alpha_per_mm;
         if alpha_per_mm > 0.0 && ray.unabsorbed_mm > 0.0 {
-            let f = libm::exp(-alpha_per_mm * ray.unabsorbed_mm);
-            self.contrib[self.p.ledger.absorbed(ray.seg)] += ray.w * (1.0 - f);
-            ray.w *= f;
+            let (absorbed, kept) = absorbed_and_kept(alpha_per_mm * ray.unabsorbed_mm);
+            self.contrib[self.p.ledger.absorbed(ray.seg)] += ray.w * absorbed;
+            ray.w *= kept;
         }
         ray.unabsorbed_mm = 0.0;
     }
@@ -752,7 +753,7 @@ impl Walk<'_> {
     fn weight_reaching_exit(&mut self, ray: &Ray) -> f64 {
         let alpha_per_mm = self.p.alpha_per_mm;
         let w = if alpha_per_mm > 0.0 && ray.unabsorbed_mm > 0.0 {
-            ray.w * libm::exp(-alpha_per_mm * ray.unabsorbed_mm)
+            ray.w * absorbed_and_kept(alpha_per_mm * ray.unabsorbed_mm).1
         } else {
             ray.w
         };

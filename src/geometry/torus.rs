@@ -17,12 +17,15 @@ impl Bend {
         let rc = self.rc;
         let a = self.radial_half;
         if let Some(t) = torus_exit(o, d, rc, a, t_hi) {
+            // The normal is p minus the nearest point of the centre circle, normalised:
+            // (x (ρ − rc)/ρ, y (ρ − rc)/ρ, z) / √((ρ − rc)² + z²), with one division for both.
             let p = o + t * d;
             let rho = (p.x * p.x + p.y * p.y).sqrt();
-            let q = DVec3::new(p.x - rc * p.x / rho, p.y - rc * p.y / rho, p.z);
+            let e = rho - rc;
+            let inv = 1.0 / (rho * (e * e + p.z * p.z).sqrt());
             Next::Wall {
                 t,
-                normal: q.normalize(),
+                normal: DVec3::new(p.x * e * inv, p.y * e * inv, p.z * rho * inv),
             }
         } else {
             best

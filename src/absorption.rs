@@ -16,7 +16,7 @@ const SERIES_MAX: f64 = 1.0 / 128.0;
 ///
 /// For x ≤ 1/128, 1 − e^(−x) = x (1 − x/2 (1 − x/3 (1 − x/4 (1 − x/5 (1 − x/6 (1 − x/7)))))),
 /// the Taylor series of the exponential to x⁷ in nested form; the first term left out, x⁸/8!,
-/// is below 10⁻²⁰ of the absorbed part there, far under its rounding. The kept part is 1 minus
+/// is below 10⁻¹⁹ of the absorbed part there, far under its rounding. The kept part is 1 minus
 /// that. Above, e^(−x) and −(e^(−x) − 1) from `libm` (identical native and wasm; the second
 /// keeps the absorbed part's relative precision, which 1 − e^(−x) would lose for small x).
 #[inline]

@@ -6,8 +6,9 @@ use super::receiver_map::RECEIVER_CELLS;
 use super::{Path, Prepared, ANGLE_BINS, ANGULAR_CELLS, MAP_CELLS, ROUTE_BINS};
 use crate::stats::Estimate;
 
-/// A histogram of per-ray weights in which each ray lands in at most one bin: plain sums and sums
-/// of squares (merged by addition), so that every bin has its own confidence interval
+/// A histogram of per-ray weights in which each ray lands in at most one bin (or, through
+/// [`Hist::add_part`], adds to a bin in several parts that count as one weight): plain sums and
+/// sums of squares (merged by addition), so that every bin has its own confidence interval
 /// ([`Hist::estimates`]); and, per bin, Σ S_j²/n_j over the replicates j (S_j the bin's sum
 /// over replicate j's n_j rays), from which the spread of the replicate means follows, so a
 /// bin's interval comes from the replicates as the budget's do ([`crate::stats`]). A sum over
@@ -44,6 +45,9 @@ pub struct Hist {
     /// The open replicate's sums per group, while it is being closed (only while traced).
     #[serde(skip)]
     group_open: Vec<f64>,
+    /// The current ray's parts (bin, weight) not yet in Σ w² ([`Hist::add_part`]).
+    #[serde(skip)]
+    ray_parts: Vec<(usize, f64)>,
 }
 
 /// A bin that belongs to no group of its histogram.
@@ -130,6 +134,7 @@ impl Hist {
             group_replicate_sumsq: Vec::new(),
             group_of: Vec::new(),
             group_open: Vec::new(),
+            ray_parts: Vec::new(),
         }
     }
 
@@ -156,6 +161,37 @@ impl Hist {
             self.touched.push(bin);
         }
         self.open[bin] += w;
+    }
+
+    /// Weight `w` of the current ray into bin `bin`, as [`Hist::add`], where a ray may add to a
+    /// bin several times (the leakage along the route, when a ray leaves in parts): Σ w² takes
+    /// the ray's sum in each bin once, at [`Hist::end_ray`], as the per-ray interval needs.
+    #[inline]
+    pub(super) fn add_part(&mut self, bin: usize, w: f64) {
+        self.sum[bin] += w;
+        if self.open[bin] == 0.0 {
+            self.touched.push(bin);
+        }
+        self.open[bin] += w;
+        self.ray_parts.push((bin, w));
+    }
+
+    /// The current ray is done: each bin it added parts to takes the square of their sum in
+    /// Σ w² (a single part: its square, as [`Hist::add`] takes it).
+    #[inline]
+    pub(super) fn end_ray(&mut self) {
+        while let Some((bin, mut w)) = self.ray_parts.pop() {
+            // A ray leaves in a few parts at most: gather the others in the same bin.
+            let mut k = 0;
+            while k < self.ray_parts.len() {
+                if self.ray_parts[k].0 == bin {
+                    w += self.ray_parts.swap_remove(k).1;
+                } else {
+                    k += 1;
+                }
+            }
+            self.sumsq[bin] += w * w;
+        }
     }
 
     /// A histogram of these per-bin sums Σw and Σw², with no replicates (every bin keeps the
@@ -638,5 +674,25 @@ mod tests {
             serde_json::from_str(r#"{"sum":[0,0,0,0,0,0,240,63],"sumsq":[0,0,0,0,0,0,0,0]}"#)
                 .unwrap();
         assert_eq!((ok.sum[0], ok.sumsq[0], ok.replicates), (1.0, 0.0, 0));
+    }
+
+    /// A ray that adds to a bin in several parts counts as one weight in Σ w² (the per-ray
+    /// interval's variance), the parts summed first; its sums and the replicate's are as if
+    /// added whole.
+    #[test]
+    fn parts_of_one_ray_count_as_one_weight() {
+        let mut h = Hist::new(4);
+        h.add_part(1, 0.5);
+        h.add_part(2, 0.25);
+        h.add_part(1, 0.25);
+        h.end_ray();
+        h.add_part(1, 0.125);
+        h.end_ray();
+        assert_eq!(h.sum[1], 0.5 + 0.25 + 0.125);
+        assert_eq!(h.sumsq[1], 0.75 * 0.75 + 0.125 * 0.125);
+        assert_eq!(h.sumsq[2], 0.25 * 0.25);
+        assert_eq!((h.sum[0], h.sumsq[0]), (0.0, 0.0));
+        h.close_replicate(2);
+        assert_eq!(h.replicate_sumsq[1], 0.875 * 0.875 / 2.0);
     }
 }

@@ -397,6 +397,7 @@ impl Prepared {
                 path.as_mut(),
                 watch.as_mut(),
             );
+            out.route_leak.end_ray();
             self.ledger.fill_totals(&mut contrib);
             tallies.add(&contrib);
             if let Some(d) = delivered.as_deref_mut() {

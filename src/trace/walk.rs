@@ -27,9 +27,10 @@ const ENTRY_SPLIT_LEAST: f64 = 1.0 / 64.0;
 /// A side wall's Fresnel reflection below the critical angle, of probability R, is drawn with
 /// probability q = min(1, `WALL_SPLIT_FACTOR`·R), the reflected ray carrying R/q of the weight
 /// and the other 1 − R/q leaving through the wall there ([`Walk::wall`]). Twice R halves the
-/// noise of the leak at that hit, for 4 % fewer rays a second since more reflected rays go on
-/// (measured on the benchmark route, 4 seeds × 3 rounds: the leakiest bend's precision per
-/// second 1.17 times higher, delivered's 0.98; three or eight times R gained no more).
+/// noise of the leak at that hit, for a few % fewer rays a second since more reflected rays go
+/// on: on the benchmark route the leakiest bend's precision per second about 1.2 times higher,
+/// delivered's unchanged (the README's performance section has the runs); three or eight times
+/// R gained no more.
 pub(super) const WALL_SPLIT_FACTOR: f64 = 2.0;
 
 /// The lightest ray a side wall's partial reflection is split for ([`Walk::wall`]); a lighter one
@@ -242,17 +243,21 @@ impl Prepared {
         }
     }
 
-    /// The probability q of reflecting a ray of weight `w` at a side wall whose Fresnel
-    /// reflectance below the critical angle is `r`: min(1, 2r), the reflected ray carrying r/q of
-    /// the weight ([`WALL_SPLIT_FACTOR`]); r itself, the whole ray going one way, for a ray
-    /// lighter than [`WALL_SPLIT_LEAST`].
+    /// The split of a side wall's Fresnel reflection below the critical angle, of reflectance
+    /// `r`, for a ray of weight `w`: the probability q that the ray is reflected, and the share of
+    /// its weight that then leaves there, 1 − r/q. q = min(1, 2r) ([`WALL_SPLIT_FACTOR`]); for a
+    /// ray lighter than [`WALL_SPLIT_LEAST`], q = r and nothing leaves (the whole ray goes one
+    /// way). Either way q (1 − share) = r: the weight reflected is the Fresnel one in
+    /// expectation. Where q = 1 the walk draws no number (the ray is certainly reflected).
     #[inline]
-    fn wall_reflection_odds(&self, w: f64, r: f64) -> f64 {
-        if w >= WALL_SPLIT_LEAST {
+    fn wall_split(&self, w: f64, r: f64) -> (f64, f64) {
+        let q = if w >= WALL_SPLIT_LEAST {
             (self.wall_split_factor * r).min(1.0)
         } else {
             r
-        }
+        };
+        let leaving = if q > r { 1.0 - r / q } else { 0.0 };
+        (q, leaving)
     }
 
     /// The bin of the leakage along the route ([`ROUTE_BINS`] over its length) of local point
@@ -447,8 +452,8 @@ impl Walk<'_> {
     /// else the whole ray leaves ([`WALL_SPLIT_FACTOR`]; a ray lighter than
     /// [`WALL_SPLIT_LEAST`] draws the event whole, q = R). Either way the weight reflected is R
     /// and the weight leaving 1 − R in expectation, so the tallies stay unbiased, and each ray's
-    /// parts still sum to its weight; the leak at the hit has R(1 − 2R)/2 of the variance of
-    /// a whole draw, R(1 − R).
+    /// parts still sum to its weight; for R < ½ the leak at the hit has R(1 − 2R)/2 of the
+    /// variance of a whole draw, R(1 − R), and for R ≥ ½ none (q = 1).
     #[inline]
     fn wall(&mut self, ray: &mut Ray, placed: &Placed, normal: DVec3) -> Step {
         let p = self.p;
@@ -474,11 +479,11 @@ impl Walk<'_> {
             return Step::Continue;
         }
         let r = fresnel_reflectance(cos_i, ix.n_core, n_out);
-        let q = p.wall_reflection_odds(ray.w, r);
-        if uniform(self.rng) < q {
-            if q > r {
+        let (q, leaving) = p.wall_split(ray.w, r);
+        if q >= 1.0 || uniform(self.rng) < q {
+            if leaving > 0.0 {
                 let bin = p.route_bin(placed, ray.o);
-                self.leave_part(ray, bin, zone, 1.0 - r / q);
+                self.leave_part(ray, bin, zone, leaving);
             }
             ray.d = reflect(ray.d, normal);
             return Step::Continue;
@@ -548,18 +553,18 @@ impl Walk<'_> {
                 if tir[f] {
                     continue;
                 }
-                let q = p.wall_reflection_odds(ray.w, r[f]);
-                let at = run.state(&hit);
+                let (q, leaving) = p.wall_split(ray.w, r[f]);
                 ray.unabsorbed_mm += hit.t - added_mm;
                 added_mm = hit.t;
-                if uniform(self.rng) < q {
-                    if q > r[f] {
+                if q >= 1.0 || uniform(self.rng) < q {
+                    if leaving > 0.0 {
                         // A part leaves from this hit; the ray goes on from the run's start.
-                        let bin = p.route_bin(placed, at.point);
-                        self.leave_part(ray, bin, None, 1.0 - r[f] / q);
+                        let bin = p.route_bin(placed, run.state(&hit).point);
+                        self.leave_part(ray, bin, None, leaving);
                     }
                     continue;
                 }
+                let at = run.state(&hit);
                 ray.o = at.point;
                 ray.d = at.d_in;
                 return Run::Left(self.leave_through_wall(ray, placed, at.normal, ix.n_out, None));
@@ -630,7 +635,7 @@ impl Walk<'_> {
     fn leave_part(&mut self, ray: &mut Ray, bin: usize, zone: Option<usize>, share: f64) {
         self.absorb(ray);
         let part = ray.w * share;
-        self.out.route_leak.add(bin, part);
+        self.out.route_leak.add_part(bin, part);
         let ledger = self.p.ledger;
         match zone {
             Some(z) => self.part_inside(ledger.contact(z), ledger.after_contact(), part),
@@ -655,7 +660,9 @@ impl Walk<'_> {
     ) -> Step {
         let p = self.p;
         self.absorb(ray);
-        self.out.route_leak.add(p.route_bin(placed, ray.o), ray.w);
+        self.out
+            .route_leak
+            .add_part(p.route_bin(placed, ray.o), ray.w);
         let (o, d) = (ray.o, ray.d);
         self.trail.push(|| {
             let outside = refract(d, -normal, p.indices.n_core, n_out).unwrap_or(d);
@@ -806,5 +813,52 @@ impl Walk<'_> {
             w,
         );
         out.far_field.add(crate::far_field::bin_of(od), w);
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::{WALL_SPLIT_FACTOR, WALL_SPLIT_LEAST};
+    use crate::scenario::Scenario;
+    use crate::trace::Prepared;
+
+    fn rod() -> Prepared {
+        let doc = r#"{"version": 1,
+            "guide": {"section": {"round": {"diameter_mm": 3.0}},
+                      "material": {"library": "pmma"}, "surroundings": {"library": "air"}},
+            "route": [{"straight": {"length_mm": 10.0}}],
+            "source": {"emitter": {"led": {"area": {"disk": {"diameter_mm": 1.0}},
+                       "pattern": "lambertian"}}, "wavelength_nm": 550, "gap_mm": 0.1}}"#;
+        Prepared::new(&Scenario::from_json(doc).unwrap()).unwrap()
+    }
+
+    /// The split is unbiased by construction: the probability q of reflecting times the share
+    /// the reflected ray keeps, 1 − leaving, is the Fresnel reflectance r, for every r and
+    /// weight; q = min(1, 2r) for a ray at least 1/16 heavy, else the whole draw (q = r, nothing
+    /// leaving); and the whole draw when asked for it.
+    #[test]
+    fn the_wall_split_keeps_the_fresnel_weight() {
+        let split = rod();
+        let whole = rod().drawing_wall_reflections_whole();
+        let rs = [
+            0.0, 1e-9, 0.003, 0.04, 0.2, 0.4999, 0.5, 0.61, 0.9, 0.999_999, 1.0,
+        ];
+        for r in rs {
+            for w in [1.0, 0.7, WALL_SPLIT_LEAST, 0.99 * WALL_SPLIT_LEAST, 1e-3] {
+                let (q, leaving) = split.wall_split(w, r);
+                assert!((r..=1.0).contains(&q), "r {r}, w {w}: q {q}");
+                assert!((0.0..1.0).contains(&leaving), "r {r}, w {w}: {leaving}");
+                assert!(
+                    (q * (1.0 - leaving) - r).abs() <= 2.0 * f64::EPSILON,
+                    "r {r}, w {w}"
+                );
+                if w >= WALL_SPLIT_LEAST {
+                    assert_eq!(q, (WALL_SPLIT_FACTOR * r).min(1.0), "r {r}, w {w}");
+                } else {
+                    assert_eq!((q, leaving), (r, 0.0), "r {r}, w {w}");
+                }
+                assert_eq!(whole.wall_split(w, r), (r, 0.0), "r {r}, w {w}");
+            }
+        }
     }
 }

@@ -187,10 +187,10 @@ impl Walk<'_> {
                     // Below the critical angle the reflection is split in two as at the route's
                     // walls (`Walk::wall`).
                     let r = fresnel_reflectance(cos_i, ix.n_core, ix.n_out);
-                    let q = p.wall_reflection_odds(ray.w, r);
-                    if uniform(self.rng) < q {
-                        if q > r {
-                            self.leave_part(ray, cap_side_bin(end), None, 1.0 - r / q);
+                    let (q, leaving) = p.wall_split(ray.w, r);
+                    if q >= 1.0 || uniform(self.rng) < q {
+                        if leaving > 0.0 {
+                            self.leave_part(ray, cap_side_bin(end), None, leaving);
                         }
                         d = reflect(d, normal);
                         continue;
@@ -251,7 +251,7 @@ impl Walk<'_> {
     ) -> Step {
         let p = self.p;
         self.absorb(ray);
-        self.out.route_leak.add(cap_side_bin(end), ray.w);
+        self.out.route_leak.add_part(cap_side_bin(end), ray.w);
         self.trail.push(|| {
             let outside = refract(d, -normal, p.indices.n_core, p.indices.n_out).unwrap_or(d);
             frame.point_to_global(o + 0.5 * outside)

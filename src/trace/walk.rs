@@ -248,7 +248,8 @@ impl Prepared {
     /// its weight that then leaves there, 1 − r/q. q = min(1, 2r) ([`WALL_SPLIT_FACTOR`]); for a
     /// ray lighter than [`WALL_SPLIT_LEAST`], q = r and nothing leaves (the whole ray goes one
     /// way). Either way q (1 − share) = r: the weight reflected is the Fresnel one in
-    /// expectation. Where q = 1 the walk draws no number (the ray is certainly reflected).
+    /// expectation. Where q = 1 the walk draws no number (the ray is certainly reflected;
+    /// [`Walk::reflected_at_wall`]).
     #[inline]
     fn wall_split(&self, w: f64, r: f64) -> (f64, f64) {
         let q = if w >= WALL_SPLIT_LEAST {
@@ -479,12 +480,8 @@ impl Walk<'_> {
             return Step::Continue;
         }
         let r = fresnel_reflectance(cos_i, ix.n_core, n_out);
-        let (q, leaving) = p.wall_split(ray.w, r);
-        if q >= 1.0 || uniform(self.rng) < q {
-            if leaving > 0.0 {
-                let bin = p.route_bin(placed, ray.o);
-                self.leave_part(ray, bin, zone, leaving);
-            }
+        let o = ray.o;
+        if self.reflected_at_wall(ray, r, zone, || p.route_bin(placed, o)) {
             ray.d = reflect(ray.d, normal);
             return Step::Continue;
         }
@@ -553,15 +550,11 @@ impl Walk<'_> {
                 if tir[f] {
                     continue;
                 }
-                let (q, leaving) = p.wall_split(ray.w, r[f]);
                 ray.unabsorbed_mm += hit.t - added_mm;
                 added_mm = hit.t;
-                if q >= 1.0 || uniform(self.rng) < q {
-                    if leaving > 0.0 {
-                        // A part leaves from this hit; the ray goes on from the run's start.
-                        let bin = p.route_bin(placed, run.state(&hit).point);
-                        self.leave_part(ray, bin, None, leaving);
-                    }
+                // A part that leaves, leaves from this hit; the ray goes on from the run's start.
+                let bin = || p.route_bin(placed, run.state(&hit).point);
+                if self.reflected_at_wall(ray, r[f], None, bin) {
                     continue;
                 }
                 let at = run.state(&hit);
@@ -626,6 +619,29 @@ impl Walk<'_> {
         self.out.route_coating.add(bin.min(ROUTE_BINS - 1), ray.w);
         self.end_inside(ledger.coating(k), ledger.after_coating(), ray.w);
         Step::End(Fate::Coating, 0.0)
+    }
+
+    /// A side wall's Fresnel reflection below the critical angle, of reflectance `r`, split in two
+    /// ([`Prepared::wall_split`]): true when the ray is reflected, a part of its weight having
+    /// left (lost into contact zone `zone`, else leaked; in bin `bin()` of the leakage along the
+    /// route), false when the whole ray leaves. No number is drawn where the reflection is
+    /// certain (q = 1). Every side wall's event goes through here.
+    #[inline]
+    fn reflected_at_wall(
+        &mut self,
+        ray: &mut Ray,
+        r: f64,
+        zone: Option<usize>,
+        bin: impl FnOnce() -> usize,
+    ) -> bool {
+        let (q, leaving) = self.p.wall_split(ray.w, r);
+        if q < 1.0 && uniform(self.rng) >= q {
+            return false;
+        }
+        if leaving > 0.0 {
+            self.leave_part(ray, bin(), zone, leaving);
+        }
+        true
     }
 
     /// A part `share` (0 < share < 1) of the ray's weight, its path so far attenuated, leaves

@@ -187,11 +187,7 @@ impl Walk<'_> {
                     // Below the critical angle the reflection is split in two as at the route's
                     // walls (`Walk::wall`).
                     let r = fresnel_reflectance(cos_i, ix.n_core, ix.n_out);
-                    let (q, leaving) = p.wall_split(ray.w, r);
-                    if q >= 1.0 || uniform(self.rng) < q {
-                        if leaving > 0.0 {
-                            self.leave_part(ray, cap_side_bin(end), None, leaving);
-                        }
+                    if self.reflected_at_wall(ray, r, None, || cap_side_bin(end)) {
                         d = reflect(d, normal);
                         continue;
                     }

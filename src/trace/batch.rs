@@ -45,9 +45,13 @@ pub struct Hist {
     /// The open replicate's sums per group, while it is being closed (only while traced).
     #[serde(skip)]
     group_open: Vec<f64>,
-    /// The current ray's parts (bin, weight) not yet in Σ w² ([`Hist::add_part`]).
+    /// The current ray's sum per bin of the parts not yet in Σ w² ([`Hist::add_part`]; made
+    /// on the first part, as few histograms take parts).
     #[serde(skip)]
-    ray_parts: Vec<(usize, f64)>,
+    ray_open: Vec<f64>,
+    /// The bins the current ray has parts in.
+    #[serde(skip)]
+    ray_bins: Vec<usize>,
 }
 
 /// A bin that belongs to no group of its histogram.
@@ -134,7 +138,8 @@ impl Hist {
             group_replicate_sumsq: Vec::new(),
             group_of: Vec::new(),
             group_open: Vec::new(),
-            ray_parts: Vec::new(),
+            ray_open: Vec::new(),
+            ray_bins: Vec::new(),
         }
     }
 
@@ -173,23 +178,24 @@ impl Hist {
             self.touched.push(bin);
         }
         self.open[bin] += w;
-        self.ray_parts.push((bin, w));
+        if self.ray_open.is_empty() {
+            self.ray_open = vec![0.0; self.sum.len()];
+        }
+        // Parts are positive, so a bin at zero has none of this ray's yet.
+        if self.ray_open[bin] == 0.0 {
+            self.ray_bins.push(bin);
+        }
+        self.ray_open[bin] += w;
     }
 
     /// The current ray is done: each bin it added parts to takes the square of their sum in
-    /// Σ w² (a single part: its square, as [`Hist::add`] takes it).
+    /// Σ w² (a single part: its square, as [`Hist::add`] takes it). In time linear in the
+    /// number of bins the ray touched, however many parts it left (a ray in a painted zone
+    /// leaves one at each bounce).
     #[inline]
     pub(super) fn end_ray(&mut self) {
-        while let Some((bin, mut w)) = self.ray_parts.pop() {
-            // A ray leaves in a few parts at most: gather the others in the same bin.
-            let mut k = 0;
-            while k < self.ray_parts.len() {
-                if self.ray_parts[k].0 == bin {
-                    w += self.ray_parts.swap_remove(k).1;
-                } else {
-                    k += 1;
-                }
-            }
+        for bin in self.ray_bins.drain(..) {
+            let w = std::mem::take(&mut self.ray_open[bin]);
             self.sumsq[bin] += w * w;
         }
     }

@@ -167,9 +167,9 @@ pub struct Prepared {
     /// ([`crate::geometry::StraightRun`]): an untapered straight with no contact zone, no
     /// coating and (segment 0) no entry pocket, whose every hit is then alike.
     closed_form_run: Vec<bool>,
-    /// A side wall's Fresnel reflection of probability R below the critical angle is drawn with
-    /// probability min(1, this × R), carrying R/q of the weight ([`walk::WALL_SPLIT_FACTOR`];
-    /// 1: the whole ray goes one way).
+    /// A side wall's Fresnel reflection of probability R below the critical angle, and a coated
+    /// zone's of probability ρ, is drawn with probability q = min(1, this × R), carrying R/q of
+    /// the weight ([`walk::WALL_SPLIT_FACTOR`]; 1: the whole ray goes one way).
     wall_split_factor: f64,
     entry_half: (f64, f64),
     entry_round: bool,
@@ -299,9 +299,10 @@ impl Prepared {
     }
 
     /// The same scenario with every side wall's Fresnel reflection below the critical angle
-    /// drawn whole (the ray reflected with probability R, else leaving), not split in two: kept
-    /// for the tests that compare the two (same answers within the intervals, the split's
-    /// narrower).
+    /// drawn whole (the ray reflected with probability R, else leaving), and every coated
+    /// zone's reflection too (sent back with probability ρ, else absorbed), not split in two:
+    /// kept for the tests that compare the two (same answers within the intervals, the
+    /// split's narrower).
     #[doc(hidden)]
     pub fn drawing_wall_reflections_whole(mut self) -> Prepared {
         self.wall_split_factor = 1.0;
@@ -398,6 +399,7 @@ impl Prepared {
                 watch.as_mut(),
             );
             out.route_leak.end_ray();
+            out.route_coating.end_ray();
             self.ledger.fill_totals(&mut contrib);
             tallies.add(&contrib);
             if let Some(d) = delivered.as_deref_mut() {

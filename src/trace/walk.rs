@@ -589,8 +589,13 @@ impl Walk<'_> {
     /// A side wall with outward unit normal `normal` (local) inside coated zone `k`
     /// ([`super::zones`]): the path so far is attenuated, the weight on the ray's first arrival
     /// at the zone is tallied, then the coating sends the ray back (white paint: a Lambertian
-    /// direction about the inward normal; metal: the mirror direction) with probability ρ or R,
-    /// else absorbs it, tallied to the zone.
+    /// direction about the inward normal; metal: the mirror direction), its reflectance ρ or R
+    /// split as a side wall's Fresnel reflection is ([`Prepared::wall_split`]): sent back with
+    /// probability q = min(1, 2ρ) carrying ρ/q of the weight, the other 1 − ρ/q absorbed by
+    /// the coating there; else the coating absorbs the whole ray. Both tallied to the zone. A
+    /// paint or metal of ρ ≥ ½ thus always sends the ray back, lighter, and its absorption
+    /// carries no noise of its own (until the ray is lighter than [`WALL_SPLIT_LEAST`], when it
+    /// draws whole, which bounds the bounces in a zone).
     fn coated_wall(&mut self, ray: &mut Ray, placed: &Placed, normal: DVec3, k: usize) -> Step {
         self.absorb(ray);
         let ledger = self.p.ledger;
@@ -600,9 +605,18 @@ impl Walk<'_> {
             self.contrib[reached] = ray.w;
         }
         let kind = self.p.coatings[k].kind;
-        let r = kind.reflectance();
-        let sent_back = r >= 1.0 || (r > 0.0 && uniform(self.rng) < r);
+        let (q, absorbed_share) = self.p.wall_split(ray.w, kind.reflectance());
+        // No number is drawn where the outcome is certain (black: q = 0; ρ ≥ ½: q = 1).
+        let sent_back = q >= 1.0 || (q > 0.0 && uniform(self.rng) < q);
         if sent_back {
+            if absorbed_share > 0.0 {
+                let part = ray.w * absorbed_share;
+                let bin = self.p.route_bin(placed, ray.o);
+                self.out.route_coating.add_part(bin, part);
+                self.part_inside(ledger.coating(k), ledger.after_coating(), part);
+                // What the coating took and what goes on sum to the weight the ray had.
+                ray.w -= part;
+            }
             ray.d = match kind {
                 CoatingKind::WhitePaint { .. } => {
                     let (u1, u2) = (uniform(self.rng), uniform(self.rng));
@@ -613,10 +627,8 @@ impl Walk<'_> {
             return Step::Continue;
         }
         // Where along the route the coating took it, binned as the leakage is.
-        let p = self.p;
-        let s = placed.s_start_mm + placed.along_mm(ray.o);
-        let bin = ((s / p.route.length_mm) * ROUTE_BINS as f64) as usize;
-        self.out.route_coating.add(bin.min(ROUTE_BINS - 1), ray.w);
+        let bin = self.p.route_bin(placed, ray.o);
+        self.out.route_coating.add_part(bin, ray.w);
         self.end_inside(ledger.coating(k), ledger.after_coating(), ray.w);
         Step::End(Fate::Coating, 0.0)
     }

@@ -75,3 +75,99 @@ fn all_kept_paths_together_stay_under_their_total() {
     let few = thin_fibre(2000.0, 3);
     assert_eq!(few.trace_batch(0, 4096), few.trace_batch(0, 3));
 }
+
+/// A 3 mm acrylic rod bent tightly (5 mm radius, where much light meets the outer wall below
+/// the critical angle), white paint on the bend's back, then a straight.
+fn painted_bend() -> Prepared {
+    let doc = json!({
+        "version": 1,
+        "guide": {"section": {"round": {"diameter_mm": 3.0}}, "material": {"library": "pmma"},
+                  "surroundings": {"library": "air"},
+                  "coatings": [{"name": "paint", "kind": {"white_paint": {"reflectance": 0.9}},
+                                "segment": 1, "from_mm": 4.0, "to_mm": 7.8,
+                                "sector_from_deg": 150, "sector_to_deg": 210}]},
+        "route": [{"straight": {"length_mm": 3.0}},
+                  {"bend": {"radius_mm": 5.0, "angle_deg": 90, "turn_deg": 0}},
+                  {"straight": {"length_mm": 6.0}}],
+        "source": {"emitter": {"led": {"area": {"square": {"side_mm": 1.0}}, "pattern": "lambertian"}},
+                   "wavelength_nm": 590, "gap_mm": 0.2},
+        "trace": {"rays": 4096, "seed": 3}
+    });
+    Prepared::new(&Scenario::from_json(&doc.to_string()).unwrap()).unwrap()
+}
+
+/// A kept path says where parts of its weight left while the ray went on (a wall's Fresnel
+/// reflection below the critical angle, or a coating's, splits the weight): at one of its wall
+/// hits, before its end, each part lighter than what the ray had. Drawn whole, no ray parts.
+#[test]
+fn a_kept_path_says_where_parts_of_its_weight_left() {
+    let p = painted_bend();
+    let batch = p.trace_batch(0, 400);
+    let mut fates = Vec::new();
+    for path in &batch.paths {
+        let mut left = 0.0;
+        let mut last_vertex = 0;
+        for part in &path.parts_left {
+            let v = part.vertex as usize;
+            // Not the emitter, not the entry point, not the path's last point.
+            assert!(
+                v >= 2 && v + 1 < path.points.len(),
+                "{v} of {}",
+                path.points.len()
+            );
+            assert!(
+                v >= last_vertex,
+                "parts out of order: {:?}",
+                path.parts_left
+            );
+            last_vertex = v;
+            assert!(
+                part.weight > 0.0 && part.weight < 1.0 - left,
+                "{part:?} after {left}"
+            );
+            left += part.weight;
+            // On the wall of the route.
+            let on_wall = p.route.segments.iter().any(|placed| {
+                let local = placed
+                    .frame
+                    .point_to_local(glam::DVec3::from(path.points[v]));
+                placed.outside_mm(local).abs() < 1e-6
+            });
+            assert!(on_wall, "{:?} is not on the wall", path.points[v]);
+            if part.fate == Fate::Leaked {
+                // A part leaks only where the ray meets the wall below the critical angle: the
+                // wall's normal bisects the turn from the incoming to the outgoing leg.
+                let at = |k: usize| glam::DVec3::from(path.points[k]);
+                let d_in = (at(v) - at(v - 1)).normalize();
+                let d_out = (at(v + 1) - at(v)).normalize();
+                let normal = (d_in - d_out).normalize();
+                let cos_i = d_in.dot(normal);
+                let sin_critical = p.indices.n_out / p.indices.n_core;
+                let sin2_critical = sin_critical * sin_critical;
+                assert!(
+                    1.0 - cos_i * cos_i < sin2_critical + 1e-9,
+                    "a part leaked at vertex {v}, met at sin²θ = {} above the critical {}",
+                    1.0 - cos_i * cos_i,
+                    sin2_critical
+                );
+            }
+            fates.push((path.fate, part.fate));
+        }
+    }
+    // Delivered rays that left a part through the side on their way, and parts the paint took.
+    assert!(
+        fates.contains(&(Fate::Delivered, Fate::Leaked)),
+        "{fates:?}"
+    );
+    assert!(
+        fates.iter().any(|&(_, part)| part == Fate::Coating),
+        "{fates:?}"
+    );
+    assert!(fates
+        .iter()
+        .all(|&(_, part)| part == Fate::Leaked || part == Fate::Coating));
+    let whole = painted_bend()
+        .drawing_wall_reflections_whole()
+        .trace_batch(0, 400);
+    assert!(whole.paths.iter().all(|path| path.parts_left.is_empty()));
+}

@@ -136,6 +136,22 @@ pub struct Path {
     pub points: Vec<[f64; 3]>,
     /// Whether the path was cut short: the ray went on (to its fate) past the last point kept.
     pub cut_short: bool,
+    /// Where parts of the ray's weight left while the ray went on to its fate (a side wall's
+    /// Fresnel reflection below the critical angle, or a coating's, splits the weight;
+    /// docs/REFERENCES.md §14), in vertex order; left out of the JSON when there are none.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub parts_left: Vec<PartLeft>,
+}
+
+/// A part of a kept path's weight that left while the ray went on.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+pub struct PartLeft {
+    /// The vertex it left at (an index into the path's points).
+    pub vertex: u32,
+    /// What became of it: leaked, lost into a mount, or absorbed by a coating.
+    pub fate: Fate,
+    /// Its weight, as a share of the ray's weight at launch.
+    pub weight: f64,
 }
 
 /// The most vertices each of `kept` kept paths holds: [`PATH_POINTS`], and together no more
@@ -430,6 +446,7 @@ impl Prepared {
                     fate,
                     points: kept.points,
                     cut_short: kept.cut_short,
+                    parts_left: kept.parts_left,
                 });
             }
         }

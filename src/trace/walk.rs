@@ -9,7 +9,7 @@ use super::sequence::RayDraws;
 use glam::DVec3;
 
 use super::{
-    receiver_map, Batch, Fate, Prepared, ANGLE_BINS, ANGULAR_CELLS, MAP_CELLS, ROUTE_BINS,
+    receiver_map, Batch, Fate, PartLeft, Prepared, ANGLE_BINS, ANGULAR_CELLS, MAP_CELLS, ROUTE_BINS,
 };
 use crate::absorption::absorbed_and_kept;
 use crate::geometry::{Next, Placed, Shape, StraightRun};
@@ -54,6 +54,8 @@ pub(super) struct KeptPath {
     pub max_points: usize,
     /// Whether a vertex was left out.
     pub cut_short: bool,
+    /// The parts of the ray's weight that left while the ray went on, at kept vertices.
+    pub parts_left: Vec<PartLeft>,
 }
 
 impl KeptPath {
@@ -63,6 +65,7 @@ impl KeptPath {
             points: Vec::with_capacity(16.min(max_points)),
             max_points,
             cut_short: false,
+            parts_left: Vec::new(),
         }
     }
 }
@@ -79,6 +82,22 @@ impl Trail<'_> {
                 kept.points.push(point().to_array());
             } else {
                 kept.cut_short = true;
+            }
+        }
+    }
+
+    /// A part of weight `weight` (of the ray's launch weight 1) left for `fate` at the vertex
+    /// pushed last (where every part leaves: the wall hit just pushed); not kept once the
+    /// path is full.
+    #[inline]
+    fn part_left(&mut self, fate: Fate, weight: f64) {
+        if let Some(kept) = self.0.as_deref_mut() {
+            if !kept.cut_short && !kept.points.is_empty() {
+                kept.parts_left.push(PartLeft {
+                    vertex: (kept.points.len() - 1) as u32,
+                    fate,
+                    weight,
+                });
             }
         }
     }
@@ -613,6 +632,7 @@ impl Walk<'_> {
                 let part = ray.w * absorbed_share;
                 let bin = self.p.route_bin(placed, ray.o);
                 self.out.route_coating.add_part(bin, part);
+                self.trail.part_left(Fate::Coating, part);
                 self.part_inside(ledger.coating(k), ledger.after_coating(), part);
                 // What the coating took and what goes on sum to the weight the ray had.
                 ray.w -= part;
@@ -664,6 +684,12 @@ impl Walk<'_> {
         self.absorb(ray);
         let part = ray.w * share;
         self.out.route_leak.add_part(bin, part);
+        let fate = if zone.is_some() {
+            Fate::Contact
+        } else {
+            Fate::Leaked
+        };
+        self.trail.part_left(fate, part);
         let ledger = self.p.ledger;
         match zone {
             Some(z) => self.part_inside(ledger.contact(z), ledger.after_contact(), part),

@@ -1,7 +1,7 @@
 // The coatings on the design page, in Debian's Chromium (playwright-core): the coated-bend
 // example opens with its coating in the form's “Coatings” part, its trace equals the command
 // line's (delivered and the coatings' share), the budget lists the coating under the coatings'
-// share, the 3D view draws it, a coating added with the form and given a bad reflectance is named
+// share, the 3D view draws it (and marks where drawn rays left part of their light), a coating added with the form and given a bad reflectance is named
 // by its label with the allowed end; screenshots at 1280×800 and 820×1180 in tests/e2e/out/.
 //
 // Before: cargo build; bash scripts/build.sh; npm ci --prefix tests/e2e.
@@ -49,9 +49,15 @@ for (const viewport of [{ width: 1280, height: 800 }, { width: 820, height: 1180
       assert.ok(Math.abs(shown - 100 * theirs.coatings[0].lost.share) < 0.1, `${shown} % shown`);
       // The 3D view draws the coating: the outline the view holds has it, and the view has ink.
       assert.ok((await inkShare(page, 'route-view')) > 0.01);
+      // Drawn rays that left part of their light at the bend (below the critical angle, or to the
+      // metal) on their way are marked, and the legend says how many.
+      const legend = await page.locator('#route-legend').innerText();
+      const parted = Number(legend.match(/(\d+) left part of their light on the way/)?.[1]);
+      assert.ok(parted > 0, legend);
       await assertNoJunk(page, 'coated example');
       await page.locator('#route-view').scrollIntoViewIfNeeded();
       await page.locator('#route-view').screenshot({ path: join(OUT, `coatings-view-${size}.png`) });
+      await page.locator('#route-legend').screenshot({ path: join(OUT, `coatings-legend-${size}.png`) });
       await page.locator('#part-coatings').screenshot({ path: join(OUT, `coatings-form-${size}.png`) });
       await page.locator('#budget-rows').screenshot({ path: join(OUT, `coatings-budget-${size}.png`) });
     });

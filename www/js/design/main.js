@@ -294,6 +294,16 @@ function drawLegend(report) {
   // Kept paths hold at most so many points each (limits::PATH_POINTS in the core): say when a
   // drawn ray stops short of its end.
   const paths = report.paths || [];
+  const parted = paths.filter((p) => p.parts_left?.length).length;
+  if (parted) {
+    const dot = document.createElement('span');
+    dot.className = 'dot-swatch';
+    dot.style.background = FATES.leaked.colour;
+    dot.setAttribute('aria-hidden', 'true');
+    const key = h('span', { class: 'key parts-key' });
+    key.append(dot, `${parted} left part of their light on the way (dots: where, coloured by what became of it)`);
+    items.push(key);
+  }
   const cut = paths.filter((p) => p.cut_short);
   if (cut.length) {
     const points = Math.max(...cut.map((p) => p.points.length));

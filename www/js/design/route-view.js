@@ -679,6 +679,22 @@ export class RouteView {
       });
       g.stroke();
     }
+    // Where part of a drawn ray's light left while the rest went on (a wall below the critical
+    // angle, or a coating, splits the light): a dot in the colour of what became of that part,
+    // larger for a larger part. The line keeps the colour of where the rest went.
+    g.globalAlpha = 0.85;
+    for (const path of paths) {
+      if (path.hidden || !path.parts_left) continue;
+      for (const part of path.parts_left) {
+        const p = path.points[part.vertex];
+        if (!p) continue;
+        const [sx, sy] = this.toScreen(p);
+        g.fillStyle = (FATE_STYLE[part.fate] || FATE_STYLE.leaked).colour;
+        g.beginPath();
+        g.arc(sx, sy, 1.5 + 2 * Math.sqrt(Math.min(1, Math.max(0, part.weight))), 0, 2 * Math.PI);
+        g.fill();
+      }
+    }
     g.globalAlpha = 1;
   }
 }

@@ -38,6 +38,16 @@ pub(super) const WALL_SPLIT_FACTOR: f64 = 2.0;
 /// weight behind (after four splits where R < ½, each halving it).
 const WALL_SPLIT_LEAST: f64 = 1.0 / 16.0;
 
+/// The lightest ray a coated zone's reflection is split for ([`Walk::coated_wall`]); a lighter
+/// one draws it whole. Higher than a side wall's [`WALL_SPLIT_LEAST`]: a paint or metal of
+/// ρ ≥ ½ sends every ray above it back, so a ray bouncing in a large painted zone would bounce
+/// on until lighter than it, where drawn whole it would have been absorbed sooner. Measured
+/// against the whole draw, eight runs over four seeds (README, performance): in a 20 mm rod
+/// painted all round (ρ = 0.95), delivered's precision per second 1.07× and the paint's 1.24×
+/// with ½, against 0.99× and 0.96× with 1/16 (0.42× the rays per second); on a bend with
+/// metal or white paint on its back, no worse than with 1/16 (delivered 1.31–1.50×).
+const COATING_SPLIT_LEAST: f64 = 0.5;
+
 /// The ray's next event's uniform number in [0, 1) ([`RayDraws::uniform`]).
 #[inline]
 fn uniform(rng: &mut RayDraws) -> f64 {
@@ -271,7 +281,21 @@ impl Prepared {
     /// [`Walk::reflected_at_wall`]).
     #[inline]
     fn wall_split(&self, w: f64, r: f64) -> (f64, f64) {
-        let q = if w >= WALL_SPLIT_LEAST {
+        self.split(w, r, WALL_SPLIT_LEAST)
+    }
+
+    /// The split of a coated zone's reflection of reflectance `r` for a ray of weight `w`, as
+    /// [`Prepared::wall_split`]'s but drawn whole below [`COATING_SPLIT_LEAST`].
+    #[inline]
+    fn coating_split(&self, w: f64, r: f64) -> (f64, f64) {
+        self.split(w, r, COATING_SPLIT_LEAST)
+    }
+
+    /// q = min(1, factor·r) and the share 1 − r/q for a ray of weight `w` at least `least`,
+    /// else (r, 0).
+    #[inline]
+    fn split(&self, w: f64, r: f64, least: f64) -> (f64, f64) {
+        let q = if w >= least {
             (self.wall_split_factor * r).min(1.0)
         } else {
             r
@@ -599,7 +623,11 @@ impl Walk<'_> {
         let o = ray.o;
         self.trail.push(|| placed.frame.point_to_global(o));
         self.absorb(ray);
-        self.contrib[self.p.ledger.absorbed(ray.seg)] += ray.w * (1.0 - r);
+        let part = ray.w * (1.0 - r);
+        self.contrib[self.p.ledger.absorbed(ray.seg)] += part;
+        if part > 0.0 {
+            self.trail.part_left(Fate::Coating, part);
+        }
         ray.w *= r;
         ray.d = reflect(ray.d, normal);
         Step::Continue
@@ -613,8 +641,8 @@ impl Walk<'_> {
     /// probability q = min(1, 2ρ) carrying ρ/q of the weight, the other 1 − ρ/q absorbed by
     /// the coating there; else the coating absorbs the whole ray. Both tallied to the zone. A
     /// paint or metal of ρ ≥ ½ thus always sends the ray back, lighter, and its absorption
-    /// carries no noise of its own (until the ray is lighter than [`WALL_SPLIT_LEAST`], when it
-    /// draws whole, which bounds the bounces in a zone).
+    /// carries no noise of its own, until the ray is lighter than [`COATING_SPLIT_LEAST`], when
+    /// it draws whole, which bounds the bounces in a zone.
     fn coated_wall(&mut self, ray: &mut Ray, placed: &Placed, normal: DVec3, k: usize) -> Step {
         self.absorb(ray);
         let ledger = self.p.ledger;
@@ -624,7 +652,7 @@ impl Walk<'_> {
             self.contrib[reached] = ray.w;
         }
         let kind = self.p.coatings[k].kind;
-        let (q, absorbed_share) = self.p.wall_split(ray.w, kind.reflectance());
+        let (q, absorbed_share) = self.p.coating_split(ray.w, kind.reflectance());
         // No number is drawn where the outcome is certain (black: q = 0; ρ ≥ ½: q = 1).
         let sent_back = q >= 1.0 || (q > 0.0 && uniform(self.rng) < q);
         if sent_back {

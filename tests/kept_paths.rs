@@ -109,7 +109,8 @@ fn a_kept_path_says_where_parts_of_its_weight_left() {
         let mut last_vertex = 0;
         for part in &path.parts_left {
             let v = part.vertex as usize;
-            // Not the emitter, not the entry point, not the path's last point.
+            // Not the emitter, not the entry point, not past the path's last point (each part
+            // here leaves at a wall hit the ray goes on from, well within the 625 points kept).
             assert!(
                 v >= 2 && v + 1 < path.points.len(),
                 "{v} of {}",

@@ -534,6 +534,7 @@ fn traces_in_closed_form_agree_with_stepping_every_hit() {
 #[test]
 fn kept_paths_have_every_hit() {
     // The drawn paths keep a vertex per wall hit, as stepping does, at the same points.
+    let mut parts = 0;
     for (name, _, s) in scenarios().into_iter().filter(|c| !c.1) {
         let closed = Prepared::new(&s).unwrap();
         let stepped = closed.clone().stepping_every_hit();
@@ -544,6 +545,16 @@ fn kept_paths_have_every_hit() {
             assert_eq!(pa.fate, pb.fate, "{name}");
             assert_eq!(pa.points.len(), pb.points.len(), "{name}");
             assert_eq!(pa.cut_short, pb.cut_short, "{name}");
+            // Parts of the light that left on the way: at the same hits, of the same weight.
+            assert_eq!(pa.parts_left.len(), pb.parts_left.len(), "{name}");
+            for (u, v) in pa.parts_left.iter().zip(&pb.parts_left) {
+                assert_eq!((u.vertex, u.fate), (v.vertex, v.fate), "{name}");
+                assert!(
+                    (u.weight - v.weight).abs() < 1e-9,
+                    "{name}: {u:?} against {v:?}"
+                );
+            }
+            parts += pa.parts_left.len();
             longest = longest.max(pa.points.len());
             for (u, v) in pa.points.iter().zip(&pb.points) {
                 let gap = DVec3::from_array(*u).distance(DVec3::from_array(*v));
@@ -554,4 +565,6 @@ fn kept_paths_have_every_hit() {
         // stopped first): paths are long.
         assert!(longest > 12, "{name}: longest kept path {longest} vertices");
     }
+    // Some drawn rays left part of their light in a straight (met below the critical angle).
+    assert!(parts > 0, "no parts left");
 }

@@ -138,7 +138,9 @@ pub struct Path {
     pub cut_short: bool,
     /// Where parts of the ray's weight left while the ray went on to its fate (a side wall's
     /// Fresnel reflection below the critical angle, or a coating's, splits the weight;
-    /// docs/REFERENCES.md §14), in vertex order; left out of the JSON when there are none.
+    /// docs/REFERENCES.md §14; a corner's mirror keeps R of it), in vertex order; left out of
+    /// the JSON when there are none. The flat entry face's reflected share is not listed:
+    /// nearly every ray has one, at its entry point.
     #[serde(default, skip_serializing_if = "Vec::is_empty")]
     pub parts_left: Vec<PartLeft>,
 }

@@ -296,9 +296,13 @@ function drawLegend(report) {
   const paths = report.paths || [];
   const parted = paths.filter((p) => p.parts_left?.length).length;
   if (parted) {
+    // The key's dot takes the colour of the most frequent kind of part drawn.
+    const kinds = {};
+    for (const p of paths) for (const part of p.parts_left || []) kinds[part.fate] = (kinds[part.fate] || 0) + 1;
+    const most = Object.keys(kinds).sort((a, b) => kinds[b] - kinds[a])[0];
     const dot = document.createElement('span');
     dot.className = 'dot-swatch';
-    dot.style.background = FATES.leaked.colour;
+    dot.style.background = (FATES[most] || FATES.leaked).colour;
     dot.setAttribute('aria-hidden', 'true');
     const key = h('span', { class: 'key parts-key' });
     key.append(dot, `${parted} left part of their light on the way (dots: where, coloured by what became of it)`);

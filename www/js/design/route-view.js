@@ -357,6 +357,7 @@ export class RouteView {
     this.drawRays(g);
     this.drawHeat(g);
     this.drawFaces(g);
+    this.drawCoatingLabels(g);
     this.drawScale(g, w, hgt);
   }
 
@@ -619,6 +620,8 @@ export class RouteView {
   drawCoatings(g) {
     const zones = this.outline?.coatings;
     this.canvas.dataset.coatingsDrawn = String(new Set((zones || []).map((z) => z.index)).size);
+    const labels = [];
+    this.coatingLabels = labels;
     if (!zones?.length) return;
     g.lineJoin = 'round';
     const named = new Set();
@@ -654,10 +657,22 @@ export class RouteView {
       named.add(zone.index);
       const mid = rings[Math.floor(rings.length / 2)];
       const [lx, ly] = mid[Math.floor(mid.length / 2)];
+      labels.push([style.label, lx + 8, ly]);
+    }
+    this.coatingLabels = labels;
+  }
+
+  /** The coated zones' names, drawn over the rays (on a white halo) so that they stay readable. */
+  drawCoatingLabels(g) {
+    g.font = '12px system-ui, sans-serif';
+    g.textBaseline = 'middle';
+    g.lineJoin = 'round';
+    for (const [text, x, y] of this.coatingLabels || []) {
+      g.strokeStyle = 'rgba(255, 255, 255, 0.9)';
+      g.lineWidth = 3;
+      g.strokeText(text, x, y);
       g.fillStyle = '#212529';
-      g.font = '12px system-ui, sans-serif';
-      g.textBaseline = 'middle';
-      g.fillText(style.label, lx + 8, ly);
+      g.fillText(text, x, y);
     }
   }
 

@@ -42,7 +42,7 @@ const WALL_SPLIT_LEAST: f64 = 1.0 / 16.0;
 /// one draws it whole. Higher than a side wall's [`WALL_SPLIT_LEAST`]: a paint or metal of
 /// ρ ≥ ½ sends every ray above it back, so a ray bouncing in a large painted zone would bounce
 /// on until lighter than it, where drawn whole it would have been absorbed sooner. Measured
-/// against the whole draw, eight runs over four seeds (README, performance): in a 20 mm rod
+/// against the whole draw, the command line on one thread, four seeds: in a 20 mm rod
 /// painted all round (ρ = 0.95), delivered's precision per second 1.07× and the paint's 1.24×
 /// with ½, against 0.99× and 0.96× with 1/16 (0.42× the rays per second); on a bend with
 /// metal or white paint on its back, no worse than with 1/16 (delivered 1.31–1.50×).

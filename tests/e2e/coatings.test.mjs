@@ -54,6 +54,9 @@ for (const viewport of [{ width: 1280, height: 800 }, { width: 820, height: 1180
       const legend = await page.locator('#route-legend').innerText();
       const parted = Number(legend.match(/(\d+) left part of their light on the way/)?.[1]);
       assert.ok(parted > 0, legend);
+      // Each part is drawn as a dot, at least one for each ray the legend counts.
+      const dots = Number(await page.locator('#route-view').getAttribute('data-parts-drawn'));
+      assert.ok(dots >= parted, `${dots} dots for ${parted} rays`);
       await assertNoJunk(page, 'coated example');
       await page.locator('#route-view').scrollIntoViewIfNeeded();
       await page.locator('#route-view').screenshot({ path: join(OUT, `coatings-view-${size}.png`) });

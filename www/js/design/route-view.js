@@ -678,6 +678,7 @@ export class RouteView {
 
   drawRays(g) {
     const paths = this.report?.paths;
+    this.canvas.dataset.partsDrawn = '0';
     if (!paths?.length) return;
     g.lineWidth = 0.9;
     g.globalAlpha = 0.5;
@@ -698,11 +699,13 @@ export class RouteView {
     // angle, or a coating, splits the light): a dot in the colour of what became of that part,
     // larger for a larger part. The line keeps the colour of where the rest went.
     g.globalAlpha = 0.85;
+    let dots = 0;
     for (const path of paths) {
       if (path.hidden || !path.parts_left) continue;
       for (const part of path.parts_left) {
         const p = path.points[part.vertex];
         if (!p) continue;
+        dots += 1;
         const [sx, sy] = this.toScreen(p);
         g.fillStyle = (FATE_STYLE[part.fate] || FATE_STYLE.leaked).colour;
         g.beginPath();
@@ -710,6 +713,7 @@ export class RouteView {
         g.fill();
       }
     }
+    this.canvas.dataset.partsDrawn = String(dots);
     g.globalAlpha = 1;
   }
 }

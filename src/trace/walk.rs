@@ -127,6 +127,17 @@ struct Ray {
     unabsorbed_mm: f64,
 }
 
+/// Where a part of a ray's weight goes at a side wall ([`Walk::leave_part`]).
+#[derive(Clone, Copy)]
+enum PartTo {
+    /// Out through the wall, leaked from the ray's segment.
+    Leaked,
+    /// Into contact zone k.
+    Contact(usize),
+    /// Absorbed by coated zone k.
+    Coating(usize),
+}
+
 /// What follows an event.
 enum Step {
     /// The ray goes on.
@@ -653,17 +664,11 @@ impl Walk<'_> {
         }
         let kind = self.p.coatings[k].kind;
         let (q, absorbed_share) = self.p.coating_split(ray.w, kind.reflectance());
-        // No number is drawn where the outcome is certain (black: q = 0; ρ ≥ ½: q = 1).
-        let sent_back = q >= 1.0 || (q > 0.0 && uniform(self.rng) < q);
-        if sent_back {
+        // Black (q = 0) and ρ ≥ ½ (q = 1) draw no number.
+        if self.chance(q) {
             if absorbed_share > 0.0 {
-                let part = ray.w * absorbed_share;
                 let bin = self.p.route_bin(placed, ray.o);
-                self.out.route_coating.add_part(bin, part);
-                self.trail.part_left(Fate::Coating, part);
-                self.part_inside(ledger.coating(k), ledger.after_coating(), part);
-                // What the coating took and what goes on sum to the weight the ray had.
-                ray.w -= part;
+                self.leave_part(ray, bin, PartTo::Coating(k), absorbed_share);
             }
             ray.d = match kind {
                 CoatingKind::WhitePaint { .. } => {
@@ -684,8 +689,8 @@ impl Walk<'_> {
     /// A side wall's Fresnel reflection below the critical angle, of reflectance `r`, split in two
     /// ([`Prepared::wall_split`]): true when the ray is reflected, a part of its weight having
     /// left (lost into contact zone `zone`, else leaked; in bin `bin()` of the leakage along the
-    /// route), false when the whole ray leaves. No number is drawn where the reflection is
-    /// certain (q = 1). Every side wall's event goes through here.
+    /// route), false when the whole ray leaves. No number is drawn where the outcome is
+    /// certain (q = 0 or 1, [`Walk::chance`]). Every side wall's event goes through here.
     #[inline]
     fn reflected_at_wall(
         &mut self,
@@ -695,37 +700,47 @@ impl Walk<'_> {
         bin: impl FnOnce() -> usize,
     ) -> bool {
         let (q, leaving) = self.p.wall_split(ray.w, r);
-        if q < 1.0 && uniform(self.rng) >= q {
+        if !self.chance(q) {
             return false;
         }
         if leaving > 0.0 {
-            self.leave_part(ray, bin(), zone, leaving);
+            let to = zone.map_or(PartTo::Leaked, PartTo::Contact);
+            self.leave_part(ray, bin(), to, leaving);
         }
         true
     }
 
+    /// True with probability `q`, drawing a number only where the outcome is uncertain
+    /// (0 < q < 1).
+    #[inline]
+    fn chance(&mut self, q: f64) -> bool {
+        q >= 1.0 || (q > 0.0 && uniform(self.rng) < q)
+    }
+
     /// A part `share` (0 < share < 1) of the ray's weight, its path so far attenuated, leaves
-    /// through a side wall: leaked from the ray's segment or lost into contact zone `zone`, and
-    /// put in bin `bin` of the leakage along the route, as a whole ray leaving is; the rest goes
-    /// on.
-    fn leave_part(&mut self, ray: &mut Ray, bin: usize, zone: Option<usize>, share: f64) {
+    /// at a side wall while the rest goes on: leaked from the ray's segment, lost into a contact
+    /// zone, or absorbed by a coated zone (`to`), put in bin `bin` of the leakage along the route
+    /// (or, for a coating, of what the coatings absorb along it) as a whole ray leaving is, and
+    /// marked on a kept path.
+    fn leave_part(&mut self, ray: &mut Ray, bin: usize, to: PartTo, share: f64) {
         self.absorb(ray);
         let part = ray.w * share;
-        self.out.route_leak.add_part(bin, part);
-        let fate = if zone.is_some() {
-            Fate::Contact
-        } else {
-            Fate::Leaked
-        };
-        self.trail.part_left(fate, part);
         let ledger = self.p.ledger;
-        match zone {
-            Some(z) => self.part_inside(ledger.contact(z), ledger.after_contact(), part),
-            None => {
-                let seg = ray.seg;
-                self.part_inside(ledger.leaked(seg), ledger.after_leaked(seg), part);
-            }
+        let (column, after, fate) = match to {
+            PartTo::Leaked => (
+                ledger.leaked(ray.seg),
+                ledger.after_leaked(ray.seg),
+                Fate::Leaked,
+            ),
+            PartTo::Contact(z) => (ledger.contact(z), ledger.after_contact(), Fate::Contact),
+            PartTo::Coating(k) => (ledger.coating(k), ledger.after_coating(), Fate::Coating),
+        };
+        match to {
+            PartTo::Coating(_) => self.out.route_coating.add_part(bin, part),
+            _ => self.out.route_leak.add_part(bin, part),
         }
+        self.trail.part_left(fate, part);
+        self.part_inside(column, after, part);
         // What leaves and what goes on sum to the weight the ray had, to rounding.
         ray.w -= part;
     }

@@ -659,7 +659,6 @@ export class RouteView {
       const [lx, ly] = mid[Math.floor(mid.length / 2)];
       labels.push([style.label, lx + 8, ly]);
     }
-    this.coatingLabels = labels;
   }
 
   /** The coated zones' names, drawn over the rays (on a white halo) so that they stay readable. */

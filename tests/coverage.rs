@@ -5,8 +5,10 @@
 //! - a lossless straight rod fed by a Lambertian LED touching its flat entry face, whose shares
 //!   reflected at the entry and delivered have closed forms from the Fresnel equations
 //!   (below), and
-//! - a bend's leak on a short route with one tight bend, against a reference trace of 4·10⁶
-//!   rays (its own interval a tenth of one run's), and
+//! - a bend's leak on a short route with one tight bend, and its delivered share and the share
+//!   its exit face turns back by Fresnel reflection (drawn by systematic sampling across each
+//!   replicate's rays), against a reference trace of 4·10⁶ rays (its own interval a tenth of one
+//!   run's), and
 //! - the same bend with white paint on its back: what the paint absorbs, and delivered, whose
 //!   rays leave a part of their weight to the paint at each bounce (the coating's reflection
 //!   split in two), against a reference trace the same way.
@@ -132,7 +134,19 @@ fn spread_over_claimed(runs: &[Share], t: f64) -> f64 {
 fn check(name: &str, runs: &[Share], truth: f64, t: f64) {
     let h = held(runs, truth);
     let ratio = spread_over_claimed(runs, t);
-    eprintln!("{name} {truth:.5}: held by {h}/{RUNS}, spread over claimed variance {ratio:.3}");
+    let n = runs.len() as f64;
+    let mean = runs.iter().map(|s| s.share).sum::<f64>() / n;
+    let sd = (runs
+        .iter()
+        .map(|s| (s.share - mean) * (s.share - mean))
+        .sum::<f64>()
+        / (n - 1.0))
+        .sqrt();
+    eprintln!(
+        "{name} {truth:.5}: held by {h}/{RUNS}, spread over claimed variance {ratio:.3}, mean \
+         of the runs off by {:.2} standard errors",
+        (mean - truth) / (sd / n.sqrt())
+    );
     assert!(h >= LEAST_HELD, "{name}: held by {h}/{RUNS}");
     assert!(
         (0.75..=1.33).contains(&ratio),
@@ -237,18 +251,41 @@ fn intervals_hold_a_bends_leak() {
     let p = bent(4_000_000, 999_999);
     let reference = p.report(&p.trace_all_parallel(0, 0).unwrap());
     let truth = reference.segments[1].leaked;
-    let mut leaks = Vec::new();
+    let (mut leaks, mut delivered, mut by_fresnel) = (Vec::new(), Vec::new(), Vec::new());
     for seed in 0..RUNS {
         let p = bent(RUN_RAYS, 1000 + seed);
-        leaks.push(p.report(&p.trace_all_parallel(0, 0).unwrap()).segments[1].leaked);
+        let report = p.report(&p.trace_all_parallel(0, 0).unwrap());
+        leaks.push(report.segments[1].leaked);
+        delivered.push(report.delivered);
+        by_fresnel.push(report.exit_turn_back.by_fresnel);
     }
-    assert!(
-        truth.ci95 < 0.15 * leaks[0].ci95,
-        "reference ± {} against one run's ± {}",
-        truth.ci95,
-        leaks[0].ci95
-    );
+    let references = [
+        (truth, leaks[0]),
+        (reference.delivered, delivered[0]),
+        (reference.exit_turn_back.by_fresnel, by_fresnel[0]),
+    ];
+    for (reference, run) in references {
+        assert!(
+            reference.ci95 < 0.15 * run.ci95,
+            "reference {reference:?} against one run's {run:?}"
+        );
+    }
     check("bend leak", &leaks, truth.share, t_replicates());
+    // The exit face's first Fresnel events are drawn by each replicate's sweep (systematic
+    // sampling, rays in order): delivered and what the exit face turns back by Fresnel
+    // reflection keep honest intervals.
+    check(
+        "bend, delivered",
+        &delivered,
+        reference.delivered.share,
+        t_replicates(),
+    );
+    check(
+        "bend, turned back at the exit by Fresnel reflection",
+        &by_fresnel,
+        reference.exit_turn_back.by_fresnel.share,
+        t_replicates(),
+    );
 }
 
 /// A painted bend: each ray meeting the paint leaves a tenth of its weight there at each bounce

@@ -392,6 +392,7 @@ impl Prepared {
         let mut contrib = vec![0.0; self.ledger.len()];
         let points_each = path_points_each(keep_paths.min(count as usize));
         let mut scramble = Scramble::of(seed, index, 0);
+        let mut exit_sweep = scramble.exit_sweep();
         for i in 0..count {
             let (replicate, in_replicate) = (i / REPLICATE_RAYS, i % REPLICATE_RAYS);
             if in_replicate == 0 && i > 0 {
@@ -399,10 +400,11 @@ impl Prepared {
                 receiver.close_replicate(&mut receiver_total);
                 out.close_replicate(REPLICATE_RAYS);
                 scramble = Scramble::of(seed, index, replicate);
+                exit_sweep = scramble.exit_sweep();
             }
             contrib.iter_mut().for_each(|c| *c = 0.0);
             let rng = Pcg64Mcg::seed_from_u64(ray_seed(seed, index, i));
-            let mut draws = RayDraws::new(&scramble, in_replicate as u32, rng);
+            let mut draws = RayDraws::new(&scramble, in_replicate as u32, rng, exit_sweep);
             let record = index == 0 && (i as usize) < keep_paths;
             let mut path = record.then(|| KeptPath::new(points_each));
             let mut watch = watched.as_ref().map(|&(segment, _)| Watch {
@@ -416,6 +418,7 @@ impl Prepared {
                 path.as_mut(),
                 watch.as_mut(),
             );
+            exit_sweep = draws.exit_sweep;
             out.route_leak.end_ray();
             out.route_coating.end_ray();
             self.ledger.fill_totals(&mut contrib);

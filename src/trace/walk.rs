@@ -802,7 +802,8 @@ impl Walk<'_> {
     /// reflection beyond the critical angle, else by Fresnel reflection with probability R), or
     /// delivered (refracted into the exit medium, tallied on the maps and the receiver). On the
     /// ray's first arrival its weight there is tallied as reaching the exit face, and as turned
-    /// back by the one mechanism or the other when it is.
+    /// back by the one mechanism or the other when it is; that first arrival is decided by the
+    /// replicate's sweep ([`super::sequence::ExitSweep`]), later ones by the ray's own numbers.
     fn exit_face(&mut self, ray: &mut Ray, placed: &Placed) -> Step {
         let p = self.p;
         if p.faces.exit.is_some() {
@@ -821,7 +822,16 @@ impl Walk<'_> {
         let cos_i = ld.z.clamp(0.0, 1.0);
         let first_w = (!self.reached_exit).then(|| self.weight_reaching_exit(ray));
         self.reached_exit = true;
-        if uniform(self.rng) < fresnel_reflectance(cos_i, ix.n_core, ix.n_exit) {
+        let r = fresnel_reflectance(cos_i, ix.n_core, ix.n_exit);
+        // The first arrival is decided by the replicate's sweep, later ones by the ray's own
+        // numbers. The first still spends the ray's number, so its later events draw as before.
+        let turned_back = if first_w.is_some() {
+            let _ = uniform(self.rng);
+            self.rng.exit_sweep.turns_back(r)
+        } else {
+            uniform(self.rng) < r
+        };
+        if turned_back {
             if let Some(w) = first_w {
                 // Total internal reflection exactly where the Fresnel amplitudes have no
                 // transmitted wave (R = 1), else a Fresnel reflection.

@@ -160,8 +160,9 @@ fn check(name: &str, runs: &[Share], truth: f64, t: f64) {
 /// angle θ′ to the axis (sin θ = n sin θ′): the side wall reflects it totally (incidence at least
 /// 90° − 41.8° > the critical 41.8° for n = 1.5, skew rays more so), and at each end face it is
 /// transmitted with T(θ) again (the same unpolarised value from either side) or reflected.
-/// Summing its round trips: reflected at the entry R(θ); delivered T²/(1 − R²) — each averaged
-/// over the Lambertian directions.
+/// Summing its round trips: reflected at the entry R(θ); delivered T²/(1 − R²); turned back by
+/// Fresnel reflection at the exit face on its first arrival T·R (its weight there T, in the
+/// exit face's schedule of draws) — each averaged over the Lambertian directions.
 #[test]
 fn intervals_hold_the_closed_forms_of_a_lossless_rod() {
     let r = |t: f64| fresnel_reflectance(t.cos(), 1.0, N_ROD);
@@ -170,13 +171,14 @@ fn intervals_hold_the_closed_forms_of_a_lossless_rod() {
         let (rr, tt) = (r(t), 1.0 - r(t));
         tt * tt / (1.0 - rr * rr)
     });
+    let turned_back = lambertian_mean(|t| (1.0 - r(t)) * r(t));
     // Checks of the quadrature against known values: at normal incidence R = 0.04; the
     // Lambertian mean of R for n = 1.5 is 0.0918 (a standard result for the hemispherical
     // reflectance of glass, from memory).
     assert!((r(0.0) - 0.04).abs() < 1e-15);
     assert!((reflected - 0.0918).abs() < 5e-4, "{reflected}");
-    let (mut refl, mut deliv, mut axis, mut ring) =
-        (Vec::new(), Vec::new(), Vec::new(), Vec::new());
+    let (mut refl, mut deliv, mut axis, mut ring, mut back) =
+        (Vec::new(), Vec::new(), Vec::new(), Vec::new(), Vec::new());
     for seed in 0..RUNS {
         let p = rod(RUN_RAYS, 1000 + seed);
         let report = p.report(&p.trace_all_parallel(0, 0).unwrap());
@@ -184,6 +186,7 @@ fn intervals_hold_the_closed_forms_of_a_lossless_rod() {
         assert_eq!(report.budget.missed_entry.share, 0.0);
         refl.push(report.budget.reflected_entry);
         deliv.push(report.delivered);
+        back.push(report.exit_turn_back.by_fresnel);
         let w = report.intensity.on_axis;
         assert_eq!((w.from_deg, w.to_deg), (0.0, 5.0));
         axis.push(Share {
@@ -204,6 +207,12 @@ fn intervals_hold_the_closed_forms_of_a_lossless_rod() {
         t_replicates(),
     );
     check("lossless rod, delivered", &deliv, delivered, t_replicates());
+    check(
+        "lossless rod, turned back at the exit by Fresnel reflection",
+        &back,
+        turned_back,
+        t_replicates(),
+    );
     // A sum over several bins, whose interval comes from the replicates of the window's own
     // sums (the window is one of the angle histogram's groups): the mean intensity in the 5°
     // cone about the axis. Inside the rod a ray keeps its angle to the axis and leaves at the
@@ -271,7 +280,7 @@ fn intervals_hold_a_bends_leak() {
         );
     }
     check("bend leak", &leaks, truth.share, t_replicates());
-    // The exit face's first Fresnel events are drawn by each replicate's sweep (systematic
+    // The exit face's first Fresnel events are drawn by each replicate's schedule (systematic
     // sampling, rays in order): delivered and what the exit face turns back by Fresnel
     // reflection keep honest intervals.
     check(

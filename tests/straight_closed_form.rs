@@ -6,7 +6,8 @@
 //! taking straights in closed form against the same scenarios stepped hit by hit, same seed —
 //! every budget share within the two results' combined 95 % interval, the same wall
 //! interactions per segment, and nearly every ray's fate the same ray by ray (both walks draw
-//! their random numbers in the same order: one per wall hit below the critical angle).
+//! their random numbers in the same order: one per wall hit below the critical angle; a ray
+//! that goes another way also shifts the exit face's schedule for its replicate's later rays).
 #![allow(clippy::disallowed_methods)] // checks may use std maths; the core uses libm
 #[cfg(target_arch = "wasm32")]
 use wasm_bindgen_test::wasm_bindgen_test as test;

@@ -156,9 +156,10 @@ fn sweep_of(scenario: &Value, field: &str, values: &[f64], rays: u64, seed: u64)
 #[test]
 fn common_random_numbers_narrow_the_intervals_of_leak_and_receiver_differences() {
     // The thermostat's first bend (route[1]) at 5 mm, where it leaks, and 1 % wider. With
-    // common random numbers the rays the change does not touch give d_k = 0 exactly for the
-    // bend's leak and for the receiver, so both paired intervals are far narrower than two
-    // independent runs' √(a² + b²) (as for delivered).
+    // common random numbers the rays the change does not touch give d_k = 0 for the bend's leak
+    // and for the receiver (but for a few whose exit-face decision a touched ray's shift of the
+    // exit schedule moves), so both paired intervals are far narrower than two independent runs'
+    // √(a² + b²) (as for delivered).
     let sc = example("thermostat");
     let field = "route[1].bend.radius_mm";
     let (r0, r1) = (5.0, 5.05);
@@ -198,13 +199,13 @@ fn common_random_numbers_narrow_the_intervals_of_leak_and_receiver_differences()
     // 0.58 and 0.49 of the independent intervals when this was written: the scrambled source
     // narrows the independent runs' intervals more than the paired ones, whose differences come
     // from the few rays the change moves across a boundary (with independent source points
-    // both ratios were below a half). 0.69 and 0.59 before the exit face's sweep, 0.72 and 0.56
-    // with it (a ray the change moves shifts the sweep for the replicate's later rays, so a few
+    // both ratios were below a half). 0.69 and 0.59 before the exit face's schedule, 0.72 and 0.56
+    // with it (a ray the change moves shifts the schedule for the replicate's later rays, so a few
     // of them are turned back in one design and not in the other; over eight seeds the paired
     // leak's variance is 1.05–1.09 times what it was, the paired delivered's 0.85–0.97). Two
-    // independent runs give about 1.
+    // independent runs give about 1. (The receiver's bound stays at 0.7.)
     assert!(leak.ci95 > 0.0 && leak.ci95 < 0.8 * leak_independent);
-    assert!(receiver.ci95 > 0.0 && receiver.ci95 < 0.8 * receiver_independent);
+    assert!(receiver.ci95 > 0.0 && receiver.ci95 < 0.7 * receiver_independent);
     // The paired mean is the difference of the two points' means (the same rays), and it
     // agrees with the independent runs' difference within their interval.
     let mean_diff = p1.segments_leaked[1].share - p0.segments_leaked[1].share;

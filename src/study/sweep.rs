@@ -5,7 +5,9 @@
 //! x₀,k; every other point's the same way (x_i,k), and the per-ray differences d_k = x_i,k − x₀,k
 //! feed [`Estimate::of_differences`]. Because ray k draws the same random numbers at every point,
 //! the rays the design change does not touch have d_k = 0 exactly, and the difference's
-//! interval is that of the change alone.
+//! interval is that of the change alone — but for the exit face's schedule of first Fresnel
+//! events (`trace::sequence`), which a touched ray shifts for its replicate's later rays, so a
+//! few of them turn back at one point and not at the other.
 
 use serde::{Deserialize, Serialize};
 use serde_json::Value;

@@ -19,7 +19,8 @@
 //! scrambled Sobol point set (randomized quasi-Monte Carlo, [`sequence`]), every other random
 //! number from its own generator seeded from (seed, batch index, ray index), so that two
 //! scenarios traced with the same seed share their random numbers ray by ray (common random
-//! numbers); the budget's intervals come from the spread of the replicates
+//! numbers; the exit face's schedule of first Fresnel events, [`sequence`], is shared by the
+//! replicate's rays in order); the budget's intervals come from the spread of the replicates
 //! ([`crate::stats`]); batches merge in index order, so a result does not depend on how many
 //! threads or workers ran it. Transcendental functions come from `libm`, so native and wasm
 //! give bit-identical results.
@@ -392,7 +393,7 @@ impl Prepared {
         let mut contrib = vec![0.0; self.ledger.len()];
         let points_each = path_points_each(keep_paths.min(count as usize));
         let mut scramble = Scramble::of(seed, index, 0);
-        let mut exit_sweep = scramble.exit_sweep();
+        let mut exit_schedule = scramble.exit_schedule();
         for i in 0..count {
             let (replicate, in_replicate) = (i / REPLICATE_RAYS, i % REPLICATE_RAYS);
             if in_replicate == 0 && i > 0 {
@@ -400,11 +401,11 @@ impl Prepared {
                 receiver.close_replicate(&mut receiver_total);
                 out.close_replicate(REPLICATE_RAYS);
                 scramble = Scramble::of(seed, index, replicate);
-                exit_sweep = scramble.exit_sweep();
+                exit_schedule = scramble.exit_schedule();
             }
             contrib.iter_mut().for_each(|c| *c = 0.0);
             let rng = Pcg64Mcg::seed_from_u64(ray_seed(seed, index, i));
-            let mut draws = RayDraws::new(&scramble, in_replicate as u32, rng, exit_sweep);
+            let mut draws = RayDraws::new(&scramble, in_replicate as u32, rng, exit_schedule);
             let record = index == 0 && (i as usize) < keep_paths;
             let mut path = record.then(|| KeptPath::new(points_each));
             let mut watch = watched.as_ref().map(|&(segment, _)| Watch {
@@ -418,7 +419,7 @@ impl Prepared {
                 path.as_mut(),
                 watch.as_mut(),
             );
-            exit_sweep = draws.exit_sweep;
+            exit_schedule = draws.exit_schedule;
             out.route_leak.end_ray();
             out.route_coating.end_ray();
             self.ledger.fill_totals(&mut contrib);

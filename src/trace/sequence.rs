@@ -27,16 +27,16 @@
 //!   face's — are spread as evenly as the source is (on the benchmark route this narrows
 //!   delivered's interval by a further tenth: 1.2 times less variance). Later events draw from
 //!   the ray's generator;
-//! - a flat exit face's first Fresnel event of each ray is decided by the replicate's sweep
-//!   (`ExitSweep`, systematic sampling over the replicate's rays in order), which turns back
+//! - a flat exit face's first Fresnel event of each ray is decided by the replicate's schedule
+//!   (`ExitSchedule`, systematic sampling over the replicate's rays in order), which turns back
 //!   within one ray of the number the reflectances add up to (on the benchmark route delivered's
-//!   precision per second 1.17 times, what the exit face turns back by Fresnel reflection 4 times
+//!   precision per second 1.18 times, what the exit face turns back by Fresnel reflection 4 times
 //!   less variance). The ray still spends the number it would have drawn there.
 //!
-//! Everything is integer arithmetic (the crate's scalar path and exact conversions), so native
-//! and wasm give the same bits. A ray's own random numbers still depend only on (seed, batch,
+//! Everything is integer arithmetic (the crate's scalar path and exact conversions) or, in the
+//! exit schedule, correctly rounded additions, so native and wasm give the same bits. A ray's own random numbers still depend only on (seed, batch,
 //! ray): two scenarios traced with the same seed share them ray by ray (common random numbers).
-//! The sweep also depends on the rays before it in its replicate, so a ray whose fate a design
+//! The schedule also depends on the rays before it in its replicate, so a ray whose fate a design
 //! change alters can shift the exit face's decision for later rays of its replicate.
 
 use rand_core::Rng;
@@ -52,16 +52,16 @@ const DIMS: usize = 4 + EVENT_DIMS;
 /// The ray's first random events drawn from the scrambled point ([`RayDraws`]).
 pub(super) const EVENT_DIMS: usize = 4;
 
-/// The eight dimensions' scrambles of one replicate, and where its sweep of first exit-face
-/// draws starts ([`ExitSweep`]).
+/// The eight dimensions' scrambles of one replicate, and where its schedule of first exit-face
+/// draws starts ([`ExitSchedule`]).
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub(super) struct Scramble([u32; DIMS], f64);
 
 /// Set apart from the ray indices (below 2³²) when mixing a replicate's index into a seed.
 const REPLICATE_DOMAIN: u64 = 1 << 40;
 
-/// Set apart from the dimension pairs' indices when mixing the sweep's start.
-const SWEEP_DOMAIN: u64 = 1 << 41;
+/// Set apart from the dimension pairs' indices when mixing the schedule's start.
+const SCHEDULE_DOMAIN: u64 = 1 << 41;
 
 /// Systematic sampling of the first exit-face Fresnel events of a replicate's rays, in ray
 /// order: one uniform start U per replicate; the k-th such event, of reflectance R_k, turns
@@ -72,17 +72,26 @@ const SWEEP_DOMAIN: u64 = 1 << 41;
 /// one of the expected number, where independent draws scatter by √(Σ R_k (1 − R_k)). The
 /// replicates stay independent of one another (each its own U), so their spread still gives the
 /// interval (W. G. Madow and L. H. Madow, 1944, "On the theory of systematic sampling, I",
-/// Annals of Mathematical Statistics 15, 1–24).
+/// Annals of Mathematical Statistics 15, 1–24; from memory).
 #[derive(Debug, Clone, Copy, PartialEq)]
-pub(super) struct ExitSweep(f64);
+pub(super) struct ExitSchedule(f64);
 
-impl ExitSweep {
+impl ExitSchedule {
     /// Whether the next first exit-face event, of reflectance `r` in [0, 1], turns its ray back.
     #[inline]
     pub fn turns_back(&mut self, r: f64) -> bool {
+        // Certain events move nothing: R = 1 (total internal reflection) would add exactly one
+        // turn, R = 0 none. (A NaN reflectance, were one ever computed, counts as 0 here, as the
+        // plain draw `u < R` would, instead of spoiling the rest of the replicate.)
+        if r >= 1.0 {
+            return true;
+        }
+        if r.is_nan() || r <= 0.0 {
+            return false;
+        }
         let f = self.0 + r;
         if f >= 1.0 {
-            // f < 2, so f − 1 is exact and below 1.
+            // 1 ≤ f < 2 (both terms below 1), so f − 1 is exact and in [0, 1).
             self.0 = f - 1.0;
             true
         } else {
@@ -107,13 +116,13 @@ impl Scramble {
             pair[0] = h as u32;
             pair[1] = (h >> 32) as u32;
         }
-        let start = (mix_seed(h, SWEEP_DOMAIN) >> 11) as f64 * (1.0 / (1u64 << 53) as f64);
+        let start = (mix_seed(h, SCHEDULE_DOMAIN) >> 11) as f64 * (1.0 / (1u64 << 53) as f64);
         Scramble(s, start)
     }
 
-    /// The replicate's exit-face sweep, at its start.
-    pub fn exit_sweep(&self) -> ExitSweep {
-        ExitSweep(self.1)
+    /// The replicate's exit-face schedule, at its start.
+    pub fn exit_schedule(&self) -> ExitSchedule {
+        ExitSchedule(self.1)
     }
 
     /// Point `index` (0-based within the replicate, below [`REPLICATE_RAYS`]) in [0, 1)^8: the
@@ -138,8 +147,8 @@ pub(super) struct RayDraws {
     events: [f64; EVENT_DIMS],
     used: usize,
     rng: Pcg64Mcg,
-    /// The replicate's exit-face sweep, as the rays before this one left it.
-    pub exit_sweep: ExitSweep,
+    /// The replicate's exit-face schedule, as the rays before this one left it.
+    pub exit_schedule: ExitSchedule,
 }
 
 impl RayDraws {
@@ -148,7 +157,7 @@ impl RayDraws {
         scramble: &Scramble,
         index: u32,
         mut rng: Pcg64Mcg,
-        exit_sweep: ExitSweep,
+        exit_schedule: ExitSchedule,
     ) -> RayDraws {
         let u = scramble.point(index, &mut rng);
         let mut source = [0.0; 4];
@@ -160,7 +169,7 @@ impl RayDraws {
             events,
             used: 0,
             rng,
-            exit_sweep,
+            exit_schedule,
         }
     }
 
@@ -238,13 +247,13 @@ mod tests {
         }
     }
 
-    /// The sweep turns back exactly as many rays as the reflectances add up to, within one,
+    /// The schedule turns back exactly as many rays as the reflectances add up to, within one,
     /// from any start; and each event is turned back with probability exactly its reflectance:
     /// over evenly spaced starts U = (j + ½)/M the events turned back at position k are those
     /// whose U lies in an arc of length R_k of the circle [0, 1), so their fraction is R_k
     /// within 1/M.
     #[test]
-    fn the_exit_sweep_is_exact_in_count_and_unbiased_event_by_event() {
+    fn the_exit_schedule_is_exact_in_count_and_unbiased_event_by_event() {
         let mut rng = Pcg64Mcg::seed_from_u64(21);
         // Reflectances as the exit face gives them: mostly a few per cent, some total (1), some
         // zero, and a few in between.
@@ -260,14 +269,14 @@ mod tests {
         const M: usize = 4000;
         let mut times = vec![0usize; r.len()];
         for j in 0..M {
-            let mut sweep = ExitSweep((j as f64 + 0.5) / M as f64);
+            let mut schedule = ExitSchedule((j as f64 + 0.5) / M as f64);
             let mut count = 0usize;
             for (k, &rk) in r.iter().enumerate() {
-                if sweep.turns_back(rk) {
+                if schedule.turns_back(rk) {
                     count += 1;
                     times[k] += 1;
                 }
-                assert!((0.0..1.0).contains(&sweep.0));
+                assert!((0.0..1.0).contains(&schedule.0));
             }
             assert!(
                 (count as f64 - total).abs() < 1.0,
@@ -281,7 +290,14 @@ mod tests {
                 "event {k}: turned back {fraction} of the time, R = {rk}"
             );
         }
-        // Each replicate starts its sweep somewhere of its own.
+        // Certain events leave the schedule where it was; a NaN reflectance turns nothing back
+        // and does not spoil the events after it.
+        let mut schedule = ExitSchedule(0.7);
+        assert!(schedule.turns_back(1.0) && schedule.0 == 0.7);
+        assert!(!schedule.turns_back(0.0) && schedule.0 == 0.7);
+        assert!(!schedule.turns_back(f64::NAN) && schedule.0 == 0.7);
+        assert!(schedule.turns_back(0.5) && (schedule.0 - 0.2).abs() < 1e-15);
+        // Each replicate starts its schedule somewhere of its own.
         let starts: Vec<f64> = (0..4).map(|i| Scramble::of(3, 1, i).1).collect();
         assert!(starts.iter().all(|s| (0.0..1.0).contains(s)));
         assert!(starts.windows(2).all(|w| w[0] != w[1]));
@@ -292,7 +308,7 @@ mod tests {
     fn events_draw_the_points_dimensions_first() {
         let s = Scramble::of(5, 1, 2);
         let u = s.point(9, &mut Pcg64Mcg::seed_from_u64(4));
-        let mut draws = RayDraws::new(&s, 9, Pcg64Mcg::seed_from_u64(4), s.exit_sweep());
+        let mut draws = RayDraws::new(&s, 9, Pcg64Mcg::seed_from_u64(4), s.exit_schedule());
         assert_eq!(draws.source(), [u[0], u[1], u[2], u[3]]);
         for k in 0..EVENT_DIMS {
             assert_eq!(draws.uniform(), u[4 + k]);

@@ -803,7 +803,7 @@ impl Walk<'_> {
     /// delivered (refracted into the exit medium, tallied on the maps and the receiver). On the
     /// ray's first arrival its weight there is tallied as reaching the exit face, and as turned
     /// back by the one mechanism or the other when it is; that first arrival is decided by the
-    /// replicate's sweep ([`super::sequence::ExitSweep`]), later ones by the ray's own numbers.
+    /// replicate's schedule ([`super::sequence::ExitSchedule`]), later ones by the ray's own numbers.
     fn exit_face(&mut self, ray: &mut Ray, placed: &Placed) -> Step {
         let p = self.p;
         if p.faces.exit.is_some() {
@@ -823,11 +823,11 @@ impl Walk<'_> {
         let first_w = (!self.reached_exit).then(|| self.weight_reaching_exit(ray));
         self.reached_exit = true;
         let r = fresnel_reflectance(cos_i, ix.n_core, ix.n_exit);
-        // The first arrival is decided by the replicate's sweep, later ones by the ray's own
+        // The first arrival is decided by the replicate's schedule, later ones by the ray's own
         // numbers. The first still spends the ray's number, so its later events draw as before.
         let turned_back = if first_w.is_some() {
             let _ = uniform(self.rng);
-            self.rng.exit_sweep.turns_back(r)
+            self.rng.exit_schedule.turns_back(r)
         } else {
             uniform(self.rng) < r
         };

@@ -1,10 +1,10 @@
-//! The exit face's first Fresnel event of each ray is drawn by its replicate's sweep (systematic
-//! sampling over the replicate's rays in order, `ExitSweep` in `src/trace/sequence.rs`): the
+//! The exit face's first Fresnel event of each ray is drawn by its replicate's schedule (systematic
+//! sampling over the replicate's rays in order, `ExitSchedule` in `src/trace/sequence.rs`): the
 //! replicate turns back within one ray of the number its rays' reflectances add up to.
 //!
 //! With independent draws, what the exit face turns back by Fresnel reflection would scatter
 //! like a binomial count: its 95 % half-width about 1.96 √(p (1 − p) / n) for a share p of n
-//! rays (a little less, as the rays' weights on arrival are at most 1). With the sweep the
+//! rays (a little less, as the rays' weights on arrival are at most 1). With the schedule the
 //! count per replicate is fixed to within one, and only which rays it picks (their weights)
 //! and the source's own spread remain: measured at a third of that figure on these routes, where
 //! the plain draw (the ray's own numbers; checked by swapping it back in) gave two thirds.
@@ -25,7 +25,7 @@ fn traced(text: &str, seed: u64) -> tirtrace::trace::TraceReport {
 }
 
 #[test]
-fn the_sweep_narrows_what_the_exit_face_turns_back_by_fresnel_reflection() {
+fn the_schedule_narrows_what_the_exit_face_turns_back_by_fresnel_reflection() {
     let routes = [
         (
             "benchmark route",

@@ -34,10 +34,11 @@
 //!   less variance). The ray still spends the number it would have drawn there.
 //!
 //! Everything is integer arithmetic (the crate's scalar path and exact conversions) or, in the
-//! exit schedule, correctly rounded additions, so native and wasm give the same bits. A ray's own random numbers still depend only on (seed, batch,
-//! ray): two scenarios traced with the same seed share them ray by ray (common random numbers).
-//! The schedule also depends on the rays before it in its replicate, so a ray whose fate a design
-//! change alters can shift the exit face's decision for later rays of its replicate.
+//! exit schedule, correctly rounded additions, so native and wasm give the same bits. A ray's
+//! own random numbers still depend only on (seed, batch, ray): two scenarios traced with the
+//! same seed share them ray by ray (common random numbers). The schedule also depends on the
+//! rays before it in its replicate, so a ray whose fate a design change alters can shift the
+//! exit face's decision for later rays of its replicate.
 
 use rand_core::Rng;
 use rand_pcg::Pcg64Mcg;

@@ -803,7 +803,8 @@ impl Walk<'_> {
     /// delivered (refracted into the exit medium, tallied on the maps and the receiver). On the
     /// ray's first arrival its weight there is tallied as reaching the exit face, and as turned
     /// back by the one mechanism or the other when it is; that first arrival is decided by the
-    /// replicate's schedule ([`super::sequence::ExitSchedule`]), later ones by the ray's own numbers.
+    /// replicate's schedule ([`super::sequence::ExitSchedule`]), later ones by the ray's own
+    /// numbers.
     fn exit_face(&mut self, ray: &mut Ray, placed: &Placed) -> Step {
         let p = self.p;
         if p.faces.exit.is_some() {

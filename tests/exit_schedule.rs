@@ -7,8 +7,11 @@
 //! rays (a little less, as the rays' weights on arrival are at most 1). With the schedule the
 //! count per replicate is fixed to within one, and only which rays it picks (their weights)
 //! and the source's own spread remain: measured at a third of that figure on these routes, where
-//! the plain draw (the ray's own numbers; checked by swapping it back in) gave two thirds.
-//! Asked: below 0.45. Whether the intervals still hold is `tests/coverage.rs`'s job.
+//! the plain draw (the ray's own numbers; checked by swapping it back in) gave two thirds, or
+//! three quarters on the domed face. Asked: below 0.45. A textured face's first arrival has
+//! only its first facet decided by the schedule (a ray the facet reflects may meet others, each
+//! drawn by the ray): 0.44–0.46 measured, 0.66–0.71 with the plain draw; asked below 0.55.
+//! Whether the intervals still hold is `tests/coverage.rs`'s job.
 //!
 //! Each run is an exact function of its seed, so the outcome is fixed.
 #![cfg(not(target_arch = "wasm32"))]
@@ -26,17 +29,30 @@ fn traced(text: &str, seed: u64) -> tirtrace::trace::TraceReport {
 
 #[test]
 fn the_schedule_narrows_what_the_exit_face_turns_back_by_fresnel_reflection() {
+    // (name, scenario, the largest ratio to the binomial half-width allowed)
     let routes = [
         (
             "benchmark route",
             include_str!("../examples/scenarios/bench_three_bends.json"),
+            0.45,
         ),
         (
             "thermostat",
             include_str!("../examples/scenarios/thermostat_status_led.json"),
+            0.45,
+        ),
+        (
+            "domed exit face",
+            include_str!("../examples/scenarios/panel_indicator_domed_lens.json"),
+            0.45,
+        ),
+        (
+            "textured exit face",
+            include_str!("../examples/scenarios/diffused_status_window.json"),
+            0.55,
         ),
     ];
-    for (name, text) in routes {
+    for (name, text, bound) in routes {
         for seed in [1, 2] {
             let r = traced(text, seed);
             let by_fresnel = r.exit_turn_back.by_fresnel;
@@ -46,8 +62,8 @@ fn the_schedule_narrows_what_the_exit_face_turns_back_by_fresnel_reflection() {
             println!("{name}, seed {seed}: turned back by Fresnel {p:.4} ± {:.5}, {ratio:.2} of the binomial ± {binomial:.5}", by_fresnel.ci95);
             assert!(p > 0.02, "{name}: the exit face turns back {p}");
             assert!(
-                by_fresnel.ci95 > 0.0 && ratio < 0.45,
-                "{name}, seed {seed}: ± {} is {ratio:.2} of the binomial ± {binomial}",
+                by_fresnel.ci95 > 0.0 && ratio < bound,
+                "{name}, seed {seed}: ± {} is {ratio:.2} of the binomial ± {binomial} (asked below {bound})",
                 by_fresnel.ci95
             );
             // The budget still sums to 1 ray by ray.

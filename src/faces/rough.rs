@@ -66,12 +66,27 @@ pub enum FacetEvent {
 /// One facet met by a ray arriving along `d` (unit, d.z < 0) from index `n_i` onto index `n_t`:
 /// the facet from `u1`, `u2` ([`visible_normal`]), Fresnel reflection against `u3`.
 pub fn facet_event(d: DVec3, n_i: f64, n_t: f64, alpha: f64, u: [f64; 3]) -> FacetEvent {
+    facet_event_decided(d, n_i, n_t, alpha, [u[0], u[1]], |r| u[2] < r)
+}
+
+/// [`facet_event`] with the Fresnel reflection decided by `reflects(R)`, asked only where the
+/// facet transmits at all (R < 1): the facet from `u1`, `u2`.
+pub fn facet_event_decided(
+    d: DVec3,
+    n_i: f64,
+    n_t: f64,
+    alpha: f64,
+    u: [f64; 2],
+    reflects: impl FnOnce(f64) -> bool,
+) -> FacetEvent {
     let m = visible_normal(d, alpha, u[0], u[1]);
     let cos_i = (-d.dot(m)).clamp(0.0, 1.0);
     match refract(d, m, n_i, n_t) {
         None => FacetEvent::Reflected(reflect(d, m), true),
-        Some(t) if u[2] >= fresnel_reflectance(cos_i, n_i, n_t) => FacetEvent::Refracted(t),
-        Some(_) => FacetEvent::Reflected(reflect(d, m), false),
+        Some(_) if reflects(fresnel_reflectance(cos_i, n_i, n_t)) => {
+            FacetEvent::Reflected(reflect(d, m), false)
+        }
+        Some(t) => FacetEvent::Refracted(t),
     }
 }
 
@@ -88,12 +103,33 @@ pub enum Crossing {
 /// A ray arriving along `d` (unit, d.z < 0) from index `n_i` on a rough interface with index
 /// `n_t` beyond: facets one after the other (uniform numbers from `uniform`, three a facet)
 /// until it leaves on one side or the other.
-pub fn cross(
+pub fn cross(d: DVec3, n_i: f64, n_t: f64, alpha: f64, uniform: impl FnMut() -> f64) -> Crossing {
+    cross_inner(d, n_i, n_t, alpha, uniform, None)
+}
+
+/// [`cross`] with the first facet's Fresnel reflection decided by `first_reflects(R)` (asked
+/// only where that facet transmits at all) instead of its third uniform number, which is still
+/// drawn: the exit face's schedule decides a ray's first arrival this way
+/// (`crate::trace`'s `ExitSchedule`). Whatever rule `first_reflects` follows, if it reflects
+/// with probability R given the facet, the crossing's law is [`cross`]'s.
+pub fn cross_first_decided(
+    d: DVec3,
+    n_i: f64,
+    n_t: f64,
+    alpha: f64,
+    uniform: impl FnMut() -> f64,
+    mut first_reflects: impl FnMut(f64) -> bool,
+) -> Crossing {
+    cross_inner(d, n_i, n_t, alpha, uniform, Some(&mut first_reflects))
+}
+
+fn cross_inner(
     d: DVec3,
     n_i: f64,
     n_t: f64,
     alpha: f64,
     mut uniform: impl FnMut() -> f64,
+    mut first_reflects: Option<&mut dyn FnMut(f64) -> bool>,
 ) -> Crossing {
     // `beyond`: whether the ray is on the far side; directions are kept in the frame of the side
     // the ray is on (z into that side's medium), flipped when it crosses.
@@ -103,7 +139,11 @@ pub fn cross(
     for _ in 0..MAX_FACETS {
         let (na, nb) = if beyond { (n_t, n_i) } else { (n_i, n_t) };
         let u = [uniform(), uniform(), uniform()];
-        match facet_event(dir, na, nb, alpha, u) {
+        let event = match first_reflects.take() {
+            Some(reflects) => facet_event_decided(dir, na, nb, alpha, [u[0], u[1]], reflects),
+            None => facet_event(dir, na, nb, alpha, u),
+        };
+        match event {
             FacetEvent::Reflected(r, tir) => {
                 if r.z > 0.0 {
                     return if beyond {

@@ -824,14 +824,7 @@ impl Walk<'_> {
         let first_w = (!self.reached_exit).then(|| self.weight_reaching_exit(ray));
         self.reached_exit = true;
         let r = fresnel_reflectance(cos_i, ix.n_core, ix.n_exit);
-        // The first arrival is decided by the replicate's schedule, later ones by the ray's own
-        // numbers. The first still spends the ray's number, so its later events draw as before.
-        let turned_back = if first_w.is_some() {
-            let _ = uniform(self.rng);
-            self.rng.exit_schedule.turns_back(r)
-        } else {
-            uniform(self.rng) < r
-        };
+        let turned_back = self.exit_reflects(first_w.is_some(), r);
         if turned_back {
             if let Some(w) = first_w {
                 // Total internal reflection exactly where the Fresnel amplitudes have no
@@ -860,6 +853,18 @@ impl Walk<'_> {
         self.end_inside(ledger.delivered(), ledger.after_delivered(), ray.w);
         self.record_delivery(q, od, ray.w);
         Step::End(Fate::Delivered, self.on_receiver(q, od, ray.w))
+    }
+
+    /// Whether the exit face reflects a ray, of reflectance `r`, back into the guide: on the
+    /// ray's `first` arrival by the replicate's schedule, later by the ray's own number. The first
+    /// still spends the ray's number, so its later events draw as they would with its own draw.
+    pub(super) fn exit_reflects(&mut self, first: bool, r: f64) -> bool {
+        let u = uniform(self.rng);
+        if first {
+            self.rng.exit_schedule.turns_back(r)
+        } else {
+            u < r
+        }
     }
 
     /// The ray's weight as it reaches the exit face for the first time, tallied as reaching it:

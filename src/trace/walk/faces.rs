@@ -200,7 +200,10 @@ impl Walk<'_> {
                     if end == End::Exit {
                         self.reached_exit = true;
                     }
-                    if uniform(self.rng) < fresnel_reflectance(cos_i, ix.n_core, n_beyond) {
+                    // The exit cap's first arrival is decided by the replicate's schedule,
+                    // as the flat exit face's (`Walk::exit_reflects`).
+                    let r = fresnel_reflectance(cos_i, ix.n_core, n_beyond);
+                    if self.exit_reflects(first_w.is_some(), r) {
                         if let Some(w) = first_w {
                             let tir = fresnel_amplitudes(cos_i, ix.n_core, n_beyond).is_none();
                             self.turn_back(w, tir);
@@ -297,8 +300,25 @@ impl Walk<'_> {
         let ld = ef.dir_to_local(gd);
         let first_w = (!self.reached_exit).then(|| self.weight_reaching_exit(ray));
         self.reached_exit = true;
+        // The first arrival's first facet is decided by the replicate's schedule, as the flat
+        // exit face's (`Walk::exit_reflects`); the facet is the ray's own draw, known before.
+        let mut schedule = self.rng.exit_schedule;
         let rng = &mut *self.rng;
-        match rough::cross(flip(ld), ix.n_core, ix.n_exit, alpha, || uniform(rng)) {
+        let crossing = if first_w.is_some() {
+            let first = |r| schedule.turns_back(r);
+            rough::cross_first_decided(
+                flip(ld),
+                ix.n_core,
+                ix.n_exit,
+                alpha,
+                || uniform(rng),
+                first,
+            )
+        } else {
+            rough::cross(flip(ld), ix.n_core, ix.n_exit, alpha, || uniform(rng))
+        };
+        self.rng.exit_schedule = schedule;
+        match crossing {
             Crossing::Reflected(r, tir) => {
                 if let Some(w) = first_w {
                     self.turn_back(w, tir);

@@ -150,6 +150,72 @@ fn a_point_source_at_the_focus_of_a_domed_entry_face_is_sent_along_the_axis() {
     assert!(widest > 0.03, "the rays meet the dome at up to {widest} mm");
 }
 
+/// A collimated beam along the axis onto a domed entry face (R = 2 mm) meets the sphere at
+/// height h at the incidence θ with sin θ = h/R, so the share reflected there is the beam's
+/// mean of the unpolarised Fresnel reflectance, (2/H²) ∫₀^H R(θ(h)) h dh over its radius H
+/// (Fresnel's equations, M. Born and E. Wolf, *Principles of Optics*, 7th ed., §1.5.2, written
+/// out here; the integral by Simpson's rule). The entry face's reflection is split by expected
+/// value (each ray tallies its R and enters with 1 − R), so the share carries only the beam's
+/// sampling, not a draw per ray: it must agree within its 95 % interval (or 10⁻⁶, the
+/// integral's own accuracy with room), and that interval must be under a tenth of the binomial
+/// one √(p(1 − p)/n) a draw per ray would give (measured: 7·10⁻⁵ of it; with the ray's own draw
+/// from its scrambled point, 0.22 of it, and the test fails).
+#[test]
+fn a_domed_entry_face_reflects_the_beams_mean_fresnel_reflectance() {
+    let (radius_mm, beam_mm) = (2.0, 2.8);
+    let p = rod(
+        json!({"dome": {"radius_mm": radius_mm}}),
+        json!("flat"),
+        beam(beam_mm),
+        1.0,
+        40_960,
+    );
+    let fresnel = |cos_i: f64| {
+        let (n1, n2) = (1.0, N_ROD);
+        let sin_t = n1 / n2 * (1.0 - cos_i * cos_i).sqrt();
+        let cos_t = (1.0 - sin_t * sin_t).sqrt();
+        let rs = (n1 * cos_i - n2 * cos_t) / (n1 * cos_i + n2 * cos_t);
+        let rp = (n2 * cos_i - n1 * cos_t) / (n2 * cos_i + n1 * cos_t);
+        0.5 * (rs * rs + rp * rp)
+    };
+    let top = 0.5 * beam_mm;
+    let steps = 2000;
+    let f = |k: usize| {
+        let h = top * k as f64 / steps as f64;
+        let s = h / radius_mm;
+        fresnel((1.0 - s * s).sqrt()) * h
+    };
+    let simpson: f64 = (0..=steps)
+        .map(|k| {
+            let c = if k == 0 || k == steps {
+                1.0
+            } else if k % 2 == 1 {
+                4.0
+            } else {
+                2.0
+            };
+            c * f(k)
+        })
+        .sum::<f64>()
+        * (top / steps as f64)
+        / 3.0;
+    let want = 2.0 * simpson / (top * top);
+    let r = p.report(&p.trace_all_serial(0));
+    let reflected = r.budget.reflected_entry;
+    let binomial = 1.96 * (want * (1.0 - want) / r.rays as f64).sqrt();
+    println!("reflected at the dome {reflected:?}, the Fresnel mean {want}, binomial ± {binomial}");
+    assert!(want > 0.04 && want < 0.06, "{want}");
+    assert!(
+        (reflected.share - want).abs() <= reflected.ci95.max(1e-6),
+        "{reflected:?} against {want}"
+    );
+    assert!(
+        reflected.ci95 < 0.1 * binomial,
+        "{reflected:?}, binomial ± {binomial}"
+    );
+    assert!((r.budget_sum - 1.0).abs() < 1e-12, "{}", r.budget_sum);
+}
+
 /// A cut exit face at α to the section turns an axial beam by Snell's law: it meets the face at
 /// α and leaves at θ = asin(n sin α) from the face's normal, δ = θ − α from the axis, towards
 /// the cut's thick side (+height), as a prism turns light towards its base. Source: Snell's law, M. Born and E. Wolf, *Principles of

@@ -1,6 +1,6 @@
 //! The 3D Monte Carlo tracer.
 //!
-//! Each ray starts on the emitter with unit weight. At a flat entry face its Fresnel
+//! Each ray starts on the emitter with unit weight. At a flat or domed entry face its Fresnel
 //! reflectance R (unpolarised) is split by expected value: R is tallied as reflected and the ray
 //! enters with weight 1 − R. Inside, it is followed segment by segment with exact wall
 //! intersections. At a side wall above the critical angle it is totally reflected; below it,

@@ -21,7 +21,8 @@ pub(super) use faces::ShapedFaces;
 
 /// The lightest part a flat entry face's Fresnel event is split into ([`Walk::entry_face`]):
 /// below it (an index-matching gel, R ≈ 0) the event is drawn. The reflected part ends outside
-/// at once, so splitting costs nothing; it only keeps the split from making many tiny tallies.
+/// at once (from a flat face, or a dome, which is convex, so what it reflects does not meet it
+/// again; a pocket's concave surface may, so its events are drawn), so splitting costs nothing; it only keeps the split from making many tiny tallies.
 const ENTRY_SPLIT_LEAST: f64 = 1.0 / 64.0;
 
 /// A side wall's Fresnel reflection below the critical angle, of probability R, is drawn with
@@ -414,17 +415,7 @@ impl Walk<'_> {
             Some(_) => fresnel_reflectance(cos_i, ix.n_gap, ix.n_core),
             None => 1.0,
         };
-        // Expected-value split: the reflected part R is tallied and the ray enters with 1 − R,
-        // so the light reflected at the entry adds no noise of its own; a part lighter than
-        // ENTRY_SPLIT_LEAST (or total reflection) is drawn instead, the whole ray going one way.
-        let entering = if r >= ENTRY_SPLIT_LEAST && 1.0 - r >= ENTRY_SPLIT_LEAST {
-            self.contrib[p.ledger.reflected_entry()] = r;
-            1.0 - r
-        } else if r >= 1.0 || uniform(self.rng) < r {
-            0.0
-        } else {
-            1.0
-        };
+        let entering = self.entry_split(r);
         let (Some(inward), true) = (inward, entering > 0.0) else {
             self.trail.push(|| hit + reflect(dir, DVec3::Z));
             return Err(self.end_outside(p.ledger.reflected_entry(), Fate::ReflectedEntry));
@@ -442,6 +433,22 @@ impl Walk<'_> {
             w: entering,
             unabsorbed_mm: 0.0,
         })
+    }
+
+    /// The weight with which a ray from the emitter enters through an entry face of reflectance
+    /// `r` (1 for total reflection), by expected-value split: the reflected part R is tallied
+    /// and the ray enters with 1 − R, so the light reflected at the entry adds no noise of its
+    /// own; a part lighter than ENTRY_SPLIT_LEAST (or total reflection) is drawn instead, the
+    /// whole ray going one way (0: reflected whole, for the caller to end).
+    pub(super) fn entry_split(&mut self, r: f64) -> f64 {
+        if r >= ENTRY_SPLIT_LEAST && 1.0 - r >= ENTRY_SPLIT_LEAST {
+            self.contrib[self.p.ledger.reflected_entry()] = r;
+            1.0 - r
+        } else if r >= 1.0 || uniform(self.rng) < r {
+            0.0
+        } else {
+            1.0
+        }
     }
 
     /// A ray that never entered the guide: its whole weight goes to `column`.

@@ -97,26 +97,28 @@ impl Walk<'_> {
         self.trail.push(|| frame.point_to_global(at));
         let ix = &p.indices;
         let cos_i = (-d.dot(hit.normal)).clamp(0.0, 1.0);
-        let inward = if uniform(self.rng) < fresnel_reflectance(cos_i, ix.n_gap, ix.n_core) {
-            None
-        } else {
-            refract(d, hit.normal, ix.n_gap, ix.n_core)
+        // Split by expected value as the flat entry face (`Walk::entry_split`).
+        let inward = refract(d, hit.normal, ix.n_gap, ix.n_core);
+        let r = match inward {
+            Some(_) => fresnel_reflectance(cos_i, ix.n_gap, ix.n_core),
+            None => 1.0,
         };
-        let Some(inward) = inward else {
+        let entering = self.entry_split(r);
+        let (Some(inward), true) = (inward, entering > 0.0) else {
             let back = reflect(d, hit.normal);
             self.trail.push(|| frame.point_to_global(at + back));
             return Err(self.end_outside(p.ledger.reflected_entry(), Fate::ReflectedEntry));
         };
         if let Some(w) = self.watch.as_deref_mut() {
             if w.segment == 0 && w.entered.is_none() {
-                w.entered = Some(1.0);
+                w.entered = Some(entering);
             }
         }
         let mut ray = Ray {
             seg: 0,
             o: DVec3::ZERO,
             d: DVec3::Z,
-            w: 1.0,
+            w: entering,
             unabsorbed_mm: 0.0,
         };
         let placed = &p.route.segments[0];

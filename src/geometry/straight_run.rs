@@ -139,6 +139,23 @@ impl StraightRun {
         }
     }
 
+    /// Whether the ray `o`, `d` in a round run crosses the section less than once on its way to
+    /// the end plane it heads for (its sideways travel under the diameter): then it meets the
+    /// wall at most about twice, and the walk's steps find those hits for less than a run's
+    /// set-up costs. Measured with the speed example against taking every run in closed form,
+    /// twelve runs over four seeds: 1.10× the rays per second on a short pipe fed by a narrow
+    /// beam (the soil sensor's example), the same within 2 % on the thermostat, the bike light
+    /// and the benchmark route. (Stepping until the ray has crossed twice or four times: no
+    /// better on the short pipe, 0.99× and 0.95× on the benchmark route. A rectangular run's
+    /// planes cost little to set up: stepping its short runs was 0.97×, so they keep the
+    /// closed form.)
+    #[inline]
+    pub fn few_hits(axial: &Axial, o: DVec3, d: DVec3) -> bool {
+        let t_end = axial.end_planes(o, d).t();
+        let width = 2.0 * axial.hw0;
+        t_end * t_end * (d.x * d.x + d.y * d.y) < width * width
+    }
+
     fn round_form(axial: &Axial, o: DVec3, d: DVec3, t_end: f64) -> (Form, Option<u64>) {
         let Next::Wall { t: t0, normal: n0 } = axial.next_round(o, d) else {
             let none = Form::Round {
@@ -509,6 +526,34 @@ impl Iterator for RunHits<'_> {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// A round run is stepped when the ray crosses the section less than once before the end
+    /// plane it heads for: along the axis, or slanted less than one diameter over the run; a
+    /// steeper ray runs in closed form. The end plane counts from where the ray is, heading
+    /// either way.
+    #[test]
+    fn few_hits_means_less_than_one_crossing() {
+        let round = Axial {
+            length: 10.0,
+            hw0: 1.5,
+            hh0: 1.5,
+            kw: 0.0,
+            kh: 0.0,
+        };
+        let o = DVec3::new(0.2, -0.1, 0.0);
+        let slant = |sideways: f64| DVec3::new(sideways, 0.0, 1.0).normalize();
+        assert!(StraightRun::few_hits(&round, o, DVec3::Z));
+        // 10 mm long, 3 mm wide: tan 0.29 crosses just under once, tan 0.31 just over.
+        assert!(StraightRun::few_hits(&round, o, slant(0.29)));
+        assert!(!StraightRun::few_hits(&round, o, slant(0.31)));
+        // Heading back from 5 mm in: half the length to the start plane.
+        let mid = DVec3::new(0.0, 0.0, 5.0);
+        let back = |sideways: f64| DVec3::new(0.0, sideways, -1.0).normalize();
+        assert!(StraightRun::few_hits(&round, mid, back(0.59)));
+        assert!(!StraightRun::few_hits(&round, mid, back(0.61)));
+        // Square to the axis: never reaches an end plane, so not few.
+        assert!(!StraightRun::few_hits(&round, o, DVec3::X));
+    }
 
     /// The product of one-hit rotations (short runs) and libm's cosine and sine of j · 2α (long
     /// runs) agree where one hands over to the other, for skew, grazing and meridional rays.

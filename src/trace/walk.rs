@@ -550,7 +550,8 @@ impl Walk<'_> {
     }
 
     /// A run through an untapered straight segment (no contact zone, no coating, no pocket)
-    /// taken in closed form ([`StraightRun`]): each of its k wall hits is an interaction as
+    /// taken in closed form ([`StraightRun`]; stepped instead when the ray crosses a round
+    /// section less than once, [`StraightRun::few_hits`]): each of its k wall hits is an interaction as
     /// [`Walk::wall`] makes it — total internal reflection when sin²θ exceeds sin²θc, else the
     /// Fresnel reflection split in two by a draw u < q, in hit order — with θ, and so R, the
     /// same for every hit of a family of walls (computed once). A part leaving at a hit leaves
@@ -570,6 +571,9 @@ impl Walk<'_> {
         let Shape::Axial(axial) = &placed.shape else {
             return Run::Stepped;
         };
+        if placed.round && StraightRun::few_hits(axial, ray.o, ray.d) {
+            return Run::Stepped;
+        }
         let run = StraightRun::new(axial, placed.round, ray.o, ray.d);
         let Some(count) = run.hit_count() else {
             return Run::Stepped;

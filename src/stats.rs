@@ -281,6 +281,43 @@ impl Estimate {
     }
 }
 
+impl Estimate {
+    /// [`Estimate::fraction_of`] with its interval from the replicates when the part, the whole
+    /// and `sum` (per ray, the whole plus the part, over the same rays) were traced in at least
+    /// [`LEAST_REPLICATES`] of them; else the per-ray interval of [`Estimate::fraction_of`].
+    ///
+    /// The ratio r = T̄/R̄ to first order (the delta method, as there) has the variance of
+    /// D̄ = T̄ − r R̄ over R̄²; over the replicates, D's spread is
+    /// Σ n_j (d_j − D̄)² = M_T + r² M_R − 2 r C_TR, with M the spreads of the replicate means
+    /// ([`Estimate::replicates_m2`]) and C_TR their co-spread, which the sum gives exactly:
+    /// M_S = M_T + M_R + 2 C_TR. The half-width is then Student's t with J − 1 degrees of freedom
+    /// times √(s²/n) / R̄, s² = Σ n_j (d_j − D̄)² / (J − 1), as a share's
+    /// ([`Estimate::half_width95`]). A scrambled point set's rays are not independent, so this
+    /// is the interval that stays right; the per-ray one ignores what the scrambling and the exit
+    /// face's schedule take away (three times too wide for what a face turns back by Fresnel
+    /// reflection).
+    pub fn fraction_of_replicated(&self, whole: &Estimate, sum: &Estimate) -> Option<Share> {
+        let plain = self.fraction_of(whole)?;
+        let j = self.replicates;
+        if j < LEAST_REPLICATES
+            || whole.replicates != j
+            || sum.replicates != j
+            || whole.n != self.n
+            || sum.n != self.n
+        {
+            return Some(plain);
+        }
+        let r = plain.share;
+        let co = 0.5 * (sum.replicates_m2 - self.replicates_m2 - whole.replicates_m2);
+        let m_d = (self.replicates_m2 + r * r * whole.replicates_m2 - 2.0 * r * co).max(0.0);
+        let s2 = m_d / (j - 1) as f64;
+        Some(Share {
+            share: r,
+            ci95: t_quantile_975(j - 1) * (s2 / self.n as f64).sqrt() / whole.mean,
+        })
+    }
+}
+
 /// One batch's running sums for several tallies at once: per column, the sums of (x − shift)
 /// and (x − shift)², where the shift is the first ray's contribution.
 #[derive(Debug, Clone)]
@@ -465,6 +502,59 @@ mod tests {
         assert_eq!(Estimate::default().fraction_of(&Estimate::default()), None);
         let one = Estimate::from_raw_sums(1, 0.5, 0.25);
         assert_eq!(one.fraction_of(&one).unwrap().ci95, f64::INFINITY);
+    }
+
+    /// A fraction's interval from the replicates: over 12 replicates of 256 rays (each reaching
+    /// with a weight R_i and turning back all of it or none, T_i ∈ {0, R_i}, in a pattern that
+    /// gives the replicates different fractions), the half-width equals the one computed
+    /// directly from the replicate means d_j = m_T,j − r m_R,j, t₁₁ √(Σ (d_j − d̄)²/11 / 12) / R̄;
+    /// with fewer than LEAST_REPLICATES replicates, or no sum, it is the per-ray interval.
+    #[test]
+    fn a_fraction_of_a_whole_has_its_interval_from_the_replicates() {
+        let r_rays = REPLICATE_RAYS as usize;
+        let (mut whole, mut part) = (Vec::new(), Vec::new());
+        for j in 0..12 {
+            for k in 0..r_rays {
+                let w = 0.5 + 0.5 * ((k * 7 + j * 3) % 11) as f64 / 10.0;
+                let back = (k + j) % (3 + j % 4) == 0;
+                whole.push(w);
+                part.push(if back { w } else { 0.0 });
+            }
+        }
+        let sum: Vec<f64> = whole.iter().zip(&part).map(|(a, b)| a + b).collect();
+        let (t, r, s) = (
+            Estimate::of_replicates(part.iter().copied()),
+            Estimate::of_replicates(whole.iter().copied()),
+            Estimate::of_replicates(sum.iter().copied()),
+        );
+        let f = t.fraction_of_replicated(&r, &s).unwrap();
+        let ratio = part.iter().sum::<f64>() / whole.iter().sum::<f64>();
+        let mean = |v: &[f64]| v.iter().sum::<f64>() / v.len() as f64;
+        let d: Vec<f64> = (0..12)
+            .map(|j| {
+                let span = j * r_rays..(j + 1) * r_rays;
+                mean(&part[span.clone()]) - ratio * mean(&whole[span])
+            })
+            .collect();
+        let d_mean = mean(&d);
+        let s2 = d.iter().map(|x| (x - d_mean) * (x - d_mean)).sum::<f64>() / 11.0;
+        let want = t_quantile_975(11) * (s2 / 12.0).sqrt() / mean(&whole);
+        assert!((f.share - ratio).abs() < 1e-14, "{f:?} against {ratio}");
+        assert!(
+            (f.ci95 - want).abs() < 1e-9 * want,
+            "{f:?} against ± {want}"
+        );
+        // The per-ray interval is another one (here narrower: the pattern makes the replicates
+        // differ more than independent rays would).
+        let plain = t.fraction_of(&r).unwrap();
+        assert!(
+            (plain.ci95 - f.ci95).abs() > 0.5 * f.ci95,
+            "{plain:?} against {f:?}"
+        );
+        // Seven replicates: the per-ray interval.
+        let first = |v: &[f64]| Estimate::of_replicates(v[..7 * r_rays].iter().copied());
+        let (t7, r7, s7) = (first(&part), first(&whole), first(&sum));
+        assert_eq!(t7.fraction_of_replicated(&r7, &s7), t7.fraction_of(&r7));
     }
 
     #[test]

@@ -982,19 +982,19 @@ fn a_sweep_in_pieces_merges_to_the_whole_run_byte_for_byte() {
     );
     let e = one_line_error(&[&args[..], &["--piece", "0/3"]].concat(), &study);
     assert!(e.contains("--piece must be K/N with 1 ≤ K ≤ N"), "{e}");
-    // A piece written by an older build (version 1: another way of drawing rays) is refused.
+    // A piece written by an older build (version 2: fewer tally columns) is refused.
     let text = std::fs::read_to_string(&names[0]).unwrap();
-    assert!(text.contains("\"piece_version\":2") || text.contains("\"piece_version\": 2"));
+    assert!(text.contains("\"piece_version\":3") || text.contains("\"piece_version\": 3"));
     let old = dir.join("piece-old.json");
     std::fs::write(
         &old,
-        text.replacen("\"piece_version\":2", "\"piece_version\":1", 1)
-            .replacen("\"piece_version\": 2", "\"piece_version\": 1", 1),
+        text.replacen("\"piece_version\":3", "\"piece_version\":2", 1)
+            .replacen("\"piece_version\": 3", "\"piece_version\": 2", 1),
     )
     .unwrap();
     let old = old.to_str().unwrap().to_string();
     let e = one_line_error(&merge(&args, &[&old, &names[1], &names[2]], &[]), &study);
-    assert!(e.contains("piece_version must be 2, got 1"), "{e}");
+    assert!(e.contains("piece_version must be 3, got 2"), "{e}");
 }
 
 #[test]

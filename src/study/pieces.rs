@@ -21,7 +21,10 @@ use crate::trace::MergeInOrder;
 /// The piece document's version this build reads and writes. Version 2: rays from scrambled
 /// point sets and intervals from the spread of their replicates (`trace::sequence`); a piece of
 /// version 1 was traced another way and would not merge into the same result, so it is refused.
-pub const PIECE_VERSION: u32 = 2;
+/// Version 3: three more tally columns (the sums that give the exit face's turn-back fractions
+/// their intervals from the replicates, `trace::ledger`), so a version 2 piece's batches have
+/// the wrong shape.
+pub const PIECE_VERSION: u32 = 3;
 
 /// One piece of a study: the raw result of each of its batches, in batch order — a sweep's
 /// ([`SweepBatch`], the default) or a tolerance study's ([`TolerancePiece`]).

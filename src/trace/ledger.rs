@@ -14,6 +14,12 @@
 //! it was: lost into each coating (part of the partition), the weight first reaching each
 //! coating, all coatings' loss in total and, of the turned-back weight, what is lost into
 //! coatings (these three repeat other light and are outside the partition).
+//!
+//! Last, three sums that give the turn-back fractions' intervals from the replicates: per ray,
+//! the weight reaching the exit face plus what it turns back (by either mechanism, by total
+//! reflection, by Fresnel reflection). The spread of a sum's replicate means, less those of its
+//! two parts, is twice their covariance, which the ratio of the two needs
+//! ([`crate::stats::Estimate::fraction_of_replicated`]). They too are outside the partition.
 
 use std::ops::Range;
 
@@ -65,6 +71,15 @@ const AFTER_COATING: usize = 1;
 /// Coating columns besides the per-coating ones.
 const COATING_FIXED: usize = 2;
 
+/// The sums after the coating columns (see [`Ledger::reached_plus`]): the weight reaching the
+/// exit face plus what it turns back by either mechanism, by total reflection, by Fresnel
+/// reflection.
+const REACHED_PLUS_TURNED_BACK: usize = 0;
+const REACHED_PLUS_TIR: usize = 1;
+const REACHED_PLUS_FRESNEL: usize = 2;
+/// Columns after the coating ones.
+const SUMS: usize = 3;
+
 /// The tally columns of one scenario (its segment, contact-zone and coating counts fix the
 /// layout).
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -91,7 +106,25 @@ impl Ledger {
 
     /// Number of columns.
     pub(crate) fn len(self) -> usize {
-        self.coating_column(2 * self.coatings + COATING_FIXED)
+        self.sum_column(SUMS)
+    }
+
+    /// Sum column `k`: after the coating columns.
+    #[inline]
+    fn sum_column(self, k: usize) -> usize {
+        self.coating_column(2 * self.coatings + COATING_FIXED) + k
+    }
+
+    /// Per ray, the weight on first reaching the exit face plus the weight turned back there
+    /// (`None`: by either mechanism; `Some(true)`: by total reflection; `Some(false)`: by
+    /// Fresnel reflection).
+    #[inline]
+    pub(crate) fn reached_plus(self, by_tir: Option<bool>) -> usize {
+        self.sum_column(match by_tir {
+            None => REACHED_PLUS_TURNED_BACK,
+            Some(true) => REACHED_PLUS_TIR,
+            Some(false) => REACHED_PLUS_FRESNEL,
+        })
     }
 
     /// Coating column `k`: after the turn-back columns.
@@ -270,7 +303,8 @@ impl Ledger {
 
     /// Fill the five totals of one ray's contributions (one value per column) from its
     /// per-segment and per-zone columns: leaked, absorbed, lost to contacts, leaked after a
-    /// turn back at the exit face, and lost into coatings.
+    /// turn back at the exit face, and lost into coatings; and the three sums of the weight
+    /// reaching the exit face and what it turns back ([`Ledger::reached_plus`]).
     #[inline]
     pub(crate) fn fill_totals(self, ray: &mut [f64]) {
         ray[TOTAL_LEAKED] = ray[self.leaked_columns()].iter().sum();
@@ -278,6 +312,10 @@ impl Ledger {
         ray[TOTAL_CONTACT] = ray[self.contact_columns()].iter().sum();
         ray[self.after_leaked_total()] = ray[self.after_leaked_columns()].iter().sum();
         ray[self.total_coating()] = ray[self.coating_columns()].iter().sum();
+        let reached = ray[self.reached_exit()];
+        ray[self.reached_plus(None)] = reached + ray[self.turned_back()];
+        ray[self.reached_plus(Some(true))] = reached + ray[self.turned_back_tir()];
+        ray[self.reached_plus(Some(false))] = reached + ray[self.turned_back_fresnel()];
     }
 
     /// Whether `column` belongs to the partition of the emitted power (every fate and absorption
@@ -346,13 +384,24 @@ mod tests {
             Some(&coating_start),
             "{coatings} coatings"
         );
+        // Then the three sums.
+        let sums = [
+            l.reached_plus(None),
+            l.reached_plus(Some(true)),
+            l.reached_plus(Some(false)),
+        ];
+        assert_eq!(sums.iter().min(), Some(&named.len()));
+        named.extend(sums);
         named.sort_unstable();
         assert_eq!(named, (0..l.len()).collect::<Vec<_>>());
         // The turn-back columns come after every column of the partition (whose layout is kept).
         assert_eq!(turn_back.iter().min(), Some(&partition_end));
         let totals = [l.total_leaked(), l.total_absorbed(), l.total_contact()];
         for c in 0..l.len() {
-            let repeats = totals.contains(&c) || turn_back.contains(&c) || repeated.contains(&c);
+            let repeats = totals.contains(&c)
+                || turn_back.contains(&c)
+                || repeated.contains(&c)
+                || sums.contains(&c);
             assert_eq!(l.in_partition(c), !repeats, "column {c}");
         }
     }
@@ -369,7 +418,13 @@ mod tests {
         ray[l.absorbed(1)] = 0.5;
         ray[l.contact(0)] = 2.0;
         ray[l.after_leaked(1)] = 0.0625;
+        ray[l.reached_exit()] = 0.75;
+        ray[l.turned_back()] = 0.75;
+        ray[l.turned_back_fresnel()] = 0.75;
         l.fill_totals(&mut ray);
+        assert_eq!(ray[l.reached_plus(None)], 1.5);
+        assert_eq!(ray[l.reached_plus(Some(true))], 0.75);
+        assert_eq!(ray[l.reached_plus(Some(false))], 1.5);
         assert_eq!(ray[l.total_leaked()], 0.25);
         assert_eq!(ray[l.total_absorbed()], 0.625);
         assert_eq!(ray[l.total_contact()], 2.0);

@@ -94,17 +94,22 @@ impl Prepared {
         let intensity = Intensity::from_hist(&batch.angle_hist, batch.rays);
         let exit_turn_back = {
             let reached = &batch.tallies[ledger.reached_exit()];
-            let fraction = |j: usize| batch.tallies[j].fraction_of(reached);
+            // Of the light reaching the exit face, with the interval from the replicates
+            // (each part's sum with the whole gives their co-spread).
+            let fraction = |j: usize, by_tir: Option<bool>| {
+                batch.tallies[j]
+                    .fraction_of_replicated(reached, &batch.tallies[ledger.reached_plus(by_tir)])
+            };
             ExitTurnBack {
                 reached: reached.share(),
                 turned_back: share(ledger.turned_back()),
                 by_total_reflection: share(ledger.turned_back_tir()),
                 by_fresnel: share(ledger.turned_back_fresnel()),
-                of_reaching: fraction(ledger.turned_back()).and_then(|turned_back| {
+                of_reaching: fraction(ledger.turned_back(), None).and_then(|turned_back| {
                     Some(TurnBackFractions {
                         turned_back,
-                        by_total_reflection: fraction(ledger.turned_back_tir())?,
-                        by_fresnel: fraction(ledger.turned_back_fresnel())?,
+                        by_total_reflection: fraction(ledger.turned_back_tir(), Some(true))?,
+                        by_fresnel: fraction(ledger.turned_back_fresnel(), Some(false))?,
                     })
                 }),
                 ended: TurnBackEnds {
@@ -344,7 +349,8 @@ pub struct ExitTurnBack {
 }
 
 /// Turned back at the exit face, as fractions of the light reaching it
-/// ([`crate::stats::Estimate::fraction_of`]: ratio estimates with their 95 % half-widths).
+/// ([`crate::stats::Estimate::fraction_of_replicated`]: ratio estimates with their 95 %
+/// half-widths, from the replicates).
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct TurnBackFractions {
     /// By either mechanism.

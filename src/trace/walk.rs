@@ -19,10 +19,11 @@ use crate::scenario::{CoatingKind, Receiver};
 mod faces;
 pub(super) use faces::ShapedFaces;
 
-/// The lightest part a flat entry face's Fresnel event is split into ([`Walk::entry_face`]):
-/// below it (an index-matching gel, R ≈ 0) the event is drawn. The reflected part ends outside
-/// at once (from a flat face, or a dome, which is convex, so what it reflects does not meet it
-/// again; a pocket's concave surface may, so its events are drawn), so splitting costs nothing; it only keeps the split from making many tiny tallies.
+/// The lightest part a flat or domed entry face's Fresnel event is split into
+/// ([`Walk::entry_split`]): below it (an index-matching gel, R ≈ 0) the event is drawn. The
+/// reflected part ends outside at once (a dome is convex, so what it reflects does not meet it
+/// again; a pocket's concave surface may, so its events are drawn), so splitting costs nothing;
+/// the floor only keeps the split from making many tiny tallies.
 const ENTRY_SPLIT_LEAST: f64 = 1.0 / 64.0;
 
 /// A side wall's Fresnel reflection below the critical angle, of probability R, is drawn with
@@ -551,10 +552,10 @@ impl Walk<'_> {
 
     /// A run through an untapered straight segment (no contact zone, no coating, no pocket)
     /// taken in closed form ([`StraightRun`]; stepped instead when the ray crosses a round
-    /// section less than once, [`StraightRun::few_hits`]): each of its k wall hits is an interaction as
-    /// [`Walk::wall`] makes it — total internal reflection when sin²θ exceeds sin²θc, else the
-    /// Fresnel reflection split in two by a draw u < q, in hit order — with θ, and so R, the
-    /// same for every hit of a family of walls (computed once). A part leaving at a hit leaves
+    /// section less than once, [`StraightRun::few_hits`]): each of its k wall hits is an
+    /// interaction as [`Walk::wall`] makes it — total internal reflection when sin²θ exceeds
+    /// sin²θc, else the Fresnel reflection split in two by a draw u < q, in hit order — with θ,
+    /// and so R, the same for every hit of a family of walls (computed once). A part leaving at a hit leaves
     /// from there, its path attenuated up to it; a ray that leaves whole leaves at that hit with
     /// the state there; one that does not is left where it leaves its last hit, its path added,
     /// and the end plane it heads for is returned for the walk to meet as it always does. The

@@ -572,10 +572,11 @@ impl Walk<'_> {
         let Shape::Axial(axial) = &placed.shape else {
             return Run::Stepped;
         };
-        if placed.round && StraightRun::few_hits(axial, ray.o, ray.d) {
+        let end = axial.end_planes(ray.o, ray.d);
+        if placed.round && StraightRun::few_hits(axial, end.t(), ray.d) {
             return Run::Stepped;
         }
-        let run = StraightRun::new(axial, placed.round, ray.o, ray.d);
+        let run = StraightRun::with_end(axial, placed.round, ray.o, ray.d, end);
         let Some(count) = run.hit_count() else {
             return Run::Stepped;
         };
@@ -842,15 +843,7 @@ impl Walk<'_> {
                 // Total internal reflection exactly where the Fresnel amplitudes have no
                 // transmitted wave (R = 1), else a Fresnel reflection.
                 let tir = fresnel_amplitudes(cos_i, ix.n_core, ix.n_exit).is_none();
-                let ledger = p.ledger;
-                let by = if tir {
-                    ledger.turned_back_tir()
-                } else {
-                    ledger.turned_back_fresnel()
-                };
-                self.contrib[ledger.turned_back()] = w;
-                self.contrib[by] = w;
-                self.turned_back_w = Some(w);
+                self.turn_back(w, tir);
             }
             ray.d = placed
                 .frame

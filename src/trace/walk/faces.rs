@@ -265,7 +265,7 @@ impl Walk<'_> {
 
     /// A ray of weight `w` turned back on its first arrival at the exit face, totally (`tir`)
     /// or by Fresnel reflection.
-    fn turn_back(&mut self, w: f64, tir: bool) {
+    pub(super) fn turn_back(&mut self, w: f64, tir: bool) {
         let ledger = self.p.ledger;
         let by = if tir {
             ledger.turned_back_tir()

@@ -358,7 +358,7 @@ impl Prepared {
         rays.receiver.clear();
         rays.leaked.resize_with(self.route.segments.len(), Vec::new);
         rays.leaked.iter_mut().for_each(Vec::clear);
-        self.trace_batch_inner_all(index, 0, None, None, Some(rays))
+        self.trace_batch_inner_all(index, 0, None, None, Some(rays), 0)
     }
 
     fn trace_batch_inner(
@@ -368,7 +368,20 @@ impl Prepared {
         delivered: Option<&mut Vec<f64>>,
         watched: Option<(usize, &mut Vec<RayFigures>)>,
     ) -> Batch {
-        self.trace_batch_inner_all(index, keep_paths, delivered, watched, None)
+        self.trace_batch_inner_all(index, keep_paths, delivered, watched, None, 0)
+    }
+
+    /// [`Prepared::trace_batch`] (no paths kept) with the same source points — every ray
+    /// starts and heads as there — and its random events drawn afresh, the `draw`th time
+    /// (`draw` 0 is [`Prepared::trace_batch`] itself): the event dimensions of each replicate's
+    /// scrambled points, its exit schedule and each ray's own generator after its point are
+    /// drawn from (seed, batch, replicate or ray, draw). Two draws of one batch share where the
+    /// rays start and nothing else (beyond the generator's low bits of the event numbers, below
+    /// 2⁻³²), so the covariance of their results over many seeds is the part of a result's
+    /// variance that comes from the source points, Var(E[X | points]), the rest from the events
+    /// (`examples/variance_parts.rs`).
+    pub fn trace_batch_events_redrawn(&self, index: u64, draw: u64) -> Batch {
+        self.trace_batch_inner_all(index, 0, None, None, None, draw)
     }
 
     fn trace_batch_inner_all(
@@ -378,6 +391,7 @@ impl Prepared {
         mut delivered: Option<&mut Vec<f64>>,
         mut watched: Option<(usize, &mut Vec<RayFigures>)>,
         mut all: Option<&mut RayTallies>,
+        events_draw: u64,
     ) -> Batch {
         let rays = self.scenario.trace.rays;
         let first = index * BATCH_RAYS;
@@ -392,7 +406,7 @@ impl Prepared {
         let mut receiver_total = [Estimate::default()];
         let mut contrib = vec![0.0; self.ledger.len()];
         let points_each = path_points_each(keep_paths.min(count as usize));
-        let mut scramble = Scramble::of(seed, index, 0);
+        let mut scramble = Scramble::of(seed, index, 0).events_redrawn(events_draw);
         let mut exit_schedule = scramble.exit_schedule();
         for i in 0..count {
             let (replicate, in_replicate) = (i / REPLICATE_RAYS, i % REPLICATE_RAYS);
@@ -400,12 +414,15 @@ impl Prepared {
                 tallies.close_replicate(&mut out.tallies);
                 receiver.close_replicate(&mut receiver_total);
                 out.close_replicate(REPLICATE_RAYS);
-                scramble = Scramble::of(seed, index, replicate);
+                scramble = Scramble::of(seed, index, replicate).events_redrawn(events_draw);
                 exit_schedule = scramble.exit_schedule();
             }
             contrib.iter_mut().for_each(|c| *c = 0.0);
             let rng = Pcg64Mcg::seed_from_u64(ray_seed(seed, index, i));
             let mut draws = RayDraws::new(&scramble, in_replicate as u32, rng, exit_schedule);
+            if events_draw != 0 {
+                draws.redraw_later(ray_seed(seed, index, i), events_draw);
+            }
             let record = index == 0 && (i as usize) < keep_paths;
             let mut path = record.then(|| KeptPath::new(points_each));
             let mut watch = watched.as_ref().map(|&(segment, _)| Watch {

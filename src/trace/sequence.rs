@@ -41,12 +41,16 @@
 //! rays before it in its replicate, so a ray whose fate a design change alters can shift the
 //! exit face's decision for later rays of its replicate.
 
-use rand_core::Rng;
+use rand_core::{Rng, SeedableRng};
 use rand_pcg::Pcg64Mcg;
 use sobol_burley::parts::{owen_scramble_rev, sobol_rev};
 
 use super::mix_seed;
 pub use crate::stats::REPLICATE_RAYS;
+
+/// Where the redrawn event numbers come from ([`Scramble::events_redrawn`],
+/// [`RayDraws::redraw_later`]).
+const REDRAW_DOMAIN: u64 = 1 << 42;
 
 /// Dimensions of a point: four for the source, [`EVENT_DIMS`] for the ray's first events.
 const DIMS: usize = 4 + EVENT_DIMS;
@@ -122,6 +126,28 @@ impl Scramble {
         Scramble(s, start)
     }
 
+    /// This replicate's scramble with its event dimensions and exit schedule drawn afresh, the
+    /// `draw`th time (0: unchanged): the same source points, independent event numbers.
+    pub fn events_redrawn(self, draw: u64) -> Scramble {
+        if draw == 0 {
+            return self;
+        }
+        let Scramble(mut s, _) = self;
+        let mut h = mix_seed(
+            u64::from(s[4]) | u64::from(s[5]) << 32,
+            REDRAW_DOMAIN + draw,
+        );
+        for (k, pair) in s[4..].chunks_mut(2).enumerate() {
+            if k > 0 {
+                h = mix_seed(h, k as u64);
+            }
+            pair[0] = h as u32;
+            pair[1] = (h >> 32) as u32;
+        }
+        let start = (mix_seed(h, SCHEDULE_DOMAIN) >> 11) as f64 * (1.0 / (1u64 << 53) as f64);
+        Scramble(s, start)
+    }
+
     /// The replicate's exit-face schedule, at its start.
     pub fn exit_schedule(&self) -> ExitSchedule {
         ExitSchedule(self.1)
@@ -175,6 +201,13 @@ impl RayDraws {
         }
     }
 
+    /// Draw the ray's later numbers (after its point's) from a generator of its own for the
+    /// `draw`th redraw ([`super::Prepared::trace_batch_events_redrawn`]); `ray_seed` is the
+    /// ray's usual generator seed.
+    pub fn redraw_later(&mut self, ray_seed: u64, draw: u64) {
+        self.rng = Pcg64Mcg::seed_from_u64(mix_seed(ray_seed, REDRAW_DOMAIN + draw));
+    }
+
     /// The source's four numbers (point on the emitter, direction).
     pub fn source(&self) -> [f64; 4] {
         self.source
@@ -226,6 +259,38 @@ mod tests {
     /// Two dimensions at a time the points are stratified too: the first 256 Sobol points put
     /// one point in each of 16 × 16 squares for dimensions 0 and 1 (a (0, 8, 2)-net, from memory:
     /// the first two Sobol dimensions are a (0, 2)-sequence), and a scramble keeps it.
+    #[test]
+    fn a_redraw_keeps_the_source_dimensions_and_scrambles_the_events_afresh() {
+        let s = Scramble::of(7, 2, 3);
+        assert_eq!(s.events_redrawn(0), s);
+        let (one, two) = (s.events_redrawn(1), s.events_redrawn(2));
+        for r in [one, two] {
+            assert_eq!(r.0[..4], s.0[..4], "the source's scrambles are kept");
+            assert!(
+                (4..DIMS).all(|d| r.0[d] != s.0[d]),
+                "every event scramble is new"
+            );
+            assert!(
+                r.1 != s.1 && (0.0..1.0).contains(&r.1),
+                "a new schedule start"
+            );
+        }
+        assert!((4..DIMS).all(|d| one.0[d] != two.0[d]) && one.1 != two.1);
+        // A redrawn replicate's event numbers are still stratified, and its points' source
+        // numbers those of the ordinary replicate (the same generator for their low bits).
+        let mut slabs = [[0u32; 16]; DIMS];
+        for i in 0..REPLICATE_RAYS as u32 {
+            let u = s.point(i, &mut Pcg64Mcg::seed_from_u64(u64::from(i)));
+            let v = one.point(i, &mut Pcg64Mcg::seed_from_u64(u64::from(i)));
+            assert_eq!(u[..4], v[..4]);
+            assert!(u[4..].iter().zip(&v[4..]).all(|(a, b)| a != b));
+            for (slab, v) in slabs.iter_mut().zip(v) {
+                slab[(v * 16.0) as usize] += 1;
+            }
+        }
+        assert!(slabs.iter().all(|slab| *slab == [16; 16]));
+    }
+
     #[test]
     fn the_first_two_dimensions_are_a_net() {
         let mut rng = Pcg64Mcg::seed_from_u64(9);

@@ -48,8 +48,8 @@ use sobol_burley::parts::{owen_scramble_rev, sobol_rev};
 use super::mix_seed;
 pub use crate::stats::REPLICATE_RAYS;
 
-/// Where the redrawn event numbers come from ([`Scramble::events_redrawn`],
-/// [`RayDraws::redraw_later`]).
+/// Set apart from the replicate, dimension-pair and ray seeds when mixing in a redraw's number
+/// ([`Scramble::events_redrawn`], [`RayDraws::redraw_later`]).
 const REDRAW_DOMAIN: u64 = 1 << 42;
 
 /// Dimensions of a point: four for the source, [`EVENT_DIMS`] for the ray's first events.
@@ -135,7 +135,7 @@ impl Scramble {
         let Scramble(mut s, _) = self;
         let mut h = mix_seed(
             u64::from(s[4]) | u64::from(s[5]) << 32,
-            REDRAW_DOMAIN + draw,
+            REDRAW_DOMAIN.wrapping_add(draw),
         );
         for (k, pair) in s[4..].chunks_mut(2).enumerate() {
             if k > 0 {
@@ -205,7 +205,7 @@ impl RayDraws {
     /// `draw`th redraw ([`super::Prepared::trace_batch_events_redrawn`]); `ray_seed` is the
     /// ray's usual generator seed.
     pub fn redraw_later(&mut self, ray_seed: u64, draw: u64) {
-        self.rng = Pcg64Mcg::seed_from_u64(mix_seed(ray_seed, REDRAW_DOMAIN + draw));
+        self.rng = Pcg64Mcg::seed_from_u64(mix_seed(ray_seed, REDRAW_DOMAIN.wrapping_add(draw)));
     }
 
     /// The source's four numbers (point on the emitter, direction).
@@ -256,9 +256,6 @@ mod tests {
         assert!(a != b && a != c && b != c);
     }
 
-    /// Two dimensions at a time the points are stratified too: the first 256 Sobol points put
-    /// one point in each of 16 × 16 squares for dimensions 0 and 1 (a (0, 8, 2)-net, from memory:
-    /// the first two Sobol dimensions are a (0, 2)-sequence), and a scramble keeps it.
     #[test]
     fn a_redraw_keeps_the_source_dimensions_and_scrambles_the_events_afresh() {
         let s = Scramble::of(7, 2, 3);
@@ -276,21 +273,47 @@ mod tests {
             );
         }
         assert!((4..DIMS).all(|d| one.0[d] != two.0[d]) && one.1 != two.1);
-        // A redrawn replicate's event numbers are still stratified, and its points' source
-        // numbers those of the ordinary replicate (the same generator for their low bits).
-        let mut slabs = [[0u32; 16]; DIMS];
+        // A redrawn replicate's points: the source numbers those of the ordinary replicate (the
+        // same generator for their low bits), every event number another.
         for i in 0..REPLICATE_RAYS as u32 {
             let u = s.point(i, &mut Pcg64Mcg::seed_from_u64(u64::from(i)));
             let v = one.point(i, &mut Pcg64Mcg::seed_from_u64(u64::from(i)));
             assert_eq!(u[..4], v[..4]);
             assert!(u[4..].iter().zip(&v[4..]).all(|(a, b)| a != b));
-            for (slab, v) in slabs.iter_mut().zip(v) {
-                slab[(v * 16.0) as usize] += 1;
-            }
         }
-        assert!(slabs.iter().all(|slab| *slab == [16; 16]));
     }
 
+    /// A ray's draws after [`RayDraws::redraw_later`]: the same source numbers and first event
+    /// numbers (the point's, drawn before), later numbers from a generator of the draw's own.
+    #[test]
+    fn a_redrawn_ray_draws_its_later_numbers_afresh() {
+        let s = Scramble::of(3, 1, 2);
+        let ray = |draw: u64| {
+            let mut r = RayDraws::new(&s, 9, Pcg64Mcg::seed_from_u64(77), s.exit_schedule());
+            if draw > 0 {
+                r.redraw_later(77, draw);
+            }
+            let numbers: Vec<f64> = (0..EVENT_DIMS + 3).map(|_| r.uniform()).collect();
+            (r.source(), numbers)
+        };
+        let (ordinary, one, two) = (ray(0), ray(1), ray(2));
+        for redrawn in [&one, &two] {
+            assert_eq!(redrawn.0, ordinary.0, "the source numbers are kept");
+            assert_eq!(redrawn.1[..EVENT_DIMS], ordinary.1[..EVENT_DIMS]);
+            assert!(redrawn.1[EVENT_DIMS..]
+                .iter()
+                .zip(&ordinary.1[EVENT_DIMS..])
+                .all(|(a, b)| a != b));
+        }
+        assert!(one.1[EVENT_DIMS..]
+            .iter()
+            .zip(&two.1[EVENT_DIMS..])
+            .all(|(a, b)| a != b));
+    }
+
+    /// Two dimensions at a time the points are stratified too: the first 256 Sobol points put
+    /// one point in each of 16 × 16 squares for dimensions 0 and 1 (a (0, 8, 2)-net, from memory:
+    /// the first two Sobol dimensions are a (0, 2)-sequence), and a scramble keeps it.
     #[test]
     fn the_first_two_dimensions_are_a_net() {
         let mut rng = Pcg64Mcg::seed_from_u64(9);

@@ -113,17 +113,23 @@ impl Scramble {
     /// indices, then once more for each further pair of dimensions (SplitMix64 output, which the
     /// hash-based scramble needs well mixed).
     pub fn of(seed: u64, batch: u64, replicate: u64) -> Scramble {
-        let mut h = mix_seed(mix_seed(seed, batch), REPLICATE_DOMAIN + replicate);
+        let h = mix_seed(mix_seed(seed, batch), REPLICATE_DOMAIN + replicate);
         let mut s = [0u32; DIMS];
-        for (k, pair) in s.chunks_mut(2).enumerate() {
+        let start = Self::fill(&mut s, h);
+        Scramble(s, start)
+    }
+
+    /// Fill `words` two at a time from `h`, mixed once more for each further pair, and draw the
+    /// schedule's start from the last seed used.
+    fn fill(words: &mut [u32], mut h: u64) -> f64 {
+        for (k, pair) in words.chunks_mut(2).enumerate() {
             if k > 0 {
                 h = mix_seed(h, k as u64);
             }
             pair[0] = h as u32;
             pair[1] = (h >> 32) as u32;
         }
-        let start = (mix_seed(h, SCHEDULE_DOMAIN) >> 11) as f64 * (1.0 / (1u64 << 53) as f64);
-        Scramble(s, start)
+        (mix_seed(h, SCHEDULE_DOMAIN) >> 11) as f64 * (1.0 / (1u64 << 53) as f64)
     }
 
     /// This replicate's scramble with its event dimensions and exit schedule drawn afresh, the
@@ -133,18 +139,11 @@ impl Scramble {
             return self;
         }
         let Scramble(mut s, _) = self;
-        let mut h = mix_seed(
+        let h = mix_seed(
             u64::from(s[4]) | u64::from(s[5]) << 32,
             REDRAW_DOMAIN.wrapping_add(draw),
         );
-        for (k, pair) in s[4..].chunks_mut(2).enumerate() {
-            if k > 0 {
-                h = mix_seed(h, k as u64);
-            }
-            pair[0] = h as u32;
-            pair[1] = (h >> 32) as u32;
-        }
-        let start = (mix_seed(h, SCHEDULE_DOMAIN) >> 11) as f64 * (1.0 / (1u64 << 53) as f64);
+        let start = Self::fill(&mut s[4..], h);
         Scramble(s, start)
     }
 

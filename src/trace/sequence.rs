@@ -255,6 +255,8 @@ mod tests {
         assert!(a != b && a != c && b != c);
     }
 
+    /// A redrawn replicate keeps its four source scrambles and takes new event scrambles and a
+    /// new schedule start, another for each draw.
     #[test]
     fn a_redraw_keeps_the_source_dimensions_and_scrambles_the_events_afresh() {
         let s = Scramble::of(7, 2, 3);
